@@ -1,0 +1,75 @@
+//! The result of a projection: what every report turns into bytes.
+//!
+//! Field names are the JSON schema of `projection.json`; `None` is written as null.
+
+use serde::Serialize;
+
+/// A whole projection over the grid of calendar days.
+#[derive(Debug, Clone, Serialize)]
+pub struct Projection {
+    pub title: String,
+    pub seed: u64,
+    /// Pseudo-experiments per exposure point (0 for an Asimov-only run).
+    pub toys: usize,
+    /// Target significances in sigma.
+    pub targets: Vec<f64>,
+    pub points: Vec<ExposurePoint>,
+    pub days_to_target: Vec<DaysToTarget>,
+}
+
+/// Everything known at one calendar day of the grid.
+#[derive(Debug, Clone, Serialize)]
+pub struct ExposurePoint {
+    /// Calendar days since the start of data-taking.
+    pub days: f64,
+    /// Live days accumulated by then (schedule applied).
+    pub live_days: f64,
+    /// Expected signal events at nominal signal strength over the whole range.
+    pub signal: f64,
+    /// Expected background events over the whole range.
+    pub background: f64,
+    /// Median expected discovery significance from the Asimov dataset.
+    pub z_asimov: f64,
+    /// Median significance of the pseudo-experiments (None for Asimov-only).
+    pub z_median: Option<f64>,
+    /// Quantiles 2.3%, 15.9%, 84.1%, 97.7% of the toy significances.
+    pub z_band: Option<[f64; 4]>,
+    /// Probability of reaching each target, from toys and asymptotically.
+    pub probability: Vec<TargetProbability>,
+    /// Pseudo-experiments whose fits failed after all retries (excluded from quantiles).
+    pub failed_fits: usize,
+}
+
+/// P(Z >= target) at one exposure.
+#[derive(Debug, Clone, Serialize)]
+pub struct TargetProbability {
+    pub target: f64,
+    /// Fraction of successful pseudo-experiments reaching the target.
+    pub toys: Option<f64>,
+    /// Phi(Z_A - target) (Cowan et al., EPJC 71 (2011) 1554).
+    pub asimov: f64,
+}
+
+/// Calendar days needed to reach one target significance, by each method.
+#[derive(Debug, Clone, Serialize)]
+pub struct DaysToTarget {
+    pub target: f64,
+    /// Where the Asimov significance reaches the target (root-found).
+    pub asimov_days: Option<f64>,
+    /// Where the toy median reaches the target (Z^2 linear in days between grid points).
+    pub median_days: Option<f64>,
+    /// Where 50% of the pseudo-experiments reach the target.
+    pub p50_days: Option<f64>,
+    /// Where 90% of the pseudo-experiments reach the target.
+    pub p90_days: Option<f64>,
+    /// The Asimov significance as days grow without bound, when systematic
+    /// uncertainties make it saturate; None when it grows without bound.
+    pub limit_z: Option<f64>,
+}
+
+impl DaysToTarget {
+    /// True when systematic uncertainties keep Z_A below the target at any exposure.
+    pub fn never_reached(&self) -> bool {
+        self.limit_z.is_some_and(|limit| limit < self.target)
+    }
+}
