@@ -5,5 +5,17 @@
 //! -> likelihood (negative log-likelihood, fits, test statistics)
 //! -> ensemble (seeded pseudo-experiments) -> projection (exposure scan, days to target)
 //! -> report (SVG, CSV, JSON, terminal summary).
+//! `asymptotic` holds the Asimov answers the projection cross-checks against;
+//! `cli` and `commands` are the command-line front end.
 
+pub mod asymptotic;
+pub mod cli;
+pub mod commands;
+pub mod ensemble;
+pub mod error;
+pub mod likelihood;
+pub mod model;
+pub mod progress;
 pub mod projection;
+pub mod report;
+pub mod scenario;

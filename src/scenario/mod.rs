@@ -4,6 +4,7 @@
 //! YAML parser); [`validate`] then rejects values that parse but make no physical
 //! sense, naming the field. Nothing downstream re-checks these invariants.
 
+mod deserialize;
 mod error;
 mod template;
 mod validate;
@@ -79,16 +80,29 @@ pub enum NormUncertainty {
 }
 
 /// A density on the observable range; each is normalised on the range.
+///
+/// Written in YAML as a one-key mapping, e.g. `{gaussian: {mean: 67.0, sigma: 0.8}}`
+/// or `{flat: {}}`.
 #[derive(Debug, Clone, PartialEq, Deserialize)]
-#[serde(rename_all = "snake_case", deny_unknown_fields)]
+#[serde(try_from = "deserialize::ShapeEntry")]
 pub enum ShapeSpec {
-    Gaussian { mean: f64, sigma: f64 },
+    Gaussian {
+        mean: f64,
+        sigma: f64,
+    },
     /// Non-relativistic Breit-Wigner (Cauchy); `width` is the full width at half maximum.
-    BreitWigner { mean: f64, width: f64 },
+    BreitWigner {
+        mean: f64,
+        width: f64,
+    },
     /// Density proportional to exp(slope * x).
-    Exponential { slope: f64 },
+    Exponential {
+        slope: f64,
+    },
     /// Density proportional to sum_k c_k x^k.
-    Polynomial { coefficients: Vec<f64> },
+    Polynomial {
+        coefficients: Vec<f64>,
+    },
     Flat {},
 }
 
@@ -190,5 +204,121 @@ impl DaysGrid {
                 }
             })
             .collect()
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::path::PathBuf;
+
+    fn demo_directory() -> PathBuf {
+        Path::new(env!("CARGO_MANIFEST_DIR")).join("scenarios")
+    }
+
+    fn load_demo(name: &str) -> Scenario {
+        let path = demo_directory().join(name);
+        Scenario::load(&path).unwrap_or_else(|error| panic!("{}: {error}", path.display()))
+    }
+
+    #[test]
+    fn every_demo_scenario_loads_without_warnings() {
+        let mut loaded = Vec::new();
+        for entry in std::fs::read_dir(demo_directory()).expect("scenarios/ directory") {
+            let path = entry.expect("directory entry").path();
+            if path
+                .extension()
+                .is_some_and(|extension| extension == "yaml")
+            {
+                let scenario = Scenario::load(&path)
+                    .unwrap_or_else(|error| panic!("{}: {error}", path.display()));
+                assert!(
+                    scenario.warnings().is_empty(),
+                    "{}: {:?}",
+                    path.display(),
+                    scenario.warnings()
+                );
+                let text = std::fs::read_to_string(&path).expect("readable demo");
+                assert!(
+                    text.contains("INVENTED"),
+                    "{} must say its numbers are invented",
+                    path.display()
+                );
+                loaded.push(path.file_name().unwrap().to_string_lossy().into_owned());
+            }
+        }
+        for name in [
+            "narrow_peak.yaml",
+            "faint_line.yaml",
+            "counting_window.yaml",
+        ] {
+            assert!(
+                loaded.iter().any(|l| l == name),
+                "{name} missing from {loaded:?}"
+            );
+        }
+    }
+
+    #[test]
+    fn counting_window_demo_saturates_between_three_and_five_sigma() {
+        let scenario = load_demo("counting_window.yaml");
+        let [low, high] = scenario.observable.range;
+        assert_eq!(scenario.observable.bin_width, high - low, "one bin");
+        let signal = scenario.signal.events_per_day;
+        let background = &scenario.backgrounds[0];
+        let Some(NormUncertainty::Relative(delta)) = background.norm_uncertainty else {
+            panic!("the demo needs a constrained background normalisation");
+        };
+        // Significance limit s / (delta b) as exposure grows (common practice; follows
+        // from Cowan et al., EPJC 71 (2011) 1554, with sigma_b = delta b).
+        let limit = signal / (delta * background.events_per_day);
+        assert!(limit > 3.0 && limit < 5.0, "limit {limit}");
+    }
+
+    #[test]
+    fn counting_window_demo_reaches_three_sigma_within_its_grid() {
+        let scenario = load_demo("counting_window.yaml");
+        let live_days = scenario.plan.days.last * scenario.schedule.live_fraction;
+        let s = scenario.signal.events_per_day * live_days;
+        let background = &scenario.backgrounds[0];
+        let b = background.events_per_day * live_days;
+        let Some(NormUncertainty::Relative(delta)) = background.norm_uncertainty else {
+            panic!("the demo needs a constrained background normalisation");
+        };
+        let z = median_significance_with_background_uncertainty(s, b, delta * b);
+        assert!(z > 3.0, "Z_A = {z} at the last day of the grid");
+    }
+
+    /// Z_A = sqrt(2[(s+b) ln((s+b)(b+σ²)/(b²+(s+b)σ²)) - (b²/σ²) ln(1 + σ² s/(b(b+σ²)))])
+    /// (Cowan et al., EPJC 71 (2011) 1554; G. Cowan, "Discovery sensitivity for a
+    /// counting experiment with background uncertainty", 2012).
+    fn median_significance_with_background_uncertainty(s: f64, b: f64, sigma_b: f64) -> f64 {
+        let variance = sigma_b * sigma_b;
+        let first = (s + b) * ((s + b) * (b + variance) / (b * b + (s + b) * variance)).ln();
+        let second = b * b / variance * (1.0 + variance * s / (b * (b + variance))).ln();
+        (2.0 * (first - second)).sqrt()
+    }
+
+    #[test]
+    fn background_uncertainty_formula_matches_published_values() {
+        // Cowan 2012, as tabulated in shared checks: s=10, b=100, sigma_b=10 -> 0.690196;
+        // s=20, b=50, sigma_b=5 -> 2.133224.
+        let low = median_significance_with_background_uncertainty(10.0, 100.0, 10.0);
+        assert!((low - 0.690196).abs() < 1e-6, "{low}");
+        let high = median_significance_with_background_uncertainty(20.0, 50.0, 5.0);
+        assert!((high - 2.133224).abs() < 1e-6, "{high}");
+    }
+
+    #[test]
+    fn log_grid_runs_from_first_to_last_evenly_in_ratio() {
+        let grid = DaysGrid {
+            first: 1.0,
+            last: 100.0,
+            points: 3,
+            spacing: Spacing::Log,
+        };
+        let days = grid.days();
+        assert_eq!(days.len(), 3);
+        assert!((days[1] - 10.0).abs() < 1e-12 && (days[2] - 100.0).abs() < 1e-12);
     }
 }

@@ -9,6 +9,7 @@ mod exponential;
 mod flat;
 mod gaussian;
 mod polynomial;
+mod tails;
 
 pub use breit_wigner::BreitWigner;
 pub use exponential::Exponential;
@@ -17,6 +18,14 @@ pub use gaussian::Gaussian;
 pub use polynomial::Polynomial;
 
 /// A normalised density on a range, with parameters that may float in fits.
+///
+/// `edges` are the bin edges, strictly increasing, at least two of them; the
+/// density is normalised on `[edges[0], edges[last]]`.
+///
+/// A fit may try parameters outside a shape's domain (a width that is not
+/// positive, a polynomial that is negative over part of the range). Then every
+/// fraction, and every gradient entry, is set to `f64::NAN`, so the fitter
+/// rejects the step; no fraction is ever silently negative.
 pub trait Shape: std::fmt::Debug + Send + Sync {
     /// Names of the parameters, in the order used by every `params` slice.
     fn parameter_names(&self) -> Vec<String>;
@@ -59,6 +68,73 @@ pub trait Shape: std::fmt::Debug + Send + Sync {
         }
     }
 
-    /// The normalised density at `x` on the range `[low, high]` (per unit of the observable).
+    /// The normalised density at `x` on the range `[low, high]` (per unit of the
+    /// observable), zero outside the range and NaN outside the shape's domain.
     fn density(&self, params: &[f64], low: f64, high: f64, x: f64) -> f64;
+}
+
+/// Divides bin masses by their sum, turning them into fractions, and returns the sum.
+///
+/// When a mass is negative or NaN, or the sum is not positive and finite, the
+/// parameters lie outside the shape's domain: every entry becomes NaN and the
+/// result is `None`.
+fn normalise_masses(masses: &mut [f64]) -> Option<f64> {
+    let total: f64 = masses.iter().sum();
+    let valid = total > 0.0 && total.is_finite() && masses.iter().all(|&mass| mass >= 0.0);
+    if !valid {
+        mark_invalid(masses);
+        return None;
+    }
+    for mass in masses.iter_mut() {
+        *mass /= total;
+    }
+    Some(total)
+}
+
+/// The fitted range `[edges[0], edges[last]]`.
+fn range_of(edges: &[f64]) -> (f64, f64) {
+    (edges[0], edges[edges.len() - 1])
+}
+
+/// Marks fractions or gradient entries as coming from parameters outside the domain.
+fn mark_invalid(values: &mut [f64]) {
+    values.fill(f64::NAN);
+}
+
+/// Asserts that fractions are non-negative and sum to one within rounding.
+#[cfg(test)]
+fn assert_normalised(fractions: &[f64]) {
+    let sum: f64 = fractions.iter().sum();
+    assert!((sum - 1.0).abs() < 1e-12, "fractions sum to {sum}");
+    assert!(
+        fractions.iter().all(|&fraction| fraction >= 0.0),
+        "negative or NaN fraction in {fractions:?}"
+    );
+}
+
+/// Central difference (f(p + step) - f(p - step)) / (2 step) of every bin
+/// fraction in parameter `k`, an independent check of analytic gradients.
+#[cfg(test)]
+fn central_difference(
+    shape: &dyn Shape,
+    params: &[f64],
+    edges: &[f64],
+    k: usize,
+    step: f64,
+) -> Vec<f64> {
+    let bins = edges.len() - 1;
+    let fractions_at = |value: f64| {
+        let mut shifted = params.to_vec();
+        shifted[k] = value;
+        let mut fractions = vec![0.0; bins];
+        shape.bin_fractions(&shifted, edges, &mut fractions);
+        fractions
+    };
+    let upper = fractions_at(params[k] + step);
+    let lower = fractions_at(params[k] - step);
+    upper
+        .iter()
+        .zip(&lower)
+        .map(|(up, down)| (up - down) / (2.0 * step))
+        .collect()
 }

@@ -1,0 +1,59 @@
+//! Command-line arguments.
+
+use clap::{Args, Parser, Subcommand};
+use std::path::PathBuf;
+
+/// runcast: how long a search must run to reach evidence or discovery.
+///
+/// Reads a scenario (signal, backgrounds, rates per day, schedule), runs seeded
+/// pseudo-experiments with profile-likelihood fits at each exposure, cross-checks
+/// them with asymptotic (Asimov) formulae, and writes SVG projections, CSV and JSON.
+#[derive(Debug, Parser)]
+#[command(name = "runcast", version, about, long_about)]
+pub struct Cli {
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Project the significance against days of data-taking and the days to each target.
+    ///
+    /// Writes projection.svg, probability.svg, projection.csv and projection.json
+    /// to output/<scenario file stem>/ (or --out) and prints a summary table.
+    Project(ProjectArgs),
+    /// Validate a scenario and print its rates, S/B at the peak and asymptotic days to target.
+    Check {
+        /// The scenario file (YAML).
+        scenario: PathBuf,
+    },
+    /// Write a commented template scenario to FILE (never overwrites).
+    New {
+        /// Where to write the template.
+        file: PathBuf,
+    },
+}
+
+#[derive(Debug, Args)]
+pub struct ProjectArgs {
+    /// The scenario file (YAML).
+    pub scenario: PathBuf,
+    /// Pseudo-experiments per exposure point (overrides plan.toys).
+    #[arg(long, value_name = "N")]
+    pub toys: Option<usize>,
+    /// Seed of all pseudo-experiments (overrides plan.seed); same seed, same numbers.
+    #[arg(long, value_name = "S")]
+    pub seed: Option<u64>,
+    /// Output directory (default: output/<scenario file stem>).
+    #[arg(long, value_name = "DIR")]
+    pub out: Option<PathBuf>,
+    /// Worker threads (default: all cores); results do not depend on it.
+    #[arg(long, value_name = "N")]
+    pub threads: Option<usize>,
+    /// Skip the pseudo-experiments; asymptotic (Asimov) results only.
+    #[arg(long)]
+    pub asimov_only: bool,
+    /// No progress bar.
+    #[arg(long)]
+    pub quiet: bool,
+}

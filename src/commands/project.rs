@@ -1,0 +1,87 @@
+//! `runcast project`: the main job.
+
+use super::load_scenario;
+use crate::cli::ProjectArgs;
+use crate::error::Error;
+use crate::model::Model;
+use crate::progress::toy_progress;
+use crate::projection::{Projection, ProjectionSettings, project};
+use crate::report;
+use crate::scenario::Scenario;
+use std::path::{Path, PathBuf};
+
+pub fn run(args: &ProjectArgs) -> Result<(), Error> {
+    let scenario = load_scenario(&args.scenario)?;
+    let settings = settings(&scenario, args)?;
+    let out = output_directory(args);
+    let model = Model::from_scenario(&scenario);
+
+    let points = settings.days.len() as u64;
+    let bar = toy_progress(settings.toys as u64 * points, args.quiet);
+    let progress = |done: u64| bar.inc(done);
+    let projection = with_threads(args.threads, || project(&model, &settings, &progress))??;
+    bar.finish_and_clear();
+
+    let reports = report::render_all(&projection)?;
+    report::write_all(&out, &reports)?;
+    print!("{}", report::summary(&projection));
+    warn_about_failed_fits(&projection);
+    println!("wrote {}", out.display());
+    Ok(())
+}
+
+fn settings(scenario: &Scenario, args: &ProjectArgs) -> Result<ProjectionSettings, Error> {
+    if args.toys == Some(0) {
+        return Err(Error::Usage(
+            "--toys: must be at least 1 (use --asimov-only to skip pseudo-experiments)".into(),
+        ));
+    }
+    let toys = if args.asimov_only {
+        0
+    } else {
+        args.toys.unwrap_or(scenario.plan.toys)
+    };
+    Ok(ProjectionSettings {
+        title: scenario.title.clone(),
+        days: scenario.plan.days.days(),
+        toys,
+        seed: args.seed.unwrap_or(scenario.plan.seed),
+        targets: scenario.plan.targets.clone(),
+    })
+}
+
+/// `--out`, or `output/<scenario file stem>`.
+fn output_directory(args: &ProjectArgs) -> PathBuf {
+    args.out.clone().unwrap_or_else(|| {
+        let stem = args.scenario.file_stem().map_or_else(
+            || "scenario".into(),
+            |stem| stem.to_string_lossy().into_owned(),
+        );
+        Path::new("output").join(stem)
+    })
+}
+
+/// Runs `work` on a pool of `threads` workers (the global pool when None).
+fn with_threads<T: Send>(threads: Option<usize>, work: impl FnOnce() -> T + Send) -> Result<T, Error> {
+    match threads {
+        None => Ok(work()),
+        Some(0) => Err(Error::Usage("--threads: must be at least 1".into())),
+        Some(threads) => rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .map(|pool| pool.install(work))
+            .map_err(|error| Error::Usage(format!("--threads {threads}: {error}"))),
+    }
+}
+
+/// Failed fits are counted in every output; above 0.1% of the toys at a point, say so.
+fn warn_about_failed_fits(projection: &Projection) {
+    for point in &projection.points {
+        if point.failed_fits as f64 > 1e-3 * projection.toys as f64 {
+            eprintln!(
+                "runcast: warning: {} of {} pseudo-experiments failed to fit at day {:.4}; they are excluded from the quantiles",
+                point.failed_fits, projection.toys, point.days
+            );
+        }
+    }
+}

@@ -1,0 +1,51 @@
+//! The errors a command can end with; each prints as one line a user can act on.
+
+use crate::projection::ProjectionError;
+use crate::report::ReportError;
+use crate::scenario::ScenarioError;
+use std::fmt;
+use std::path::PathBuf;
+
+#[derive(Debug)]
+pub enum Error {
+    Scenario { path: PathBuf, source: ScenarioError },
+    Projection(ProjectionError),
+    Report(ReportError),
+    /// A file the user named could not be written.
+    Write { path: PathBuf, source: std::io::Error },
+    /// A file exists and would be overwritten.
+    Exists { path: PathBuf },
+    /// Command-line values that parse but make no sense.
+    Usage(String),
+}
+
+impl fmt::Display for Error {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            Error::Scenario { path, source } => write!(f, "{}: {source}", path.display()),
+            Error::Projection(source) => write!(f, "{source}"),
+            Error::Report(source) => write!(f, "{source}"),
+            Error::Write { path, source } => write!(f, "cannot write {}: {source}", path.display()),
+            Error::Exists { path } => write!(
+                f,
+                "{} already exists; choose another name or remove it first",
+                path.display()
+            ),
+            Error::Usage(message) => f.write_str(message),
+        }
+    }
+}
+
+impl std::error::Error for Error {}
+
+impl From<ProjectionError> for Error {
+    fn from(source: ProjectionError) -> Error {
+        Error::Projection(source)
+    }
+}
+
+impl From<ReportError> for Error {
+    fn from(source: ReportError) -> Error {
+        Error::Report(source)
+    }
+}

@@ -1,0 +1,240 @@
+//! A bounded Newton minimiser for -ln L.
+//!
+//! Each iteration solves H d = -g on the parameters that are free and not held
+//! at a bound, adding a Levenberg-Marquardt damping term to H when it is not
+//! positive definite, then backtracks along d (projected on the bounds) until
+//! the Armijo condition holds (Nocedal and Wright, Numerical Optimization, 2nd
+//! ed., Springer 2006, ch. 3 and 10). Convergence is declared when the Newton
+//! decrement -g.d, the expected drop of -ln L, falls below 1e-10.
+
+use super::linear::solve_positive_definite;
+use super::{Dataset, Likelihood, Workspace};
+use crate::model::SIGNAL_STRENGTH;
+use std::fmt;
+
+const MAX_ITERATIONS: usize = 200;
+const MAX_HALVINGS: usize = 40;
+const CONVERGED_DECREMENT: f64 = 1e-10;
+/// Below this decrement a step that cannot lower -ln L is rounding, not failure.
+const ROUNDING_DECREMENT: f64 = 1e-6;
+const ARMIJO: f64 = 1e-4;
+
+/// Why a fit did not converge.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum FitFailure {
+    /// -ln L is not finite at the starting point.
+    InvalidStart,
+    /// No step along the Newton direction lowered -ln L.
+    LineSearch,
+    /// The Hessian could not be made positive definite.
+    Curvature,
+    /// The iteration limit was reached.
+    IterationLimit,
+}
+
+impl fmt::Display for FitFailure {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let text = match self {
+            FitFailure::InvalidStart => "the likelihood is not finite at the starting point",
+            FitFailure::LineSearch => "no step lowered the negative log-likelihood",
+            FitFailure::Curvature => "the Hessian could not be made positive definite",
+            FitFailure::IterationLimit => "the iteration limit was reached",
+        };
+        f.write_str(text)
+    }
+}
+
+/// Minimises -ln L for one likelihood, reusing its scratch space between fits.
+#[derive(Debug)]
+pub struct Fitter<'l, 'm> {
+    likelihood: &'l Likelihood<'m>,
+    work: Workspace,
+    theta: Vec<f64>,
+    trial: Vec<f64>,
+    start: Vec<f64>,
+    free: Vec<usize>,
+    reduced_hessian: Vec<f64>,
+    reduced_step: Vec<f64>,
+    step: Vec<f64>,
+}
+
+impl<'l, 'm> Fitter<'l, 'm> {
+    pub fn new(likelihood: &'l Likelihood<'m>) -> Fitter<'l, 'm> {
+        let parameters = likelihood.parameter_count();
+        Fitter {
+            likelihood,
+            work: likelihood.workspace(),
+            theta: vec![0.0; parameters],
+            trial: vec![0.0; parameters],
+            start: vec![0.0; parameters],
+            free: Vec::with_capacity(parameters),
+            reduced_hessian: vec![0.0; parameters * parameters],
+            reduced_step: vec![0.0; parameters],
+            step: vec![0.0; parameters],
+        }
+    }
+
+    /// Best-fit parameters of the last successful fit.
+    pub fn parameters(&self) -> &[f64] {
+        &self.theta
+    }
+
+    /// The scratch space, for evaluating expectations outside fits.
+    pub fn workspace(&mut self) -> &mut Workspace {
+        &mut self.work
+    }
+
+    /// The minimum of -ln L with the signal strength fixed at `fixed_mu` (or
+    /// free when None), starting from `start`; when that fails, retried from
+    /// the model's nominal values with the signal strength at 0 and at 3.
+    /// Returns the last failure when every start fails.
+    pub fn minimise(
+        &mut self,
+        live_days: f64,
+        data: &Dataset,
+        fixed_mu: Option<f64>,
+        start: &[f64],
+    ) -> Result<f64, FitFailure> {
+        self.start.copy_from_slice(start);
+        let first = self.minimise_from_start(live_days, data, fixed_mu);
+        if first.is_ok() {
+            return first;
+        }
+        let mut failure = first;
+        for retry_mu in [0.0, 3.0] {
+            for (value, parameter) in self.start.iter_mut().zip(&self.likelihood.model().parameters) {
+                *value = parameter.nominal;
+            }
+            self.start[SIGNAL_STRENGTH] = retry_mu;
+            failure = self.minimise_from_start(live_days, data, fixed_mu);
+            if failure.is_ok() {
+                return failure;
+            }
+        }
+        failure
+    }
+
+    fn minimise_from_start(
+        &mut self,
+        live_days: f64,
+        data: &Dataset,
+        fixed_mu: Option<f64>,
+    ) -> Result<f64, FitFailure> {
+        let likelihood = self.likelihood;
+        let parameters = &likelihood.model().parameters;
+        for ((theta, &start), parameter) in self.theta.iter_mut().zip(&self.start).zip(parameters) {
+            *theta = start.clamp(parameter.lower, parameter.upper);
+        }
+        if let Some(mu) = fixed_mu {
+            self.theta[SIGNAL_STRENGTH] = mu;
+        }
+        let mut nll = likelihood.negative_log_likelihood_with_derivatives(
+            &self.theta,
+            live_days,
+            data,
+            &mut self.work,
+        );
+        if !nll.is_finite() {
+            return Err(FitFailure::InvalidStart);
+        }
+        for _ in 0..MAX_ITERATIONS {
+            self.select_free_parameters(fixed_mu.is_some());
+            if self.free.is_empty() {
+                return Ok(nll);
+            }
+            let decrement = self.newton_step()?;
+            if decrement < CONVERGED_DECREMENT {
+                return Ok(nll);
+            }
+            match self.line_search(live_days, data, nll, decrement) {
+                Some(_) => {
+                    std::mem::swap(&mut self.theta, &mut self.trial);
+                    nll = likelihood.negative_log_likelihood_with_derivatives(
+                        &self.theta,
+                        live_days,
+                        data,
+                        &mut self.work,
+                    );
+                }
+                None if decrement < ROUNDING_DECREMENT => return Ok(nll),
+                None => return Err(FitFailure::LineSearch),
+            }
+        }
+        Err(FitFailure::IterationLimit)
+    }
+
+    /// Free parameters: not fixed, and not held at a bound by a gradient pointing outwards.
+    fn select_free_parameters(&mut self, mu_fixed: bool) {
+        let parameters = &self.likelihood.model().parameters;
+        self.free.clear();
+        for (index, parameter) in parameters.iter().enumerate() {
+            if mu_fixed && index == SIGNAL_STRENGTH {
+                continue;
+            }
+            let gradient = self.work.gradient[index];
+            let at_lower = self.theta[index] <= parameter.lower && gradient > 0.0;
+            let at_upper = self.theta[index] >= parameter.upper && gradient < 0.0;
+            if !at_lower && !at_upper {
+                self.free.push(index);
+            }
+        }
+    }
+
+    /// Solves the damped Newton system on the free parameters into `self.step`
+    /// (full length, zero on held parameters); returns the decrement -g.d.
+    fn newton_step(&mut self) -> Result<f64, FitFailure> {
+        let parameters = self.likelihood.parameter_count();
+        let free = self.free.len();
+        let largest_diagonal = self
+            .free
+            .iter()
+            .map(|&a| self.work.hessian[a * parameters + a].abs())
+            .fold(0.0, f64::max)
+            .max(1e-300);
+        let mut damping = 0.0;
+        let reduced_step = &mut self.reduced_step[..free];
+        loop {
+            for (i, &a) in self.free.iter().enumerate() {
+                for (k, &b) in self.free.iter().enumerate() {
+                    self.reduced_hessian[i * free + k] = self.work.hessian[a * parameters + b];
+                }
+                self.reduced_hessian[i * free + i] += damping * largest_diagonal;
+                reduced_step[i] = -self.work.gradient[a];
+            }
+            if solve_positive_definite(&mut self.reduced_hessian[..free * free], reduced_step, free) {
+                break;
+            }
+            damping = if damping == 0.0 { 1e-8 } else { damping * 10.0 };
+            if damping > 1e8 {
+                return Err(FitFailure::Curvature);
+            }
+        }
+        self.step.iter_mut().for_each(|s| *s = 0.0);
+        let mut decrement = 0.0;
+        for (i, &a) in self.free.iter().enumerate() {
+            self.step[a] = reduced_step[i];
+            decrement -= self.work.gradient[a] * reduced_step[i];
+        }
+        Ok(decrement)
+    }
+
+    /// Backtracks from a full Newton step; leaves the accepted point in `self.trial`.
+    fn line_search(&mut self, live_days: f64, data: &Dataset, nll: f64, decrement: f64) -> Option<f64> {
+        let parameters = &self.likelihood.model().parameters;
+        let mut scale = 1.0;
+        for _ in 0..MAX_HALVINGS {
+            for (index, parameter) in parameters.iter().enumerate() {
+                self.trial[index] =
+                    (self.theta[index] + scale * self.step[index]).clamp(parameter.lower, parameter.upper);
+            }
+            let trial_nll =
+                self.likelihood
+                    .negative_log_likelihood(&self.trial, live_days, data, &mut self.work);
+            if trial_nll <= nll - ARMIJO * scale * decrement {
+                return Some(trial_nll);
+            }
+            scale *= 0.5;
+        }
+        None
+    }
+}

@@ -1,0 +1,68 @@
+//! Test statistics built from pairs of profile-likelihood fits.
+
+use super::{Dataset, FitFailure, Fitter, Likelihood};
+use crate::model::SIGNAL_STRENGTH;
+
+/// The discovery test statistic from the two minima of -ln L:
+///
+///   q0 = -2 ln lambda(0) = 2 [min_{theta} (-ln L | mu = 0) - min_{mu >= 0, theta} (-ln L)]
+///
+/// and q0 = 0 when the fitted mu is not positive (Cowan, Cranmer, Gross, Vitells,
+/// Eur. Phys. J. C 71 (2011) 1554, eq. 12). Since the fit bounds mu >= 0, a
+/// fitted mu of zero gives equal minima. Rounding below zero is clipped.
+pub fn q0_from_fits(null_nll: f64, free_nll: f64, fitted_mu: f64) -> f64 {
+    if fitted_mu > 0.0 {
+        (2.0 * (null_nll - free_nll)).max(0.0)
+    } else {
+        0.0
+    }
+}
+
+/// Computes q0 for datasets of one model, reusing its fitter.
+#[derive(Debug)]
+pub struct DiscoveryTest<'l, 'm> {
+    fitter: Fitter<'l, 'm>,
+    nominal: Vec<f64>,
+    null_parameters: Vec<f64>,
+}
+
+/// The outcome of the two fits behind one q0.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct DiscoveryFit {
+    pub q0: f64,
+    pub fitted_mu: f64,
+}
+
+impl<'l, 'm> DiscoveryTest<'l, 'm> {
+    pub fn new(likelihood: &'l Likelihood<'m>) -> DiscoveryTest<'l, 'm> {
+        let nominal = likelihood.model().nominal_parameters();
+        DiscoveryTest {
+            fitter: Fitter::new(likelihood),
+            null_parameters: nominal.clone(),
+            nominal,
+        }
+    }
+
+    /// The fitter, for fits beyond the discovery pair.
+    pub fn fitter(&mut self) -> &mut Fitter<'l, 'm> {
+        &mut self.fitter
+    }
+
+    /// q0 of `data` after `live_days`, both fits started at the generating values.
+    /// If the free fit lands above the background-only minimum (a subset of its
+    /// parameter space), it is repeated from the background-only solution.
+    pub fn fit(&mut self, live_days: f64, data: &Dataset) -> Result<DiscoveryFit, FitFailure> {
+        let null_nll = self.fitter.minimise(live_days, data, Some(0.0), &self.nominal)?;
+        self.null_parameters.copy_from_slice(self.fitter.parameters());
+        let mut free_nll = self.fitter.minimise(live_days, data, None, &self.nominal);
+        if free_nll.as_ref().map_or(true, |&nll| nll > null_nll) {
+            free_nll = self.fitter.minimise(live_days, data, None, &self.null_parameters);
+        }
+        let free_nll = free_nll?;
+        let fitted_mu = self.fitter.parameters()[SIGNAL_STRENGTH];
+        Ok(DiscoveryFit {
+            q0: q0_from_fits(null_nll, free_nll, fitted_mu),
+            fitted_mu,
+        })
+    }
+}

@@ -1,0 +1,140 @@
+//! Building the model from a validated scenario.
+
+use super::{
+    Channel, Component, Constraint, LiveTime, Model, Parameter, SIGNAL_STRENGTH, ShapeParameters,
+    shapes,
+};
+use crate::scenario::{Background, NormUncertainty, Scenario, ShapeSpec, Signal};
+
+impl Model {
+    /// The single-channel model of a scenario: mu, an optional constrained signal
+    /// yield factor, one factor per background whose normalisation is uncertain,
+    /// and the parameters of every background shape marked `float_shape`.
+    pub fn from_scenario(scenario: &Scenario) -> Model {
+        let mut builder = Builder::default();
+        builder.parameters.push(Parameter {
+            name: "signal_strength".into(),
+            nominal: 1.0,
+            lower: 0.0,
+            upper: f64::INFINITY,
+        });
+        debug_assert_eq!(builder.parameters.len() - 1, SIGNAL_STRENGTH);
+
+        let mut components = vec![builder.signal_component(&scenario.signal)];
+        components.extend(scenario.backgrounds.iter().map(|b| builder.background_component(b)));
+
+        let observable = &scenario.observable;
+        Model {
+            parameters: builder.parameters,
+            channels: vec![Channel {
+                name: observable.name.clone(),
+                unit: observable.unit.clone(),
+                edges: bin_edges(observable.range, observable.bin_width),
+                components,
+            }],
+            constraints: builder.constraints,
+            live_time: LiveTime::from_schedule(&scenario.schedule),
+        }
+    }
+}
+
+/// Uniform bin edges over `range`; the scenario guarantees that `width` divides it.
+pub fn bin_edges(range: [f64; 2], width: f64) -> Vec<f64> {
+    let bins = ((range[1] - range[0]) / width).round() as usize;
+    (0..=bins)
+        .map(|i| {
+            if i == bins {
+                range[1]
+            } else {
+                range[0] + i as f64 * width
+            }
+        })
+        .collect()
+}
+
+#[derive(Default)]
+struct Builder {
+    parameters: Vec<Parameter>,
+    constraints: Vec<Constraint>,
+}
+
+impl Builder {
+    fn add_parameter(&mut self, name: String, nominal: f64, lower: f64) -> usize {
+        self.parameters.push(Parameter {
+            name,
+            nominal,
+            lower,
+            upper: f64::INFINITY,
+        });
+        self.parameters.len() - 1
+    }
+
+    /// A yield factor with nominal 1, constrained by N(1, width) when `width` is given.
+    fn yield_factor(&mut self, name: String, width: Option<f64>) -> usize {
+        let parameter = self.add_parameter(name, 1.0, 0.0);
+        if let Some(width) = width {
+            self.constraints.push(Constraint::Gaussian { parameter, width });
+        }
+        parameter
+    }
+
+    fn signal_component(&mut self, signal: &Signal) -> Component {
+        let mut yield_parameters = vec![SIGNAL_STRENGTH];
+        if let Some(width) = signal.yield_uncertainty {
+            yield_parameters.push(self.yield_factor("signal.yield_factor".into(), Some(width)));
+        }
+        let shape = shape_from_spec(&signal.shape);
+        Component {
+            name: "signal".into(),
+            is_signal: true,
+            events_per_live_day: signal.events_per_day,
+            shape_parameters: ShapeParameters::Fixed(shape.nominal_parameters()),
+            shape,
+            yield_parameters,
+        }
+    }
+
+    fn background_component(&mut self, background: &Background) -> Component {
+        let factor_name = format!("{}.norm_factor", background.name);
+        let yield_parameters = match background.norm_uncertainty {
+            None => Vec::new(),
+            Some(NormUncertainty::Relative(width)) => vec![self.yield_factor(factor_name, Some(width))],
+            Some(NormUncertainty::Free) => vec![self.yield_factor(factor_name, None)],
+        };
+        let shape = shape_from_spec(&background.shape);
+        let shape_parameters = if background.float_shape {
+            let names = shape.parameter_names();
+            let indices = names
+                .iter()
+                .zip(shape.nominal_parameters())
+                .map(|(name, nominal)| {
+                    self.add_parameter(format!("{}.{}", background.name, name), nominal, f64::NEG_INFINITY)
+                })
+                .collect();
+            ShapeParameters::Floating(indices)
+        } else {
+            ShapeParameters::Fixed(shape.nominal_parameters())
+        };
+        Component {
+            name: background.name.clone(),
+            is_signal: false,
+            events_per_live_day: background.events_per_day,
+            shape,
+            yield_parameters,
+            shape_parameters,
+        }
+    }
+}
+
+/// The shape a scenario names.
+pub fn shape_from_spec(spec: &ShapeSpec) -> Box<dyn shapes::Shape> {
+    match spec {
+        ShapeSpec::Gaussian { mean, sigma } => Box::new(shapes::Gaussian::new(*mean, *sigma)),
+        ShapeSpec::BreitWigner { mean, width } => Box::new(shapes::BreitWigner::new(*mean, *width)),
+        ShapeSpec::Exponential { slope } => Box::new(shapes::Exponential::new(*slope)),
+        ShapeSpec::Polynomial { coefficients } => {
+            Box::new(shapes::Polynomial::new(coefficients.clone()))
+        }
+        ShapeSpec::Flat {} => Box::new(shapes::Flat),
+    }
+}

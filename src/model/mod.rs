@@ -1,0 +1,116 @@
+//! Model: expected counts per bin as a function of the parameters.
+//!
+//! A model is a set of channels (each with its own binned observable and
+//! components) sharing one parameter vector. Parameter 0 is always the signal
+//! strength mu. Each component contributes
+//!
+//!   nu_j = (product of its yield parameters) x events_per_live_day x live_days x f_j(shape parameters)
+//!
+//! to bin j of its channel, where f_j is the shape's exact bin fraction. Constraint
+//! terms tie nuisance parameters to auxiliary measurements (global observables).
+
+mod build;
+mod schedule;
+pub mod shapes;
+
+pub use build::{bin_edges, shape_from_spec};
+pub use schedule::LiveTime;
+
+use shapes::Shape;
+
+/// Index of the signal strength mu in every parameter vector.
+pub const SIGNAL_STRENGTH: usize = 0;
+
+/// A fit parameter with its nominal (generating) value and bounds.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Parameter {
+    pub name: String,
+    pub nominal: f64,
+    pub lower: f64,
+    pub upper: f64,
+}
+
+/// How a component's shape parameters enter: fixed at scenario values, or floated.
+#[derive(Debug, Clone, PartialEq)]
+pub enum ShapeParameters {
+    Fixed(Vec<f64>),
+    /// Indices into the parameter vector, in the shape's parameter order.
+    Floating(Vec<usize>),
+}
+
+/// One signal or background contribution to a channel.
+#[derive(Debug)]
+pub struct Component {
+    pub name: String,
+    pub is_signal: bool,
+    /// Expected events per live day over the channel's range at unit yield parameters.
+    pub events_per_live_day: f64,
+    pub shape: Box<dyn Shape>,
+    /// Parameters whose product multiplies the yield (mu and a signal factor, or a background factor).
+    pub yield_parameters: Vec<usize>,
+    pub shape_parameters: ShapeParameters,
+}
+
+/// A binned observable with its components.
+#[derive(Debug)]
+pub struct Channel {
+    pub name: String,
+    pub unit: String,
+    /// Bin edges, increasing; `edges.len() - 1` bins.
+    pub edges: Vec<f64>,
+    pub components: Vec<Component>,
+}
+
+/// A constraint term on one nuisance parameter, with its global observable.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Constraint {
+    /// Gaussian auxiliary measurement g ~ N(theta, width): -ln L = (theta - g)^2 / (2 width^2).
+    Gaussian { parameter: usize, width: f64 },
+}
+
+impl Constraint {
+    /// The parameter this constraint acts on.
+    pub fn parameter(&self) -> usize {
+        match self {
+            Constraint::Gaussian { parameter, .. } => *parameter,
+        }
+    }
+}
+
+/// The full statistical model of a scenario.
+#[derive(Debug)]
+pub struct Model {
+    pub parameters: Vec<Parameter>,
+    pub channels: Vec<Channel>,
+    pub constraints: Vec<Constraint>,
+    pub live_time: LiveTime,
+}
+
+impl Model {
+    /// Nominal (generating) parameter values, mu = 1.
+    pub fn nominal_parameters(&self) -> Vec<f64> {
+        self.parameters.iter().map(|p| p.nominal).collect()
+    }
+
+    /// Total number of bins over all channels.
+    pub fn bin_count(&self) -> usize {
+        self.channels.iter().map(|c| c.edges.len() - 1).sum()
+    }
+
+    /// Expected events per live day at nominal parameters, split into (signal, background).
+    pub fn nominal_rates(&self) -> (f64, f64) {
+        let nominal = self.nominal_parameters();
+        let mut signal = 0.0;
+        let mut background = 0.0;
+        for component in self.channels.iter().flat_map(|c| &c.components) {
+            let factor: f64 = component.yield_parameters.iter().map(|&p| nominal[p]).product();
+            let rate = factor * component.events_per_live_day;
+            if component.is_signal {
+                signal += rate;
+            } else {
+                background += rate;
+            }
+        }
+        (signal, background)
+    }
+}

@@ -1,0 +1,307 @@
+//! Exponential density on the range.
+
+use super::{Shape, mark_invalid, normalise_masses, range_of};
+
+/// Below this |slope| × range width the density differs from a flat one by
+/// less than double-precision rounding.
+const FLAT_LIMIT: f64 = f64::EPSILON;
+
+/// Below this argument the Langevin function is summed from its series.
+const LANGEVIN_SERIES_LIMIT: f64 = 0.1;
+
+/// Density proportional to exp(slope x), normalised on the range:
+/// slope exp(slope x) / (exp(slope high) - exp(slope low)).
+///
+/// Seen from the edge r where the density is highest (`high` for a rising
+/// density, `low` for a falling one), with k = |slope| and d = |x - r|, the
+/// density is proportional to exp(-k d) and the mass between r and x is
+/// V(d) = -expm1(-k d) / k, which tends to d as k tends to 0 (closed form).
+/// A bin [a, b] holds |V(d_b) - V(d_a)| / V(d_range): nothing exceeds the range
+/// width, so no slope overflows, and expm1 keeps slopes near zero exact. Bins
+/// far from r, where V is close to its limit 1/k, keep absolute rather than
+/// relative precision (one expm1 per edge, none per bin). Parameters: `["slope"]`.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Exponential {
+    slope: f64,
+}
+
+impl Exponential {
+    pub fn new(slope: f64) -> Exponential {
+        Exponential { slope }
+    }
+}
+
+impl Shape for Exponential {
+    fn parameter_names(&self) -> Vec<String> {
+        vec!["slope".to_string()]
+    }
+
+    fn nominal_parameters(&self) -> Vec<f64> {
+        vec![self.slope]
+    }
+
+    fn bin_fractions(&self, params: &[f64], edges: &[f64], fractions: &mut [f64]) {
+        debug_assert_eq!(edges.len(), fractions.len() + 1);
+        let (low, high) = range_of(edges);
+        let Some(frame) = Frame::new(params[0], low, high) else {
+            mark_invalid(fractions);
+            return;
+        };
+        let mut lower = frame.mass_from_peak_edge(edges[0]);
+        for (mass, &x) in fractions.iter_mut().zip(&edges[1..]) {
+            let upper = frame.mass_from_peak_edge(x);
+            *mass = (upper - lower).abs();
+            lower = upper;
+        }
+        normalise_masses(fractions);
+    }
+
+    /// Analytic derivative: d ln m / d slope is the mean of x over the bin, so
+    /// d f_i / d slope = f_i (<x>_bin - <x>_range). On an interval of centre c
+    /// and half width h, <x> = c + h L(slope h), with L(y) = coth(y) - 1/y the
+    /// Langevin function (closed form of the truncated exponential mean).
+    fn bin_fractions_with_gradient(
+        &self,
+        params: &[f64],
+        edges: &[f64],
+        fractions: &mut [f64],
+        gradient: &mut [f64],
+    ) {
+        debug_assert_eq!(gradient.len(), fractions.len());
+        self.bin_fractions(params, edges, fractions);
+        let slope = params[0];
+        let (low, high) = range_of(edges);
+        let range_mean = mean_position(slope, low, high);
+        for ((derivative, fraction), bin) in
+            gradient.iter_mut().zip(&*fractions).zip(edges.windows(2))
+        {
+            *derivative = fraction * (mean_position(slope, bin[0], bin[1]) - range_mean);
+        }
+    }
+
+    fn density(&self, params: &[f64], low: f64, high: f64, x: f64) -> f64 {
+        let Some(frame) = Frame::new(params[0], low, high) else {
+            return f64::NAN;
+        };
+        if !(low..=high).contains(&x) {
+            return 0.0;
+        }
+        let total = frame.mass_from_peak_edge(frame.far_edge);
+        frame.relative_density(x) / total
+    }
+}
+
+/// The density seen from the edge where it is highest.
+struct Frame {
+    steepness: f64,
+    peak_edge: f64,
+    far_edge: f64,
+    flat: bool,
+}
+
+impl Frame {
+    /// `None` when the slope is not finite.
+    fn new(slope: f64, low: f64, high: f64) -> Option<Frame> {
+        if !slope.is_finite() {
+            return None;
+        }
+        let (peak_edge, far_edge) = if slope > 0.0 {
+            (high, low)
+        } else {
+            (low, high)
+        };
+        Some(Frame {
+            steepness: slope.abs(),
+            peak_edge,
+            far_edge,
+            flat: slope.abs() * (high - low) < FLAT_LIMIT,
+        })
+    }
+
+    /// V(d) = -expm1(-k d) / k, or d for a density flat within rounding.
+    fn mass_from_peak_edge(&self, x: f64) -> f64 {
+        let distance = (x - self.peak_edge).abs();
+        if self.flat {
+            distance
+        } else {
+            -(-self.steepness * distance).exp_m1() / self.steepness
+        }
+    }
+
+    /// exp(-k d), the density relative to its value at the peak edge.
+    fn relative_density(&self, x: f64) -> f64 {
+        (-self.steepness * (x - self.peak_edge).abs()).exp()
+    }
+}
+
+/// Mean of x under exp(slope x) on [low, high]: c + h L(slope h), c the centre
+/// and h the half width.
+fn mean_position(slope: f64, low: f64, high: f64) -> f64 {
+    let half_width = 0.5 * (high - low);
+    0.5 * (low + high) + half_width * langevin(slope * half_width)
+}
+
+/// Langevin function L(y) = coth(y) - 1/y. Near zero the difference cancels,
+/// so it is summed from coth y = 1/y + y/3 - y³/45 + 2y⁵/945 - y⁷/4725 + 2y⁹/93555 - ...
+/// (Abramowitz & Stegun 4.5.67); at |y| < 0.1 the first omitted term is below
+/// 1e-15 of the sum.
+fn langevin(y: f64) -> f64 {
+    if y.abs() < LANGEVIN_SERIES_LIMIT {
+        let y2 = y * y;
+        y * (1.0 / 3.0
+            + y2 * (-1.0 / 45.0 + y2 * (2.0 / 945.0 + y2 * (-1.0 / 4725.0 + y2 * (2.0 / 93555.0)))))
+    } else {
+        y.tanh().recip() - y.recip()
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::model::shapes::{assert_normalised, central_difference};
+
+    fn fractions(slope: f64, edges: &[f64]) -> Vec<f64> {
+        let mut fractions = vec![0.0; edges.len() - 1];
+        Exponential::new(slope).bin_fractions(&[slope], edges, &mut fractions);
+        assert_normalised(&fractions);
+        fractions
+    }
+
+    fn uniform_edges(low: f64, high: f64, bins: u32) -> Vec<f64> {
+        (0..=bins)
+            .map(|i| low + (high - low) * f64::from(i) / f64::from(bins))
+            .collect()
+    }
+
+    /// Hand-derived closed form (common practice): a bin [a, b] of the range
+    /// [low, high] holds (exp(s b) - exp(s a)) / (exp(s high) - exp(s low)).
+    #[test]
+    fn fractions_match_closed_form() {
+        for (slope, edges) in [
+            (-0.7_f64, vec![0.0, 0.5, 1.3, 2.0, 3.5, 5.0]),
+            (1.9, vec![-1.0, 0.0, 0.4, 2.0]),
+        ] {
+            let (low, high) = (edges[0], edges[edges.len() - 1]);
+            let total = (slope * high).exp() - (slope * low).exp();
+            for (fraction, bin) in fractions(slope, &edges).iter().zip(edges.windows(2)) {
+                let expected = ((slope * bin[1]).exp() - (slope * bin[0]).exp()) / total;
+                assert!(
+                    (fraction - expected).abs() < 1e-14,
+                    "{fraction} vs {expected}"
+                );
+            }
+        }
+    }
+
+    /// The analytic gradient against central differences (common practice), on
+    /// both sides of zero slope and at zero itself.
+    #[test]
+    fn gradient_matches_central_differences() {
+        let edges = uniform_edges(0.0, 2.0, 20);
+        for slope in [-3.0, -1e-9, 0.0, 1e-9, 0.5, 40.0] {
+            let shape = Exponential::new(slope);
+            let mut fractions = vec![0.0; 20];
+            let mut gradient = vec![0.0; 20];
+            shape.bin_fractions_with_gradient(&[slope], &edges, &mut fractions, &mut gradient);
+            assert_normalised(&fractions);
+            let numeric = central_difference(&shape, &[slope], &edges, 0, 1e-5);
+            for (analytic, numeric) in gradient.iter().zip(&numeric) {
+                assert!(
+                    (analytic - numeric).abs() < 1e-8,
+                    "slope {slope}: {analytic} vs {numeric}"
+                );
+            }
+        }
+    }
+
+    /// At zero slope the density is flat, each bin holds w / R, and expanding
+    /// the closed form to first order in the slope gives d f / d slope =
+    /// (w / R)(c_bin - c_range) (hand-derived; common practice).
+    #[test]
+    fn zero_slope_is_flat_with_linear_derivative() {
+        let edges = [1.0, 1.5, 3.0, 5.0];
+        let mut flat = [0.0; 3];
+        let mut gradient = [0.0; 3];
+        Exponential::new(0.0).bin_fractions_with_gradient(&[0.0], &edges, &mut flat, &mut gradient);
+        let expected_fractions = [0.125, 0.375, 0.5];
+        let expected_gradient = [
+            0.125 * (1.25 - 3.0),
+            0.375 * (2.25 - 3.0),
+            0.5 * (4.0 - 3.0),
+        ];
+        for i in 0..3 {
+            assert!((flat[i] - expected_fractions[i]).abs() < 1e-15);
+            assert!((gradient[i] - expected_gradient[i]).abs() < 1e-15);
+        }
+        for (fraction, expected) in fractions(1e-12, &edges).iter().zip(expected_fractions) {
+            assert!((fraction - expected).abs() < 1e-11);
+        }
+    }
+
+    /// Slopes far beyond the range scale (|slope| × range up to 1e6) stay
+    /// finite and normalised; the bin at the peak edge, of width w, holds
+    /// (1 - exp(-k w)) / (1 - exp(-k R)) (closed form).
+    #[test]
+    fn extreme_slopes_stay_finite() {
+        let edges = uniform_edges(0.0, 1.0, 100);
+        for slope in [1e3, -1e3, 1e6, -1e6, 1e-300, -1e-300] {
+            let fractions = fractions(slope, &edges);
+            let steepness = f64::abs(slope);
+            let expected = (-steepness * 0.01).exp_m1() / (-steepness).exp_m1();
+            let peak_bin = if slope > 0.0 {
+                fractions[99]
+            } else {
+                fractions[0]
+            };
+            assert!(
+                (peak_bin - expected).abs() < 1e-14,
+                "slope {slope}: {peak_bin} vs {expected}"
+            );
+            let mut recomputed = vec![0.0; 100];
+            let mut gradient = vec![0.0; 100];
+            let shape = Exponential::new(slope);
+            shape.bin_fractions_with_gradient(&[slope], &edges, &mut recomputed, &mut gradient);
+            assert!(gradient.iter().all(|derivative| derivative.is_finite()));
+        }
+    }
+
+    #[test]
+    fn non_finite_slope_gives_nan() {
+        let shape = Exponential::new(1.0);
+        for slope in [f64::NAN, f64::INFINITY, f64::NEG_INFINITY] {
+            let mut fractions = [0.0; 2];
+            let mut gradient = [0.0; 2];
+            shape.bin_fractions_with_gradient(
+                &[slope],
+                &[0.0, 1.0, 2.0],
+                &mut fractions,
+                &mut gradient,
+            );
+            assert!(
+                fractions
+                    .iter()
+                    .chain(&gradient)
+                    .all(|value| value.is_nan())
+            );
+            assert!(shape.density(&[slope], 0.0, 2.0, 1.0).is_nan());
+        }
+    }
+
+    /// Density slope exp(slope x) / (exp(slope high) - exp(slope low)) (closed
+    /// form), 1 / (high - low) at zero slope, zero outside the range.
+    #[test]
+    fn density_matches_closed_form() {
+        let shape = Exponential::new(-0.4);
+        let total = (-0.4_f64 * 7.0).exp() - (-0.4_f64 * 2.0).exp();
+        for x in [2.0_f64, 3.1, 7.0] {
+            let expected = -0.4 * (-0.4 * x).exp() / total;
+            let density = shape.density(&[-0.4], 2.0, 7.0, x);
+            assert!(
+                (density / expected - 1.0).abs() < 1e-14,
+                "{density} vs {expected}"
+            );
+        }
+        assert!((shape.density(&[0.0], 2.0, 7.0, 4.0) - 0.2).abs() < 1e-15);
+        assert_eq!(shape.density(&[-0.4], 2.0, 7.0, 1.0), 0.0);
+    }
+}

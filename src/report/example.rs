@@ -1,0 +1,223 @@
+//! Invented projections for the report tests: a hypothetical counting search,
+//! not any real experiment. Only the report formatting is under test here, so
+//! the toy quantiles are made up around the Asimov curve, not simulated.
+
+use crate::projection::{DaysToTarget, ExposurePoint, Projection, TargetProbability};
+use statrs::function::erf::erfc;
+
+/// Two hand-written points and two targets. Point 1 carries no toy results and
+/// the 5σ target is never reached (Z saturates at 4.5σ), to exercise nulls.
+pub(crate) fn tiny() -> Projection {
+    Projection {
+        title: "Invented counting search".to_string(),
+        seed: 7,
+        toys: 200,
+        targets: vec![3.0, 5.0],
+        points: vec![
+            ExposurePoint {
+                days: 10.0,
+                live_days: 8.0,
+                signal: 16.0,
+                background: 80.0,
+                z_asimov: 1.75,
+                z_median: Some(1.625),
+                z_band: Some([0.125, 0.75, 2.5, 3.5]),
+                probability: vec![
+                    TargetProbability {
+                        target: 3.0,
+                        toys: Some(0.105),
+                        asimov: 0.0885,
+                    },
+                    TargetProbability {
+                        target: 5.0,
+                        toys: Some(0.0),
+                        asimov: 0.0005,
+                    },
+                ],
+                failed_fits: 0,
+            },
+            ExposurePoint {
+                days: 100.0,
+                live_days: 80.0,
+                signal: 160.0,
+                background: 800.0,
+                z_asimov: 3.875,
+                z_median: None,
+                z_band: None,
+                probability: vec![
+                    TargetProbability {
+                        target: 3.0,
+                        toys: None,
+                        asimov: 0.8125,
+                    },
+                    TargetProbability {
+                        target: 5.0,
+                        toys: None,
+                        asimov: 0.125,
+                    },
+                ],
+                failed_fits: 2,
+            },
+        ],
+        days_to_target: vec![
+            DaysToTarget {
+                target: 3.0,
+                asimov_days: Some(41.5),
+                median_days: Some(44.0),
+                p50_days: Some(44.25),
+                p90_days: Some(98.0),
+                limit_z: Some(4.5),
+            },
+            DaysToTarget {
+                target: 5.0,
+                asimov_days: None,
+                median_days: None,
+                p50_days: None,
+                p90_days: None,
+                limit_z: Some(4.5),
+            },
+        ],
+    }
+}
+
+/// Invented search: 2 signal and 10 background events per live day, 80% of
+/// calendar days live, background known to `relative_uncertainty`.
+struct InventedSearch {
+    relative_uncertainty: f64,
+}
+
+impl InventedSearch {
+    const SIGNAL_PER_LIVE_DAY: f64 = 2.0;
+    const BACKGROUND_PER_LIVE_DAY: f64 = 10.0;
+    const LIVE_FRACTION: f64 = 0.8;
+
+    /// Z_A with background uncertainty σ_b (Cowan et al., EPJC 71 (2011) 1554;
+    /// G. Cowan, "Discovery sensitivity for a counting experiment with
+    /// background uncertainty", 2012).
+    fn z_asimov(&self, days: f64) -> f64 {
+        let live_days = days * Self::LIVE_FRACTION;
+        let s = Self::SIGNAL_PER_LIVE_DAY * live_days;
+        let b = Self::BACKGROUND_PER_LIVE_DAY * live_days;
+        let variance = (self.relative_uncertainty * b).powi(2);
+        let first = (s + b) * ((s + b) * (b + variance) / (b * b + (s + b) * variance)).ln();
+        let second = b * b / variance * (1.0 + variance * s / (b * (b + variance))).ln();
+        (2.0 * (first - second)).sqrt()
+    }
+
+    /// s / (δ b): where Z_A saturates as exposure grows (common practice).
+    fn limit_z(&self) -> f64 {
+        Self::SIGNAL_PER_LIVE_DAY / (self.relative_uncertainty * Self::BACKGROUND_PER_LIVE_DAY)
+    }
+
+    /// Calendar days where `z(days)` reaches `target` within `[1, 1000]`, by bisection.
+    fn days_to(z: impl Fn(f64) -> f64, target: f64) -> Option<f64> {
+        let (mut low, mut high) = (1.0_f64, 1000.0_f64);
+        if z(high) < target {
+            return None;
+        }
+        for _ in 0..60 {
+            let middle = (low * high).sqrt();
+            if z(middle) < target {
+                low = middle;
+            } else {
+                high = middle;
+            }
+        }
+        Some(high)
+    }
+
+    /// 31 log-spaced calendar days from 1 to 1000.
+    fn grid() -> impl Iterator<Item = f64> {
+        (0..=30).map(|step| 10f64.powf(f64::from(step) / 10.0))
+    }
+
+    /// A point whose invented toy median sits 2% below Z_A with a slightly
+    /// skewed band; with `toys` false it is Asimov-only.
+    fn point(&self, days: f64, targets: &[f64], toys: bool) -> ExposurePoint {
+        let live_days = days * Self::LIVE_FRACTION;
+        let z_asimov = self.z_asimov(days);
+        let z_median = 0.98 * z_asimov;
+        let probability = targets
+            .iter()
+            .map(|&target| TargetProbability {
+                target,
+                toys: toys.then(|| normal_cdf(z_median - target)),
+                asimov: normal_cdf(z_asimov - target),
+            })
+            .collect();
+        ExposurePoint {
+            days,
+            live_days,
+            signal: Self::SIGNAL_PER_LIVE_DAY * live_days,
+            background: Self::BACKGROUND_PER_LIVE_DAY * live_days,
+            z_asimov,
+            z_median: toys.then_some(z_median),
+            z_band: toys.then(|| {
+                [
+                    (z_median - 1.9).max(0.0),
+                    (z_median - 0.95).max(0.0),
+                    z_median + 1.05,
+                    z_median + 2.1,
+                ]
+            }),
+            probability,
+            failed_fits: if toys && days < 2.0 { 3 } else { 0 },
+        }
+    }
+
+    fn projection(&self, title: &str, toys: usize) -> Projection {
+        let targets = vec![3.0, 5.0];
+        let with_toys = toys > 0;
+        let limit_z = (self.relative_uncertainty > 0.0).then(|| self.limit_z());
+        let days_to_target = targets
+            .iter()
+            .map(|&target| {
+                let asimov_days = Self::days_to(|days| self.z_asimov(days), target);
+                let median_days = Self::days_to(|days| 0.98 * self.z_asimov(days), target);
+                DaysToTarget {
+                    target,
+                    asimov_days,
+                    median_days: median_days.filter(|_| with_toys),
+                    p50_days: median_days.filter(|_| with_toys),
+                    p90_days: Self::days_to(|days| 0.98 * self.z_asimov(days) - 1.2816, target)
+                        .filter(|_| with_toys),
+                    limit_z,
+                }
+            })
+            .collect();
+        Projection {
+            title: title.to_string(),
+            seed: 20240611,
+            toys,
+            points: Self::grid()
+                .map(|days| self.point(days, &targets, with_toys))
+                .collect(),
+            targets,
+            days_to_target,
+        }
+    }
+}
+
+/// Φ(x) = erfc(-x/√2)/2.
+fn normal_cdf(x: f64) -> f64 {
+    0.5 * erfc(-x / std::f64::consts::SQRT_2)
+}
+
+/// 2000 invented toys per point, 2% background uncertainty (Z saturates at 10σ).
+pub(crate) fn with_toys() -> Projection {
+    InventedSearch {
+        relative_uncertainty: 0.02,
+    }
+    .projection(
+        "Invented search: 2 signal, 10 background events per live day",
+        2000,
+    )
+}
+
+/// Asimov-only, 5% background uncertainty: Z saturates at 4σ, 5σ is never reached.
+pub(crate) fn asimov_only() -> Projection {
+    InventedSearch {
+        relative_uncertainty: 0.05,
+    }
+    .projection("Invented search, Asimov only, 5% background uncertainty", 0)
+}

@@ -1,0 +1,73 @@
+//! `projection.json`: the whole projection, pretty-printed.
+//!
+//! Keys are the field names of [`Projection`]; `None` is written as null.
+//! The projection has been checked for non-finite numbers before this runs,
+//! so every null in the file means "no value", never NaN.
+
+use super::{PROJECTION_JSON, ReportError};
+use crate::projection::Projection;
+
+/// Pretty-printed JSON of the projection, ending with a newline.
+pub(super) fn render(projection: &Projection) -> Result<Vec<u8>, ReportError> {
+    let mut bytes = serde_json::to_vec_pretty(projection).map_err(|error| ReportError::Render {
+        file: PROJECTION_JSON,
+        message: error.to_string(),
+    })?;
+    bytes.push(b'\n');
+    Ok(bytes)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::report::example;
+    use serde_json::{Value, json};
+
+    fn parsed(projection: &Projection) -> Value {
+        serde_json::from_slice(&render(projection).unwrap()).unwrap()
+    }
+
+    #[test]
+    fn keys_and_nulls_follow_the_schema() {
+        let expected = json!({
+            "title": "Invented counting search",
+            "seed": 7,
+            "toys": 200,
+            "targets": [3.0, 5.0],
+            "points": [
+                {
+                    "days": 10.0, "live_days": 8.0, "signal": 16.0, "background": 80.0,
+                    "z_asimov": 1.75, "z_median": 1.625, "z_band": [0.125, 0.75, 2.5, 3.5],
+                    "probability": [
+                        {"target": 3.0, "toys": 0.105, "asimov": 0.0885},
+                        {"target": 5.0, "toys": 0.0, "asimov": 0.0005}
+                    ],
+                    "failed_fits": 0
+                },
+                {
+                    "days": 100.0, "live_days": 80.0, "signal": 160.0, "background": 800.0,
+                    "z_asimov": 3.875, "z_median": null, "z_band": null,
+                    "probability": [
+                        {"target": 3.0, "toys": null, "asimov": 0.8125},
+                        {"target": 5.0, "toys": null, "asimov": 0.125}
+                    ],
+                    "failed_fits": 2
+                }
+            ],
+            "days_to_target": [
+                {"target": 3.0, "asimov_days": 41.5, "median_days": 44.0,
+                 "p50_days": 44.25, "p90_days": 98.0, "limit_z": 4.5},
+                {"target": 5.0, "asimov_days": null, "median_days": null,
+                 "p50_days": null, "p90_days": null, "limit_z": 4.5}
+            ]
+        });
+        assert_eq!(parsed(&example::tiny()), expected);
+    }
+
+    #[test]
+    fn output_is_pretty_and_ends_with_a_newline() {
+        let text = String::from_utf8(render(&example::tiny()).unwrap()).unwrap();
+        assert!(text.starts_with("{\n  \"title\": \"Invented counting search\",\n"));
+        assert!(text.ends_with("}\n"));
+    }
+}

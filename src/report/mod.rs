@@ -1,0 +1,141 @@
+//! Report: a projection turned into files a person reads.
+//!
+//! One file per format, each turning a [`Projection`] into bytes and nothing
+//! else: `svg_projection.rs` (significance against days), `svg_probability.rs`
+//! (probability of reaching each target), `csv.rs`, `json.rs`, and
+//! `summary.rs` for the terminal. [`render_all`] renders every file in memory;
+//! [`write_all`] alone touches the disk, so a rendering error leaves nothing
+//! written.
+
+mod check;
+mod csv;
+mod error;
+mod json;
+mod plot;
+mod summary;
+mod svg_probability;
+mod svg_projection;
+mod writer;
+
+pub use error::ReportError;
+pub use summary::summary;
+pub use writer::write_all;
+
+use crate::projection::Projection;
+
+/// One rendered report file: its name inside the output directory and its bytes.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Report {
+    /// File name, without directory.
+    pub name: &'static str,
+    pub bytes: Vec<u8>,
+}
+
+/// File name of the significance-against-days plot.
+pub const PROJECTION_SVG: &str = "projection.svg";
+/// File name of the probability-of-reaching-each-target plot.
+pub const PROBABILITY_SVG: &str = "probability.svg";
+/// File name of the per-exposure table.
+pub const PROJECTION_CSV: &str = "projection.csv";
+/// File name of the whole projection as JSON.
+pub const PROJECTION_JSON: &str = "projection.json";
+
+/// Renders every report file in memory, in a fixed order:
+/// `projection.svg`, `probability.svg`, `projection.csv`, `projection.json`.
+///
+/// The projection is checked first (finite numbers, increasing days above
+/// zero, one probability per target in the order of `targets`), so no
+/// renderer sees a value it cannot show. The same projection always gives
+/// byte-identical files.
+pub fn render_all(projection: &Projection) -> Result<Vec<Report>, ReportError> {
+    check::check_projection(projection)?;
+    Ok(vec![
+        Report {
+            name: PROJECTION_SVG,
+            bytes: svg_projection::render(projection)?,
+        },
+        Report {
+            name: PROBABILITY_SVG,
+            bytes: svg_probability::render(projection)?,
+        },
+        Report {
+            name: PROJECTION_CSV,
+            bytes: csv::render(projection)?,
+        },
+        Report {
+            name: PROJECTION_JSON,
+            bytes: json::render(projection)?,
+        },
+    ])
+}
+
+/// A target significance as people write it: `3σ`, `2.5σ`.
+fn target_label(target: f64) -> String {
+    format!("{target}σ")
+}
+
+/// Calendar days, rounded up so the value is reached by then: to a tenth of a
+/// day below 10 days ("3.1 d"), to whole days from there on ("142 d").
+fn days_label(days: f64) -> String {
+    let tenths = (days * 10.0).ceil() / 10.0;
+    if tenths < 10.0 {
+        format!("{tenths:.1} d")
+    } else {
+        format!("{} d", days.ceil())
+    }
+}
+
+#[cfg(test)]
+pub(crate) mod example;
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn renders_the_four_files_in_order() {
+        let reports = render_all(&example::with_toys()).unwrap();
+        let names: Vec<&str> = reports.iter().map(|report| report.name).collect();
+        assert_eq!(
+            names,
+            [
+                PROJECTION_SVG,
+                PROBABILITY_SVG,
+                PROJECTION_CSV,
+                PROJECTION_JSON
+            ]
+        );
+        assert!(reports.iter().all(|report| !report.bytes.is_empty()));
+    }
+
+    #[test]
+    fn rendering_twice_gives_identical_bytes() {
+        for projection in [example::with_toys(), example::asimov_only()] {
+            let first = render_all(&projection).unwrap();
+            let second = render_all(&projection).unwrap();
+            assert_eq!(first, second);
+        }
+    }
+
+    #[test]
+    fn a_nan_is_refused_before_anything_is_rendered() {
+        let mut projection = example::with_toys();
+        projection.points[1].z_median = Some(f64::NAN);
+        let error = render_all(&projection).unwrap_err();
+        assert_eq!(
+            error.to_string(),
+            "cannot report the projection: points[1].z_median is NaN, expected a finite number"
+        );
+    }
+
+    #[test]
+    fn days_are_rounded_up() {
+        assert_eq!(days_label(141.2), "142 d");
+        assert_eq!(days_label(142.0), "142 d");
+        assert_eq!(days_label(3.04), "3.1 d");
+        assert_eq!(days_label(0.25), "0.3 d");
+        assert_eq!(days_label(9.99), "10 d");
+        assert_eq!(target_label(3.0), "3σ");
+        assert_eq!(target_label(2.5), "2.5σ");
+    }
+}

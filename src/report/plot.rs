@@ -1,0 +1,319 @@
+//! What both SVG plots share: the palette, the canvas, the logarithmic axis of
+//! calendar days, and text placed by hand in the margins.
+//!
+//! Text is written as SVG `<text>` elements (no font is embedded); plotters
+//! estimates label extents from the font size alone, so the layout leaves
+//! generous room around every label.
+
+use super::ReportError;
+use crate::projection::ExposurePoint;
+use plotters::coord::Shift;
+use plotters::coord::combinators::WithKeyPoints;
+use plotters::coord::types::RangedCoordf64;
+use plotters::element::DashedPathElement;
+use plotters::prelude::*;
+use plotters::style::text_anchor::{HPos, Pos, VPos};
+use std::ops::Range;
+
+/// Canvas size in pixels.
+const SIZE: (u32, u32) = (900, 600);
+
+/// Font family of every text; the viewer picks its own sans-serif face.
+const FONT: &str = "sans-serif";
+
+/// Toy median: deep ink teal.
+pub(super) const INK_TEAL: RGBColor = RGBColor(0x0b, 0x4f, 0x6c);
+/// Asimov curve: warm vermilion.
+pub(super) const VERMILION: RGBColor = RGBColor(0xd9, 0x4f, 0x2b);
+/// Central band (about ±1σ of the toys): soft lavender.
+pub(super) const LAVENDER: RGBColor = RGBColor(0xb9, 0xb3, 0xdc);
+/// Outer band (about ±2σ of the toys): pale lavender-grey.
+pub(super) const PALE_LAVENDER: RGBColor = RGBColor(0xe6, 0xe3, 0xf3);
+/// Reference lines (targets, probability levels): slate grey.
+pub(super) const SLATE: RGBColor = RGBColor(0x5f, 0x6b, 0x7a);
+/// Axis labels, titles and footnotes: near-black ink.
+pub(super) const INK: RGBColor = RGBColor(0x22, 0x26, 0x2e);
+/// One colour per target in the probability plot, cycled past the sixth.
+pub(super) const TARGET_COLOURS: [RGBColor; 6] = [
+    INK_TEAL,
+    VERMILION,
+    RGBColor(0x6a, 0x3d, 0x9a), // violet
+    RGBColor(0xa8, 0x32, 0x6e), // plum
+    RGBColor(0x3a, 0x6e, 0xa5), // cornflower slate
+    RGBColor(0x8c, 0x5a, 0x2b), // umber
+];
+const MAJOR_GRID: RGBColor = RGBColor(0xd5, 0xd9, 0xe0);
+const MINOR_GRID: RGBColor = RGBColor(0xee, 0xf0, 0xf3);
+
+/// Pixel lengths of a dash and of the gap after it, for asymptotic curves.
+pub(super) const DASH: (u32, u32) = (9, 5);
+/// Pixel lengths for reference lines.
+const DOT: (u32, u32) = (3, 4);
+
+pub(super) type Canvas<'a> = DrawingArea<SVGBackend<'a>, Shift>;
+pub(super) type DrawError = DrawingAreaErrorKind<std::io::Error>;
+/// A chart with calendar days on a logarithmic x axis and a linear y axis.
+pub(super) type DayChart<'a, 'b> =
+    ChartContext<'a, SVGBackend<'b>, Cartesian2d<WithKeyPoints<LogCoord<f64>>, RangedCoordf64>>;
+
+/// Draws on a white canvas and returns the SVG document as bytes; drawing
+/// errors are reported against `file`.
+pub(super) fn svg_bytes(
+    file: &'static str,
+    draw: impl FnOnce(&Canvas) -> Result<(), DrawError>,
+) -> Result<Vec<u8>, ReportError> {
+    let mut svg = String::new();
+    {
+        let canvas = SVGBackend::with_string(&mut svg, SIZE).into_drawing_area();
+        canvas
+            .fill(&WHITE)
+            .and_then(|()| draw(&canvas))
+            .and_then(|()| canvas.present())
+            .map_err(|error| ReportError::Render {
+                file,
+                message: error.to_string(),
+            })?;
+    }
+    svg.push('\n');
+    Ok(svg.into_bytes())
+}
+
+/// What the y axis shows.
+pub(super) struct ValueAxis<'f> {
+    pub range: Range<f64>,
+    pub description: &'f str,
+    pub format: &'f dyn Fn(&f64) -> String,
+}
+
+/// Builds a titled chart over `days` (log scale, ticks at 1-2-5 or at powers
+/// of ten) and draws its grid and axes. `footnote` leaves room below the x
+/// axis for one line of text.
+pub(super) fn day_chart<'a, 'b>(
+    canvas: &'a Canvas<'b>,
+    title: &str,
+    days: Range<f64>,
+    value_axis: &ValueAxis,
+    footnote: bool,
+) -> Result<DayChart<'a, 'b>, DrawError> {
+    let (major, minor) = day_ticks(days.start, days.end);
+    let x_axis = days
+        .log_scale()
+        .with_key_points(major)
+        .with_light_points(minor);
+    let mut chart = ChartBuilder::on(canvas)
+        .caption(title, text_style(26))
+        .margin_top(14)
+        .margin_left(14)
+        .margin_right(64)
+        .margin_bottom(if footnote { 34 } else { 14 })
+        .x_label_area_size(52)
+        .y_label_area_size(64)
+        .build_cartesian_2d(x_axis, value_axis.range.clone())?;
+    chart
+        .configure_mesh()
+        .x_desc("Calendar days")
+        .y_desc(value_axis.description)
+        .x_label_formatter(&|days| tick_label(*days))
+        .y_label_formatter(value_axis.format)
+        .y_labels(12)
+        .axis_desc_style(text_style(19))
+        .label_style(text_style(16))
+        .axis_style(INK)
+        .bold_line_style(MAJOR_GRID)
+        .light_line_style(MINOR_GRID)
+        .y_max_light_lines(1)
+        .draw()?;
+    Ok(chart)
+}
+
+/// How a curve is stroked: solid for pseudo-experiments, dashed for
+/// asymptotic (Asimov) results, in both plots.
+#[derive(Debug, Clone, Copy)]
+pub(super) enum Stroke {
+    Solid,
+    Dashed,
+}
+
+/// A curve through `points`, with its legend entry.
+pub(super) fn draw_curve<'a, 'b: 'a>(
+    chart: &mut DayChart<'a, 'b>,
+    points: Vec<(f64, f64)>,
+    colour: RGBColor,
+    stroke: Stroke,
+    label: String,
+) -> Result<(), DrawError> {
+    const SAMPLE: i32 = 24;
+    match stroke {
+        Stroke::Solid => {
+            let style = colour.stroke_width(3);
+            chart
+                .draw_series(LineSeries::new(points, style))?
+                .label(label)
+                .legend(move |(x, y)| PathElement::new([(x, y), (x + SAMPLE, y)], style));
+        }
+        Stroke::Dashed => {
+            let style = colour.stroke_width(2);
+            let (dash, gap) = DASH;
+            chart
+                .draw_series(DashedLineSeries::new(points, dash, gap, style))?
+                .label(label)
+                .legend(move |(x, y)| {
+                    DashedPathElement::new([(x, y), (x + SAMPLE, y)], dash, gap, style)
+                });
+        }
+    }
+    Ok(())
+}
+
+/// The legend, in the upper left corner of the plot, where curves rising
+/// with exposure leave room.
+pub(super) fn draw_legend<'a, 'b: 'a>(chart: &mut DayChart<'a, 'b>) -> Result<(), DrawError> {
+    chart
+        .configure_series_labels()
+        .position(SeriesLabelPosition::UpperLeft)
+        .margin(12)
+        .background_style(WHITE.mix(0.92))
+        .border_style(MAJOR_GRID)
+        .label_font(text_style(16))
+        .draw()
+}
+
+/// A dotted horizontal line across the plot at `value`, labelled in the right
+/// margin.
+pub(super) fn reference_line(
+    chart: &mut DayChart,
+    canvas: &Canvas,
+    value: f64,
+    label: &str,
+) -> Result<(), DrawError> {
+    let (x, y) = horizontal_line(chart, value, SLATE, DOT)?;
+    draw_text(
+        canvas,
+        label,
+        (x + 8, y),
+        SLATE,
+        17,
+        (HPos::Left, VPos::Center),
+    )
+}
+
+/// A thin dashed horizontal line across the plot at `value`; returns the
+/// pixel position of its right end.
+pub(super) fn horizontal_line(
+    chart: &mut DayChart,
+    value: f64,
+    colour: RGBColor,
+    (dash, gap): (u32, u32),
+) -> Result<(i32, i32), DrawError> {
+    let days = chart.x_range();
+    chart.draw_series(DashedLineSeries::new(
+        [(days.start, value), (days.end, value)],
+        dash,
+        gap,
+        colour.stroke_width(1),
+    ))?;
+    Ok(chart.backend_coord(&(days.end, value)))
+}
+
+/// A line of text at pixel `position`, anchored by `(horizontal, vertical)`.
+pub(super) fn draw_text(
+    canvas: &Canvas,
+    text: &str,
+    position: (i32, i32),
+    colour: RGBColor,
+    size: u32,
+    (horizontal, vertical): (HPos, VPos),
+) -> Result<(), DrawError> {
+    let style = text_style(size)
+        .color(&colour)
+        .pos(Pos::new(horizontal, vertical));
+    canvas.draw(&Text::new(text.to_string(), position, style))
+}
+
+/// A footnote at the bottom left of the canvas.
+pub(super) fn draw_footnote(canvas: &Canvas, text: &str) -> Result<(), DrawError> {
+    let (_, height) = canvas.dim_in_pixel();
+    let bottom = i32::try_from(height).unwrap_or(i32::MAX) - 10;
+    draw_text(
+        canvas,
+        text,
+        (14, bottom),
+        SLATE,
+        15,
+        (HPos::Left, VPos::Bottom),
+    )
+}
+
+pub(super) fn text_style(size: u32) -> TextStyle<'static> {
+    TextStyle::from((FONT, size).into_font()).color(&INK)
+}
+
+/// The day range of the x axis: the grid itself, or a factor of two either
+/// side of a single point. `points` is not empty (checked before rendering).
+pub(super) fn day_range(points: &[ExposurePoint]) -> Range<f64> {
+    let (first, last) = (points[0].days, points[points.len() - 1].days);
+    if last > first {
+        first..last
+    } else {
+        first / 2.0..first * 2.0
+    }
+}
+
+/// Labelled ticks at 1, 2, 5 times powers of ten when the range spans at most
+/// three decades and at powers of ten beyond that; light grid lines at every
+/// integer multiple of a power of ten.
+fn day_ticks(low: f64, high: f64) -> (Vec<f64>, Vec<f64>) {
+    let first_decade = low.log10().floor() as i32;
+    let last_decade = high.log10().ceil() as i32;
+    let multipliers: &[u32] = if high / low <= 1e3 { &[1, 2, 5] } else { &[1] };
+    let in_range = |value: &f64| (low * (1.0 - 1e-9)..=high * (1.0 + 1e-9)).contains(value);
+    let ticks = |multipliers: &[u32]| -> Vec<f64> {
+        (first_decade..=last_decade)
+            .flat_map(|decade| {
+                multipliers
+                    .iter()
+                    .map(move |&multiplier| scaled(multiplier, decade))
+            })
+            .filter(in_range)
+            .collect()
+    };
+    (ticks(multipliers), ticks(&[1, 2, 3, 4, 5, 6, 7, 8, 9]))
+}
+
+/// `multiplier × 10^decade`, dividing for negative decades so that 2e-1 is
+/// the double nearest 0.2 and prints as such.
+fn scaled(multiplier: u32, decade: i32) -> f64 {
+    let power = 10f64.powi(decade.abs());
+    if decade < 0 {
+        f64::from(multiplier) / power
+    } else {
+        f64::from(multiplier) * power
+    }
+}
+
+fn tick_label(days: f64) -> String {
+    days.to_string()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_thousand_days_get_one_two_five_ticks() {
+        let (major, minor) = day_ticks(1.0, 1000.0);
+        assert_eq!(
+            major,
+            [1.0, 2.0, 5.0, 10.0, 20.0, 50.0, 100.0, 200.0, 500.0, 1000.0]
+        );
+        assert_eq!(minor.len(), 28);
+    }
+
+    #[test]
+    fn wide_ranges_get_powers_of_ten() {
+        let (major, _) = day_ticks(0.5, 2e4);
+        assert_eq!(major, [1.0, 10.0, 100.0, 1000.0, 10000.0]);
+        let labels: Vec<String> = day_ticks(0.1, 30.0).0.into_iter().map(tick_label).collect();
+        assert_eq!(labels, ["0.1", "0.2", "0.5", "1", "2", "5", "10", "20"]);
+    }
+}

@@ -1,0 +1,81 @@
+//! `probability.svg`: the probability P(Z ≥ target) of reaching each target
+//! against calendar days. One colour per target; solid for the fraction of
+//! pseudo-experiments, dashed for the asymptotic Φ(Z_A − target) (Cowan et
+//! al., EPJC 71 (2011) 1554). Dotted lines mark the 50% and 90% levels that
+//! the summary reports.
+
+use super::plot::{self, Canvas, DrawError, Stroke, TARGET_COLOURS, ValueAxis};
+use super::{PROBABILITY_SVG, ReportError, target_label};
+use crate::projection::Projection;
+
+/// The probability plot as SVG bytes.
+pub(super) fn render(projection: &Projection) -> Result<Vec<u8>, ReportError> {
+    plot::svg_bytes(PROBABILITY_SVG, |canvas| draw(canvas, projection))
+}
+
+fn draw(canvas: &Canvas, projection: &Projection) -> Result<(), DrawError> {
+    let points = &projection.points;
+    let value_axis = ValueAxis {
+        range: 0.0..1.0,
+        description: "Probability P(Z ≥ target)",
+        format: &|probability| format!("{probability:.1}"),
+    };
+    let mut chart = plot::day_chart(
+        canvas,
+        &projection.title,
+        plot::day_range(points),
+        &value_axis,
+        false,
+    )?;
+    for (level, label) in [(0.5, "50%"), (0.9, "90%")] {
+        plot::reference_line(&mut chart, canvas, level, label)?;
+    }
+    for (slot, &target) in projection.targets.iter().enumerate() {
+        let colour = TARGET_COLOURS[slot % TARGET_COLOURS.len()];
+        let label = target_label(target);
+        // Probabilities follow the order of the targets (checked before rendering).
+        let toys: Vec<(f64, f64)> = points
+            .iter()
+            .filter_map(|point| Some((point.days, point.probability[slot].toys?)))
+            .collect();
+        if toys.len() > 1 {
+            let label = format!("{label}, pseudo-experiments");
+            plot::draw_curve(&mut chart, toys, colour, Stroke::Solid, label)?;
+        }
+        let asymptotic = points
+            .iter()
+            .map(|point| (point.days, point.probability[slot].asimov))
+            .collect();
+        let label = format!("{label}, asymptotic");
+        plot::draw_curve(&mut chart, asymptotic, colour, Stroke::Dashed, label)?;
+    }
+    plot::draw_legend(&mut chart)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::report::example;
+
+    #[test]
+    fn one_solid_and_one_dashed_curve_per_target() {
+        let text = String::from_utf8(render(&example::with_toys()).unwrap()).unwrap();
+        for expected in [
+            "3σ, pseudo-experiments",
+            "3σ, asymptotic",
+            "5σ, pseudo-experiments",
+            "5σ, asymptotic",
+            "Probability P(Z ≥ target)",
+            "\n90%\n</text>",
+        ] {
+            assert!(text.contains(expected), "missing {expected:?}");
+        }
+    }
+
+    #[test]
+    fn asimov_only_has_no_toy_curves() {
+        let text = String::from_utf8(render(&example::asimov_only()).unwrap()).unwrap();
+        assert!(text.contains("5σ, asymptotic"));
+        assert!(!text.contains("pseudo-experiments"));
+    }
+}

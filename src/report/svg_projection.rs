@@ -1,0 +1,285 @@
+//! `projection.svg`: expected significance against calendar days.
+//!
+//! With pseudo-experiments: the central 68.3% and 95.4% bands of the toy
+//! significances (quantiles 15.9–84.1% and 2.3–97.7%), their median, and the
+//! Asimov curve dashed. Asimov-only: the Asimov curve with asymptotic bands
+//! Z_A ± 1 and Z_A ± 2 floored at 0, since √q0 is approximately normal with
+//! unit width about Z_A and q0 is set to 0 when the fitted signal is negative
+//! (Cowan et al., EPJC 71 (2011) 1554). Each target is a horizontal line,
+//! with a marker and a label where each curve reaches it.
+
+use super::plot::{
+    self, Canvas, DASH, DayChart, DrawError, INK_TEAL, LAVENDER, PALE_LAVENDER, Stroke, VERMILION,
+    ValueAxis,
+};
+use super::{PROJECTION_SVG, ReportError, days_label, target_label};
+use crate::projection::Projection;
+use plotters::prelude::*;
+use plotters::style::text_anchor::{HPos, VPos};
+
+/// Font size of the labels drawn inside the plot.
+const LABEL_SIZE: u32 = 16;
+
+/// Significance quantiles at one day: 2.3%, 15.9%, 84.1%, 97.7%.
+type BandPoint = (f64, [f64; 4]);
+
+/// The significance plot as SVG bytes.
+pub(super) fn render(projection: &Projection) -> Result<Vec<u8>, ReportError> {
+    plot::svg_bytes(PROJECTION_SVG, |canvas| draw(canvas, projection))
+}
+
+fn draw(canvas: &Canvas, projection: &Projection) -> Result<(), DrawError> {
+    let points = &projection.points;
+    let with_toys = projection.toys > 0;
+    let band = if with_toys {
+        toy_band(projection)
+    } else {
+        asymptotic_band(projection)
+    };
+    let footnote = footnote(projection);
+    let ceiling = significance_ceiling(projection, &band);
+    let value_axis = ValueAxis {
+        range: 0.0..ceiling,
+        description: "Expected significance Z [σ]",
+        // Key points such as 0.6000000000000001 print as 0.6.
+        format: &|z| format!("{}", (z * 100.0).round() / 100.0),
+    };
+    let mut chart = plot::day_chart(
+        canvas,
+        &projection.title,
+        plot::day_range(points),
+        &value_axis,
+        footnote.is_some(),
+    )?;
+    draw_band(&mut chart, &band, with_toys)?;
+    for &target in &projection.targets {
+        plot::reference_line(&mut chart, canvas, target, &target_label(target))?;
+    }
+    let median: Vec<(f64, f64)> = points
+        .iter()
+        .filter_map(|point| Some((point.days, point.z_median?)))
+        .collect();
+    if median.len() > 1 {
+        let label = format!("Toy median ({} per point)", projection.toys);
+        plot::draw_curve(&mut chart, median, INK_TEAL, Stroke::Solid, label)?;
+    }
+    let asimov = points.iter().map(|point| (point.days, point.z_asimov));
+    let label = "Asimov Z_A".to_string();
+    plot::draw_curve(
+        &mut chart,
+        asimov.collect(),
+        VERMILION,
+        Stroke::Dashed,
+        label,
+    )?;
+    draw_saturation(&mut chart, canvas, projection, ceiling)?;
+    draw_days_to_target(&mut chart, canvas, projection)?;
+    plot::draw_legend(&mut chart)?;
+    match footnote {
+        Some(text) => plot::draw_footnote(canvas, &text),
+        None => Ok(()),
+    }
+}
+
+/// The toy quantiles where present.
+fn toy_band(projection: &Projection) -> Vec<BandPoint> {
+    projection
+        .points
+        .iter()
+        .filter_map(|point| Some((point.days, point.z_band?)))
+        .collect()
+}
+
+/// Z_A ± 1 and Z_A ± 2, floored at 0.
+fn asymptotic_band(projection: &Projection) -> Vec<BandPoint> {
+    projection
+        .points
+        .iter()
+        .map(|point| {
+            let z = point.z_asimov;
+            (
+                point.days,
+                [-2.0, -1.0, 1.0, 2.0].map(|shift| (z + shift).max(0.0)),
+            )
+        })
+        .collect()
+}
+
+/// Top of the y axis: 10% above the highest curve or target, rounded up to a
+/// whole σ.
+fn significance_ceiling(projection: &Projection, band: &[BandPoint]) -> f64 {
+    let highest = projection
+        .points
+        .iter()
+        .map(|point| point.z_asimov)
+        .chain(band.iter().map(|(_, quantiles)| quantiles[3]))
+        .chain(projection.targets.iter().copied())
+        .fold(1.0, f64::max);
+    (1.1 * highest).ceil()
+}
+
+/// The outer band, then the inner one over it, each a closed polygon; nothing
+/// when fewer than two days carry quantiles.
+fn draw_band(chart: &mut DayChart, band: &[BandPoint], with_toys: bool) -> Result<(), DrawError> {
+    if band.len() < 2 {
+        return Ok(());
+    }
+    let (outer, inner) = if with_toys {
+        ("Toys, central 95.4%", "Toys, central 68.3%")
+    } else {
+        ("Z_A ± 2 (asymptotic)", "Z_A ± 1 (asymptotic)")
+    };
+    for (lower, upper, colour, label) in [(0, 3, PALE_LAVENDER, outer), (1, 2, LAVENDER, inner)] {
+        let outline: Vec<(f64, f64)> = band
+            .iter()
+            .map(|(days, quantiles)| (*days, quantiles[upper]))
+            .chain(
+                band.iter()
+                    .rev()
+                    .map(|(days, quantiles)| (*days, quantiles[lower])),
+            )
+            .collect();
+        chart
+            .draw_series(std::iter::once(Polygon::new(outline, colour.filled())))?
+            .label(label)
+            .legend(move |(x, y)| Rectangle::new([(x, y - 6), (x + 24, y + 6)], colour.filled()));
+    }
+    Ok(())
+}
+
+/// Markers where the toy median and the Asimov curve reach each target, each
+/// labelled "3σ: 42 d" in the curve's colour. Curves rise with exposure, so
+/// the labels go above the target line and left of their marker, the median's
+/// one row above the Asimov one; a label that would leave the plot on the
+/// left goes right of its marker instead.
+fn draw_days_to_target(
+    chart: &mut DayChart,
+    canvas: &Canvas,
+    projection: &Projection,
+) -> Result<(), DrawError> {
+    const GAP: i32 = 8;
+    const ROW: i32 = 18;
+    let plot_left = chart.plotting_area().get_pixel_range().0.start;
+    for row in &projection.days_to_target {
+        let crossings = [
+            (row.median_days, INK_TEAL, 2 * ROW),
+            (row.asimov_days, VERMILION, ROW),
+        ];
+        for (days, colour, raise) in crossings {
+            let Some(days) = days else { continue };
+            chart.draw_series(std::iter::once(Circle::new(
+                (days, row.target),
+                5,
+                colour.filled(),
+            )))?;
+            let label = format!("{}: {}", target_label(row.target), days_label(days));
+            let (x, y) = chart.backend_coord(&(days, row.target));
+            let (width, _) = canvas.estimate_text_size(&label, &plot::text_style(LABEL_SIZE))?;
+            let width = i32::try_from(width).unwrap_or(i32::MAX);
+            let (horizontal, left) = if x - GAP - width >= plot_left {
+                (HPos::Right, x - GAP)
+            } else {
+                (HPos::Left, x + GAP)
+            };
+            plot::draw_text(
+                canvas,
+                &label,
+                (left, y - raise),
+                colour,
+                LABEL_SIZE,
+                (horizontal, VPos::Top),
+            )?;
+        }
+    }
+    Ok(())
+}
+
+/// When systematic uncertainties cap Z_A within the plotted range, a line at
+/// that limit, labelled inside the plot at its right end.
+fn draw_saturation(
+    chart: &mut DayChart,
+    canvas: &Canvas,
+    projection: &Projection,
+    ceiling: f64,
+) -> Result<(), DrawError> {
+    let limit = projection
+        .days_to_target
+        .iter()
+        .find_map(|row| row.limit_z)
+        .filter(|&limit| limit < ceiling);
+    let Some(limit) = limit else { return Ok(()) };
+    let (x, y) = plot::horizontal_line(chart, limit, VERMILION, DASH)?;
+    plot::draw_text(
+        canvas,
+        &format!("Z_A limit {limit:.2}σ"),
+        (x - 6, y - 4),
+        VERMILION,
+        LABEL_SIZE,
+        (HPos::Right, VPos::Bottom),
+    )
+}
+
+/// Footnote text: failed fits when any, or how Asimov-only bands are made.
+fn footnote(projection: &Projection) -> Option<String> {
+    if projection.toys == 0 {
+        return Some(
+            "Asimov only: bands are Z_A ± 1 and Z_A ± 2, floored at 0 (asymptotic).".to_string(),
+        );
+    }
+    let failed: usize = projection
+        .points
+        .iter()
+        .map(|point| point.failed_fits)
+        .sum();
+    (failed > 0).then(|| {
+        format!(
+            "Failed fits: {failed} of {} pseudo-experiments, excluded from the median and bands.",
+            projection.toys * projection.points.len()
+        )
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::report::example;
+
+    fn svg(projection: &Projection) -> String {
+        String::from_utf8(render(projection).unwrap()).unwrap()
+    }
+
+    #[test]
+    fn toy_plot_has_its_labels_and_no_random_ids() {
+        let text = svg(&example::with_toys());
+        for expected in [
+            "Calendar days",
+            "Expected significance Z [σ]",
+            "Toy median (2000 per point)",
+            "Toys, central 68.3%",
+            "Asimov Z_A",
+            "\n3σ\n</text>",
+            "\n5σ\n</text>",
+            "\n3σ: 34 d\n</text>",
+            "\n5σ: 123 d\n</text>",
+            "Z_A limit 10.00σ",
+            "Failed fits: 12 of 62000 pseudo-experiments",
+        ] {
+            assert!(text.contains(expected), "missing {expected:?}");
+        }
+        assert!(!text.contains(" id="));
+    }
+
+    #[test]
+    fn asimov_only_plot_draws_asymptotic_bands() {
+        let text = svg(&example::asimov_only());
+        assert!(text.contains("Z_A ± 1 (asymptotic)"));
+        assert!(!text.contains("Toy median"));
+        assert!(text.contains("Asimov only: bands are Z_A ± 1 and Z_A ± 2"));
+    }
+
+    #[test]
+    fn asymptotic_band_is_floored_at_zero() {
+        let band = asymptotic_band(&example::tiny());
+        assert_eq!(band[0], (10.0, [0.0, 0.75, 2.75, 3.75]));
+    }
+}

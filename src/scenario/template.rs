@@ -1,0 +1,117 @@
+//! The commented scenario written by `runcast new FILE`: a valid starting point
+//! that explains every key, its unit and its default.
+
+/// A complete, valid scenario in which every key is explained by a comment.
+/// Its numbers are invented and the text says so.
+pub const TEMPLATE: &str = r#"# runcast scenario
+#
+# Every number in this file is INVENTED for illustration; replace each one with
+# the numbers of your own search. Lines starting with `#` are comments.
+#
+# Units: rates are expected events per LIVE day (time actually recording data);
+# every `days` value under `schedule` and `plan` counts CALENDAR days from the
+# start of the run. Keys marked "optional" may be deleted; their default is given.
+# Misspelled or unknown keys are rejected, so a typo cannot pass silently.
+
+# Shown in plot titles and in the summary.
+title: Invented example, a peak in a reconstructed energy spectrum
+
+# The binned observable in which signal and backgrounds are told apart.
+#   name, unit  axis labels; `unit` is free text (GeV, keV, ns, ...).
+#   range       [low, high] edges of the fitted range, in `unit`.
+#   bin_width   width of every bin, in `unit`; must cut (high - low) into whole bins.
+#               bin_width = high - low gives a single-bin counting experiment.
+observable: {name: reconstructed energy, unit: keV, range: [100.0, 300.0], bin_width: 1.0}
+
+# The signal searched for, at nominal signal strength (mu = 1).
+signal:
+  # Expected signal events per live day inside the range, after all efficiencies.
+  events_per_day: 1.5
+  # Density in the observable, normalised on the range. One of:
+  #   {gaussian: {mean: M, sigma: S}}               normal peak; M and S in `unit`
+  #   {breit_wigner: {mean: M, width: W}}           Cauchy peak; W = full width at half maximum, in `unit`
+  #   {exponential: {slope: K}}                     density proportional to exp(K x); K in 1/`unit`
+  #   {polynomial: {coefficients: [c0, c1, ...]}}   density proportional to c0 + c1 x + c2 x^2 + ...;
+  #                                                 must not be negative anywhere on the range
+  #   {flat: {}}                                    uniform on the range
+  shape: {gaussian: {mean: 180.0, sigma: 2.5}}
+  # Optional; absent = signal yield known exactly. Relative uncertainty on the yield:
+  # a Gaussian constraint N(1, 0.10) on a factor multiplying it (0.10 = 10 %).
+  yield_uncertainty: 0.10
+
+# One or more background components; each needs a name not used by another.
+backgrounds:
+  - name: smooth continuum
+    # Expected events per live day inside the range.
+    events_per_day: 120
+    # Any of the shapes listed under `signal`.
+    shape: {exponential: {slope: -0.01}}
+    # Optional; absent = normalisation known exactly. A number d puts a Gaussian
+    # constraint N(1, d) on a factor on this normalisation; `free` leaves the factor
+    # unconstrained, fitted from the data alone.
+    norm_uncertainty: free
+    # Optional, default false. true = the shape's parameters (here the slope) are
+    # fitted, unconstrained, in every fit instead of being fixed at the values above.
+    float_shape: true
+  - name: instrumental
+    events_per_day: 15
+    shape: {flat: {}}
+    norm_uncertainty: 0.20
+
+# Optional section; absent = live fraction 1 and nominal rates from the first day.
+schedule:
+  # Optional, default 1. Fraction of calendar time spent recording data, in (0, 1].
+  live_fraction: 0.85
+  # Optional, default none. Consecutive periods at the start of the run during which
+  # ALL rates (signal and backgrounds) are multiplied by rate_scale (0 or more);
+  # `days` is the length of each period in calendar days. Nominal rates after the last.
+  periods:
+    - {days: 14, rate_scale: 0.3}    # e.g. commissioning
+    - {days: 30, rate_scale: 0.7}    # e.g. reduced intensity
+
+# What to project.
+plan:
+  # Calendar days at which the projection is evaluated: `points` days from
+  # `first` (above 0) to `last`, with `spacing` log (even in ratio) or linear.
+  days: {first: 1, last: 365, points: 24, spacing: log}
+  # Pseudo-experiments generated at each day of the grid.
+  toys: 2000
+  # Random seed; the same seed and file give the same pseudo-experiments.
+  seed: 1
+  # Significances to reach, in sigma (one-sided): 3 = evidence, 5 = discovery.
+  targets: [3, 5]
+"#;
+
+#[cfg(test)]
+mod tests {
+    use super::TEMPLATE;
+    use crate::scenario::{NormUncertainty, Scenario, ShapeSpec};
+
+    #[test]
+    fn template_parses_and_validates_without_warnings() {
+        let scenario = Scenario::from_yaml(TEMPLATE).unwrap_or_else(|error| panic!("{error}"));
+        assert!(scenario.warnings().is_empty(), "{:?}", scenario.warnings());
+    }
+
+    #[test]
+    fn template_shows_every_optional_key_and_both_kinds_of_normalisation() {
+        let scenario = Scenario::from_yaml(TEMPLATE).unwrap_or_else(|error| panic!("{error}"));
+        assert!(scenario.signal.yield_uncertainty.is_some());
+        assert!(scenario.backgrounds.iter().any(|b| b.float_shape));
+        let norms: Vec<_> = scenario
+            .backgrounds
+            .iter()
+            .map(|b| b.norm_uncertainty)
+            .collect();
+        assert!(norms.contains(&Some(NormUncertainty::Free)));
+        assert!(norms.contains(&Some(NormUncertainty::Relative(0.20))));
+        assert!(scenario.schedule.live_fraction < 1.0);
+        assert!(!scenario.schedule.periods.is_empty());
+        assert!(matches!(scenario.signal.shape, ShapeSpec::Gaussian { .. }));
+    }
+
+    #[test]
+    fn template_says_its_numbers_are_invented() {
+        assert!(TEMPLATE.contains("INVENTED"));
+    }
+}

@@ -1,0 +1,917 @@
+//! Checks on a parsed scenario: every number finite and in its allowed range,
+//! every name present and unique, every shape a proper density on the range.
+//!
+//! Each rejection names the field by its dotted path, the value found and what
+//! is expected, so that the user can fix the file from the message alone.
+
+use super::{
+    Background, DaysGrid, NormUncertainty, Observable, Plan, Scenario, ScenarioError, Schedule,
+    ShapeSpec, Signal,
+};
+
+/// Largest number of bins accepted: every fit of every pseudo-experiment
+/// touches every bin, so far finer binning only costs time.
+const MAX_BINS: f64 = 100_000.0;
+
+/// Relative tolerance on `(high - low) / bin_width` being a whole number,
+/// allowing for decimal bin widths such as 0.1 that binary floating point cannot hold.
+const BIN_COUNT_TOLERANCE: f64 = 1e-9;
+
+/// Number of evenly spaced points, edges included, at which a polynomial
+/// density is checked for negative values.
+const POLYNOMIAL_SAMPLES: usize = 2001;
+
+/// Relative size of rounding error allowed when a polynomial touches zero
+/// (for example `(x - a)^2` written out in coefficients).
+const POLYNOMIAL_ROUNDING: f64 = 1e-12;
+
+type Checked<T = ()> = Result<T, ScenarioError>;
+
+/// The fitted range `[low, high]` of the observable, once checked.
+#[derive(Debug, Clone, Copy)]
+struct Range {
+    low: f64,
+    high: f64,
+}
+
+/// Rejects values that parse but make no physical sense, naming the first such field.
+pub(super) fn validate(scenario: &Scenario) -> Checked {
+    require_text("title", &scenario.title)?;
+    let range = validate_observable(&scenario.observable)?;
+    validate_signal(&scenario.signal, range)?;
+    validate_backgrounds(&scenario.backgrounds, range)?;
+    validate_schedule(&scenario.schedule)?;
+    validate_plan(&scenario.plan)
+}
+
+/// Remarks about a valid scenario that are probably, but not surely, mistakes.
+pub(super) fn warnings(scenario: &Scenario) -> Vec<String> {
+    let mut remarks: Vec<String> = signal_peak_outside_range(scenario).into_iter().collect();
+    remarks.extend(flat_shapes_floated(&scenario.backgrounds));
+    remarks.extend(first_day_without_exposure(scenario));
+    remarks
+}
+
+/// A Gaussian or Breit-Wigner signal whose mean lies outside the range.
+fn signal_peak_outside_range(scenario: &Scenario) -> Option<String> {
+    let [low, high] = scenario.observable.range;
+    let (field, mean) = match scenario.signal.shape {
+        ShapeSpec::Gaussian { mean, .. } => ("signal.shape.gaussian.mean", mean),
+        ShapeSpec::BreitWigner { mean, .. } => ("signal.shape.breit_wigner.mean", mean),
+        _ => return None,
+    };
+    (!(low..=high).contains(&mean)).then(|| {
+        format!(
+            "{field}: the signal peak at {} lies outside the range [{}, {}]; only its tail is fitted",
+            show(mean),
+            show(low),
+            show(high)
+        )
+    })
+}
+
+/// `float_shape: true` on a flat shape, which has no parameters.
+fn flat_shapes_floated(backgrounds: &[Background]) -> impl Iterator<Item = String> + '_ {
+    backgrounds
+        .iter()
+        .enumerate()
+        .filter(|(_, background)| background.float_shape && background.shape == ShapeSpec::Flat {})
+        .map(|(index, _)| {
+            format!(
+                "backgrounds[{index}].float_shape: a flat shape has no parameters to float; the setting has no effect"
+            )
+        })
+}
+
+/// A days grid starting inside the leading schedule periods with `rate_scale` 0,
+/// where no data are recorded and the projection can show nothing.
+fn first_day_without_exposure(scenario: &Scenario) -> Option<String> {
+    let days_without_data: f64 = scenario
+        .schedule
+        .periods
+        .iter()
+        .take_while(|period| period.rate_scale == 0.0)
+        .map(|period| period.days)
+        .sum();
+    let first = scenario.plan.days.first;
+    (first <= days_without_data).then(|| {
+        format!(
+            "plan.days.first: day {} falls within the first {} days, when schedule.periods scale all rates to 0; grid points there have no data",
+            show(first),
+            show(days_without_data)
+        )
+    })
+}
+
+fn validate_observable(observable: &Observable) -> Checked<Range> {
+    require_text("observable.name", &observable.name)?;
+    let [low, high] = observable.range;
+    if !low.is_finite() || !high.is_finite() {
+        return Err(ScenarioError::invalid(
+            "observable.range",
+            format!(
+                "must be two finite numbers [low, high], got [{}, {}]",
+                show(low),
+                show(high)
+            ),
+        ));
+    }
+    if low >= high {
+        return Err(ScenarioError::invalid(
+            "observable.range",
+            format!(
+                "the low edge must be below the high edge, got [{}, {}]",
+                show(low),
+                show(high)
+            ),
+        ));
+    }
+    let range = Range { low, high };
+    validate_bin_width(observable.bin_width, range)?;
+    Ok(range)
+}
+
+/// The bins must tile the range exactly: `(high - low) / bin_width` a whole number.
+fn validate_bin_width(bin_width: f64, range: Range) -> Checked {
+    let field = "observable.bin_width";
+    require_positive(field, bin_width)?;
+    let span = range.high - range.low;
+    let bins = span / bin_width;
+    if bins > MAX_BINS {
+        return Err(ScenarioError::invalid(
+            field,
+            format!(
+                "gives {} bins on a range of width {}, more than the {} allowed; got {}",
+                show_rounded(bins),
+                show_rounded(span),
+                show(MAX_BINS),
+                show(bin_width)
+            ),
+        ));
+    }
+    if bins.round() < 1.0 || (bins - bins.round()).abs() > BIN_COUNT_TOLERANCE * bins {
+        return Err(ScenarioError::invalid(
+            field,
+            format!(
+                "must divide the range [{}, {}] (width {}) into a whole number of bins, got {} ({} bins)",
+                show(range.low),
+                show(range.high),
+                show_rounded(span),
+                show(bin_width),
+                show_rounded(bins)
+            ),
+        ));
+    }
+    Ok(())
+}
+
+fn validate_signal(signal: &Signal, range: Range) -> Checked {
+    require_positive("signal.events_per_day", signal.events_per_day)?;
+    validate_shape("signal.shape", &signal.shape, range)?;
+    if let Some(relative) = signal.yield_uncertainty {
+        require_relative_uncertainty("signal.yield_uncertainty", relative)?;
+    }
+    Ok(())
+}
+
+fn validate_backgrounds(backgrounds: &[Background], range: Range) -> Checked {
+    if backgrounds.is_empty() {
+        return Err(ScenarioError::invalid(
+            "backgrounds",
+            "at least one background is needed, got an empty list",
+        ));
+    }
+    for (index, background) in backgrounds.iter().enumerate() {
+        let field = |key: &str| format!("backgrounds[{index}].{key}");
+        require_text(&field("name"), &background.name)?;
+        if let Some(first) = backgrounds[..index]
+            .iter()
+            .position(|earlier| earlier.name.trim() == background.name.trim())
+        {
+            return Err(ScenarioError::invalid(
+                field("name"),
+                format!(
+                    "each background needs its own name, got {:?} again (as in backgrounds[{first}].name)",
+                    background.name
+                ),
+            ));
+        }
+        require_positive(&field("events_per_day"), background.events_per_day)?;
+        validate_shape(&field("shape"), &background.shape, range)?;
+        if let Some(NormUncertainty::Relative(relative)) = background.norm_uncertainty {
+            require_relative_uncertainty(&field("norm_uncertainty"), relative)?;
+        }
+    }
+    Ok(())
+}
+
+/// Checks the parameters of one shape; `prefix` is the dotted path of its `shape` key.
+fn validate_shape(prefix: &str, shape: &ShapeSpec, range: Range) -> Checked {
+    match shape {
+        ShapeSpec::Gaussian { mean, sigma } => {
+            require_finite(&format!("{prefix}.gaussian.mean"), *mean)?;
+            require_positive(&format!("{prefix}.gaussian.sigma"), *sigma)
+        }
+        ShapeSpec::BreitWigner { mean, width } => {
+            require_finite(&format!("{prefix}.breit_wigner.mean"), *mean)?;
+            require_positive(&format!("{prefix}.breit_wigner.width"), *width)
+        }
+        ShapeSpec::Exponential { slope } => {
+            require_finite(&format!("{prefix}.exponential.slope"), *slope)
+        }
+        ShapeSpec::Polynomial { coefficients } => validate_polynomial(
+            &format!("{prefix}.polynomial.coefficients"),
+            coefficients,
+            range,
+        ),
+        ShapeSpec::Flat {} => Ok(()),
+    }
+}
+
+/// A polynomial density `sum_k c_k x^k` must be finite, nowhere negative and not
+/// zero everywhere on the range; it is evaluated at [`POLYNOMIAL_SAMPLES`] points.
+fn validate_polynomial(field: &str, coefficients: &[f64], range: Range) -> Checked {
+    if coefficients.is_empty() {
+        return Err(ScenarioError::invalid(
+            field,
+            "needs at least one coefficient [c0, c1, ...], got an empty list",
+        ));
+    }
+    for (power, &coefficient) in coefficients.iter().enumerate() {
+        require_finite(&format!("{field}[{power}]"), coefficient)?;
+    }
+    let mut largest = 0.0_f64;
+    for x in evenly_spaced(range, POLYNOMIAL_SAMPLES) {
+        let value = polynomial(coefficients, x);
+        if value < -POLYNOMIAL_ROUNDING * polynomial_magnitude(coefficients, x) {
+            return Err(ScenarioError::invalid(
+                field,
+                format!(
+                    "the polynomial must not be negative on the range [{}, {}], but is {} at x = {}; got {}",
+                    show(range.low),
+                    show(range.high),
+                    show_rounded(value),
+                    show_rounded(x),
+                    show_list(coefficients)
+                ),
+            ));
+        }
+        largest = largest.max(value);
+    }
+    if largest <= 0.0 {
+        return Err(ScenarioError::invalid(
+            field,
+            format!(
+                "the polynomial is zero everywhere on the range [{}, {}]; got {}",
+                show(range.low),
+                show(range.high),
+                show_list(coefficients)
+            ),
+        ));
+    }
+    Ok(())
+}
+
+/// `sum_k c_k x^k` by Horner's rule.
+fn polynomial(coefficients: &[f64], x: f64) -> f64 {
+    coefficients.iter().rev().fold(0.0, |sum, &c| sum * x + c)
+}
+
+/// `sum_k |c_k| |x|^k`: the scale of the rounding error in [`polynomial`].
+fn polynomial_magnitude(coefficients: &[f64], x: f64) -> f64 {
+    coefficients
+        .iter()
+        .rev()
+        .fold(0.0, |sum, &c| sum * x.abs() + c.abs())
+}
+
+/// `count` (at least 2) evenly spaced points from `low` to `high`, both edges exact.
+fn evenly_spaced(range: Range, count: usize) -> impl Iterator<Item = f64> {
+    let steps = (count - 1) as f64;
+    (0..count).map(move |i| {
+        if i + 1 == count {
+            range.high
+        } else {
+            range.low + (range.high - range.low) * (i as f64 / steps)
+        }
+    })
+}
+
+fn validate_schedule(schedule: &Schedule) -> Checked {
+    let live_fraction = schedule.live_fraction;
+    if !(live_fraction > 0.0 && live_fraction <= 1.0) {
+        return Err(ScenarioError::invalid(
+            "schedule.live_fraction",
+            format!("must be a fraction in (0, 1], got {}", show(live_fraction)),
+        ));
+    }
+    for (index, period) in schedule.periods.iter().enumerate() {
+        require_positive(&format!("schedule.periods[{index}].days"), period.days)?;
+        let field = format!("schedule.periods[{index}].rate_scale");
+        if !(period.rate_scale.is_finite() && period.rate_scale >= 0.0) {
+            return Err(ScenarioError::invalid(
+                field,
+                format!(
+                    "must be a non-negative finite number, got {}",
+                    show(period.rate_scale)
+                ),
+            ));
+        }
+    }
+    Ok(())
+}
+
+fn validate_plan(plan: &Plan) -> Checked {
+    validate_days_grid(&plan.days)?;
+    if plan.toys == 0 {
+        return Err(ScenarioError::invalid(
+            "plan.toys",
+            "must be at least 1 pseudo-experiment, got 0",
+        ));
+    }
+    if plan.targets.is_empty() {
+        return Err(ScenarioError::invalid(
+            "plan.targets",
+            "at least one target significance (in sigma) is needed, got an empty list",
+        ));
+    }
+    for (index, &target) in plan.targets.iter().enumerate() {
+        require_positive(&format!("plan.targets[{index}]"), target)?;
+    }
+    Ok(())
+}
+
+/// Calendar days must be positive (zero days is no exposure, and log spacing
+/// needs a positive start), increasing, and the grid must have distinct points.
+fn validate_days_grid(days: &DaysGrid) -> Checked {
+    require_positive("plan.days.first", days.first)?;
+    require_finite("plan.days.last", days.last)?;
+    if days.last < days.first {
+        return Err(ScenarioError::invalid(
+            "plan.days.last",
+            format!(
+                "must not be before plan.days.first ({}), got {}",
+                show(days.first),
+                show(days.last)
+            ),
+        ));
+    }
+    match days.points {
+        0 => Err(ScenarioError::invalid(
+            "plan.days.points",
+            "must be at least 1, got 0",
+        )),
+        1 if days.last != days.first => Err(ScenarioError::invalid(
+            "plan.days.points",
+            format!(
+                "must be at least 2 when plan.days.last ({}) differs from plan.days.first ({}), got 1",
+                show(days.last),
+                show(days.first)
+            ),
+        )),
+        points if points > 1 && days.last == days.first => Err(ScenarioError::invalid(
+            "plan.days.last",
+            format!(
+                "must be after plan.days.first when plan.days.points is {points}, got {} for both",
+                show(days.first)
+            ),
+        )),
+        _ => Ok(()),
+    }
+}
+
+fn require_text(field: &str, text: &str) -> Checked {
+    if text.trim().is_empty() {
+        return Err(ScenarioError::invalid(
+            field,
+            format!("must not be empty, got {text:?}"),
+        ));
+    }
+    Ok(())
+}
+
+fn require_finite(field: &str, value: f64) -> Checked {
+    if !value.is_finite() {
+        return Err(ScenarioError::invalid(
+            field,
+            format!("must be a finite number, got {}", show(value)),
+        ));
+    }
+    Ok(())
+}
+
+fn require_positive(field: &str, value: f64) -> Checked {
+    if !(value.is_finite() && value > 0.0) {
+        return Err(ScenarioError::invalid(
+            field,
+            format!("must be a positive finite number, got {}", show(value)),
+        ));
+    }
+    Ok(())
+}
+
+fn require_relative_uncertainty(field: &str, relative: f64) -> Checked {
+    if !(relative.is_finite() && relative > 0.0) {
+        return Err(ScenarioError::invalid(
+            field,
+            format!(
+                "must be a positive relative uncertainty such as 0.05, got {}",
+                show(relative)
+            ),
+        ));
+    }
+    Ok(())
+}
+
+/// A number as a user would write it: plain decimals for ordinary magnitudes,
+/// exponent notation for very large or small ones (Rust's `{}` never uses an exponent).
+fn show(value: f64) -> String {
+    let magnitude = value.abs();
+    if value == 0.0 || !value.is_finite() || (1e-4..1e15).contains(&magnitude) {
+        format!("{value}")
+    } else {
+        format!("{value:e}")
+    }
+}
+
+/// A computed number to six significant digits, so that rounding noise such as
+/// 333.33333333333337 does not clutter a message.
+fn show_rounded(value: f64) -> String {
+    let magnitude = value.abs();
+    if value == 0.0 || !value.is_finite() || !(1e-4..1e15).contains(&magnitude) {
+        return show(value);
+    }
+    let decimals = (5 - magnitude.log10().floor() as i32).max(0) as usize;
+    let text = format!("{value:.decimals$}");
+    if text.contains('.') {
+        text.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        text
+    }
+}
+
+fn show_list(values: &[f64]) -> String {
+    let shown: Vec<String> = values.iter().map(|&v| show(v)).collect();
+    format!("[{}]", shown.join(", "))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::super::Scenario;
+    use super::{show, show_rounded};
+    use crate::scenario::ScenarioError;
+
+    /// A valid scenario with two backgrounds, edited line by line by the tests below.
+    const BASE: &str = "\
+title: Test scenario
+observable: {name: energy, unit: keV, range: [0.0, 100.0], bin_width: 0.5}
+signal:
+  events_per_day: 2.0
+  shape: {gaussian: {mean: 50.0, sigma: 1.5}}
+  yield_uncertainty: 0.1
+backgrounds:
+  - name: continuum
+    events_per_day: 40
+    shape: {exponential: {slope: -0.02}}
+    norm_uncertainty: 0.05
+  - name: sloped
+    events_per_day: 10
+    shape: {polynomial: {coefficients: [1.0, 0.01]}}
+    norm_uncertainty: free
+    float_shape: true
+schedule:
+  live_fraction: 0.8
+  periods: [{days: 20, rate_scale: 0.5}]
+plan:
+  days: {first: 1, last: 365, points: 24, spacing: log}
+  toys: 100
+  seed: 7
+  targets: [3, 5]
+";
+
+    /// `BASE` with one exact piece of text replaced.
+    fn with(from: &str, to: &str) -> String {
+        assert!(BASE.contains(from), "test text {from:?} not in BASE");
+        BASE.replacen(from, to, 1)
+    }
+
+    /// The field named by the `Invalid` error that `text` must produce, and its message.
+    fn rejection(text: &str) -> (String, String) {
+        match Scenario::from_yaml(text) {
+            Err(ScenarioError::Invalid { field, message }) => (field, message),
+            other => panic!("expected an Invalid error, got {other:?}"),
+        }
+    }
+
+    fn rejected_field(text: &str) -> String {
+        rejection(text).0
+    }
+
+    fn accepted(text: &str) -> Scenario {
+        Scenario::from_yaml(text).unwrap_or_else(|error| panic!("rejected: {error}"))
+    }
+
+    #[test]
+    fn base_scenario_is_valid_without_warnings() {
+        let scenario = accepted(BASE);
+        assert!(scenario.warnings().is_empty(), "{:?}", scenario.warnings());
+    }
+
+    #[test]
+    fn nan_and_infinity_are_rejected_wherever_they_appear() {
+        let cases = [
+            (
+                "events_per_day: 2.0",
+                "events_per_day: .nan",
+                "signal.events_per_day",
+            ),
+            ("sigma: 1.5", "sigma: .inf", "signal.shape.gaussian.sigma"),
+            ("mean: 50.0", "mean: .nan", "signal.shape.gaussian.mean"),
+            (
+                "range: [0.0, 100.0]",
+                "range: [-.inf, 100.0]",
+                "observable.range",
+            ),
+            ("bin_width: 0.5", "bin_width: .inf", "observable.bin_width"),
+            (
+                "slope: -0.02",
+                "slope: .nan",
+                "backgrounds[0].shape.exponential.slope",
+            ),
+            (
+                "coefficients: [1.0, 0.01]",
+                "coefficients: [1.0, .inf]",
+                "backgrounds[1].shape.polynomial.coefficients[1]",
+            ),
+            (
+                "yield_uncertainty: 0.1",
+                "yield_uncertainty: .nan",
+                "signal.yield_uncertainty",
+            ),
+            (
+                "norm_uncertainty: 0.05",
+                "norm_uncertainty: .inf",
+                "backgrounds[0].norm_uncertainty",
+            ),
+            (
+                "live_fraction: 0.8",
+                "live_fraction: .nan",
+                "schedule.live_fraction",
+            ),
+            ("days: 20,", "days: .inf,", "schedule.periods[0].days"),
+            (
+                "rate_scale: 0.5",
+                "rate_scale: .nan",
+                "schedule.periods[0].rate_scale",
+            ),
+            ("first: 1,", "first: .nan,", "plan.days.first"),
+            ("last: 365,", "last: .inf,", "plan.days.last"),
+            ("targets: [3, 5]", "targets: [3, .nan]", "plan.targets[1]"),
+        ];
+        for (from, to, field) in cases {
+            assert_eq!(rejected_field(&with(from, to)), field, "{to}");
+        }
+    }
+
+    #[test]
+    fn non_positive_rates_are_rejected_with_the_value() {
+        let (field, message) = rejection(&with("events_per_day: 10", "events_per_day: -3"));
+        assert_eq!(field, "backgrounds[1].events_per_day");
+        assert_eq!(message, "must be a positive finite number, got -3");
+        let zero_signal = with("events_per_day: 2.0", "events_per_day: 0");
+        assert_eq!(rejected_field(&zero_signal), "signal.events_per_day");
+    }
+
+    #[test]
+    fn widths_of_peaks_must_be_positive() {
+        assert_eq!(
+            rejected_field(&with("sigma: 1.5", "sigma: 0")),
+            "signal.shape.gaussian.sigma"
+        );
+        let breit_wigner = with(
+            "{gaussian: {mean: 50.0, sigma: 1.5}}",
+            "{breit_wigner: {mean: 50.0, width: -2}}",
+        );
+        assert_eq!(
+            rejected_field(&breit_wigner),
+            "signal.shape.breit_wigner.width"
+        );
+    }
+
+    #[test]
+    fn range_must_increase() {
+        for range in ["[100.0, 0.0]", "[5.0, 5.0]"] {
+            let text = with("[0.0, 100.0]", range);
+            assert_eq!(rejected_field(&text), "observable.range", "{range}");
+        }
+    }
+
+    #[test]
+    fn bin_width_must_be_positive_and_divide_the_range() {
+        for width in ["0", "-0.5", "0.3", "150", "1e-6"] {
+            let text = with("bin_width: 0.5", &format!("bin_width: {width}"));
+            assert_eq!(rejected_field(&text), "observable.bin_width", "{width}");
+        }
+        let (_, message) = rejection(&with("bin_width: 0.5", "bin_width: 0.3"));
+        assert!(
+            message.contains("whole number of bins, got 0.3"),
+            "{message}"
+        );
+    }
+
+    #[test]
+    fn decimal_bin_widths_that_divide_the_range_are_accepted() {
+        // 0.6 / 0.2 is 2.9999999999999996 in binary floating point.
+        let text = with(
+            "range: [0.0, 100.0], bin_width: 0.5",
+            "range: [0.1, 0.7], bin_width: 0.2",
+        )
+        .replace("mean: 50.0", "mean: 0.4")
+        .replace("sigma: 1.5", "sigma: 0.05");
+        let text = text.replace("coefficients: [1.0, 0.01]", "coefficients: [1.0]");
+        accepted(&text);
+        accepted(&with("bin_width: 0.5", "bin_width: 100"));
+    }
+
+    #[test]
+    fn live_fraction_must_lie_in_the_unit_interval() {
+        for fraction in ["0", "-0.2", "1.5"] {
+            let text = with("live_fraction: 0.8", &format!("live_fraction: {fraction}"));
+            assert_eq!(
+                rejected_field(&text),
+                "schedule.live_fraction",
+                "{fraction}"
+            );
+        }
+        accepted(&with("live_fraction: 0.8", "live_fraction: 1"));
+    }
+
+    #[test]
+    fn periods_need_positive_days_and_non_negative_scale() {
+        let zero_days = with("days: 20,", "days: 0,");
+        assert_eq!(rejected_field(&zero_days), "schedule.periods[0].days");
+        let negative_scale = with("rate_scale: 0.5", "rate_scale: -0.1");
+        assert_eq!(
+            rejected_field(&negative_scale),
+            "schedule.periods[0].rate_scale"
+        );
+        accepted(&with("rate_scale: 0.5", "rate_scale: 0"));
+    }
+
+    #[test]
+    fn zero_toys_are_rejected() {
+        assert_eq!(rejected_field(&with("toys: 100", "toys: 0")), "plan.toys");
+    }
+
+    #[test]
+    fn days_grid_must_be_positive_increasing_and_consistent() {
+        let cases = [
+            (
+                "first: 1, last: 365, points: 24",
+                "first: 0, last: 365, points: 24",
+                "plan.days.first",
+            ),
+            (
+                "first: 1, last: 365, points: 24",
+                "first: -1, last: 365, points: 24",
+                "plan.days.first",
+            ),
+            (
+                "first: 1, last: 365, points: 24",
+                "first: 10, last: 5, points: 24",
+                "plan.days.last",
+            ),
+            (
+                "first: 1, last: 365, points: 24",
+                "first: 1, last: 365, points: 0",
+                "plan.days.points",
+            ),
+            (
+                "first: 1, last: 365, points: 24",
+                "first: 1, last: 365, points: 1",
+                "plan.days.points",
+            ),
+            (
+                "first: 1, last: 365, points: 24",
+                "first: 9, last: 9, points: 24",
+                "plan.days.last",
+            ),
+        ];
+        for (from, to, field) in cases {
+            assert_eq!(rejected_field(&with(from, to)), field, "{to}");
+        }
+        let linear_from_zero = with("first: 1,", "first: 0,").replace("log", "linear");
+        assert_eq!(rejected_field(&linear_from_zero), "plan.days.first");
+        let single_day = accepted(&with(
+            "first: 1, last: 365, points: 24",
+            "first: 30, last: 30, points: 1",
+        ));
+        assert_eq!(single_day.plan.days.days(), vec![30.0]);
+    }
+
+    #[test]
+    fn targets_must_be_present_and_positive() {
+        assert_eq!(
+            rejected_field(&with("targets: [3, 5]", "targets: []")),
+            "plan.targets"
+        );
+        assert_eq!(
+            rejected_field(&with("targets: [3, 5]", "targets: [3, 0]")),
+            "plan.targets[1]"
+        );
+    }
+
+    #[test]
+    fn relative_uncertainties_must_be_positive() {
+        let cases = [
+            (
+                "yield_uncertainty: 0.1",
+                "yield_uncertainty: 0",
+                "signal.yield_uncertainty",
+            ),
+            (
+                "yield_uncertainty: 0.1",
+                "yield_uncertainty: -0.1",
+                "signal.yield_uncertainty",
+            ),
+            (
+                "norm_uncertainty: 0.05",
+                "norm_uncertainty: 0",
+                "backgrounds[0].norm_uncertainty",
+            ),
+            (
+                "norm_uncertainty: free",
+                "norm_uncertainty: -1",
+                "backgrounds[1].norm_uncertainty",
+            ),
+        ];
+        for (from, to, field) in cases {
+            assert_eq!(rejected_field(&with(from, to)), field, "{to}");
+        }
+    }
+
+    #[test]
+    fn polynomial_needs_coefficients() {
+        let text = with("coefficients: [1.0, 0.01]", "coefficients: []");
+        assert_eq!(
+            rejected_field(&text),
+            "backgrounds[1].shape.polynomial.coefficients"
+        );
+    }
+
+    #[test]
+    fn polynomial_negative_inside_the_range_is_rejected() {
+        // 1 - 0.02 x crosses zero at x = 50, inside the range [0, 100].
+        let text = with("coefficients: [1.0, 0.01]", "coefficients: [1.0, -0.02]");
+        let (field, message) = rejection(&text);
+        assert_eq!(field, "backgrounds[1].shape.polynomial.coefficients");
+        assert!(message.contains("must not be negative"), "{message}");
+        assert!(message.contains("at x = 50.05"), "{message}");
+        // (x - 30)(x - 40) = 1200 - 70 x + x^2 is positive at both edges, negative
+        // only between 30 and 40: caught by evaluating inside the range.
+        let dip = with("coefficients: [1.0, 0.01]", "coefficients: [1200, -70, 1]");
+        assert_eq!(
+            rejected_field(&dip),
+            "backgrounds[1].shape.polynomial.coefficients"
+        );
+    }
+
+    #[test]
+    fn polynomial_zero_everywhere_is_rejected() {
+        let text = with("coefficients: [1.0, 0.01]", "coefficients: [0, 0]");
+        let (field, message) = rejection(&text);
+        assert_eq!(field, "backgrounds[1].shape.polynomial.coefficients");
+        assert!(message.contains("zero everywhere"), "{message}");
+    }
+
+    #[test]
+    fn polynomial_touching_zero_is_accepted() {
+        // (x - 50)^2 = 2500 - 100 x + x^2 vanishes at x = 50, a sample point, and is
+        // positive elsewhere: a valid density.
+        accepted(&with(
+            "coefficients: [1.0, 0.01]",
+            "coefficients: [2500, -100, 1]",
+        ));
+    }
+
+    #[test]
+    fn backgrounds_must_exist_with_distinct_names() {
+        let start = BASE.find("backgrounds:").unwrap();
+        let end = BASE.find("schedule:").unwrap();
+        let none = format!("{}backgrounds: []\n{}", &BASE[..start], &BASE[end..]);
+        assert_eq!(rejected_field(&none), "backgrounds");
+        let blank = with("name: sloped", "name: \"  \"");
+        assert_eq!(rejected_field(&blank), "backgrounds[1].name");
+        let twin = with("name: sloped", "name: continuum");
+        let (field, message) = rejection(&twin);
+        assert_eq!(field, "backgrounds[1].name");
+        assert!(message.contains("backgrounds[0].name"), "{message}");
+    }
+
+    #[test]
+    fn title_must_not_be_empty() {
+        assert_eq!(
+            rejected_field(&with("title: Test scenario", "title: \"\"")),
+            "title"
+        );
+    }
+
+    #[test]
+    fn peak_outside_the_range_is_a_warning_not_an_error() {
+        let scenario = accepted(&with("mean: 50.0", "mean: 120.0"));
+        let warnings = scenario.warnings();
+        assert_eq!(warnings.len(), 1, "{warnings:?}");
+        assert!(
+            warnings[0].starts_with("signal.shape.gaussian.mean: the signal peak at 120"),
+            "{}",
+            warnings[0]
+        );
+    }
+
+    #[test]
+    fn floating_a_flat_shape_is_a_warning() {
+        let text = with("{polynomial: {coefficients: [1.0, 0.01]}}", "{flat: {}}");
+        let warnings = accepted(&text).warnings();
+        assert_eq!(warnings.len(), 1, "{warnings:?}");
+        assert!(warnings[0].starts_with("backgrounds[1].float_shape"));
+    }
+
+    #[test]
+    fn grid_starting_before_any_data_is_a_warning() {
+        let text = with(
+            "periods: [{days: 20, rate_scale: 0.5}]",
+            "periods: [{days: 10, rate_scale: 0}, {days: 20, rate_scale: 0.5}]",
+        );
+        let warnings = accepted(&text).warnings();
+        assert_eq!(warnings.len(), 1, "{warnings:?}");
+        assert!(warnings[0].starts_with("plan.days.first: day 1 falls within the first 10 days"));
+        let later_start = text.replace("first: 1,", "first: 11,");
+        assert!(accepted(&later_start).warnings().is_empty());
+    }
+
+    #[test]
+    fn unknown_and_missing_keys_are_parse_errors_with_a_line() {
+        let unknown = with("    float_shape: true", "    float_shapes: true");
+        match Scenario::from_yaml(&unknown) {
+            Err(error @ ScenarioError::Parse { line: Some(16), .. }) => {
+                let shown = error.to_string();
+                assert!(shown.starts_with("line 16, column "), "{shown}");
+                assert!(shown.contains("unknown field `float_shapes`"), "{shown}");
+            }
+            other => panic!("expected a parse error on line 16, got {other:?}"),
+        }
+        let missing = with("  toys: 100\n", "");
+        match Scenario::from_yaml(&missing) {
+            Err(error @ ScenarioError::Parse { line: Some(_), .. }) => {
+                assert!(
+                    error.to_string().contains("missing field `toys`"),
+                    "{error}"
+                );
+            }
+            other => panic!("expected a parse error with a line, got {other:?}"),
+        }
+    }
+
+    #[test]
+    fn norm_uncertainty_accepts_a_number_or_free_only() {
+        let loose = with("norm_uncertainty: free", "norm_uncertainty: loose");
+        match Scenario::from_yaml(&loose) {
+            Err(error @ ScenarioError::Parse { line: Some(15), .. }) => {
+                let shown = error.to_string();
+                assert!(
+                    shown.contains("expected a relative uncertainty such as 0.05, or `free`"),
+                    "{shown}"
+                );
+                assert!(shown.contains("loose"), "{shown}");
+            }
+            other => panic!("expected a parse error on line 15, got {other:?}"),
+        }
+        let scenario = accepted(BASE);
+        use crate::scenario::NormUncertainty;
+        assert_eq!(
+            scenario.backgrounds[0].norm_uncertainty,
+            Some(NormUncertainty::Relative(0.05))
+        );
+        assert_eq!(
+            scenario.backgrounds[1].norm_uncertainty,
+            Some(NormUncertainty::Free)
+        );
+        let integer = accepted(&with("norm_uncertainty: 0.05", "norm_uncertainty: 1"));
+        assert_eq!(
+            integer.backgrounds[0].norm_uncertainty,
+            Some(NormUncertainty::Relative(1.0))
+        );
+    }
+
+    #[test]
+    fn numbers_are_shown_as_written() {
+        assert_eq!(show(-3.0), "-3");
+        assert_eq!(show(0.05), "0.05");
+        assert_eq!(show(1e-9), "1e-9");
+        assert_eq!(show(f64::NAN), "NaN");
+        assert_eq!(show_rounded(100.0 / 0.3), "333.333");
+        assert_eq!(show_rounded(-0.001000000000000112), "-0.001");
+        assert_eq!(show_rounded(50.050000000000004), "50.05");
+        assert_eq!(show_rounded(200.0), "200");
+    }
+}
