@@ -26,9 +26,11 @@ impl<'l, 'm> AsimovSignificance<'l, 'm> {
 
     /// Z_A after `live_days`.
     pub fn at_live_days(&mut self, live_days: f64) -> Result<f64, FitFailure> {
-        let data = self
-            .likelihood
-            .asimov_dataset(&self.nominal, live_days, self.test.fitter().workspace());
+        let data = self.likelihood.asimov_dataset(
+            &self.nominal,
+            live_days,
+            self.test.fitter().workspace(),
+        );
         Ok(self.test.fit(live_days, &data)?.q0.sqrt())
     }
 

@@ -81,7 +81,11 @@ impl Generator {
         for (count, poisson) in data.counts.iter_mut().zip(&self.bins) {
             *count = poisson.as_ref().map_or(0.0, |p| p.sample(rng));
         }
-        for (value, distribution) in data.global_observables.iter_mut().zip(&self.global_observables) {
+        for (value, distribution) in data
+            .global_observables
+            .iter_mut()
+            .zip(&self.global_observables)
+        {
             *value = distribution.sample(rng);
         }
     }

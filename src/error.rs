@@ -8,13 +8,21 @@ use std::path::PathBuf;
 
 #[derive(Debug)]
 pub enum Error {
-    Scenario { path: PathBuf, source: ScenarioError },
+    Scenario {
+        path: PathBuf,
+        source: ScenarioError,
+    },
     Projection(ProjectionError),
     Report(ReportError),
     /// A file the user named could not be written.
-    Write { path: PathBuf, source: std::io::Error },
+    Write {
+        path: PathBuf,
+        source: std::io::Error,
+    },
     /// A file exists and would be overwritten.
-    Exists { path: PathBuf },
+    Exists {
+        path: PathBuf,
+    },
     /// Command-line values that parse but make no sense.
     Usage(String),
 }

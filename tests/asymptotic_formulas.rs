@@ -8,7 +8,9 @@ use runcast::likelihood::Likelihood;
 
 fn asimov_z(model: &runcast::model::Model, live_days: f64) -> f64 {
     let likelihood = Likelihood::new(model);
-    AsimovSignificance::new(&likelihood).at_live_days(live_days).unwrap()
+    AsimovSignificance::new(&likelihood)
+        .at_live_days(live_days)
+        .unwrap()
 }
 
 /// Z_A = sqrt(2((s+b) ln(1+s/b) - s)) (Cowan, Cranmer, Gross, Vitells, EPJC 71 (2011) 1554, eq. 97).
@@ -21,7 +23,10 @@ fn one_bin_known_background_matches_eq_97() {
     // Published values: s=10, b=100 -> 0.983992; s=5, b=1 -> 3.391329 (Cowan et al. 2011, eq. 97).
     for (s, b, published) in [(10.0, 100.0, 0.983992), (5.0, 1.0, 3.391329)] {
         let z = asimov_z(&counting_window(s, b, ""), 1.0);
-        assert!((z - published).abs() < 1e-5, "s={s}, b={b}: Z_A = {z}, published {published}");
+        assert!(
+            (z - published).abs() < 1e-5,
+            "s={s}, b={b}: Z_A = {z}, published {published}"
+        );
         assert!((z - cowan_eq97(s, b)).abs() < 1e-8);
     }
 }
@@ -42,7 +47,10 @@ fn statistics_only_significance_grows_as_square_root_of_exposure() {
     let full = asimov_z(&model, 100.0);
     let tenth = asimov_z(&model, 10.0);
     assert!(full > 1.0);
-    assert!((tenth - full / 10f64.sqrt()).abs() < 1e-6 * full, "{tenth} vs {full}");
+    assert!(
+        (tenth - full / 10f64.sqrt()).abs() < 1e-6 * full,
+        "{tenth} vs {full}"
+    );
 }
 
 #[test]
@@ -53,17 +61,29 @@ fn background_normalisation_uncertainty_saturates_at_s_over_delta_b() {
     let model = counting_window(s, b, &format!(", norm_uncertainty: {delta}"));
     let likelihood = Likelihood::new(&model);
     let mut asimov = AsimovSignificance::new(&likelihood);
-    let limit = asimov.limit(365.0).unwrap().expect("a normalisation uncertainty saturates Z_A");
+    let limit = asimov
+        .limit(365.0)
+        .unwrap()
+        .expect("a normalisation uncertainty saturates Z_A");
     let expected = s / (delta * b);
-    assert!((limit - expected).abs() < 2e-3 * expected, "limit {limit}, expected {expected}");
+    assert!(
+        (limit - expected).abs() < 2e-3 * expected,
+        "limit {limit}, expected {expected}"
+    );
     // And Z_A approaches it from below.
     let late = asimov.at_live_days(1e5).unwrap();
-    assert!(late < limit && late > 0.95 * limit, "Z_A(1e5 days) = {late}");
+    assert!(
+        late < limit && late > 0.95 * limit,
+        "Z_A(1e5 days) = {late}"
+    );
 }
 
 #[test]
 fn statistics_limited_significance_has_no_limit() {
     let model = peak_on_continuum(3.0, 400.0, ", norm_uncertainty: 0.05, float_shape: true");
     let likelihood = Likelihood::new(&model);
-    assert_eq!(AsimovSignificance::new(&likelihood).limit(365.0).unwrap(), None);
+    assert_eq!(
+        AsimovSignificance::new(&likelihood).limit(365.0).unwrap(),
+        None
+    );
 }

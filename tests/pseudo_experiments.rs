@@ -35,7 +35,11 @@ fn generated_counts_fluctuate_as_poisson() {
     let variance = counts.iter().map(|c| (c - mean).powi(2)).sum::<f64>() / (toys - 1) as f64;
     // Errors: sqrt(30/N) = 0.027 on the mean; sigma/sqrt(2N) = 0.019 on the standard deviation.
     assert!((mean - 30.0).abs() < 4.0 * 0.027, "mean {mean}");
-    assert!((variance.sqrt() - 30f64.sqrt()).abs() < 4.0 * 0.019, "sd {}", variance.sqrt());
+    assert!(
+        (variance.sqrt() - 30f64.sqrt()).abs() < 4.0 * 0.019,
+        "sd {}",
+        variance.sqrt()
+    );
     assert!(counts.iter().all(|c| c.fract() == 0.0 && *c >= 0.0));
 }
 
@@ -62,9 +66,15 @@ fn background_only_q0_follows_half_chi_square() {
     }
     let fraction = above as f64 / toys as f64;
     // Binomial error sqrt(p(1-p)/N) = 0.0026.
-    assert!((fraction - 0.15866).abs() < 4.0 * 0.0026, "P(q0 > 1) = {fraction}");
+    assert!(
+        (fraction - 0.15866).abs() < 4.0 * 0.0026,
+        "P(q0 > 1) = {fraction}"
+    );
     let zero_fraction = zero as f64 / toys as f64;
-    assert!((zero_fraction - 0.5).abs() < 4.0 * 0.0036, "P(q0 = 0) = {zero_fraction}");
+    assert!(
+        (zero_fraction - 0.5).abs() < 4.0 * 0.0036,
+        "P(q0 = 0) = {zero_fraction}"
+    );
 }
 
 #[test]
@@ -74,7 +84,9 @@ fn toy_median_equals_asimov_significance_with_many_counts() {
     let model = peak_on_continuum(20.0, 2000.0, ", norm_uncertainty: 0.05, float_shape: true");
     let likelihood = Likelihood::new(&model);
     let live_days = 20.0;
-    let z_asimov = AsimovSignificance::new(&likelihood).at_live_days(live_days).unwrap();
+    let z_asimov = AsimovSignificance::new(&likelihood)
+        .at_live_days(live_days)
+        .unwrap();
     let toys = 4000;
     let outcome = discovery_ensemble(&likelihood, live_days, 0, &plan(toys, 2026));
     assert_eq!(outcome.failed_fits, 0);
@@ -82,7 +94,10 @@ fn toy_median_equals_asimov_significance_with_many_counts() {
     z.sort_by(f64::total_cmp);
     let median = quantile(&z, 0.5);
     let error = 1.2533 / (toys as f64).sqrt();
-    assert!((median - z_asimov).abs() < 4.0 * error, "median {median}, Z_A {z_asimov}");
+    assert!(
+        (median - z_asimov).abs() < 4.0 * error,
+        "median {median}, Z_A {z_asimov}"
+    );
     // The 15.9% and 84.1% quantiles sit one unit either side (normal distribution; common practice).
     let spread = quantile(&z, 0.841345) - quantile(&z, 0.158655);
     assert!((spread - 2.0).abs() < 0.15, "central 68% width {spread}");

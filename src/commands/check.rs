@@ -42,14 +42,21 @@ fn print_rates(scenario: &Scenario, model: &Model) {
     let observable = &scenario.observable;
     println!("  signal: {signal:.6} events per live day");
     for b in &scenario.backgrounds {
-        println!("  background {}: {:.6} events per live day", b.name, b.events_per_day);
+        println!(
+            "  background {}: {:.6} events per live day",
+            b.name, b.events_per_day
+        );
     }
     println!("  background total: {background:.6} events per live day");
     let (low, high) = peak_window(&scenario.signal.shape, observable.range);
-    let in_window = |spec: &ShapeSpec, rate: f64| rate * fraction_inside(spec, observable.range, low, high);
+    let in_window =
+        |spec: &ShapeSpec, rate: f64| rate * fraction_inside(spec, observable.range, low, high);
     let signal_in = in_window(&scenario.signal.shape, signal);
-    let background_in: f64 =
-        scenario.backgrounds.iter().map(|b| in_window(&b.shape, b.events_per_day)).sum();
+    let background_in: f64 = scenario
+        .backgrounds
+        .iter()
+        .map(|b| in_window(&b.shape, b.events_per_day))
+        .sum();
     println!(
         "  within [{low:.6}, {high:.6}] {}: S = {signal_in:.6}, B = {background_in:.6} per live day, S/B = {:.6}",
         observable.unit,
@@ -65,7 +72,10 @@ fn peak_window(shape: &ShapeSpec, range: [f64; 2]) -> (f64, f64) {
         ShapeSpec::BreitWigner { mean, width } => (mean, width / 2.0),
         _ => return (range[0], range[1]),
     };
-    ((centre - 2.0 * width).max(range[0]), (centre + 2.0 * width).min(range[1]))
+    (
+        (centre - 2.0 * width).max(range[0]),
+        (centre + 2.0 * width).min(range[1]),
+    )
 }
 
 /// Exact fraction of a shape (normalised on `range`) inside `[low, high]`.

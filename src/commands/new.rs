@@ -18,9 +18,18 @@ pub fn run(file: &Path) -> Result<(), Error> {
         path: file.to_path_buf(),
         source,
     };
-    let directory = file.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
-    let name = file.file_name().ok_or_else(|| Error::Usage(format!("{} is not a file name", file.display())))?;
-    let temporary = directory.join(format!(".{}.tmp-{}", name.to_string_lossy(), std::process::id()));
+    let directory = file
+        .parent()
+        .filter(|p| !p.as_os_str().is_empty())
+        .unwrap_or(Path::new("."));
+    let name = file
+        .file_name()
+        .ok_or_else(|| Error::Usage(format!("{} is not a file name", file.display())))?;
+    let temporary = directory.join(format!(
+        ".{}.tmp-{}",
+        name.to_string_lossy(),
+        std::process::id()
+    ));
     let result = std::fs::File::create(&temporary)
         .and_then(|mut out| {
             out.write_all(TEMPLATE.as_bytes())?;

@@ -5,7 +5,7 @@ use crate::cli::ProjectArgs;
 use crate::error::Error;
 use crate::model::Model;
 use crate::progress::toy_progress;
-use crate::projection::{Projection, ProjectionSettings, project};
+use crate::projection::{ProjectionSettings, project};
 use crate::report;
 use crate::scenario::Scenario;
 use std::path::{Path, PathBuf};
@@ -25,7 +25,6 @@ pub fn run(args: &ProjectArgs) -> Result<(), Error> {
     let reports = report::render_all(&projection)?;
     report::write_all(&out, &reports)?;
     print!("{}", report::summary(&projection));
-    warn_about_failed_fits(&projection);
     println!("wrote {}", out.display());
     Ok(())
 }
@@ -62,7 +61,10 @@ fn output_directory(args: &ProjectArgs) -> PathBuf {
 }
 
 /// Runs `work` on a pool of `threads` workers (the global pool when None).
-fn with_threads<T: Send>(threads: Option<usize>, work: impl FnOnce() -> T + Send) -> Result<T, Error> {
+fn with_threads<T: Send>(
+    threads: Option<usize>,
+    work: impl FnOnce() -> T + Send,
+) -> Result<T, Error> {
     match threads {
         None => Ok(work()),
         Some(0) => Err(Error::Usage("--threads: must be at least 1".into())),
@@ -71,17 +73,5 @@ fn with_threads<T: Send>(threads: Option<usize>, work: impl FnOnce() -> T + Send
             .build()
             .map(|pool| pool.install(work))
             .map_err(|error| Error::Usage(format!("--threads {threads}: {error}"))),
-    }
-}
-
-/// Failed fits are counted in every output; above 0.1% of the toys at a point, say so.
-fn warn_about_failed_fits(projection: &Projection) {
-    for point in &projection.points {
-        if point.failed_fits as f64 > 1e-3 * projection.toys as f64 {
-            eprintln!(
-                "runcast: warning: {} of {} pseudo-experiments failed to fit at day {:.4}; they are excluded from the quantiles",
-                point.failed_fits, projection.toys, point.days
-            );
-        }
     }
 }

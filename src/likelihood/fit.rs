@@ -102,7 +102,11 @@ impl<'l, 'm> Fitter<'l, 'm> {
         }
         let mut failure = first;
         for retry_mu in [0.0, 3.0] {
-            for (value, parameter) in self.start.iter_mut().zip(&self.likelihood.model().parameters) {
+            for (value, parameter) in self
+                .start
+                .iter_mut()
+                .zip(&self.likelihood.model().parameters)
+            {
                 *value = parameter.nominal;
             }
             self.start[SIGNAL_STRENGTH] = retry_mu;
@@ -201,7 +205,8 @@ impl<'l, 'm> Fitter<'l, 'm> {
                 self.reduced_hessian[i * free + i] += damping * largest_diagonal;
                 reduced_step[i] = -self.work.gradient[a];
             }
-            if solve_positive_definite(&mut self.reduced_hessian[..free * free], reduced_step, free) {
+            if solve_positive_definite(&mut self.reduced_hessian[..free * free], reduced_step, free)
+            {
                 break;
             }
             damping = if damping == 0.0 { 1e-8 } else { damping * 10.0 };
@@ -219,17 +224,26 @@ impl<'l, 'm> Fitter<'l, 'm> {
     }
 
     /// Backtracks from a full Newton step; leaves the accepted point in `self.trial`.
-    fn line_search(&mut self, live_days: f64, data: &Dataset, nll: f64, decrement: f64) -> Option<f64> {
+    fn line_search(
+        &mut self,
+        live_days: f64,
+        data: &Dataset,
+        nll: f64,
+        decrement: f64,
+    ) -> Option<f64> {
         let parameters = &self.likelihood.model().parameters;
         let mut scale = 1.0;
         for _ in 0..MAX_HALVINGS {
             for (index, parameter) in parameters.iter().enumerate() {
-                self.trial[index] =
-                    (self.theta[index] + scale * self.step[index]).clamp(parameter.lower, parameter.upper);
+                self.trial[index] = (self.theta[index] + scale * self.step[index])
+                    .clamp(parameter.lower, parameter.upper);
             }
-            let trial_nll =
-                self.likelihood
-                    .negative_log_likelihood(&self.trial, live_days, data, &mut self.work);
+            let trial_nll = self.likelihood.negative_log_likelihood(
+                &self.trial,
+                live_days,
+                data,
+                &mut self.work,
+            );
             if trial_nll <= nll - ARMIJO * scale * decrement {
                 return Some(trial_nll);
             }

@@ -114,7 +114,8 @@ impl<'m> Likelihood<'m> {
             .map(|term| {
                 let mut fractions = vec![0.0; term.bins];
                 if term.floating.is_none() {
-                    term.shape.bin_fractions(term.fixed_parameters, term.edges, &mut fractions);
+                    term.shape
+                        .bin_fractions(term.fixed_parameters, term.edges, &mut fractions);
                 }
                 fractions
             })
@@ -186,7 +187,8 @@ impl<'m> Likelihood<'m> {
                     &mut work.fraction_gradients[index],
                 );
             } else {
-                term.shape.bin_fractions(parameters, term.edges, &mut work.fractions[index]);
+                term.shape
+                    .bin_fractions(parameters, term.edges, &mut work.fractions[index]);
             }
         }
     }
@@ -281,8 +283,7 @@ impl<'m> Likelihood<'m> {
             if !total.is_finite() {
                 return f64::INFINITY;
             }
-            let weight = 1.0 - n / nu;
-            let curvature = n / (nu * nu);
+            let (weight, curvature) = poisson_weights(n, nu);
             for a in 0..parameters {
                 let da = work.expected_gradient[a * bins + j];
                 if da == 0.0 {
@@ -324,15 +325,23 @@ impl<'m> Likelihood<'m> {
                 work.expected[range.clone()]
                     .iter()
                     .zip(&data.counts[range.clone()])
-                    .map(|(nu, n)| 1.0 - n / nu)
+                    .map(|(&nu, &n)| poisson_weights(n, nu).0)
             };
-            let weighted_fraction: f64 =
-                weights().zip(&work.fractions[index]).map(|(w, f)| w * f).sum();
+            let weighted_fraction: f64 = weights()
+                .zip(&work.fractions[index])
+                .map(|(w, f)| w * f)
+                .sum();
             let base = term.events_per_live_day * live_days;
             for (i, &a) in term.yield_parameters.iter().enumerate() {
                 for &b in &term.yield_parameters[..i] {
                     let mixed = base * product_except_two(theta, term.yield_parameters, a, b);
-                    add_lower(&mut work.hessian, parameters, a, b, mixed * weighted_fraction);
+                    add_lower(
+                        &mut work.hessian,
+                        parameters,
+                        a,
+                        b,
+                        mixed * weighted_fraction,
+                    );
                 }
             }
             if let Some(floating) = term.floating {
@@ -341,7 +350,13 @@ impl<'m> Likelihood<'m> {
                     let weighted_gradient: f64 = weights().zip(df).map(|(w, g)| w * g).sum();
                     for &a in term.yield_parameters {
                         let partial = base * product_except(theta, term.yield_parameters, a);
-                        add_lower(&mut work.hessian, parameters, a, s, partial * weighted_gradient);
+                        add_lower(
+                            &mut work.hessian,
+                            parameters,
+                            a,
+                            s,
+                            partial * weighted_gradient,
+                        );
                     }
                 }
             }
@@ -364,7 +379,9 @@ impl<'m> Likelihood<'m> {
 
 impl Term<'_> {
     fn yield_at(&self, theta: &[f64], live_days: f64) -> f64 {
-        self.events_per_live_day * live_days * product_except(theta, self.yield_parameters, usize::MAX)
+        self.events_per_live_day
+            * live_days
+            * product_except(theta, self.yield_parameters, usize::MAX)
     }
 }
 
@@ -384,14 +401,33 @@ fn poisson_deviance_term(n: f64, nu: f64) -> f64 {
     }
 }
 
+/// (1 - n/nu, n/nu^2): the factors of dnu and of dnu dnu in the gradient and
+/// Hessian of one bin's term. A bin without counts contributes nu alone, so
+/// (1, 0), also where nu is zero.
+fn poisson_weights(n: f64, nu: f64) -> (f64, f64) {
+    if n > 0.0 {
+        (1.0 - n / nu, n / (nu * nu))
+    } else {
+        (1.0, 0.0)
+    }
+}
+
 /// Product of theta over `indices`, skipping index `skip`.
 fn product_except(theta: &[f64], indices: &[usize], skip: usize) -> f64 {
-    indices.iter().filter(|&&p| p != skip).map(|&p| theta[p]).product()
+    indices
+        .iter()
+        .filter(|&&p| p != skip)
+        .map(|&p| theta[p])
+        .product()
 }
 
 /// Product of theta over `indices`, skipping indices `a` and `b`.
 fn product_except_two(theta: &[f64], indices: &[usize], a: usize, b: usize) -> f64 {
-    indices.iter().filter(|&&p| p != a && p != b).map(|&p| theta[p]).product()
+    indices
+        .iter()
+        .filter(|&&p| p != a && p != b)
+        .map(|&p| theta[p])
+        .product()
 }
 
 /// Adds `value` to the lower-triangle element (max(a,b), min(a,b)).

@@ -52,11 +52,16 @@ impl<'l, 'm> DiscoveryTest<'l, 'm> {
     /// If the free fit lands above the background-only minimum (a subset of its
     /// parameter space), it is repeated from the background-only solution.
     pub fn fit(&mut self, live_days: f64, data: &Dataset) -> Result<DiscoveryFit, FitFailure> {
-        let null_nll = self.fitter.minimise(live_days, data, Some(0.0), &self.nominal)?;
-        self.null_parameters.copy_from_slice(self.fitter.parameters());
+        let null_nll = self
+            .fitter
+            .minimise(live_days, data, Some(0.0), &self.nominal)?;
+        self.null_parameters
+            .copy_from_slice(self.fitter.parameters());
         let mut free_nll = self.fitter.minimise(live_days, data, None, &self.nominal);
         if free_nll.as_ref().map_or(true, |&nll| nll > null_nll) {
-            free_nll = self.fitter.minimise(live_days, data, None, &self.null_parameters);
+            free_nll = self
+                .fitter
+                .minimise(live_days, data, None, &self.null_parameters);
         }
         let free_nll = free_nll?;
         let fitted_mu = self.fitter.parameters()[SIGNAL_STRENGTH];

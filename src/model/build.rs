@@ -21,7 +21,12 @@ impl Model {
         debug_assert_eq!(builder.parameters.len() - 1, SIGNAL_STRENGTH);
 
         let mut components = vec![builder.signal_component(&scenario.signal)];
-        components.extend(scenario.backgrounds.iter().map(|b| builder.background_component(b)));
+        components.extend(
+            scenario
+                .backgrounds
+                .iter()
+                .map(|b| builder.background_component(b)),
+        );
 
         let observable = &scenario.observable;
         Model {
@@ -73,7 +78,8 @@ impl Builder {
     fn yield_factor(&mut self, name: String, width: Option<f64>) -> usize {
         let parameter = self.add_parameter(name, 1.0, 0.0);
         if let Some(width) = width {
-            self.constraints.push(Constraint::Gaussian { parameter, width });
+            self.constraints
+                .push(Constraint::Gaussian { parameter, width });
         }
         parameter
     }
@@ -98,7 +104,9 @@ impl Builder {
         let factor_name = format!("{}.norm_factor", background.name);
         let yield_parameters = match background.norm_uncertainty {
             None => Vec::new(),
-            Some(NormUncertainty::Relative(width)) => vec![self.yield_factor(factor_name, Some(width))],
+            Some(NormUncertainty::Relative(width)) => {
+                vec![self.yield_factor(factor_name, Some(width))]
+            }
             Some(NormUncertainty::Free) => vec![self.yield_factor(factor_name, None)],
         };
         let shape = shape_from_spec(&background.shape);
@@ -108,7 +116,11 @@ impl Builder {
                 .iter()
                 .zip(shape.nominal_parameters())
                 .map(|(name, nominal)| {
-                    self.add_parameter(format!("{}.{}", background.name, name), nominal, f64::NEG_INFINITY)
+                    self.add_parameter(
+                        format!("{}.{}", background.name, name),
+                        nominal,
+                        f64::NEG_INFINITY,
+                    )
                 })
                 .collect();
             ShapeParameters::Floating(indices)

@@ -103,7 +103,11 @@ impl Model {
         let mut signal = 0.0;
         let mut background = 0.0;
         for component in self.channels.iter().flat_map(|c| &c.components) {
-            let factor: f64 = component.yield_parameters.iter().map(|&p| nominal[p]).product();
+            let factor: f64 = component
+                .yield_parameters
+                .iter()
+                .map(|&p| nominal[p])
+                .product();
             let rate = factor * component.events_per_live_day;
             if component.is_signal {
                 signal += rate;

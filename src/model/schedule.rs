@@ -17,7 +17,11 @@ impl LiveTime {
     pub fn from_schedule(schedule: &Schedule) -> LiveTime {
         LiveTime {
             live_fraction: schedule.live_fraction,
-            periods: schedule.periods.iter().map(|p| (p.days, p.rate_scale)).collect(),
+            periods: schedule
+                .periods
+                .iter()
+                .map(|p| (p.days, p.rate_scale))
+                .collect(),
         }
     }
 

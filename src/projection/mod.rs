@@ -97,9 +97,7 @@ pub fn project(
         .targets
         .iter()
         .enumerate()
-        .map(|(index, &target)| {
-            days_to_target(model, &mut asimov, &points, index, target, limit_z)
-        })
+        .map(|(index, &target)| days_to_target(model, &mut asimov, &points, index, target, limit_z))
         .collect::<Result<_, _>>()?;
     Ok(Projection {
         title: settings.title.clone(),
@@ -150,7 +148,9 @@ fn exposure_point(
         background,
         z_asimov,
         z_median: sorted.as_ref().map(|z| quantile(z, 0.5)),
-        z_band: sorted.as_ref().map(|z| BAND_QUANTILES.map(|p| quantile(z, p))),
+        z_band: sorted
+            .as_ref()
+            .map(|z| BAND_QUANTILES.map(|p| quantile(z, p))),
         probability,
         failed_fits: ensemble.map_or(0, |e| e.failed_fits),
     }
