@@ -32,19 +32,29 @@ fn splitmix64(value: u64) -> u64 {
     z ^ (z >> 31)
 }
 
+/// How the global observable of one constraint is drawn.
+#[derive(Debug, Clone)]
+enum GlobalObservable {
+    /// A Gaussian auxiliary measurement.
+    Gaussian(Normal<f64>),
+    /// A control-region count (None when it expects nothing).
+    Count(Option<Poisson<f64>>),
+}
+
 /// Draws pseudo-datasets from the model at fixed generating parameters.
 #[derive(Debug, Clone)]
 pub struct Generator {
     /// Poisson distribution of each bin's count; None for a bin expecting nothing.
     bins: Vec<Option<Poisson<f64>>>,
     /// Distribution of each constraint's global observable.
-    global_observables: Vec<Normal<f64>>,
+    global_observables: Vec<GlobalObservable>,
 }
 
 impl Generator {
     /// A generator for the model at `theta` after `live_days`: counts are
-    /// Poisson with the expected mean per bin, and each Gaussian global observable
-    /// is drawn from N(theta_p, width) (Cowan et al., Eur. Phys. J. C 71 (2011) 1554, sec. 2).
+    /// Poisson with the expected mean per bin, each Gaussian global observable is
+    /// drawn from N(theta_p, width) and each control-region count from its Poisson
+    /// distribution (Cowan et al., Eur. Phys. J. C 71 (2011) 1554, sec. 2).
     pub fn new(likelihood: &Likelihood, theta: &[f64], live_days: f64) -> Generator {
         let mut work = likelihood.workspace();
         likelihood.expected_counts(theta, live_days, &mut work);
@@ -58,8 +68,16 @@ impl Generator {
             .constraints
             .iter()
             .map(|constraint| match *constraint {
-                Constraint::Gaussian { parameter, width } => Normal::new(theta[parameter], width)
-                    .expect("constraint widths are validated positive and finite"),
+                Constraint::Gaussian { parameter, width } => GlobalObservable::Gaussian(
+                    Normal::new(theta[parameter], width)
+                        .expect("constraint widths are validated positive and finite"),
+                ),
+                Constraint::ControlRegion { parameter, .. } => GlobalObservable::Count(
+                    Poisson::new(
+                        constraint.expected_global_observable(theta[parameter], live_days),
+                    )
+                    .ok(),
+                ),
             })
             .collect();
         Generator {
@@ -86,7 +104,10 @@ impl Generator {
             .iter_mut()
             .zip(&self.global_observables)
         {
-            *value = distribution.sample(rng);
+            *value = match distribution {
+                GlobalObservable::Gaussian(normal) => normal.sample(rng),
+                GlobalObservable::Count(poisson) => poisson.as_ref().map_or(0.0, |p| p.sample(rng)),
+            };
         }
     }
 }

@@ -157,17 +157,13 @@ impl<'m> Likelihood<'m> {
         self.expected_counts(theta, live_days, work);
         Dataset {
             counts: work.expected.clone(),
-            global_observables: self.nominal_global_observables(),
+            global_observables: self
+                .model
+                .constraints
+                .iter()
+                .map(|c| c.expected_global_observable(theta[c.parameter()], live_days))
+                .collect(),
         }
-    }
-
-    /// Global observables at the values the constraints are centred on.
-    pub fn nominal_global_observables(&self) -> Vec<f64> {
-        self.model
-            .constraints
-            .iter()
-            .map(|c| self.model.parameters[c.parameter()].nominal)
-            .collect()
     }
 
     fn update_fractions(&self, theta: &[f64], work: &mut Workspace, with_gradient: bool) {
@@ -209,10 +205,12 @@ impl<'m> Likelihood<'m> {
         for (&nu, &n) in work.expected.iter().zip(&data.counts) {
             total += poisson_deviance_term(n, nu);
         }
-        total + self.constraint_terms(theta, data)
+        total + self.constraint_terms(theta, live_days, data)
     }
 
-    fn constraint_terms(&self, theta: &[f64], data: &Dataset) -> f64 {
+    /// -ln of the constraint terms: a Gaussian (theta - g)^2 / (2 width^2), a
+    /// control region the Poisson deviance of its count m given a = theta A.
+    fn constraint_terms(&self, theta: &[f64], live_days: f64, data: &Dataset) -> f64 {
         self.model
             .constraints
             .iter()
@@ -222,6 +220,10 @@ impl<'m> Likelihood<'m> {
                     let pull = (theta[parameter] - observed) / width;
                     0.5 * pull * pull
                 }
+                Constraint::ControlRegion { parameter, .. } => poisson_deviance_term(
+                    observed,
+                    constraint.expected_global_observable(theta[parameter], live_days),
+                ),
             })
             .sum()
     }
@@ -297,13 +299,13 @@ impl<'m> Likelihood<'m> {
             }
         }
         self.add_second_derivative_terms(theta, live_days, data, work);
-        self.add_constraint_derivatives(theta, data, work);
+        self.add_constraint_derivatives(theta, live_days, data, work);
         for a in 0..parameters {
             for b in 0..a {
                 work.hessian[b * parameters + a] = work.hessian[a * parameters + b];
             }
         }
-        total + self.constraint_terms(theta, data)
+        total + self.constraint_terms(theta, live_days, data)
     }
 
     /// (1 - n_j/nu_j) d2nu_j terms for yield-yield and yield-shape pairs (lower triangle).
@@ -363,7 +365,13 @@ impl<'m> Likelihood<'m> {
         }
     }
 
-    fn add_constraint_derivatives(&self, theta: &[f64], data: &Dataset, work: &mut Workspace) {
+    fn add_constraint_derivatives(
+        &self,
+        theta: &[f64],
+        live_days: f64,
+        data: &Dataset,
+        work: &mut Workspace,
+    ) {
         let parameters = self.parameter_count();
         for (constraint, &observed) in self.model.constraints.iter().zip(&data.global_observables) {
             match *constraint {
@@ -371,6 +379,17 @@ impl<'m> Likelihood<'m> {
                     let precision = 1.0 / (width * width);
                     work.gradient[parameter] += (theta[parameter] - observed) * precision;
                     work.hessian[parameter * parameters + parameter] += precision;
+                }
+                Constraint::ControlRegion {
+                    parameter,
+                    events_per_live_day,
+                } => {
+                    // a = theta A: d/dtheta = (1 - m/a) A, d2/dtheta2 = (m/a^2) A^2.
+                    let scale = events_per_live_day * live_days;
+                    let expected = theta[parameter] * scale;
+                    let (weight, curvature) = poisson_weights(observed, expected);
+                    work.gradient[parameter] += weight * scale;
+                    work.hessian[parameter * parameters + parameter] += curvature * scale * scale;
                 }
             }
         }

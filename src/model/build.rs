@@ -102,12 +102,20 @@ impl Builder {
 
     fn background_component(&mut self, background: &Background) -> Component {
         let factor_name = format!("{}.norm_factor", background.name);
-        let yield_parameters = match background.norm_uncertainty {
-            None => Vec::new(),
-            Some(NormUncertainty::Relative(width)) => {
+        let yield_parameters = match (background.norm_uncertainty, background.control) {
+            (_, Some(control)) => {
+                let parameter = self.yield_factor(factor_name, None);
+                self.constraints.push(Constraint::ControlRegion {
+                    parameter,
+                    events_per_live_day: control.ratio * background.events_per_day,
+                });
+                vec![parameter]
+            }
+            (None, None) => Vec::new(),
+            (Some(NormUncertainty::Relative(width)), None) => {
                 vec![self.yield_factor(factor_name, Some(width))]
             }
-            Some(NormUncertainty::Free) => vec![self.yield_factor(factor_name, None)],
+            (Some(NormUncertainty::Free), None) => vec![self.yield_factor(factor_name, None)],
         };
         let shape = shape_from_spec(&background.shape);
         let shape_parameters = if background.float_shape {

@@ -66,13 +66,33 @@ pub struct Channel {
 pub enum Constraint {
     /// Gaussian auxiliary measurement g ~ N(theta, width): -ln L = (theta - g)^2 / (2 width^2).
     Gaussian { parameter: usize, width: f64 },
+    /// Signal-free control-region count m ~ Poisson(theta x events_per_live_day x live days),
+    /// where events_per_live_day is the ratio times the background's nominal rate:
+    /// the on/off measurement of Li and Ma, Astrophys. J. 272 (1983) 317, and of
+    /// Cowan et al., Eur. Phys. J. C 71 (2011) 1554, sec. 4.
+    ControlRegion {
+        parameter: usize,
+        events_per_live_day: f64,
+    },
 }
 
 impl Constraint {
     /// The parameter this constraint acts on.
     pub fn parameter(&self) -> usize {
         match self {
-            Constraint::Gaussian { parameter, .. } => *parameter,
+            Constraint::Gaussian { parameter, .. }
+            | Constraint::ControlRegion { parameter, .. } => *parameter,
+        }
+    }
+
+    /// The global observable's expected value at parameter value `theta_p` after `live_days`.
+    pub fn expected_global_observable(&self, theta_p: f64, live_days: f64) -> f64 {
+        match *self {
+            Constraint::Gaussian { .. } => theta_p,
+            Constraint::ControlRegion {
+                events_per_live_day,
+                ..
+            } => theta_p * events_per_live_day * live_days,
         }
     }
 }

@@ -68,6 +68,17 @@ pub struct Background {
     /// When true, the shape's parameters are fitted, unconstrained, in every fit.
     #[serde(default)]
     pub float_shape: bool,
+    /// A signal-free control region that measures this background's normalisation.
+    #[serde(default)]
+    pub control: Option<ControlRegion>,
+}
+
+/// An auxiliary, signal-free count of `ratio` times a background's expected
+/// yield in the signal region (a sideband, an off-source pointing, a blank run).
+#[derive(Debug, Clone, Copy, PartialEq, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ControlRegion {
+    pub ratio: f64,
 }
 
 /// Knowledge of a background normalisation factor.
@@ -146,6 +157,13 @@ pub struct Plan {
     pub seed: u64,
     /// Target significances in sigma.
     pub targets: Vec<f64>,
+    /// Confidence level of the expected exclusion limits.
+    #[serde(default = "default_confidence_level")]
+    pub cl: f64,
+}
+
+fn default_confidence_level() -> f64 {
+    0.95
 }
 
 /// The grid of calendar days at which the projection is evaluated.

@@ -56,7 +56,10 @@ backgrounds:
   - name: instrumental
     events_per_day: 15
     shape: {flat: {}}
-    norm_uncertainty: 0.20
+    # Optional, instead of norm_uncertainty: a signal-free control region (sideband,
+    # off-source pointing, blank run) that counts `ratio` times this background's
+    # expected yield; its Poisson count constrains the normalisation in every fit.
+    control: {ratio: 3.0}
 
 # Optional section; absent = live fraction 1 and nominal rates from the first day.
 schedule:
@@ -80,6 +83,8 @@ plan:
   seed: 1
   # Significances to reach, in sigma (one-sided): 3 = evidence, 5 = discovery.
   targets: [3, 5]
+  # Optional, default 0.95. Confidence level of the expected exclusion limits (CLs).
+  cl: 0.95
 "#;
 
 #[cfg(test)]
@@ -94,7 +99,7 @@ mod tests {
     }
 
     #[test]
-    fn template_shows_every_optional_key_and_both_kinds_of_normalisation() {
+    fn template_shows_every_optional_key_and_each_kind_of_normalisation() {
         let scenario = Scenario::from_yaml(TEMPLATE).unwrap_or_else(|error| panic!("{error}"));
         assert!(scenario.signal.yield_uncertainty.is_some());
         assert!(scenario.backgrounds.iter().any(|b| b.float_shape));
@@ -104,7 +109,7 @@ mod tests {
             .map(|b| b.norm_uncertainty)
             .collect();
         assert!(norms.contains(&Some(NormUncertainty::Free)));
-        assert!(norms.contains(&Some(NormUncertainty::Relative(0.20))));
+        assert!(scenario.backgrounds.iter().any(|b| b.control.is_some()));
         assert!(scenario.schedule.live_fraction < 1.0);
         assert!(!scenario.schedule.periods.is_empty());
         assert!(matches!(scenario.signal.shape, ShapeSpec::Gaussian { .. }));

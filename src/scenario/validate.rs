@@ -201,6 +201,15 @@ fn validate_backgrounds(backgrounds: &[Background], range: Range) -> Checked {
         if let Some(NormUncertainty::Relative(relative)) = background.norm_uncertainty {
             require_relative_uncertainty(&field("norm_uncertainty"), relative)?;
         }
+        if let Some(control) = background.control {
+            if background.norm_uncertainty.is_some() {
+                return Err(ScenarioError::invalid(
+                    field("control"),
+                    "a control region measures the normalisation itself; remove norm_uncertainty or control",
+                ));
+            }
+            require_positive(&field("control.ratio"), control.ratio)?;
+        }
     }
     Ok(())
 }
@@ -337,6 +346,15 @@ fn validate_plan(plan: &Plan) -> Checked {
     }
     for (index, &target) in plan.targets.iter().enumerate() {
         require_positive(&format!("plan.targets[{index}]"), target)?;
+    }
+    if !(plan.cl > 0.0 && plan.cl < 1.0) {
+        return Err(ScenarioError::invalid(
+            "plan.cl",
+            format!(
+                "must be a confidence level strictly between 0 and 1, got {}",
+                plan.cl
+            ),
+        ));
     }
     Ok(())
 }

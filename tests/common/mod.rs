@@ -33,3 +33,13 @@ pub fn model(yaml: &str) -> Model {
     let scenario = Scenario::from_yaml(yaml).unwrap_or_else(|e| panic!("test scenario: {e}"));
     Model::from_scenario(&scenario)
 }
+
+/// A single counting window whose background is measured in a signal-free
+/// control region of `ratio` times its expected yield.
+pub fn on_off(signal: f64, background: f64, ratio: f64) -> Model {
+    counting_window(
+        signal,
+        background,
+        &format!(", control: {{ratio: {ratio}}}"),
+    )
+}
