@@ -4,9 +4,12 @@
 //! derived from (seed, exposure index, toy index) alone, so results do not
 //! depend on the number of threads or on the order in which toys run.
 
+mod poisson;
+
 use crate::likelihood::{Dataset, DiscoveryTest, Likelihood};
 use crate::model::Constraint;
-use rand_distr::{Distribution, Normal, Poisson};
+use poisson::PoissonCounts;
+use rand_distr::{Distribution, Normal};
 use rand_pcg::Pcg64;
 use rayon::prelude::*;
 
@@ -37,15 +40,15 @@ fn splitmix64(value: u64) -> u64 {
 enum GlobalObservable {
     /// A Gaussian auxiliary measurement.
     Gaussian(Normal<f64>),
-    /// A control-region count (None when it expects nothing).
-    Count(Option<Poisson<f64>>),
+    /// A control-region count.
+    Count(PoissonCounts),
 }
 
 /// Draws pseudo-datasets from the model at fixed generating parameters.
 #[derive(Debug, Clone)]
 pub struct Generator {
-    /// Poisson distribution of each bin's count; None for a bin expecting nothing.
-    bins: Vec<Option<Poisson<f64>>>,
+    /// Poisson distribution of each bin's count.
+    bins: Vec<PoissonCounts>,
     /// Distribution of each constraint's global observable.
     global_observables: Vec<GlobalObservable>,
 }
@@ -61,7 +64,7 @@ impl Generator {
         let bins = work
             .expected
             .iter()
-            .map(|&mean| Poisson::new(mean).ok())
+            .map(|&mean| PoissonCounts::new(mean))
             .collect();
         let global_observables = likelihood
             .model()
@@ -72,12 +75,11 @@ impl Generator {
                     Normal::new(theta[parameter], width)
                         .expect("constraint widths are validated positive and finite"),
                 ),
-                Constraint::ControlRegion { parameter, .. } => GlobalObservable::Count(
-                    Poisson::new(
+                Constraint::ControlRegion { parameter, .. } => {
+                    GlobalObservable::Count(PoissonCounts::new(
                         constraint.expected_global_observable(theta[parameter], live_days),
-                    )
-                    .ok(),
-                ),
+                    ))
+                }
             })
             .collect();
         Generator {
@@ -97,7 +99,7 @@ impl Generator {
     /// Fills `data` with one pseudo-experiment drawn from `rng`.
     pub fn draw(&self, rng: &mut Pcg64, data: &mut Dataset) {
         for (count, poisson) in data.counts.iter_mut().zip(&self.bins) {
-            *count = poisson.as_ref().map_or(0.0, |p| p.sample(rng));
+            *count = poisson.sample(rng);
         }
         for (value, distribution) in data
             .global_observables
@@ -106,7 +108,7 @@ impl Generator {
         {
             *value = match distribution {
                 GlobalObservable::Gaussian(normal) => normal.sample(rng),
-                GlobalObservable::Count(poisson) => poisson.as_ref().map_or(0.0, |p| p.sample(rng)),
+                GlobalObservable::Count(poisson) => poisson.sample(rng),
             };
         }
     }

@@ -9,6 +9,15 @@ const FLAT_LIMIT: f64 = f64::EPSILON;
 /// Below this argument the Langevin function is summed from its series.
 const LANGEVIN_SERIES_LIMIT: f64 = 0.1;
 
+/// Bins between exact evaluations of exp(-k d); the running product in
+/// between gathers at most this many roundings (a relative 7e-15).
+const ANCHOR_INTERVAL: usize = 32;
+
+/// Half widths agreeing to this relative amount share one Langevin evaluation:
+/// the bin mean h L(slope h) moves by at most |dh| (its derivative in h is
+/// bounded by one), so by less than 1e-12 of the half width.
+const SHARED_HALF_WIDTH: f64 = 1e-12;
+
 /// Density proportional to exp(slope x), normalised on the range:
 /// slope exp(slope x) / (exp(slope high) - exp(slope low)).
 ///
@@ -16,10 +25,13 @@ const LANGEVIN_SERIES_LIMIT: f64 = 0.1;
 /// density, `low` for a falling one), with k = |slope| and d = |x - r|, the
 /// density is proportional to exp(-k d) and the mass between r and x is
 /// V(d) = -expm1(-k d) / k, which tends to d as k tends to 0 (closed form).
-/// A bin [a, b] holds |V(d_b) - V(d_a)| / V(d_range): nothing exceeds the range
-/// width, so no slope overflows, and expm1 keeps slopes near zero exact. Bins
-/// far from r, where V is close to its limit 1/k, keep absolute rather than
-/// relative precision (one expm1 per edge, none per bin). Parameters: `["slope"]`.
+/// A bin of width w whose nearer edge lies at distance d holds the mass
+/// exp(-k d) V(w): nothing exceeds the range width, so no slope overflows,
+/// expm1 keeps slopes near zero exact, and every bin keeps its relative
+/// precision, however far from r. Walking outwards from r, exp(-k d) is carried
+/// from bin to bin by the factor exp(-k w) and recomputed exactly every
+/// [`ANCHOR_INTERVAL`] bins, and equal widths share one expm1, so a uniform
+/// binning costs a multiplication per bin. Parameters: `["slope"]`.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Exponential {
     slope: f64,
@@ -47,11 +59,14 @@ impl Shape for Exponential {
             mark_invalid(fractions);
             return;
         };
-        let mut lower = frame.mass_from_peak_edge(edges[0]);
-        for (mass, &x) in fractions.iter_mut().zip(&edges[1..]) {
-            let upper = frame.mass_from_peak_edge(x);
-            *mass = (upper - lower).abs();
-            lower = upper;
+        if frame.flat {
+            for (mass, bin) in fractions.iter_mut().zip(edges.windows(2)) {
+                *mass = bin[1] - bin[0];
+            }
+        } else if frame.peak_edge == low {
+            frame.fill_masses(edges.iter().copied(), fractions.iter_mut());
+        } else {
+            frame.fill_masses(edges.iter().rev().copied(), fractions.iter_mut().rev());
         }
         normalise_masses(fractions);
     }
@@ -72,10 +87,13 @@ impl Shape for Exponential {
         let slope = params[0];
         let (low, high) = range_of(edges);
         let range_mean = mean_position(slope, low, high);
+        let mut offset = MeanOffset::new(slope);
         for ((derivative, fraction), bin) in
             gradient.iter_mut().zip(&*fractions).zip(edges.windows(2))
         {
-            *derivative = fraction * (mean_position(slope, bin[0], bin[1]) - range_mean);
+            let centre = 0.5 * (bin[0] + bin[1]);
+            let half_width = 0.5 * (bin[1] - bin[0]);
+            *derivative = fraction * (centre + offset.at(half_width) - range_mean);
         }
     }
 
@@ -131,6 +149,97 @@ impl Frame {
     /// exp(-k d), the density relative to its value at the peak edge.
     fn relative_density(&self, x: f64) -> f64 {
         (-self.steepness * (x - self.peak_edge).abs()).exp()
+    }
+
+    /// Bin masses exp(-k d) V(w), walking from the peak edge outwards: `edges`
+    /// start at the peak edge and `masses` are the bins in the same order.
+    fn fill_masses<'a>(
+        &self,
+        mut edges: impl Iterator<Item = f64>,
+        masses: impl Iterator<Item = &'a mut f64>,
+    ) {
+        let Some(mut near) = edges.next() else {
+            return;
+        };
+        let mut width = BinWidth::new(self.steepness, 0.0);
+        let mut density = 1.0;
+        for (index, (mass, far)) in masses.zip(edges).enumerate() {
+            if index % ANCHOR_INTERVAL == 0 {
+                density = self.relative_density(near);
+            }
+            let (bin_mass, decay) = width.mass_and_decay((far - near).abs());
+            *mass = density * bin_mass;
+            density *= decay;
+            near = far;
+        }
+    }
+}
+
+/// V(w) = -expm1(-k w) / k and exp(-k w) for the last bin width computed.
+struct BinWidth {
+    steepness: f64,
+    width: f64,
+    mass: f64,
+    decay: f64,
+}
+
+impl BinWidth {
+    fn new(steepness: f64, width: f64) -> BinWidth {
+        let change = (-steepness * width).exp_m1();
+        BinWidth {
+            steepness,
+            width,
+            mass: -change / steepness,
+            decay: 1.0 + change,
+        }
+    }
+
+    /// (V(w), exp(-k w)). A width within rounding of the last one is taken to
+    /// first order, V(w + e) = V(w) + e exp(-k w) and exp(-k (w + e)) =
+    /// exp(-k w)(1 - k e), when the neglected terms, k e^2 / 2 relative to V
+    /// and (k e)^2 / 2, are below double precision (Taylor expansion).
+    fn mass_and_decay(&mut self, width: f64) -> (f64, f64) {
+        let change = width - self.width;
+        let steepness_change = self.steepness * change.abs();
+        let first_order = steepness_change < 1e-8
+            && steepness_change * change.abs() < f64::EPSILON * width.min(self.width);
+        if first_order {
+            (
+                self.mass + change * self.decay,
+                self.decay * (1.0 - self.steepness * change),
+            )
+        } else {
+            *self = BinWidth::new(self.steepness, width);
+            (self.mass, self.decay)
+        }
+    }
+}
+
+/// h L(slope h), the offset of a bin's mean from its centre, for the last half
+/// width h evaluated.
+struct MeanOffset {
+    slope: f64,
+    half_width: f64,
+    offset: f64,
+}
+
+impl MeanOffset {
+    fn new(slope: f64) -> MeanOffset {
+        MeanOffset {
+            slope,
+            half_width: f64::NAN,
+            offset: f64::NAN,
+        }
+    }
+
+    fn at(&mut self, half_width: f64) -> f64 {
+        if (half_width - self.half_width).abs() > SHARED_HALF_WIDTH * half_width
+            || self.half_width.is_nan()
+        {
+            self.half_width = half_width;
+            self.offset = half_width * langevin(self.slope * half_width);
+        }
+        self.offset
     }
 }
 

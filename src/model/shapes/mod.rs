@@ -42,7 +42,10 @@ pub trait Shape: std::fmt::Debug + Send + Sync {
     /// `gradient[k * bins + i]` = d fraction_i / d params[k].
     ///
     /// The default uses central finite differences of [`Shape::bin_fractions`];
-    /// shapes whose parameters commonly float override it analytically.
+    /// shapes whose parameters commonly float override it analytically. It
+    /// allocates nothing for up to [`STACK_PARAMETERS`] parameters: each row of
+    /// `gradient` holds the upper fractions and `fractions` the lower ones
+    /// until the difference is taken.
     fn bin_fractions_with_gradient(
         &self,
         params: &[f64],
@@ -51,26 +54,40 @@ pub trait Shape: std::fmt::Debug + Send + Sync {
         gradient: &mut [f64],
     ) {
         let bins = fractions.len();
-        self.bin_fractions(params, edges, fractions);
-        let mut shifted = params.to_vec();
-        let mut upper = vec![0.0; bins];
-        let mut lower = vec![0.0; bins];
-        for k in 0..params.len() {
-            let step = 1e-6 * params[k].abs().max(1e-3);
-            shifted[k] = params[k] + step;
-            self.bin_fractions(&shifted, edges, &mut upper);
-            shifted[k] = params[k] - step;
-            self.bin_fractions(&shifted, edges, &mut lower);
-            shifted[k] = params[k];
-            for i in 0..bins {
-                gradient[k * bins + i] = (upper[i] - lower[i]) / (2.0 * step);
+        with_copy(params, |shifted| {
+            for k in 0..params.len() {
+                let step = 1e-6 * params[k].abs().max(1e-3);
+                let row = &mut gradient[k * bins..(k + 1) * bins];
+                shifted[k] = params[k] + step;
+                self.bin_fractions(shifted, edges, row);
+                shifted[k] = params[k] - step;
+                self.bin_fractions(shifted, edges, fractions);
+                shifted[k] = params[k];
+                for (derivative, lower) in row.iter_mut().zip(&*fractions) {
+                    *derivative = (*derivative - lower) / (2.0 * step);
+                }
             }
-        }
+        });
+        self.bin_fractions(params, edges, fractions);
     }
 
     /// The normalised density at `x` on the range `[low, high]` (per unit of the
     /// observable), zero outside the range and NaN outside the shape's domain.
     fn density(&self, params: &[f64], low: f64, high: f64, x: f64) -> f64;
+}
+
+/// Shapes with at most this many parameters are differentiated without allocating.
+const STACK_PARAMETERS: usize = 8;
+
+/// Runs `work` on a mutable copy of `params`, on the stack when it is short.
+fn with_copy(params: &[f64], work: impl FnOnce(&mut [f64])) {
+    if params.len() <= STACK_PARAMETERS {
+        let mut copy = [0.0; STACK_PARAMETERS];
+        copy[..params.len()].copy_from_slice(params);
+        work(&mut copy[..params.len()]);
+    } else {
+        work(&mut params.to_vec());
+    }
 }
 
 /// Divides bin masses by their sum, turning them into fractions, and returns the sum.
