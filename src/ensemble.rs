@@ -131,6 +131,9 @@ pub struct EnsemblePlan<'a> {
     pub progress: &'a (dyn Fn(u64) + Sync),
 }
 
+/// Pseudo-experiments per unit of parallel work (and per progress report).
+const CHUNK: usize = 256;
+
 /// Runs `plan.toys` pseudo-experiments generated at nominal parameters (mu = 1)
 /// after `live_days`, each fitted twice for q0; `exposure_index` selects the streams.
 pub fn discovery_ensemble(
@@ -140,36 +143,47 @@ pub fn discovery_ensemble(
     plan: &EnsemblePlan,
 ) -> EnsembleOutcome {
     let nominal = likelihood.model().nominal_parameters();
-    let generator = Generator::new(likelihood, &nominal, live_days);
-    const CHUNK: usize = 256;
-    let chunks: Vec<Vec<Option<f64>>> = (0..plan.toys.div_ceil(CHUNK))
-        .into_par_iter()
-        .map_init(
+    q0_ensemble(likelihood, &nominal, live_days, exposure_index, plan)
+}
+
+/// Runs `plan.toys` pseudo-experiments generated at `generating` parameters
+/// (mu = 0 for a background-only ensemble) after `live_days`, each fitted twice
+/// for q0; `exposure_index` selects the streams.
+///
+/// Each worker thread keeps one fitter and one dataset for all its toys, and
+/// the significances are written straight into their place in one vector
+/// (a failed toy as NaN until the failures are counted and removed), so the
+/// memory is that of the results alone, eight bytes a toy.
+pub fn q0_ensemble(
+    likelihood: &Likelihood,
+    generating: &[f64],
+    live_days: f64,
+    exposure_index: usize,
+    plan: &EnsemblePlan,
+) -> EnsembleOutcome {
+    let generator = Generator::new(likelihood, generating, live_days);
+    let mut significances = vec![f64::NAN; plan.toys];
+    significances
+        .par_chunks_mut(CHUNK)
+        .enumerate()
+        .for_each_init(
             || (DiscoveryTest::new(likelihood), generator.empty_dataset()),
-            |(test, data), chunk| {
-                let toys = chunk * CHUNK..((chunk + 1) * CHUNK).min(plan.toys);
-                let count = toys.len() as u64;
-                let results = toys
-                    .map(|toy| {
-                        let mut rng = toy_stream(plan.seed, exposure_index, toy);
-                        generator.draw(&mut rng, data);
-                        test.fit(live_days, data).ok().map(|fit| fit.q0.sqrt())
-                    })
-                    .collect();
-                (plan.progress)(count);
-                results
+            |(test, data), (chunk, results)| {
+                for (offset, z) in results.iter_mut().enumerate() {
+                    let toy = chunk * CHUNK + offset;
+                    let mut rng = toy_stream(plan.seed, exposure_index, toy);
+                    generator.draw(&mut rng, data);
+                    if let Ok(fit) = test.fit(live_days, data) {
+                        *z = fit.q0.sqrt();
+                    }
+                }
+                (plan.progress)(results.len() as u64);
             },
-        )
-        .collect();
-    let mut outcome = EnsembleOutcome {
-        significances: Vec::with_capacity(plan.toys),
-        failed_fits: 0,
-    };
-    for z in chunks.into_iter().flatten() {
-        match z {
-            Some(z) => outcome.significances.push(z),
-            None => outcome.failed_fits += 1,
-        }
+        );
+    let converged = significances.iter().filter(|z| !z.is_nan()).count();
+    significances.retain(|z| !z.is_nan());
+    EnsembleOutcome {
+        significances,
+        failed_fits: plan.toys - converged,
     }
-    outcome
 }

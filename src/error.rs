@@ -1,5 +1,6 @@
 //! The errors a command can end with; each prints as one line a user can act on.
 
+use crate::benchmark::BenchmarkError;
 use crate::projection::ProjectionError;
 use crate::report::ReportError;
 use crate::scenario::ScenarioError;
@@ -25,6 +26,7 @@ pub enum Error {
     },
     /// Command-line values that parse but make no sense.
     Usage(String),
+    Benchmark(BenchmarkError),
 }
 
 impl fmt::Display for Error {
@@ -40,6 +42,7 @@ impl fmt::Display for Error {
                 path.display()
             ),
             Error::Usage(message) => f.write_str(message),
+            Error::Benchmark(source) => write!(f, "{source}"),
         }
     }
 }
@@ -49,6 +52,12 @@ impl std::error::Error for Error {}
 impl From<ProjectionError> for Error {
     fn from(source: ProjectionError) -> Error {
         Error::Projection(source)
+    }
+}
+
+impl From<BenchmarkError> for Error {
+    fn from(source: BenchmarkError) -> Error {
+        Error::Benchmark(source)
     }
 }
 

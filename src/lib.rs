@@ -6,9 +6,11 @@
 //! -> ensemble (seeded pseudo-experiments) -> projection (exposure scan, days to target)
 //! -> report (SVG, CSV, JSON, terminal summary).
 //! `asymptotic` holds the Asimov answers the projection cross-checks against;
-//! `cli` and `commands` are the command-line front end.
+//! `cli` and `commands` are the command-line front end; `benchmark` measures
+//! the engine.
 
 pub mod asymptotic;
+pub mod benchmark;
 pub mod cli;
 pub mod commands;
 pub mod ensemble;

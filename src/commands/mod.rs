@@ -1,5 +1,6 @@
 //! The commands: each loads what it needs, calls the engine and reports.
 
+mod bench;
 mod check;
 mod new;
 mod project;
@@ -15,6 +16,7 @@ pub fn run(cli: Cli) -> Result<(), Error> {
         Command::Project(args) => project::run(&args),
         Command::Check { scenario } => check::run(&scenario),
         Command::New { file } => new::run(&file),
+        Command::Bench(args) => bench::run(&args),
     }
 }
 

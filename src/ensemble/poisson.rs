@@ -124,10 +124,14 @@ impl InversionTable {
     }
 }
 
-/// One guide entry per table entry: the first index whose cumulative
-/// probability exceeds g / n.
+/// Guide entries per table entry: with four, the entry a variate lands on is
+/// usually its answer already, so the search rarely takes a step.
+const GUIDE_SLOTS_PER_ENTRY: usize = 4;
+
+/// [`GUIDE_SLOTS_PER_ENTRY`] guide entries per table entry, entry g the first
+/// index whose cumulative probability exceeds g / slots.
 fn guide_table(cumulative: &[f64]) -> Vec<u32> {
-    let slots = cumulative.len();
+    let slots = GUIDE_SLOTS_PER_ENTRY * cumulative.len();
     let mut index = 0;
     (0..slots)
         .map(|g| {

@@ -79,6 +79,43 @@ impl<'l, 'm> Fitter<'l, 'm> {
         &self.theta
     }
 
+    /// A start for a fit with `parameter` fixed at `value`, written to `start`:
+    /// the last best fit theta-hat with the other parameters r moved to the
+    /// minimum of the quadratic approximation of -ln L around it,
+    ///
+    ///   r = r-hat - H_rr^-1 H_rp (value - theta-hat_p)
+    ///
+    /// (one Newton step of the constrained fit, from the Hessian H at the best
+    /// fit; Nocedal and Wright, Numerical Optimization, 2nd ed., ch. 3), then
+    /// clamped to the bounds. Where that system cannot be solved the start is
+    /// theta-hat itself with the parameter set to `value`.
+    pub fn conditional_start(&mut self, parameter: usize, value: f64, start: &mut [f64]) {
+        let parameters = self.likelihood.parameter_count();
+        let shift = value - self.theta[parameter];
+        start.copy_from_slice(&self.theta);
+        start[parameter] = value;
+        self.free.clear();
+        self.free
+            .extend((0..parameters).filter(|&a| a != parameter));
+        let free = self.free.len();
+        for (i, &a) in self.free.iter().enumerate() {
+            for (k, &b) in self.free.iter().enumerate() {
+                self.reduced_hessian[i * free + k] = self.work.hessian[a * parameters + b];
+            }
+            self.reduced_step[i] = -self.work.hessian[a * parameters + parameter] * shift;
+        }
+        let step = &mut self.reduced_step[..free];
+        if solve_positive_definite(&mut self.reduced_hessian[..free * free], step, free) {
+            let bounds = &self.likelihood.model().parameters;
+            for (&a, &delta) in self.free.iter().zip(&*step) {
+                let moved = start[a] + delta;
+                if moved.is_finite() {
+                    start[a] = moved.clamp(bounds[a].lower, bounds[a].upper);
+                }
+            }
+        }
+    }
+
     /// The scratch space, for evaluating expectations outside fits.
     pub fn workspace(&mut self) -> &mut Workspace {
         &mut self.work

@@ -56,6 +56,10 @@ pub struct Workspace {
     fractions: Vec<Vec<f64>>,
     /// d fraction / d shape parameter of each floating term, `k * bins + i`.
     fraction_gradients: Vec<Vec<f64>>,
+    /// d2 fraction / d shape parameters k, l of each floating term,
+    /// `(k * n + l) * bins + i`, and whether its shape provides them.
+    fraction_curvatures: Vec<Vec<f64>>,
+    has_curvatures: Vec<bool>,
     /// Expected counts per bin.
     pub expected: Vec<f64>,
     /// d expected_j / d theta_a, `a * bins + j`.
@@ -67,6 +71,10 @@ pub struct Workspace {
     logarithms: Vec<f64>,
     /// Values of one floating shape's parameters.
     shape_parameters: Vec<f64>,
+    /// For each term, the shape parameters its fractions were last computed
+    /// at (NaN before the first time), and whether its gradients were too.
+    fractions_at: Vec<Vec<f64>>,
+    gradients_current: Vec<bool>,
     /// Gradient and Hessian (row-major) of -ln L.
     gradient: Vec<f64>,
     hessian: Vec<f64>,
@@ -139,9 +147,23 @@ impl<'m> Likelihood<'m> {
             .iter()
             .map(|term| vec![0.0; term.floating.map_or(0, |p| p.len()) * term.bins])
             .collect();
+        let fraction_curvatures = self
+            .terms
+            .iter()
+            .map(|term| vec![0.0; term.floating.map_or(0, |p| p.len() * p.len()) * term.bins])
+            .collect();
+        let fractions_at = self
+            .terms
+            .iter()
+            .map(|term| vec![f64::NAN; term.floating.map_or(0, <[usize]>::len)])
+            .collect();
         Workspace {
             fractions,
             fraction_gradients,
+            fraction_curvatures,
+            has_curvatures: vec![false; self.terms.len()],
+            fractions_at,
+            gradients_current: vec![false; self.terms.len()],
             expected: vec![0.0; self.bins],
             shape_parameters: vec![0.0; parameters],
             expected_gradient: vec![0.0; parameters * self.bins],
@@ -183,6 +205,9 @@ impl<'m> Likelihood<'m> {
         }
     }
 
+    /// Recomputes the fractions of floating shapes (and their gradients when
+    /// asked), unless they are already at these shape parameters: every fit
+    /// starts at the same nominal shape.
     fn update_fractions(&self, theta: &[f64], work: &mut Workspace, with_gradient: bool) {
         for (index, term) in self.terms.iter().enumerate() {
             let Some(floating) = term.floating else {
@@ -192,12 +217,24 @@ impl<'m> Likelihood<'m> {
             for (value, &p) in parameters.iter_mut().zip(floating) {
                 *value = theta[p];
             }
+            let at = &mut work.fractions_at[index];
+            if at.as_slice() == &*parameters && (work.gradients_current[index] || !with_gradient) {
+                continue;
+            }
+            at.copy_from_slice(parameters);
+            work.gradients_current[index] = with_gradient;
             if with_gradient {
                 term.shape.bin_fractions_with_gradient(
                     parameters,
                     term.edges,
                     &mut work.fractions[index],
                     &mut work.fraction_gradients[index],
+                );
+                work.has_curvatures[index] = term.shape.bin_fraction_curvatures(
+                    parameters,
+                    term.edges,
+                    &work.fractions[index],
+                    &mut work.fraction_curvatures[index],
                 );
             } else {
                 term.shape
@@ -246,9 +283,10 @@ impl<'m> Likelihood<'m> {
     ///
     /// Gradient: d/dtheta_a = sum_j (1 - n_j/nu_j) dnu_j/dtheta_a + constraints.
     /// Hessian: sum_j [n_j/nu_j^2 dnu_j/dtheta_a dnu_j/dtheta_b + (1 - n_j/nu_j) d2nu_j/dtheta_a dtheta_b];
-    /// the second-derivative term is kept for products of yield parameters and for
-    /// yield-shape pairs, and dropped for pairs of shape parameters (a Gauss-Newton
-    /// step in that block; it vanishes at the minimum on average).
+    /// the second-derivative term is kept for products of yield parameters, for
+    /// yield-shape pairs and for pairs of shape parameters whose shape provides
+    /// second derivatives; for other shapes it is dropped in their block (a
+    /// Gauss-Newton step there; it vanishes at the minimum on average).
     pub fn negative_log_likelihood_with_derivatives(
         &self,
         theta: &[f64],
@@ -329,15 +367,28 @@ impl<'m> Likelihood<'m> {
         }
     }
 
-    /// (1 - n_j/nu_j) d2nu_j terms for yield-yield and yield-shape pairs (lower triangle).
+    /// (1 - n_j/nu_j) d2nu_j terms for yield-yield, yield-shape and (where the
+    /// shape provides them) shape-shape pairs (lower triangle).
     fn add_second_derivative_terms(&self, theta: &[f64], live_days: f64, work: &mut Workspace) {
         let parameters = self.parameter_count();
         for (index, term) in self.terms.iter().enumerate() {
+            let weights = &work.weights[term.offset..term.offset + term.bins];
+            if let (Some(floating), true) = (term.floating, work.has_curvatures[index]) {
+                let yield_ = term.yield_at(theta, live_days);
+                let curvatures = &work.fraction_curvatures[index];
+                let n = floating.len();
+                for (k, &a) in floating.iter().enumerate() {
+                    for (l, &b) in floating[..=k].iter().enumerate() {
+                        let curvature = &curvatures[(k * n + l) * term.bins..][..term.bins];
+                        let value = yield_ * dot(weights, curvature);
+                        add_lower(&mut work.hessian, parameters, a, b, value);
+                    }
+                }
+            }
             let has_pairs = term.yield_parameters.len() > 1;
             if !has_pairs && (term.floating.is_none() || term.yield_parameters.is_empty()) {
                 continue;
             }
-            let weights = &work.weights[term.offset..term.offset + term.bins];
             let weighted_fraction = dot(weights, &work.fractions[index]);
             let base = term.events_per_live_day * live_days;
             for (i, &a) in term.yield_parameters.iter().enumerate() {

@@ -71,6 +71,21 @@ pub trait Shape: std::fmt::Debug + Send + Sync {
         self.bin_fractions(params, edges, fractions);
     }
 
+    /// Second derivatives of the bin fractions in the parameters,
+    /// `curvatures[(k * n + l) * bins + i]` = d2 fraction_i / d params[k] d params[l]
+    /// with n = `params.len()`, given the `fractions` of the same parameters.
+    /// Returns false, writing nothing, when the shape does not provide them;
+    /// a fit then approximates that block of its Hessian (Gauss-Newton).
+    fn bin_fraction_curvatures(
+        &self,
+        _params: &[f64],
+        _edges: &[f64],
+        _fractions: &[f64],
+        _curvatures: &mut [f64],
+    ) -> bool {
+        false
+    }
+
     /// The normalised density at `x` on the range `[low, high]` (per unit of the
     /// observable), zero outside the range and NaN outside the shape's domain.
     fn density(&self, params: &[f64], low: f64, high: f64, x: f64) -> f64;
@@ -96,16 +111,30 @@ fn with_copy(params: &[f64], work: impl FnOnce(&mut [f64])) {
 /// parameters lie outside the shape's domain: every entry becomes NaN and the
 /// result is `None`.
 fn normalise_masses(masses: &mut [f64]) -> Option<f64> {
-    let total: f64 = masses.iter().sum();
+    let total = sum(masses);
     let valid = total > 0.0 && total.is_finite() && masses.iter().all(|&mass| mass >= 0.0);
     if !valid {
         mark_invalid(masses);
         return None;
     }
+    let scale = total.recip();
     for mass in masses.iter_mut() {
-        *mass /= total;
+        *mass *= scale;
     }
     Some(total)
+}
+
+/// The sum of `values`, in four interleaved partial sums that the compiler
+/// can keep in vector registers (it may not reorder a single sum).
+fn sum(values: &[f64]) -> f64 {
+    let mut sums = [0.0; 4];
+    let mut chunks = values.chunks_exact(4);
+    for chunk in &mut chunks {
+        for (partial, value) in sums.iter_mut().zip(chunk) {
+            *partial += value;
+        }
+    }
+    (sums[0] + sums[2]) + (sums[1] + sums[3]) + chunks.remainder().iter().sum::<f64>()
 }
 
 /// The fitted range `[edges[0], edges[last]]`.
