@@ -58,7 +58,9 @@ pub struct InversionTable {
     first: u32,
     /// P(K <= first + i), the last entry exactly one.
     cumulative: Vec<f64>,
-    /// guide[g]: the first index whose cumulative probability exceeds g / guide.len().
+    /// For slot g of the guide, the index to start the search from, flagged
+    /// with [`SETTLED`] when every variate of the slot has that answer (see
+    /// [`guide_table`]).
     guide: Vec<u32>,
 }
 
@@ -111,35 +113,56 @@ impl InversionTable {
     }
 
     /// The smallest count whose cumulative probability exceeds a uniform
-    /// variate u in [0, 1); the guide entry of u is never past it.
+    /// variate u in [0, 1); the guide entry of u is never past it, and is it
+    /// when settled.
     #[inline]
     fn sample(&self, rng: &mut Pcg64) -> f64 {
         let u: f64 = rng.random();
         let slot = ((u * self.guide.len() as f64) as usize).min(self.guide.len() - 1);
-        let mut index = self.guide[slot] as usize;
-        while self.cumulative[index] <= u {
-            index += 1;
+        let entry = self.guide[slot];
+        let mut index = (entry & !SETTLED) as usize;
+        if entry & SETTLED == 0 {
+            while self.cumulative[index] <= u {
+                index += 1;
+            }
         }
         f64::from(self.first + index as u32)
     }
 }
 
-/// Guide entries per table entry: with four, the entry a variate lands on is
-/// usually its answer already, so the search rarely takes a step.
+/// Guide entries per table entry: with four, most slots lie inside the
+/// probability of a single count.
 const GUIDE_SLOTS_PER_ENTRY: usize = 4;
 
-/// [`GUIDE_SLOTS_PER_ENTRY`] guide entries per table entry, entry g the first
-/// index whose cumulative probability exceeds g / slots.
+/// Flag of a guide entry whose slot holds a single answer.
+const SETTLED: u32 = 1 << 31;
+
+/// Widening of each slot on both sides, far above the rounding of u x slots
+/// (at most slots x 2^-53, about 1e-12 for the largest tables), so that a
+/// variate assigned to a slot by rounded arithmetic lies inside the widened slot.
+const SLOT_MARGIN: f64 = 1e-9;
+
+/// [`GUIDE_SLOTS_PER_ENTRY`] guide entries per table entry. Slot g covers
+/// the variates in [g/slots, (g+1)/slots), widened by [`SLOT_MARGIN`]; its
+/// entry is the first index whose cumulative probability exceeds the lower
+/// end, and it is [`SETTLED`] when that probability exceeds the upper end too,
+/// so that every variate of the slot has that index as its answer.
 fn guide_table(cumulative: &[f64]) -> Vec<u32> {
     let slots = GUIDE_SLOTS_PER_ENTRY * cumulative.len();
     let mut index = 0;
     (0..slots)
         .map(|g| {
-            let level = g as f64 / slots as f64;
-            while cumulative[index] <= level {
+            let lower = g as f64 / slots as f64 - SLOT_MARGIN;
+            let upper = (g + 1) as f64 / slots as f64 + SLOT_MARGIN;
+            while cumulative[index] <= lower {
                 index += 1;
             }
-            index as u32
+            let settled = if cumulative[index] > upper {
+                SETTLED
+            } else {
+                0
+            };
+            index as u32 | settled
         })
         .collect()
 }
@@ -249,6 +272,31 @@ mod tests {
             assert!(
                 (variance - mean).abs() < 4.0 * mean * (2.0 / n).sqrt(),
                 "variance {variance}"
+            );
+        }
+    }
+
+    /// Each settled guide slot holds one answer: the inverse of the
+    /// distribution (common practice) at both ends of the slot is its index.
+    #[test]
+    fn settled_slots_hold_one_count() {
+        for mean in [0.3, 12.0, 400.0] {
+            let table = table(mean);
+            let slots = table.guide.len() as f64;
+            let inverse = |u: f64| table.cumulative.iter().position(|&c| c > u).unwrap() as u32;
+            let mut settled = 0;
+            for (g, &entry) in table.guide.iter().enumerate() {
+                let index = entry & !SETTLED;
+                assert!(inverse(g as f64 / slots) >= index, "mean {mean}, slot {g}");
+                if entry & SETTLED != 0 {
+                    settled += 1;
+                    assert_eq!(inverse(g as f64 / slots), index);
+                    assert_eq!(inverse(((g + 1) as f64 / slots).min(1.0 - 1e-16)), index);
+                }
+            }
+            assert!(
+                settled * 2 > table.guide.len(),
+                "mean {mean}: {settled} settled"
             );
         }
     }

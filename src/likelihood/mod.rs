@@ -287,7 +287,38 @@ impl<'m> Likelihood<'m> {
     /// yield-shape pairs and for pairs of shape parameters whose shape provides
     /// second derivatives; for other shapes it is dropped in their block (a
     /// Gauss-Newton step there; it vanishes at the minimum on average).
+    ///
+    /// Where the processor has 256-bit vectors (AVX2) the same code is compiled
+    /// for them too and chosen at run time, with identical results.
     pub fn negative_log_likelihood_with_derivatives(
+        &self,
+        theta: &[f64],
+        live_days: f64,
+        data: &Dataset,
+        work: &mut Workspace,
+    ) -> f64 {
+        #[cfg(target_arch = "x86_64")]
+        if std::is_x86_feature_detected!("avx2") {
+            // SAFETY: the processor was just found to support AVX2.
+            return unsafe { self.derivatives_avx2(theta, live_days, data, work) };
+        }
+        self.derivatives(theta, live_days, data, work)
+    }
+
+    #[cfg(target_arch = "x86_64")]
+    #[target_feature(enable = "avx2")]
+    fn derivatives_avx2(
+        &self,
+        theta: &[f64],
+        live_days: f64,
+        data: &Dataset,
+        work: &mut Workspace,
+    ) -> f64 {
+        self.derivatives(theta, live_days, data, work)
+    }
+
+    #[inline(always)]
+    fn derivatives(
         &self,
         theta: &[f64],
         live_days: f64,
@@ -314,6 +345,7 @@ impl<'m> Likelihood<'m> {
 
     /// Expected counts nu_j and their derivatives dnu_j/dtheta_a, from the
     /// fractions (and fraction gradients) already in `work`.
+    #[inline(always)]
     fn fill_expected_with_gradient(&self, theta: &[f64], live_days: f64, work: &mut Workspace) {
         let bins = self.bins;
         work.expected.fill(0.0);
@@ -344,6 +376,7 @@ impl<'m> Likelihood<'m> {
     /// The Poisson part of the gradient, sum_j w_j dnu_j/dtheta_a, and of the
     /// Hessian, sum_j c_j dnu_j/dtheta_a dnu_j/dtheta_b (lower triangle), each
     /// over the bins where both derivatives can be non-zero.
+    #[inline(always)]
     fn fill_gradient_and_hessian(&self, work: &mut Workspace) {
         let parameters = self.parameter_count();
         let bins = self.bins;
@@ -369,6 +402,7 @@ impl<'m> Likelihood<'m> {
 
     /// (1 - n_j/nu_j) d2nu_j terms for yield-yield, yield-shape and (where the
     /// shape provides them) shape-shape pairs (lower triangle).
+    #[inline(always)]
     fn add_second_derivative_terms(&self, theta: &[f64], live_days: f64, work: &mut Workspace) {
         let parameters = self.parameter_count();
         for (index, term) in self.terms.iter().enumerate() {
@@ -480,6 +514,7 @@ fn poisson_weights(n: f64, nu: f64) -> (f64, f64) {
 
 /// Sum of the deviance terms of all bins, filling `work.weights` and
 /// `work.curvatures` on the way; infinite when an expectation is invalid.
+#[inline(always)]
 fn poisson_terms_with_weights(counts: &[f64], work: &mut Workspace) -> f64 {
     poisson::terms_with_weights(
         counts,
@@ -505,6 +540,7 @@ fn column_of(terms: &[Term], parameter: usize) -> Range<usize> {
 }
 
 /// target += scale x values, element by element.
+#[inline(always)]
 fn add_scaled(target: &mut [f64], scale: f64, values: &[f64]) {
     for (t, v) in target.iter_mut().zip(values) {
         *t += scale * v;
@@ -516,6 +552,7 @@ fn add_scaled(target: &mut [f64], scale: f64, values: &[f64]) {
 const LANES: usize = 4;
 
 /// sum_j a_j b_j.
+#[inline(always)]
 fn dot(a: &[f64], b: &[f64]) -> f64 {
     let mut sums = [0.0; LANES];
     let chunks = a.len() / LANES * LANES;
@@ -536,6 +573,7 @@ fn dot(a: &[f64], b: &[f64]) -> f64 {
 }
 
 /// sum_j w_j a_j b_j.
+#[inline(always)]
 fn weighted_dot(w: &[f64], a: &[f64], b: &[f64]) -> f64 {
     let mut sums = [0.0; LANES];
     let chunks = w.len() / LANES * LANES;

@@ -84,18 +84,10 @@ impl Shape for Exponential {
     ) {
         debug_assert_eq!(gradient.len(), fractions.len());
         self.bin_fractions(params, edges, fractions);
-        let slope = params[0];
-        let (low, high) = range_of(edges);
-        let range = BinMoments::new(slope).at(0.5 * (high - low));
-        let range_mean = 0.5 * (low + high) + range.offset;
-        let mut moments = BinMoments::new(slope);
-        for ((derivative, fraction), bin) in
-            gradient.iter_mut().zip(&*fractions).zip(edges.windows(2))
-        {
-            let centre = 0.5 * (bin[0] + bin[1]);
-            let offset = moments.at(0.5 * (bin[1] - bin[0])).offset;
-            *derivative = fraction * (centre + offset - range_mean);
-        }
+        let fractions = &*fractions;
+        for_each_bin_moment(params[0], edges, |i, shift, _| {
+            gradient[i] = fractions[i] * shift;
+        });
     }
 
     /// d2 ln m / d slope2 is the variance of x over the bin, so
@@ -109,18 +101,9 @@ impl Shape for Exponential {
         fractions: &[f64],
         curvatures: &mut [f64],
     ) -> bool {
-        let slope = params[0];
-        let (low, high) = range_of(edges);
-        let range = BinMoments::new(slope).at(0.5 * (high - low));
-        let range_mean = 0.5 * (low + high) + range.offset;
-        let mut moments = BinMoments::new(slope);
-        for ((curvature, fraction), bin) in
-            curvatures.iter_mut().zip(fractions).zip(edges.windows(2))
-        {
-            let bin_moments = moments.at(0.5 * (bin[1] - bin[0]));
-            let shift = 0.5 * (bin[0] + bin[1]) + bin_moments.offset - range_mean;
-            *curvature = fraction * (shift * shift + bin_moments.variance - range.variance);
-        }
+        for_each_bin_moment(params[0], edges, |i, shift, variance_excess| {
+            curvatures[i] = fractions[i] * (shift * shift + variance_excess);
+        });
         true
     }
 
@@ -190,10 +173,13 @@ impl Frame {
         };
         let mut width = BinWidth::new(self.steepness, 0.0);
         let mut density = 1.0;
-        for (index, (mass, far)) in masses.zip(edges).enumerate() {
-            if index % ANCHOR_INTERVAL == 0 {
+        let mut until_anchor = 0;
+        for (mass, far) in masses.zip(edges) {
+            if until_anchor == 0 {
                 density = self.relative_density(near);
+                until_anchor = ANCHOR_INTERVAL;
             }
+            until_anchor -= 1;
             let (bin_mass, decay) = width.mass_and_decay((far - near).abs());
             *mass = density * bin_mass;
             density *= decay;
@@ -226,6 +212,9 @@ impl BinWidth {
     /// exp(-k w)(1 - k e), when the neglected terms, k e^2 / 2 relative to V
     /// and (k e)^2 / 2, are below double precision (Taylor expansion).
     fn mass_and_decay(&mut self, width: f64) -> (f64, f64) {
+        if width == self.width {
+            return (self.mass, self.decay);
+        }
         let change = width - self.width;
         let steepness_change = self.steepness * change.abs();
         let first_order = steepness_change < 1e-8
@@ -238,6 +227,38 @@ impl BinWidth {
         } else {
             *self = BinWidth::new(self.steepness, width);
             (self.mass, self.decay)
+        }
+    }
+}
+
+/// Calls `visit(i, <x>_bin - <x>_range, Var_bin - Var_range)` for every bin i
+/// in order. When all bins share their half width (to [`SHARED_HALF_WIDTH`]),
+/// one evaluation of the moments serves every bin and the loop is plain
+/// arithmetic the compiler can vectorise.
+#[inline(always)]
+fn for_each_bin_moment(slope: f64, edges: &[f64], mut visit: impl FnMut(usize, f64, f64)) {
+    let (low, high) = range_of(edges);
+    let range = BinMoments::new(slope).at(0.5 * (high - low));
+    let range_mean = 0.5 * (low + high) + range.offset;
+    let bins = edges.len() - 1;
+    let first = BinMoments::new(slope).at(0.5 * (edges[1] - edges[0]));
+    let tolerance = SHARED_HALF_WIDTH * first.half_width;
+    let mut shared = true;
+    for i in 0..bins {
+        shared &= (0.5 * (edges[i + 1] - edges[i]) - first.half_width).abs() <= tolerance;
+    }
+    if shared {
+        let offset = first.offset - range_mean;
+        let variance_excess = first.variance - range.variance;
+        for i in 0..bins {
+            visit(i, 0.5 * (edges[i] + edges[i + 1]) + offset, variance_excess);
+        }
+    } else {
+        let mut moments = BinMoments::new(slope);
+        for i in 0..bins {
+            let bin = moments.at(0.5 * (edges[i + 1] - edges[i]));
+            let shift = 0.5 * (edges[i] + edges[i + 1]) + bin.offset - range_mean;
+            visit(i, shift, bin.variance - range.variance);
         }
     }
 }

@@ -111,8 +111,8 @@ fn with_copy(params: &[f64], work: impl FnOnce(&mut [f64])) {
 /// parameters lie outside the shape's domain: every entry becomes NaN and the
 /// result is `None`.
 fn normalise_masses(masses: &mut [f64]) -> Option<f64> {
-    let total = sum(masses);
-    let valid = total > 0.0 && total.is_finite() && masses.iter().all(|&mass| mass >= 0.0);
+    let (total, non_negative) = sum_and_sign(masses);
+    let valid = non_negative && total > 0.0 && total.is_finite();
     if !valid {
         mark_invalid(masses);
         return None;
@@ -125,16 +125,23 @@ fn normalise_masses(masses: &mut [f64]) -> Option<f64> {
 }
 
 /// The sum of `values`, in four interleaved partial sums that the compiler
-/// can keep in vector registers (it may not reorder a single sum).
-fn sum(values: &[f64]) -> f64 {
+/// can keep in vector registers (it may not reorder a single sum), and
+/// whether every value is non-negative (not NaN).
+fn sum_and_sign(values: &[f64]) -> (f64, bool) {
     let mut sums = [0.0; 4];
+    let mut non_negative = true;
     let mut chunks = values.chunks_exact(4);
     for chunk in &mut chunks {
-        for (partial, value) in sums.iter_mut().zip(chunk) {
+        for (partial, &value) in sums.iter_mut().zip(chunk) {
             *partial += value;
+            non_negative &= value >= 0.0;
         }
     }
-    (sums[0] + sums[2]) + (sums[1] + sums[3]) + chunks.remainder().iter().sum::<f64>()
+    for &value in chunks.remainder() {
+        sums[0] += value;
+        non_negative &= value >= 0.0;
+    }
+    ((sums[0] + sums[2]) + (sums[1] + sums[3]), non_negative)
 }
 
 /// The fitted range `[edges[0], edges[last]]`.
