@@ -14,8 +14,10 @@ pub fn render(report: &BenchmarkReport) -> String {
         text,
         "runcast bench ({run}): one toy = Poisson draw of every bin + fit with mu free \
          + fit with mu = 0 + q0\nmodels: Gaussian peak on an exponential continuum; mu, \
-         background factor (10% constraint) and slope fitted; {} live days\n",
-        super::models::LIVE_DAYS
+         background factor (10% constraint) and slope fitted; {} live days\n\
+         rates: fastest of {} runs; toy/draw = cost of a full toy over its draw alone\n",
+        super::models::LIVE_DAYS,
+        report.length.repeats()
     );
     let _ = writeln!(
         text,

@@ -61,7 +61,7 @@ pub struct InversionTable {
     /// For slot g of the guide, the index to start the search from, flagged
     /// with [`SETTLED`] when every variate of the slot has that answer (see
     /// [`guide_table`]).
-    guide: Vec<u32>,
+    guide: Vec<u16>,
 }
 
 impl InversionTable {
@@ -104,6 +104,7 @@ impl InversionTable {
             })
             .collect();
         *cumulative.last_mut().expect("the mode is tabulated") = 1.0;
+        debug_assert!(cumulative.len() < usize::from(SETTLED));
         let guide = guide_table(&cumulative);
         InversionTable {
             first,
@@ -134,8 +135,11 @@ impl InversionTable {
 /// probability of a single count.
 const GUIDE_SLOTS_PER_ENTRY: usize = 4;
 
-/// Flag of a guide entry whose slot holds a single answer.
-const SETTLED: u32 = 1 << 31;
+/// Flag of a guide entry whose slot holds a single answer. Tables stay far
+/// below the 2^15 entries the other bits can index (about 1,300 at the
+/// largest tabulated mean), so a guide entry takes two bytes and the guide of
+/// a few hundred bins stays in the processor's cache.
+const SETTLED: u16 = 1 << 15;
 
 /// Widening of each slot on both sides, far above the rounding of u x slots
 /// (at most slots x 2^-53, about 1e-12 for the largest tables), so that a
@@ -147,7 +151,7 @@ const SLOT_MARGIN: f64 = 1e-9;
 /// entry is the first index whose cumulative probability exceeds the lower
 /// end, and it is [`SETTLED`] when that probability exceeds the upper end too,
 /// so that every variate of the slot has that index as its answer.
-fn guide_table(cumulative: &[f64]) -> Vec<u32> {
+fn guide_table(cumulative: &[f64]) -> Vec<u16> {
     let slots = GUIDE_SLOTS_PER_ENTRY * cumulative.len();
     let mut index = 0;
     (0..slots)
@@ -162,7 +166,7 @@ fn guide_table(cumulative: &[f64]) -> Vec<u32> {
             } else {
                 0
             };
-            index as u32 | settled
+            index as u16 | settled
         })
         .collect()
 }
@@ -283,7 +287,7 @@ mod tests {
         for mean in [0.3, 12.0, 400.0] {
             let table = table(mean);
             let slots = table.guide.len() as f64;
-            let inverse = |u: f64| table.cumulative.iter().position(|&c| c > u).unwrap() as u32;
+            let inverse = |u: f64| table.cumulative.iter().position(|&c| c > u).unwrap() as u16;
             let mut settled = 0;
             for (g, &entry) in table.guide.iter().enumerate() {
                 let index = entry & !SETTLED;
