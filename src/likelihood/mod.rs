@@ -21,6 +21,7 @@ pub use fit::{FitFailure, Fitter};
 pub use test_statistic::{DiscoveryFit, DiscoveryTest, q0_from_fits};
 
 use crate::model::{Constraint, Model, ShapeParameters};
+use linear::{add_scaled, dot, weighted_dot};
 use std::ops::Range;
 
 /// One component of one channel, flattened for the hot loop.
@@ -537,62 +538,6 @@ fn column_of(terms: &[Term], parameter: usize) -> Range<usize> {
         .map(|term| term.offset..term.offset + term.bins)
         .reduce(|a, b| a.start.min(b.start)..a.end.max(b.end))
         .unwrap_or(0..0)
-}
-
-/// target += scale x values, element by element.
-#[inline(always)]
-fn add_scaled(target: &mut [f64], scale: f64, values: &[f64]) {
-    for (t, v) in target.iter_mut().zip(values) {
-        *t += scale * v;
-    }
-}
-
-/// Lanes of the partial sums below: independent sums the compiler can keep in
-/// vector registers, since it may not reorder one floating-point sum itself.
-const LANES: usize = 4;
-
-/// sum_j a_j b_j.
-#[inline(always)]
-fn dot(a: &[f64], b: &[f64]) -> f64 {
-    let mut sums = [0.0; LANES];
-    let chunks = a.len() / LANES * LANES;
-    for (a, b) in a[..chunks]
-        .chunks_exact(LANES)
-        .zip(b[..chunks].chunks_exact(LANES))
-    {
-        for lane in 0..LANES {
-            sums[lane] += a[lane] * b[lane];
-        }
-    }
-    let tail: f64 = a[chunks..]
-        .iter()
-        .zip(&b[chunks..])
-        .map(|(a, b)| a * b)
-        .sum();
-    sums.iter().sum::<f64>() + tail
-}
-
-/// sum_j w_j a_j b_j.
-#[inline(always)]
-fn weighted_dot(w: &[f64], a: &[f64], b: &[f64]) -> f64 {
-    let mut sums = [0.0; LANES];
-    let chunks = w.len() / LANES * LANES;
-    for ((w, a), b) in w[..chunks]
-        .chunks_exact(LANES)
-        .zip(a[..chunks].chunks_exact(LANES))
-        .zip(b[..chunks].chunks_exact(LANES))
-    {
-        for lane in 0..LANES {
-            sums[lane] += w[lane] * a[lane] * b[lane];
-        }
-    }
-    let tail: f64 = w[chunks..]
-        .iter()
-        .zip(&a[chunks..])
-        .zip(&b[chunks..])
-        .map(|((w, a), b)| w * a * b)
-        .sum();
-    sums.iter().sum::<f64>() + tail
 }
 
 /// Product of theta over `indices`, skipping index `skip`.

@@ -2,6 +2,7 @@
 //! compiler can run over many bins at once (no calls, no branches it cannot
 //! turn into selects).
 
+use super::linear::LANES;
 use std::f64::consts::LN_2;
 
 /// The deviance term nu - n + n ln(n / nu) of one bin (with 0 ln 0 = 0), the
@@ -126,9 +127,6 @@ fn terms_with_weights_portable(
 fn deviance(n: f64, nu: f64, logarithm: f64) -> f64 {
     if n > 0.0 { nu - n + n * logarithm } else { nu }
 }
-
-/// Partial sums kept by [`terms_with_weights`].
-const LANES: usize = 4;
 
 /// bits(sqrt(1/2)): a positive double x lies in [2^k sqrt(1/2), 2^(k+1) sqrt(1/2))
 /// exactly when (bits(x) - bits(sqrt(1/2))) >> 52 = k, because the bits of
