@@ -169,6 +169,7 @@ impl<'l, 'm> Fitter<'l, 'm> {
         if let Some(mu) = fixed_mu {
             self.theta[SIGNAL_STRENGTH] = mu;
         }
+        self.work.hold_fixed(SIGNAL_STRENGTH, fixed_mu.is_some());
         let mut nll = likelihood.negative_log_likelihood_with_derivatives(
             &self.theta,
             live_days,

@@ -68,17 +68,28 @@ pub struct Workspace {
     /// 1 - n_j / nu_j and n_j / nu_j^2 of each bin (see [`poisson_weights`]).
     weights: Vec<f64>,
     curvatures: Vec<f64>,
-    /// ln(n_j / nu_j) of each bin, scratch of the Poisson terms.
-    logarithms: Vec<f64>,
+    /// Each bin's deviance term, scratch of the Poisson pass.
+    deviance_terms: Vec<f64>,
     /// Values of one floating shape's parameters.
     shape_parameters: Vec<f64>,
     /// For each term, the shape parameters its fractions were last computed
     /// at (NaN before the first time), and whether its gradients were too.
     fractions_at: Vec<Vec<f64>>,
     gradients_current: Vec<bool>,
+    /// Parameters held fixed by the fit in progress: the bin sums of their
+    /// gradient and Hessian rows, which that fit does not use, are skipped.
+    fixed: Vec<bool>,
     /// Gradient and Hessian (row-major) of -ln L.
     gradient: Vec<f64>,
     hessian: Vec<f64>,
+}
+
+impl Workspace {
+    /// Marks `parameter` as held fixed (or not) in the fits that follow; its
+    /// gradient and Hessian rows are then incomplete.
+    pub fn hold_fixed(&mut self, parameter: usize, fixed: bool) {
+        self.fixed[parameter] = fixed;
+    }
 }
 
 impl<'m> Likelihood<'m> {
@@ -170,7 +181,8 @@ impl<'m> Likelihood<'m> {
             expected_gradient: vec![0.0; parameters * self.bins],
             weights: vec![0.0; self.bins],
             curvatures: vec![0.0; self.bins],
-            logarithms: vec![0.0; self.bins],
+            deviance_terms: vec![0.0; self.bins],
+            fixed: vec![false; parameters],
             gradient: vec![0.0; parameters],
             hessian: vec![0.0; parameters * parameters],
         }
@@ -358,15 +370,21 @@ impl<'m> Likelihood<'m> {
             let yield_ = base * product_except(theta, term.yield_parameters, usize::MAX);
             let fractions = &work.fractions[index];
             let range = term.offset..term.offset + term.bins;
-            add_scaled(&mut work.expected[range.clone()], yield_, fractions);
-            for &a in term.yield_parameters {
+            if yield_ != 0.0 {
+                add_scaled(&mut work.expected[range.clone()], yield_, fractions);
+            }
+            for &a in term.yield_parameters.iter().filter(|&&a| !work.fixed[a]) {
                 let partial = base * product_except(theta, term.yield_parameters, a);
                 let row = &mut work.expected_gradient[a * bins..][range.clone()];
                 add_scaled(row, partial, fractions);
             }
             if let Some(floating) = term.floating {
                 let gradients = &work.fraction_gradients[index];
-                for (k, &s) in floating.iter().enumerate() {
+                for (k, &s) in floating
+                    .iter()
+                    .enumerate()
+                    .filter(|(_, s)| !work.fixed[**s])
+                {
                     let row = &mut work.expected_gradient[s * bins..][range.clone()];
                     add_scaled(row, yield_, &gradients[k * term.bins..(k + 1) * term.bins]);
                 }
@@ -376,19 +394,25 @@ impl<'m> Likelihood<'m> {
 
     /// The Poisson part of the gradient, sum_j w_j dnu_j/dtheta_a, and of the
     /// Hessian, sum_j c_j dnu_j/dtheta_a dnu_j/dtheta_b (lower triangle), each
-    /// over the bins where both derivatives can be non-zero.
+    /// over the bins where both derivatives can be non-zero; zero for
+    /// parameters held fixed.
     #[inline(always)]
     fn fill_gradient_and_hessian(&self, work: &mut Workspace) {
         let parameters = self.parameter_count();
         let bins = self.bins;
         let columns = &work.expected_gradient;
+        let fixed = &work.fixed;
         for (a, column_a) in self.columns.iter().enumerate() {
             let da = &columns[a * bins..(a + 1) * bins];
-            work.gradient[a] = dot(&work.weights[column_a.clone()], &da[column_a.clone()]);
+            work.gradient[a] = if fixed[a] {
+                0.0
+            } else {
+                dot(&work.weights[column_a.clone()], &da[column_a.clone()])
+            };
             for (b, column_b) in self.columns[..=a].iter().enumerate() {
                 let common = column_a.start.max(column_b.start)..column_a.end.min(column_b.end);
                 let db = &columns[b * bins..(b + 1) * bins];
-                work.hessian[a * parameters + b] = if common.is_empty() {
+                work.hessian[a * parameters + b] = if common.is_empty() || fixed[a] || fixed[b] {
                     0.0
                 } else {
                     weighted_dot(
@@ -522,7 +546,7 @@ fn poisson_terms_with_weights(counts: &[f64], work: &mut Workspace) -> f64 {
         &work.expected,
         &mut work.weights,
         &mut work.curvatures,
-        &mut work.logarithms,
+        &mut work.deviance_terms,
     )
 }
 

@@ -36,12 +36,12 @@ pub fn is_valid(n: f64, nu: f64) -> bool {
 }
 
 /// Sum of the deviance terms of all bins, with each bin's weight and curvature
-/// written out (and ln(n/nu) left in `logarithms`); infinite when an
-/// expectation is invalid. Same terms as [`bin_terms`].
+/// written out (and each term left in `terms`); infinite when an expectation
+/// is invalid. Same terms as [`bin_terms`].
 ///
-/// The work is split into simple passes over the arrays, each of which the
-/// compiler turns into vector instructions; the sum is taken in [`LANES`]
-/// partial sums, since the compiler may not reorder one sum itself. Where the
+/// The work is two simple passes over the arrays, each of which the compiler
+/// turns into vector instructions; the sum is taken in [`LANES`] partial
+/// sums, since the compiler may not reorder one sum itself. Where the
 /// processor has 256-bit vectors (AVX2) the same code is compiled for them
 /// too and chosen at run time; it does the same operations in the same order,
 /// so the results are identical to the last bit.
@@ -50,16 +50,14 @@ pub fn terms_with_weights(
     expected: &[f64],
     weights: &mut [f64],
     curvatures: &mut [f64],
-    logarithms: &mut [f64],
+    terms: &mut [f64],
 ) -> f64 {
     #[cfg(target_arch = "x86_64")]
     if std::is_x86_feature_detected!("avx2") {
         // SAFETY: the processor was just found to support AVX2.
-        return unsafe {
-            terms_with_weights_avx2(counts, expected, weights, curvatures, logarithms)
-        };
+        return unsafe { terms_with_weights_avx2(counts, expected, weights, curvatures, terms) };
     }
-    terms_with_weights_portable(counts, expected, weights, curvatures, logarithms)
+    terms_with_weights_portable(counts, expected, weights, curvatures, terms)
 }
 
 #[cfg(target_arch = "x86_64")]
@@ -69,9 +67,9 @@ fn terms_with_weights_avx2(
     expected: &[f64],
     weights: &mut [f64],
     curvatures: &mut [f64],
-    logarithms: &mut [f64],
+    terms: &mut [f64],
 ) -> f64 {
-    terms_with_weights_portable(counts, expected, weights, curvatures, logarithms)
+    terms_with_weights_portable(counts, expected, weights, curvatures, terms)
 }
 
 #[inline(always)]
@@ -80,17 +78,22 @@ fn terms_with_weights_portable(
     expected: &[f64],
     weights: &mut [f64],
     curvatures: &mut [f64],
-    logarithms: &mut [f64],
+    terms: &mut [f64],
 ) -> f64 {
     let bins = counts.len();
     let (expected, weights) = (&expected[..bins], &mut weights[..bins]);
-    let (curvatures, logarithms) = (&mut curvatures[..bins], &mut logarithms[..bins]);
+    let (curvatures, terms) = (&mut curvatures[..bins], &mut terms[..bins]);
     for j in 0..bins {
         let (n, nu) = (counts[j], expected[j]);
         let inverse = 1.0 / nu;
         let ratio = n * inverse;
         let excess = (nu - n) * inverse;
-        logarithms[j] = ln_ratio(ratio, -excess);
+        let term = if n > 0.0 {
+            nu - n + n * ln_ratio(ratio, -excess)
+        } else {
+            nu
+        };
+        terms[j] = if is_valid(n, nu) { term } else { f64::INFINITY };
         (weights[j], curvatures[j]) = if n > 0.0 {
             (excess, ratio * inverse)
         } else {
@@ -98,34 +101,14 @@ fn terms_with_weights_portable(
         };
     }
     let mut totals = [0.0; LANES];
-    let mut valid = [true; LANES];
-    let whole = bins / LANES * LANES;
-    for (((n, nu), logarithm), _) in counts[..whole]
-        .chunks_exact(LANES)
-        .zip(expected[..whole].chunks_exact(LANES))
-        .zip(logarithms[..whole].chunks_exact(LANES))
-        .zip(0..)
-    {
+    let mut chunks = terms.chunks_exact(LANES);
+    for chunk in &mut chunks {
         for lane in 0..LANES {
-            totals[lane] += deviance(n[lane], nu[lane], logarithm[lane]);
-            valid[lane] &= is_valid(n[lane], nu[lane]);
+            totals[lane] += chunk[lane];
         }
     }
-    for j in whole..bins {
-        totals[0] += deviance(counts[j], expected[j], logarithms[j]);
-        valid[0] &= is_valid(counts[j], expected[j]);
-    }
-    if valid.iter().all(|&v| v) {
-        totals.iter().sum()
-    } else {
-        f64::INFINITY
-    }
-}
-
-/// nu - n + n ln(n/nu) from the logarithm, nu alone for an empty bin.
-#[inline(always)]
-fn deviance(n: f64, nu: f64, logarithm: f64) -> f64 {
-    if n > 0.0 { nu - n + n * logarithm } else { nu }
+    let tail: f64 = chunks.remainder().iter().sum();
+    (totals[0] + totals[2]) + (totals[1] + totals[3]) + tail
 }
 
 /// bits(sqrt(1/2)): a positive double x lies in [2^k sqrt(1/2), 2^(k+1) sqrt(1/2))
@@ -292,14 +275,14 @@ mod tests {
     fn invalid_expectations_give_infinity() {
         let mut weights = [0.0; 2];
         let mut curvatures = [0.0; 2];
-        let mut logarithms = [0.0; 2];
+        let mut terms = [0.0; 2];
         for expected in [[1.0, 0.0], [1.0, -1.0], [1.0, f64::NAN]] {
             let total = terms_with_weights(
                 &[1.0, 2.0],
                 &expected,
                 &mut weights,
                 &mut curvatures,
-                &mut logarithms,
+                &mut terms,
             );
             assert_eq!(total, f64::INFINITY);
         }
@@ -308,7 +291,7 @@ mod tests {
             &[1.0, 0.0],
             &mut weights,
             &mut curvatures,
-            &mut logarithms,
+            &mut terms,
         );
         assert_eq!(total, 0.0);
     }
