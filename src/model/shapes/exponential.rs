@@ -63,6 +63,8 @@ impl Shape for Exponential {
             for (mass, bin) in fractions.iter_mut().zip(edges.windows(2)) {
                 *mass = bin[1] - bin[0];
             }
+        } else if let Some(width) = equal_width(edges) {
+            frame.fill_equal_masses(edges, width, fractions);
         } else if frame.peak_edge == low {
             frame.fill_masses(edges.iter().copied(), fractions.iter_mut());
         } else {
@@ -161,6 +163,41 @@ impl Frame {
         (-self.steepness * (x - self.peak_edge).abs()).exp()
     }
 
+    /// Bin masses exp(-k d) V(w) of bins that all have width w: within each
+    /// run of [`ANCHOR_INTERVAL`] bins walked from the peak edge, the mass of
+    /// the j-th is the run's first times exp(-k w)^j, the powers formed once
+    /// (the same products as the walk below, without its chain from bin to bin).
+    fn fill_equal_masses(&self, edges: &[f64], width: f64, masses: &mut [f64]) {
+        let first = BinWidth::new(self.steepness, width);
+        let mut powers = [first.mass; ANCHOR_INTERVAL];
+        for j in 1..ANCHOR_INTERVAL {
+            powers[j] = powers[j - 1] * first.decay;
+        }
+        let bins = masses.len();
+        let from_low = self.peak_edge == edges[0];
+        for start in (0..bins).step_by(ANCHOR_INTERVAL) {
+            let run = ANCHOR_INTERVAL.min(bins - start);
+            let (near, run_masses) = if from_low {
+                (edges[start], &mut masses[start..start + run])
+            } else {
+                (
+                    edges[bins - start],
+                    &mut masses[bins - start - run..bins - start],
+                )
+            };
+            let density = self.relative_density(near);
+            if from_low {
+                for (mass, power) in run_masses.iter_mut().zip(&powers) {
+                    *mass = density * power;
+                }
+            } else {
+                for (mass, power) in run_masses.iter_mut().rev().zip(&powers) {
+                    *mass = density * power;
+                }
+            }
+        }
+    }
+
     /// Bin masses exp(-k d) V(w), walking from the peak edge outwards: `edges`
     /// start at the peak edge and `masses` are the bins in the same order.
     fn fill_masses<'a>(
@@ -186,6 +223,16 @@ impl Frame {
             near = far;
         }
     }
+}
+
+/// The width shared exactly by every bin, if there is one.
+fn equal_width(edges: &[f64]) -> Option<f64> {
+    let width = edges[1] - edges[0];
+    let mut equal = true;
+    for bin in edges.windows(2) {
+        equal &= bin[1] - bin[0] == width;
+    }
+    equal.then_some(width)
 }
 
 /// V(w) = -expm1(-k w) / k and exp(-k w) for the last bin width computed.
@@ -408,6 +455,25 @@ mod tests {
                     (curvatures[i] - numeric).abs() < 1e-7 * numeric.abs().max(1.0),
                     "slope {slope}, bin {i}: {} vs {numeric}",
                     curvatures[i]
+                );
+            }
+        }
+    }
+
+    /// Bins of one exact width (0.5, a binary fraction) over [0, 100] against
+    /// the closed form, for falling and rising densities, across several runs
+    /// of anchored products.
+    #[test]
+    fn equal_width_binning_matches_closed_form() {
+        let edges: Vec<f64> = (0..=200).map(|i| f64::from(i) * 0.5).collect();
+        for slope in [-0.03_f64, 0.05, -1.0] {
+            let total = (slope * 100.0).exp_m1() / slope;
+            for (fraction, bin) in fractions(slope, &edges).iter().zip(edges.windows(2)) {
+                let expected = (slope * bin[0]).exp() * (slope * 0.5).exp_m1() / slope / total;
+                assert!(
+                    (fraction / expected - 1.0).abs() < 1e-13,
+                    "slope {slope}, bin at {}: {fraction} vs {expected}",
+                    bin[0]
                 );
             }
         }
