@@ -180,29 +180,30 @@ pub fn run(length: Length, step: &dyn Fn(&str)) -> Result<BenchmarkReport, Bench
         let likelihood = Likelihood::new(&model);
         let toys = length.toys(bins);
         step(&format!("{bins} bins: {toys} toys on 1 and 2 threads"));
-        let repeats = length.repeats();
-        let (one_thread, failed_one) =
-            fastest(repeats, || one.install(|| time_toys(&likelihood, toys)));
-        let (two_threads, failed_two) =
-            fastest(repeats, || two.install(|| time_toys(&likelihood, toys)));
-        let (draws_only, _) = fastest(repeats, || {
-            (two.install(|| time_draws(&likelihood, toys)), 0)
-        });
-        results.push(ModelResult {
-            bins,
-            one_thread,
-            two_threads,
-            draws_only,
-            failed_fits: failed_one + failed_two,
-        });
+        let mut fastest = Fastest::default();
+        // Interleaved, so that other work on the machine falls on all three alike.
+        for _ in 0..length.repeats() {
+            let (one_thread, failed_one) = one.install(|| time_toys(&likelihood, toys));
+            let (two_threads, failed_two) = two.install(|| time_toys(&likelihood, toys));
+            let draws_only = two.install(|| time_draws(&likelihood, toys));
+            fastest.keep(ModelResult {
+                bins,
+                one_thread,
+                two_threads,
+                draws_only,
+                failed_fits: failed_one + failed_two,
+            });
+        }
+        results.push(fastest.0.expect("at least one run"));
     }
     let model = models::model(200)?;
     let likelihood = Likelihood::new(&model);
     let fewer = length.toys(200) / 5;
     step(&format!("200 bins: {fewer} toys on 2 threads"));
-    let (fewer_toys, _) = fastest(length.repeats(), || {
-        two.install(|| time_toys(&likelihood, fewer))
-    });
+    let fewer_toys = (0..length.repeats())
+        .map(|_| two.install(|| time_toys(&likelihood, fewer)).0)
+        .min_by(|a, b| a.seconds.total_cmp(&b.seconds))
+        .expect("at least one run");
 
     step("Asimov-only projection of 100 exposure points, as a whole process");
     let asimov_process_seconds = time_asimov_process(length.asimov_repeats())?;
@@ -236,17 +237,27 @@ pub fn run(length: Length, step: &dyn Fn(&str)) -> Result<BenchmarkReport, Bench
     })
 }
 
-/// The fastest of `repeats` runs of `measure` (same toys each time, so the
-/// same failed fits).
-fn fastest(repeats: usize, mut measure: impl FnMut() -> (Timing, usize)) -> (Timing, usize) {
-    let mut best = measure();
-    for _ in 1..repeats {
-        let next = measure();
-        if next.0.seconds < best.0.seconds {
-            best = next;
+/// The fastest of several runs of each measurement of one model (same toys
+/// each time, so the same failed fits).
+#[derive(Default)]
+struct Fastest(Option<ModelResult>);
+
+impl Fastest {
+    fn keep(&mut self, run: ModelResult) {
+        let Some(best) = &mut self.0 else {
+            self.0 = Some(run);
+            return;
+        };
+        for (kept, new) in [
+            (&mut best.one_thread, run.one_thread),
+            (&mut best.two_threads, run.two_threads),
+            (&mut best.draws_only, run.draws_only),
+        ] {
+            if new.seconds < kept.seconds {
+                *kept = new;
+            }
         }
     }
-    best
 }
 
 fn pool(threads: usize) -> Result<rayon::ThreadPool, BenchmarkError> {
