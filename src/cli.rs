@@ -19,8 +19,10 @@ pub struct Cli {
 pub enum Command {
     /// Project the significance against days of data-taking and the days to each target.
     ///
-    /// Writes projection.svg, probability.svg, projection.csv and projection.json
-    /// to output/<scenario file stem>/ (or --out) and prints a summary table.
+    /// Writes projection.svg, probability.svg, limits.svg, projection.csv and
+    /// projection.json to output/<scenario file stem>/ (or --out) and prints a
+    /// summary table: days to each target, days to exclusion, and (with
+    /// --calibrate) toy-calibrated against asymptotic significances.
     Project(ProjectArgs),
     /// Validate a scenario and print its rates, S/B at the peak and asymptotic days to target.
     Check {
@@ -53,6 +55,12 @@ pub struct ProjectArgs {
     /// Skip the pseudo-experiments; asymptotic (Asimov) results only.
     #[arg(long)]
     pub asimov_only: bool,
+    /// Skip the expected exclusion limits (CLs) and limits.svg.
+    #[arg(long)]
+    pub no_limits: bool,
+    /// Calibrate the discovery p-value with N background-only pseudo-experiments per point.
+    #[arg(long, value_name = "N")]
+    pub calibrate: Option<usize>,
     /// No progress bar.
     #[arg(long)]
     pub quiet: bool,

@@ -112,11 +112,12 @@ impl Generator {
     }
 }
 
-/// Significances of an ensemble at one exposure, with the fits that failed.
+/// The values measured on an ensemble at one exposure, with the fits that failed.
 #[derive(Debug, Clone, PartialEq)]
 pub struct EnsembleOutcome {
-    /// Z = sqrt(q0) of each pseudo-experiment whose fits converged, in toy order.
-    pub significances: Vec<f64>,
+    /// The measured value (a significance, an upper limit, a q0) of each
+    /// pseudo-experiment whose fits converged, in toy order.
+    pub values: Vec<f64>,
     /// Pseudo-experiments whose fits failed after all retries.
     pub failed_fits: usize,
 }
@@ -129,29 +130,53 @@ pub struct EnsemblePlan<'a> {
     pub progress: &'a (dyn Fn(u64) + Sync),
 }
 
-/// Runs `plan.toys` pseudo-experiments generated at nominal parameters (mu = 1)
-/// after `live_days`, each fitted twice for q0; `exposure_index` selects the streams.
-pub fn discovery_ensemble(
-    likelihood: &Likelihood,
-    live_days: f64,
-    exposure_index: usize,
+/// The families of pseudo-experiments at one exposure; each draws from its own
+/// random streams, so adding one family never changes another's numbers.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Family {
+    /// Generated at mu = 1, for the discovery significance.
+    Discovery,
+    /// Generated at mu = 0, for expected upper limits.
+    Exclusion,
+    /// Generated at mu = 0, for the calibration of q0.
+    Calibration,
+}
+
+impl Family {
+    /// The stream index of this family's toys at grid point `exposure_index`.
+    pub fn stream_index(self, exposure_index: usize) -> usize {
+        let family = match self {
+            Family::Discovery => 0,
+            Family::Exclusion => 1,
+            Family::Calibration => 2,
+        };
+        (family << 32) | exposure_index
+    }
+}
+
+/// Runs `plan.toys` pseudo-experiments drawn by `generator`, in parallel chunks,
+/// each from its own stream (`stream_index`, toy index), and applies `measure`
+/// (with per-thread state made by `state`) to each; None counts as a failed fit.
+pub fn run_ensemble<S>(
+    generator: &Generator,
+    stream_index: usize,
     plan: &EnsemblePlan,
+    state: impl Fn() -> S + Sync + Send,
+    measure: impl Fn(&mut S, &Dataset) -> Option<f64> + Sync + Send,
 ) -> EnsembleOutcome {
-    let nominal = likelihood.model().nominal_parameters();
-    let generator = Generator::new(likelihood, &nominal, live_days);
     const CHUNK: usize = 256;
     let chunks: Vec<Vec<Option<f64>>> = (0..plan.toys.div_ceil(CHUNK))
         .into_par_iter()
         .map_init(
-            || (DiscoveryTest::new(likelihood), generator.empty_dataset()),
-            |(test, data), chunk| {
+            || (state(), generator.empty_dataset()),
+            |(state, data), chunk| {
                 let toys = chunk * CHUNK..((chunk + 1) * CHUNK).min(plan.toys);
                 let count = toys.len() as u64;
                 let results = toys
                     .map(|toy| {
-                        let mut rng = toy_stream(plan.seed, exposure_index, toy);
+                        let mut rng = toy_stream(plan.seed, stream_index, toy);
                         generator.draw(&mut rng, data);
-                        test.fit(live_days, data).ok().map(|fit| fit.q0.sqrt())
+                        measure(state, data)
                     })
                     .collect();
                 (plan.progress)(count);
@@ -160,14 +185,54 @@ pub fn discovery_ensemble(
         )
         .collect();
     let mut outcome = EnsembleOutcome {
-        significances: Vec::with_capacity(plan.toys),
+        values: Vec::with_capacity(plan.toys),
         failed_fits: 0,
     };
-    for z in chunks.into_iter().flatten() {
-        match z {
-            Some(z) => outcome.significances.push(z),
+    for value in chunks.into_iter().flatten() {
+        match value {
+            Some(value) => outcome.values.push(value),
             None => outcome.failed_fits += 1,
         }
     }
     outcome
+}
+
+/// Significances Z = sqrt(q0) of `plan.toys` pseudo-experiments generated at
+/// nominal parameters (mu = 1) after `live_days`.
+pub fn discovery_ensemble(
+    likelihood: &Likelihood,
+    live_days: f64,
+    exposure_index: usize,
+    plan: &EnsemblePlan,
+) -> EnsembleOutcome {
+    let nominal = likelihood.model().nominal_parameters();
+    let generator = Generator::new(likelihood, &nominal, live_days);
+    run_ensemble(
+        &generator,
+        Family::Discovery.stream_index(exposure_index),
+        plan,
+        || DiscoveryTest::new(likelihood),
+        |test, data| test.fit(live_days, data).ok().map(|fit| fit.q0.sqrt()),
+    )
+}
+
+/// q0 of `plan.toys` pseudo-experiments generated under the background-only
+/// hypothesis (mu = 0, nuisance parameters nominal) after `live_days`, for the
+/// calibration of discovery p-values.
+pub fn background_only_q0_ensemble(
+    likelihood: &Likelihood,
+    live_days: f64,
+    exposure_index: usize,
+    plan: &EnsemblePlan,
+) -> EnsembleOutcome {
+    let mut background_only = likelihood.model().nominal_parameters();
+    background_only[crate::model::SIGNAL_STRENGTH] = 0.0;
+    let generator = Generator::new(likelihood, &background_only, live_days);
+    run_ensemble(
+        &generator,
+        Family::Calibration.stream_index(exposure_index),
+        plan,
+        || DiscoveryTest::new(likelihood),
+        |test, data| test.fit(live_days, data).ok().map(|fit| fit.q0),
+    )
 }

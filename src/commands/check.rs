@@ -20,6 +20,8 @@ pub fn run(path: &std::path::Path) -> Result<(), Error> {
         toys: 0,
         seed: scenario.plan.seed,
         targets: scenario.plan.targets.clone(),
+        cl: Some(scenario.plan.cl),
+        calibration_toys: 0,
     };
     let projection = project(&model, &settings, &|_| {})?;
     let last_day = settings.days.last().copied().unwrap_or_default();
@@ -34,6 +36,14 @@ pub fn run(path: &std::path::Path) -> Result<(), Error> {
         };
         println!("    {} sigma: {answer}", days.target);
     }
+    let exclusion = match projection.days_to_exclusion.asimov_days {
+        Some(days) => format!("{days:.1} days"),
+        None => format!("not within the grid (beyond {last_day} days)"),
+    };
+    println!(
+        "  asymptotic days until the signal is excluded at {}% CL (median expected CLs limit): {exclusion}",
+        scenario.plan.cl * 100.0
+    );
     Ok(())
 }
 

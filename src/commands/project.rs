@@ -16,8 +16,7 @@ pub fn run(args: &ProjectArgs) -> Result<(), Error> {
     let out = output_directory(args);
     let model = Model::from_scenario(&scenario);
 
-    let points = settings.days.len() as u64;
-    let bar = toy_progress(settings.toys as u64 * points, args.quiet);
+    let bar = toy_progress(settings.total_toys(), args.quiet);
     let progress = |done: u64| bar.inc(done);
     let projection = with_threads(args.threads, || project(&model, &settings, &progress))??;
     bar.finish_and_clear();
@@ -35,6 +34,11 @@ fn settings(scenario: &Scenario, args: &ProjectArgs) -> Result<ProjectionSetting
             "--toys: must be at least 1 (use --asimov-only to skip pseudo-experiments)".into(),
         ));
     }
+    if args.calibrate == Some(0) {
+        return Err(Error::Usage(
+            "--calibrate: must be at least 1 pseudo-experiment".into(),
+        ));
+    }
     let toys = if args.asimov_only {
         0
     } else {
@@ -46,6 +50,8 @@ fn settings(scenario: &Scenario, args: &ProjectArgs) -> Result<ProjectionSetting
         toys,
         seed: args.seed.unwrap_or(scenario.plan.seed),
         targets: scenario.plan.targets.clone(),
+        cl: (!args.no_limits).then_some(scenario.plan.cl),
+        calibration_toys: args.calibrate.unwrap_or(0),
     })
 }
 

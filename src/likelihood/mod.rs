@@ -14,10 +14,12 @@ mod dataset;
 mod fit;
 mod linear;
 mod test_statistic;
+mod upper_limit;
 
 pub use dataset::Dataset;
 pub use fit::{FitFailure, Fitter};
 pub use test_statistic::{DiscoveryFit, DiscoveryTest, q0_from_fits};
+pub use upper_limit::{UpperLimitTest, q_tilde_from_fits};
 
 use crate::model::{Constraint, Model, ShapeParameters};
 

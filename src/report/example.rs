@@ -2,7 +2,9 @@
 //! not any real experiment. Only the report formatting is under test here, so
 //! the toy quantiles are made up around the Asimov curve, not simulated.
 
-use crate::projection::{DaysToTarget, ExposurePoint, Projection, TargetProbability};
+use crate::projection::{
+    DaysToExclusion, DaysToTarget, ExposurePoint, Projection, TargetProbability,
+};
 use statrs::function::erf::erfc;
 
 /// Two hand-written points and two targets. Point 1 carries no toy results and
@@ -13,6 +15,9 @@ pub(crate) fn tiny() -> Projection {
         seed: 7,
         toys: 200,
         targets: vec![3.0, 5.0],
+        cl: None,
+        calibration_toys: 0,
+        days_to_exclusion: DaysToExclusion::default(),
         points: vec![
             ExposurePoint {
                 days: 10.0,
@@ -35,6 +40,12 @@ pub(crate) fn tiny() -> Projection {
                     },
                 ],
                 failed_fits: 0,
+                limit_median: None,
+                limit_band: None,
+                limit_asimov: None,
+                limit_asimov_band: None,
+                limit_failed_fits: 0,
+                calibration: None,
             },
             ExposurePoint {
                 days: 100.0,
@@ -57,6 +68,12 @@ pub(crate) fn tiny() -> Projection {
                     },
                 ],
                 failed_fits: 2,
+                limit_median: None,
+                limit_band: None,
+                limit_asimov: None,
+                limit_asimov_band: None,
+                limit_failed_fits: 0,
+                calibration: None,
             },
         ],
         days_to_target: vec![
@@ -162,6 +179,12 @@ impl InventedSearch {
             }),
             probability,
             failed_fits: if toys && days < 2.0 { 3 } else { 0 },
+            limit_median: None,
+            limit_band: None,
+            limit_asimov: None,
+            limit_asimov_band: None,
+            limit_failed_fits: 0,
+            calibration: None,
         }
     }
 
@@ -194,6 +217,9 @@ impl InventedSearch {
                 .collect(),
             targets,
             days_to_target,
+            days_to_exclusion: DaysToExclusion::default(),
+            cl: None,
+            calibration_toys: 0,
         }
     }
 }
