@@ -30,6 +30,11 @@ pub enum Error {
 impl fmt::Display for Error {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
+            // A read error names the file itself.
+            Error::Scenario {
+                source: source @ ScenarioError::Read { .. },
+                ..
+            } => write!(f, "{source}"),
             Error::Scenario { path, source } => write!(f, "{}: {source}", path.display()),
             Error::Projection(source) => write!(f, "{source}"),
             Error::Report(source) => write!(f, "{source}"),

@@ -8,8 +8,9 @@ use std::fs;
 use std::path::{Path, PathBuf};
 use std::process::Output;
 
-/// The four files every projection writes, sorted by name.
-const REPORT_FILES: [&str; 4] = [
+/// The five files every projection writes (limits included), sorted by name.
+const REPORT_FILES: [&str; 5] = [
+    "limits.svg",
     "probability.svg",
     "projection.csv",
     "projection.json",
@@ -147,6 +148,9 @@ fn assert_schema(json: &Value) {
     assert_eq!(
         sorted_keys(json),
         [
+            "calibration_toys",
+            "cl",
+            "days_to_exclusion",
             "days_to_target",
             "points",
             "seed",
@@ -168,8 +172,14 @@ fn assert_schema(json: &Value) {
             sorted_keys(point),
             [
                 "background",
+                "calibration",
                 "days",
                 "failed_fits",
+                "limit_asimov",
+                "limit_asimov_band",
+                "limit_band",
+                "limit_failed_fits",
+                "limit_median",
                 "live_days",
                 "probability",
                 "signal",
@@ -198,6 +208,27 @@ fn assert_schema(json: &Value) {
         assert_eq!(band.len(), 4, "{point}");
         // Quantiles 2.3%, 15.9%, 84.1%, 97.7% of one sample cannot decrease.
         assert!(band.windows(2).all(|pair| pair[0] <= pair[1]), "{band:?}");
+        // Expected limits on mu (issue 3): positive numbers, bands ordered.
+        for key in ["limit_median", "limit_asimov"] {
+            assert!(number(&point[key]) > 0.0, "{key}: {point}");
+        }
+        for key in ["limit_band", "limit_asimov_band"] {
+            let band: Vec<f64> = point[key]
+                .as_array()
+                .expect("an array")
+                .iter()
+                .map(number)
+                .collect();
+            assert_eq!(band.len(), 4, "{key}: {point}");
+            assert!(
+                band.windows(2).all(|pair| pair[0] <= pair[1]),
+                "{key}: {band:?}"
+            );
+        }
+        assert!(
+            point["limit_failed_fits"].is_u64() && point["calibration"].is_null(),
+            "{point}"
+        );
         let probabilities = point["probability"].as_array().expect("an array");
         assert_eq!(probabilities.len(), targets.len());
         for (probability, &target) in probabilities.iter().zip(&targets) {
@@ -209,6 +240,10 @@ fn assert_schema(json: &Value) {
             }
         }
     }
+    assert_eq!(
+        sorted_keys(&json["days_to_exclusion"]),
+        ["asimov_days", "median_days"]
+    );
     let rows = json["days_to_target"].as_array().expect("an array");
     assert_eq!(rows.len(), targets.len());
     for (row, &target) in rows.iter().zip(&targets) {
@@ -253,12 +288,12 @@ fn live_days_by_definition(yaml: &serde_yaml::Value, days: f64) -> f64 {
 }
 
 #[test]
-fn narrow_peak_demo_writes_four_files_with_the_documented_schema() {
+fn narrow_peak_demo_writes_five_files_with_the_documented_schema() {
     let yaml = demo_yaml("narrow_peak.yaml");
     let scratch = Scratch::new("narrow-peak");
     let scenario = scratch.copy_demo("narrow_peak.yaml");
     let stdout = project(&scratch, &scenario, "out", 200, &[]);
-    // Only the four reports: no temporary file of the atomic writes is left behind.
+    // Only the five reports: no temporary file of the atomic writes is left behind.
     assert_eq!(scratch.entries("out"), REPORT_FILES);
     assert_eq!(scratch.entries("."), ["narrow_peak.yaml", "out"]);
 

@@ -58,7 +58,10 @@ fn print_rates(scenario: &Scenario, model: &Model) {
         );
     }
     println!("  background total: {background:.6} events per live day");
-    let (low, high) = peak_window(&scenario.signal.shape, observable.range);
+    let Some((low, high)) = peak_window(&scenario.signal.shape, observable.range) else {
+        println!("  the signal peak ±2 widths lies outside the range: no S/B at the peak");
+        return;
+    };
     let in_window =
         |spec: &ShapeSpec, rate: f64| rate * fraction_inside(spec, observable.range, low, high);
     let signal_in = in_window(&scenario.signal.shape, signal);
@@ -75,17 +78,17 @@ fn print_rates(scenario: &Scenario, model: &Model) {
 }
 
 /// The peak ±2 widths (sigma for a Gaussian, half width at half maximum for a
-/// Breit-Wigner), clipped to the range; the whole range for other shapes.
-fn peak_window(shape: &ShapeSpec, range: [f64; 2]) -> (f64, f64) {
+/// Breit-Wigner), clipped to the range; the whole range for other shapes; None
+/// when the window lies entirely outside the range.
+fn peak_window(shape: &ShapeSpec, range: [f64; 2]) -> Option<(f64, f64)> {
     let (centre, width) = match *shape {
         ShapeSpec::Gaussian { mean, sigma } => (mean, sigma),
         ShapeSpec::BreitWigner { mean, width } => (mean, width / 2.0),
-        _ => return (range[0], range[1]),
+        _ => return Some((range[0], range[1])),
     };
-    (
-        (centre - 2.0 * width).max(range[0]),
-        (centre + 2.0 * width).min(range[1]),
-    )
+    let low = (centre - 2.0 * width).max(range[0]);
+    let high = (centre + 2.0 * width).min(range[1]);
+    (low < high).then_some((low, high))
 }
 
 /// Exact fraction of a shape (normalised on `range`) inside `[low, high]`.

@@ -29,7 +29,7 @@ pub fn run(args: &ProjectArgs) -> Result<(), Error> {
 }
 
 fn settings(scenario: &Scenario, args: &ProjectArgs) -> Result<ProjectionSettings, Error> {
-    if args.toys == Some(0) {
+    if args.toys == Some(0) && !args.asimov_only {
         return Err(Error::Usage(
             "--toys: must be at least 1 (use --asimov-only to skip pseudo-experiments)".into(),
         ));

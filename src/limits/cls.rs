@@ -16,6 +16,10 @@ pub fn asymptotic_cls(q_tilde: f64, mu: f64, sigma: f64) -> f64 {
     let normal = Normal::standard();
     let q = q_tilde.max(0.0);
     let ratio = mu / sigma;
+    if ratio <= 0.0 {
+        // mu = 0 is the background itself: it can never be excluded.
+        return 1.0;
+    }
     let ratio_squared = ratio * ratio;
     let (p_mu, one_minus_p_b) = if q <= ratio_squared {
         let root = q.sqrt();
@@ -27,6 +31,24 @@ pub fn asymptotic_cls(q_tilde: f64, mu: f64, sigma: f64) -> f64 {
         )
     };
     p_mu / one_minus_p_b
+}
+
+/// The observed sqrt(q~_mu) at which CLs = alpha for this mu: larger values
+/// exclude mu. Found by bisection, since CLs falls as q~_mu grows.
+pub fn exclusion_threshold(mu: f64, sigma: f64, alpha: f64) -> f64 {
+    let (mut low, mut high) = (0.0, mu / sigma + 40.0);
+    if asymptotic_cls(0.0, mu, sigma) <= alpha {
+        return 0.0;
+    }
+    while high - low > 1e-9 {
+        let middle = 0.5 * (low + high);
+        if asymptotic_cls(middle * middle, mu, sigma) > alpha {
+            low = middle;
+        } else {
+            high = middle;
+        }
+    }
+    0.5 * (low + high)
 }
 
 /// sqrt(q~_mu,A) at the expected limit of band `n_sigma` (0 = median):
@@ -53,6 +75,12 @@ mod tests {
         // eq. 29), so CLs = 2 (1 - Phi(mu/sigma)): alpha at mu/sigma = 1.959964.
         let (mu, sigma) = (1.959964, 1.0);
         assert!((asymptotic_cls(mu * mu, mu, sigma) - 0.05).abs() < 1e-6);
+    }
+
+    #[test]
+    fn threshold_at_the_median_limit_is_its_asimov_value() {
+        // At mu = 1.959964 sigma the Asimov q~ = (mu/sigma)^2 gives CLs = 0.05 (eq. 89).
+        assert!((exclusion_threshold(1.959964, 1.0, 0.05) - 1.959964).abs() < 1e-5);
     }
 
     #[test]

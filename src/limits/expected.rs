@@ -1,6 +1,6 @@
 //! Expected upper limits at one exposure.
 
-use super::{asymptotic_cls, expected_limit_significance, poisson_upper_limit};
+use super::{exclusion_threshold, expected_limit_significance, poisson_upper_limit};
 use crate::ensemble::{EnsembleOutcome, EnsemblePlan, Family, Generator, run_ensemble};
 use crate::likelihood::{Dataset, FitFailure, Likelihood, UpperLimitTest};
 use crate::model::SIGNAL_STRENGTH;
@@ -69,11 +69,11 @@ fn background_only(likelihood: &Likelihood) -> Vec<f64> {
 
 /// Upper limits on mu of `plan.toys` background-only pseudo-experiments.
 ///
-/// A single counting window gets the exact Poisson CLs limit, with the
-/// background at its background-only fit to the pseudo-experiment (its nominal
-/// value when known exactly) and the signal at its nominal yield. Otherwise each
-/// pseudo-experiment's q~_mu comes from profile-likelihood fits and its CLs from
-/// the asymptotic formulae with sigma = `sigma` (the Asimov sigma_A).
+/// A single counting window whose signal and background are known exactly (mu
+/// the only parameter) gets the exact Poisson CLs limit. Otherwise each
+/// pseudo-experiment's q~_mu comes from profile-likelihood fits, which carry the
+/// systematic uncertainties, and its CLs from the asymptotic formulae with
+/// sigma = `sigma` (the Asimov sigma_A).
 pub fn toy_limit_ensemble(
     likelihood: &Likelihood,
     live_days: f64,
@@ -84,20 +84,18 @@ pub fn toy_limit_ensemble(
 ) -> EnsembleOutcome {
     let generator = Generator::new(likelihood, &background_only(likelihood), live_days);
     let streams = Family::Exclusion.stream_index(exposure_index);
-    if likelihood.bin_count() == 1 {
-        let signal = nominal_signal(likelihood, live_days);
+    if likelihood.bin_count() == 1 && likelihood.parameter_count() == 1 {
+        let (signal, background) = single_bin_expectation(likelihood, live_days);
         run_ensemble(
             &generator,
             streams,
             plan,
-            || (UpperLimitTest::new(likelihood), likelihood.workspace()),
-            |(test, work), data| {
-                let theta = test.background_only_parameters(live_days, data).ok()?;
-                likelihood.expected_counts(theta, live_days, work);
+            || (),
+            |(), data| {
                 Some(poisson_upper_limit(
                     data.counts[0],
                     signal,
-                    work.expected[0],
+                    background,
                     alpha,
                 ))
             },
@@ -113,8 +111,8 @@ pub fn toy_limit_ensemble(
     }
 }
 
-/// Expected signal events in a single-bin model at nominal parameters.
-fn nominal_signal(likelihood: &Likelihood, live_days: f64) -> f64 {
+/// Expected (signal at mu = 1, background) events in a single-bin model.
+fn single_bin_expectation(likelihood: &Likelihood, live_days: f64) -> (f64, f64) {
     let mut work = likelihood.workspace();
     likelihood.expected_counts(
         &likelihood.model().nominal_parameters(),
@@ -123,13 +121,15 @@ fn nominal_signal(likelihood: &Likelihood, live_days: f64) -> f64 {
     );
     let with_signal = work.expected[0];
     likelihood.expected_counts(&background_only(likelihood), live_days, &mut work);
-    with_signal - work.expected[0]
+    (with_signal - work.expected[0], work.expected[0])
 }
 
-/// The mu where CLs(q~_mu) = alpha for one dataset, by the Illinois variant of
-/// regula falsi on ln CLs - ln alpha, which decreases with mu (Dowell and
-/// Jarratt, BIT 11 (1971) 168). At the fitted mu, q~ = 0 and CLs =
-/// 1/2 / Phi(mu-hat/sigma) is known without a fit.
+/// The mu where CLs(q~_mu) = alpha for one dataset: the root of
+/// g(mu) = sqrt(q~_mu) - t(mu), where t(mu) is the sqrt(q~_mu) at which the
+/// asymptotic CLs equals alpha. g is close to linear in mu (sqrt(q~_mu) is about
+/// (mu - mu-hat)/sigma), so the Illinois variant of regula falsi (Dowell and
+/// Jarratt, BIT 11 (1971) 168) needs few conditional fits; the root is kept to
+/// 1e-3 sigma, far below the spread of limits between pseudo-experiments.
 fn asymptotic_toy_limit(
     test: &mut UpperLimitTest,
     live_days: f64,
@@ -138,18 +138,25 @@ fn asymptotic_toy_limit(
     sigma: f64,
 ) -> Result<f64, FitFailure> {
     let fitted = test.fit_free(live_days, data)?;
-    let log_alpha = alpha.ln();
     let mut excess = |mu: f64| -> Result<f64, FitFailure> {
-        let q = test.q_tilde(live_days, data, mu)?;
-        Ok(asymptotic_cls(q, mu, sigma).ln() - log_alpha)
+        Ok(test.q_tilde(live_days, data, mu)?.sqrt() - exclusion_threshold(mu, sigma, alpha))
     };
-    let (mut low, mut low_value) = (
-        fitted,
-        asymptotic_cls(0.0, fitted.max(1e-12 * sigma), sigma).ln() - log_alpha,
-    );
+    // Low end: at the fitted mu q~ = 0, so g = -t needs no fit, but t grows
+    // without bound as mu/sigma -> 0; near zero start half a sigma above instead.
+    let (mut low, mut low_value) = if fitted >= 0.5 * sigma {
+        (fitted, -exclusion_threshold(fitted, sigma, alpha))
+    } else {
+        let mut low = fitted + 0.5 * sigma;
+        let mut value = excess(low)?;
+        while value >= 0.0 && low - fitted > 1e-6 * sigma {
+            low = fitted + 0.5 * (low - fitted);
+            value = excess(low)?;
+        }
+        (low, value)
+    };
     let mut high = fitted + 2.0 * sigma;
     let mut high_value = excess(high)?;
-    while high_value > 0.0 {
+    while high_value < 0.0 {
         low = high;
         low_value = high_value;
         high += 2.0 * sigma;
@@ -158,31 +165,39 @@ fn asymptotic_toy_limit(
             return Err(FitFailure::IterationLimit);
         }
     }
-    let mut kept_side = 0i8;
+    let mut last_replaced = Side::Neither;
     for _ in 0..100 {
         let middle = (low * high_value - high * low_value) / (high_value - low_value);
-        if (high - low) < 1e-6 * sigma {
+        if high - low < 1e-3 * sigma {
             return Ok(middle);
         }
         let value = excess(middle)?;
-        if value.abs() < 1e-10 {
+        if value.abs() < 1e-3 {
             return Ok(middle);
         }
-        if value > 0.0 {
+        if value < 0.0 {
             low = middle;
             low_value = value;
-            if kept_side == 1 {
+            if last_replaced == Side::Low {
                 high_value /= 2.0;
             }
-            kept_side = 1;
+            last_replaced = Side::Low;
         } else {
             high = middle;
             high_value = value;
-            if kept_side == -1 {
+            if last_replaced == Side::High {
                 low_value /= 2.0;
             }
-            kept_side = -1;
+            last_replaced = Side::High;
         }
     }
     Err(FitFailure::IterationLimit)
+}
+
+/// Which end of the bracket the last regula falsi step replaced.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Side {
+    Neither,
+    Low,
+    High,
 }

@@ -6,6 +6,6 @@ mod cls;
 mod exact;
 mod expected;
 
-pub use cls::{asymptotic_cls, expected_limit_significance};
+pub use cls::{asymptotic_cls, exclusion_threshold, expected_limit_significance};
 pub use exact::{poisson_cdf, poisson_cls, poisson_upper_limit};
 pub use expected::{AsymptoticLimits, asymptotic_limits, toy_limit_ensemble};

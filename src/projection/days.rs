@@ -21,7 +21,7 @@ pub(super) fn days_to_targets(
         .limit(last_live_days)
         .map_err(|failure| ProjectionError {
             live_days: last_live_days,
-            what: "Asimov fit at very large exposure (saturation check)",
+            what: "saturation check (Asimov fits at 10^3 and 10^5 times the exposure)",
             failure,
         })?;
     let days: Vec<f64> = points.iter().map(|p| p.days).collect();
