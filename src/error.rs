@@ -1,5 +1,6 @@
 //! The errors a command can end with; each prints as one line a user can act on.
 
+use crate::binning::BinningError;
 use crate::projection::ProjectionError;
 use crate::report::ReportError;
 use crate::scenario::ScenarioError;
@@ -13,6 +14,7 @@ pub enum Error {
         source: ScenarioError,
     },
     Projection(ProjectionError),
+    Binning(BinningError),
     Report(ReportError),
     /// A file the user named could not be written.
     Write {
@@ -37,6 +39,7 @@ impl fmt::Display for Error {
             } => write!(f, "{source}"),
             Error::Scenario { path, source } => write!(f, "{}: {source}", path.display()),
             Error::Projection(source) => write!(f, "{source}"),
+            Error::Binning(source) => write!(f, "{source}"),
             Error::Report(source) => write!(f, "{source}"),
             Error::Write { path, source } => write!(f, "cannot write {}: {source}", path.display()),
             Error::Exists { path } => write!(
@@ -54,6 +57,12 @@ impl std::error::Error for Error {}
 impl From<ProjectionError> for Error {
     fn from(source: ProjectionError) -> Error {
         Error::Projection(source)
+    }
+}
+
+impl From<BinningError> for Error {
+    fn from(source: BinningError) -> Error {
+        Error::Binning(source)
     }
 }
 

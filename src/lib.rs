@@ -6,9 +6,12 @@
 //! -> ensemble (seeded pseudo-experiments) -> projection (exposure scan, days to target)
 //! -> report (SVG, CSV, JSON, terminal summary).
 //! `asymptotic` holds the Asimov answers the projection cross-checks against;
+//! `spectrum` draws pseudo-data spectra and `binning` scans bin widths and
+//! counting windows, both for planning beside the projection;
 //! `cli` and `commands` are the command-line front end.
 
 pub mod asymptotic;
+pub mod binning;
 pub mod cli;
 pub mod commands;
 pub mod ensemble;
@@ -21,3 +24,4 @@ pub mod progress;
 pub mod projection;
 pub mod report;
 pub mod scenario;
+pub mod spectrum;

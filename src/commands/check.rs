@@ -2,8 +2,7 @@
 
 use super::load_scenario;
 use crate::error::Error;
-use crate::model::Model;
-use crate::model::shapes::Shape;
+use crate::model::{Model, fraction_inside};
 use crate::projection::{ProjectionSettings, project};
 use crate::scenario::{Scenario, ShapeSpec};
 
@@ -89,13 +88,4 @@ fn peak_window(shape: &ShapeSpec, range: [f64; 2]) -> Option<(f64, f64)> {
     let low = (centre - 2.0 * width).max(range[0]);
     let high = (centre + 2.0 * width).min(range[1]);
     (low < high).then_some((low, high))
-}
-
-/// Exact fraction of a shape (normalised on `range`) inside `[low, high]`.
-fn fraction_inside(spec: &ShapeSpec, range: [f64; 2], low: f64, high: f64) -> f64 {
-    let shape: Box<dyn Shape> = crate::model::shape_from_spec(spec);
-    let edges = [range[0], low, high, range[1]];
-    let mut fractions = [0.0; 3];
-    shape.bin_fractions(&shape.nominal_parameters(), &edges, &mut fractions);
-    fractions[1]
 }

@@ -1,6 +1,6 @@
 //! `runcast project`: the main job.
 
-use super::load_scenario;
+use super::{load_scenario, output_directory};
 use crate::cli::ProjectArgs;
 use crate::error::Error;
 use crate::model::Model;
@@ -8,12 +8,11 @@ use crate::progress::toy_progress;
 use crate::projection::{ProjectionSettings, project};
 use crate::report;
 use crate::scenario::Scenario;
-use std::path::{Path, PathBuf};
 
 pub fn run(args: &ProjectArgs) -> Result<(), Error> {
     let scenario = load_scenario(&args.scenario)?;
     let settings = settings(&scenario, args)?;
-    let out = output_directory(args);
+    let out = output_directory(&args.scenario, args.out.as_deref());
     let model = Model::from_scenario(&scenario);
 
     let bar = toy_progress(settings.total_toys(), args.quiet);
@@ -52,17 +51,6 @@ fn settings(scenario: &Scenario, args: &ProjectArgs) -> Result<ProjectionSetting
         targets: scenario.plan.targets.clone(),
         cl: (!args.no_limits).then_some(scenario.plan.cl),
         calibration_toys: args.calibrate.unwrap_or(0),
-    })
-}
-
-/// `--out`, or `output/<scenario file stem>`.
-fn output_directory(args: &ProjectArgs) -> PathBuf {
-    args.out.clone().unwrap_or_else(|| {
-        let stem = args.scenario.file_stem().map_or_else(
-            || "scenario".into(),
-            |stem| stem.to_string_lossy().into_owned(),
-        );
-        Path::new("output").join(stem)
     })
 }
 

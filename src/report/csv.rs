@@ -71,7 +71,8 @@ fn row(point: &ExposurePoint) -> Vec<String> {
     cells
 }
 
-fn number(value: f64) -> String {
+/// The shortest decimal that reads back to `value`, in exponent form outside [1e-4, 1e15).
+pub(super) fn number(value: f64) -> String {
     let magnitude = value.abs();
     if magnitude != 0.0 && !(1e-4..1e15).contains(&magnitude) {
         format!("{value:e}")

@@ -6,28 +6,41 @@
 //! `summary.rs` for the terminal. [`render_all`] renders every file in memory;
 //! [`write_all`] alone touches the disk, so a rendering error leaves nothing
 //! written.
+//!
+//! Pseudo-data spectra ([`render_spectrum`]: `svg_spectrum.rs`,
+//! `csv_spectrum.rs`) and the binning scan ([`render_binning`]:
+//! `svg_binning.rs`, `json_binning.rs`, and `binning_table.rs` for the
+//! terminal) follow the same pattern.
 
+mod binning_table;
 mod check;
 mod csv;
+mod csv_spectrum;
 mod error;
 mod json;
+mod json_binning;
 mod plot;
 mod summary;
+mod svg_binning;
 mod svg_probability;
 mod svg_projection;
+mod svg_spectrum;
 mod writer;
 
+pub use binning_table::binning_table;
 pub use error::ReportError;
 pub use summary::summary;
 pub use writer::write_all;
 
+use crate::binning::BinningScan;
 use crate::projection::Projection;
+use crate::spectrum::Spectrum;
 
 /// One rendered report file: its name inside the output directory and its bytes.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct Report {
     /// File name, without directory.
-    pub name: &'static str,
+    pub name: String,
     pub bytes: Vec<u8>,
 }
 
@@ -51,22 +64,83 @@ pub fn render_all(projection: &Projection) -> Result<Vec<Report>, ReportError> {
     check::check_projection(projection)?;
     Ok(vec![
         Report {
-            name: PROJECTION_SVG,
+            name: PROJECTION_SVG.to_string(),
             bytes: svg_projection::render(projection)?,
         },
         Report {
-            name: PROBABILITY_SVG,
+            name: PROBABILITY_SVG.to_string(),
             bytes: svg_probability::render(projection)?,
         },
         Report {
-            name: PROJECTION_CSV,
+            name: PROJECTION_CSV.to_string(),
             bytes: csv::render(projection)?,
         },
         Report {
-            name: PROJECTION_JSON,
+            name: PROJECTION_JSON.to_string(),
             bytes: json::render(projection)?,
         },
     ])
+}
+
+/// File name of the binning plot.
+pub const BINNING_SVG: &str = "binning.svg";
+/// File name of the binning scan as JSON.
+pub const BINNING_JSON: &str = "binning.json";
+
+/// Renders the spectra in memory: `spectrum-<D>d.svg` and `spectrum-<D>d.csv`,
+/// with one `-<D>d` per exposure in the order given (`spectrum-3d-30d.svg`).
+/// The same spectra always give byte-identical files.
+pub fn render_spectrum(spectrum: &Spectrum) -> Result<Vec<Report>, ReportError> {
+    let stem = spectrum_file_stem(spectrum);
+    Ok(vec![
+        Report {
+            name: format!("{stem}.svg"),
+            bytes: svg_spectrum::render(spectrum)?,
+        },
+        Report {
+            name: format!("{stem}.csv"),
+            bytes: csv_spectrum::render(spectrum)?,
+        },
+    ])
+}
+
+/// `spectrum-3d-30d` for exposures at 3 and 30 calendar days.
+fn spectrum_file_stem(spectrum: &Spectrum) -> String {
+    spectrum
+        .exposures
+        .iter()
+        .fold("spectrum".to_string(), |stem, exposure| {
+            format!("{stem}-{}d", exposure.days)
+        })
+}
+
+/// Renders the binning scan in memory: `binning.svg`, `binning.json`.
+pub fn render_binning(scan: &BinningScan) -> Result<Vec<Report>, ReportError> {
+    Ok(vec![
+        Report {
+            name: BINNING_SVG.to_string(),
+            bytes: svg_binning::render(scan)?,
+        },
+        Report {
+            name: BINNING_JSON.to_string(),
+            bytes: json_binning::render(scan)?,
+        },
+    ])
+}
+
+/// An exposure as "After 30 d (24 live days)": calendar days as given, live
+/// days to a tenth.
+fn exposure_label(days: f64, live_days: f64) -> String {
+    format!(
+        "After {days} d ({} live days)",
+        (live_days * 10.0).round() / 10.0
+    )
+}
+
+/// Decimals that resolve one step of the window scan, for window edges.
+fn window_digits(scan: &BinningScan) -> usize {
+    let step = scan.peak.width / crate::binning::WINDOW_STEPS_PER_SIGNAL_WIDTH as f64;
+    (-step.log10().floor()).max(0.0) as usize + 1
 }
 
 /// A target significance as people write it: `3σ`, `2.5σ`.
@@ -95,7 +169,7 @@ mod tests {
     #[test]
     fn renders_the_four_files_in_order() {
         let reports = render_all(&example::with_toys()).unwrap();
-        let names: Vec<&str> = reports.iter().map(|report| report.name).collect();
+        let names: Vec<&str> = reports.iter().map(|report| report.name.as_str()).collect();
         assert_eq!(
             names,
             [

@@ -42,8 +42,8 @@ pub(super) const TARGET_COLOURS: [RGBColor; 6] = [
     RGBColor(0x3a, 0x6e, 0xa5), // cornflower slate
     RGBColor(0x8c, 0x5a, 0x2b), // umber
 ];
-const MAJOR_GRID: RGBColor = RGBColor(0xd5, 0xd9, 0xe0);
-const MINOR_GRID: RGBColor = RGBColor(0xee, 0xf0, 0xf3);
+pub(super) const MAJOR_GRID: RGBColor = RGBColor(0xd5, 0xd9, 0xe0);
+pub(super) const MINOR_GRID: RGBColor = RGBColor(0xee, 0xf0, 0xf3);
 
 /// Pixel lengths of a dash and of the gap after it, for asymptotic curves.
 pub(super) const DASH: (u32, u32) = (9, 5);
@@ -62,9 +62,18 @@ pub(super) fn svg_bytes(
     file: &'static str,
     draw: impl FnOnce(&Canvas) -> Result<(), DrawError>,
 ) -> Result<Vec<u8>, ReportError> {
+    svg_bytes_sized(file, SIZE, draw)
+}
+
+/// [`svg_bytes`] on a canvas of `size` pixels.
+pub(super) fn svg_bytes_sized(
+    file: &'static str,
+    size: (u32, u32),
+    draw: impl FnOnce(&Canvas) -> Result<(), DrawError>,
+) -> Result<Vec<u8>, ReportError> {
     let mut svg = String::new();
     {
-        let canvas = SVGBackend::with_string(&mut svg, SIZE).into_drawing_area();
+        let canvas = SVGBackend::with_string(&mut svg, size).into_drawing_area();
         canvas
             .fill(&WHITE)
             .and_then(|()| draw(&canvas))
@@ -168,9 +177,17 @@ pub(super) fn draw_curve<'a, 'b: 'a>(
 /// The legend, in the upper left corner of the plot, where curves rising
 /// with exposure leave room.
 pub(super) fn draw_legend<'a, 'b: 'a>(chart: &mut DayChart<'a, 'b>) -> Result<(), DrawError> {
+    draw_legend_at(chart, SeriesLabelPosition::UpperLeft)
+}
+
+/// The legend of any chart, at `position` inside the plot.
+pub(super) fn draw_legend_at<'a, 'b: 'a, Coordinates: CoordTranslate>(
+    chart: &mut ChartContext<'a, SVGBackend<'b>, Coordinates>,
+    position: SeriesLabelPosition,
+) -> Result<(), DrawError> {
     chart
         .configure_series_labels()
-        .position(SeriesLabelPosition::UpperLeft)
+        .position(position)
         .margin(12)
         .background_style(WHITE.mix(0.92))
         .border_style(MAJOR_GRID)
@@ -244,6 +261,14 @@ pub(super) fn draw_footnote(canvas: &Canvas, text: &str) -> Result<(), DrawError
     )
 }
 
+/// A tick label: the value to ten significant digits, shortest form, so that
+/// 0.30000000000000004 prints as 0.3 and 20.0 as 20.
+pub(super) fn axis_label(value: &f64) -> String {
+    format!("{value:.9e}")
+        .parse::<f64>()
+        .map_or_else(|_| value.to_string(), |rounded| rounded.to_string())
+}
+
 pub(super) fn text_style(size: u32) -> TextStyle<'static> {
     TextStyle::from((FONT, size).into_font()).color(&INK)
 }
@@ -259,10 +284,10 @@ pub(super) fn day_range(points: &[ExposurePoint]) -> Range<f64> {
     }
 }
 
-/// Labelled ticks at 1, 2, 5 times powers of ten when the range spans at most
-/// three decades and at powers of ten beyond that; light grid lines at every
+/// Labelled ticks of a logarithmic axis (calendar days, bin widths) at 1, 2,
+/// 5 times powers of ten when the range spans at most three decades and at powers of ten beyond that; light grid lines at every
 /// integer multiple of a power of ten.
-fn day_ticks(low: f64, high: f64) -> (Vec<f64>, Vec<f64>) {
+pub(super) fn day_ticks(low: f64, high: f64) -> (Vec<f64>, Vec<f64>) {
     let first_decade = low.log10().floor() as i32;
     let last_decade = high.log10().ceil() as i32;
     let multipliers: &[u32] = if high / low <= 1e3 { &[1, 2, 5] } else { &[1] };

@@ -81,7 +81,7 @@ fn grid_day(days: f64) -> String {
 
 /// Left-aligned columns separated by three spaces (widths in characters, so
 /// "σ" and "—" count as one).
-fn aligned(rows: &[Vec<String>]) -> String {
+pub(super) fn aligned(rows: &[Vec<String>]) -> String {
     let columns = rows.first().map_or(0, Vec::len);
     let widths: Vec<usize> = (0..columns)
         .map(|column| {
