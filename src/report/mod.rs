@@ -2,7 +2,8 @@
 //!
 //! One file per format, each turning a [`Projection`] into bytes and nothing
 //! else: `svg_projection.rs` (significance against days), `svg_probability.rs`
-//! (probability of reaching each target), `csv.rs`, `json.rs`, and
+//! (probability of reaching each target), `svg_limits.rs` (expected upper
+//! limit on the signal strength against days), `csv.rs`, `json.rs`, and
 //! `summary.rs` for the terminal. [`render_all`] renders every file in memory;
 //! [`write_all`] alone touches the disk, so a rendering error leaves nothing
 //! written.
@@ -22,6 +23,7 @@ mod json_binning;
 mod plot;
 mod summary;
 mod svg_binning;
+mod svg_limits;
 mod svg_probability;
 mod svg_projection;
 mod svg_spectrum;
@@ -48,21 +50,25 @@ pub struct Report {
 pub const PROJECTION_SVG: &str = "projection.svg";
 /// File name of the probability-of-reaching-each-target plot.
 pub const PROBABILITY_SVG: &str = "probability.svg";
+/// File name of the expected-limit plot (only when limits were computed).
+pub const LIMITS_SVG: &str = "limits.svg";
 /// File name of the per-exposure table.
 pub const PROJECTION_CSV: &str = "projection.csv";
 /// File name of the whole projection as JSON.
 pub const PROJECTION_JSON: &str = "projection.json";
 
 /// Renders every report file in memory, in a fixed order:
-/// `projection.svg`, `probability.svg`, `projection.csv`, `projection.json`.
+/// `projection.svg`, `probability.svg`, `limits.svg` (only when the
+/// projection carries expected limits, `cl` set), `projection.csv`,
+/// `projection.json`.
 ///
 /// The projection is checked first (finite numbers, increasing days above
-/// zero, one probability per target in the order of `targets`), so no
-/// renderer sees a value it cannot show. The same projection always gives
-/// byte-identical files.
+/// zero, limits above zero, one probability per target in the order of
+/// `targets`), so no renderer sees a value it cannot show. The same
+/// projection always gives byte-identical files.
 pub fn render_all(projection: &Projection) -> Result<Vec<Report>, ReportError> {
     check::check_projection(projection)?;
-    Ok(vec![
+    let mut reports = vec![
         Report {
             name: PROJECTION_SVG.to_string(),
             bytes: svg_projection::render(projection)?,
@@ -71,15 +77,22 @@ pub fn render_all(projection: &Projection) -> Result<Vec<Report>, ReportError> {
             name: PROBABILITY_SVG.to_string(),
             bytes: svg_probability::render(projection)?,
         },
-        Report {
-            name: PROJECTION_CSV.to_string(),
-            bytes: csv::render(projection)?,
-        },
-        Report {
-            name: PROJECTION_JSON.to_string(),
-            bytes: json::render(projection)?,
-        },
-    ])
+    ];
+    if let Some(cl) = projection.cl {
+        reports.push(Report {
+            name: LIMITS_SVG.to_string(),
+            bytes: svg_limits::render(projection, cl)?,
+        });
+    }
+    reports.push(Report {
+        name: PROJECTION_CSV.to_string(),
+        bytes: csv::render(projection)?,
+    });
+    reports.push(Report {
+        name: PROJECTION_JSON.to_string(),
+        bytes: json::render(projection)?,
+    });
+    Ok(reports)
 }
 
 /// File name of the binning plot.
@@ -148,6 +161,11 @@ fn target_label(target: f64) -> String {
     format!("{target}σ")
 }
 
+/// A confidence level as a percentage: 0.95 as "95%", 0.683 as "68.3%".
+fn percent_label(cl: f64) -> String {
+    format!("{}%", (cl * 1e4).round() / 100.0)
+}
+
 /// Calendar days, rounded up so the value is reached by then: to a tenth of a
 /// day below 10 days ("3.1 d"), to whole days from there on ("142 d").
 fn days_label(days: f64) -> String {
@@ -184,7 +202,12 @@ mod tests {
 
     #[test]
     fn rendering_twice_gives_identical_bytes() {
-        for projection in [example::with_toys(), example::asimov_only()] {
+        for projection in [
+            example::with_toys(),
+            example::asimov_only(),
+            example::with_limits(),
+            example::asimov_only_with_limits(),
+        ] {
             let first = render_all(&projection).unwrap();
             let second = render_all(&projection).unwrap();
             assert_eq!(first, second);
@@ -211,5 +234,28 @@ mod tests {
         assert_eq!(days_label(9.99), "10 d");
         assert_eq!(target_label(3.0), "3σ");
         assert_eq!(target_label(2.5), "2.5σ");
+    }
+
+    #[test]
+    fn confidence_levels_read_as_percentages() {
+        assert_eq!(percent_label(0.95), "95%");
+        assert_eq!(percent_label(0.9), "90%");
+        assert_eq!(percent_label(0.683), "68.3%");
+    }
+
+    #[test]
+    fn limits_add_their_plot_after_the_probability_plot() {
+        let reports = render_all(&example::with_limits()).unwrap();
+        let names: Vec<&str> = reports.iter().map(|report| report.name.as_str()).collect();
+        assert_eq!(
+            names,
+            [
+                PROJECTION_SVG,
+                PROBABILITY_SVG,
+                LIMITS_SVG,
+                PROJECTION_CSV,
+                PROJECTION_JSON
+            ]
+        );
     }
 }

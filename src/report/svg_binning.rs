@@ -57,7 +57,7 @@ fn draw_bin_widths(area: &Canvas, scan: &BinningScan, ceiling: f64) -> Result<()
     } else {
         (first / 2.0, first * 2.0)
     };
-    let (major, minor) = plot::day_ticks(low, high);
+    let (major, minor) = plot::log_ticks(low, high);
     let x_axis = (low..high)
         .log_scale()
         .with_key_points(major)
