@@ -46,6 +46,20 @@ pub enum Command {
         /// Where to write the template.
         file: PathBuf,
     },
+    /// Measure the pseudo-experiment engine on built-in models of 20, 200 and
+    /// 2000 bins: toys per second on 1 and 2 threads, draws alone, peak memory,
+    /// the Asimov-only projection time; a table on stdout.
+    Bench(BenchArgs),
+}
+
+#[derive(Debug, Args)]
+pub struct BenchArgs {
+    /// A short run of seconds: a tenth of the toys, no ten-million-toy ensemble.
+    #[arg(long)]
+    pub quick: bool,
+    /// Internal: run one memory measurement POINTS:TOYS and print the peak in bytes.
+    #[arg(long, hide = true, value_name = "POINTS:TOYS")]
+    pub memory_probe: Option<String>,
 }
 
 #[derive(Debug, Args)]

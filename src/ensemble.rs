@@ -4,9 +4,12 @@
 //! derived from (seed, exposure index, toy index) alone, so results do not
 //! depend on the number of threads or on the order in which toys run.
 
+mod poisson;
+
 use crate::likelihood::{Dataset, DiscoveryTest, Likelihood};
 use crate::model::Constraint;
-use rand_distr::{Distribution, Normal, Poisson};
+use poisson::PoissonCounts;
+use rand_distr::{Distribution, Normal};
 use rand_pcg::Pcg64;
 use rayon::prelude::*;
 
@@ -37,15 +40,15 @@ fn splitmix64(value: u64) -> u64 {
 enum GlobalObservable {
     /// A Gaussian auxiliary measurement.
     Gaussian(Normal<f64>),
-    /// A control-region count (None when it expects nothing).
-    Count(Option<Poisson<f64>>),
+    /// A control-region count.
+    Count(PoissonCounts),
 }
 
 /// Draws pseudo-datasets from the model at fixed generating parameters.
 #[derive(Debug, Clone)]
 pub struct Generator {
-    /// Poisson distribution of each bin's count; None for a bin expecting nothing.
-    bins: Vec<Option<Poisson<f64>>>,
+    /// Poisson distribution of each bin's count.
+    bins: Vec<PoissonCounts>,
     /// Distribution of each constraint's global observable.
     global_observables: Vec<GlobalObservable>,
 }
@@ -61,7 +64,7 @@ impl Generator {
         let bins = work
             .expected
             .iter()
-            .map(|&mean| Poisson::new(mean).ok())
+            .map(|&mean| PoissonCounts::new(mean))
             .collect();
         let global_observables = likelihood
             .model()
@@ -72,12 +75,11 @@ impl Generator {
                     Normal::new(theta[parameter], width)
                         .expect("constraint widths are validated positive and finite"),
                 ),
-                Constraint::ControlRegion { parameter, .. } => GlobalObservable::Count(
-                    Poisson::new(
+                Constraint::ControlRegion { parameter, .. } => {
+                    GlobalObservable::Count(PoissonCounts::new(
                         constraint.expected_global_observable(theta[parameter], live_days),
-                    )
-                    .ok(),
-                ),
+                    ))
+                }
             })
             .collect();
         Generator {
@@ -97,7 +99,7 @@ impl Generator {
     /// Fills `data` with one pseudo-experiment drawn from `rng`.
     pub fn draw(&self, rng: &mut Pcg64, data: &mut Dataset) {
         for (count, poisson) in data.counts.iter_mut().zip(&self.bins) {
-            *count = poisson.as_ref().map_or(0.0, |p| p.sample(rng));
+            *count = poisson.sample(rng);
         }
         for (value, distribution) in data
             .global_observables
@@ -106,7 +108,7 @@ impl Generator {
         {
             *value = match distribution {
                 GlobalObservable::Gaussian(normal) => normal.sample(rng),
-                GlobalObservable::Count(poisson) => poisson.as_ref().map_or(0.0, |p| p.sample(rng)),
+                GlobalObservable::Count(poisson) => poisson.sample(rng),
             };
         }
     }
@@ -154,9 +156,17 @@ impl Family {
     }
 }
 
+/// Pseudo-experiments per unit of parallel work (and per progress report).
+const CHUNK: usize = 256;
+
 /// Runs `plan.toys` pseudo-experiments drawn by `generator`, in parallel chunks,
 /// each from its own stream (`stream_index`, toy index), and applies `measure`
 /// (with per-thread state made by `state`) to each; None counts as a failed fit.
+///
+/// Each worker keeps one state and one dataset for all its toys, and the values
+/// are written straight into their place in one vector (a failed toy as NaN
+/// until the failures are counted and removed), so the memory is that of the
+/// results alone, eight bytes a toy.
 pub fn run_ensemble<S>(
     generator: &Generator,
     stream_index: usize,
@@ -164,37 +174,23 @@ pub fn run_ensemble<S>(
     state: impl Fn() -> S + Sync + Send,
     measure: impl Fn(&mut S, &Dataset) -> Option<f64> + Sync + Send,
 ) -> EnsembleOutcome {
-    const CHUNK: usize = 256;
-    let chunks: Vec<Vec<Option<f64>>> = (0..plan.toys.div_ceil(CHUNK))
-        .into_par_iter()
-        .map_init(
-            || (state(), generator.empty_dataset()),
-            |(state, data), chunk| {
-                let toys = chunk * CHUNK..((chunk + 1) * CHUNK).min(plan.toys);
-                let count = toys.len() as u64;
-                let results = toys
-                    .map(|toy| {
-                        let mut rng = toy_stream(plan.seed, stream_index, toy);
-                        generator.draw(&mut rng, data);
-                        measure(state, data)
-                    })
-                    .collect();
-                (plan.progress)(count);
-                results
-            },
-        )
-        .collect();
-    let mut outcome = EnsembleOutcome {
-        values: Vec::with_capacity(plan.toys),
-        failed_fits: 0,
-    };
-    for value in chunks.into_iter().flatten() {
-        match value {
-            Some(value) => outcome.values.push(value),
-            None => outcome.failed_fits += 1,
-        }
+    let mut values = vec![f64::NAN; plan.toys];
+    values.par_chunks_mut(CHUNK).enumerate().for_each_init(
+        || (state(), generator.empty_dataset()),
+        |(state, data), (chunk, results)| {
+            for (offset, value) in results.iter_mut().enumerate() {
+                let mut rng = toy_stream(plan.seed, stream_index, chunk * CHUNK + offset);
+                generator.draw(&mut rng, data);
+                *value = measure(state, data).unwrap_or(f64::NAN);
+            }
+            (plan.progress)(results.len() as u64);
+        },
+    );
+    values.retain(|value| !value.is_nan());
+    EnsembleOutcome {
+        failed_fits: plan.toys - values.len(),
+        values,
     }
-    outcome
 }
 
 /// Significances Z = sqrt(q0) of `plan.toys` pseudo-experiments generated at

@@ -1,5 +1,6 @@
 //! The errors a command can end with; each prints as one line a user can act on.
 
+use crate::benchmark::BenchmarkError;
 use crate::binning::BinningError;
 use crate::projection::ProjectionError;
 use crate::report::ReportError;
@@ -27,6 +28,7 @@ pub enum Error {
     },
     /// Command-line values that parse but make no sense.
     Usage(String),
+    Benchmark(BenchmarkError),
 }
 
 impl fmt::Display for Error {
@@ -48,6 +50,7 @@ impl fmt::Display for Error {
                 path.display()
             ),
             Error::Usage(message) => f.write_str(message),
+            Error::Benchmark(source) => write!(f, "{source}"),
         }
     }
 }
@@ -63,6 +66,12 @@ impl From<ProjectionError> for Error {
 impl From<BinningError> for Error {
     fn from(source: BinningError) -> Error {
         Error::Binning(source)
+    }
+}
+
+impl From<BenchmarkError> for Error {
+    fn from(source: BenchmarkError) -> Error {
+        Error::Benchmark(source)
     }
 }
 

@@ -8,9 +8,11 @@
 //! `asymptotic` holds the Asimov answers the projection cross-checks against;
 //! `spectrum` draws pseudo-data spectra and `binning` scans bin widths and
 //! counting windows, both for planning beside the projection;
-//! `cli` and `commands` are the command-line front end.
+//! `cli` and `commands` are the command-line front end; `benchmark` measures
+//! the engine.
 
 pub mod asymptotic;
+pub mod benchmark;
 pub mod binning;
 pub mod cli;
 pub mod commands;

@@ -1,5 +1,6 @@
 //! The commands: each loads what it needs, calls the engine and reports.
 
+mod bench;
 mod binning;
 mod check;
 mod new;
@@ -20,6 +21,7 @@ pub fn run(cli: Cli) -> Result<(), Error> {
         Command::Spectrum(args) => spectrum::run(&args),
         Command::Binning(args) => binning::run(&args),
         Command::New { file } => new::run(&file),
+        Command::Bench(args) => bench::run(&args),
     }
 }
 

@@ -79,6 +79,43 @@ impl<'l, 'm> Fitter<'l, 'm> {
         &self.theta
     }
 
+    /// A start for a fit with `parameter` fixed at `value`, written to `start`:
+    /// the last best fit theta-hat with the other parameters r moved to the
+    /// minimum of the quadratic approximation of -ln L around it,
+    ///
+    ///   r = r-hat - H_rr^-1 H_rp (value - theta-hat_p)
+    ///
+    /// (one Newton step of the constrained fit, from the Hessian H at the best
+    /// fit; Nocedal and Wright, Numerical Optimization, 2nd ed., ch. 3), then
+    /// clamped to the bounds. Where that system cannot be solved the start is
+    /// theta-hat itself with the parameter set to `value`.
+    pub fn conditional_start(&mut self, parameter: usize, value: f64, start: &mut [f64]) {
+        let parameters = self.likelihood.parameter_count();
+        let shift = value - self.theta[parameter];
+        start.copy_from_slice(&self.theta);
+        start[parameter] = value;
+        self.free.clear();
+        self.free
+            .extend((0..parameters).filter(|&a| a != parameter));
+        let free = self.free.len();
+        for (i, &a) in self.free.iter().enumerate() {
+            for (k, &b) in self.free.iter().enumerate() {
+                self.reduced_hessian[i * free + k] = self.work.hessian[a * parameters + b];
+            }
+            self.reduced_step[i] = -self.work.hessian[a * parameters + parameter] * shift;
+        }
+        let step = &mut self.reduced_step[..free];
+        if solve_positive_definite(&mut self.reduced_hessian[..free * free], step, free) {
+            let bounds = &self.likelihood.model().parameters;
+            for (&a, &delta) in self.free.iter().zip(&*step) {
+                let moved = start[a] + delta;
+                if moved.is_finite() {
+                    start[a] = moved.clamp(bounds[a].lower, bounds[a].upper);
+                }
+            }
+        }
+    }
+
     /// The scratch space, for evaluating expectations outside fits.
     pub fn workspace(&mut self) -> &mut Workspace {
         &mut self.work
@@ -151,14 +188,9 @@ impl<'l, 'm> Fitter<'l, 'm> {
                 return Ok(nll);
             }
             match self.line_search(live_days, data, nll, decrement) {
-                Some(_) => {
+                Some(trial_nll) => {
                     std::mem::swap(&mut self.theta, &mut self.trial);
-                    nll = likelihood.negative_log_likelihood_with_derivatives(
-                        &self.theta,
-                        live_days,
-                        data,
-                        &mut self.work,
-                    );
+                    nll = trial_nll;
                 }
                 None if decrement < ROUNDING_DECREMENT => return Ok(nll),
                 None => return Err(FitFailure::LineSearch),
@@ -223,7 +255,11 @@ impl<'l, 'm> Fitter<'l, 'm> {
         Ok(decrement)
     }
 
-    /// Backtracks from a full Newton step; leaves the accepted point in `self.trial`.
+    /// Backtracks from a full Newton step; leaves the accepted point in
+    /// `self.trial` and its derivatives in the workspace. The full step, which
+    /// is almost always accepted, is evaluated with its derivatives at once.
+    /// A step too short to change any parameter is no step: the search stops
+    /// there rather than accept the starting point again.
     fn line_search(
         &mut self,
         live_days: f64,
@@ -231,24 +267,44 @@ impl<'l, 'm> Fitter<'l, 'm> {
         nll: f64,
         decrement: f64,
     ) -> Option<f64> {
-        let parameters = &self.likelihood.model().parameters;
+        let likelihood = self.likelihood;
+        self.set_trial(1.0);
+        let full_nll = likelihood.negative_log_likelihood_with_derivatives(
+            &self.trial,
+            live_days,
+            data,
+            &mut self.work,
+        );
+        if full_nll <= nll - ARMIJO * decrement {
+            return Some(full_nll);
+        }
         let mut scale = 1.0;
-        for _ in 0..MAX_HALVINGS {
-            for (index, parameter) in parameters.iter().enumerate() {
-                self.trial[index] = (self.theta[index] + scale * self.step[index])
-                    .clamp(parameter.lower, parameter.upper);
-            }
-            let trial_nll = self.likelihood.negative_log_likelihood(
-                &self.trial,
-                live_days,
-                data,
-                &mut self.work,
-            );
-            if trial_nll <= nll - ARMIJO * scale * decrement {
-                return Some(trial_nll);
-            }
+        for _ in 1..MAX_HALVINGS {
             scale *= 0.5;
+            self.set_trial(scale);
+            if self.trial == self.theta {
+                return None;
+            }
+            let trial_nll =
+                likelihood.negative_log_likelihood(&self.trial, live_days, data, &mut self.work);
+            if trial_nll <= nll - ARMIJO * scale * decrement {
+                return Some(likelihood.negative_log_likelihood_with_derivatives(
+                    &self.trial,
+                    live_days,
+                    data,
+                    &mut self.work,
+                ));
+            }
         }
         None
+    }
+
+    /// `self.trial` = theta + scale x step, projected on the bounds.
+    fn set_trial(&mut self, scale: f64) {
+        let parameters = &self.likelihood.model().parameters;
+        for (index, parameter) in parameters.iter().enumerate() {
+            self.trial[index] = (self.theta[index] + scale * self.step[index])
+                .clamp(parameter.lower, parameter.upper);
+        }
     }
 }

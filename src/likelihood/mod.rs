@@ -13,6 +13,7 @@
 mod dataset;
 mod fit;
 mod linear;
+mod poisson;
 mod test_statistic;
 mod upper_limit;
 
@@ -22,6 +23,7 @@ pub use test_statistic::{DiscoveryFit, DiscoveryTest, q0_from_fits};
 pub use upper_limit::{UpperLimitTest, q_tilde_from_fits};
 
 use crate::model::{Constraint, Model, ShapeParameters};
+use std::ops::Range;
 
 /// One component of one channel, flattened for the hot loop.
 #[derive(Debug)]
@@ -44,6 +46,9 @@ pub struct Likelihood<'m> {
     model: &'m Model,
     terms: Vec<Term<'m>>,
     bins: usize,
+    /// For each parameter, the bins whose expectation can depend on it
+    /// (empty for a parameter no component uses).
+    columns: Vec<Range<usize>>,
 }
 
 /// Per-thread scratch space: nothing in the fit loop allocates.
@@ -53,12 +58,25 @@ pub struct Workspace {
     fractions: Vec<Vec<f64>>,
     /// d fraction / d shape parameter of each floating term, `k * bins + i`.
     fraction_gradients: Vec<Vec<f64>>,
+    /// d2 fraction / d shape parameters k, l of each floating term,
+    /// `(k * n + l) * bins + i`, and whether its shape provides them.
+    fraction_curvatures: Vec<Vec<f64>>,
+    has_curvatures: Vec<bool>,
     /// Expected counts per bin.
     pub expected: Vec<f64>,
     /// d expected_j / d theta_a, `a * bins + j`.
     expected_gradient: Vec<f64>,
+    /// 1 - n_j / nu_j and n_j / nu_j^2 of each bin (see [`poisson_weights`]).
+    weights: Vec<f64>,
+    curvatures: Vec<f64>,
+    /// ln(n_j / nu_j) of each bin, scratch of the Poisson terms.
+    logarithms: Vec<f64>,
     /// Values of one floating shape's parameters.
     shape_parameters: Vec<f64>,
+    /// For each term, the shape parameters its fractions were last computed
+    /// at (NaN before the first time), and whether its gradients were too.
+    fractions_at: Vec<Vec<f64>>,
+    gradients_current: Vec<bool>,
     /// Gradient and Hessian (row-major) of -ln L.
     gradient: Vec<f64>,
     hessian: Vec<f64>,
@@ -88,10 +106,14 @@ impl<'m> Likelihood<'m> {
             }
             offset += bins;
         }
+        let columns = (0..model.parameters.len())
+            .map(|parameter| column_of(&terms, parameter))
+            .collect();
         Likelihood {
             model,
             terms,
             bins: offset,
+            columns,
         }
     }
 
@@ -127,12 +149,29 @@ impl<'m> Likelihood<'m> {
             .iter()
             .map(|term| vec![0.0; term.floating.map_or(0, |p| p.len()) * term.bins])
             .collect();
+        let fraction_curvatures = self
+            .terms
+            .iter()
+            .map(|term| vec![0.0; term.floating.map_or(0, |p| p.len() * p.len()) * term.bins])
+            .collect();
+        let fractions_at = self
+            .terms
+            .iter()
+            .map(|term| vec![f64::NAN; term.floating.map_or(0, <[usize]>::len)])
+            .collect();
         Workspace {
             fractions,
             fraction_gradients,
+            fraction_curvatures,
+            has_curvatures: vec![false; self.terms.len()],
+            fractions_at,
+            gradients_current: vec![false; self.terms.len()],
             expected: vec![0.0; self.bins],
             shape_parameters: vec![0.0; parameters],
             expected_gradient: vec![0.0; parameters * self.bins],
+            weights: vec![0.0; self.bins],
+            curvatures: vec![0.0; self.bins],
+            logarithms: vec![0.0; self.bins],
             gradient: vec![0.0; parameters],
             hessian: vec![0.0; parameters * parameters],
         }
@@ -168,6 +207,9 @@ impl<'m> Likelihood<'m> {
         }
     }
 
+    /// Recomputes the fractions of floating shapes (and their gradients when
+    /// asked), unless they are already at these shape parameters: every fit
+    /// starts at the same nominal shape.
     fn update_fractions(&self, theta: &[f64], work: &mut Workspace, with_gradient: bool) {
         for (index, term) in self.terms.iter().enumerate() {
             let Some(floating) = term.floating else {
@@ -177,12 +219,24 @@ impl<'m> Likelihood<'m> {
             for (value, &p) in parameters.iter_mut().zip(floating) {
                 *value = theta[p];
             }
+            let at = &mut work.fractions_at[index];
+            if at.as_slice() == &*parameters && (work.gradients_current[index] || !with_gradient) {
+                continue;
+            }
+            at.copy_from_slice(parameters);
+            work.gradients_current[index] = with_gradient;
             if with_gradient {
                 term.shape.bin_fractions_with_gradient(
                     parameters,
                     term.edges,
                     &mut work.fractions[index],
                     &mut work.fraction_gradients[index],
+                );
+                work.has_curvatures[index] = term.shape.bin_fraction_curvatures(
+                    parameters,
+                    term.edges,
+                    &work.fractions[index],
+                    &mut work.fraction_curvatures[index],
                 );
             } else {
                 term.shape
@@ -203,11 +257,8 @@ impl<'m> Likelihood<'m> {
         if !self.expected_counts(theta, live_days, work) {
             return f64::INFINITY;
         }
-        let mut total = 0.0;
-        for (&nu, &n) in work.expected.iter().zip(&data.counts) {
-            total += poisson_deviance_term(n, nu);
-        }
-        total + self.constraint_terms(theta, live_days, data)
+        poisson_terms_with_weights(&data.counts, work)
+            + self.constraint_terms(theta, live_days, data)
     }
 
     /// -ln of the constraint terms: a Gaussian (theta - g)^2 / (2 width^2), a
@@ -234,9 +285,13 @@ impl<'m> Likelihood<'m> {
     ///
     /// Gradient: d/dtheta_a = sum_j (1 - n_j/nu_j) dnu_j/dtheta_a + constraints.
     /// Hessian: sum_j [n_j/nu_j^2 dnu_j/dtheta_a dnu_j/dtheta_b + (1 - n_j/nu_j) d2nu_j/dtheta_a dtheta_b];
-    /// the second-derivative term is kept for products of yield parameters and for
-    /// yield-shape pairs, and dropped for pairs of shape parameters (a Gauss-Newton
-    /// step in that block; it vanishes at the minimum on average).
+    /// the second-derivative term is kept for products of yield parameters, for
+    /// yield-shape pairs and for pairs of shape parameters whose shape provides
+    /// second derivatives; for other shapes it is dropped in their block (a
+    /// Gauss-Newton step there; it vanishes at the minimum on average).
+    ///
+    /// Where the processor has 256-bit vectors (AVX2) the same code is compiled
+    /// for them too and chosen at run time, with identical results.
     pub fn negative_log_likelihood_with_derivatives(
         &self,
         theta: &[f64],
@@ -244,64 +299,44 @@ impl<'m> Likelihood<'m> {
         data: &Dataset,
         work: &mut Workspace,
     ) -> f64 {
-        let parameters = self.parameter_count();
-        let bins = self.bins;
+        #[cfg(target_arch = "x86_64")]
+        if std::is_x86_feature_detected!("avx2") {
+            // SAFETY: the processor was just found to support AVX2.
+            return unsafe { self.derivatives_avx2(theta, live_days, data, work) };
+        }
+        self.derivatives(theta, live_days, data, work)
+    }
+
+    #[cfg(target_arch = "x86_64")]
+    #[target_feature(enable = "avx2")]
+    fn derivatives_avx2(
+        &self,
+        theta: &[f64],
+        live_days: f64,
+        data: &Dataset,
+        work: &mut Workspace,
+    ) -> f64 {
+        self.derivatives(theta, live_days, data, work)
+    }
+
+    #[inline(always)]
+    fn derivatives(
+        &self,
+        theta: &[f64],
+        live_days: f64,
+        data: &Dataset,
+        work: &mut Workspace,
+    ) -> f64 {
         self.update_fractions(theta, work, true);
-        work.expected.iter_mut().for_each(|v| *v = 0.0);
-        work.expected_gradient.iter_mut().for_each(|v| *v = 0.0);
-
-        for (index, term) in self.terms.iter().enumerate() {
-            let base = term.events_per_live_day * live_days;
-            let yield_ = base * product_except(theta, term.yield_parameters, usize::MAX);
-            let fractions = &work.fractions[index];
-            let range = term.offset..term.offset + term.bins;
-            for (nu, f) in work.expected[range.clone()].iter_mut().zip(fractions) {
-                *nu += yield_ * f;
-            }
-            for &a in term.yield_parameters {
-                let partial = base * product_except(theta, term.yield_parameters, a);
-                let row = &mut work.expected_gradient[a * bins..][range.clone()];
-                for (d, f) in row.iter_mut().zip(fractions) {
-                    *d += partial * f;
-                }
-            }
-            if let Some(floating) = term.floating {
-                let gradients = &work.fraction_gradients[index];
-                for (k, &s) in floating.iter().enumerate() {
-                    let row = &mut work.expected_gradient[s * bins..][range.clone()];
-                    let df = &gradients[k * term.bins..(k + 1) * term.bins];
-                    for (d, g) in row.iter_mut().zip(df) {
-                        *d += yield_ * g;
-                    }
-                }
-            }
+        self.fill_expected_with_gradient(theta, live_days, work);
+        let total = poisson_terms_with_weights(&data.counts, work);
+        if !total.is_finite() {
+            return f64::INFINITY;
         }
-
-        let mut total = 0.0;
-        work.gradient.iter_mut().for_each(|v| *v = 0.0);
-        work.hessian.iter_mut().for_each(|v| *v = 0.0);
-        for j in 0..bins {
-            let nu = work.expected[j];
-            let n = data.counts[j];
-            total += poisson_deviance_term(n, nu);
-            if !total.is_finite() {
-                return f64::INFINITY;
-            }
-            let (weight, curvature) = poisson_weights(n, nu);
-            for a in 0..parameters {
-                let da = work.expected_gradient[a * bins + j];
-                if da == 0.0 {
-                    continue;
-                }
-                work.gradient[a] += weight * da;
-                for b in 0..=a {
-                    work.hessian[a * parameters + b] +=
-                        curvature * da * work.expected_gradient[b * bins + j];
-                }
-            }
-        }
-        self.add_second_derivative_terms(theta, live_days, data, work);
+        self.fill_gradient_and_hessian(work);
+        self.add_second_derivative_terms(theta, live_days, work);
         self.add_constraint_derivatives(theta, live_days, data, work);
+        let parameters = self.parameter_count();
         for a in 0..parameters {
             for b in 0..a {
                 work.hessian[b * parameters + a] = work.hessian[a * parameters + b];
@@ -310,31 +345,87 @@ impl<'m> Likelihood<'m> {
         total + self.constraint_terms(theta, live_days, data)
     }
 
-    /// (1 - n_j/nu_j) d2nu_j terms for yield-yield and yield-shape pairs (lower triangle).
-    fn add_second_derivative_terms(
-        &self,
-        theta: &[f64],
-        live_days: f64,
-        data: &Dataset,
-        work: &mut Workspace,
-    ) {
+    /// Expected counts nu_j and their derivatives dnu_j/dtheta_a, from the
+    /// fractions (and fraction gradients) already in `work`.
+    #[inline(always)]
+    fn fill_expected_with_gradient(&self, theta: &[f64], live_days: f64, work: &mut Workspace) {
+        let bins = self.bins;
+        work.expected.fill(0.0);
+        for (a, column) in self.columns.iter().enumerate() {
+            work.expected_gradient[a * bins..][column.clone()].fill(0.0);
+        }
+        for (index, term) in self.terms.iter().enumerate() {
+            let base = term.events_per_live_day * live_days;
+            let yield_ = base * product_except(theta, term.yield_parameters, usize::MAX);
+            let fractions = &work.fractions[index];
+            let range = term.offset..term.offset + term.bins;
+            add_scaled(&mut work.expected[range.clone()], yield_, fractions);
+            for &a in term.yield_parameters {
+                let partial = base * product_except(theta, term.yield_parameters, a);
+                let row = &mut work.expected_gradient[a * bins..][range.clone()];
+                add_scaled(row, partial, fractions);
+            }
+            if let Some(floating) = term.floating {
+                let gradients = &work.fraction_gradients[index];
+                for (k, &s) in floating.iter().enumerate() {
+                    let row = &mut work.expected_gradient[s * bins..][range.clone()];
+                    add_scaled(row, yield_, &gradients[k * term.bins..(k + 1) * term.bins]);
+                }
+            }
+        }
+    }
+
+    /// The Poisson part of the gradient, sum_j w_j dnu_j/dtheta_a, and of the
+    /// Hessian, sum_j c_j dnu_j/dtheta_a dnu_j/dtheta_b (lower triangle), each
+    /// over the bins where both derivatives can be non-zero.
+    #[inline(always)]
+    fn fill_gradient_and_hessian(&self, work: &mut Workspace) {
+        let parameters = self.parameter_count();
+        let bins = self.bins;
+        let columns = &work.expected_gradient;
+        for (a, column_a) in self.columns.iter().enumerate() {
+            let da = &columns[a * bins..(a + 1) * bins];
+            work.gradient[a] = dot(&work.weights[column_a.clone()], &da[column_a.clone()]);
+            for (b, column_b) in self.columns[..=a].iter().enumerate() {
+                let common = column_a.start.max(column_b.start)..column_a.end.min(column_b.end);
+                let db = &columns[b * bins..(b + 1) * bins];
+                work.hessian[a * parameters + b] = if common.is_empty() {
+                    0.0
+                } else {
+                    weighted_dot(
+                        &work.curvatures[common.clone()],
+                        &da[common.clone()],
+                        &db[common],
+                    )
+                };
+            }
+        }
+    }
+
+    /// (1 - n_j/nu_j) d2nu_j terms for yield-yield, yield-shape and (where the
+    /// shape provides them) shape-shape pairs (lower triangle).
+    #[inline(always)]
+    fn add_second_derivative_terms(&self, theta: &[f64], live_days: f64, work: &mut Workspace) {
         let parameters = self.parameter_count();
         for (index, term) in self.terms.iter().enumerate() {
+            let weights = &work.weights[term.offset..term.offset + term.bins];
+            if let (Some(floating), true) = (term.floating, work.has_curvatures[index]) {
+                let yield_ = term.yield_at(theta, live_days);
+                let curvatures = &work.fraction_curvatures[index];
+                let n = floating.len();
+                for (k, &a) in floating.iter().enumerate() {
+                    for (l, &b) in floating[..=k].iter().enumerate() {
+                        let curvature = &curvatures[(k * n + l) * term.bins..][..term.bins];
+                        let value = yield_ * dot(weights, curvature);
+                        add_lower(&mut work.hessian, parameters, a, b, value);
+                    }
+                }
+            }
             let has_pairs = term.yield_parameters.len() > 1;
             if !has_pairs && (term.floating.is_none() || term.yield_parameters.is_empty()) {
                 continue;
             }
-            let range = term.offset..term.offset + term.bins;
-            let weights = || {
-                work.expected[range.clone()]
-                    .iter()
-                    .zip(&data.counts[range.clone()])
-                    .map(|(&nu, &n)| poisson_weights(n, nu).0)
-            };
-            let weighted_fraction: f64 = weights()
-                .zip(&work.fractions[index])
-                .map(|(w, f)| w * f)
-                .sum();
+            let weighted_fraction = dot(weights, &work.fractions[index]);
             let base = term.events_per_live_day * live_days;
             for (i, &a) in term.yield_parameters.iter().enumerate() {
                 for &b in &term.yield_parameters[..i] {
@@ -351,7 +442,7 @@ impl<'m> Likelihood<'m> {
             if let Some(floating) = term.floating {
                 for (k, &s) in floating.iter().enumerate() {
                     let df = &work.fraction_gradients[index][k * term.bins..(k + 1) * term.bins];
-                    let weighted_gradient: f64 = weights().zip(df).map(|(w, g)| w * g).sum();
+                    let weighted_gradient = dot(weights, df);
                     for &a in term.yield_parameters {
                         let partial = base * product_except(theta, term.yield_parameters, a);
                         add_lower(
@@ -408,15 +499,8 @@ impl Term<'_> {
 
 /// nu - n + n ln(n/nu), with 0 ln 0 = 0; infinite for an invalid expectation.
 fn poisson_deviance_term(n: f64, nu: f64) -> f64 {
-    if nu > 0.0 {
-        if n > 0.0 {
-            // n ln(n/nu) = -n ln(1 + (nu - n)/n), accurate when nu is close to n.
-            nu - n - n * ((nu - n) / n).ln_1p()
-        } else {
-            nu
-        }
-    } else if nu == 0.0 && n == 0.0 {
-        0.0
+    if poisson::is_valid(n, nu) {
+        poisson::bin_terms(n, nu).0
     } else {
         f64::INFINITY
     }
@@ -426,11 +510,91 @@ fn poisson_deviance_term(n: f64, nu: f64) -> f64 {
 /// Hessian of one bin's term. A bin without counts contributes nu alone, so
 /// (1, 0), also where nu is zero.
 fn poisson_weights(n: f64, nu: f64) -> (f64, f64) {
-    if n > 0.0 {
-        (1.0 - n / nu, n / (nu * nu))
-    } else {
-        (1.0, 0.0)
+    let (_, weight, curvature) = poisson::bin_terms(n, nu);
+    (weight, curvature)
+}
+
+/// Sum of the deviance terms of all bins, filling `work.weights` and
+/// `work.curvatures` on the way; infinite when an expectation is invalid.
+#[inline(always)]
+fn poisson_terms_with_weights(counts: &[f64], work: &mut Workspace) -> f64 {
+    poisson::terms_with_weights(
+        counts,
+        &work.expected,
+        &mut work.weights,
+        &mut work.curvatures,
+        &mut work.logarithms,
+    )
+}
+
+/// The bins whose expectation depends on `parameter`: the union of the
+/// channels of the terms that use it.
+fn column_of(terms: &[Term], parameter: usize) -> Range<usize> {
+    terms
+        .iter()
+        .filter(|term| {
+            term.yield_parameters.contains(&parameter)
+                || term.floating.is_some_and(|p| p.contains(&parameter))
+        })
+        .map(|term| term.offset..term.offset + term.bins)
+        .reduce(|a, b| a.start.min(b.start)..a.end.max(b.end))
+        .unwrap_or(0..0)
+}
+
+/// target += scale x values, element by element.
+#[inline(always)]
+fn add_scaled(target: &mut [f64], scale: f64, values: &[f64]) {
+    for (t, v) in target.iter_mut().zip(values) {
+        *t += scale * v;
     }
+}
+
+/// Lanes of the partial sums below: independent sums the compiler can keep in
+/// vector registers, since it may not reorder one floating-point sum itself.
+const LANES: usize = 4;
+
+/// sum_j a_j b_j.
+#[inline(always)]
+fn dot(a: &[f64], b: &[f64]) -> f64 {
+    let mut sums = [0.0; LANES];
+    let chunks = a.len() / LANES * LANES;
+    for (a, b) in a[..chunks]
+        .chunks_exact(LANES)
+        .zip(b[..chunks].chunks_exact(LANES))
+    {
+        for lane in 0..LANES {
+            sums[lane] += a[lane] * b[lane];
+        }
+    }
+    let tail: f64 = a[chunks..]
+        .iter()
+        .zip(&b[chunks..])
+        .map(|(a, b)| a * b)
+        .sum();
+    sums.iter().sum::<f64>() + tail
+}
+
+/// sum_j w_j a_j b_j.
+#[inline(always)]
+fn weighted_dot(w: &[f64], a: &[f64], b: &[f64]) -> f64 {
+    let mut sums = [0.0; LANES];
+    let chunks = w.len() / LANES * LANES;
+    for ((w, a), b) in w[..chunks]
+        .chunks_exact(LANES)
+        .zip(a[..chunks].chunks_exact(LANES))
+        .zip(b[..chunks].chunks_exact(LANES))
+    {
+        for lane in 0..LANES {
+            sums[lane] += w[lane] * a[lane] * b[lane];
+        }
+    }
+    let tail: f64 = w[chunks..]
+        .iter()
+        .zip(&a[chunks..])
+        .zip(&b[chunks..])
+        .map(|((w, a), b)| w * a * b)
+        .sum();
+    sums.iter().sum::<f64>() + tail
 }
 
 /// Product of theta over `indices`, skipping index `skip`.

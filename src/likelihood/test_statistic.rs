@@ -48,23 +48,36 @@ impl<'l, 'm> DiscoveryTest<'l, 'm> {
         &mut self.fitter
     }
 
-    /// q0 of `data` after `live_days`, both fits started at the generating values.
-    /// If the free fit lands above the background-only minimum (a subset of its
-    /// parameter space), it is repeated from the background-only solution.
+    /// q0 of `data` after `live_days`. The free fit starts at the generating
+    /// values, the background-only fit where the free fit's quadratic
+    /// approximation puts the minimum at mu = 0 (see
+    /// [`Fitter::conditional_start`]), or at the generating values with mu = 0
+    /// when the free fit failed. If the free fit lands above the
+    /// background-only minimum (a subset of its parameter space), it is
+    /// repeated from the background-only solution.
     pub fn fit(&mut self, live_days: f64, data: &Dataset) -> Result<DiscoveryFit, FitFailure> {
+        let first_free = self.fitter.minimise(live_days, data, None, &self.nominal);
+        let free_fit = first_free.map(|nll| (nll, self.fitter.parameters()[SIGNAL_STRENGTH]));
+        if free_fit.is_ok() {
+            self.fitter
+                .conditional_start(SIGNAL_STRENGTH, 0.0, &mut self.null_parameters);
+        } else {
+            self.null_parameters.copy_from_slice(&self.nominal);
+        }
         let null_nll = self
             .fitter
-            .minimise(live_days, data, Some(0.0), &self.nominal)?;
-        self.null_parameters
-            .copy_from_slice(self.fitter.parameters());
-        let mut free_nll = self.fitter.minimise(live_days, data, None, &self.nominal);
-        if free_nll.as_ref().map_or(true, |&nll| nll > null_nll) {
-            free_nll = self
-                .fitter
-                .minimise(live_days, data, None, &self.null_parameters);
-        }
-        let free_nll = free_nll?;
-        let fitted_mu = self.fitter.parameters()[SIGNAL_STRENGTH];
+            .minimise(live_days, data, Some(0.0), &self.null_parameters)?;
+        let (free_nll, fitted_mu) = match free_fit {
+            Ok((nll, mu)) if nll <= null_nll => (nll, mu),
+            _ => {
+                self.null_parameters
+                    .copy_from_slice(self.fitter.parameters());
+                let nll = self
+                    .fitter
+                    .minimise(live_days, data, None, &self.null_parameters)?;
+                (nll, self.fitter.parameters()[SIGNAL_STRENGTH])
+            }
+        };
         Ok(DiscoveryFit {
             q0: q0_from_fits(null_nll, free_nll, fitted_mu),
             fitted_mu,

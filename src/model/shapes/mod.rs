@@ -42,7 +42,10 @@ pub trait Shape: std::fmt::Debug + Send + Sync {
     /// `gradient[k * bins + i]` = d fraction_i / d params[k].
     ///
     /// The default uses central finite differences of [`Shape::bin_fractions`];
-    /// shapes whose parameters commonly float override it analytically.
+    /// shapes whose parameters commonly float override it analytically. It
+    /// allocates nothing for up to [`STACK_PARAMETERS`] parameters: each row of
+    /// `gradient` holds the upper fractions and `fractions` the lower ones
+    /// until the difference is taken.
     fn bin_fractions_with_gradient(
         &self,
         params: &[f64],
@@ -51,26 +54,55 @@ pub trait Shape: std::fmt::Debug + Send + Sync {
         gradient: &mut [f64],
     ) {
         let bins = fractions.len();
-        self.bin_fractions(params, edges, fractions);
-        let mut shifted = params.to_vec();
-        let mut upper = vec![0.0; bins];
-        let mut lower = vec![0.0; bins];
-        for k in 0..params.len() {
-            let step = 1e-6 * params[k].abs().max(1e-3);
-            shifted[k] = params[k] + step;
-            self.bin_fractions(&shifted, edges, &mut upper);
-            shifted[k] = params[k] - step;
-            self.bin_fractions(&shifted, edges, &mut lower);
-            shifted[k] = params[k];
-            for i in 0..bins {
-                gradient[k * bins + i] = (upper[i] - lower[i]) / (2.0 * step);
+        with_copy(params, |shifted| {
+            for k in 0..params.len() {
+                let step = 1e-6 * params[k].abs().max(1e-3);
+                let row = &mut gradient[k * bins..(k + 1) * bins];
+                shifted[k] = params[k] + step;
+                self.bin_fractions(shifted, edges, row);
+                shifted[k] = params[k] - step;
+                self.bin_fractions(shifted, edges, fractions);
+                shifted[k] = params[k];
+                for (derivative, lower) in row.iter_mut().zip(&*fractions) {
+                    *derivative = (*derivative - lower) / (2.0 * step);
+                }
             }
-        }
+        });
+        self.bin_fractions(params, edges, fractions);
+    }
+
+    /// Second derivatives of the bin fractions in the parameters,
+    /// `curvatures[(k * n + l) * bins + i]` = d2 fraction_i / d params[k] d params[l]
+    /// with n = `params.len()`, given the `fractions` of the same parameters.
+    /// Returns false, writing nothing, when the shape does not provide them;
+    /// a fit then approximates that block of its Hessian (Gauss-Newton).
+    fn bin_fraction_curvatures(
+        &self,
+        _params: &[f64],
+        _edges: &[f64],
+        _fractions: &[f64],
+        _curvatures: &mut [f64],
+    ) -> bool {
+        false
     }
 
     /// The normalised density at `x` on the range `[low, high]` (per unit of the
     /// observable), zero outside the range and NaN outside the shape's domain.
     fn density(&self, params: &[f64], low: f64, high: f64, x: f64) -> f64;
+}
+
+/// Shapes with at most this many parameters are differentiated without allocating.
+const STACK_PARAMETERS: usize = 8;
+
+/// Runs `work` on a mutable copy of `params`, on the stack when it is short.
+fn with_copy(params: &[f64], work: impl FnOnce(&mut [f64])) {
+    if params.len() <= STACK_PARAMETERS {
+        let mut copy = [0.0; STACK_PARAMETERS];
+        copy[..params.len()].copy_from_slice(params);
+        work(&mut copy[..params.len()]);
+    } else {
+        work(&mut params.to_vec());
+    }
 }
 
 /// Divides bin masses by their sum, turning them into fractions, and returns the sum.
@@ -79,16 +111,37 @@ pub trait Shape: std::fmt::Debug + Send + Sync {
 /// parameters lie outside the shape's domain: every entry becomes NaN and the
 /// result is `None`.
 fn normalise_masses(masses: &mut [f64]) -> Option<f64> {
-    let total: f64 = masses.iter().sum();
-    let valid = total > 0.0 && total.is_finite() && masses.iter().all(|&mass| mass >= 0.0);
+    let (total, non_negative) = sum_and_sign(masses);
+    let valid = non_negative && total > 0.0 && total.is_finite();
     if !valid {
         mark_invalid(masses);
         return None;
     }
+    let scale = total.recip();
     for mass in masses.iter_mut() {
-        *mass /= total;
+        *mass *= scale;
     }
     Some(total)
+}
+
+/// The sum of `values`, in four interleaved partial sums that the compiler
+/// can keep in vector registers (it may not reorder a single sum), and
+/// whether every value is non-negative (not NaN).
+fn sum_and_sign(values: &[f64]) -> (f64, bool) {
+    let mut sums = [0.0; 4];
+    let mut non_negative = true;
+    let mut chunks = values.chunks_exact(4);
+    for chunk in &mut chunks {
+        for (partial, &value) in sums.iter_mut().zip(chunk) {
+            *partial += value;
+            non_negative &= value >= 0.0;
+        }
+    }
+    for &value in chunks.remainder() {
+        sums[0] += value;
+        non_negative &= value >= 0.0;
+    }
+    ((sums[0] + sums[2]) + (sums[1] + sums[3]), non_negative)
 }
 
 /// The fitted range `[edges[0], edges[last]]`.

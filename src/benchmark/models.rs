@@ -1,0 +1,59 @@
+//! The fixed models the benchmark runs on.
+//!
+//! An invented test bench, not a physics case: a Gaussian peak on a falling
+//! exponential continuum over [0, 100], fitted with the signal strength mu, a
+//! background normalisation factor constrained to 10% and the exponential
+//! slope floating. Only the binning changes between models, so the work per
+//! bin can be compared.
+
+use crate::model::Model;
+use crate::scenario::{Scenario, ScenarioError};
+
+/// The numbers of bins the benchmark compares.
+pub const BIN_COUNTS: [usize; 3] = [20, 200, 2000];
+
+/// Live days of every measured ensemble: 20,000 background and 200 signal
+/// events, a median significance of about 4.
+pub const LIVE_DAYS: f64 = 10.0;
+
+/// The scenario text of the model with `bins` bins, its plan a grid of
+/// `points` exposures from 1 to 10 days (10 days alone for one point).
+pub fn scenario_text(bins: usize, points: usize) -> String {
+    let bin_width = 100.0 / bins as f64;
+    let first = if points > 1 { 1 } else { 10 };
+    format!(
+        "# Benchmark model of runcast (invented numbers, no physics case).\n\
+         title: benchmark peak on a continuum, {bins} bins\n\
+         observable: {{name: x, unit: a.u., range: [0.0, 100.0], bin_width: {bin_width}}}\n\
+         signal: {{events_per_day: 20, shape: {{gaussian: {{mean: 50.0, sigma: 2.0}}}}}}\n\
+         backgrounds:\n  - {{name: continuum, events_per_day: 2000, \
+         shape: {{exponential: {{slope: -0.02}}}}, norm_uncertainty: 0.1, float_shape: true}}\n\
+         plan: {{days: {{first: {first}, last: 10, points: {points}, spacing: log}}, toys: 1000, \
+         seed: 20260401, targets: [3, 5]}}\n"
+    )
+}
+
+/// The model with `bins` bins.
+pub fn model(bins: usize) -> Result<Model, ScenarioError> {
+    let scenario = Scenario::from_yaml(&scenario_text(bins, 2))?;
+    Ok(Model::from_scenario(&scenario))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn every_benchmark_model_builds_with_its_bins_and_three_parameters() {
+        for bins in BIN_COUNTS {
+            let model = model(bins).expect("built-in scenario is valid");
+            assert_eq!(model.bin_count(), bins);
+            assert_eq!(model.parameters.len(), 3);
+            assert_eq!(model.constraints.len(), 1);
+        }
+        for points in [1, 100] {
+            let scenario = Scenario::from_yaml(&scenario_text(200, points)).unwrap();
+            assert_eq!(scenario.plan.days.days().len(), points);
+        }
+    }
+}

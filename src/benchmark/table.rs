@@ -1,0 +1,151 @@
+//! The benchmark report as a plain-text table.
+
+use super::{BenchmarkReport, Length, ModelResult};
+use std::fmt::Write;
+
+/// The report, ready to print.
+pub fn render(report: &BenchmarkReport) -> String {
+    let mut text = String::new();
+    let run = match report.length {
+        Length::Quick => "quick run",
+        Length::Full => "full run",
+    };
+    let _ = writeln!(
+        text,
+        "runcast bench ({run}): one toy = Poisson draw of every bin + fit with mu free \
+         + fit with mu = 0 + q0\nmodels: Gaussian peak on an exponential continuum; mu, \
+         background factor (10% constraint) and slope fitted; {} live days\n\
+         rates: fastest of {} runs; toy/draw = cost of a full toy over its draw alone\n",
+        super::models::LIVE_DAYS,
+        report.length.repeats()
+    );
+    let _ = writeln!(
+        text,
+        "{:>5} {:>8} {:>12} {:>12} {:>8} {:>12} {:>10} {:>13} {:>7}",
+        "bins",
+        "toys",
+        "toys/s 1 thr",
+        "toys/s 2 thr",
+        "2 vs 1",
+        "draws/s 2 thr",
+        "toy/draw",
+        "ns/toy/bin 1t",
+        "failed"
+    );
+    for model in &report.models {
+        text.push_str(&model_row(model));
+    }
+    let (fewer, all) = (
+        report.fewer_toys,
+        report
+            .models
+            .iter()
+            .find(|m| m.bins == 200)
+            .map(|m| m.two_threads),
+    );
+    if let Some(all) = all {
+        let _ = writeln!(
+            text,
+            "\ntoys (200 bins, 2 threads): {} toys {:.0}/s, {} toys {:.0}/s",
+            fewer.toys,
+            fewer.per_second(),
+            all.toys,
+            all.per_second()
+        );
+    }
+    let mut asimov = report.asimov_process_seconds.clone();
+    asimov.sort_by(f64::total_cmp);
+    if let (Some(first), Some(last)) = (asimov.first(), asimov.last()) {
+        let median = asimov[asimov.len() / 2];
+        let _ = writeln!(
+            text,
+            "Asimov-only projection, 100 exposure points, whole process: median {:.1} ms \
+             (min {:.1}, max {:.1}; {} runs)",
+            median * 1e3,
+            first * 1e3,
+            last * 1e3,
+            asimov.len()
+        );
+    }
+    let _ = writeln!(
+        text,
+        "\npeak resident memory (VmHWM of a child process, 200 bins):"
+    );
+    for probe in &report.memory {
+        let _ = writeln!(
+            text,
+            "  {:>3} exposure points x {:>8} toys: {:>7.1} MB",
+            probe.points,
+            probe.toys,
+            probe.peak_bytes as f64 / 1e6
+        );
+    }
+    if let Some((timing, failed)) = report.background_only {
+        let _ = writeln!(
+            text,
+            "\nbackground-only ensemble (mu = 0), 200 bins, 2 threads: {} toys in {:.1} s \
+             ({:.0} toys/s), failed fits {failed}",
+            timing.toys,
+            timing.seconds,
+            timing.per_second()
+        );
+    }
+    text
+}
+
+fn model_row(model: &ModelResult) -> String {
+    let one = model.one_thread.per_second();
+    let two = model.two_threads.per_second();
+    let draws = model.draws_only.per_second();
+    let nanoseconds_per_bin = 1e9 / one / model.bins as f64;
+    format!(
+        "{:>5} {:>8} {:>12.0} {:>12.0} {:>8.2} {:>13.0} {:>10.1} {:>13.1} {:>7}\n",
+        model.bins,
+        model.two_threads.toys,
+        one,
+        two,
+        two / one,
+        draws,
+        draws / two,
+        nanoseconds_per_bin,
+        model.failed_fits
+    )
+}
+
+#[cfg(test)]
+mod tests {
+    use super::super::{MemoryProbe, Timing};
+    use super::*;
+
+    #[test]
+    fn rows_show_rates_ratios_and_memory() {
+        let timing = |toys, seconds| Timing { toys, seconds };
+        let report = BenchmarkReport {
+            length: Length::Quick,
+            models: vec![ModelResult {
+                bins: 200,
+                one_thread: timing(1000, 0.02),
+                two_threads: timing(1000, 0.01),
+                draws_only: timing(1000, 0.001),
+                failed_fits: 0,
+            }],
+            fewer_toys: timing(200, 0.002),
+            asimov_process_seconds: vec![0.030, 0.020, 0.025],
+            memory: vec![MemoryProbe {
+                points: 100,
+                toys: 200,
+                peak_bytes: 12_500_000,
+            }],
+            background_only: None,
+        };
+        let text = render(&report);
+        // 1000 toys in 0.02 s is 50000/s; in 0.01 s 100000/s, a factor 2.00;
+        // draws 1000000/s, ten times the toys; 1e9 / 50000 / 200 = 100 ns per bin.
+        assert!(
+            text.contains("  200     1000        50000       100000     2.00       1000000       10.0         100.0       0"),
+            "{text}"
+        );
+        assert!(text.contains("median 25.0 ms"), "{text}");
+        assert!(text.contains("12.5 MB"), "{text}");
+    }
+}
