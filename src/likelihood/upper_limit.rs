@@ -76,15 +76,4 @@ impl<'l, 'm> UpperLimitTest<'l, 'm> {
             tested_mu,
         ))
     }
-
-    /// Best-fit parameters of the background-only hypothesis (mu = 0) for `data`.
-    pub fn background_only_parameters(
-        &mut self,
-        live_days: f64,
-        data: &Dataset,
-    ) -> Result<&[f64], FitFailure> {
-        self.fitter
-            .minimise(live_days, data, Some(0.0), &self.nominal)?;
-        Ok(self.fitter.parameters())
-    }
 }

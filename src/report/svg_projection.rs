@@ -13,6 +13,7 @@ use super::plot::{
     ValueAxis,
 };
 use super::{PROJECTION_SVG, ReportError, days_label, target_label};
+use crate::asymptotic::significance_band;
 use crate::projection::Projection;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, VPos};
@@ -94,13 +95,7 @@ fn asymptotic_band(projection: &Projection) -> Vec<BandPoint> {
     projection
         .points
         .iter()
-        .map(|point| {
-            let z = point.z_asimov;
-            (
-                point.days,
-                [-2.0, -1.0, 1.0, 2.0].map(|shift| (z + shift).max(0.0)),
-            )
-        })
+        .map(|point| (point.days, significance_band(point.z_asimov)))
         .collect()
 }
 
