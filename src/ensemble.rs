@@ -1,7 +1,8 @@
 //! Ensemble: seeded pseudo-experiments at one exposure, fitted in parallel.
 //!
 //! Every pseudo-experiment draws its own counts from its own random stream,
-//! derived from (seed, exposure index, toy index) alone, so results do not
+//! derived from (seed, stream index, toy index) alone, where the stream index
+//! names the ensemble family and the grid point; results therefore do not
 //! depend on the number of threads or on the order in which toys run.
 
 mod poisson;
@@ -17,14 +18,14 @@ use rayon::prelude::*;
 ///
 /// The 128-bit state and stream selector come from SplitMix64 (Steele, Lea,
 /// Flood, OOPSLA 2014) applied to the seed and the two indices, so that
-/// neighbouring toys and exposures get unrelated PCG streams (O'Neill, PCG
+/// neighbouring toys and ensembles get unrelated PCG streams (O'Neill, PCG
 /// technical report HMC-CS-2014-0905).
-pub fn toy_stream(seed: u64, exposure_index: usize, toy_index: usize) -> Pcg64 {
+pub fn toy_stream(seed: u64, stream_index: u64, toy_index: usize) -> Pcg64 {
     let seed_mix = splitmix64(seed);
-    let exposure_mix = splitmix64(seed_mix ^ exposure_index as u64);
-    let toy_mix = splitmix64(exposure_mix ^ splitmix64(toy_index as u64));
+    let stream_mix = splitmix64(seed_mix ^ stream_index);
+    let toy_mix = splitmix64(stream_mix ^ splitmix64(toy_index as u64));
     let state = (u128::from(seed_mix) << 64) | u128::from(toy_mix);
-    let stream = (u128::from(exposure_index as u64) << 64) | toy_index as u128;
+    let stream = (u128::from(stream_index) << 64) | toy_index as u128;
     Pcg64::new(state, stream)
 }
 
@@ -146,13 +147,13 @@ pub enum Family {
 
 impl Family {
     /// The stream index of this family's toys at grid point `exposure_index`.
-    pub fn stream_index(self, exposure_index: usize) -> usize {
+    pub fn stream_index(self, exposure_index: usize) -> u64 {
         let family = match self {
             Family::Discovery => 0,
             Family::Exclusion => 1,
             Family::Calibration => 2,
         };
-        (family << 32) | exposure_index
+        (family << 32) | exposure_index as u64
     }
 }
 
@@ -169,7 +170,7 @@ const CHUNK: usize = 256;
 /// results alone, eight bytes a toy.
 pub fn run_ensemble<S>(
     generator: &Generator,
-    stream_index: usize,
+    stream_index: u64,
     plan: &EnsemblePlan,
     state: impl Fn() -> S + Sync + Send,
     measure: impl Fn(&mut S, &Dataset) -> Option<f64> + Sync + Send,

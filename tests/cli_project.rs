@@ -208,7 +208,7 @@ fn assert_schema(json: &Value) {
         assert_eq!(band.len(), 4, "{point}");
         // Quantiles 2.3%, 15.9%, 84.1%, 97.7% of one sample cannot decrease.
         assert!(band.windows(2).all(|pair| pair[0] <= pair[1]), "{band:?}");
-        // Expected limits on mu (issue 3): positive numbers, bands ordered.
+        // Expected limits on mu: positive numbers, bands ordered.
         for key in ["limit_median", "limit_asimov"] {
             assert!(number(&point[key]) > 0.0, "{key}: {point}");
         }

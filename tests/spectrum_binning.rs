@@ -5,10 +5,11 @@ use std::fs;
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
 
-const DEMOS: [&str; 3] = [
+const DEMOS: [&str; 4] = [
     "narrow_peak.yaml",
     "faint_line.yaml",
     "counting_window.yaml",
+    "off_source_control.yaml",
 ];
 
 fn demo(name: &str) -> PathBuf {

@@ -18,7 +18,7 @@ use crate::scenario::Scenario;
 /// indices 0, 1, 2, ... of the projection grid. The toy index is the bit
 /// pattern of the calendar days, so the spectrum at a given day depends on the
 /// seed and that day alone, not on the other days asked for with it.
-pub const SPECTRUM_STREAM: usize = usize::MAX;
+pub const SPECTRUM_STREAM: u64 = u64::MAX;
 
 /// One bin of a pseudo-data spectrum.
 #[derive(Debug, Clone, PartialEq)]
