@@ -19,14 +19,28 @@ pub struct Cli {
 pub enum Command {
     /// Project the significance against days of data-taking and the days to each target.
     ///
-    /// Writes projection.svg, probability.svg, projection.csv and projection.json
-    /// to output/<scenario file stem>/ (or --out) and prints a summary table.
+    /// Writes projection.svg, probability.svg, limits.svg, projection.csv and
+    /// projection.json to output/<scenario file stem>/ (or --out) and prints a
+    /// summary table: days to each target, days to exclusion, and (with
+    /// --calibrate) toy-calibrated against asymptotic significances.
     Project(ProjectArgs),
     /// Validate a scenario and print its rates, S/B at the peak and asymptotic days to target.
     Check {
         /// The scenario file (YAML).
         scenario: PathBuf,
     },
+    /// Draw one pseudo-dataset after D calendar days and plot it against the expectation.
+    ///
+    /// Writes spectrum-<D>d.svg and spectrum-<D>d.csv to output/<scenario file stem>/
+    /// (or --out); with --days repeated, one figure with the exposures side by side,
+    /// named spectrum-<D1>d-<D2>d.svg. Same seed and days, same pseudo-data.
+    Spectrum(SpectrumArgs),
+    /// Scan the bin width of the shape fit and a counting window around the signal peak.
+    ///
+    /// Prints the Asimov significance of each, recommends a bin width (the coarsest
+    /// within 1% of the best) and the best window, and writes binning.svg and
+    /// binning.json to output/<scenario file stem>/ (or --out).
+    Binning(BinningArgs),
     /// Write a commented template scenario to FILE (never overwrites).
     New {
         /// Where to write the template.
@@ -67,7 +81,40 @@ pub struct ProjectArgs {
     /// Skip the pseudo-experiments; asymptotic (Asimov) results only.
     #[arg(long)]
     pub asimov_only: bool,
+    /// Skip the expected exclusion limits (CLs) and limits.svg.
+    #[arg(long)]
+    pub no_limits: bool,
+    /// Calibrate the discovery p-value with N background-only pseudo-experiments per point.
+    #[arg(long, value_name = "N")]
+    pub calibrate: Option<usize>,
     /// No progress bar.
     #[arg(long)]
     pub quiet: bool,
+}
+
+#[derive(Debug, Args)]
+pub struct SpectrumArgs {
+    /// The scenario file (YAML).
+    pub scenario: PathBuf,
+    /// Calendar days of data-taking; repeat for several exposures side by side.
+    #[arg(long, value_name = "D", required = true, allow_negative_numbers = true)]
+    pub days: Vec<f64>,
+    /// Seed of the pseudo-data (overrides plan.seed); same seed, same spectrum.
+    #[arg(long, value_name = "S")]
+    pub seed: Option<u64>,
+    /// Output directory (default: output/<scenario file stem>).
+    #[arg(long, value_name = "DIR")]
+    pub out: Option<PathBuf>,
+}
+
+#[derive(Debug, Args)]
+pub struct BinningArgs {
+    /// The scenario file (YAML).
+    pub scenario: PathBuf,
+    /// Calendar days of data-taking at which to compare binnings.
+    #[arg(long, value_name = "D", allow_negative_numbers = true)]
+    pub days: f64,
+    /// Output directory (default: output/<scenario file stem>).
+    #[arg(long, value_name = "DIR")]
+    pub out: Option<PathBuf>,
 }

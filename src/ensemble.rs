@@ -1,7 +1,8 @@
 //! Ensemble: seeded pseudo-experiments at one exposure, fitted in parallel.
 //!
 //! Every pseudo-experiment draws its own counts from its own random stream,
-//! derived from (seed, exposure index, toy index) alone, so results do not
+//! derived from (seed, stream index, toy index) alone, where the stream index
+//! names the ensemble family and the grid point; results therefore do not
 //! depend on the number of threads or on the order in which toys run.
 
 mod poisson;
@@ -17,14 +18,14 @@ use rayon::prelude::*;
 ///
 /// The 128-bit state and stream selector come from SplitMix64 (Steele, Lea,
 /// Flood, OOPSLA 2014) applied to the seed and the two indices, so that
-/// neighbouring toys and exposures get unrelated PCG streams (O'Neill, PCG
+/// neighbouring toys and ensembles get unrelated PCG streams (O'Neill, PCG
 /// technical report HMC-CS-2014-0905).
-pub fn toy_stream(seed: u64, exposure_index: usize, toy_index: usize) -> Pcg64 {
+pub fn toy_stream(seed: u64, stream_index: u64, toy_index: usize) -> Pcg64 {
     let seed_mix = splitmix64(seed);
-    let exposure_mix = splitmix64(seed_mix ^ exposure_index as u64);
-    let toy_mix = splitmix64(exposure_mix ^ splitmix64(toy_index as u64));
+    let stream_mix = splitmix64(seed_mix ^ stream_index);
+    let toy_mix = splitmix64(stream_mix ^ splitmix64(toy_index as u64));
     let state = (u128::from(seed_mix) << 64) | u128::from(toy_mix);
-    let stream = (u128::from(exposure_index as u64) << 64) | toy_index as u128;
+    let stream = (u128::from(stream_index) << 64) | toy_index as u128;
     Pcg64::new(state, stream)
 }
 
@@ -114,11 +115,12 @@ impl Generator {
     }
 }
 
-/// Significances of an ensemble at one exposure, with the fits that failed.
+/// The values measured on an ensemble at one exposure, with the fits that failed.
 #[derive(Debug, Clone, PartialEq)]
 pub struct EnsembleOutcome {
-    /// Z = sqrt(q0) of each pseudo-experiment whose fits converged, in toy order.
-    pub significances: Vec<f64>,
+    /// The measured value (a significance, an upper limit, a q0) of each
+    /// pseudo-experiment whose fits converged, in toy order.
+    pub values: Vec<f64>,
     /// Pseudo-experiments whose fits failed after all retries.
     pub failed_fits: usize,
 }
@@ -131,11 +133,69 @@ pub struct EnsemblePlan<'a> {
     pub progress: &'a (dyn Fn(u64) + Sync),
 }
 
+/// The families of pseudo-experiments at one exposure; each draws from its own
+/// random streams, so adding one family never changes another's numbers.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Family {
+    /// Generated at mu = 1, for the discovery significance.
+    Discovery,
+    /// Generated at mu = 0, for expected upper limits.
+    Exclusion,
+    /// Generated at mu = 0, for the calibration of q0.
+    Calibration,
+}
+
+impl Family {
+    /// The stream index of this family's toys at grid point `exposure_index`.
+    pub fn stream_index(self, exposure_index: usize) -> u64 {
+        let family = match self {
+            Family::Discovery => 0,
+            Family::Exclusion => 1,
+            Family::Calibration => 2,
+        };
+        (family << 32) | exposure_index as u64
+    }
+}
+
 /// Pseudo-experiments per unit of parallel work (and per progress report).
 const CHUNK: usize = 256;
 
-/// Runs `plan.toys` pseudo-experiments generated at nominal parameters (mu = 1)
-/// after `live_days`, each fitted twice for q0; `exposure_index` selects the streams.
+/// Runs `plan.toys` pseudo-experiments drawn by `generator`, in parallel chunks,
+/// each from its own stream (`stream_index`, toy index), and applies `measure`
+/// (with per-thread state made by `state`) to each; None counts as a failed fit.
+///
+/// Each worker keeps one state and one dataset for all its toys, and the values
+/// are written straight into their place in one vector (a failed toy as NaN
+/// until the failures are counted and removed), so the memory is that of the
+/// results alone, eight bytes a toy.
+pub fn run_ensemble<S>(
+    generator: &Generator,
+    stream_index: u64,
+    plan: &EnsemblePlan,
+    state: impl Fn() -> S + Sync + Send,
+    measure: impl Fn(&mut S, &Dataset) -> Option<f64> + Sync + Send,
+) -> EnsembleOutcome {
+    let mut values = vec![f64::NAN; plan.toys];
+    values.par_chunks_mut(CHUNK).enumerate().for_each_init(
+        || (state(), generator.empty_dataset()),
+        |(state, data), (chunk, results)| {
+            for (offset, value) in results.iter_mut().enumerate() {
+                let mut rng = toy_stream(plan.seed, stream_index, chunk * CHUNK + offset);
+                generator.draw(&mut rng, data);
+                *value = measure(state, data).unwrap_or(f64::NAN);
+            }
+            (plan.progress)(results.len() as u64);
+        },
+    );
+    values.retain(|value| !value.is_nan());
+    EnsembleOutcome {
+        failed_fits: plan.toys - values.len(),
+        values,
+    }
+}
+
+/// Significances Z = sqrt(q0) of `plan.toys` pseudo-experiments generated at
+/// nominal parameters (mu = 1) after `live_days`.
 pub fn discovery_ensemble(
     likelihood: &Likelihood,
     live_days: f64,
@@ -143,47 +203,33 @@ pub fn discovery_ensemble(
     plan: &EnsemblePlan,
 ) -> EnsembleOutcome {
     let nominal = likelihood.model().nominal_parameters();
-    q0_ensemble(likelihood, &nominal, live_days, exposure_index, plan)
+    let generator = Generator::new(likelihood, &nominal, live_days);
+    run_ensemble(
+        &generator,
+        Family::Discovery.stream_index(exposure_index),
+        plan,
+        || DiscoveryTest::new(likelihood),
+        |test, data| test.fit(live_days, data).ok().map(|fit| fit.q0.sqrt()),
+    )
 }
 
-/// Runs `plan.toys` pseudo-experiments generated at `generating` parameters
-/// (mu = 0 for a background-only ensemble) after `live_days`, each fitted twice
-/// for q0; `exposure_index` selects the streams.
-///
-/// Each worker thread keeps one fitter and one dataset for all its toys, and
-/// the significances are written straight into their place in one vector
-/// (a failed toy as NaN until the failures are counted and removed), so the
-/// memory is that of the results alone, eight bytes a toy.
-pub fn q0_ensemble(
+/// q0 of `plan.toys` pseudo-experiments generated under the background-only
+/// hypothesis (mu = 0, nuisance parameters nominal) after `live_days`, for the
+/// calibration of discovery p-values.
+pub fn background_only_q0_ensemble(
     likelihood: &Likelihood,
-    generating: &[f64],
     live_days: f64,
     exposure_index: usize,
     plan: &EnsemblePlan,
 ) -> EnsembleOutcome {
-    let generator = Generator::new(likelihood, generating, live_days);
-    let mut significances = vec![f64::NAN; plan.toys];
-    significances
-        .par_chunks_mut(CHUNK)
-        .enumerate()
-        .for_each_init(
-            || (DiscoveryTest::new(likelihood), generator.empty_dataset()),
-            |(test, data), (chunk, results)| {
-                for (offset, z) in results.iter_mut().enumerate() {
-                    let toy = chunk * CHUNK + offset;
-                    let mut rng = toy_stream(plan.seed, exposure_index, toy);
-                    generator.draw(&mut rng, data);
-                    if let Ok(fit) = test.fit(live_days, data) {
-                        *z = fit.q0.sqrt();
-                    }
-                }
-                (plan.progress)(results.len() as u64);
-            },
-        );
-    let converged = significances.iter().filter(|z| !z.is_nan()).count();
-    significances.retain(|z| !z.is_nan());
-    EnsembleOutcome {
-        significances,
-        failed_fits: plan.toys - converged,
-    }
+    let mut background_only = likelihood.model().nominal_parameters();
+    background_only[crate::model::SIGNAL_STRENGTH] = 0.0;
+    let generator = Generator::new(likelihood, &background_only, live_days);
+    run_ensemble(
+        &generator,
+        Family::Calibration.stream_index(exposure_index),
+        plan,
+        || DiscoveryTest::new(likelihood),
+        |test, data| test.fit(live_days, data).ok().map(|fit| fit.q0),
+    )
 }

@@ -1,6 +1,7 @@
 //! The errors a command can end with; each prints as one line a user can act on.
 
 use crate::benchmark::BenchmarkError;
+use crate::binning::BinningError;
 use crate::projection::ProjectionError;
 use crate::report::ReportError;
 use crate::scenario::ScenarioError;
@@ -14,6 +15,7 @@ pub enum Error {
         source: ScenarioError,
     },
     Projection(ProjectionError),
+    Binning(BinningError),
     Report(ReportError),
     /// A file the user named could not be written.
     Write {
@@ -32,8 +34,14 @@ pub enum Error {
 impl fmt::Display for Error {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
+            // A read error names the file itself.
+            Error::Scenario {
+                source: source @ ScenarioError::Read { .. },
+                ..
+            } => write!(f, "{source}"),
             Error::Scenario { path, source } => write!(f, "{}: {source}", path.display()),
             Error::Projection(source) => write!(f, "{source}"),
+            Error::Binning(source) => write!(f, "{source}"),
             Error::Report(source) => write!(f, "{source}"),
             Error::Write { path, source } => write!(f, "cannot write {}: {source}", path.display()),
             Error::Exists { path } => write!(
@@ -52,6 +60,12 @@ impl std::error::Error for Error {}
 impl From<ProjectionError> for Error {
     fn from(source: ProjectionError) -> Error {
         Error::Projection(source)
+    }
+}
+
+impl From<BinningError> for Error {
+    fn from(source: BinningError) -> Error {
+        Error::Binning(source)
     }
 }
 

@@ -6,18 +6,24 @@
 //! -> ensemble (seeded pseudo-experiments) -> projection (exposure scan, days to target)
 //! -> report (SVG, CSV, JSON, terminal summary).
 //! `asymptotic` holds the Asimov answers the projection cross-checks against;
+//! `spectrum` draws pseudo-data spectra and `binning` scans bin widths and
+//! counting windows, both for planning beside the projection;
 //! `cli` and `commands` are the command-line front end; `benchmark` measures
 //! the engine.
 
 pub mod asymptotic;
 pub mod benchmark;
+pub mod binning;
 pub mod cli;
 pub mod commands;
 pub mod ensemble;
 pub mod error;
 pub mod likelihood;
+pub mod limits;
 pub mod model;
+pub mod numeric;
 pub mod progress;
 pub mod projection;
 pub mod report;
 pub mod scenario;
+pub mod spectrum;

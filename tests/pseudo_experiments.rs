@@ -90,7 +90,7 @@ fn toy_median_equals_asimov_significance_with_many_counts() {
     let toys = 4000;
     let outcome = discovery_ensemble(&likelihood, live_days, 0, &plan(toys, 2026));
     assert_eq!(outcome.failed_fits, 0);
-    let mut z = outcome.significances;
+    let mut z = outcome.values;
     z.sort_by(f64::total_cmp);
     let median = quantile(&z, 0.5);
     let error = 1.2533 / (toys as f64).sqrt();

@@ -52,6 +52,8 @@ pub fn probe_in_process(points: usize, toys: usize) -> Result<u64, BenchmarkErro
         toys,
         seed: scenario.plan.seed,
         targets: scenario.plan.targets.clone(),
+        cl: None,
+        calibration_toys: 0,
     };
     project(&model, &settings, &|_| {}).map_err(|failure| BenchmarkError::Child {
         command: format!("memory probe {points}:{toys}"),

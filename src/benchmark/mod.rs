@@ -14,9 +14,10 @@ mod table;
 pub use memory::{MemoryProbe, PROBE_FLAG, parse_probe, peak_resident_bytes, probe_in_process};
 pub use table::render;
 
-use crate::ensemble::{EnsemblePlan, Generator, discovery_ensemble, q0_ensemble, toy_stream};
+use crate::ensemble::{
+    EnsemblePlan, Generator, background_only_q0_ensemble, discovery_ensemble, toy_stream,
+};
 use crate::likelihood::Likelihood;
-use crate::model::SIGNAL_STRENGTH;
 use crate::scenario::ScenarioError;
 use rayon::prelude::*;
 use std::fmt;
@@ -311,15 +312,13 @@ fn time_draws(likelihood: &Likelihood, toys: usize) -> Timing {
 
 /// `toys` toys generated with mu = 0, as for calibrating q0 by pseudo-experiments.
 fn time_background_only(likelihood: &Likelihood, toys: usize) -> (Timing, usize) {
-    let mut background = likelihood.model().nominal_parameters();
-    background[SIGNAL_STRENGTH] = 0.0;
     let plan = EnsemblePlan {
         toys,
         seed: SEED,
         progress: &|_| {},
     };
     let start = Instant::now();
-    let outcome = q0_ensemble(likelihood, &background, models::LIVE_DAYS, 0, &plan);
+    let outcome = background_only_q0_ensemble(likelihood, models::LIVE_DAYS, 0, &plan);
     let seconds = start.elapsed().as_secs_f64();
     (Timing { toys, seconds }, outcome.failed_fits)
 }

@@ -2,8 +2,7 @@
 
 use super::load_scenario;
 use crate::error::Error;
-use crate::model::Model;
-use crate::model::shapes::Shape;
+use crate::model::{Model, fraction_inside};
 use crate::projection::{ProjectionSettings, project};
 use crate::scenario::{Scenario, ShapeSpec};
 
@@ -20,6 +19,8 @@ pub fn run(path: &std::path::Path) -> Result<(), Error> {
         toys: 0,
         seed: scenario.plan.seed,
         targets: scenario.plan.targets.clone(),
+        cl: Some(scenario.plan.cl),
+        calibration_toys: 0,
     };
     let projection = project(&model, &settings, &|_| {})?;
     let last_day = settings.days.last().copied().unwrap_or_default();
@@ -34,6 +35,14 @@ pub fn run(path: &std::path::Path) -> Result<(), Error> {
         };
         println!("    {} sigma: {answer}", days.target);
     }
+    let exclusion = match projection.days_to_exclusion.asimov_days {
+        Some(days) => format!("{days:.1} days"),
+        None => format!("not within the grid (beyond {last_day} days)"),
+    };
+    println!(
+        "  asymptotic days until the signal is excluded at {}% CL (median expected CLs limit): {exclusion}",
+        scenario.plan.cl * 100.0
+    );
     Ok(())
 }
 
@@ -48,7 +57,10 @@ fn print_rates(scenario: &Scenario, model: &Model) {
         );
     }
     println!("  background total: {background:.6} events per live day");
-    let (low, high) = peak_window(&scenario.signal.shape, observable.range);
+    let Some((low, high)) = peak_window(&scenario.signal.shape, observable.range) else {
+        println!("  the signal peak ±2 widths lies outside the range: no S/B at the peak");
+        return;
+    };
     let in_window =
         |spec: &ShapeSpec, rate: f64| rate * fraction_inside(spec, observable.range, low, high);
     let signal_in = in_window(&scenario.signal.shape, signal);
@@ -65,24 +77,15 @@ fn print_rates(scenario: &Scenario, model: &Model) {
 }
 
 /// The peak ±2 widths (sigma for a Gaussian, half width at half maximum for a
-/// Breit-Wigner), clipped to the range; the whole range for other shapes.
-fn peak_window(shape: &ShapeSpec, range: [f64; 2]) -> (f64, f64) {
+/// Breit-Wigner), clipped to the range; the whole range for other shapes; None
+/// when the window lies entirely outside the range.
+fn peak_window(shape: &ShapeSpec, range: [f64; 2]) -> Option<(f64, f64)> {
     let (centre, width) = match *shape {
         ShapeSpec::Gaussian { mean, sigma } => (mean, sigma),
         ShapeSpec::BreitWigner { mean, width } => (mean, width / 2.0),
-        _ => return (range[0], range[1]),
+        _ => return Some((range[0], range[1])),
     };
-    (
-        (centre - 2.0 * width).max(range[0]),
-        (centre + 2.0 * width).min(range[1]),
-    )
-}
-
-/// Exact fraction of a shape (normalised on `range`) inside `[low, high]`.
-fn fraction_inside(spec: &ShapeSpec, range: [f64; 2], low: f64, high: f64) -> f64 {
-    let shape: Box<dyn Shape> = crate::model::shape_from_spec(spec);
-    let edges = [range[0], low, high, range[1]];
-    let mut fractions = [0.0; 3];
-    shape.bin_fractions(&shape.nominal_parameters(), &edges, &mut fractions);
-    fractions[1]
+    let low = (centre - 2.0 * width).max(range[0]);
+    let high = (centre + 2.0 * width).min(range[1]);
+    (low < high).then_some((low, high))
 }

@@ -1,6 +1,6 @@
 //! `runcast project`: the main job.
 
-use super::load_scenario;
+use super::{load_scenario, output_directory};
 use crate::cli::ProjectArgs;
 use crate::error::Error;
 use crate::model::Model;
@@ -8,16 +8,14 @@ use crate::progress::toy_progress;
 use crate::projection::{ProjectionSettings, project};
 use crate::report;
 use crate::scenario::Scenario;
-use std::path::{Path, PathBuf};
 
 pub fn run(args: &ProjectArgs) -> Result<(), Error> {
     let scenario = load_scenario(&args.scenario)?;
     let settings = settings(&scenario, args)?;
-    let out = output_directory(args);
+    let out = output_directory(&args.scenario, args.out.as_deref());
     let model = Model::from_scenario(&scenario);
 
-    let points = settings.days.len() as u64;
-    let bar = toy_progress(settings.toys as u64 * points, args.quiet);
+    let bar = toy_progress(settings.total_toys(), args.quiet);
     let progress = |done: u64| bar.inc(done);
     let projection = with_threads(args.threads, || project(&model, &settings, &progress))??;
     bar.finish_and_clear();
@@ -30,9 +28,14 @@ pub fn run(args: &ProjectArgs) -> Result<(), Error> {
 }
 
 fn settings(scenario: &Scenario, args: &ProjectArgs) -> Result<ProjectionSettings, Error> {
-    if args.toys == Some(0) {
+    if args.toys == Some(0) && !args.asimov_only {
         return Err(Error::Usage(
             "--toys: must be at least 1 (use --asimov-only to skip pseudo-experiments)".into(),
+        ));
+    }
+    if args.calibrate == Some(0) {
+        return Err(Error::Usage(
+            "--calibrate: must be at least 1 pseudo-experiment".into(),
         ));
     }
     let toys = if args.asimov_only {
@@ -46,17 +49,8 @@ fn settings(scenario: &Scenario, args: &ProjectArgs) -> Result<ProjectionSetting
         toys,
         seed: args.seed.unwrap_or(scenario.plan.seed),
         targets: scenario.plan.targets.clone(),
-    })
-}
-
-/// `--out`, or `output/<scenario file stem>`.
-fn output_directory(args: &ProjectArgs) -> PathBuf {
-    args.out.clone().unwrap_or_else(|| {
-        let stem = args.scenario.file_stem().map_or_else(
-            || "scenario".into(),
-            |stem| stem.to_string_lossy().into_owned(),
-        );
-        Path::new("output").join(stem)
+        cl: (!args.no_limits).then_some(scenario.plan.cl),
+        calibration_toys: args.calibrate.unwrap_or(0),
     })
 }
 

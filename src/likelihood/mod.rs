@@ -15,10 +15,12 @@ mod fit;
 mod linear;
 mod poisson;
 mod test_statistic;
+mod upper_limit;
 
 pub use dataset::Dataset;
 pub use fit::{FitFailure, Fitter};
 pub use test_statistic::{DiscoveryFit, DiscoveryTest, q0_from_fits};
+pub use upper_limit::{UpperLimitTest, q_tilde_from_fits};
 
 use crate::model::{Constraint, Model, ShapeParameters};
 use linear::{add_scaled, dot, weighted_dot};

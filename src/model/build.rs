@@ -146,6 +146,25 @@ impl Builder {
     }
 }
 
+/// Exact fraction of a shape (normalised on `range`) inside `[low, high]`, a
+/// window within the range.
+pub fn fraction_inside(spec: &ShapeSpec, range: [f64; 2], low: f64, high: f64) -> f64 {
+    if high <= low {
+        return 0.0;
+    }
+    let mut edges = vec![range[0]];
+    for edge in [low, high, range[1]] {
+        if edge > edges[edges.len() - 1] {
+            edges.push(edge);
+        }
+    }
+    let window = usize::from(low > range[0]);
+    let shape = shape_from_spec(spec);
+    let mut fractions = vec![0.0; edges.len() - 1];
+    shape.bin_fractions(&shape.nominal_parameters(), &edges, &mut fractions);
+    fractions[window]
+}
+
 /// The shape a scenario names.
 pub fn shape_from_spec(spec: &ShapeSpec) -> Box<dyn shapes::Shape> {
     match spec {
@@ -156,5 +175,26 @@ pub fn shape_from_spec(spec: &ShapeSpec) -> Box<dyn shapes::Shape> {
             Box::new(shapes::Polynomial::new(coefficients.clone()))
         }
         ShapeSpec::Flat {} => Box::new(shapes::Flat),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A flat density on [0, 10] puts (high - low) / 10 inside [low, high]
+    /// (definition), also when the window touches or covers the range edges.
+    #[test]
+    fn flat_fraction_inside_is_the_width_share() {
+        let flat = ShapeSpec::Flat {};
+        for (low, high, expected) in [(2.0, 5.0, 0.3), (0.0, 4.0, 0.4), (6.0, 10.0, 0.4)] {
+            let fraction = fraction_inside(&flat, [0.0, 10.0], low, high);
+            assert!(
+                (fraction - expected).abs() < 1e-15,
+                "[{low}, {high}]: {fraction}"
+            );
+        }
+        assert_eq!(fraction_inside(&flat, [0.0, 10.0], 0.0, 10.0), 1.0);
+        assert_eq!(fraction_inside(&flat, [0.0, 10.0], 3.0, 3.0), 0.0);
     }
 }

@@ -13,7 +13,7 @@ mod build;
 mod schedule;
 pub mod shapes;
 
-pub use build::{bin_edges, shape_from_spec};
+pub use build::{bin_edges, fraction_inside, shape_from_spec};
 pub use schedule::LiveTime;
 
 use shapes::Shape;

@@ -22,25 +22,6 @@ pub fn first_crossing(days: &[f64], values: &[f64], level: f64) -> Option<f64> {
     None
 }
 
-/// Root of an increasing function between `low` (below `level`) and `high`
-/// (at or above it), by bisection in log(days) to a relative precision of 1e-7.
-pub fn bisect_log<E>(
-    mut low: f64,
-    mut high: f64,
-    level: f64,
-    mut value_at: impl FnMut(f64) -> Result<f64, E>,
-) -> Result<f64, E> {
-    while high / low > 1.0 + 1e-7 {
-        let middle = (low * high).sqrt();
-        if value_at(middle)? >= level {
-            high = middle;
-        } else {
-            low = middle;
-        }
-    }
-    Ok((low * high).sqrt())
-}
-
 /// Quantile `probability` of sorted `values`, linear between order statistics
 /// (Hyndman and Fan, Am. Stat. 50 (1996) 361, definition 7).
 pub fn quantile(sorted: &[f64], probability: f64) -> f64 {
@@ -64,12 +45,6 @@ mod tests {
         // Before the first grid point, from the origin.
         assert!((first_crossing(&days, &z_squared, 0.5).unwrap() - 5.0).abs() < 1e-12);
         assert_eq!(first_crossing(&days, &z_squared, 25.0), None);
-    }
-
-    #[test]
-    fn bisection_finds_a_square_root() {
-        let root = bisect_log::<()>(1.0, 100.0, 3.0, |x| Ok(x.sqrt())).unwrap();
-        assert!((root - 9.0).abs() < 1e-5);
     }
 
     #[test]

@@ -13,8 +13,13 @@ pub struct Projection {
     pub toys: usize,
     /// Target significances in sigma.
     pub targets: Vec<f64>,
+    /// Confidence level of the expected limits; None when limits were not computed.
+    pub cl: Option<f64>,
+    /// Background-only pseudo-experiments per point for the q0 calibration (0 = none).
+    pub calibration_toys: usize,
     pub points: Vec<ExposurePoint>,
     pub days_to_target: Vec<DaysToTarget>,
+    pub days_to_exclusion: DaysToExclusion,
 }
 
 /// Everything known at one calendar day of the grid.
@@ -38,6 +43,48 @@ pub struct ExposurePoint {
     pub probability: Vec<TargetProbability>,
     /// Pseudo-experiments whose fits failed after all retries (excluded from quantiles).
     pub failed_fits: usize,
+    /// Median expected upper limit on mu from background-only pseudo-experiments.
+    pub limit_median: Option<f64>,
+    /// Quantiles 2.3%, 15.9%, 84.1%, 97.7% of the pseudo-experiment limits on mu.
+    pub limit_band: Option<[f64; 4]>,
+    /// Median expected upper limit on mu from the asymptotic formulae.
+    pub limit_asimov: Option<f64>,
+    /// Asymptotic expected limits on mu at -2, -1, +1, +2 sigma.
+    pub limit_asimov_band: Option<[f64; 4]>,
+    /// Background-only pseudo-experiments whose limit could not be computed.
+    pub limit_failed_fits: usize,
+    /// Toy calibration of the discovery p-value (with `--calibrate`).
+    pub calibration: Option<Calibration>,
+}
+
+/// The p-value of the median expected q0 (the Asimov q0), asymptotically and
+/// from background-only pseudo-experiments.
+#[derive(Debug, Clone, Serialize)]
+pub struct Calibration {
+    /// Background-only pseudo-experiments whose fits converged.
+    pub toys: usize,
+    pub failed_fits: usize,
+    /// The Asimov q0 = Z_A^2 whose p-value is calibrated.
+    pub q0_asimov: f64,
+    /// Pseudo-experiments with q0 >= q0_asimov.
+    pub exceeding: usize,
+    /// 1 - Phi(Z_A) from the asymptotic half chi-square distribution.
+    pub p_asymptotic: f64,
+    pub z_asymptotic: f64,
+    /// exceeding / toys; None when no pseudo-experiment reached q0_asimov.
+    pub p_toys: Option<f64>,
+    pub z_toys: Option<f64>,
+    /// The significance of p = 1/toys, the deepest tail the ensemble resolves.
+    pub tail_reach_z: f64,
+}
+
+/// Calendar days until the nominal signal (mu = 1) is excluded by the median expected limit.
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct DaysToExclusion {
+    /// From the asymptotic median limit (root-found).
+    pub asimov_days: Option<f64>,
+    /// From the median of the pseudo-experiment limits (1/limit^2 linear in days).
+    pub median_days: Option<f64>,
 }
 
 /// P(Z >= target) at one exposure.

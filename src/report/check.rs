@@ -6,13 +6,17 @@
 //! these is refused with the path of the offending value.
 
 use super::ReportError;
-use crate::projection::Projection;
+use crate::projection::{Calibration, ExposurePoint, Projection};
 
 const FINITE: &str = "a finite number";
+/// Limits go on a logarithmic axis, and a CLs upper limit is always above 0.
+const LIMIT: &str = "a finite upper limit on the signal strength above 0";
 
 /// Checks the invariants the renderers rely on:
 /// - at least one exposure point, with calendar days finite, above zero and increasing;
-/// - every number finite (targets, counts, significances, probabilities, days, limits);
+/// - every number finite (targets, counts, significances, probabilities, days,
+///   calibrations), the confidence level between 0 and 1;
+/// - every expected limit on μ finite and above zero (absent limits are fine);
 /// - every point carries one probability per target, in the order of `targets`.
 pub(super) fn check_projection(projection: &Projection) -> Result<(), ReportError> {
     if projection.points.is_empty() {
@@ -35,7 +39,19 @@ pub(super) fn check_projection(projection: &Projection) -> Result<(), ReportErro
         optional_finite(field("p90_days"), row.p90_days)?;
         optional_finite(field("limit_z"), row.limit_z)?;
     }
-    Ok(())
+    if let Some(cl) = projection.cl
+        && !(cl > 0.0 && cl < 1.0)
+    {
+        return Err(invalid(
+            "cl".to_string(),
+            cl.to_string(),
+            "a confidence level between 0 and 1",
+        ));
+    }
+    let exclusion = &projection.days_to_exclusion;
+    let field = |name: &str| format!("days_to_exclusion.{name}");
+    optional_finite(field("asimov_days"), exclusion.asimov_days)?;
+    optional_finite(field("median_days"), exclusion.median_days)
 }
 
 fn check_points(projection: &Projection) -> Result<(), ReportError> {
@@ -85,8 +101,37 @@ fn check_points(projection: &Projection) -> Result<(), ReportError> {
             optional_finite(field("toys"), probability.toys)?;
             finite(field("asimov"), probability.asimov)?;
         }
+        check_limits(index, point)?;
+        if let Some(calibration) = &point.calibration {
+            check_calibration(index, calibration)?;
+        }
     }
     Ok(())
+}
+
+fn check_limits(index: usize, point: &ExposurePoint) -> Result<(), ReportError> {
+    let field = |name: &str| format!("points[{index}].{name}");
+    optional_limit(field("limit_median"), point.limit_median)?;
+    optional_limit(field("limit_asimov"), point.limit_asimov)?;
+    for (name, band) in [
+        ("limit_band", point.limit_band),
+        ("limit_asimov_band", point.limit_asimov_band),
+    ] {
+        for (quantile, &mu) in band.iter().flatten().enumerate() {
+            optional_limit(field(&format!("{name}[{quantile}]")), Some(mu))?;
+        }
+    }
+    Ok(())
+}
+
+fn check_calibration(index: usize, calibration: &Calibration) -> Result<(), ReportError> {
+    let field = |name: &str| format!("points[{index}].calibration.{name}");
+    finite(field("q0_asimov"), calibration.q0_asimov)?;
+    finite(field("p_asymptotic"), calibration.p_asymptotic)?;
+    finite(field("z_asymptotic"), calibration.z_asymptotic)?;
+    optional_finite(field("p_toys"), calibration.p_toys)?;
+    optional_finite(field("z_toys"), calibration.z_toys)?;
+    finite(field("tail_reach_z"), calibration.tail_reach_z)
 }
 
 fn finite(field: String, value: f64) -> Result<(), ReportError> {
@@ -99,6 +144,13 @@ fn finite(field: String, value: f64) -> Result<(), ReportError> {
 
 fn optional_finite(field: String, value: Option<f64>) -> Result<(), ReportError> {
     value.map_or(Ok(()), |value| finite(field, value))
+}
+
+fn optional_limit(field: String, limit: Option<f64>) -> Result<(), ReportError> {
+    match limit {
+        Some(mu) if !(mu.is_finite() && mu > 0.0) => Err(invalid(field, mu.to_string(), LIMIT)),
+        _ => Ok(()),
+    }
 }
 
 fn invalid(field: String, value: String, expected: &'static str) -> ReportError {
@@ -123,6 +175,76 @@ mod tests {
         check_projection(&example::tiny()).unwrap();
         check_projection(&example::with_toys()).unwrap();
         check_projection(&example::asimov_only()).unwrap();
+        check_projection(&example::with_limits()).unwrap();
+        check_projection(&example::asimov_only_with_limits()).unwrap();
+    }
+
+    #[test]
+    fn an_infinite_limit_is_named() {
+        let mut projection = example::with_limits();
+        projection.points[4].limit_median = Some(f64::INFINITY);
+        assert_eq!(
+            message(&projection),
+            "cannot report the projection: points[4].limit_median is inf, \
+             expected a finite upper limit on the signal strength above 0"
+        );
+        let mut projection = example::with_limits();
+        projection.points[2].limit_asimov_band = Some([0.5, 0.7, f64::NAN, 1.9]);
+        assert_eq!(
+            message(&projection),
+            "cannot report the projection: points[2].limit_asimov_band[2] is NaN, \
+             expected a finite upper limit on the signal strength above 0"
+        );
+    }
+
+    #[test]
+    fn a_limit_of_zero_cannot_go_on_a_log_axis() {
+        let mut projection = example::with_limits();
+        projection.points[0].limit_band = Some([0.0, 0.7, 1.2, 1.9]);
+        assert_eq!(
+            message(&projection),
+            "cannot report the projection: points[0].limit_band[0] is 0, \
+             expected a finite upper limit on the signal strength above 0"
+        );
+    }
+
+    #[test]
+    fn absent_limits_are_fine() {
+        let mut projection = example::with_limits();
+        let first = &mut projection.points[0];
+        first.limit_median = None;
+        first.limit_band = None;
+        first.limit_asimov = None;
+        first.limit_asimov_band = None;
+        check_projection(&projection).unwrap();
+    }
+
+    #[test]
+    fn infinite_calibration_and_exclusion_values_are_named() {
+        let mut projection = example::with_limits();
+        projection.points[5].calibration.as_mut().unwrap().z_toys = Some(f64::INFINITY);
+        assert_eq!(
+            message(&projection),
+            "cannot report the projection: points[5].calibration.z_toys is inf, \
+             expected a finite number"
+        );
+        let mut projection = example::with_limits();
+        projection.days_to_exclusion.median_days = Some(f64::NEG_INFINITY);
+        assert_eq!(
+            message(&projection),
+            "cannot report the projection: days_to_exclusion.median_days is -inf, \
+             expected a finite number"
+        );
+    }
+
+    #[test]
+    fn a_confidence_level_outside_zero_to_one_is_refused() {
+        let mut projection = example::with_limits();
+        projection.cl = Some(95.0);
+        assert_eq!(
+            message(&projection),
+            "cannot report the projection: cl is 95, expected a confidence level between 0 and 1"
+        );
     }
 
     #[test]

@@ -2,17 +2,53 @@
 //!
 //! Columns: `days, live_days, signal, background, z_asimov, z_median,
 //! z_q02_3, z_q15_9, z_q84_1, z_q97_7`, then for each target T
-//! `p_toys_<T>sigma, p_asimov_<T>sigma`, then `failed_fits`. An empty cell
-//! means no value (an Asimov-only run has no toy columns filled). Numbers are
+//! `p_toys_<T>sigma, p_asimov_<T>sigma`, then `failed_fits`; then the
+//! expected limits on μ, `limit_median, limit_q02_3, limit_q15_9,
+//! limit_q84_1, limit_q97_7` (pseudo-experiments), `limit_asimov,
+//! limit_asimov_q02_3, limit_asimov_q15_9, limit_asimov_q84_1,
+//! limit_asimov_q97_7` (asymptotic, the -2, -1, +1, +2 σ limits standing at
+//! those quantiles), `limit_failed_fits`; then the q0 calibration,
+//! `calibration_toys, calibration_failed_fits, calibration_exceeding,
+//! q0_asimov, p_asymptotic, p_toys, z_asymptotic, z_toys, tail_reach_z`. An
+//! empty cell means no value (an Asimov-only run has no toy columns filled, a
+//! run without limits or calibration none of theirs). Numbers are
 //! written as the shortest decimal that reads back to the same f64, so the
 //! file is lossless and byte-for-byte reproducible; magnitudes below 1e-4 or
 //! from 1e15 up use exponent form (`2.867e-7`) instead of long runs of zeros.
 
 use super::{PROJECTION_CSV, ReportError};
-use crate::projection::{ExposurePoint, Projection};
+use crate::projection::{Calibration, ExposurePoint, Projection};
 
 /// Names of the four toy quantile columns, in the order of `z_band`.
 const BAND_COLUMNS: [&str; 4] = ["z_q02_3", "z_q15_9", "z_q84_1", "z_q97_7"];
+
+/// The limit columns after `failed_fits`, in the order of [`limit_cells`].
+const LIMIT_COLUMNS: [&str; 11] = [
+    "limit_median",
+    "limit_q02_3",
+    "limit_q15_9",
+    "limit_q84_1",
+    "limit_q97_7",
+    "limit_asimov",
+    "limit_asimov_q02_3",
+    "limit_asimov_q15_9",
+    "limit_asimov_q84_1",
+    "limit_asimov_q97_7",
+    "limit_failed_fits",
+];
+
+/// The calibration columns at the end, in the order of [`calibration_cells`].
+const CALIBRATION_COLUMNS: [&str; 9] = [
+    "calibration_toys",
+    "calibration_failed_fits",
+    "calibration_exceeding",
+    "q0_asimov",
+    "p_asymptotic",
+    "p_toys",
+    "z_asymptotic",
+    "z_toys",
+    "tail_reach_z",
+];
 
 /// The CSV table of the projection.
 pub(super) fn render(projection: &Projection) -> Result<Vec<u8>, ReportError> {
@@ -47,6 +83,12 @@ fn header(targets: &[f64]) -> Vec<String> {
         columns.push(format!("p_asimov_{target}sigma"));
     }
     columns.push("failed_fits".to_string());
+    columns.extend(
+        LIMIT_COLUMNS
+            .iter()
+            .chain(&CALIBRATION_COLUMNS)
+            .map(|name| name.to_string()),
+    );
     columns
 }
 
@@ -60,18 +102,51 @@ fn row(point: &ExposurePoint) -> Vec<String> {
         number(point.z_asimov),
         optional(point.z_median),
     ];
-    for quantile in 0..BAND_COLUMNS.len() {
-        cells.push(optional(point.z_band.map(|band| band[quantile])));
-    }
+    cells.extend(band_cells(point.z_band));
     for probability in &point.probability {
         cells.push(optional(probability.toys));
         cells.push(number(probability.asimov));
     }
     cells.push(point.failed_fits.to_string());
+    cells.extend(limit_cells(point));
+    cells.extend(calibration_cells(point.calibration.as_ref()));
     cells
 }
 
-fn number(value: f64) -> String {
+/// The four quantiles of a band, or four empty cells.
+fn band_cells(band: Option<[f64; 4]>) -> [String; 4] {
+    std::array::from_fn(|quantile| optional(band.map(|band| band[quantile])))
+}
+
+fn limit_cells(point: &ExposurePoint) -> Vec<String> {
+    let mut cells = vec![optional(point.limit_median)];
+    cells.extend(band_cells(point.limit_band));
+    cells.push(optional(point.limit_asimov));
+    cells.extend(band_cells(point.limit_asimov_band));
+    cells.push(point.limit_failed_fits.to_string());
+    cells
+}
+
+/// The calibration of one point, or empty cells throughout.
+fn calibration_cells(calibration: Option<&Calibration>) -> [String; 9] {
+    let Some(calibration) = calibration else {
+        return Default::default();
+    };
+    [
+        calibration.toys.to_string(),
+        calibration.failed_fits.to_string(),
+        calibration.exceeding.to_string(),
+        number(calibration.q0_asimov),
+        number(calibration.p_asymptotic),
+        optional(calibration.p_toys),
+        number(calibration.z_asymptotic),
+        optional(calibration.z_toys),
+        number(calibration.tail_reach_z),
+    ]
+}
+
+/// The shortest decimal that reads back to `value`, in exponent form outside [1e-4, 1e15).
+pub(super) fn number(value: f64) -> String {
     let magnitude = value.abs();
     if magnitude != 0.0 && !(1e-4..1e15).contains(&magnitude) {
         format!("{value:e}")
@@ -105,11 +180,77 @@ mod tests {
             [
                 "days,live_days,signal,background,z_asimov,z_median,\
                  z_q02_3,z_q15_9,z_q84_1,z_q97_7,\
-                 p_toys_3sigma,p_asimov_3sigma,p_toys_5sigma,p_asimov_5sigma,failed_fits",
-                "10,8,16,80,1.75,1.625,0.125,0.75,2.5,3.5,0.105,0.0885,0,0.0005,0",
-                "100,80,160,800,3.875,,,,,,,0.8125,,0.125,2",
+                 p_toys_3sigma,p_asimov_3sigma,p_toys_5sigma,p_asimov_5sigma,failed_fits,\
+                 limit_median,limit_q02_3,limit_q15_9,limit_q84_1,limit_q97_7,\
+                 limit_asimov,limit_asimov_q02_3,limit_asimov_q15_9,limit_asimov_q84_1,\
+                 limit_asimov_q97_7,limit_failed_fits,\
+                 calibration_toys,calibration_failed_fits,calibration_exceeding,q0_asimov,\
+                 p_asymptotic,p_toys,z_asymptotic,z_toys,tail_reach_z",
+                "10,8,16,80,1.75,1.625,0.125,0.75,2.5,3.5,0.105,0.0885,0,0.0005,0\
+                 ,,,,,,,,,,,0,,,,,,,,,",
+                "100,80,160,800,3.875,,,,,,,0.8125,,0.125,2\
+                 ,,,,,,,,,,,0,,,,,,,,,",
             ]
         );
+    }
+
+    /// The cell of `column` in data row `row` of the rendered table.
+    fn cell(table: &[Vec<String>], column: &str, row: usize) -> String {
+        let index = table[0].iter().position(|name| name == column).unwrap();
+        table[row + 1][index].clone()
+    }
+
+    fn table(projection: &Projection) -> Vec<Vec<String>> {
+        let bytes = render(projection).unwrap();
+        ::csv::ReaderBuilder::new()
+            .has_headers(false)
+            .from_reader(bytes.as_slice())
+            .records()
+            .map(|record| record.unwrap().iter().map(str::to_string).collect())
+            .collect()
+    }
+
+    #[test]
+    fn limit_and_calibration_columns_read_back_exactly() {
+        let projection = example::with_limits();
+        let table = table(&projection);
+        assert_eq!(table.len(), projection.points.len() + 1);
+        let value = |column: &str, row: usize| cell(&table, column, row).parse::<f64>().unwrap();
+        for (row, point) in projection.points.iter().enumerate() {
+            let band = point.limit_band.unwrap();
+            let asymptotic_band = point.limit_asimov_band.unwrap();
+            assert_eq!(value("limit_median", row), point.limit_median.unwrap());
+            assert_eq!(value("limit_q02_3", row), band[0]);
+            assert_eq!(value("limit_q97_7", row), band[3]);
+            assert_eq!(value("limit_asimov", row), point.limit_asimov.unwrap());
+            assert_eq!(value("limit_asimov_q15_9", row), asymptotic_band[1]);
+            assert_eq!(value("limit_asimov_q84_1", row), asymptotic_band[2]);
+            let calibration = point.calibration.as_ref().unwrap();
+            assert_eq!(value("z_asymptotic", row), calibration.z_asymptotic);
+            assert_eq!(value("tail_reach_z", row), calibration.tail_reach_z);
+            assert_eq!(cell(&table, "calibration_toys", row), "5000");
+        }
+        // At 1000 days the Asimov Z lies far past what 5000 toys resolve: none exceeds.
+        let last = projection.points.len() - 1;
+        assert_eq!(cell(&table, "limit_failed_fits", 0), "1");
+        assert_eq!(cell(&table, "calibration_exceeding", last), "0");
+        assert_eq!(cell(&table, "p_toys", last), "");
+        assert_eq!(cell(&table, "z_toys", last), "");
+    }
+
+    #[test]
+    fn asimov_only_limits_leave_the_toy_limit_cells_empty() {
+        let table = table(&example::asimov_only_with_limits());
+        assert_eq!(cell(&table, "limit_median", 3), "");
+        assert_eq!(cell(&table, "limit_q84_1", 3), "");
+        assert_eq!(cell(&table, "limit_failed_fits", 3), "0");
+        assert!(
+            cell(&table, "limit_asimov_q97_7", 3)
+                .parse::<f64>()
+                .unwrap()
+                > 0.0
+        );
+        assert_eq!(cell(&table, "calibration_toys", 3), "");
     }
 
     #[test]

@@ -1,9 +1,13 @@
 //! Invented projections for the report tests: a hypothetical counting search,
 //! not any real experiment. Only the report formatting is under test here, so
-//! the toy quantiles are made up around the Asimov curve, not simulated.
+//! the toy quantiles, toy limits and toy p-values are made up around the
+//! asymptotic curves, not simulated.
 
-use crate::projection::{DaysToTarget, ExposurePoint, Projection, TargetProbability};
-use statrs::function::erf::erfc;
+use crate::asymptotic::{p_value, probability_to_reach, significance};
+use crate::limits::expected_limit_significance;
+use crate::projection::{
+    Calibration, DaysToExclusion, DaysToTarget, ExposurePoint, Projection, TargetProbability,
+};
 
 /// Two hand-written points and two targets. Point 1 carries no toy results and
 /// the 5σ target is never reached (Z saturates at 4.5σ), to exercise nulls.
@@ -13,6 +17,9 @@ pub(crate) fn tiny() -> Projection {
         seed: 7,
         toys: 200,
         targets: vec![3.0, 5.0],
+        cl: None,
+        calibration_toys: 0,
+        days_to_exclusion: DaysToExclusion::default(),
         points: vec![
             ExposurePoint {
                 days: 10.0,
@@ -35,6 +42,12 @@ pub(crate) fn tiny() -> Projection {
                     },
                 ],
                 failed_fits: 0,
+                limit_median: None,
+                limit_band: None,
+                limit_asimov: None,
+                limit_asimov_band: None,
+                limit_failed_fits: 0,
+                calibration: None,
             },
             ExposurePoint {
                 days: 100.0,
@@ -57,6 +70,12 @@ pub(crate) fn tiny() -> Projection {
                     },
                 ],
                 failed_fits: 2,
+                limit_median: None,
+                limit_band: None,
+                limit_asimov: None,
+                limit_asimov_band: None,
+                limit_failed_fits: 0,
+                calibration: None,
             },
         ],
         days_to_target: vec![
@@ -84,6 +103,10 @@ pub(crate) fn tiny() -> Projection {
 /// calendar days live, background known to `relative_uncertainty`.
 struct InventedSearch {
     relative_uncertainty: f64,
+    /// Confidence level of the expected limits; None for no limits.
+    cl: Option<f64>,
+    /// Background-only pseudo-experiments per point for the q0 calibration.
+    calibration_toys: usize,
 }
 
 impl InventedSearch {
@@ -107,6 +130,22 @@ impl InventedSearch {
     /// s / (δ b): where Z_A saturates as exposure grows (common practice).
     fn limit_z(&self) -> f64 {
         Self::SIGNAL_PER_LIVE_DAY / (self.relative_uncertainty * Self::BACKGROUND_PER_LIVE_DAY)
+    }
+
+    /// σ of the fitted signal strength, sqrt(b + (δ b)²) / s, for a counting
+    /// search whose background is known to a relative δ (common practice).
+    fn sigma_mu(&self, days: f64) -> f64 {
+        let live_days = days * Self::LIVE_FRACTION;
+        let s = Self::SIGNAL_PER_LIVE_DAY * live_days;
+        let b = Self::BACKGROUND_PER_LIVE_DAY * live_days;
+        (b + (self.relative_uncertainty * b).powi(2)).sqrt() / s
+    }
+
+    /// Asymptotic expected CLs limit on mu at N σ of the background-only
+    /// distribution: σ (Φ⁻¹(1 − α Φ(N)) + N) (Cowan et al., EPJC 71 (2011)
+    /// 1554, eqs. 88-89); N = 0 is the median.
+    fn asymptotic_limit(&self, days: f64, alpha: f64, n_sigma: f64) -> f64 {
+        self.sigma_mu(days) * expected_limit_significance(alpha, n_sigma)
     }
 
     /// Calendar days where `z(days)` reaches `target` within `[1, 1000]`, by bisection.
@@ -141,11 +180,11 @@ impl InventedSearch {
             .iter()
             .map(|&target| TargetProbability {
                 target,
-                toys: toys.then(|| normal_cdf(z_median - target)),
-                asimov: normal_cdf(z_asimov - target),
+                toys: toys.then(|| probability_to_reach(z_median, target)),
+                asimov: probability_to_reach(z_asimov, target),
             })
             .collect();
-        ExposurePoint {
+        let mut point = ExposurePoint {
             days,
             live_days,
             signal: Self::SIGNAL_PER_LIVE_DAY * live_days,
@@ -162,6 +201,54 @@ impl InventedSearch {
             }),
             probability,
             failed_fits: if toys && days < 2.0 { 3 } else { 0 },
+            limit_median: None,
+            limit_band: None,
+            limit_asimov: None,
+            limit_asimov_band: None,
+            limit_failed_fits: 0,
+            calibration: (self.calibration_toys > 0).then(|| self.calibration(z_asimov)),
+        };
+        if let Some(cl) = self.cl {
+            self.add_limits(&mut point, 1.0 - cl, toys);
+        }
+        point
+    }
+
+    /// Asymptotic limits, and invented toy limits: a median 2% above the
+    /// asymptotic one and a band slightly narrower than the asymptotic band.
+    fn add_limits(&self, point: &mut ExposurePoint, alpha: f64, toys: bool) {
+        let days = point.days;
+        let limit = |n_sigma| self.asymptotic_limit(days, alpha, n_sigma);
+        let asymptotic_band = [-2.0, -1.0, 1.0, 2.0].map(limit);
+        point.limit_asimov = Some(limit(0.0));
+        point.limit_asimov_band = Some(asymptotic_band);
+        if toys {
+            point.limit_median = Some(1.02 * limit(0.0));
+            let widths = [1.05, 1.02, 0.97, 0.93];
+            point.limit_band = Some(std::array::from_fn(|quantile| {
+                widths[quantile] * asymptotic_band[quantile]
+            }));
+            point.limit_failed_fits = if days < 2.0 { 1 } else { 0 };
+        }
+    }
+
+    /// An invented calibration in which 25% more background-only toys than
+    /// the half chi-square law predicts reach the Asimov q0.
+    fn calibration(&self, z_asimov: f64) -> Calibration {
+        let toys = self.calibration_toys;
+        let p_asymptotic = p_value(z_asimov);
+        let exceeding = (1.25 * p_asymptotic * toys as f64).round() as usize;
+        let p_toys = (exceeding > 0).then(|| exceeding as f64 / toys as f64);
+        Calibration {
+            toys,
+            failed_fits: 0,
+            q0_asimov: z_asimov * z_asimov,
+            exceeding,
+            p_asymptotic,
+            z_asymptotic: z_asimov,
+            p_toys,
+            z_toys: p_toys.map(significance),
+            tail_reach_z: significance(1.0 / toys as f64),
         }
     }
 
@@ -194,19 +281,33 @@ impl InventedSearch {
                 .collect(),
             targets,
             days_to_target,
+            days_to_exclusion: self.days_to_exclusion(with_toys),
+            cl: self.cl,
+            calibration_toys: self.calibration_toys,
         }
     }
-}
 
-/// Φ(x) = erfc(-x/√2)/2.
-fn normal_cdf(x: f64) -> f64 {
-    0.5 * erfc(-x / std::f64::consts::SQRT_2)
+    /// Where the asymptotic median limit, and the invented toy median 2%
+    /// above it, fall to mu = 1.
+    fn days_to_exclusion(&self, with_toys: bool) -> DaysToExclusion {
+        let Some(cl) = self.cl else {
+            return DaysToExclusion::default();
+        };
+        let sensitivity =
+            |scale: f64| move |days| 1.0 / (scale * self.asymptotic_limit(days, 1.0 - cl, 0.0));
+        DaysToExclusion {
+            asimov_days: Self::days_to(sensitivity(1.0), 1.0),
+            median_days: Self::days_to(sensitivity(1.02), 1.0).filter(|_| with_toys),
+        }
+    }
 }
 
 /// 2000 invented toys per point, 2% background uncertainty (Z saturates at 10σ).
 pub(crate) fn with_toys() -> Projection {
     InventedSearch {
         relative_uncertainty: 0.02,
+        cl: None,
+        calibration_toys: 0,
     }
     .projection(
         "Invented search: 2 signal, 10 background events per live day",
@@ -218,6 +319,32 @@ pub(crate) fn with_toys() -> Projection {
 pub(crate) fn asimov_only() -> Projection {
     InventedSearch {
         relative_uncertainty: 0.05,
+        cl: None,
+        calibration_toys: 0,
+    }
+    .projection("Invented search, Asimov only, 5% background uncertainty", 0)
+}
+
+/// As [`with_toys`], with expected 95% CL limits and a q0 calibration by
+/// 5000 background-only pseudo-experiments per point.
+pub(crate) fn with_limits() -> Projection {
+    InventedSearch {
+        relative_uncertainty: 0.02,
+        cl: Some(0.95),
+        calibration_toys: 5000,
+    }
+    .projection(
+        "Invented search: 2 signal, 10 background events per live day",
+        2000,
+    )
+}
+
+/// Asimov-only with expected 95% CL limits, 5% background uncertainty.
+pub(crate) fn asimov_only_with_limits() -> Projection {
+    InventedSearch {
+        relative_uncertainty: 0.05,
+        cl: Some(0.95),
+        calibration_toys: 0,
     }
     .projection("Invented search, Asimov only, 5% background uncertainty", 0)
 }

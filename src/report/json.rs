@@ -34,6 +34,8 @@ mod tests {
             "seed": 7,
             "toys": 200,
             "targets": [3.0, 5.0],
+            "cl": null,
+            "calibration_toys": 0,
             "points": [
                 {
                     "days": 10.0, "live_days": 8.0, "signal": 16.0, "background": 80.0,
@@ -42,7 +44,10 @@ mod tests {
                         {"target": 3.0, "toys": 0.105, "asimov": 0.0885},
                         {"target": 5.0, "toys": 0.0, "asimov": 0.0005}
                     ],
-                    "failed_fits": 0
+                    "failed_fits": 0,
+                    "limit_median": null, "limit_band": null,
+                    "limit_asimov": null, "limit_asimov_band": null,
+                    "limit_failed_fits": 0, "calibration": null
                 },
                 {
                     "days": 100.0, "live_days": 80.0, "signal": 160.0, "background": 800.0,
@@ -51,7 +56,10 @@ mod tests {
                         {"target": 3.0, "toys": null, "asimov": 0.8125},
                         {"target": 5.0, "toys": null, "asimov": 0.125}
                     ],
-                    "failed_fits": 2
+                    "failed_fits": 2,
+                    "limit_median": null, "limit_band": null,
+                    "limit_asimov": null, "limit_asimov_band": null,
+                    "limit_failed_fits": 0, "calibration": null
                 }
             ],
             "days_to_target": [
@@ -59,9 +67,46 @@ mod tests {
                  "p50_days": 44.25, "p90_days": 98.0, "limit_z": 4.5},
                 {"target": 5.0, "asimov_days": null, "median_days": null,
                  "p50_days": null, "p90_days": null, "limit_z": 4.5}
-            ]
+            ],
+            "days_to_exclusion": {"asimov_days": null, "median_days": null}
         });
         assert_eq!(parsed(&example::tiny()), expected);
+    }
+
+    #[test]
+    fn limits_and_calibration_follow_the_schema() {
+        let projection = example::with_limits();
+        let json = parsed(&projection);
+        assert_eq!(json["cl"], json!(0.95));
+        assert_eq!(json["calibration_toys"], json!(5000));
+        let exclusion = &projection.days_to_exclusion;
+        assert_eq!(
+            json["days_to_exclusion"],
+            json!({"asimov_days": exclusion.asimov_days, "median_days": exclusion.median_days})
+        );
+        let point = &projection.points[0];
+        let calibration = point.calibration.as_ref().unwrap();
+        let first = &json["points"][0];
+        assert_eq!(first["limit_median"], json!(point.limit_median));
+        assert_eq!(first["limit_band"], json!(point.limit_band));
+        assert_eq!(first["limit_asimov"], json!(point.limit_asimov));
+        assert_eq!(first["limit_asimov_band"], json!(point.limit_asimov_band));
+        assert_eq!(first["limit_failed_fits"], json!(1));
+        assert_eq!(
+            first["calibration"],
+            json!({
+                "toys": 5000, "failed_fits": 0,
+                "q0_asimov": calibration.q0_asimov, "exceeding": calibration.exceeding,
+                "p_asymptotic": calibration.p_asymptotic,
+                "z_asymptotic": calibration.z_asymptotic,
+                "p_toys": calibration.p_toys, "z_toys": calibration.z_toys,
+                "tail_reach_z": calibration.tail_reach_z
+            })
+        );
+        let last = &json["points"][projection.points.len() - 1]["calibration"];
+        assert_eq!(last["exceeding"], json!(0));
+        assert_eq!(last["p_toys"], Value::Null);
+        assert_eq!(last["z_toys"], Value::Null);
     }
 
     #[test]

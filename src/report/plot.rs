@@ -1,5 +1,6 @@
-//! What both SVG plots share: the palette, the canvas, the logarithmic axis of
-//! calendar days, and text placed by hand in the margins.
+//! What the SVG plots share: the palette, the canvas, logarithmic axes (calendar
+//! days, and the limit on the signal strength), bands, crossing markers, and
+//! text placed by hand in the margins.
 //!
 //! Text is written as SVG `<text>` elements (no font is embedded); plotters
 //! estimates label extents from the font size alone, so the layout leaves
@@ -9,6 +10,7 @@ use super::ReportError;
 use crate::projection::ExposurePoint;
 use plotters::coord::Shift;
 use plotters::coord::combinators::WithKeyPoints;
+use plotters::coord::ranged1d::ValueFormatter;
 use plotters::coord::types::RangedCoordf64;
 use plotters::element::DashedPathElement;
 use plotters::prelude::*;
@@ -42,19 +44,28 @@ pub(super) const TARGET_COLOURS: [RGBColor; 6] = [
     RGBColor(0x3a, 0x6e, 0xa5), // cornflower slate
     RGBColor(0x8c, 0x5a, 0x2b), // umber
 ];
-const MAJOR_GRID: RGBColor = RGBColor(0xd5, 0xd9, 0xe0);
-const MINOR_GRID: RGBColor = RGBColor(0xee, 0xf0, 0xf3);
+pub(super) const MAJOR_GRID: RGBColor = RGBColor(0xd5, 0xd9, 0xe0);
+pub(super) const MINOR_GRID: RGBColor = RGBColor(0xee, 0xf0, 0xf3);
+
+/// Font size of the labels drawn inside a plot.
+pub(super) const LABEL_SIZE: u32 = 16;
 
 /// Pixel lengths of a dash and of the gap after it, for asymptotic curves.
 pub(super) const DASH: (u32, u32) = (9, 5);
 /// Pixel lengths for reference lines.
-const DOT: (u32, u32) = (3, 4);
+pub(super) const DOT: (u32, u32) = (3, 4);
 
 pub(super) type Canvas<'a> = DrawingArea<SVGBackend<'a>, Shift>;
 pub(super) type DrawError = DrawingAreaErrorKind<std::io::Error>;
-/// A chart with calendar days on a logarithmic x axis and a linear y axis.
-pub(super) type DayChart<'a, 'b> =
-    ChartContext<'a, SVGBackend<'b>, Cartesian2d<WithKeyPoints<LogCoord<f64>>, RangedCoordf64>>;
+/// A logarithmic axis with labelled ticks chosen by [`log_ticks`].
+pub(super) type LogAxis = WithKeyPoints<LogCoord<f64>>;
+/// A chart with calendar days on a logarithmic x axis and a y axis `Y`,
+/// linear unless the plot asks for [`LogAxis`].
+pub(super) type DayChart<'a, 'b, Y = RangedCoordf64> =
+    ChartContext<'a, SVGBackend<'b>, Cartesian2d<LogAxis, Y>>;
+/// Quantiles at one day: 2.3%, 15.9%, 84.1%, 97.7% (or the asymptotic -2, -1,
+/// +1, +2 σ values standing in for them).
+pub(super) type BandPoint = (f64, [f64; 4]);
 
 /// Draws on a white canvas and returns the SVG document as bytes; drawing
 /// errors are reported against `file`.
@@ -62,9 +73,18 @@ pub(super) fn svg_bytes(
     file: &'static str,
     draw: impl FnOnce(&Canvas) -> Result<(), DrawError>,
 ) -> Result<Vec<u8>, ReportError> {
+    svg_bytes_sized(file, SIZE, draw)
+}
+
+/// [`svg_bytes`] on a canvas of `size` pixels.
+pub(super) fn svg_bytes_sized(
+    file: &'static str,
+    size: (u32, u32),
+    draw: impl FnOnce(&Canvas) -> Result<(), DrawError>,
+) -> Result<Vec<u8>, ReportError> {
     let mut svg = String::new();
     {
-        let canvas = SVGBackend::with_string(&mut svg, SIZE).into_drawing_area();
+        let canvas = SVGBackend::with_string(&mut svg, size).into_drawing_area();
         canvas
             .fill(&WHITE)
             .and_then(|()| draw(&canvas))
@@ -78,28 +98,47 @@ pub(super) fn svg_bytes(
     Ok(svg.into_bytes())
 }
 
-/// What the y axis shows.
-pub(super) struct ValueAxis<'f> {
-    pub range: Range<f64>,
+/// What the y axis shows: its coordinate (`linear_axis` or `log_axis`), its
+/// description and how its tick labels read.
+pub(super) struct ValueAxis<'f, Y> {
+    pub coordinate: Y,
     pub description: &'f str,
     pub format: &'f dyn Fn(&f64) -> String,
+}
+
+/// A linear value axis over `range`.
+pub(super) fn linear_axis(range: Range<f64>) -> RangedCoordf64 {
+    range.into()
+}
+
+/// A logarithmic axis over `range` (both ends above zero), with the ticks of
+/// [`log_ticks`].
+pub(super) fn log_axis(range: Range<f64>) -> LogAxis {
+    let (major, minor) = log_ticks(range.start, range.end);
+    range
+        .log_scale()
+        .with_key_points(major)
+        .with_light_points(minor)
 }
 
 /// Builds a titled chart over `days` (log scale, ticks at 1-2-5 or at powers
 /// of ten) and draws its grid and axes. `footnote` leaves room below the x
 /// axis for one line of text.
-pub(super) fn day_chart<'a, 'b>(
+pub(super) fn day_chart<'a, 'b, Y>(
     canvas: &'a Canvas<'b>,
     title: &str,
     days: Range<f64>,
-    value_axis: &ValueAxis,
+    value_axis: ValueAxis<Y>,
     footnote: bool,
-) -> Result<DayChart<'a, 'b>, DrawError> {
-    let (major, minor) = day_ticks(days.start, days.end);
-    let x_axis = days
-        .log_scale()
-        .with_key_points(major)
-        .with_light_points(minor);
+) -> Result<DayChart<'a, 'b, Y>, DrawError>
+where
+    Y: Ranged<ValueType = f64> + ValueFormatter<f64>,
+{
+    let ValueAxis {
+        coordinate,
+        description,
+        format,
+    } = value_axis;
     let mut chart = ChartBuilder::on(canvas)
         .caption(title, text_style(26))
         .margin_top(14)
@@ -108,13 +147,13 @@ pub(super) fn day_chart<'a, 'b>(
         .margin_bottom(if footnote { 34 } else { 14 })
         .x_label_area_size(52)
         .y_label_area_size(64)
-        .build_cartesian_2d(x_axis, value_axis.range.clone())?;
+        .build_cartesian_2d(log_axis(days), coordinate)?;
     chart
         .configure_mesh()
         .x_desc("Calendar days")
-        .y_desc(value_axis.description)
+        .y_desc(description)
         .x_label_formatter(&|days| tick_label(*days))
-        .y_label_formatter(value_axis.format)
+        .y_label_formatter(format)
         .y_labels(12)
         .axis_desc_style(text_style(19))
         .label_style(text_style(16))
@@ -127,7 +166,7 @@ pub(super) fn day_chart<'a, 'b>(
 }
 
 /// How a curve is stroked: solid for pseudo-experiments, dashed for
-/// asymptotic (Asimov) results, in both plots.
+/// asymptotic (Asimov) results, in every plot.
 #[derive(Debug, Clone, Copy)]
 pub(super) enum Stroke {
     Solid,
@@ -135,8 +174,8 @@ pub(super) enum Stroke {
 }
 
 /// A curve through `points`, with its legend entry.
-pub(super) fn draw_curve<'a, 'b: 'a>(
-    chart: &mut DayChart<'a, 'b>,
+pub(super) fn draw_curve<'a, 'b: 'a, Y: Ranged<ValueType = f64>>(
+    chart: &mut DayChart<'a, 'b, Y>,
     points: Vec<(f64, f64)>,
     colour: RGBColor,
     stroke: Stroke,
@@ -165,12 +204,43 @@ pub(super) fn draw_curve<'a, 'b: 'a>(
     Ok(())
 }
 
-/// The legend, in the upper left corner of the plot, where curves rising
-/// with exposure leave room.
-pub(super) fn draw_legend<'a, 'b: 'a>(chart: &mut DayChart<'a, 'b>) -> Result<(), DrawError> {
+/// The outer band (quantiles 0 to 3) in pale lavender, then the inner one
+/// (quantiles 1 to 2) in lavender over it, each a closed polygon with its
+/// legend entry; nothing when fewer than two days carry quantiles.
+pub(super) fn draw_band<'a, 'b: 'a, Y: Ranged<ValueType = f64>>(
+    chart: &mut DayChart<'a, 'b, Y>,
+    band: &[BandPoint],
+    [outer, inner]: [&str; 2],
+) -> Result<(), DrawError> {
+    if band.len() < 2 {
+        return Ok(());
+    }
+    for (lower, upper, colour, label) in [(0, 3, PALE_LAVENDER, outer), (1, 2, LAVENDER, inner)] {
+        let outline: Vec<(f64, f64)> = band
+            .iter()
+            .map(|(days, quantiles)| (*days, quantiles[upper]))
+            .chain(
+                band.iter()
+                    .rev()
+                    .map(|(days, quantiles)| (*days, quantiles[lower])),
+            )
+            .collect();
+        chart
+            .draw_series(std::iter::once(Polygon::new(outline, colour.filled())))?
+            .label(label)
+            .legend(move |(x, y)| Rectangle::new([(x, y - 6), (x + 24, y + 6)], colour.filled()));
+    }
+    Ok(())
+}
+
+/// The legend of any chart, at `position` inside the plot.
+pub(super) fn draw_legend_at<'a, 'b: 'a, Coordinates: CoordTranslate>(
+    chart: &mut ChartContext<'a, SVGBackend<'b>, Coordinates>,
+    position: SeriesLabelPosition,
+) -> Result<(), DrawError> {
     chart
         .configure_series_labels()
-        .position(SeriesLabelPosition::UpperLeft)
+        .position(position)
         .margin(12)
         .background_style(WHITE.mix(0.92))
         .border_style(MAJOR_GRID)
@@ -180,8 +250,8 @@ pub(super) fn draw_legend<'a, 'b: 'a>(chart: &mut DayChart<'a, 'b>) -> Result<()
 
 /// A dotted horizontal line across the plot at `value`, labelled in the right
 /// margin.
-pub(super) fn reference_line(
-    chart: &mut DayChart,
+pub(super) fn reference_line<Y: Ranged<ValueType = f64>>(
+    chart: &mut DayChart<'_, '_, Y>,
     canvas: &Canvas,
     value: f64,
     label: &str,
@@ -199,8 +269,8 @@ pub(super) fn reference_line(
 
 /// A thin dashed horizontal line across the plot at `value`; returns the
 /// pixel position of its right end.
-pub(super) fn horizontal_line(
-    chart: &mut DayChart,
+pub(super) fn horizontal_line<Y: Ranged<ValueType = f64>>(
+    chart: &mut DayChart<'_, '_, Y>,
     value: f64,
     colour: RGBColor,
     (dash, gap): (u32, u32),
@@ -213,6 +283,45 @@ pub(super) fn horizontal_line(
         colour.stroke_width(1),
     ))?;
     Ok(chart.backend_coord(&(days.end, value)))
+}
+
+/// A marker where a curve crosses a reference line at `(days, value)`,
+/// filled for a solid curve and a ring for a dashed one (a ring around a dot
+/// shows both where they coincide), and `label` in the curve's colour, its
+/// top `shift` pixels below the marker (above it when negative). The label
+/// goes left of the marker, or right of it when it would leave the plot on
+/// the left.
+pub(super) fn mark_crossing<Y: Ranged<ValueType = f64>>(
+    chart: &mut DayChart<'_, '_, Y>,
+    canvas: &Canvas,
+    (days, value): (f64, f64),
+    (colour, stroke): (RGBColor, Stroke),
+    label: &str,
+    shift: i32,
+) -> Result<(), DrawError> {
+    const GAP: i32 = 8;
+    let marker = match stroke {
+        Stroke::Solid => Circle::new((days, value), 5, colour.filled()),
+        Stroke::Dashed => Circle::new((days, value), 7, colour.stroke_width(2)),
+    };
+    chart.draw_series(std::iter::once(marker))?;
+    let plot_left = chart.plotting_area().get_pixel_range().0.start;
+    let (x, y) = chart.backend_coord(&(days, value));
+    let (width, _) = canvas.estimate_text_size(label, &text_style(LABEL_SIZE))?;
+    let width = i32::try_from(width).unwrap_or(i32::MAX);
+    let (horizontal, left) = if x - GAP - width >= plot_left {
+        (HPos::Right, x - GAP)
+    } else {
+        (HPos::Left, x + GAP)
+    };
+    draw_text(
+        canvas,
+        label,
+        (left, y + shift),
+        colour,
+        LABEL_SIZE,
+        (horizontal, VPos::Top),
+    )
 }
 
 /// A line of text at pixel `position`, anchored by `(horizontal, vertical)`.
@@ -244,6 +353,27 @@ pub(super) fn draw_footnote(canvas: &Canvas, text: &str) -> Result<(), DrawError
     )
 }
 
+/// A tick label: the value to ten significant digits, shortest form, so that
+/// 0.30000000000000004 prints as 0.3 and 20.0 as 20.
+pub(super) fn axis_label(value: &f64) -> String {
+    format!("{value:.9e}")
+        .parse::<f64>()
+        .map_or_else(|_| value.to_string(), |rounded| rounded.to_string())
+}
+
+/// The footnote on failed fits, when any: "Failed fits: 12 of 62000
+/// pseudo-experiments, excluded from the median and bands."
+pub(super) fn failed_fits_footnote(
+    heading: &str,
+    failed: usize,
+    total: usize,
+    ensemble: &str,
+) -> Option<String> {
+    (failed > 0).then(|| {
+        format!("{heading}: {failed} of {total} {ensemble}, excluded from the median and bands.")
+    })
+}
+
 pub(super) fn text_style(size: u32) -> TextStyle<'static> {
     TextStyle::from((FONT, size).into_font()).color(&INK)
 }
@@ -259,10 +389,24 @@ pub(super) fn day_range(points: &[ExposurePoint]) -> Range<f64> {
     }
 }
 
+/// The narrowest range from a 1-2-5 value (1, 2 or 5 times a power of ten)
+/// up to another that holds `low..=high` (both above zero), so that both ends
+/// of a logarithmic axis carry a labelled tick.
+pub(super) fn one_two_five_span(low: f64, high: f64) -> Range<f64> {
+    let first_decade = low.log10().floor() as i32 - 1;
+    let last_decade = high.log10().ceil() as i32 + 1;
+    let values: Vec<f64> = (first_decade..=last_decade)
+        .flat_map(|decade| [1, 2, 5].map(|multiplier| scaled(multiplier, decade)))
+        .collect();
+    let start = values.iter().rev().find(|&&value| value <= low);
+    let end = values.iter().find(|&&value| value >= high);
+    *start.unwrap_or(&low)..*end.unwrap_or(&high)
+}
+
 /// Labelled ticks at 1, 2, 5 times powers of ten when the range spans at most
 /// three decades and at powers of ten beyond that; light grid lines at every
 /// integer multiple of a power of ten.
-fn day_ticks(low: f64, high: f64) -> (Vec<f64>, Vec<f64>) {
+pub(super) fn log_ticks(low: f64, high: f64) -> (Vec<f64>, Vec<f64>) {
     let first_decade = low.log10().floor() as i32;
     let last_decade = high.log10().ceil() as i32;
     let multipliers: &[u32] = if high / low <= 1e3 { &[1, 2, 5] } else { &[1] };
@@ -291,8 +435,9 @@ fn scaled(multiplier: u32, decade: i32) -> f64 {
     }
 }
 
-fn tick_label(days: f64) -> String {
-    days.to_string()
+/// A tick of a logarithmic axis as written: "0.2", "5", "1000".
+pub(super) fn tick_label(value: f64) -> String {
+    value.to_string()
 }
 
 #[cfg(test)]
@@ -301,7 +446,7 @@ mod tests {
 
     #[test]
     fn a_thousand_days_get_one_two_five_ticks() {
-        let (major, minor) = day_ticks(1.0, 1000.0);
+        let (major, minor) = log_ticks(1.0, 1000.0);
         assert_eq!(
             major,
             [1.0, 2.0, 5.0, 10.0, 20.0, 50.0, 100.0, 200.0, 500.0, 1000.0]
@@ -311,9 +456,17 @@ mod tests {
 
     #[test]
     fn wide_ranges_get_powers_of_ten() {
-        let (major, _) = day_ticks(0.5, 2e4);
+        let (major, _) = log_ticks(0.5, 2e4);
         assert_eq!(major, [1.0, 10.0, 100.0, 1000.0, 10000.0]);
-        let labels: Vec<String> = day_ticks(0.1, 30.0).0.into_iter().map(tick_label).collect();
+        let labels: Vec<String> = log_ticks(0.1, 30.0).0.into_iter().map(tick_label).collect();
         assert_eq!(labels, ["0.1", "0.2", "0.5", "1", "2", "5", "10", "20"]);
+    }
+
+    #[test]
+    fn spans_end_on_one_two_five_values() {
+        assert_eq!(one_two_five_span(0.127, 18.07), 0.1..20.0);
+        assert_eq!(one_two_five_span(0.3, 1.0), 0.2..1.0);
+        assert_eq!(one_two_five_span(2.0, 4.9), 2.0..5.0);
+        assert_eq!(one_two_five_span(0.0041, 5.2), 0.002..10.0);
     }
 }

@@ -1,8 +1,11 @@
-//! The terminal summary: days to each target by each method, failed fits,
-//! and a warning when systematic uncertainties cap the significance.
+//! The terminal summary: days to each target by each method, days until the
+//! nominal signal is excluded, the toy calibration of the discovery p-value,
+//! failed fits of each ensemble, and a warning when systematic uncertainties
+//! cap the significance.
 
-use super::{days_label, target_label};
-use crate::projection::{DaysToTarget, Projection};
+use super::{days_label, percent_label, target_label};
+use crate::asymptotic::significance;
+use crate::projection::{Calibration, DaysToTarget, ExposurePoint, Projection};
 
 /// Failed fits above this fraction of the toys at one exposure point earn a
 /// warning: the quantiles there exclude them and may be biased.
@@ -17,10 +20,12 @@ const COLUMNS: [&str; 5] = [
 ];
 
 /// A plain-text table of calendar days to each target, one row per target,
-/// followed by failed-fit counts and warnings. Each cell is calendar days
-/// rounded up ("142 d", "3.1 d"), "never" when the saturation limit of Z_A lies below the
-/// target, "beyond <last grid day> d" when the target lies past the grid, and
-/// "—" for toy columns of an Asimov-only run.
+/// then the days until the nominal signal is excluded (when limits were
+/// computed), the calibration table (with `--calibrate`), failed-fit counts
+/// and warnings. Each cell is calendar days rounded up ("142 d", "3.1 d"),
+/// "never" when the saturation limit of Z_A lies below the target, "beyond
+/// <last grid day> d" when the target lies past the grid, and "—" for toy
+/// columns of an Asimov-only run.
 pub fn summary(projection: &Projection) -> String {
     let mut text = format!("{}\n{}\n\n", projection.title, run_line(projection));
     let last_day = projection.points.last().map_or(0.0, |point| point.days);
@@ -38,14 +43,41 @@ pub fn summary(projection: &Projection) -> String {
     }));
     text.push_str("Calendar days to reach each target\n");
     text.push_str(&aligned(&rows));
-    if projection.toys > 0 {
+    if let Some(cl) = projection.cl {
+        text.push_str(&exclusion_line(projection, cl, last_day));
+    }
+    if let Some(table) = calibration_table(projection) {
         text.push('\n');
-        text.push_str(&failed_fits_lines(projection));
+        text.push_str(&table);
+    }
+    let ensembles = ensembles(projection);
+    if !ensembles.is_empty() {
+        text.push('\n');
+    }
+    for ensemble in &ensembles {
+        text.push_str(&failed_fits_lines(projection, ensemble));
     }
     if let Some(line) = saturation_line(&projection.days_to_target) {
         text.push_str(&line);
     }
     text
+}
+
+/// "Days until the nominal signal is excluded at 95% CL (median expected CLs
+/// limit): Asimov 32 d, toy median 33 d"; the toy part only with toys.
+fn exclusion_line(projection: &Projection, cl: f64, last_day: f64) -> String {
+    let cell = |days: Option<f64>| days.map_or_else(|| beyond(last_day), days_label);
+    let exclusion = &projection.days_to_exclusion;
+    let mut line = format!(
+        "Days until the nominal signal is excluded at {} CL (median expected CLs limit): Asimov {}",
+        percent_label(cl),
+        cell(exclusion.asimov_days)
+    );
+    if projection.toys > 0 {
+        line.push_str(&format!(", toy median {}", cell(exclusion.median_days)));
+    }
+    line.push('\n');
+    line
 }
 
 fn run_line(projection: &Projection) -> String {
@@ -70,8 +102,13 @@ fn days_cell(days: Option<f64>, available: bool, row: &DaysToTarget, last_day: f
         Some(days) => days_label(days),
         None if !available => "—".to_string(),
         None if row.never_reached() => "never".to_string(),
-        None => format!("beyond {}", grid_day(last_day)),
+        None => beyond(last_day),
     }
+}
+
+/// A crossing past the last day of the grid: "beyond 365 d".
+fn beyond(last_day: f64) -> String {
+    format!("beyond {}", grid_day(last_day))
 }
 
 /// A day of the grid as given, to two decimals at most ("1 d", "1.26 d").
@@ -81,7 +118,7 @@ fn grid_day(days: f64) -> String {
 
 /// Left-aligned columns separated by three spaces (widths in characters, so
 /// "σ" and "—" count as one).
-fn aligned(rows: &[Vec<String>]) -> String {
+pub(super) fn aligned(rows: &[Vec<String>]) -> String {
     let columns = rows.first().map_or(0, Vec::len);
     let widths: Vec<usize> = (0..columns)
         .map(|column| {
@@ -104,40 +141,151 @@ fn aligned(rows: &[Vec<String>]) -> String {
     text
 }
 
-/// Total failed fits, and a warning naming the worst exposure point when any
-/// point loses more than 0.1% of its toys.
-fn failed_fits_lines(projection: &Projection) -> String {
+/// One ensemble of pseudo-experiments, as its failed-fit lines name it.
+struct Ensemble {
+    /// Start of the total line: "Failed fits", "Failed fits (limits)".
+    heading: &'static str,
+    /// What was thrown: "pseudo-experiments", "background-only pseudo-experiments".
+    thrown: &'static str,
+    /// Which fits the warning speaks of: "fits", "limit fits".
+    fits: &'static str,
+    /// What the failed fits are left out of.
+    results: &'static str,
+    /// Pseudo-experiments per exposure point.
+    toys: usize,
+    failed_fits: fn(&ExposurePoint) -> usize,
+}
+
+/// The ensembles the projection ran: discovery toys, background-only toys
+/// for the limits, and background-only toys for the q0 calibration.
+fn ensembles(projection: &Projection) -> Vec<Ensemble> {
     let toys = projection.toys;
+    let discovery = Ensemble {
+        heading: "Failed fits",
+        thrown: "pseudo-experiments",
+        fits: "fits",
+        results: "the quantiles",
+        toys,
+        failed_fits: |point| point.failed_fits,
+    };
+    let limits = Ensemble {
+        heading: "Failed fits (limits)",
+        thrown: "background-only pseudo-experiments",
+        fits: "limit fits",
+        results: "the limit quantiles",
+        toys,
+        failed_fits: |point| point.limit_failed_fits,
+    };
+    let calibration = Ensemble {
+        heading: "Failed fits (q0 calibration)",
+        thrown: "background-only pseudo-experiments",
+        fits: "calibration fits",
+        results: "the toy p-values",
+        toys: projection.calibration_toys,
+        failed_fits: |point| point.calibration.as_ref().map_or(0, |c| c.failed_fits),
+    };
+    let with_limits = projection.cl.is_some();
+    [
+        (toys > 0).then_some(discovery),
+        (toys > 0 && with_limits).then_some(limits),
+        (projection.calibration_toys > 0).then_some(calibration),
+    ]
+    .into_iter()
+    .flatten()
+    .collect()
+}
+
+/// Total failed fits of one ensemble, and a warning naming the worst exposure
+/// point when any point loses more than 0.1% of its toys.
+fn failed_fits_lines(projection: &Projection, ensemble: &Ensemble) -> String {
+    let toys = ensemble.toys;
+    let failed_fits = ensemble.failed_fits;
     let total_toys = toys * projection.points.len();
-    let total_failed: usize = projection
-        .points
-        .iter()
-        .map(|point| point.failed_fits)
-        .sum();
+    let total_failed: usize = projection.points.iter().map(failed_fits).sum();
     let mut text = format!(
-        "Failed fits: {total_failed} of {total_toys} pseudo-experiments ({}), excluded from the quantiles.\n",
-        percent(total_failed, total_toys)
+        "{}: {total_failed} of {total_toys} {} ({}), excluded from {}.\n",
+        ensemble.heading,
+        ensemble.thrown,
+        percent(total_failed, total_toys),
+        ensemble.results
     );
     let fraction = |failed: usize| failed as f64 / toys as f64;
     let flagged: Vec<_> = projection
         .points
         .iter()
-        .filter(|point| fraction(point.failed_fits) > FAILED_FRACTION_WARNING)
+        .filter(|point| fraction(failed_fits(point)) > FAILED_FRACTION_WARNING)
         .collect();
     // `max_by_key` keeps the last of equals; reversed, that is the earliest day.
-    let worst = flagged.iter().rev().max_by_key(|point| point.failed_fits);
+    let worst = flagged.iter().rev().max_by_key(|point| failed_fits(point));
     if let Some(worst) = worst {
         text.push_str(&format!(
-            "warning: more than 0.1% of fits failed at {} of {} exposure points \
-             (worst: {} of {toys} at {}, {}); the quantiles there may be biased.\n",
+            "warning: more than 0.1% of {} failed at {} of {} exposure points \
+             (worst: {} of {toys} at {}, {}); {} there may be biased.\n",
+            ensemble.fits,
             flagged.len(),
             projection.points.len(),
-            worst.failed_fits,
+            failed_fits(worst),
             days_label(worst.days),
-            percent(worst.failed_fits, toys)
+            percent(failed_fits(worst), toys),
+            ensemble.results
         ));
     }
     text
+}
+
+/// The discovery significance of the Asimov q0 at each calibrated point:
+/// asymptotic, from background-only pseudo-experiments, their difference, and
+/// the converged toys; then a note on the tail reach of N toys, p = 1/N. Where
+/// no toy reached the Asimov q0, the toy Z is only known to exceed the reach,
+/// written "> 3.29", and the difference is bounded accordingly.
+fn calibration_table(projection: &Projection) -> Option<String> {
+    let calibrated: Vec<(f64, &Calibration)> = projection
+        .points
+        .iter()
+        .filter_map(|point| Some((point.days, point.calibration.as_ref()?)))
+        .collect();
+    if calibrated.is_empty() {
+        return None;
+    }
+    let toys = projection.calibration_toys;
+    let header = [
+        "days",
+        "Z asymptotic",
+        "Z toys",
+        "asymptotic − toys",
+        "toys",
+    ];
+    let mut rows = vec![header.map(str::to_string).to_vec()];
+    rows.extend(calibrated.iter().map(|(days, calibration)| {
+        let z = calibration.z_asymptotic;
+        let (z_toys, difference) = match calibration.z_toys {
+            Some(z_toys) => (two_decimals(z_toys), two_decimals(z - z_toys)),
+            None => (
+                format!("> {}", two_decimals(calibration.tail_reach_z)),
+                format!("< {}", two_decimals(z - calibration.tail_reach_z)),
+            ),
+        };
+        vec![
+            grid_day(*days),
+            two_decimals(z),
+            z_toys,
+            difference,
+            calibration.toys.to_string(),
+        ]
+    }));
+    Some(format!(
+        "Discovery Z of the Asimov q0, asymptotic and from {toys} background-only \
+         pseudo-experiments per point\n{}\
+         note: {toys} background-only pseudo-experiments resolve p-values down to 1/{toys}, \
+         Z ≈ {}; where none reaches the Asimov q0, the toy Z is only known to lie above that.\n",
+        aligned(&rows),
+        two_decimals(significance(1.0 / toys as f64))
+    ))
+}
+
+/// A significance to two decimals, without a negative zero.
+fn two_decimals(value: f64) -> String {
+    format!("{:.2}", (value * 100.0).round() / 100.0 + 0.0)
 }
 
 fn percent(part: usize, whole: usize) -> String {
@@ -226,5 +374,89 @@ warning: systematic uncertainties make Z_A saturate at 4.50σ however long the r
         let text = summary(&projection);
         assert!(text.contains("Failed fits: 2 of 10000 pseudo-experiments (0.02%)"));
         assert!(!text.contains("more than 0.1%"));
+    }
+
+    #[test]
+    fn days_to_exclusion_follow_the_table() {
+        // Invented limits: median 1.96 σ_μ with σ_μ = sqrt(8d + (0.02·8d)²)/(1.6d)
+        // reaches 1 at d = 12.48 (13 d); the toy median, 2% higher, at 13.01 d (14 d).
+        let text = summary(&example::with_limits());
+        assert!(
+            text.contains(
+                "5σ       117 d    123 d        123 d         256 d\n\
+             Days until the nominal signal is excluded at 95% CL (median expected CLs limit): \
+             Asimov 13 d, toy median 14 d\n"
+            ),
+            "{text}"
+        );
+    }
+
+    #[test]
+    fn asimov_only_exclusion_has_no_toy_median() {
+        // 3.8415 (8d + (0.05·8d)²) = (1.6d)² at d = 15.80.
+        let text = summary(&example::asimov_only_with_limits());
+        assert!(
+            text.contains("excluded at 95% CL (median expected CLs limit): Asimov 16 d\n"),
+            "{text}"
+        );
+        assert!(!text.contains("toy median 1"));
+        assert!(!text.contains("Failed fits"));
+    }
+
+    #[test]
+    fn exclusion_past_the_grid_is_beyond_the_last_day() {
+        let mut projection = example::with_limits();
+        projection.days_to_exclusion.asimov_days = None;
+        projection.days_to_exclusion.median_days = None;
+        let text = summary(&projection);
+        assert!(text.contains("limit): Asimov beyond 1000 d, toy median beyond 1000 d\n"));
+    }
+
+    #[test]
+    fn without_limits_there_is_no_exclusion_line() {
+        let text = summary(&example::with_toys());
+        assert!(!text.contains("nominal signal is excluded"));
+        assert!(!text.contains("(limits)"));
+        assert!(!text.contains("calibration"));
+    }
+
+    #[test]
+    fn failed_fits_are_counted_per_ensemble() {
+        let mut projection = example::with_limits();
+        projection.points[0].limit_failed_fits = 5;
+        projection.points[7]
+            .calibration
+            .as_mut()
+            .unwrap()
+            .failed_fits = 2;
+        let text = summary(&projection);
+        for expected in [
+            "Failed fits: 12 of 62000 pseudo-experiments (0.02%), excluded from the quantiles.\n",
+            "Failed fits (limits): 8 of 62000 background-only pseudo-experiments (0.01%), \
+             excluded from the limit quantiles.\n",
+            "warning: more than 0.1% of limit fits failed at 1 of 31 exposure points \
+             (worst: 5 of 2000 at 1.0 d, 0.25%); the limit quantiles there may be biased.\n",
+            "Failed fits (q0 calibration): 2 of 155000 background-only pseudo-experiments \
+             (<0.01%), excluded from the toy p-values.\n",
+        ] {
+            assert!(text.contains(expected), "missing {expected:?} in\n{text}");
+        }
+    }
+
+    #[test]
+    fn calibration_table_bounds_the_toy_z_beyond_the_tail_reach() {
+        let text = summary(&example::with_limits());
+        // Φ⁻¹(1 − 1/5000) = 3.540 (standard normal quantile, from memory).
+        for expected in [
+            "Discovery Z of the Asimov q0, asymptotic and from 5000 background-only \
+             pseudo-experiments per point\n\
+             days       Z asymptotic   Z toys   asymptotic − toys   toys\n",
+            "note: 5000 background-only pseudo-experiments resolve p-values down to 1/5000, \
+             Z ≈ 3.54; where none reaches the Asimov q0, the toy Z is only known to lie above that.\n",
+        ] {
+            assert!(text.contains(expected), "missing {expected:?} in\n{text}");
+        }
+        assert!(text.contains("\n1 d        0.55           0.34     0.20                5000\n"));
+        assert!(text.contains("\n63.1 d     3.95           > 3.54   < 0.41              5000\n"));
     }
 }

@@ -7,6 +7,7 @@
 use super::plot::{self, Canvas, DrawError, Stroke, TARGET_COLOURS, ValueAxis};
 use super::{PROBABILITY_SVG, ReportError, target_label};
 use crate::projection::Projection;
+use plotters::chart::SeriesLabelPosition;
 
 /// The probability plot as SVG bytes.
 pub(super) fn render(projection: &Projection) -> Result<Vec<u8>, ReportError> {
@@ -16,7 +17,7 @@ pub(super) fn render(projection: &Projection) -> Result<Vec<u8>, ReportError> {
 fn draw(canvas: &Canvas, projection: &Projection) -> Result<(), DrawError> {
     let points = &projection.points;
     let value_axis = ValueAxis {
-        range: 0.0..1.0,
+        coordinate: plot::linear_axis(0.0..1.0),
         description: "Probability P(Z ≥ target)",
         format: &|probability| format!("{probability:.1}"),
     };
@@ -24,7 +25,7 @@ fn draw(canvas: &Canvas, projection: &Projection) -> Result<(), DrawError> {
         canvas,
         &projection.title,
         plot::day_range(points),
-        &value_axis,
+        value_axis,
         false,
     )?;
     for (level, label) in [(0.5, "50%"), (0.9, "90%")] {
@@ -49,7 +50,7 @@ fn draw(canvas: &Canvas, projection: &Projection) -> Result<(), DrawError> {
         let label = format!("{label}, asymptotic");
         plot::draw_curve(&mut chart, asymptotic, colour, Stroke::Dashed, label)?;
     }
-    plot::draw_legend(&mut chart)
+    plot::draw_legend_at(&mut chart, SeriesLabelPosition::UpperLeft)
 }
 
 #[cfg(test)]

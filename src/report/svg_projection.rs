@@ -9,19 +9,14 @@
 //! with a marker and a label where each curve reaches it.
 
 use super::plot::{
-    self, Canvas, DASH, DayChart, DrawError, INK_TEAL, LAVENDER, PALE_LAVENDER, Stroke, VERMILION,
+    self, BandPoint, Canvas, DASH, DayChart, DrawError, INK_TEAL, LABEL_SIZE, Stroke, VERMILION,
     ValueAxis,
 };
 use super::{PROJECTION_SVG, ReportError, days_label, target_label};
+use crate::asymptotic::significance_band;
 use crate::projection::Projection;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, VPos};
-
-/// Font size of the labels drawn inside the plot.
-const LABEL_SIZE: u32 = 16;
-
-/// Significance quantiles at one day: 2.3%, 15.9%, 84.1%, 97.7%.
-type BandPoint = (f64, [f64; 4]);
 
 /// The significance plot as SVG bytes.
 pub(super) fn render(projection: &Projection) -> Result<Vec<u8>, ReportError> {
@@ -39,7 +34,7 @@ fn draw(canvas: &Canvas, projection: &Projection) -> Result<(), DrawError> {
     let footnote = footnote(projection);
     let ceiling = significance_ceiling(projection, &band);
     let value_axis = ValueAxis {
-        range: 0.0..ceiling,
+        coordinate: plot::linear_axis(0.0..ceiling),
         description: "Expected significance Z [σ]",
         // Key points such as 0.6000000000000001 print as 0.6.
         format: &|z| format!("{}", (z * 100.0).round() / 100.0),
@@ -48,10 +43,15 @@ fn draw(canvas: &Canvas, projection: &Projection) -> Result<(), DrawError> {
         canvas,
         &projection.title,
         plot::day_range(points),
-        &value_axis,
+        value_axis,
         footnote.is_some(),
     )?;
-    draw_band(&mut chart, &band, with_toys)?;
+    let band_labels = if with_toys {
+        ["Toys, central 95.4%", "Toys, central 68.3%"]
+    } else {
+        ["Z_A ± 2 (asymptotic)", "Z_A ± 1 (asymptotic)"]
+    };
+    plot::draw_band(&mut chart, &band, band_labels)?;
     for &target in &projection.targets {
         plot::reference_line(&mut chart, canvas, target, &target_label(target))?;
     }
@@ -74,7 +74,7 @@ fn draw(canvas: &Canvas, projection: &Projection) -> Result<(), DrawError> {
     )?;
     draw_saturation(&mut chart, canvas, projection, ceiling)?;
     draw_days_to_target(&mut chart, canvas, projection)?;
-    plot::draw_legend(&mut chart)?;
+    plot::draw_legend_at(&mut chart, SeriesLabelPosition::UpperLeft)?;
     match footnote {
         Some(text) => plot::draw_footnote(canvas, &text),
         None => Ok(()),
@@ -95,13 +95,7 @@ fn asymptotic_band(projection: &Projection) -> Vec<BandPoint> {
     projection
         .points
         .iter()
-        .map(|point| {
-            let z = point.z_asimov;
-            (
-                point.days,
-                [-2.0, -1.0, 1.0, 2.0].map(|shift| (z + shift).max(0.0)),
-            )
-        })
+        .map(|point| (point.days, significance_band(point.z_asimov)))
         .collect()
 }
 
@@ -118,35 +112,6 @@ fn significance_ceiling(projection: &Projection, band: &[BandPoint]) -> f64 {
     (1.1 * highest).ceil()
 }
 
-/// The outer band, then the inner one over it, each a closed polygon; nothing
-/// when fewer than two days carry quantiles.
-fn draw_band(chart: &mut DayChart, band: &[BandPoint], with_toys: bool) -> Result<(), DrawError> {
-    if band.len() < 2 {
-        return Ok(());
-    }
-    let (outer, inner) = if with_toys {
-        ("Toys, central 95.4%", "Toys, central 68.3%")
-    } else {
-        ("Z_A ± 2 (asymptotic)", "Z_A ± 1 (asymptotic)")
-    };
-    for (lower, upper, colour, label) in [(0, 3, PALE_LAVENDER, outer), (1, 2, LAVENDER, inner)] {
-        let outline: Vec<(f64, f64)> = band
-            .iter()
-            .map(|(days, quantiles)| (*days, quantiles[upper]))
-            .chain(
-                band.iter()
-                    .rev()
-                    .map(|(days, quantiles)| (*days, quantiles[lower])),
-            )
-            .collect();
-        chart
-            .draw_series(std::iter::once(Polygon::new(outline, colour.filled())))?
-            .label(label)
-            .legend(move |(x, y)| Rectangle::new([(x, y - 6), (x + 24, y + 6)], colour.filled()));
-    }
-    Ok(())
-}
-
 /// Markers where the toy median and the Asimov curve reach each target, each
 /// labelled "3σ: 42 d" in the curve's colour. Curves rise with exposure, so
 /// the labels go above the target line and left of their marker, the median's
@@ -157,38 +122,16 @@ fn draw_days_to_target(
     canvas: &Canvas,
     projection: &Projection,
 ) -> Result<(), DrawError> {
-    const GAP: i32 = 8;
     const ROW: i32 = 18;
-    let plot_left = chart.plotting_area().get_pixel_range().0.start;
     for row in &projection.days_to_target {
         let crossings = [
-            (row.median_days, INK_TEAL, 2 * ROW),
-            (row.asimov_days, VERMILION, ROW),
+            (row.median_days, (INK_TEAL, Stroke::Solid), 2 * ROW),
+            (row.asimov_days, (VERMILION, Stroke::Dashed), ROW),
         ];
-        for (days, colour, raise) in crossings {
+        for (days, curve, raise) in crossings {
             let Some(days) = days else { continue };
-            chart.draw_series(std::iter::once(Circle::new(
-                (days, row.target),
-                5,
-                colour.filled(),
-            )))?;
             let label = format!("{}: {}", target_label(row.target), days_label(days));
-            let (x, y) = chart.backend_coord(&(days, row.target));
-            let (width, _) = canvas.estimate_text_size(&label, &plot::text_style(LABEL_SIZE))?;
-            let width = i32::try_from(width).unwrap_or(i32::MAX);
-            let (horizontal, left) = if x - GAP - width >= plot_left {
-                (HPos::Right, x - GAP)
-            } else {
-                (HPos::Left, x + GAP)
-            };
-            plot::draw_text(
-                canvas,
-                &label,
-                (left, y - raise),
-                colour,
-                LABEL_SIZE,
-                (horizontal, VPos::Top),
-            )?;
+            plot::mark_crossing(chart, canvas, (days, row.target), curve, &label, -raise)?;
         }
     }
     Ok(())
@@ -226,17 +169,17 @@ fn footnote(projection: &Projection) -> Option<String> {
             "Asimov only: bands are Z_A ± 1 and Z_A ± 2, floored at 0 (asymptotic).".to_string(),
         );
     }
-    let failed: usize = projection
+    let failed = projection
         .points
         .iter()
         .map(|point| point.failed_fits)
         .sum();
-    (failed > 0).then(|| {
-        format!(
-            "Failed fits: {failed} of {} pseudo-experiments, excluded from the median and bands.",
-            projection.toys * projection.points.len()
-        )
-    })
+    plot::failed_fits_footnote(
+        "Failed fits",
+        failed,
+        projection.toys * projection.points.len(),
+        "pseudo-experiments",
+    )
 }
 
 #[cfg(test)]

@@ -22,7 +22,7 @@ pub fn write_all(dir: &Path, reports: &[Report]) -> Result<(), ReportError> {
 }
 
 fn write_atomically(dir: &Path, report: &Report) -> Result<(), ReportError> {
-    let target = dir.join(report.name);
+    let target = dir.join(&report.name);
     let temporary = dir.join(format!(".{}.tmp-{}", report.name, std::process::id()));
     let written = write_and_sync(&temporary, &report.bytes)
         .map_err(io_error("write", &temporary))
@@ -75,9 +75,9 @@ mod tests {
         dir
     }
 
-    fn report(name: &'static str, text: &str) -> Report {
+    fn report(name: &str, text: &str) -> Report {
         Report {
-            name,
+            name: name.to_string(),
             bytes: text.as_bytes().to_vec(),
         }
     }

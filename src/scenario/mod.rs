@@ -319,7 +319,7 @@ mod tests {
 
     #[test]
     fn background_uncertainty_formula_matches_published_values() {
-        // Cowan 2012, as tabulated in shared checks: s=10, b=100, sigma_b=10 -> 0.690196;
+        // Cowan 2012 (published values): s=10, b=100, sigma_b=10 -> 0.690196;
         // s=20, b=50, sigma_b=5 -> 2.133224.
         let low = median_significance_with_background_uncertainty(10.0, 100.0, 10.0);
         assert!((low - 0.690196).abs() < 1e-6, "{low}");

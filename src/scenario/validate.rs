@@ -347,11 +347,11 @@ fn validate_plan(plan: &Plan) -> Checked {
     for (index, &target) in plan.targets.iter().enumerate() {
         require_positive(&format!("plan.targets[{index}]"), target)?;
     }
-    if !(plan.cl > 0.0 && plan.cl < 1.0) {
+    if !(plan.cl > 0.5 && plan.cl < 1.0) {
         return Err(ScenarioError::invalid(
             "plan.cl",
             format!(
-                "must be a confidence level strictly between 0 and 1, got {}",
+                "must be a confidence level strictly between 0.5 and 1 (e.g. 0.95), got {}",
                 plan.cl
             ),
         ));

@@ -1,0 +1,198 @@
+//! Everything computed at one grid day.
+
+use super::crossing::quantile;
+use super::{Calibration, ExposurePoint, ProjectionError, ProjectionSettings, TargetProbability};
+use crate::asymptotic::{AsimovSignificance, p_value, probability_to_reach, significance};
+use crate::ensemble::{
+    EnsembleOutcome, EnsemblePlan, background_only_q0_ensemble, discovery_ensemble,
+};
+use crate::likelihood::Likelihood;
+use crate::limits::{AsymptoticLimits, asymptotic_limits, toy_limit_ensemble};
+
+/// The quantiles reported as bands: the normal-distribution probabilities of
+/// -2, -1, +1 and +2 sigma (common practice).
+pub const BAND_QUANTILES: [f64; 4] = [0.02275, 0.158655, 0.841345, 0.97725];
+
+/// Computes exposure points for one projection.
+pub(super) struct PointRunner<'a, 'l, 'm> {
+    likelihood: &'l Likelihood<'m>,
+    settings: &'a ProjectionSettings,
+    progress: &'a (dyn Fn(u64) + Sync),
+    /// Expected (signal, background) events per live day.
+    rates: (f64, f64),
+}
+
+impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
+    pub fn new(
+        likelihood: &'l Likelihood<'m>,
+        settings: &'a ProjectionSettings,
+        progress: &'a (dyn Fn(u64) + Sync),
+    ) -> Self {
+        PointRunner {
+            likelihood,
+            settings,
+            progress,
+            rates: likelihood.model().nominal_rates(),
+        }
+    }
+
+    fn plan(&self, toys: usize) -> EnsemblePlan<'a> {
+        EnsemblePlan {
+            toys,
+            seed: self.settings.seed,
+            progress: self.progress,
+        }
+    }
+
+    /// The exposure point at calendar day `days`, grid index `index`.
+    pub fn point(
+        &self,
+        asimov: &mut AsimovSignificance,
+        index: usize,
+        days: f64,
+    ) -> Result<ExposurePoint, ProjectionError> {
+        let settings = self.settings;
+        let live_days = self.likelihood.model().live_time.live_days(days);
+        if live_days <= 0.0 {
+            (self.progress)(settings.toys_per_point() as u64);
+            return Ok(self.without_exposure(days));
+        }
+        let failed = |what| {
+            move |failure| ProjectionError {
+                live_days,
+                what,
+                failure,
+            }
+        };
+        let z_asimov = asimov
+            .at_live_days(live_days)
+            .map_err(failed("Asimov discovery fit"))?;
+        let toys = settings.toys;
+        let discovery = (toys > 0)
+            .then(|| discovery_ensemble(self.likelihood, live_days, index, &self.plan(toys)));
+        let limits = settings
+            .cl
+            .map(|cl| asymptotic_limits(self.likelihood, live_days, 1.0 - cl))
+            .transpose()
+            .map_err(failed("background-only Asimov fit for expected limits"))?;
+        let toy_limits = limits.filter(|_| toys > 0).map(|limits| {
+            let alpha = 1.0 - settings.cl.unwrap_or_default();
+            toy_limit_ensemble(
+                self.likelihood,
+                live_days,
+                index,
+                &self.plan(toys),
+                alpha,
+                limits.sigma,
+            )
+        });
+        let calibration = (settings.calibration_toys > 0).then(|| {
+            let plan = self.plan(settings.calibration_toys);
+            let outcome = background_only_q0_ensemble(self.likelihood, live_days, index, &plan);
+            calibration(outcome, z_asimov)
+        });
+        let mut point = self.discovery_point(days, live_days, z_asimov, discovery);
+        add_limits(&mut point, limits, toy_limits);
+        point.calibration = calibration;
+        Ok(point)
+    }
+
+    /// A grid day before any live time: nothing can be seen or excluded.
+    fn without_exposure(&self, days: f64) -> ExposurePoint {
+        let toys = self.settings.toys;
+        let discovery = (toys > 0).then(|| EnsembleOutcome {
+            values: vec![0.0; toys],
+            failed_fits: 0,
+        });
+        self.discovery_point(days, 0.0, 0.0, discovery)
+    }
+
+    fn discovery_point(
+        &self,
+        days: f64,
+        live_days: f64,
+        z_asimov: f64,
+        discovery: Option<EnsembleOutcome>,
+    ) -> ExposurePoint {
+        let failed_fits = discovery.as_ref().map_or(0, |e| e.failed_fits);
+        let sorted = discovery.and_then(sorted_values);
+        let probability = self
+            .settings
+            .targets
+            .iter()
+            .map(|&target| TargetProbability {
+                target,
+                toys: sorted.as_ref().map(|z| fraction_at_or_above(z, target)),
+                asimov: probability_to_reach(z_asimov, target),
+            })
+            .collect();
+        ExposurePoint {
+            days,
+            live_days,
+            signal: self.rates.0 * live_days,
+            background: self.rates.1 * live_days,
+            z_asimov,
+            z_median: sorted.as_ref().map(|z| quantile(z, 0.5)),
+            z_band: sorted
+                .as_ref()
+                .map(|z| BAND_QUANTILES.map(|p| quantile(z, p))),
+            probability,
+            failed_fits,
+            limit_median: None,
+            limit_band: None,
+            limit_asimov: None,
+            limit_asimov_band: None,
+            limit_failed_fits: 0,
+            calibration: None,
+        }
+    }
+}
+
+fn add_limits(
+    point: &mut ExposurePoint,
+    limits: Option<AsymptoticLimits>,
+    toys: Option<EnsembleOutcome>,
+) {
+    point.limit_asimov = limits.map(|l| l.median);
+    point.limit_asimov_band = limits.map(|l| l.band);
+    point.limit_failed_fits = toys.as_ref().map_or(0, |t| t.failed_fits);
+    let sorted = toys.and_then(sorted_values);
+    point.limit_median = sorted.as_ref().map(|l| quantile(l, 0.5));
+    point.limit_band = sorted
+        .as_ref()
+        .map(|l| BAND_QUANTILES.map(|p| quantile(l, p)));
+}
+
+/// The toy p-value of the Asimov q0 = Z_A^2 against its asymptotic value
+/// 1 - Phi(Z_A), from the half chi-square law of q0 under the background
+/// (Cowan, Cranmer, Gross, Vitells, Eur. Phys. J. C 71 (2011) 1554, eq. 49).
+fn calibration(outcome: EnsembleOutcome, z_asimov: f64) -> Calibration {
+    let q0_asimov = z_asimov * z_asimov;
+    let toys = outcome.values.len();
+    let exceeding = outcome.values.iter().filter(|&&q0| q0 >= q0_asimov).count();
+    let p_toys = (exceeding > 0).then(|| exceeding as f64 / toys as f64);
+    Calibration {
+        toys,
+        failed_fits: outcome.failed_fits,
+        q0_asimov,
+        exceeding,
+        p_asymptotic: p_value(z_asimov),
+        z_asymptotic: z_asimov,
+        p_toys,
+        z_toys: p_toys.map(|p| significance(p).max(0.0)),
+        tail_reach_z: significance(1.0 / toys.max(1) as f64),
+    }
+}
+
+/// The converged values in increasing order; None when there are none.
+fn sorted_values(outcome: EnsembleOutcome) -> Option<Vec<f64>> {
+    let mut values = outcome.values;
+    values.sort_by(f64::total_cmp);
+    (!values.is_empty()).then_some(values)
+}
+
+/// Fraction of sorted significances at or above `target`.
+fn fraction_at_or_above(sorted: &[f64], target: f64) -> f64 {
+    let below = sorted.partition_point(|&z| z < target);
+    (sorted.len() - below) as f64 / sorted.len() as f64
+}

@@ -1,0 +1,96 @@
+//! `spectrum-<D>d.csv`: one row per bin and exposure.
+//!
+//! Columns: `days, live_days, low, high, counts, background,
+//! signal_plus_background, error_low, error_high`. `background` and
+//! `signal_plus_background` are expected counts; `error_low` and `error_high`
+//! are the lengths of the error bar below and above `counts`. Numbers are
+//! shortest round-trip decimals, as in `projection.csv`, so the same spectrum
+//! always gives the same bytes.
+
+use super::ReportError;
+use super::csv::number;
+use crate::spectrum::Spectrum;
+
+/// Name used in rendering errors.
+const FILE: &str = "spectrum CSV";
+
+const COLUMNS: [&str; 9] = [
+    "days",
+    "live_days",
+    "low",
+    "high",
+    "counts",
+    "background",
+    "signal_plus_background",
+    "error_low",
+    "error_high",
+];
+
+/// The CSV table of the spectra, exposures in order.
+pub(super) fn render(spectrum: &Spectrum) -> Result<Vec<u8>, ReportError> {
+    let mut writer = ::csv::Writer::from_writer(Vec::new());
+    writer.write_record(COLUMNS).map_err(failure)?;
+    for exposure in &spectrum.exposures {
+        for bin in &exposure.bins {
+            writer
+                .write_record([
+                    number(exposure.days),
+                    number(exposure.live_days),
+                    number(bin.low),
+                    number(bin.high),
+                    bin.counts.to_string(),
+                    number(bin.background),
+                    number(bin.signal_plus_background),
+                    number(bin.error_low),
+                    number(bin.error_high),
+                ])
+                .map_err(failure)?;
+        }
+    }
+    writer
+        .into_inner()
+        .map_err(|error| failure(error.into_error()))
+}
+
+fn failure(error: impl std::fmt::Display) -> ReportError {
+    ReportError::Render {
+        file: FILE,
+        message: error.to_string(),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::spectrum::{ExposureSpectrum, SpectrumBin};
+
+    #[test]
+    fn rows_follow_the_documented_columns() {
+        let spectrum = Spectrum {
+            title: "t".into(),
+            observable: "x".into(),
+            unit: "keV".into(),
+            bin_width: 2.0,
+            seed: 1,
+            exposures: vec![ExposureSpectrum {
+                days: 10.0,
+                live_days: 9.5,
+                bins: vec![SpectrumBin {
+                    low: 0.0,
+                    high: 2.0,
+                    counts: 0,
+                    background: 0.25,
+                    signal_plus_background: 0.5,
+                    error_low: 0.0,
+                    error_high: 1.8410216450092636,
+                }],
+            }],
+        };
+        let text = String::from_utf8(render(&spectrum).unwrap()).unwrap();
+        assert_eq!(
+            text,
+            "days,live_days,low,high,counts,background,signal_plus_background,error_low,error_high\n\
+             10,9.5,0,2,0,0.25,0.5,0,1.8410216450092636\n"
+        );
+    }
+}

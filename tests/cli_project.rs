@@ -1,0 +1,671 @@
+//! `runcast project`, `check` and `new`, run as a user runs them: the built
+//! binary, real scenario files in a fresh temporary directory, real outputs.
+
+use serde_json::Value;
+use statrs::distribution::{ContinuousCDF, Normal};
+use std::collections::BTreeMap;
+use std::fs;
+use std::path::{Path, PathBuf};
+use std::process::Output;
+
+/// The five files every projection writes (limits included), sorted by name.
+const REPORT_FILES: [&str; 5] = [
+    "limits.svg",
+    "probability.svg",
+    "projection.csv",
+    "projection.json",
+    "projection.svg",
+];
+
+/// A fresh directory under the system temporary directory, removed when dropped
+/// (also when the test fails).
+struct Scratch {
+    path: PathBuf,
+}
+
+impl Scratch {
+    fn new(test: &str) -> Scratch {
+        let path =
+            std::env::temp_dir().join(format!("runcast-cli-project-{test}-{}", std::process::id()));
+        let _ = fs::remove_dir_all(&path);
+        fs::create_dir_all(&path).expect("create scratch directory");
+        Scratch { path }
+    }
+
+    /// Copies a shipped demo scenario into the directory; returns its file name.
+    fn copy_demo(&self, name: &str) -> String {
+        let source = Path::new(env!("CARGO_MANIFEST_DIR"))
+            .join("scenarios")
+            .join(name);
+        fs::copy(&source, self.path.join(name))
+            .unwrap_or_else(|error| panic!("copy {}: {error}", source.display()));
+        name.to_string()
+    }
+
+    /// Writes `text` to `name` inside the directory; returns the name.
+    fn write(&self, name: &str, text: &str) -> String {
+        fs::write(self.path.join(name), text).expect("write scenario");
+        name.to_string()
+    }
+
+    /// Runs the binary with `args`, inside the directory.
+    fn run(&self, args: &[&str]) -> Output {
+        std::process::Command::new(env!("CARGO_BIN_EXE_runcast"))
+            .args(args)
+            .current_dir(&self.path)
+            .output()
+            .expect("run the runcast binary")
+    }
+
+    /// Runs `args` and asserts a successful exit with nothing on stderr (no
+    /// warning, no progress bar); returns stdout.
+    fn run_ok(&self, args: &[&str]) -> String {
+        let output = self.run(args);
+        assert!(
+            output.status.success() && output.stderr.is_empty(),
+            "runcast {args:?}: {}, stderr: {}",
+            output.status,
+            String::from_utf8_lossy(&output.stderr)
+        );
+        String::from_utf8(output.stdout).expect("UTF-8 stdout")
+    }
+
+    /// Sorted names of the entries of a subdirectory, hidden ones included.
+    fn entries(&self, directory: &str) -> Vec<String> {
+        let mut names: Vec<String> = fs::read_dir(self.path.join(directory))
+            .unwrap_or_else(|error| panic!("read {directory}: {error}"))
+            .map(|entry| entry.unwrap().file_name().to_string_lossy().into_owned())
+            .collect();
+        names.sort();
+        names
+    }
+
+    fn read(&self, path: &str) -> Vec<u8> {
+        fs::read(self.path.join(path)).unwrap_or_else(|error| panic!("read {path}: {error}"))
+    }
+
+    fn json(&self, directory: &str) -> Value {
+        let bytes = self.read(&format!("{directory}/projection.json"));
+        serde_json::from_slice(&bytes).expect("projection.json is JSON")
+    }
+}
+
+impl Drop for Scratch {
+    fn drop(&mut self) {
+        let _ = fs::remove_dir_all(&self.path);
+    }
+}
+
+/// A projection with `toys` pseudo-experiments per point and `extra` arguments,
+/// written to `out`, without progress bar; returns stdout.
+fn project(scratch: &Scratch, scenario: &str, out: &str, toys: usize, extra: &[&str]) -> String {
+    let toys = toys.to_string();
+    let mut args = vec![
+        "project", scenario, "--out", out, "--toys", &toys, "--quiet",
+    ];
+    args.extend_from_slice(extra);
+    scratch.run_ok(&args)
+}
+
+fn number(value: &Value) -> f64 {
+    value
+        .as_f64()
+        .unwrap_or_else(|| panic!("expected a number, got {value}"))
+}
+
+fn sorted_keys(value: &Value) -> Vec<&str> {
+    let mut keys: Vec<&str> = value
+        .as_object()
+        .unwrap_or_else(|| panic!("expected an object, got {value}"))
+        .keys()
+        .map(String::as_str)
+        .collect();
+    keys.sort_unstable();
+    keys
+}
+
+fn points(json: &Value) -> &Vec<Value> {
+    json["points"].as_array().expect("points is an array")
+}
+
+/// Reads a demo scenario as plain YAML, independently of runcast's own parser.
+fn demo_yaml(name: &str) -> serde_yaml::Value {
+    let path = Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("scenarios")
+        .join(name);
+    serde_yaml::from_str(&fs::read_to_string(path).unwrap()).unwrap()
+}
+
+fn yaml_number(value: &serde_yaml::Value) -> f64 {
+    value
+        .as_f64()
+        .unwrap_or_else(|| panic!("expected a number, got {value:?}"))
+}
+
+/// Asserts the keys and value types of `projection.json` (the schema of the
+/// output format) for a run with pseudo-experiments.
+fn assert_schema(json: &Value) {
+    assert_eq!(
+        sorted_keys(json),
+        [
+            "calibration_toys",
+            "cl",
+            "days_to_exclusion",
+            "days_to_target",
+            "points",
+            "seed",
+            "targets",
+            "title",
+            "toys"
+        ]
+    );
+    assert!(json["title"].is_string() && json["seed"].is_u64() && json["toys"].is_u64());
+    let targets: Vec<f64> = json["targets"]
+        .as_array()
+        .expect("targets is an array")
+        .iter()
+        .map(number)
+        .collect();
+    assert!(!targets.is_empty());
+    for point in points(json) {
+        assert_eq!(
+            sorted_keys(point),
+            [
+                "background",
+                "calibration",
+                "days",
+                "failed_fits",
+                "limit_asimov",
+                "limit_asimov_band",
+                "limit_band",
+                "limit_failed_fits",
+                "limit_median",
+                "live_days",
+                "probability",
+                "signal",
+                "z_asimov",
+                "z_band",
+                "z_median"
+            ]
+        );
+        for key in [
+            "days",
+            "live_days",
+            "signal",
+            "background",
+            "z_asimov",
+            "z_median",
+        ] {
+            number(&point[key]);
+        }
+        assert!(point["failed_fits"].is_u64(), "{point}");
+        let band: Vec<f64> = point["z_band"]
+            .as_array()
+            .expect("z_band is an array")
+            .iter()
+            .map(number)
+            .collect();
+        assert_eq!(band.len(), 4, "{point}");
+        // Quantiles 2.3%, 15.9%, 84.1%, 97.7% of one sample cannot decrease.
+        assert!(band.windows(2).all(|pair| pair[0] <= pair[1]), "{band:?}");
+        // Expected limits on mu: positive numbers, bands ordered.
+        for key in ["limit_median", "limit_asimov"] {
+            assert!(number(&point[key]) > 0.0, "{key}: {point}");
+        }
+        for key in ["limit_band", "limit_asimov_band"] {
+            let band: Vec<f64> = point[key]
+                .as_array()
+                .expect("an array")
+                .iter()
+                .map(number)
+                .collect();
+            assert_eq!(band.len(), 4, "{key}: {point}");
+            assert!(
+                band.windows(2).all(|pair| pair[0] <= pair[1]),
+                "{key}: {band:?}"
+            );
+        }
+        assert!(
+            point["limit_failed_fits"].is_u64() && point["calibration"].is_null(),
+            "{point}"
+        );
+        let probabilities = point["probability"].as_array().expect("an array");
+        assert_eq!(probabilities.len(), targets.len());
+        for (probability, &target) in probabilities.iter().zip(&targets) {
+            assert_eq!(sorted_keys(probability), ["asimov", "target", "toys"]);
+            assert_eq!(number(&probability["target"]), target);
+            for key in ["toys", "asimov"] {
+                let p = number(&probability[key]);
+                assert!((0.0..=1.0).contains(&p), "{key} = {p}");
+            }
+        }
+    }
+    assert_eq!(
+        sorted_keys(&json["days_to_exclusion"]),
+        ["asimov_days", "median_days"]
+    );
+    let rows = json["days_to_target"].as_array().expect("an array");
+    assert_eq!(rows.len(), targets.len());
+    for (row, &target) in rows.iter().zip(&targets) {
+        assert_eq!(
+            sorted_keys(row),
+            [
+                "asimov_days",
+                "limit_z",
+                "median_days",
+                "p50_days",
+                "p90_days",
+                "target"
+            ]
+        );
+        assert_eq!(number(&row["target"]), target);
+        for key in [
+            "asimov_days",
+            "median_days",
+            "p50_days",
+            "p90_days",
+            "limit_z",
+        ] {
+            assert!(row[key].is_null() || row[key].is_f64(), "{key}: {row}");
+        }
+    }
+}
+
+/// Live days at calendar day `days` by the definition of the scenario format:
+/// live_fraction x the integral over [0, days] of the rate scale, which is each
+/// period's `rate_scale` during the leading `schedule.periods` and 1 after them.
+fn live_days_by_definition(yaml: &serde_yaml::Value, days: f64) -> f64 {
+    let schedule = &yaml["schedule"];
+    let live_fraction = schedule.get("live_fraction").map_or(1.0, yaml_number);
+    let mut start = 0.0;
+    let mut scaled_days = 0.0;
+    for period in schedule["periods"].as_sequence().into_iter().flatten() {
+        let end = start + yaml_number(&period["days"]);
+        scaled_days += (days.min(end) - start).max(0.0) * yaml_number(&period["rate_scale"]);
+        start = end;
+    }
+    live_fraction * (scaled_days + (days - start).max(0.0))
+}
+
+#[test]
+fn narrow_peak_demo_writes_five_files_with_the_documented_schema() {
+    let yaml = demo_yaml("narrow_peak.yaml");
+    let scratch = Scratch::new("narrow-peak");
+    let scenario = scratch.copy_demo("narrow_peak.yaml");
+    let stdout = project(&scratch, &scenario, "out", 200, &[]);
+    // Only the five reports: no temporary file of the atomic writes is left behind.
+    assert_eq!(scratch.entries("out"), REPORT_FILES);
+    assert_eq!(scratch.entries("."), ["narrow_peak.yaml", "out"]);
+
+    let json = scratch.json("out");
+    assert_schema(&json);
+    assert_eq!(json["toys"], 200, "--toys overrides the file");
+    let seed = yaml["plan"]["seed"].as_u64().unwrap();
+    assert_eq!(json["seed"], seed, "the seed of the file");
+    let targets: Vec<f64> = yaml["plan"]["targets"]
+        .as_sequence()
+        .unwrap()
+        .iter()
+        .map(yaml_number)
+        .collect();
+    assert_eq!(json["targets"], serde_json::json!(targets));
+
+    // The days grid of the file, first and last day included.
+    let grid = &yaml["plan"]["days"];
+    let points = points(&json);
+    assert_eq!(points.len() as u64, grid["points"].as_u64().unwrap());
+    let first = number(&points[0]["days"]);
+    let last = number(&points[points.len() - 1]["days"]);
+    assert!((first - yaml_number(&grid["first"])).abs() < 1e-9);
+    assert!((last - yaml_number(&grid["last"])).abs() < 1e-9);
+
+    // Live days follow the schedule; expected events grow with them at the
+    // rates of the file (each over the whole range).
+    let signal_rate = yaml_number(&yaml["signal"]["events_per_day"]);
+    let background_rate: f64 = yaml["backgrounds"]
+        .as_sequence()
+        .unwrap()
+        .iter()
+        .map(|background| yaml_number(&background["events_per_day"]))
+        .sum();
+    for point in points {
+        let live_days = number(&point["live_days"]);
+        let expected = live_days_by_definition(&yaml, number(&point["days"]));
+        assert!((live_days - expected).abs() < 1e-9 * expected, "{point}");
+        let signal = number(&point["signal"]);
+        assert!((signal - signal_rate * live_days).abs() < 1e-9 * signal);
+        let background = number(&point["background"]);
+        assert!((background - background_rate * live_days).abs() < 1e-9 * background);
+    }
+
+    // P(Z >= target) = Phi(Z_A - target) asymptotically (Cowan, Cranmer, Gross,
+    // Vitells, EPJC 71 (2011) 1554, sec. 5.1; Phi from statrs).
+    let phi = Normal::standard();
+    for point in points {
+        let z_asimov = number(&point["z_asimov"]);
+        for probability in point["probability"].as_array().unwrap() {
+            let target = number(&probability["target"]);
+            let expected = phi.cdf(z_asimov - target);
+            let asimov = number(&probability["asimov"]);
+            assert!((asimov - expected).abs() < 1e-12, "{asimov} vs {expected}");
+        }
+    }
+
+    // The demo is set up so that the Asimov curve reaches every target inside its grid.
+    for row in json["days_to_target"].as_array().unwrap() {
+        let days = number(&row["asimov_days"]);
+        assert!(days > first && days < last, "{row}");
+    }
+
+    // The summary names each target.
+    for target in &targets {
+        let label = format!("{target}σ");
+        assert!(
+            stdout.lines().any(|line| line.starts_with(&label)),
+            "{label} missing from:\n{stdout}"
+        );
+    }
+    assert!(stdout.contains(&format!(
+        "200 pseudo-experiments per exposure point, seed {seed}"
+    )));
+}
+
+#[test]
+fn csv_has_one_row_per_point_matching_the_json() {
+    let scratch = Scratch::new("csv");
+    let scenario = scratch.copy_demo("faint_line.yaml");
+    project(&scratch, &scenario, "out", 200, &[]);
+    assert_eq!(scratch.entries("out"), REPORT_FILES);
+    let json = scratch.json("out");
+    assert_schema(&json);
+
+    let csv = scratch.read("out/projection.csv");
+    let mut reader = csv::Reader::from_reader(csv.as_slice());
+    let header: Vec<String> = reader
+        .headers()
+        .unwrap()
+        .iter()
+        .map(str::to_string)
+        .collect();
+    let column = |name: &str| {
+        header
+            .iter()
+            .position(|column| column == name)
+            .unwrap_or_else(|| panic!("no column {name} in {header:?}"))
+    };
+    let rows: Vec<csv::StringRecord> = reader.records().map(Result::unwrap).collect();
+    let points = points(&json);
+    let grid_points = demo_yaml("faint_line.yaml")["plan"]["days"]["points"].as_u64();
+    assert_eq!(Some(points.len() as u64), grid_points);
+    assert_eq!(rows.len(), points.len(), "one row per point");
+    // The same numbers in both files. serde_json's default parser may round the
+    // last binary digit, hence a tolerance of a few units in the last place.
+    for (row, point) in rows.iter().zip(points) {
+        for key in ["days", "live_days", "z_asimov", "z_median"] {
+            let cell: f64 = row[column(key)].parse().unwrap();
+            let value = number(&point[key]);
+            assert!(
+                (cell - value).abs() <= 4.0 * f64::EPSILON * value.abs(),
+                "{key}: CSV {cell}, JSON {value}"
+            );
+        }
+        let failed: u64 = row[column("failed_fits")].parse().unwrap();
+        assert_eq!(failed, point["failed_fits"].as_u64().unwrap());
+    }
+}
+
+#[test]
+fn the_same_seed_gives_byte_identical_files() {
+    let scratch = Scratch::new("same-seed");
+    let scenario = scratch.copy_demo("narrow_peak.yaml");
+    project(&scratch, &scenario, "first", 200, &[]);
+    project(&scratch, &scenario, "second", 200, &[]);
+    for file in REPORT_FILES {
+        assert!(
+            scratch.read(&format!("first/{file}")) == scratch.read(&format!("second/{file}")),
+            "{file} differs between two runs with the same seed"
+        );
+    }
+}
+
+#[test]
+fn one_and_two_threads_give_byte_identical_json() {
+    let scratch = Scratch::new("threads");
+    let scenario = scratch.copy_demo("narrow_peak.yaml");
+    // 600 toys per point span several work chunks, so two threads really share
+    // each exposure point's pseudo-experiments.
+    project(&scratch, &scenario, "one", 600, &["--threads", "1"]);
+    project(&scratch, &scenario, "two", 600, &["--threads", "2"]);
+    assert_eq!(scratch.json("one")["toys"], 600);
+    assert!(
+        scratch.read("one/projection.json") == scratch.read("two/projection.json"),
+        "projection.json differs between 1 and 2 threads"
+    );
+}
+
+#[test]
+fn seed_option_overrides_the_file() {
+    let scratch = Scratch::new("seed");
+    let scenario = scratch.copy_demo("narrow_peak.yaml");
+    project(&scratch, &scenario, "file-seed", 200, &[]);
+    project(&scratch, &scenario, "other-seed", 200, &["--seed", "12345"]);
+    let file_seed = scratch.json("file-seed");
+    let other_seed = scratch.json("other-seed");
+    assert_eq!(other_seed["seed"], 12345);
+    let pairs = || points(&file_seed).iter().zip(points(&other_seed));
+    // The Asimov dataset involves no random numbers: same Z_A for any seed.
+    assert!(pairs().all(|(a, b)| a["z_asimov"] == b["z_asimov"]));
+    // Other pseudo-experiments: other toy medians.
+    assert!(
+        pairs().any(|(a, b)| a["z_median"] != b["z_median"]),
+        "--seed 12345 left every toy median unchanged"
+    );
+}
+
+#[test]
+fn asimov_only_has_no_toy_values_and_uses_the_default_directory() {
+    let scratch = Scratch::new("asimov-only");
+    let scenario = scratch.copy_demo("narrow_peak.yaml");
+    let stdout = scratch.run_ok(&["project", &scenario, "--asimov-only", "--quiet"]);
+    // Without --out: output/<scenario file stem>/.
+    assert_eq!(scratch.entries("output/narrow_peak"), REPORT_FILES);
+    let json = scratch.json("output/narrow_peak");
+    assert_eq!(json["toys"], 0);
+    for point in points(&json) {
+        assert!(point["z_median"].is_null(), "{point}");
+        assert!(point["z_band"].is_null(), "{point}");
+        assert_eq!(point["failed_fits"], 0);
+        assert!(number(&point["z_asimov"]) >= 0.0);
+        for probability in point["probability"].as_array().unwrap() {
+            assert!(probability["toys"].is_null(), "{probability}");
+        }
+    }
+    for row in json["days_to_target"].as_array().unwrap() {
+        for key in ["median_days", "p50_days", "p90_days"] {
+            assert!(row[key].is_null(), "{key}: {row}");
+        }
+        assert!(row["asimov_days"].is_f64(), "{row}");
+    }
+    assert!(stdout.contains("Asimov only"), "{stdout}");
+}
+
+#[test]
+fn counting_window_demo_never_reaches_five_sigma() {
+    let yaml = demo_yaml("counting_window.yaml");
+    let s = yaml_number(&yaml["signal"]["events_per_day"]);
+    let background = &yaml["backgrounds"][0];
+    let b = yaml_number(&background["events_per_day"]);
+    let delta = yaml_number(&background["norm_uncertainty"]);
+    let [low, high] = [0, 1].map(|i| yaml_number(&yaml["observable"]["range"][i]));
+    assert_eq!(yaml_number(&yaml["observable"]["bin_width"]), high - low);
+    // One bin with a Gaussian-constrained background factor of width delta: Z_A
+    // saturates at s / (delta b) as exposure grows (Cowan, Cranmer, Gross, Vitells,
+    // EPJC 71 (2011) 1554, with sigma_b = delta b; common practice):
+    // 4 / (0.01 x 100) = 4.0 in the demo, between the two targets.
+    let limit = s / (delta * b);
+    assert!(limit > 3.0 && limit < 5.0, "limit {limit}");
+
+    let scratch = Scratch::new("counting-window");
+    let scenario = scratch.copy_demo("counting_window.yaml");
+    let stdout = project(&scratch, &scenario, "out", 200, &[]);
+    let json = scratch.json("out");
+    assert_schema(&json);
+    let rows = json["days_to_target"].as_array().unwrap();
+    for row in rows {
+        let limit_z = number(&row["limit_z"]);
+        assert!(
+            (limit_z - limit).abs() < 0.01 * limit,
+            "limit_z {limit_z}, expected {limit}"
+        );
+    }
+    let five = rows.iter().find(|row| row["target"] == 5.0).unwrap();
+    for key in ["asimov_days", "median_days", "p50_days", "p90_days"] {
+        assert!(five[key].is_null(), "{key}: {five}");
+    }
+    let three = rows.iter().find(|row| row["target"] == 3.0).unwrap();
+    assert!(
+        three["asimov_days"].is_f64(),
+        "3σ lies below the limit: {three}"
+    );
+
+    let row_of = |target: &str| {
+        stdout
+            .lines()
+            .find(|line| line.starts_with(target))
+            .unwrap_or_else(|| panic!("no {target} row in:\n{stdout}"))
+    };
+    assert_eq!(
+        row_of("5σ").split_whitespace().collect::<Vec<_>>(),
+        ["5σ", "never", "never", "never", "never"]
+    );
+    assert!(!row_of("3σ").contains("never"), "{stdout}");
+    assert!(
+        stdout.contains(&format!("saturate at {limit:.2}σ")),
+        "{stdout}"
+    );
+}
+
+/// Z_A = sqrt(2((s+b) ln(1+s/b) - s)) for one bin with known background
+/// (Cowan, Cranmer, Gross, Vitells, EPJC 71 (2011) 1554, eq. 97).
+fn cowan_eq97(s: f64, b: f64) -> f64 {
+    (2.0 * ((s + b) * (1.0 + s / b).ln() - s)).sqrt()
+}
+
+/// One bin, 10 signal and 100 background events per live day known exactly,
+/// half of calendar time live. Numbers invented for the test.
+const KNOWN_BACKGROUND_WINDOW: &str = "\
+title: Counting window with known background (invented numbers)
+observable: {name: energy, unit: keV, range: [0.0, 10.0], bin_width: 10.0}
+signal: {events_per_day: 10.0, shape: {flat: {}}}
+backgrounds:
+  - {name: flat, events_per_day: 100.0, shape: {flat: {}}}
+schedule: {live_fraction: 0.5}
+plan:
+  days: {first: 1, last: 100, points: 5, spacing: log}
+  toys: 100
+  seed: 3
+  targets: [3, 5]
+";
+
+#[test]
+fn check_prints_rates_and_asymptotic_days_from_equation_97() {
+    // Published value: s=10, b=100 gives Z_A = 0.983992 (Cowan et al. 2011, eq. 97).
+    let per_live_day = cowan_eq97(10.0, 100.0);
+    assert!((per_live_day - 0.983992).abs() < 1e-6);
+    // Eq. 97 scales as sqrt(exposure) when s and b both do (common practice), so
+    // Z reaches t after (t / Z_1)^2 live days, twice as many calendar days.
+    let calendar_days = |target: f64| 2.0 * (target / per_live_day).powi(2);
+
+    let scratch = Scratch::new("check");
+    let scenario = scratch.write("window.yaml", KNOWN_BACKGROUND_WINDOW);
+    let stdout = scratch.run_ok(&["check", &scenario]);
+    assert!(stdout.contains("valid"), "{stdout}");
+    assert!(
+        stdout.contains("signal: 10.000000 events per live day"),
+        "{stdout}"
+    );
+    assert!(
+        stdout.contains("background total: 100.000000 events per live day"),
+        "{stdout}"
+    );
+    for target in [3.0, 5.0] {
+        let line = format!("{target} sigma: {:.1} days", calendar_days(target));
+        assert!(stdout.contains(&line), "{line:?} missing from:\n{stdout}");
+    }
+    // `check` writes nothing.
+    assert_eq!(scratch.entries("."), ["window.yaml"]);
+
+    // The root-found days of the projection, to the precision of its bisection.
+    scratch.run_ok(&[
+        "project",
+        &scenario,
+        "--out",
+        "out",
+        "--asimov-only",
+        "--quiet",
+    ]);
+    let json = scratch.json("out");
+    for row in json["days_to_target"].as_array().unwrap() {
+        let expected = calendar_days(number(&row["target"]));
+        let days = number(&row["asimov_days"]);
+        assert!(
+            (days - expected).abs() < 1e-5 * expected,
+            "{days} vs {expected}"
+        );
+        assert!(row["limit_z"].is_null(), "statistics only: no limit, {row}");
+    }
+}
+
+#[test]
+fn check_reports_signal_within_two_widths_of_the_peak() {
+    let yaml = demo_yaml("narrow_peak.yaml");
+    let rate = yaml_number(&yaml["signal"]["events_per_day"]);
+    // 95.45% of a normal distribution lies within ±2 sigma (Particle Data Group
+    // statistics review: two-sided 2σ <-> 0.0455); the peak lies far from the edges.
+    let expected = rate * (1.0 - 0.0455);
+    let scratch = Scratch::new("check-window");
+    let scenario = scratch.copy_demo("narrow_peak.yaml");
+    let stdout = scratch.run_ok(&["check", &scenario]);
+    let shown: f64 = stdout
+        .split("S = ")
+        .nth(1)
+        .and_then(|rest| rest.split(',').next())
+        .unwrap_or_else(|| panic!("no S = in:\n{stdout}"))
+        .parse()
+        .unwrap();
+    assert!(
+        (shown - expected).abs() < 1e-4 * rate,
+        "S = {shown}, expected {expected}"
+    );
+    for target in ["3 sigma: ", "5 sigma: "] {
+        assert!(stdout.contains(target), "{target} missing from:\n{stdout}");
+    }
+}
+
+#[test]
+fn new_writes_a_template_that_check_accepts_and_never_overwrites() {
+    let scratch = Scratch::new("new");
+    let stdout = scratch.run_ok(&["new", "mine.yaml"]);
+    assert!(stdout.contains("mine.yaml"), "{stdout}");
+    let template = scratch.read("mine.yaml");
+    assert!(String::from_utf8_lossy(&template).contains("INVENTED"));
+    let checked = scratch.run_ok(&["check", "mine.yaml"]);
+    assert!(checked.contains("mine.yaml: valid"), "{checked}");
+
+    // A second `new` on the template, and one on a file of the user's own.
+    scratch.write("own.yaml", "title: my own notes\n");
+    let mut before = BTreeMap::new();
+    for name in ["mine.yaml", "own.yaml"] {
+        before.insert(name, scratch.read(name));
+        let refused = scratch.run(&["new", name]);
+        assert!(!refused.status.success(), "new {name} overwrote it");
+        let stderr = String::from_utf8_lossy(&refused.stderr);
+        assert!(stderr.contains("already exists"), "{stderr}");
+        assert_eq!(stderr.trim_end().lines().count(), 1, "{stderr}");
+    }
+    for (name, bytes) in before {
+        assert!(scratch.read(name) == bytes, "{name} changed");
+    }
+    // No temporary file left beside them.
+    assert_eq!(scratch.entries("."), ["mine.yaml", "own.yaml"]);
+}
