@@ -25,7 +25,9 @@ pub fn q_tilde_from_fits(
 }
 
 /// q~_mu of one dataset at any tested mu: the free fit is done once, then one
-/// conditional fit per tested value.
+/// conditional fit per tested value, each started from the last conditional
+/// solution (the tested values of a search for a limit close in on each
+/// other), or from the free fit for the first.
 #[derive(Debug)]
 pub struct UpperLimitTest<'l, 'm> {
     fitter: Fitter<'l, 'm>,
@@ -33,6 +35,8 @@ pub struct UpperLimitTest<'l, 'm> {
     free_parameters: Vec<f64>,
     free_nll: f64,
     fitted_mu: f64,
+    conditional_parameters: Vec<f64>,
+    has_conditional: bool,
 }
 
 impl<'l, 'm> UpperLimitTest<'l, 'm> {
@@ -41,9 +45,11 @@ impl<'l, 'm> UpperLimitTest<'l, 'm> {
         UpperLimitTest {
             fitter: Fitter::new(likelihood),
             free_parameters: nominal.clone(),
+            conditional_parameters: nominal.clone(),
             nominal,
             free_nll: f64::NAN,
             fitted_mu: f64::NAN,
+            has_conditional: false,
         }
     }
 
@@ -53,6 +59,7 @@ impl<'l, 'm> UpperLimitTest<'l, 'm> {
         self.free_parameters
             .copy_from_slice(self.fitter.parameters());
         self.fitted_mu = self.free_parameters[SIGNAL_STRENGTH];
+        self.has_conditional = false;
         Ok(self.fitted_mu)
     }
 
@@ -66,9 +73,17 @@ impl<'l, 'm> UpperLimitTest<'l, 'm> {
         if self.fitted_mu > tested_mu {
             return Ok(0.0);
         }
-        let conditional =
-            self.fitter
-                .minimise(live_days, data, Some(tested_mu), &self.free_parameters)?;
+        let start = if self.has_conditional {
+            &self.conditional_parameters
+        } else {
+            &self.free_parameters
+        };
+        let conditional = self
+            .fitter
+            .minimise(live_days, data, Some(tested_mu), start)?;
+        self.conditional_parameters
+            .copy_from_slice(self.fitter.parameters());
+        self.has_conditional = true;
         Ok(q_tilde_from_fits(
             conditional,
             self.free_nll,
