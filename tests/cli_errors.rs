@@ -2,8 +2,11 @@
 //! line on stderr naming the field at fault, nothing on stdout, and no output
 //! directory or file written.
 
+mod common;
+
+use common::Scratch;
 use std::fs;
-use std::path::PathBuf;
+
 use std::process::Output;
 
 /// A valid scenario the cases edit; numbers invented for the test. Line numbers
@@ -34,30 +37,7 @@ plan:
 /// The scenario file name inside each scratch directory.
 const SCENARIO: &str = "scenario.yaml";
 
-/// A fresh directory under the system temporary directory, removed when dropped
-/// (also when the test fails).
-struct Scratch {
-    path: PathBuf,
-}
-
 impl Scratch {
-    fn new(name: &str) -> Scratch {
-        let path =
-            std::env::temp_dir().join(format!("runcast-cli-errors-{name}-{}", std::process::id()));
-        let _ = fs::remove_dir_all(&path);
-        fs::create_dir_all(&path).expect("create scratch directory");
-        Scratch { path }
-    }
-
-    /// Runs the binary with `args`, inside the directory.
-    fn run(&self, args: &[&str]) -> Output {
-        std::process::Command::new(env!("CARGO_BIN_EXE_runcast"))
-            .args(args)
-            .current_dir(&self.path)
-            .output()
-            .expect("run the runcast binary")
-    }
-
     /// Sorted names of everything in the directory, hidden entries included.
     fn entries(&self) -> Vec<String> {
         let mut names: Vec<String> = fs::read_dir(&self.path)
@@ -66,12 +46,6 @@ impl Scratch {
             .collect();
         names.sort();
         names
-    }
-}
-
-impl Drop for Scratch {
-    fn drop(&mut self) {
-        let _ = fs::remove_dir_all(&self.path);
     }
 }
 

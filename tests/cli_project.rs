@@ -1,12 +1,14 @@
 //! `runcast project`, `check` and `new`, run as a user runs them: the built
 //! binary, real scenario files in a fresh temporary directory, real outputs.
 
+mod common;
+
+use common::Scratch;
 use serde_json::Value;
 use statrs::distribution::{ContinuousCDF, Normal};
 use std::collections::BTreeMap;
 use std::fs;
-use std::path::{Path, PathBuf};
-use std::process::Output;
+use std::path::Path;
 
 /// The five files every projection writes (limits included), sorted by name.
 const REPORT_FILES: [&str; 5] = [
@@ -17,21 +19,7 @@ const REPORT_FILES: [&str; 5] = [
     "projection.svg",
 ];
 
-/// A fresh directory under the system temporary directory, removed when dropped
-/// (also when the test fails).
-struct Scratch {
-    path: PathBuf,
-}
-
 impl Scratch {
-    fn new(test: &str) -> Scratch {
-        let path =
-            std::env::temp_dir().join(format!("runcast-cli-project-{test}-{}", std::process::id()));
-        let _ = fs::remove_dir_all(&path);
-        fs::create_dir_all(&path).expect("create scratch directory");
-        Scratch { path }
-    }
-
     /// Copies a shipped demo scenario into the directory; returns its file name.
     fn copy_demo(&self, name: &str) -> String {
         let source = Path::new(env!("CARGO_MANIFEST_DIR"))
@@ -46,15 +34,6 @@ impl Scratch {
     fn write(&self, name: &str, text: &str) -> String {
         fs::write(self.path.join(name), text).expect("write scenario");
         name.to_string()
-    }
-
-    /// Runs the binary with `args`, inside the directory.
-    fn run(&self, args: &[&str]) -> Output {
-        std::process::Command::new(env!("CARGO_BIN_EXE_runcast"))
-            .args(args)
-            .current_dir(&self.path)
-            .output()
-            .expect("run the runcast binary")
     }
 
     /// Runs `args` and asserts a successful exit with nothing on stderr (no
@@ -87,12 +66,6 @@ impl Scratch {
     fn json(&self, directory: &str) -> Value {
         let bytes = self.read(&format!("{directory}/projection.json"));
         serde_json::from_slice(&bytes).expect("projection.json is JSON")
-    }
-}
-
-impl Drop for Scratch {
-    fn drop(&mut self) {
-        let _ = fs::remove_dir_all(&self.path);
     }
 }
 

@@ -3,6 +3,9 @@
 
 use runcast::model::Model;
 use runcast::scenario::Scenario;
+use std::fs;
+use std::path::PathBuf;
+use std::process::Output;
 
 /// A single counting window: `signal` and `background` expected events per live
 /// day in one bin, the background normalisation line given verbatim (or none).
@@ -42,4 +45,39 @@ pub fn on_off(signal: f64, background: f64, ratio: f64) -> Model {
         background,
         &format!(", control: {{ratio: {ratio}}}"),
     )
+}
+
+/// A fresh directory under the system temporary directory for one test, in
+/// which the built binary runs as a user would; removed when dropped (also
+/// when the test fails).
+pub struct Scratch {
+    pub path: PathBuf,
+}
+
+impl Scratch {
+    pub fn new(label: &str) -> Scratch {
+        let path = std::env::temp_dir().join(format!(
+            "runcast-{}-{label}-{}",
+            env!("CARGO_CRATE_NAME"),
+            std::process::id()
+        ));
+        let _ = fs::remove_dir_all(&path);
+        fs::create_dir_all(&path).expect("create scratch directory");
+        Scratch { path }
+    }
+
+    /// Runs the binary with `args`, inside the directory.
+    pub fn run(&self, args: &[&str]) -> Output {
+        std::process::Command::new(env!("CARGO_BIN_EXE_runcast"))
+            .args(args)
+            .current_dir(&self.path)
+            .output()
+            .expect("run the runcast binary")
+    }
+}
+
+impl Drop for Scratch {
+    fn drop(&mut self) {
+        let _ = fs::remove_dir_all(&self.path);
+    }
 }
