@@ -353,10 +353,14 @@ fn bad_command_line_values_are_named() {
     let scratch = Scratch::new("command-line");
     fs::write(scratch.path.join(SCENARIO), BASE).unwrap();
     let before = scratch.entries();
-    let cases: [(&[&str], &[&str]); 3] = [
+    let cases: [(&[&str], &[&str]); 4] = [
         (
             &["project", SCENARIO, "--out", "out", "--toys", "0"],
             &["--toys"],
+        ),
+        (
+            &["project", SCENARIO, "--out", "out", "--calibrate", "0"],
+            &["--calibrate"],
         ),
         (
             &["project", SCENARIO, "--out", "out", "--threads", "0"],

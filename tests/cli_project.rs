@@ -463,6 +463,53 @@ fn asimov_only_has_no_toy_values_and_uses_the_default_directory() {
 }
 
 #[test]
+fn no_limits_skips_exclusion_and_calibrate_adds_toy_p_values() {
+    let scratch = Scratch::new("limits-and-calibration");
+    let scenario = scratch.copy_demo("narrow_peak.yaml");
+    project(&scratch, &scenario, "plain", 100, &["--no-limits"]);
+    let plain = scratch.json("plain");
+    assert!(!scratch.entries("plain").contains(&"limits.svg".to_string()));
+    assert!(plain["cl"].is_null());
+    assert!(plain["days_to_exclusion"]["asimov_days"].is_null());
+    for point in points(&plain) {
+        assert!(
+            point["limit_median"].is_null() && point["limit_asimov"].is_null(),
+            "{point}"
+        );
+    }
+
+    let stdout = project(
+        &scratch,
+        &scenario,
+        "calibrated",
+        100,
+        &["--calibrate", "400"],
+    );
+    let calibrated = scratch.json("calibrated");
+    assert_eq!(calibrated["calibration_toys"], 400);
+    assert!(
+        stdout.contains("background-only pseudo-experiments"),
+        "{stdout}"
+    );
+    let normal = Normal::standard();
+    for point in points(&calibrated) {
+        let calibration = &point["calibration"];
+        assert_eq!(calibration["toys"], 400, "{point}");
+        // The asymptotic p-value of the Asimov q0 is 1 - Phi(Z_A) (Cowan et al.,
+        // EPJC 71 (2011) 1554, eq. 52), checked with statrs as reference.
+        let z = number(&point["z_asimov"]);
+        assert!((number(&calibration["p_asymptotic"]) - normal.sf(z)).abs() < 1e-12);
+        // 400 toys resolve p down to 1/400: Z = Phi^-1(1 - 1/400) = 2.807 (standard normal table).
+        assert!((number(&calibration["tail_reach_z"]) - 2.807).abs() < 1e-3);
+        let exceeding = calibration["exceeding"].as_u64().unwrap();
+        match exceeding {
+            0 => assert!(calibration["p_toys"].is_null()),
+            n => assert!((number(&calibration["p_toys"]) - n as f64 / 400.0).abs() < 1e-12),
+        }
+    }
+}
+
+#[test]
 fn counting_window_demo_never_reaches_five_sigma() {
     let yaml = demo_yaml("counting_window.yaml");
     let s = yaml_number(&yaml["signal"]["events_per_day"]);
