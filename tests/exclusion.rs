@@ -121,3 +121,43 @@ fn expected_limit_tends_to_fall_as_one_over_square_root_of_exposure() {
         "{early_ratio} -> {late_ratio}"
     );
 }
+
+#[test]
+fn single_window_limits_carry_the_background_uncertainty() {
+    // One window, s = 4 and b = 100 per day, background known to 1%, after 2000
+    // live days: the limit is dominated by the systematic, sigma_mu ~ delta b / s,
+    // so the median expected limit stays near 1.96 * 0.01 * 100 / 4 = 0.49
+    // instead of falling as 1.96 sqrt(b)/s (Cowan et al., EPJC 71 (2011) 1554,
+    // eq. 89 with the uncertainties added in quadrature; common practice). The
+    // exact Poisson CLs of each pseudo-experiment is averaged over the
+    // constraint (Cousins and Highland, NIM A 320 (1992) 331) and must agree
+    // with the asymptotic median within the toy error.
+    let model = counting_window(4.0, 100.0, ", norm_uncertainty: 0.01");
+    let likelihood = Likelihood::new(&model);
+    let live_days = 2000.0;
+    let limits = asymptotic_limits(&likelihood, live_days, 0.05).unwrap();
+    let (s, b) = (4.0 * live_days, 100.0 * live_days);
+    let sigma = ((0.01 * b).powi(2) + b).sqrt() / s;
+    assert!(
+        (limits.median - 1.96 * sigma).abs() < 0.02 * limits.median,
+        "asymptotic {}",
+        limits.median
+    );
+    let toys = 2000;
+    let outcome = toy_limit_ensemble(
+        &likelihood,
+        live_days,
+        0,
+        &plan(toys, 4),
+        0.05,
+        limits.sigma,
+    );
+    assert_eq!(outcome.failed_fits, 0);
+    let median = quantile(&sorted(outcome.values), 0.5);
+    let error = 1.25 * limits.sigma / (toys as f64).sqrt();
+    assert!(
+        (median - limits.median).abs() < 4.0 * error,
+        "toys {median}, asymptotic {}",
+        limits.median
+    );
+}

@@ -1,9 +1,12 @@
 //! Expected upper limits at one exposure.
 
-use super::{exclusion_threshold, expected_limit_significance, poisson_upper_limit};
+use super::{
+    UncertainYield, exclusion_threshold, expected_limit_significance, poisson_upper_limit,
+    quadrature_nodes_for, standard_normal_nodes,
+};
 use crate::ensemble::{EnsembleOutcome, EnsemblePlan, Family, Generator, run_ensemble};
 use crate::likelihood::{Dataset, FitFailure, Likelihood, UpperLimitTest};
-use crate::model::SIGNAL_STRENGTH;
+use crate::model::{Constraint, Model, SIGNAL_STRENGTH};
 use crate::numeric::solve_increasing;
 
 /// The bands of expected limits, in the order of every `*_band` field.
@@ -69,11 +72,12 @@ fn background_only(likelihood: &Likelihood) -> Vec<f64> {
 
 /// Upper limits on mu of `plan.toys` background-only pseudo-experiments.
 ///
-/// A single counting window whose signal and background are known exactly (mu
-/// the only parameter) gets the exact Poisson CLs limit. Otherwise each
-/// pseudo-experiment's q~_mu comes from profile-likelihood fits, which carry the
-/// systematic uncertainties, and its CLs from the asymptotic formulae with
-/// sigma = `sigma` (the Asimov sigma_A).
+/// A single counting window whose uncertainties are all Gaussian constraints on
+/// yields gets the exact Poisson CLs limit, averaged over those constraints
+/// around each pseudo-experiment's global observables ([`CountingWindow`]).
+/// Otherwise each pseudo-experiment's q~_mu comes from profile-likelihood fits,
+/// which carry the systematic uncertainties, and its CLs from the asymptotic
+/// formulae with sigma = `sigma` (the Asimov sigma_A).
 pub fn toy_limit_ensemble(
     likelihood: &Likelihood,
     live_days: f64,
@@ -84,44 +88,140 @@ pub fn toy_limit_ensemble(
 ) -> EnsembleOutcome {
     let generator = Generator::new(likelihood, &background_only(likelihood), live_days);
     let streams = Family::Exclusion.stream_index(exposure_index);
-    if likelihood.bin_count() == 1 && likelihood.parameter_count() == 1 {
-        let (signal, background) = single_bin_expectation(likelihood, live_days);
-        run_ensemble(
+    match CountingWindow::of(likelihood.model(), live_days) {
+        Some(window) => run_ensemble(
             &generator,
             streams,
             plan,
             || (),
-            |(), data| {
-                Some(poisson_upper_limit(
-                    data.counts[0],
-                    signal,
-                    background,
-                    alpha,
-                ))
-            },
-        )
-    } else {
-        run_ensemble(
+            |(), data| Some(window.upper_limit(data, alpha)),
+        ),
+        None => run_ensemble(
             &generator,
             streams,
             plan,
             || UpperLimitTest::new(likelihood),
             |test, data| asymptotic_toy_limit(test, live_days, data, alpha, sigma).ok(),
-        )
+        ),
     }
 }
 
-/// Expected (signal at mu = 1, background) events in a single-bin model.
-fn single_bin_expectation(likelihood: &Likelihood, live_days: f64) -> (f64, f64) {
-    let mut work = likelihood.workspace();
-    likelihood.expected_counts(
-        &likelihood.model().nominal_parameters(),
-        live_days,
-        &mut work,
-    );
-    let with_signal = work.expected[0];
-    likelihood.expected_counts(&background_only(likelihood), live_days, &mut work);
-    (with_signal - work.expected[0], work.expected[0])
+/// A one-bin model whose nuisance parameters are all yield factors with
+/// Gaussian constraints: the signal and background expectations after the live
+/// days, and which global observable smears each.
+#[derive(Debug, Clone)]
+struct CountingWindow {
+    /// Expected signal events at mu = 1 and unit factors.
+    signal: f64,
+    /// (constraint index, relative width) of the signal yield factor.
+    signal_constraint: Option<(usize, f64)>,
+    /// Background events known exactly.
+    fixed_background: f64,
+    /// (constraint index, relative width, expected events) of each uncertain background.
+    uncertain_backgrounds: Vec<(usize, f64, f64)>,
+    standard_nodes: Vec<(f64, f64)>,
+}
+
+impl CountingWindow {
+    /// The counting window of `model`, or None when the model has several bins,
+    /// a control region, or a parameter without a Gaussian constraint.
+    fn of(model: &Model, live_days: f64) -> Option<CountingWindow> {
+        let [channel] = model.channels.as_slice() else {
+            return None;
+        };
+        let all_gaussian = model
+            .constraints
+            .iter()
+            .all(|c| matches!(c, Constraint::Gaussian { .. }));
+        if channel.edges.len() != 2
+            || !all_gaussian
+            || model.parameters.len() != 1 + model.constraints.len()
+        {
+            return None;
+        }
+        let constraint_of = |parameter: usize| {
+            model
+                .constraints
+                .iter()
+                .enumerate()
+                .find_map(|(index, c)| match *c {
+                    Constraint::Gaussian {
+                        parameter: p,
+                        width,
+                    } if p == parameter => Some((index, width)),
+                    _ => None,
+                })
+        };
+        let mut window = CountingWindow {
+            signal: 0.0,
+            signal_constraint: None,
+            fixed_background: 0.0,
+            uncertain_backgrounds: Vec::new(),
+            standard_nodes: Vec::new(),
+        };
+        for component in &channel.components {
+            let events = component.events_per_live_day * live_days;
+            let factor = component
+                .yield_parameters
+                .iter()
+                .find(|&&p| p != SIGNAL_STRENGTH)
+                .and_then(|&p| constraint_of(p));
+            match (component.is_signal, factor) {
+                (true, constraint) => {
+                    window.signal += events;
+                    window.signal_constraint = constraint;
+                }
+                (false, Some((index, width))) => {
+                    window.uncertain_backgrounds.push((index, width, events))
+                }
+                (false, None) => window.fixed_background += events,
+            }
+        }
+        let background = window.fixed_background
+            + window
+                .uncertain_backgrounds
+                .iter()
+                .map(|&(_, _, events)| events)
+                .sum::<f64>();
+        let widest = window
+            .signal_constraint
+            .map_or(0.0, |(_, width)| width * window.signal)
+            .max(window.background_width());
+        window.standard_nodes = standard_normal_nodes(quadrature_nodes_for(widest, background));
+        Some(window)
+    }
+
+    /// Width of the summed background from its uncertain parts, in quadrature.
+    fn background_width(&self) -> f64 {
+        self.uncertain_backgrounds
+            .iter()
+            .map(|&(_, width, events)| (width * events).powi(2))
+            .sum::<f64>()
+            .sqrt()
+    }
+
+    /// The exact CLs limit of one pseudo-experiment, the yields smeared by
+    /// their constraints around its global observables.
+    fn upper_limit(&self, data: &Dataset, alpha: f64) -> f64 {
+        let observed = &data.global_observables;
+        let signal = match self.signal_constraint {
+            Some((index, width)) => UncertainYield::gaussian(
+                self.signal * observed[index],
+                self.signal * width,
+                &self.standard_nodes,
+            ),
+            None => UncertainYield::known(self.signal),
+        };
+        let mean = self.fixed_background
+            + self
+                .uncertain_backgrounds
+                .iter()
+                .map(|&(index, _, events)| events * observed[index])
+                .sum::<f64>();
+        let background =
+            UncertainYield::gaussian(mean, self.background_width(), &self.standard_nodes);
+        poisson_upper_limit(data.counts[0], &signal, &background, alpha)
+    }
 }
 
 /// The mu where CLs(q~_mu) = alpha for one dataset: the root of

@@ -7,5 +7,8 @@ mod exact;
 mod expected;
 
 pub use cls::{asymptotic_cls, exclusion_threshold, expected_limit_significance};
-pub use exact::{poisson_cdf, poisson_cls, poisson_upper_limit};
+pub use exact::{
+    MAX_QUADRATURE_NODES, QUADRATURE_NODES, UncertainYield, poisson_cdf, poisson_cls,
+    poisson_upper_limit, quadrature_nodes_for, standard_normal_nodes,
+};
 pub use expected::{AsymptoticLimits, asymptotic_limits, toy_limit_ensemble};
