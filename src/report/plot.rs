@@ -7,7 +7,7 @@
 //! generous room around every label.
 
 use super::ReportError;
-use crate::projection::ExposurePoint;
+use crate::projection::{ExposurePoint, Projection};
 use plotters::coord::Shift;
 use plotters::coord::combinators::WithKeyPoints;
 use plotters::coord::ranged1d::ValueFormatter;
@@ -361,17 +361,31 @@ pub(super) fn axis_label(value: &f64) -> String {
         .map_or_else(|_| value.to_string(), |rounded| rounded.to_string())
 }
 
-/// The footnote on failed fits, when any: "Failed fits: 12 of 62000
+/// What a plot over one ensemble says below its axis: how the bands are made
+/// when the projection ran no pseudo-experiments (`asimov_only`), otherwise the
+/// failed fits of that ensemble, when any: "Failed fits: 12 of 62000
 /// pseudo-experiments, excluded from the median and bands."
-pub(super) fn failed_fits_footnote(
-    heading: &str,
-    failed: usize,
-    total: usize,
-    ensemble: &str,
-) -> Option<String> {
-    (failed > 0).then(|| {
-        format!("{heading}: {failed} of {total} {ensemble}, excluded from the median and bands.")
-    })
+pub(super) struct EnsembleFootnote<'a> {
+    pub asimov_only: &'a str,
+    pub heading: &'a str,
+    pub ensemble: &'a str,
+    pub failed_at: fn(&ExposurePoint) -> usize,
+}
+
+impl EnsembleFootnote<'_> {
+    pub fn text(&self, projection: &Projection) -> Option<String> {
+        if projection.toys == 0 {
+            return Some(self.asimov_only.to_string());
+        }
+        let failed: usize = projection.points.iter().map(self.failed_at).sum();
+        let total = projection.toys * projection.points.len();
+        (failed > 0).then(|| {
+            format!(
+                "{}: {failed} of {total} {}, excluded from the median and bands.",
+                self.heading, self.ensemble
+            )
+        })
+    }
 }
 
 pub(super) fn text_style(size: u32) -> TextStyle<'static> {

@@ -171,24 +171,14 @@ fn draw_days_to_exclusion(
 
 /// Footnote text: how Asimov-only bands are made, or failed limit fits when any.
 fn footnote(projection: &Projection) -> Option<String> {
-    if projection.toys == 0 {
-        return Some(
-            "Asimov only: bands are the asymptotic limits at ±1σ and ±2σ of the \
-             background-only expectation."
-                .to_string(),
-        );
+    plot::EnsembleFootnote {
+        asimov_only: "Asimov only: bands are the asymptotic limits at ±1σ and ±2σ of the \
+                      background-only expectation.",
+        heading: "Failed limit fits",
+        ensemble: "background-only pseudo-experiments",
+        failed_at: |point| point.limit_failed_fits,
     }
-    let failed = projection
-        .points
-        .iter()
-        .map(|point| point.limit_failed_fits)
-        .sum();
-    plot::failed_fits_footnote(
-        "Failed limit fits",
-        failed,
-        projection.toys * projection.points.len(),
-        "background-only pseudo-experiments",
-    )
+    .text(projection)
 }
 
 #[cfg(test)]

@@ -164,22 +164,13 @@ fn draw_saturation(
 
 /// Footnote text: failed fits when any, or how Asimov-only bands are made.
 fn footnote(projection: &Projection) -> Option<String> {
-    if projection.toys == 0 {
-        return Some(
-            "Asimov only: bands are Z_A ± 1 and Z_A ± 2, floored at 0 (asymptotic).".to_string(),
-        );
+    plot::EnsembleFootnote {
+        asimov_only: "Asimov only: bands are Z_A ± 1 and Z_A ± 2, floored at 0 (asymptotic).",
+        heading: "Failed fits",
+        ensemble: "pseudo-experiments",
+        failed_at: |point| point.failed_fits,
     }
-    let failed = projection
-        .points
-        .iter()
-        .map(|point| point.failed_fits)
-        .sum();
-    plot::failed_fits_footnote(
-        "Failed fits",
-        failed,
-        projection.toys * projection.points.len(),
-        "pseudo-experiments",
-    )
+    .text(projection)
 }
 
 #[cfg(test)]
