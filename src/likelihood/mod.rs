@@ -103,6 +103,9 @@ impl<'m> Likelihood<'m> {
             for component in &channel.components {
                 let (floating, fixed_parameters) = match &component.shape_parameters {
                     ShapeParameters::Fixed(values) => (None, values.as_slice()),
+                    // A shape without parameters has nothing to float: its
+                    // fractions are fixed, computed once per workspace.
+                    ShapeParameters::Floating(indices) if indices.is_empty() => (None, &[][..]),
                     ShapeParameters::Floating(indices) => (Some(indices.as_slice()), &[][..]),
                 };
                 terms.push(Term {

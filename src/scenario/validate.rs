@@ -70,17 +70,26 @@ fn signal_peak_outside_range(scenario: &Scenario) -> Option<String> {
     })
 }
 
-/// `float_shape: true` on a flat shape, which has no parameters.
+/// `float_shape: true` on a shape with no parameters (flat, or a polynomial
+/// of one term, whose only coefficient cancels in the normalisation).
 fn flat_shapes_floated(backgrounds: &[Background]) -> impl Iterator<Item = String> + '_ {
     backgrounds
         .iter()
         .enumerate()
-        .filter(|(_, background)| background.float_shape && background.shape == ShapeSpec::Flat {})
+        .filter(|(_, background)| background.float_shape && has_no_parameters(&background.shape))
         .map(|(index, _)| {
             format!(
-                "backgrounds[{index}].float_shape: a flat shape has no parameters to float; the setting has no effect"
+                "backgrounds[{index}].float_shape: this shape has no parameters to float; the setting has no effect"
             )
         })
+}
+
+fn has_no_parameters(shape: &ShapeSpec) -> bool {
+    match shape {
+        ShapeSpec::Flat {} => true,
+        ShapeSpec::Polynomial { coefficients } => coefficients.len() == 1,
+        _ => false,
+    }
 }
 
 /// A days grid starting inside the leading schedule periods with `rate_scale` 0,

@@ -1,0 +1,110 @@
+//! Settings that cannot change the physics must not change the numbers.
+
+mod common;
+
+use common::Scratch;
+use std::fs;
+use std::path::Path;
+
+/// The demo's text with `float_shape: true` added to the background whose
+/// list entry starts with `name_line` (`  - name: ...`, keys indented by four).
+fn with_float_shape(demo: &str, name_line: &str) -> String {
+    let text = demo_text(demo);
+    let replaced = text.replacen(name_line, &format!("{name_line}\n    float_shape: true"), 1);
+    assert_ne!(replaced, text, "{demo} has no line {name_line:?}");
+    replaced
+}
+
+fn demo_text(demo: &str) -> String {
+    fs::read_to_string(
+        Path::new(env!("CARGO_MANIFEST_DIR"))
+            .join("scenarios")
+            .join(demo),
+    )
+    .expect("read demo")
+}
+
+/// Runs `project` on `yaml` saved as `<dir>/scenario.yaml` (the same file name
+/// for both runs, so no output can differ by it); returns stdout.
+fn project(scratch: &Scratch, dir: &str, yaml: &str, extra: &[&str]) -> String {
+    fs::create_dir_all(scratch.path.join(dir)).unwrap();
+    fs::write(scratch.path.join(dir).join("scenario.yaml"), yaml).unwrap();
+    let scenario = format!("{dir}/scenario.yaml");
+    let out = format!("{dir}/out");
+    let mut args = vec!["project", &scenario, "--out", &out, "--quiet"];
+    args.extend_from_slice(extra);
+    let output = scratch.run(&args);
+    assert!(
+        output.status.success(),
+        "{dir}: {}",
+        String::from_utf8_lossy(&output.stderr)
+    );
+    String::from_utf8(output.stdout).unwrap()
+}
+
+/// Asserts that every output file of the two runs has the same bytes.
+fn assert_same_outputs(scratch: &Scratch, first: &str, second: &str) {
+    let mut names: Vec<_> = fs::read_dir(scratch.path.join(first).join("out"))
+        .unwrap()
+        .map(|entry| entry.unwrap().file_name())
+        .collect();
+    names.sort();
+    assert!(!names.is_empty());
+    for name in names {
+        let a = fs::read(scratch.path.join(first).join("out").join(&name)).unwrap();
+        let b = fs::read(scratch.path.join(second).join("out").join(&name)).unwrap();
+        assert!(
+            a == b,
+            "{name:?} differs with float_shape on a shape without parameters"
+        );
+    }
+}
+
+/// A flat shape has no parameter (its density is 1/(high - low) by
+/// definition), so floating it is the same model: identical outputs.
+#[test]
+fn float_shape_on_a_flat_counting_window_changes_nothing() {
+    let scratch = Scratch::new("float-flat-window");
+    let plain = demo_text("counting_window.yaml");
+    let floated = with_float_shape("counting_window.yaml", "  - name: residual radioactivity");
+    let args = ["--toys", "200"];
+    let stdout_plain = project(&scratch, "plain", &plain, &args);
+    let stdout_floated = project(&scratch, "floated", &floated, &args);
+    assert_same_outputs(&scratch, "plain", "floated");
+    assert_eq!(
+        stdout_plain.replace("plain/", ""),
+        stdout_floated.replace("floated/", "")
+    );
+}
+
+#[test]
+fn float_shape_on_the_flat_background_of_a_peak_search_changes_nothing() {
+    let scratch = Scratch::new("float-flat-peak");
+    let plain = demo_text("narrow_peak.yaml");
+    let floated = with_float_shape("narrow_peak.yaml", "  - name: mis-paired tracks");
+    let args = ["--toys", "100"];
+    project(&scratch, "plain", &plain, &args);
+    project(&scratch, "floated", &floated, &args);
+    assert_same_outputs(&scratch, "plain", "floated");
+}
+
+/// A polynomial of one term is a constant: its coefficient cancels in the
+/// normalisation, so there is nothing to float.
+#[test]
+fn float_shape_on_a_one_term_polynomial_changes_nothing() {
+    let scratch = Scratch::new("float-constant");
+    let plain = demo_text("counting_window.yaml").replace(
+        "    shape: {flat: {}}\n    norm",
+        "    shape: {polynomial: {coefficients: [2.0]}}\n    norm",
+    );
+    let floated = plain.replacen(
+        "  - name: residual radioactivity",
+        "  - name: residual radioactivity\n    float_shape: true",
+        1,
+    );
+    assert_ne!(plain, floated);
+    let args = ["--asimov-only"];
+    project(&scratch, "plain", &plain, &args);
+    project(&scratch, "floated", &floated, &args);
+    assert_same_outputs(&scratch, "plain", "floated");
+}
