@@ -18,6 +18,7 @@ mod check;
 mod csv;
 mod csv_spectrum;
 mod error;
+mod interrupt;
 mod json;
 mod json_binning;
 mod plot;
@@ -56,6 +57,14 @@ pub const LIMITS_SVG: &str = "limits.svg";
 pub const PROJECTION_CSV: &str = "projection.csv";
 /// File name of the whole projection as JSON.
 pub const PROJECTION_JSON: &str = "projection.json";
+/// Every file `render_all` can give: the output set of `runcast project`.
+pub const PROJECTION_FILES: [&str; 5] = [
+    PROJECTION_SVG,
+    PROBABILITY_SVG,
+    LIMITS_SVG,
+    PROJECTION_CSV,
+    PROJECTION_JSON,
+];
 
 /// Renders every report file in memory, in a fixed order:
 /// `projection.svg`, `probability.svg`, `limits.svg` (only when the
@@ -99,6 +108,8 @@ pub fn render_all(projection: &Projection) -> Result<Vec<Report>, ReportError> {
 pub const BINNING_SVG: &str = "binning.svg";
 /// File name of the binning scan as JSON.
 pub const BINNING_JSON: &str = "binning.json";
+/// Every file `render_binning` gives: the output set of `runcast binning`.
+pub const BINNING_FILES: [&str; 2] = [BINNING_SVG, BINNING_JSON];
 
 /// Renders the spectra in memory: `spectrum-<D>d.svg` and `spectrum-<D>d.csv`,
 /// with one `-<D>d` per exposure in the order given (`spectrum-3d-30d.svg`).

@@ -95,7 +95,25 @@ pub(super) fn svg_bytes_sized(
             })?;
     }
     svg.push('\n');
-    Ok(svg.into_bytes())
+    Ok(xml_safe(&svg).into_bytes())
+}
+
+/// The document with every character XML 1.0 does not allow (control
+/// characters other than tab, line feed and carriage return, and U+FFFE,
+/// U+FFFF) replaced by U+FFFD, so that the SVG parses whatever a title, name
+/// or unit holds. The backend already escapes `<`, `>`, `&` and quotes in
+/// text and attributes; these characters cannot be escaped at all
+/// (W3C, Extensible Markup Language 1.0, 5th ed., production [2] `Char`).
+fn xml_safe(svg: &str) -> String {
+    svg.chars()
+        .map(|c| if is_xml_char(c) { c } else { '\u{FFFD}' })
+        .collect()
+}
+
+/// Production [2] of XML 1.0: `#x9 | #xA | #xD | [#x20-#xD7FF] |
+/// [#xE000-#xFFFD] | [#x10000-#x10FFFF]` (a Rust `char` is never a surrogate).
+fn is_xml_char(c: char) -> bool {
+    matches!(c, '\t' | '\n' | '\r' | ' '..='\u{D7FF}' | '\u{E000}'..='\u{FFFD}' | '\u{10000}'..)
 }
 
 /// What the y axis shows: its coordinate (`linear_axis` or `log_axis`), its
@@ -474,6 +492,82 @@ mod tests {
         assert_eq!(major, [1.0, 10.0, 100.0, 1000.0, 10000.0]);
         let labels: Vec<String> = log_ticks(0.1, 30.0).0.into_iter().map(tick_label).collect();
         assert_eq!(labels, ["0.1", "0.2", "0.5", "1", "2", "5", "10", "20"]);
+    }
+
+    /// A minimal XML 1.0 well-formedness check of what the SVG backend
+    /// writes: only allowed characters (production [2]), no `<` or raw `&`
+    /// inside text or attribute values, and every tag closed in order.
+    fn assert_well_formed(document: &str) {
+        assert!(document.chars().all(is_xml_char), "a character XML forbids");
+        let mut open: Vec<&str> = Vec::new();
+        let mut rest = document;
+        while let Some(start) = rest.find('<') {
+            let text = &rest[..start];
+            assert_entities_only(text);
+            let end = rest[start..].find('>').expect("tag closed") + start;
+            let tag = &rest[start + 1..end];
+            assert!(!tag.contains('<'), "'<' inside a tag: {tag:?}");
+            let attributes = tag.split('"').skip(1).step_by(2);
+            attributes.for_each(assert_entities_only);
+            if let Some(name) = tag.strip_prefix('/') {
+                assert_eq!(open.pop(), Some(name.trim()), "closing tag out of order");
+            } else if !tag.ends_with('/') {
+                open.push(tag.split_whitespace().next().expect("tag name"));
+            }
+            rest = &rest[end + 1..];
+        }
+        assert_entities_only(rest);
+        assert!(open.is_empty(), "unclosed tags: {open:?}");
+    }
+
+    fn assert_entities_only(text: &str) {
+        for (index, _) in text.match_indices('&') {
+            let entity = &text[index
+                ..text[index..]
+                    .find(';')
+                    .map_or(text.len(), |end| index + end + 1)];
+            assert!(
+                ["&lt;", "&gt;", "&amp;", "&quot;", "&apos;"].contains(&entity),
+                "raw '&' in {text:?}"
+            );
+        }
+    }
+
+    #[test]
+    fn hostile_text_gives_a_well_formed_svg() {
+        let hostile = "a</text><script>\u{1}\u{8}\u{1b}[0m\u{7f}&amp; \"quoted\" 'x' \u{FFFF}]]>";
+        let bytes = svg_bytes("test.svg", |canvas| {
+            let chart = day_chart(
+                canvas,
+                hostile,
+                1.0..100.0,
+                ValueAxis {
+                    coordinate: linear_axis(0.0..5.0),
+                    description: hostile,
+                    format: &|value| format!("{value}{hostile}"),
+                },
+                true,
+            )?;
+            drop(chart);
+            draw_footnote(canvas, hostile)
+        })
+        .unwrap();
+        let document = String::from_utf8(bytes).unwrap();
+        assert_well_formed(&document);
+        assert!(document.contains("a&lt;/text&gt;&lt;script&gt;\u{FFFD}\u{FFFD}\u{FFFD}[0m"));
+    }
+
+    #[test]
+    fn the_well_formedness_check_can_fail() {
+        for broken in [
+            "<a>\u{1}</a>",
+            "<a>x & y</a>",
+            "<a><b></a></b>",
+            "<a b=\"<\"/>",
+        ] {
+            let failed = std::panic::catch_unwind(|| assert_well_formed(broken)).is_err();
+            assert!(failed, "{broken:?} passed");
+        }
     }
 
     #[test]
