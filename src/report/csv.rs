@@ -1,14 +1,16 @@
 //! `projection.csv`: one row per exposure point.
 //!
 //! Columns: `days, live_days, signal, background, z_asimov, z_median,
-//! z_q02_3, z_q15_9, z_q84_1, z_q97_7`, then for each target T
+//! z_q02_3, z_q15_9, z_q84_1, z_q97_7` (toys), `z_asimov_q02_3,
+//! z_asimov_q15_9, z_asimov_q84_1, z_asimov_q97_7` (Z_A - 2, - 1, + 1, + 2,
+//! floored at 0, standing at those quantiles), then for each target T
 //! `p_toys_<T>sigma, p_asimov_<T>sigma`, then `failed_fits`; then the
 //! expected limits on μ, `limit_median, limit_q02_3, limit_q15_9,
 //! limit_q84_1, limit_q97_7` (pseudo-experiments), `limit_asimov,
 //! limit_asimov_q02_3, limit_asimov_q15_9, limit_asimov_q84_1,
 //! limit_asimov_q97_7` (asymptotic, the -2, -1, +1, +2 σ limits standing at
 //! those quantiles), `limit_failed_fits`; then the q0 calibration,
-//! `calibration_toys, calibration_failed_fits, calibration_exceeding,
+//! `calibration_converged_toys, calibration_failed_fits, calibration_exceeding,
 //! q0_asimov, p_asymptotic, p_toys, z_asymptotic, z_toys, tail_reach_z`. An
 //! empty cell means no value (an Asimov-only run has no toy columns filled, a
 //! run without limits or calibration none of theirs). Numbers are
@@ -21,6 +23,14 @@ use crate::projection::{Calibration, ExposurePoint, Projection};
 
 /// Names of the four toy quantile columns, in the order of `z_band`.
 const BAND_COLUMNS: [&str; 4] = ["z_q02_3", "z_q15_9", "z_q84_1", "z_q97_7"];
+
+/// Names of the asymptotic band columns, in the order of `z_asimov_band`.
+const ASIMOV_BAND_COLUMNS: [&str; 4] = [
+    "z_asimov_q02_3",
+    "z_asimov_q15_9",
+    "z_asimov_q84_1",
+    "z_asimov_q97_7",
+];
 
 /// The limit columns after `failed_fits`, in the order of [`limit_cells`].
 const LIMIT_COLUMNS: [&str; 11] = [
@@ -39,7 +49,7 @@ const LIMIT_COLUMNS: [&str; 11] = [
 
 /// The calibration columns at the end, in the order of [`calibration_cells`].
 const CALIBRATION_COLUMNS: [&str; 9] = [
-    "calibration_toys",
+    "calibration_converged_toys",
     "calibration_failed_fits",
     "calibration_exceeding",
     "q0_asimov",
@@ -76,6 +86,7 @@ fn header(targets: &[f64]) -> Vec<String> {
     let mut columns: Vec<String> = leading
         .iter()
         .chain(&BAND_COLUMNS)
+        .chain(&ASIMOV_BAND_COLUMNS)
         .map(|name| name.to_string())
         .collect();
     for target in targets {
@@ -103,6 +114,7 @@ fn row(point: &ExposurePoint) -> Vec<String> {
         optional(point.z_median),
     ];
     cells.extend(band_cells(point.z_band));
+    cells.extend(band_cells(Some(point.z_asimov_band)));
     for probability in &point.probability {
         cells.push(optional(probability.toys));
         cells.push(number(probability.asimov));
@@ -133,7 +145,7 @@ fn calibration_cells(calibration: Option<&Calibration>) -> [String; 9] {
         return Default::default();
     };
     [
-        calibration.toys.to_string(),
+        calibration.converged_toys.to_string(),
         calibration.failed_fits.to_string(),
         calibration.exceeding.to_string(),
         number(calibration.q0_asimov),
@@ -180,15 +192,16 @@ mod tests {
             [
                 "days,live_days,signal,background,z_asimov,z_median,\
                  z_q02_3,z_q15_9,z_q84_1,z_q97_7,\
+                 z_asimov_q02_3,z_asimov_q15_9,z_asimov_q84_1,z_asimov_q97_7,\
                  p_toys_3sigma,p_asimov_3sigma,p_toys_5sigma,p_asimov_5sigma,failed_fits,\
                  limit_median,limit_q02_3,limit_q15_9,limit_q84_1,limit_q97_7,\
                  limit_asimov,limit_asimov_q02_3,limit_asimov_q15_9,limit_asimov_q84_1,\
                  limit_asimov_q97_7,limit_failed_fits,\
-                 calibration_toys,calibration_failed_fits,calibration_exceeding,q0_asimov,\
+                 calibration_converged_toys,calibration_failed_fits,calibration_exceeding,q0_asimov,\
                  p_asymptotic,p_toys,z_asymptotic,z_toys,tail_reach_z",
-                "10,8,16,80,1.75,1.625,0.125,0.75,2.5,3.5,0.105,0.0885,0,0.0005,0\
+                "10,8,16,80,1.75,1.625,0.125,0.75,2.5,3.5,0,0.75,2.75,3.75,0.105,0.0885,0,0.0005,0\
                  ,,,,,,,,,,,0,,,,,,,,,",
-                "100,80,160,800,3.875,,,,,,,0.8125,,0.125,2\
+                "100,80,160,800,3.875,,,,,,1.875,2.875,4.875,5.875,,0.8125,,0.125,2\
                  ,,,,,,,,,,,0,,,,,,,,,",
             ]
         );
@@ -228,7 +241,7 @@ mod tests {
             let calibration = point.calibration.as_ref().unwrap();
             assert_eq!(value("z_asymptotic", row), calibration.z_asymptotic);
             assert_eq!(value("tail_reach_z", row), calibration.tail_reach_z);
-            assert_eq!(cell(&table, "calibration_toys", row), "5000");
+            assert_eq!(cell(&table, "calibration_converged_toys", row), "5000");
         }
         // At 1000 days the Asimov Z lies far past what 5000 toys resolve: none exceeds.
         let last = projection.points.len() - 1;
@@ -250,7 +263,7 @@ mod tests {
                 .unwrap()
                 > 0.0
         );
-        assert_eq!(cell(&table, "calibration_toys", 3), "");
+        assert_eq!(cell(&table, "calibration_converged_toys", 3), "");
     }
 
     #[test]

@@ -270,7 +270,7 @@ fn calibration_table(projection: &Projection) -> Option<String> {
             two_decimals(z),
             z_toys,
             difference,
-            calibration.toys.to_string(),
+            calibration.converged_toys.to_string(),
         ]
     }));
     Some(format!(
@@ -303,7 +303,7 @@ fn percent(part: usize, whole: usize) -> String {
 /// One line when systematic uncertainties make Z_A saturate, naming the
 /// targets that are therefore never reached.
 fn saturation_line(rows: &[DaysToTarget]) -> Option<String> {
-    let limit = rows.iter().find_map(|row| row.limit_z)?;
+    let limit = rows.iter().find_map(|row| row.saturation_z)?;
     let never: Vec<String> = rows
         .iter()
         .filter(|row| row.never_reached())
@@ -346,8 +346,8 @@ warning: systematic uncertainties make Z_A saturate at 4.50σ however long the r
     #[test]
     fn a_target_past_the_grid_is_beyond_the_last_day() {
         let mut projection = example::tiny();
-        projection.days_to_target[1].limit_z = None;
-        projection.days_to_target[0].limit_z = None;
+        projection.days_to_target[1].saturation_z = None;
+        projection.days_to_target[0].saturation_z = None;
         let text = summary(&projection);
         assert!(
             text.contains("5σ       beyond 100 d   beyond 100 d   beyond 100 d   beyond 100 d\n")

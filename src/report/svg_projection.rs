@@ -13,7 +13,6 @@ use super::plot::{
     ValueAxis,
 };
 use super::{PROJECTION_SVG, ReportError, days_label, target_label};
-use crate::asymptotic::significance_band;
 use crate::projection::Projection;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, VPos};
@@ -90,12 +89,12 @@ fn toy_band(projection: &Projection) -> Vec<BandPoint> {
         .collect()
 }
 
-/// Z_A ± 1 and Z_A ± 2, floored at 0.
+/// Z_A ± 1 and Z_A ± 2, floored at 0, as the projection computed them.
 fn asymptotic_band(projection: &Projection) -> Vec<BandPoint> {
     projection
         .points
         .iter()
-        .map(|point| (point.days, significance_band(point.z_asimov)))
+        .map(|point| (point.days, point.z_asimov_band))
         .collect()
 }
 
@@ -148,7 +147,7 @@ fn draw_saturation(
     let limit = projection
         .days_to_target
         .iter()
-        .find_map(|row| row.limit_z)
+        .find_map(|row| row.saturation_z)
         .filter(|&limit| limit < ceiling);
     let Some(limit) = limit else { return Ok(()) };
     let (x, y) = plot::horizontal_line(chart, limit, VERMILION, DASH)?;
