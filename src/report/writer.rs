@@ -51,6 +51,36 @@ pub fn write_all(
     Ok(removed)
 }
 
+/// Writes `bytes` to a new file `file`, never replacing one: the bytes go to
+/// a hidden temporary file beside it, are flushed, and are hard-linked into
+/// place, which fails with [`io::ErrorKind::AlreadyExists`] if `file` exists
+/// (even when it appeared meanwhile), so no half-written file is ever
+/// visible. The temporary file is removed in every case, also on SIGINT or
+/// SIGTERM.
+pub fn write_new(file: &Path, bytes: &[u8]) -> io::Result<()> {
+    let _writing = interrupt::start_writing();
+    let directory = file
+        .parent()
+        .filter(|parent| !parent.as_os_str().is_empty())
+        .unwrap_or(Path::new("."));
+    let name = file
+        .file_name()
+        .ok_or_else(|| io::Error::new(io::ErrorKind::InvalidInput, "not a file name"))?;
+    let temporary = directory.join(format!(
+        ".{}.runcast-staging-{}",
+        name.to_string_lossy(),
+        std::process::id()
+    ));
+    let written = File::create_new(&temporary)
+        .and_then(|mut out| {
+            out.write_all(bytes)?;
+            out.sync_all()
+        })
+        .and_then(|()| fs::hard_link(&temporary, file));
+    let _ = fs::remove_file(&temporary);
+    written
+}
+
 /// Where the target directory stands before the run.
 enum Target {
     /// It exists: stage inside it and move files in one by one.
@@ -304,6 +334,7 @@ fn io_error(action: &'static str, path: &Path) -> impl FnOnce(io::Error) -> Repo
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::report::Kind;
 
     /// A fresh, empty directory under the system temporary directory.
     fn scratch(name: &str) -> PathBuf {
@@ -316,6 +347,7 @@ mod tests {
     fn report(name: &str, text: &str) -> Report {
         Report {
             name: name.to_string(),
+            kind: Kind::Table,
             bytes: text.as_bytes().to_vec(),
         }
     }
@@ -473,5 +505,18 @@ mod tests {
         assert_eq!(names_in(&root), ["out"]);
         assert_eq!(names_in(&root.join("out")), ["a.csv", "b.svg"]);
         fs::remove_dir_all(root).unwrap();
+    }
+
+    #[test]
+    fn a_new_file_never_replaces_one() {
+        let dir = scratch("new-file");
+        fs::create_dir_all(&dir).unwrap();
+        let file = dir.join("scenario.yaml");
+        write_new(&file, b"first\n").unwrap();
+        let error = write_new(&file, b"second\n").unwrap_err();
+        assert_eq!(error.kind(), io::ErrorKind::AlreadyExists);
+        assert_eq!(fs::read_to_string(&file).unwrap(), "first\n");
+        assert_eq!(names_in(&dir), ["scenario.yaml"]);
+        fs::remove_dir_all(dir).unwrap();
     }
 }

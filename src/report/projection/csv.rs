@@ -14,12 +14,15 @@
 //! q0_asimov, p_asymptotic, p_toys, z_asymptotic, z_toys, tail_reach_z`. An
 //! empty cell means no value (an Asimov-only run has no toy columns filled, a
 //! run without limits or calibration none of theirs). Numbers are
-//! written as the shortest decimal that reads back to the same f64, so the
-//! file is lossless and byte-for-byte reproducible; magnitudes below 1e-4 or
-//! from 1e15 up use exponent form (`2.867e-7`) instead of long runs of zeros.
+//! written as the shortest decimal that reads back to the same f64
+//! (`kit::format::number`), so the file is lossless and byte-for-byte
+//! reproducible.
 
-use super::{PROJECTION_CSV, ReportError};
+use super::PROJECTION_CSV;
 use crate::projection::{Calibration, ExposurePoint, Projection};
+use crate::report::ReportError;
+use crate::report::kit::encode::csv_bytes;
+use crate::report::kit::format::{number, optional};
 
 /// Names of the four toy quantile columns, in the order of `z_band`.
 const BAND_COLUMNS: [&str; 4] = ["z_q02_3", "z_q15_9", "z_q84_1", "z_q97_7"];
@@ -62,16 +65,11 @@ const CALIBRATION_COLUMNS: [&str; 9] = [
 
 /// The CSV table of the projection.
 pub(super) fn render(projection: &Projection) -> Result<Vec<u8>, ReportError> {
-    let mut writer = ::csv::Writer::from_writer(Vec::new());
-    writer
-        .write_record(header(&projection.targets))
-        .map_err(failure)?;
-    for point in &projection.points {
-        writer.write_record(row(point)).map_err(failure)?;
-    }
-    writer
-        .into_inner()
-        .map_err(|error| failure(error.into_error()))
+    csv_bytes(
+        PROJECTION_CSV,
+        header(&projection.targets),
+        projection.points.iter().map(row),
+    )
 }
 
 fn header(targets: &[f64]) -> Vec<String> {
@@ -157,31 +155,10 @@ fn calibration_cells(calibration: Option<&Calibration>) -> [String; 9] {
     ]
 }
 
-/// The shortest decimal that reads back to `value`, in exponent form outside [1e-4, 1e15).
-pub(super) fn number(value: f64) -> String {
-    let magnitude = value.abs();
-    if magnitude != 0.0 && !(1e-4..1e15).contains(&magnitude) {
-        format!("{value:e}")
-    } else {
-        value.to_string()
-    }
-}
-
-fn optional(value: Option<f64>) -> String {
-    value.map(number).unwrap_or_default()
-}
-
-fn failure(error: impl std::fmt::Display) -> ReportError {
-    ReportError::Render {
-        file: PROJECTION_CSV,
-        message: error.to_string(),
-    }
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::report::example;
+    use crate::report::projection::example;
 
     #[test]
     fn header_and_rows_match_the_documented_columns() {
@@ -264,19 +241,5 @@ mod tests {
                 > 0.0
         );
         assert_eq!(cell(&table, "calibration_converged_toys", 3), "");
-    }
-
-    #[test]
-    fn numbers_are_shortest_round_trip_decimals() {
-        assert_eq!(number(0.1 + 0.2), "0.30000000000000004");
-        assert_eq!(number(1.5e6), "1500000");
-        assert_eq!(number(0.0), "0");
-        assert_eq!(number(0.0001), "0.0001");
-        assert_eq!(number(2.867e-7), "2.867e-7");
-        assert_eq!(number(-4.0291033463290996e-6), "-4.0291033463290996e-6");
-        assert_eq!(number(2.5e15), "2.5e15");
-        for value in [2.867e-7, 0.1 + 0.2, 1.0 / 3.0, 6.02e23] {
-            assert_eq!(number(value).parse::<f64>().unwrap(), value);
-        }
     }
 }

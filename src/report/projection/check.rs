@@ -5,8 +5,8 @@
 //! CSV columns follow the order of `targets`. A projection breaking any of
 //! these is refused with the path of the offending value.
 
-use super::ReportError;
 use crate::projection::{Calibration, ExposurePoint, Projection};
+use crate::report::ReportError;
 
 const FINITE: &str = "a finite number";
 /// Limits go on a logarithmic axis, and a CLs upper limit is always above 0.
@@ -167,7 +167,7 @@ fn invalid(field: String, value: String, expected: &'static str) -> ReportError 
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::report::example;
+    use crate::report::projection::example;
 
     fn message(projection: &Projection) -> String {
         check_projection(projection).unwrap_err().to_string()

@@ -4,23 +4,20 @@
 //! The projection has been checked for non-finite numbers before this runs,
 //! so every null in the file means "no value", never NaN.
 
-use super::{PROJECTION_JSON, ReportError};
+use super::PROJECTION_JSON;
 use crate::projection::Projection;
+use crate::report::ReportError;
+use crate::report::kit::encode::json_bytes;
 
 /// Pretty-printed JSON of the projection, ending with a newline.
 pub(super) fn render(projection: &Projection) -> Result<Vec<u8>, ReportError> {
-    let mut bytes = serde_json::to_vec_pretty(projection).map_err(|error| ReportError::Render {
-        file: PROJECTION_JSON,
-        message: error.to_string(),
-    })?;
-    bytes.push(b'\n');
-    Ok(bytes)
+    json_bytes(PROJECTION_JSON, projection)
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::report::example;
+    use crate::report::projection::example;
     use serde_json::{Value, json};
 
     fn parsed(projection: &Projection) -> Value {
