@@ -252,3 +252,54 @@ pub fn draw_footnote_line(canvas: &Canvas, text: &str, from_bottom: i32) -> Resu
         (HPos::Left, VPos::Bottom),
     )
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::report::kit::axis::{Axis, axis_label, linear_axis};
+    use crate::report::kit::figure::{Frame, SIZE, chart, svg_bytes};
+    use crate::report::kit::palette::INK_TEAL;
+
+    #[test]
+    fn marks_draw_over_a_linear_position_axis() {
+        let bytes = svg_bytes("test.svg", SIZE, |canvas| {
+            let x = Axis {
+                coordinate: linear_axis(0.0..100.0),
+                description: Some("Signal position [keV]"),
+                format: &axis_label,
+                labels: None,
+            };
+            let y = Axis {
+                coordinate: linear_axis(0.0..6.0),
+                description: Some("Z_A [σ]"),
+                format: &axis_label,
+                labels: None,
+            };
+            let frame = Frame::single("Invented scan", true);
+            let mut chart = chart(canvas, &frame, x, y)?;
+            let band = [(10.0, [0.0, 1.0, 3.0, 4.0]), (90.0, [1.0, 2.0, 4.0, 5.0])];
+            draw_band(&mut chart, &band, ["outer band", "inner band"])?;
+            reference_line(&mut chart, canvas, 3.0, "3σ")?;
+            let curve = vec![(10.0, 2.0), (90.0, 3.0)];
+            draw_curve(&mut chart, curve, INK_TEAL, Stroke::Solid, "median".into())?;
+            let curve = (INK_TEAL, Stroke::Solid);
+            mark_crossing(&mut chart, canvas, (90.0, 3.0), curve, "3σ at 90 keV", -18)?;
+            draw_legend_at(&mut chart, SeriesLabelPosition::UpperLeft)?;
+            draw_footnote(canvas, "Invented numbers.")
+        })
+        .unwrap();
+        let text = String::from_utf8(bytes).unwrap();
+        for expected in [
+            "\nSignal position [keV]\n</text>",
+            "\n50\n</text>",
+            "\n3σ\n</text>",
+            "\n3σ at 90 keV\n</text>",
+            "\nmedian\n</text>",
+            "\nouter band\n</text>",
+            "\ninner band\n</text>",
+            "\nInvented numbers.\n</text>",
+        ] {
+            assert!(text.contains(expected), "missing {expected:?}");
+        }
+    }
+}
