@@ -182,7 +182,7 @@ where
 }
 
 #[cfg(test)]
-mod tests {
+pub(crate) mod tests {
     use super::super::axis::{days_axis, linear_axis};
     use super::super::marks::draw_footnote;
     use super::*;
@@ -190,7 +190,7 @@ mod tests {
     /// A minimal XML 1.0 well-formedness check of what the SVG backend
     /// writes: only allowed characters (production [2]), no `<` or raw `&`
     /// inside text or attribute values, and every tag closed in order.
-    fn assert_well_formed(document: &str) {
+    pub(crate) fn assert_well_formed(document: &str) {
         assert!(document.chars().all(is_xml_char), "a character XML forbids");
         let mut open: Vec<&str> = Vec::new();
         let mut rest = document;

@@ -153,4 +153,23 @@ mod tests {
         let names: Vec<&str> = reports.iter().map(|report| report.name.as_str()).collect();
         assert_eq!(names, PROJECTION_FILES);
     }
+
+    #[test]
+    fn every_figure_is_well_formed_xml_whatever_the_title() {
+        let mut projection = example::with_limits();
+        projection.title = "A <b>\u{1}\u{1b}[31m & \"title\"\u{FFFE}".to_string();
+        let reports = render_all(&projection).unwrap();
+        let figures: Vec<&Report> = reports
+            .iter()
+            .filter(|report| report.kind == Kind::Figure)
+            .collect();
+        assert_eq!(figures.len(), 3);
+        for figure in figures {
+            let text = std::str::from_utf8(&figure.bytes).unwrap();
+            crate::report::kit::figure::tests::assert_well_formed(text);
+            assert!(
+                text.contains("A &lt;b&gt;\u{FFFD}\u{FFFD}[31m &amp; &quot;title&quot;\u{FFFD}")
+            );
+        }
+    }
 }

@@ -323,4 +323,15 @@ mod tests {
         let text = String::from_utf8(render(&spectrum(&[3.0])).unwrap()).unwrap();
         assert!(text.starts_with("<svg width=\"900\" height=\"720\""));
     }
+
+    #[test]
+    fn hostile_names_and_units_give_a_well_formed_svg() {
+        let mut spectrum = spectrum(&[3.0]);
+        spectrum.title = "t\u{2}<t>".to_string();
+        spectrum.observable = "m&\u{7}".to_string();
+        spectrum.unit = "\u{0}]]>".to_string();
+        let text = String::from_utf8(render(&spectrum).unwrap()).unwrap();
+        crate::report::kit::figure::tests::assert_well_formed(&text);
+        assert!(text.contains("m&amp;\u{FFFD} [\u{FFFD}]]&gt;]"));
+    }
 }
