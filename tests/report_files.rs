@@ -161,8 +161,9 @@ fn interrupt_rerun(scratch: &Scratch, out: &str, signal: (&str, i32)) -> bool {
     let dir = scratch.path.join(out);
     let staging = loop {
         if !hidden_entries(&dir).is_empty() {
-            let pid = child.id().to_string();
-            let sent = Command::new("kill").args([signal.0, &pid]).status();
+            // The shell's built-in kill: no separate program needed.
+            let kill = format!("kill {} {}", signal.0, child.id());
+            let sent = Command::new("sh").args(["-c", &kill]).status();
             break sent.is_ok_and(|status| status.success());
         }
         if child.try_wait().expect("poll runcast").is_some() {
