@@ -12,7 +12,7 @@ pub fn run(args: &BinningArgs) -> Result<(), Error> {
     let scan = scan_binning(&scenario, args.days)?;
     let reports = report::render_binning(&scan)?;
     let out = output_directory(&args.scenario, args.out.as_deref());
-    report::write_all(&out, &reports)?;
+    report::write_all(&out, &reports, &report::BINNING_FILES)?;
     print!("{}", report::binning_table(&scan));
     for written in &reports {
         println!("wrote {}", out.join(&written.name).display());

@@ -26,7 +26,7 @@ pub fn run(path: &std::path::Path) -> Result<(), Error> {
     let last_day = settings.days.last().copied().unwrap_or_default();
     println!("  asymptotic days to target:");
     for days in &projection.days_to_target {
-        let answer = match (days.asimov_days, days.limit_z) {
+        let answer = match (days.asimov_days, days.saturation_z) {
             (Some(days), _) => format!("{days:.1} days"),
             (None, Some(limit)) if limit < days.target => {
                 format!("never: systematic uncertainties cap Z at {limit:.2} sigma")

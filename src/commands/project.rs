@@ -21,9 +21,15 @@ pub fn run(args: &ProjectArgs) -> Result<(), Error> {
     bar.finish_and_clear();
 
     let reports = report::render_all(&projection)?;
-    report::write_all(&out, &reports)?;
+    let removed = report::write_all(&out, &reports, &report::PROJECTION_FILES)?;
     print!("{}", report::summary(&projection));
     println!("wrote {}", out.display());
+    for name in removed {
+        println!(
+            "removed {} (left from an earlier run)",
+            out.join(name).display()
+        );
+    }
     Ok(())
 }
 

@@ -18,7 +18,8 @@ pub fn run(args: &SpectrumArgs) -> Result<(), Error> {
     let spectrum = pseudo_data_spectrum(&scenario, &args.days, seed);
     let reports = report::render_spectrum(&spectrum)?;
     let out = output_directory(&args.scenario, args.out.as_deref());
-    report::write_all(&out, &reports)?;
+    // Other spectra in the directory are other exposures: nothing is stale.
+    report::write_all(&out, &reports, &[])?;
 
     println!("{}", spectrum.title);
     println!("Pseudo-data with seed {seed}");
