@@ -5,11 +5,13 @@ use super::{DaysToExclusion, DaysToTarget, ExposurePoint, ProjectionError};
 use crate::asymptotic::AsimovSignificance;
 use crate::likelihood::{FitFailure, Likelihood};
 use crate::limits::asymptotic_limits;
-use crate::model::Model;
+use crate::model::{LiveTime, Model};
 use crate::numeric::bisect_log;
 
-/// Days to each target: Z_A root-found, the toy median with Z^2 linear in days,
-/// and the days where 50% and 90% of the pseudo-experiments reach the target.
+/// Days to each target: Z_A root-found, the toy median with Z^2 linear in live
+/// days, and the days where 50% and 90% of the pseudo-experiments reach the
+/// target (interpolated in live days too), each toy crossing mapped back to
+/// the first calendar day with that live time.
 pub(super) fn days_to_targets(
     model: &Model,
     asimov: &mut AsimovSignificance,
@@ -48,7 +50,7 @@ pub(super) fn days_to_targets(
             let crossing = |series: &Option<Vec<f64>>, level| {
                 series
                     .as_ref()
-                    .and_then(|values| first_crossing(&days, values, level))
+                    .and_then(|values| toy_crossing(&model.live_time, points, values, level))
             };
             Ok(DaysToTarget {
                 target,
@@ -63,9 +65,10 @@ pub(super) fn days_to_targets(
 }
 
 /// Days until the median expected limit on mu falls to 1: asymptotically
-/// root-found, and from the toy medians with 1/limit^2 linear in days (exact
-/// when statistics dominate, as the limit then falls as 1/sqrt(exposure);
-/// common practice).
+/// root-found, and from the toy medians with 1/limit^2 linear in live days
+/// (exact when statistics dominate, as the limit then falls as
+/// 1/sqrt(exposure); common practice), mapped back to the first calendar day
+/// with that live time. A point without live time has no limit: 1/limit^2 = 0.
 pub(super) fn days_to_exclusion(
     likelihood: &Likelihood,
     points: &[ExposurePoint],
@@ -93,11 +96,32 @@ pub(super) fn days_to_exclusion(
             })?;
         Ok(1.0 / (limits.median * limits.median))
     })?;
-    let toy_sensitivity = toy_series(points, |p| p.limit_median.map(|l| 1.0 / (l * l)));
+    let toy_sensitivity = toy_series(points, |p| {
+        if p.live_days <= 0.0 {
+            Some(0.0)
+        } else {
+            p.limit_median.map(|l| 1.0 / (l * l))
+        }
+    });
     Ok(DaysToExclusion {
         asimov_days,
-        median_days: toy_sensitivity.and_then(|values| first_crossing(&days, &values, 1.0)),
+        median_days: toy_sensitivity
+            .and_then(|values| toy_crossing(live_time, points, &values, 1.0)),
     })
+}
+
+/// The first calendar day where a toy quantity sampled at the grid points
+/// reaches `level`, interpolated linearly in live days (from 0 at no live
+/// time) and mapped back through the schedule, so a crossing never falls
+/// where no live time accrues.
+fn toy_crossing(
+    live_time: &LiveTime,
+    points: &[ExposurePoint],
+    values: &[f64],
+    level: f64,
+) -> Option<f64> {
+    let live_days: Vec<f64> = points.iter().map(|p| p.live_days).collect();
+    first_crossing(&live_days, values, level).map(|live| live_time.calendar_days(live))
 }
 
 /// A per-point toy quantity over the grid; None when any point lacks it.

@@ -83,7 +83,7 @@ pub struct Calibration {
 pub struct DaysToExclusion {
     /// From the asymptotic median limit (root-found).
     pub asimov_days: Option<f64>,
-    /// From the median of the pseudo-experiment limits (1/limit^2 linear in days).
+    /// From the median of the pseudo-experiment limits (1/limit^2 linear in live days).
     pub median_days: Option<f64>,
 }
 
@@ -103,7 +103,7 @@ pub struct DaysToTarget {
     pub target: f64,
     /// Where the Asimov significance reaches the target (root-found).
     pub asimov_days: Option<f64>,
-    /// Where the toy median reaches the target (Z^2 linear in days between grid points).
+    /// Where the toy median reaches the target (Z^2 linear in live days between grid points).
     pub median_days: Option<f64>,
     /// Where 50% of the pseudo-experiments reach the target.
     pub p50_days: Option<f64>,
