@@ -68,7 +68,8 @@ pub(super) fn days_to_targets(
 /// root-found, and from the toy medians with 1/limit^2 linear in live days
 /// (exact when statistics dominate, as the limit then falls as
 /// 1/sqrt(exposure); common practice), mapped back to the first calendar day
-/// with that live time. A point without live time has no limit: 1/limit^2 = 0.
+/// with that live time. A point without a limit (no live time, or nothing
+/// excluded at any mu) counts as 1/limit^2 = 0.
 pub(super) fn days_to_exclusion(
     likelihood: &Likelihood,
     points: &[ExposurePoint],
@@ -96,12 +97,12 @@ pub(super) fn days_to_exclusion(
             })?;
         Ok(1.0 / (limits.median * limits.median))
     })?;
-    let toy_sensitivity = toy_series(points, |p| {
-        if p.live_days <= 0.0 {
-            Some(0.0)
-        } else {
-            p.limit_median.map(|l| 1.0 / (l * l))
-        }
+    let with_toys = points.iter().any(|p| p.limit_median.is_some());
+    let toy_sensitivity: Option<Vec<f64>> = with_toys.then(|| {
+        points
+            .iter()
+            .map(|p| inverse_squared(p.limit_median))
+            .collect()
     });
     Ok(DaysToExclusion {
         asimov_days,

@@ -43,13 +43,18 @@ pub struct ExposurePoint {
     pub probability: Vec<TargetProbability>,
     /// Pseudo-experiments whose fits failed after all retries (excluded from quantiles).
     pub failed_fits: usize,
-    /// Median expected upper limit on mu from background-only pseudo-experiments.
+    /// Median expected upper limit on mu from background-only pseudo-experiments;
+    /// None without toys or limits, before any live time, or when unbounded
+    /// (no mu is excluded at this exposure).
     pub limit_median: Option<f64>,
-    /// Quantiles 2.3%, 15.9%, 84.1%, 97.7% of the pseudo-experiment limits on mu.
+    /// Quantiles 2.3%, 15.9%, 84.1%, 97.7% of the pseudo-experiment limits on mu;
+    /// None as for `limit_median`, or when one of them is unbounded.
     pub limit_band: Option<[f64; 4]>,
-    /// Median expected upper limit on mu from the asymptotic formulae.
+    /// Median expected upper limit on mu from the asymptotic formulae; None
+    /// without limits, before any live time, or when unbounded.
     pub limit_asimov: Option<f64>,
-    /// Asymptotic expected limits on mu at -2, -1, +1, +2 sigma.
+    /// Asymptotic expected limits on mu at -2, -1, +1, +2 sigma; None as for
+    /// `limit_asimov`, or when one of them is unbounded.
     pub limit_asimov_band: Option<[f64; 4]>,
     /// Background-only pseudo-experiments whose limit could not be computed.
     pub limit_failed_fits: usize,
