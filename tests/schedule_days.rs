@@ -13,7 +13,7 @@ mod common;
 
 use runcast::model::Model;
 use runcast::projection::{Projection, ProjectionSettings, project};
-use statrs::distribution::{ContinuousCDF, Normal};
+use statrs::distribution::{Continuous, ContinuousCDF, Normal};
 
 /// Signal and background events per live day (invented numbers).
 const SIGNAL: f64 = 10.0;
@@ -189,10 +189,11 @@ fn a_leading_pause_keeps_the_toy_days_to_exclusion() {
 #[test]
 fn narrow_peak_demo_with_one_grid_point_agrees_with_asimov() {
     // The shipped demo (a commissioning period at half rate for 20 days) with a
-    // single grid point at day 100: the toy-median days to 3 sigma and to
-    // exclusion agree with the root-found Asimov days within the toy
-    // statistics (with many counts the toy medians follow Z_A and the Asimov
-    // limit; Cowan et al. 2011, sec. 5.1 and eqs. 88-89).
+    // single grid point at day 100: the toy-median days to 3 sigma, the day
+    // 50% of the toys reach it, and the days to exclusion agree with the
+    // root-found Asimov days within the toy statistics (with many counts the
+    // toy medians follow Z_A and the Asimov limit; Cowan et al. 2011, sec. 5.1
+    // and eqs. 88-89).
     let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("scenarios/narrow_peak.yaml");
     let scenario = runcast::scenario::Scenario::load(&path).expect("demo scenario");
     let model = Model::from_scenario(&scenario);
@@ -208,12 +209,28 @@ fn narrow_peak_demo_with_one_grid_point_agrees_with_asimov() {
     let projection = project(&model, &settings, &|_| {}).expect("projection");
     let point = &projection.points[0];
     let row = &projection.days_to_target[0];
-    let asimov = row.asimov_days.expect("Asimov 3 sigma within the grid");
+    let asimov_three_sigma = row.asimov_days.expect("Asimov 3 sigma within the grid");
     let median = row.median_days.expect("toy 3 sigma within the grid");
-    let tolerance = toy_tolerance(asimov, point.z_median.unwrap());
+    let tolerance = toy_tolerance(asimov_three_sigma, point.z_median.unwrap());
     assert!(
-        (median - asimov).abs() < tolerance,
-        "toy median at {median} d, Asimov {asimov} d (tolerance {tolerance})"
+        (median - asimov_three_sigma).abs() < tolerance,
+        "toy median at {median} d, Asimov {asimov_three_sigma} d (tolerance {tolerance})"
+    );
+    // The day 50% of the toys reach 3 sigma is where the median does: the
+    // fraction P at the grid point has a binomial error sqrt(P (1 - P)/N),
+    // which moves the significance it stands for, 3 + Phi^-1(P) (Cowan et al.
+    // 2011, sec. 5.1), by that error over the normal density at Phi^-1(P).
+    let normal = Normal::standard();
+    let fraction = point.probability[0].toys.unwrap();
+    let quantile = normal.inverse_cdf(fraction);
+    let spread = (fraction * (1.0 - fraction) / TOYS as f64).sqrt() / normal.pdf(quantile);
+    let half = row
+        .p50_days
+        .expect("50% of toys reach 3 sigma within the grid");
+    let tolerance = 4.0 * asimov_three_sigma * 2.0 * spread / (3.0 + quantile);
+    assert!(
+        (half - asimov_three_sigma).abs() < tolerance,
+        "50% of toys at {half} d, Asimov {asimov_three_sigma} d (tolerance {tolerance})"
     );
     let exclusion = &projection.days_to_exclusion;
     let asimov = exclusion

@@ -110,7 +110,9 @@ pub struct DaysToTarget {
     pub asimov_days: Option<f64>,
     /// Where the toy median reaches the target (Z^2 linear in live days between grid points).
     pub median_days: Option<f64>,
-    /// Where 50% of the pseudo-experiments reach the target.
+    /// Where 50% of the pseudo-experiments reach the target (the fraction read
+    /// as the median significance it stands for, whose square is interpolated
+    /// linearly in live days).
     pub p50_days: Option<f64>,
     /// Where 90% of the pseudo-experiments reach the target.
     pub p90_days: Option<f64>,
