@@ -76,8 +76,11 @@ impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
             .transpose()
             .map_err(failed("background-only Asimov fit for expected limits"))?;
         // An unbounded median limit leaves no sigma_A to run the toys with:
-        // nothing can be excluded at this exposure.
+        // nothing can be excluded at this exposure, and its toys are skipped.
         let bounded = limits.filter(|limits| limits.median.is_finite());
+        if limits.is_some() && bounded.is_none() {
+            (self.progress)(toys as u64);
+        }
         let toy_limits = bounded.filter(|_| toys > 0).map(|limits| {
             let alpha = 1.0 - settings.cl.unwrap_or_default();
             toy_limit_ensemble(
