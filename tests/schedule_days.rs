@@ -13,6 +13,7 @@ mod common;
 
 use runcast::model::Model;
 use runcast::projection::{Projection, ProjectionSettings, project};
+use runcast::scenario::Period;
 use statrs::distribution::{Continuous, ContinuousCDF, Normal};
 
 /// Signal and background events per live day (invented numbers).
@@ -189,17 +190,41 @@ fn a_leading_pause_keeps_the_toy_days_to_exclusion() {
 #[test]
 fn narrow_peak_demo_with_one_grid_point_agrees_with_asimov() {
     // The shipped demo (a commissioning period at half rate for 20 days) with a
-    // single grid point at day 100: the toy-median days to 3 sigma, the day
-    // 50% of the toys reach it, and the days to exclusion agree with the
-    // root-found Asimov days within the toy statistics (with many counts the
-    // toy medians follow Z_A and the Asimov limit; Cowan et al. 2011, sec. 5.1
-    // and eqs. 88-89).
+    // single grid point at day 100.
+    demo_with_one_grid_point_agrees_with_asimov(&[], 100.0);
+}
+
+#[test]
+fn narrow_peak_demo_with_a_pause_agrees_with_asimov() {
+    // The same with no beam from day 20 to 120, one grid point at day 200:
+    // every day found lies after the pause.
+    let pause = Period {
+        days: 100.0,
+        rate_scale: 0.0,
+    };
+    let projection = demo_with_one_grid_point_agrees_with_asimov(&[pause], 200.0);
+    for day in [
+        projection.days_to_target[0].median_days,
+        projection.days_to_target[0].p50_days,
+        projection.days_to_exclusion.median_days,
+    ] {
+        assert!(day.unwrap() > 120.0, "{day:?} d, not after the pause");
+    }
+}
+
+/// The narrow-peak demo with `periods` added to its schedule and one grid
+/// point at `day`: the toy-median days to 3 sigma, the day 50% of the toys
+/// reach it, and the days to exclusion agree with the root-found Asimov days
+/// within the toy statistics (with many counts the toy medians follow Z_A and
+/// the Asimov limit; Cowan et al. 2011, sec. 5.1 and eqs. 88-89).
+fn demo_with_one_grid_point_agrees_with_asimov(periods: &[Period], day: f64) -> Projection {
     let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("scenarios/narrow_peak.yaml");
-    let scenario = runcast::scenario::Scenario::load(&path).expect("demo scenario");
+    let mut scenario = runcast::scenario::Scenario::load(&path).expect("demo scenario");
+    scenario.schedule.periods.extend(periods.iter().cloned());
     let model = Model::from_scenario(&scenario);
     let settings = ProjectionSettings {
         title: scenario.title.clone(),
-        days: vec![100.0],
+        days: vec![day],
         toys: TOYS,
         seed: scenario.plan.seed,
         targets: vec![3.0],
@@ -244,4 +269,5 @@ fn narrow_peak_demo_with_one_grid_point_agrees_with_asimov() {
         (median - asimov).abs() < tolerance,
         "toy exclusion at {median} d, Asimov {asimov} d (tolerance {tolerance})"
     );
+    projection
 }
