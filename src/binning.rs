@@ -166,7 +166,7 @@ pub fn signal_peak(spec: &ShapeSpec, range: [f64; 2]) -> SignalPeak {
 /// rounding of its maximum.
 fn densest_point(spec: &ShapeSpec, range: [f64; 2]) -> f64 {
     const POINTS: usize = 1001;
-    let shape = shape_from_spec(spec);
+    let shape = shape_from_spec(spec, range);
     let parameters = shape.nominal_parameters();
     let grid: Vec<(f64, f64)> = (0..POINTS)
         .map(|i| {

@@ -1,10 +1,14 @@
 //! A bounded Newton minimiser for -ln L.
 //!
-//! Each iteration solves H d = -g on the parameters that are free and not held
-//! at a bound, adding a Levenberg-Marquardt damping term to H when it is not
-//! positive definite, then backtracks along d (projected on the bounds) until
-//! the Armijo condition holds (Nocedal and Wright, Numerical Optimization, 2nd
-//! ed., Springer 2006, ch. 3 and 10). Convergence is declared when the Newton
+//! Parameters have bounds (mu >= 0, yield factors >= 0, shape parameters as
+//! their shape declares) and the minimiser keeps to them as bounds: each
+//! iteration holds the parameters that sit at a bound with the gradient
+//! pointing outwards (the active set), solves H d = -g on the others, adding a
+//! Levenberg-Marquardt damping term to H when it is not positive definite,
+//! then backtracks along the projection of theta + s d on the bounds until
+//! the Armijo condition holds for the projected point (Bertsekas, SIAM J.
+//! Control Optim. 20 (1982) 221; Nocedal and Wright, Numerical Optimization,
+//! 2nd ed., Springer 2006, ch. 3, 10 and 16.7). Convergence is declared when the Newton
 //! decrement -g.d, the expected drop of -ln L, falls below 1e-10.
 
 use super::linear::solve_positive_definite;
@@ -56,6 +60,8 @@ pub struct Fitter<'l, 'm> {
     reduced_hessian: Vec<f64>,
     reduced_step: Vec<f64>,
     step: Vec<f64>,
+    /// The gradient at theta, kept while the line search overwrites the workspace's.
+    gradient: Vec<f64>,
 }
 
 impl<'l, 'm> Fitter<'l, 'm> {
@@ -71,6 +77,7 @@ impl<'l, 'm> Fitter<'l, 'm> {
             reduced_hessian: vec![0.0; parameters * parameters],
             reduced_step: vec![0.0; parameters],
             step: vec![0.0; parameters],
+            gradient: vec![0.0; parameters],
         }
     }
 
@@ -188,7 +195,7 @@ impl<'l, 'm> Fitter<'l, 'm> {
             if decrement < CONVERGED_DECREMENT {
                 return Ok(nll);
             }
-            match self.line_search(live_days, data, nll, decrement) {
+            match self.line_search(live_days, data, nll) {
                 Some(trial_nll) => {
                     std::mem::swap(&mut self.theta, &mut self.trial);
                     nll = trial_nll;
@@ -256,27 +263,28 @@ impl<'l, 'm> Fitter<'l, 'm> {
         Ok(decrement)
     }
 
-    /// Backtracks from a full Newton step; leaves the accepted point in
-    /// `self.trial` and its derivatives in the workspace. The full step, which
-    /// is almost always accepted, is evaluated with its derivatives at once.
-    /// A step too short to change any parameter is no step: the search stops
-    /// there rather than accept the starting point again.
-    fn line_search(
-        &mut self,
-        live_days: f64,
-        data: &Dataset,
-        nll: f64,
-        decrement: f64,
-    ) -> Option<f64> {
+    /// Backtracks from a full Newton step along the projected path
+    /// P(theta + s d), P clamping to the bounds; leaves the accepted point in
+    /// `self.trial` and its derivatives in the workspace. A point is accepted
+    /// when -ln L falls by at least ARMIJO g.(theta - trial), the decrease
+    /// predicted for the projected point itself, so a step cut short by a
+    /// bound is judged by what it moved (Bertsekas, SIAM J. Control Optim. 20
+    /// (1982) 221, the Armijo rule along the projection arc). The full step,
+    /// which is almost always accepted, is evaluated with its derivatives at
+    /// once. A step too short to change any parameter is no step: the search
+    /// stops there rather than accept the starting point again.
+    fn line_search(&mut self, live_days: f64, data: &Dataset, nll: f64) -> Option<f64> {
         let likelihood = self.likelihood;
+        self.gradient.copy_from_slice(&self.work.gradient);
         self.set_trial(1.0);
+        let predicted = self.predicted_decrease();
         let full_nll = likelihood.negative_log_likelihood_with_derivatives(
             &self.trial,
             live_days,
             data,
             &mut self.work,
         );
-        if full_nll <= nll - ARMIJO * decrement {
+        if sufficient_decrease(nll, full_nll, predicted) {
             return Some(full_nll);
         }
         let mut scale = 1.0;
@@ -286,9 +294,10 @@ impl<'l, 'm> Fitter<'l, 'm> {
             if self.trial == self.theta {
                 return None;
             }
+            let predicted = self.predicted_decrease();
             let trial_nll =
                 likelihood.negative_log_likelihood(&self.trial, live_days, data, &mut self.work);
-            if trial_nll <= nll - ARMIJO * scale * decrement {
+            if sufficient_decrease(nll, trial_nll, predicted) {
                 return Some(likelihood.negative_log_likelihood_with_derivatives(
                     &self.trial,
                     live_days,
@@ -300,6 +309,15 @@ impl<'l, 'm> Fitter<'l, 'm> {
         None
     }
 
+    /// g.(theta - trial): the first-order decrease of -ln L from theta to the trial point.
+    fn predicted_decrease(&self) -> f64 {
+        self.gradient
+            .iter()
+            .zip(self.theta.iter().zip(&self.trial))
+            .map(|(g, (theta, trial))| g * (theta - trial))
+            .sum()
+    }
+
     /// `self.trial` = theta + scale x step, projected on the bounds.
     fn set_trial(&mut self, scale: f64) {
         let parameters = &self.likelihood.model().parameters;
@@ -308,4 +326,11 @@ impl<'l, 'm> Fitter<'l, 'm> {
                 .clamp(parameter.lower, parameter.upper);
         }
     }
+}
+
+/// The Armijo condition: -ln L fell from `nll` to `trial_nll` by at least
+/// ARMIJO times the first-order `predicted` decrease, which must be positive
+/// (a projected point that is no descent to first order is not accepted).
+fn sufficient_decrease(nll: f64, trial_nll: f64, predicted: f64) -> bool {
+    predicted > 0.0 && trial_nll <= nll - ARMIJO * predicted
 }

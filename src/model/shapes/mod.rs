@@ -15,7 +15,7 @@ pub use breit_wigner::BreitWigner;
 pub use exponential::Exponential;
 pub use flat::Flat;
 pub use gaussian::Gaussian;
-pub use polynomial::Polynomial;
+pub use polynomial::{MAX_DEGREE as MAX_POLYNOMIAL_DEGREE, Polynomial, PolynomialError};
 
 /// A normalised density on a range, with parameters that may float in fits.
 ///
@@ -32,6 +32,19 @@ pub trait Shape: std::fmt::Debug + Send + Sync {
 
     /// The parameter values given in the scenario.
     fn nominal_parameters(&self) -> Vec<f64>;
+
+    /// The lowest value of each parameter inside the domain, a bound a fit
+    /// holds it at; minus infinity by default.
+    fn parameter_lower_bounds(&self) -> Vec<f64> {
+        vec![f64::NEG_INFINITY; self.nominal_parameters().len()]
+    }
+
+    /// Whether the fractions depend only on the ratios of the parameters, so
+    /// that multiplying all of them by one positive factor changes nothing.
+    /// A fit then fixes that factor (see the likelihood's gauge term).
+    fn scale_free(&self) -> bool {
+        false
+    }
 
     /// Fraction of the density (normalised on `[edges[0], edges[last]]`) inside
     /// each bin `[edges[i], edges[i + 1]]`, written to `fractions` (length
