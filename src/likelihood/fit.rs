@@ -22,6 +22,13 @@ const CONVERGED_DECREMENT: f64 = 1e-10;
 /// Below this decrement a step that cannot lower -ln L is rounding, not failure.
 const ROUNDING_DECREMENT: f64 = 1e-6;
 const ARMIJO: f64 = 1e-4;
+/// First damping (relative to the largest diagonal of H) tried when H is not
+/// positive definite, and after a step that no backtracking could accept.
+const INDEFINITE_DAMPING: f64 = 1e-8;
+const FAILED_STEP_DAMPING: f64 = 1e-4;
+/// Beyond this damping the step is the gradient shrunk a hundred-millionfold:
+/// nothing left to try.
+const MAX_DAMPING: f64 = 1e8;
 
 /// Why a fit did not converge.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -186,22 +193,36 @@ impl<'l, 'm> Fitter<'l, 'm> {
         if !nll.is_finite() {
             return Err(FitFailure::InvalidStart);
         }
+        let mut damping_floor = 0.0;
         for _ in 0..MAX_ITERATIONS {
             self.select_free_parameters(fixed_mu.is_some());
             if self.free.is_empty() {
                 return Ok(nll);
             }
-            let decrement = self.newton_step()?;
-            if decrement < CONVERGED_DECREMENT {
+            let decrement = self.newton_step(damping_floor)?;
+            if decrement < CONVERGED_DECREMENT && damping_floor == 0.0 {
                 return Ok(nll);
             }
             match self.line_search(live_days, data, nll) {
                 Some(trial_nll) => {
                     std::mem::swap(&mut self.theta, &mut self.trial);
                     nll = trial_nll;
+                    damping_floor = 0.0;
                 }
-                None if decrement < ROUNDING_DECREMENT => return Ok(nll),
-                None => return Err(FitFailure::LineSearch),
+                None if decrement < ROUNDING_DECREMENT && damping_floor == 0.0 => return Ok(nll),
+                None => {
+                    damping_floor = next_damping(damping_floor, FAILED_STEP_DAMPING);
+                    if damping_floor > MAX_DAMPING {
+                        return Err(FitFailure::LineSearch);
+                    }
+                    // The search left the derivatives of a rejected point behind.
+                    likelihood.negative_log_likelihood_with_derivatives(
+                        &self.theta,
+                        live_days,
+                        data,
+                        &mut self.work,
+                    );
+                }
             }
         }
         Err(FitFailure::IterationLimit)
@@ -224,9 +245,16 @@ impl<'l, 'm> Fitter<'l, 'm> {
         }
     }
 
-    /// Solves the damped Newton system on the free parameters into `self.step`
-    /// (full length, zero on held parameters); returns the decrement -g.d.
-    fn newton_step(&mut self) -> Result<f64, FitFailure> {
+    /// Solves the damped Newton system (H + lambda max_a |H_aa| I) d = -g on
+    /// the free parameters into `self.step` (full length, zero on held
+    /// parameters), with lambda the smallest of `damping_floor` and its
+    /// tenfold steps for which H + ... is positive definite; returns the
+    /// decrement -g.d. A floor above zero follows a step that failed: where
+    /// -ln L is nearly flat or concave along some direction (a shape fitted
+    /// to a handful of events) the Newton step can be absurdly long, and
+    /// damping turns it towards the gradient until it is short enough
+    /// (Levenberg-Marquardt; Nocedal and Wright, ch. 10.3).
+    fn newton_step(&mut self, damping_floor: f64) -> Result<f64, FitFailure> {
         let parameters = self.likelihood.parameter_count();
         let free = self.free.len();
         let largest_diagonal = self
@@ -235,7 +263,7 @@ impl<'l, 'm> Fitter<'l, 'm> {
             .map(|&a| self.work.hessian[a * parameters + a].abs())
             .fold(0.0, f64::max)
             .max(1e-300);
-        let mut damping = 0.0;
+        let mut damping = damping_floor;
         let reduced_step = &mut self.reduced_step[..free];
         loop {
             for (i, &a) in self.free.iter().enumerate() {
@@ -249,8 +277,8 @@ impl<'l, 'm> Fitter<'l, 'm> {
             {
                 break;
             }
-            damping = if damping == 0.0 { 1e-8 } else { damping * 10.0 };
-            if damping > 1e8 {
+            damping = next_damping(damping, INDEFINITE_DAMPING);
+            if damping > MAX_DAMPING {
                 return Err(FitFailure::Curvature);
             }
         }
@@ -333,4 +361,13 @@ impl<'l, 'm> Fitter<'l, 'm> {
 /// (a projected point that is no descent to first order is not accepted).
 fn sufficient_decrease(nll: f64, trial_nll: f64, predicted: f64) -> bool {
     predicted > 0.0 && trial_nll <= nll - ARMIJO * predicted
+}
+
+/// The damping after `damping`: `first` from zero, then tenfold.
+fn next_damping(damping: f64, first: f64) -> f64 {
+    if damping == 0.0 {
+        first
+    } else {
+        damping * 10.0
+    }
 }
