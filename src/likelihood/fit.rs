@@ -29,6 +29,9 @@ const FAILED_STEP_DAMPING: f64 = 1e-4;
 /// Beyond this damping the step is the gradient shrunk a hundred-millionfold:
 /// nothing left to try.
 const MAX_DAMPING: f64 = 1e8;
+/// Damping is proportional to each diagonal entry of H, but at least this
+/// fraction of the largest, so that a flat direction is damped too.
+const SMALLEST_DAMPED_DIAGONAL: f64 = 1e-12;
 
 /// Why a fit did not converge.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -41,6 +44,9 @@ pub enum FitFailure {
     Curvature,
     /// The iteration limit was reached.
     IterationLimit,
+    /// A test statistic never crosses the threshold sought (no upper limit):
+    /// it stays below or jumps across it.
+    NoCrossing,
 }
 
 impl fmt::Display for FitFailure {
@@ -50,6 +56,9 @@ impl fmt::Display for FitFailure {
             FitFailure::LineSearch => "no step lowered the negative log-likelihood",
             FitFailure::Curvature => "the Hessian could not be made positive definite",
             FitFailure::IterationLimit => "the iteration limit was reached",
+            FitFailure::NoCrossing => {
+                "no upper limit: the test statistic does not cross its CLs threshold"
+            }
         };
         f.write_str(text)
     }
@@ -245,11 +254,14 @@ impl<'l, 'm> Fitter<'l, 'm> {
         }
     }
 
-    /// Solves the damped Newton system (H + lambda max_a |H_aa| I) d = -g on
-    /// the free parameters into `self.step` (full length, zero on held
-    /// parameters), with lambda the smallest of `damping_floor` and its
-    /// tenfold steps for which H + ... is positive definite; returns the
-    /// decrement -g.d. A floor above zero follows a step that failed: where
+    /// Solves the damped Newton system (H + lambda D) d = -g on the free
+    /// parameters into `self.step` (full length, zero on held parameters),
+    /// with lambda the smallest of `damping_floor` and its tenfold steps for
+    /// which the matrix is positive definite; returns the decrement -g.d. D is
+    /// the diagonal of |H| (raised to 1e-12 of its largest entry), so damping
+    /// treats parameters of very different scales alike (a signal strength
+    /// whose unit is a million events beside shape coefficients of order
+    /// one; Marquardt, J. SIAM 11 (1963) 431). A floor above zero follows a step that failed: where
     /// -ln L is nearly flat or concave along some direction (a shape fitted
     /// to a handful of events) the Newton step can be absurdly long, and
     /// damping turns it towards the gradient until it is short enough
@@ -270,7 +282,9 @@ impl<'l, 'm> Fitter<'l, 'm> {
                 for (k, &b) in self.free.iter().enumerate() {
                     self.reduced_hessian[i * free + k] = self.work.hessian[a * parameters + b];
                 }
-                self.reduced_hessian[i * free + i] += damping * largest_diagonal;
+                let diagonal = self.work.hessian[a * parameters + a].abs();
+                self.reduced_hessian[i * free + i] +=
+                    damping * diagonal.max(SMALLEST_DAMPED_DIAGONAL * largest_diagonal);
                 reduced_step[i] = -self.work.gradient[a];
             }
             if solve_positive_definite(&mut self.reduced_hessian[..free * free], reduced_step, free)

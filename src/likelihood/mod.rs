@@ -164,6 +164,7 @@ impl<'m> Likelihood<'m> {
                 if term.floating.is_none() {
                     term.shape
                         .bin_fractions(term.fixed_parameters, term.edges, &mut fractions);
+                    raise_underflow(&mut fractions);
                 }
                 fractions
             })
@@ -267,6 +268,7 @@ impl<'m> Likelihood<'m> {
                 term.shape
                     .bin_fractions(parameters, term.edges, &mut work.fractions[index]);
             }
+            raise_underflow(&mut work.fractions[index]);
         }
     }
 
@@ -566,6 +568,28 @@ impl Term<'_> {
         self.events_per_live_day
             * live_days
             * product_except(theta, self.yield_parameters, usize::MAX)
+    }
+}
+
+/// The smallest bin fraction a shape is given, 1e-100.
+const FRACTION_FLOOR: f64 = 1e-100;
+
+/// Raises bin fractions between zero and [`FRACTION_FLOOR`] to it (leaving
+/// NaN ones, which mark parameters outside the shape's domain). A density's
+/// far tail (beyond about 38 sigma of a Gaussian) underflows to zero in double
+/// precision, and a count in a bin that only such tails reach would make
+/// -ln L infinite at every parameter value, so no fit could start. With the
+/// floor one event there weighs against a hypothesis without other
+/// components in that bin by about ln(1e100) = 230, a significance of about
+/// 21 sigma: below the true, astronomically large one, but beyond any target
+/// a projection is asked for. A fraction this small changes no expectation
+/// that has any other component in it, even in its last bit. Expectations
+/// that vanish because a yield parameter is zero stay zero.
+fn raise_underflow(fractions: &mut [f64]) {
+    for fraction in fractions.iter_mut() {
+        if (0.0..FRACTION_FLOOR).contains(fraction) {
+            *fraction = FRACTION_FLOOR;
+        }
     }
 }
 

@@ -41,7 +41,7 @@ pub fn asymptotic_limits(
         let limit = solve_increasing(1.0, level, |mu| {
             Ok(test.q_tilde(live_days, &data, mu)?.sqrt())
         })?;
-        Ok(limit.unwrap_or(f64::INFINITY))
+        limit.ok_or(FitFailure::NoCrossing)
     };
     let median = limit_at(0.0)?;
     let band = [
@@ -94,7 +94,7 @@ pub fn toy_limit_ensemble(
             streams,
             plan,
             || (),
-            |(), data| Some(window.upper_limit(data, alpha)),
+            |(), data| window.upper_limit(data, alpha),
         ),
         None => run_ensemble(
             &generator,
@@ -201,8 +201,9 @@ impl CountingWindow {
     }
 
     /// The exact CLs limit of one pseudo-experiment, the yields smeared by
-    /// their constraints around its global observables.
-    fn upper_limit(&self, data: &Dataset, alpha: f64) -> f64 {
+    /// their constraints around its global observables; None (a failure) when
+    /// no limit is found.
+    fn upper_limit(&self, data: &Dataset, alpha: f64) -> Option<f64> {
         let observed = &data.global_observables;
         let signal = match self.signal_constraint {
             Some((index, width)) => UncertainYield::gaussian(

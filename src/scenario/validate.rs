@@ -802,24 +802,30 @@ plan:
         // elsewhere: a valid density, but one without non-negative Bernstein
         // coefficients at any degree (Lorentz, Bernstein Polynomials, 1953,
         // ch. 1.1), so it cannot float.
-        let touching = with(
-            "coefficients: [1.0, 0.01]",
-            "coefficients: [2500, -100, 1]",
-        );
+        let touching = with("coefficients: [1.0, 0.01]", "coefficients: [2500, -100, 1]");
         accepted(&touching.replace("float_shape: true", "float_shape: false"));
         let (field, message) = rejection(&touching);
         assert_eq!(field, "backgrounds[1].float_shape");
-        assert!(message.contains("touches or nearly touches zero"), "{message}");
+        assert!(
+            message.contains("touches or nearly touches zero"),
+            "{message}"
+        );
     }
 
     /// x^2 - 5e-4 x + 5.25e-8 is negative between its roots 1.5e-4 and
     /// 3.5e-4 (closed form), between the points of any coarse grid on [0, 1].
     #[test]
     fn polynomial_with_a_narrow_dip_is_rejected() {
-        let text = with("range: [0.0, 100.0], bin_width: 0.5", "range: [0.0, 1.0], bin_width: 0.0001")
-            .replace("mean: 50.0", "mean: 0.5")
-            .replace("sigma: 1.5", "sigma: 0.01")
-            .replace("coefficients: [1.0, 0.01]", "coefficients: [5.25e-8, -5e-4, 1]");
+        let text = with(
+            "range: [0.0, 100.0], bin_width: 0.5",
+            "range: [0.0, 1.0], bin_width: 0.0001",
+        )
+        .replace("mean: 50.0", "mean: 0.5")
+        .replace("sigma: 1.5", "sigma: 0.01")
+        .replace(
+            "coefficients: [1.0, 0.01]",
+            "coefficients: [5.25e-8, -5e-4, 1]",
+        );
         let (field, message) = rejection(&text);
         assert_eq!(field, "backgrounds[1].shape.polynomial.coefficients");
         assert!(message.contains("at x = 0.00025"), "{message}");
@@ -828,7 +834,10 @@ plan:
     #[test]
     fn polynomial_degree_is_limited() {
         let terms = vec!["1"; 22].join(", ");
-        let text = with("coefficients: [1.0, 0.01]", &format!("coefficients: [{terms}]"));
+        let text = with(
+            "coefficients: [1.0, 0.01]",
+            &format!("coefficients: [{terms}]"),
+        );
         let (field, message) = rejection(&text);
         assert_eq!(field, "backgrounds[1].shape.polynomial.coefficients");
         assert!(message.contains("at most 21 coefficients"), "{message}");

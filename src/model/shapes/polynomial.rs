@@ -266,9 +266,8 @@ impl Polynomial {
                 }
             }
         });
-        let valid = total > 0.0
-            && total.is_finite()
-            && fractions.iter().all(|&mass| mass >= -allowance);
+        let valid =
+            total > 0.0 && total.is_finite() && fractions.iter().all(|&mass| mass >= -allowance);
         if !valid {
             mark_invalid(fractions);
             if let Some(gradient) = gradient {
@@ -615,7 +614,12 @@ mod tests {
                 (1.0 / 3f64.sqrt(), -2.0 / (3.0 * 3f64.sqrt())),
             ),
             (vec![0.0, -5.0, 0.0, 0.0, 0.0, 1.0], 0.0, 2.0, (1.0, -4.0)),
-            (vec![0.0, -5.0, 0.0, 0.0, 0.0, 1.0], -2.0, 0.0, (-2.0, -22.0)),
+            (
+                vec![0.0, -5.0, 0.0, 0.0, 0.0, 1.0],
+                -2.0,
+                0.0,
+                (-2.0, -22.0),
+            ),
         ];
         for (coefficients, low, high, (at, minimum)) in cases {
             let (found_at, found) = lowest_below_zero(&coefficients, low, high).unwrap();
@@ -637,7 +641,10 @@ mod tests {
         assert!(!touching.can_float());
         let fractions = nominal_fractions(&coefficients, &[-1.0, -0.5, 0.0, 1.0]);
         let total = 23.0 / 120.0;
-        for (fraction, mass) in fractions.iter().zip([19.0 / 240.0, 1.0 / 60.0, 23.0 / 240.0]) {
+        for (fraction, mass) in fractions
+            .iter()
+            .zip([19.0 / 240.0, 1.0 / 60.0, 23.0 / 240.0])
+        {
             assert!((fraction - mass / total).abs() < 1e-14, "{fraction}");
         }
         let dipping = [0.0625 - 1e-6, 0.0, -0.5, 0.0, 1.0];
