@@ -217,6 +217,29 @@ fn validate_backgrounds(backgrounds: &[Background], range: Range) -> Checked {
             require_positive(&field("control.ratio"), control.ratio)?;
         }
     }
+    refuse_indistinguishable_backgrounds(backgrounds)
+}
+
+/// Two backgrounds with free normalisations and the same shape: only the sum
+/// of their yields enters the likelihood, so the fit cannot tell them apart
+/// (a flat direction of -ln L, no unique minimum).
+fn refuse_indistinguishable_backgrounds(backgrounds: &[Background]) -> Checked {
+    let free = |background: &Background| {
+        background.control.is_none() && background.norm_uncertainty == Some(NormUncertainty::Free)
+    };
+    for (index, background) in backgrounds.iter().enumerate() {
+        let twin = backgrounds[..index].iter().position(|earlier| {
+            free(earlier) && free(background) && earlier.shape == background.shape
+        });
+        if let Some(first) = twin {
+            return Err(ScenarioError::invalid(
+                format!("backgrounds[{index}].norm_uncertainty"),
+                format!(
+                    "backgrounds[{first}] and backgrounds[{index}] have the same shape and both normalisations free, so no fit can tell them apart; merge them into one background or constrain one normalisation"
+                ),
+            ));
+        }
+    }
     Ok(())
 }
 
@@ -829,6 +852,22 @@ plan:
         let (field, message) = rejection(&text);
         assert_eq!(field, "backgrounds[1].shape.polynomial.coefficients");
         assert!(message.contains("at x = 0.00025"), "{message}");
+    }
+
+    #[test]
+    fn two_free_backgrounds_with_one_shape_are_refused() {
+        let text = with(
+            "shape: {exponential: {slope: -0.02}}\n    norm_uncertainty: 0.05",
+            "shape: {polynomial: {coefficients: [1.0, 0.01]}}\n    norm_uncertainty: free",
+        );
+        let (field, message) = rejection(&text);
+        assert_eq!(field, "backgrounds[1].norm_uncertainty");
+        assert!(
+            message.contains("backgrounds[0] and backgrounds[1]"),
+            "{message}"
+        );
+        // A constraint on either normalisation tells them apart.
+        accepted(&text.replacen("norm_uncertainty: free", "norm_uncertainty: 0.1", 1));
     }
 
     #[test]

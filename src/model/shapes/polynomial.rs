@@ -79,7 +79,7 @@ impl Polynomial {
             bernstein = original;
         }
         let mean = bernstein.iter().sum::<f64>() / bernstein.len() as f64;
-        if !(mean > 0.0) {
+        if mean.is_nan() || mean <= 0.0 {
             return Err(PolynomialError::Zero);
         }
         bernstein.iter_mut().for_each(|beta| *beta /= mean);
