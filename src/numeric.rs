@@ -62,7 +62,7 @@ const JUMP_SLOPE_RATIO: f64 = 1e3;
 /// takes two dozen.
 ///
 /// A root is only returned where the function crosses `level`: None when the
-/// final bracket holds a jump (its slope more than [`JUMP_SLOPE_RATIO`] times
+/// final bracket holds a jump (its slope more than `JUMP_SLOPE_RATIO` times
 /// the first bracket's; a failed evaluation or a step in the function would
 /// otherwise come back as a root next to a bracket end) or when the
 /// iterations run out.

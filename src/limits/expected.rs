@@ -74,7 +74,7 @@ fn background_only(likelihood: &Likelihood) -> Vec<f64> {
 ///
 /// A single counting window whose uncertainties are all Gaussian constraints on
 /// yields gets the exact Poisson CLs limit, averaged over those constraints
-/// around each pseudo-experiment's global observables ([`CountingWindow`]).
+/// around each pseudo-experiment's global observables (`CountingWindow`).
 /// Otherwise each pseudo-experiment's q~_mu comes from profile-likelihood fits,
 /// which carry the systematic uncertainties, and its CLs from the asymptotic
 /// formulae with sigma = `sigma` (the Asimov sigma_A).

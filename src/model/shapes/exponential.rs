@@ -30,7 +30,7 @@ const SHARED_HALF_WIDTH: f64 = 1e-12;
 /// expm1 keeps slopes near zero exact, and every bin keeps its relative
 /// precision, however far from r. Walking outwards from r, exp(-k d) is carried
 /// from bin to bin by the factor exp(-k w) and recomputed exactly every
-/// [`ANCHOR_INTERVAL`] bins, and equal widths share one expm1, so a uniform
+/// `ANCHOR_INTERVAL` bins, and equal widths share one expm1, so a uniform
 /// binning costs a multiplication per bin. Parameters: `["slope"]`.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Exponential {
@@ -74,9 +74,14 @@ impl Shape for Exponential {
     }
 
     /// Analytic derivative: d ln m / d slope is the mean of x over the bin, so
-    /// d f_i / d slope = f_i (<x>_bin - <x>_range). On an interval of centre c
-    /// and half width h, <x> = c + h L(slope h), with L(y) = coth(y) - 1/y the
-    /// Langevin function (closed form of the truncated exponential mean).
+    ///
+    /// ```text
+    /// d f_i / d slope = f_i (<x>_bin - <x>_range).
+    /// ```
+    ///
+    /// On an interval of centre c and half width h, `<x> = c + h L(slope h)`,
+    /// with L(y) = coth(y) - 1/y the Langevin function (closed form of the
+    /// truncated exponential mean).
     fn bin_fractions_with_gradient(
         &self,
         params: &[f64],
@@ -93,7 +98,11 @@ impl Shape for Exponential {
     }
 
     /// d2 ln m / d slope2 is the variance of x over the bin, so
+    ///
+    /// ```text
     /// d2 f_i / d slope2 = f_i [(<x>_bin - <x>_range)^2 + Var_bin - Var_range].
+    /// ```
+    ///
     /// On an interval of half width h, Var = h^2 L'(slope h) with
     /// L'(y) = 1/y^2 - 1/sinh^2 y, the derivative of the Langevin function.
     fn bin_fraction_curvatures(

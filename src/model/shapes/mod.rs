@@ -52,11 +52,11 @@ pub trait Shape: std::fmt::Debug + Send + Sync {
     fn bin_fractions(&self, params: &[f64], edges: &[f64], fractions: &mut [f64]);
 
     /// Bin fractions and their derivatives in each parameter:
-    /// `gradient[k * bins + i]` = d fraction_i / d params[k].
+    /// `gradient[k * bins + i]` = d fraction_i / d `params[k]`.
     ///
     /// The default uses central finite differences of [`Shape::bin_fractions`];
     /// shapes whose parameters commonly float override it analytically. It
-    /// allocates nothing for up to [`STACK_PARAMETERS`] parameters: each row of
+    /// allocates nothing for up to `STACK_PARAMETERS` parameters: each row of
     /// `gradient` holds the upper fractions and `fractions` the lower ones
     /// until the difference is taken.
     fn bin_fractions_with_gradient(
@@ -85,7 +85,7 @@ pub trait Shape: std::fmt::Debug + Send + Sync {
     }
 
     /// Second derivatives of the bin fractions in the parameters,
-    /// `curvatures[(k * n + l) * bins + i]` = d2 fraction_i / d params[k] d params[l]
+    /// `curvatures[(k * n + l) * bins + i]` = d2 fraction_i / d `params[k]` d `params[l]`
     /// with n = `params.len()`, given the `fractions` of the same parameters.
     /// Returns false, writing nothing, when the shape does not provide them;
     /// a fit then approximates that block of its Hessian (Gauss-Newton).

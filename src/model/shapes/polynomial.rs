@@ -57,8 +57,9 @@ pub enum PolynomialError {
 
 impl Polynomial {
     /// The density proportional to sum_k `coefficients[k]` x^k on `range`,
-    /// refused when that is no density there (checked exactly, see
-    /// [`Polynomial::min_on_range`]).
+    /// refused when that is no density there: negative beyond rounding at its
+    /// lowest point on the range, found exactly (see `lowest_below_zero`), or
+    /// zero everywhere.
     pub fn new(coefficients: &[f64], range: [f64; 2]) -> Result<Polynomial, PolynomialError> {
         let [low, high] = range;
         if coefficients.is_empty() {
