@@ -4,7 +4,10 @@
 //! Each rejection names the field by its dotted path, the value found and what
 //! is expected, so that the user can fix the file from the message alone.
 
-use crate::model::shapes::{MAX_POLYNOMIAL_DEGREE, Polynomial, PolynomialError};
+use crate::model::{
+    shape_from_spec,
+    shapes::{MAX_POLYNOMIAL_DEGREE, Polynomial, PolynomialError},
+};
 
 use super::{
     Background, DaysGrid, NormUncertainty, Observable, Plan, Scenario, ScenarioError, Schedule,
@@ -46,18 +49,16 @@ pub(super) fn warnings(scenario: &Scenario) -> Vec<String> {
     remarks
 }
 
-/// A Gaussian or Breit-Wigner signal whose mean lies outside the range.
+/// A peaked signal ([`Shape::peak`](crate::model::shapes::Shape::peak)) whose maximum lies outside the range.
 fn signal_peak_outside_range(scenario: &Scenario) -> Option<String> {
-    let [low, high] = scenario.observable.range;
-    let (field, mean) = match scenario.signal.shape {
-        ShapeSpec::Gaussian { mean, .. } => ("signal.shape.gaussian.mean", mean),
-        ShapeSpec::BreitWigner { mean, .. } => ("signal.shape.breit_wigner.mean", mean),
-        _ => return None,
-    };
-    (!(low..=high).contains(&mean)).then(|| {
+    let range = scenario.observable.range;
+    let [low, high] = range;
+    let peak = shape_from_spec(&scenario.signal.shape, range).peak()?;
+    (!(low..=high).contains(&peak.centre)).then(|| {
         format!(
-            "{field}: the signal peak at {} lies outside the range [{}, {}]; only its tail is fitted",
-            show(mean),
+            "signal.shape.{}: the signal peak at {} lies outside the range [{}, {}]; only its tail is fitted",
+            peak.centre_key,
+            show(peak.centre),
             show(low),
             show(high)
         )

@@ -1,7 +1,7 @@
 //! Gaussian peak truncated to the range.
 
 use super::tails::{TailEdge, fill_masses, mass_between};
-use super::{Shape, mark_invalid, normalise_masses, range_of};
+use super::{Peak, Shape, mark_invalid, normalise_masses, range_of};
 use statrs::function::erf::erfc;
 use std::f64::consts::{PI, SQRT_2};
 
@@ -36,6 +36,14 @@ impl Gaussian {
 }
 
 impl Shape for Gaussian {
+    fn peak(&self) -> Option<Peak> {
+        Some(Peak {
+            centre: self.mean,
+            width: self.sigma,
+            centre_key: "gaussian.mean",
+        })
+    }
+
     fn parameter_names(&self) -> Vec<String> {
         vec!["mean".to_string(), "sigma".to_string()]
     }
@@ -239,6 +247,14 @@ fn erfc_scaled_asymptotic(x: f64) -> f64 {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// A normal density peaks at its mean, with width sigma (definition).
+    #[test]
+    fn peak_is_the_mean() {
+        let peak = Gaussian::new(3.5, 0.25).peak().unwrap();
+        assert_eq!((peak.centre, peak.width), (3.5, 0.25));
+        assert_eq!(peak.centre_key, "gaussian.mean");
+    }
     use crate::model::shapes::{assert_normalised, central_difference};
     use statrs::distribution::{Continuous, ContinuousCDF, Normal};
 

@@ -39,6 +39,13 @@ pub trait Shape: std::fmt::Debug + Send + Sync {
         vec![f64::NEG_INFINITY; self.nominal_parameters().len()]
     }
 
+    /// Where the density peaks, for a shape with a peak of its own (at
+    /// nominal parameters); None for a continuum. Used to centre windows and
+    /// bin widths on the signal and to warn about a peak outside the range.
+    fn peak(&self) -> Option<Peak> {
+        None
+    }
+
     /// Whether the fractions depend only on the ratios of the parameters, so
     /// that multiplying all of them by one positive factor changes nothing.
     /// A fit then fixes that factor (see the likelihood's gauge term).
@@ -102,6 +109,18 @@ pub trait Shape: std::fmt::Debug + Send + Sync {
     /// The normalised density at `x` on the range `[low, high]` (per unit of the
     /// observable), zero outside the range and NaN outside the shape's domain.
     fn density(&self, params: &[f64], low: f64, high: f64, x: f64) -> f64;
+}
+
+/// The maximum of a peaked density and its width.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Peak {
+    /// Position of the maximum, in units of the observable.
+    pub centre: f64,
+    /// Gaussian sigma, or Breit-Wigner half width at half maximum.
+    pub width: f64,
+    /// The scenario key of the centre inside the shape's mapping, e.g.
+    /// `"gaussian.mean"`, for messages that name the field.
+    pub centre_key: &'static str,
 }
 
 /// Shapes with at most this many parameters are differentiated without allocating.
