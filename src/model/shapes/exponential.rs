@@ -384,7 +384,22 @@ fn langevin_derivative(y: f64) -> f64 {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::model::shapes::{assert_normalised, central_difference};
+    use crate::model::shapes::assert_normalised;
+
+    // Both sides of zero slope and zero itself; a slope that is not finite
+    // is outside the domain.
+    shape_contract_tests! {
+        shape: Exponential::new(1.0),
+        inside: [
+            (&[-3.0], &uniform_edges(0.0, 2.0, 20)),
+            (&[-1e-9], &uniform_edges(0.0, 2.0, 20)),
+            (&[0.0], &uniform_edges(0.0, 2.0, 20)),
+            (&[1e-9], &uniform_edges(0.0, 2.0, 20)),
+            (&[0.5], &uniform_edges(0.0, 2.0, 20)),
+            (&[40.0], &uniform_edges(0.0, 2.0, 20)),
+        ],
+        outside: [&[f64::NAN], &[f64::INFINITY], &[f64::NEG_INFINITY]],
+    }
 
     fn fractions(slope: f64, edges: &[f64]) -> Vec<f64> {
         let mut fractions = vec![0.0; edges.len() - 1];
@@ -414,56 +429,6 @@ mod tests {
                 assert!(
                     (fraction - expected).abs() < 1e-14,
                     "{fraction} vs {expected}"
-                );
-            }
-        }
-    }
-
-    /// The analytic gradient against central differences (common practice), on
-    /// both sides of zero slope and at zero itself.
-    #[test]
-    fn gradient_matches_central_differences() {
-        let edges = uniform_edges(0.0, 2.0, 20);
-        for slope in [-3.0, -1e-9, 0.0, 1e-9, 0.5, 40.0] {
-            let shape = Exponential::new(slope);
-            let mut fractions = vec![0.0; 20];
-            let mut gradient = vec![0.0; 20];
-            shape.bin_fractions_with_gradient(&[slope], &edges, &mut fractions, &mut gradient);
-            assert_normalised(&fractions);
-            let numeric = central_difference(&shape, &[slope], &edges, 0, 1e-5);
-            for (analytic, numeric) in gradient.iter().zip(&numeric) {
-                assert!(
-                    (analytic - numeric).abs() < 1e-8,
-                    "slope {slope}: {analytic} vs {numeric}"
-                );
-            }
-        }
-    }
-
-    /// The analytic second derivative against central differences of the
-    /// analytic gradient (common practice), on both sides of zero slope.
-    #[test]
-    fn curvature_matches_differences_of_the_gradient() {
-        let edges = uniform_edges(0.0, 2.0, 20);
-        let step = 1e-5;
-        for slope in [-3.0, -0.04, 0.0, 1e-9, 0.5, 40.0] {
-            let shape = Exponential::new(slope);
-            let gradient_at = |s: f64| {
-                let (mut fractions, mut gradient) = (vec![0.0; 20], vec![0.0; 20]);
-                shape.bin_fractions_with_gradient(&[s], &edges, &mut fractions, &mut gradient);
-                gradient
-            };
-            let (upper, lower) = (gradient_at(slope + step), gradient_at(slope - step));
-            let mut fractions = vec![0.0; 20];
-            shape.bin_fractions(&[slope], &edges, &mut fractions);
-            let mut curvatures = vec![0.0; 20];
-            assert!(shape.bin_fraction_curvatures(&[slope], &edges, &fractions, &mut curvatures));
-            for i in 0..20 {
-                let numeric = (upper[i] - lower[i]) / (2.0 * step);
-                assert!(
-                    (curvatures[i] - numeric).abs() < 1e-7 * numeric.abs().max(1.0),
-                    "slope {slope}, bin {i}: {} vs {numeric}",
-                    curvatures[i]
                 );
             }
         }
@@ -557,28 +522,6 @@ mod tests {
             let shape = Exponential::new(slope);
             shape.bin_fractions_with_gradient(&[slope], &edges, &mut recomputed, &mut gradient);
             assert!(gradient.iter().all(|derivative| derivative.is_finite()));
-        }
-    }
-
-    #[test]
-    fn non_finite_slope_gives_nan() {
-        let shape = Exponential::new(1.0);
-        for slope in [f64::NAN, f64::INFINITY, f64::NEG_INFINITY] {
-            let mut fractions = [0.0; 2];
-            let mut gradient = [0.0; 2];
-            shape.bin_fractions_with_gradient(
-                &[slope],
-                &[0.0, 1.0, 2.0],
-                &mut fractions,
-                &mut gradient,
-            );
-            assert!(
-                fractions
-                    .iter()
-                    .chain(&gradient)
-                    .all(|value| value.is_nan())
-            );
-            assert!(shape.density(&[slope], 0.0, 2.0, 1.0).is_nan());
         }
     }
 

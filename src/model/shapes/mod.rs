@@ -4,6 +4,10 @@
 //! its bin fractions come from a closed-form cumulative distribution, never from
 //! sampling. One shape per file, all behind the [`Shape`] trait.
 
+#[cfg(test)]
+#[macro_use]
+mod contract;
+
 mod breit_wigner;
 mod exponential;
 mod flat;
