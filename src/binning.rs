@@ -545,7 +545,8 @@ mod tests {
 
     #[test]
     fn peakless_signal_is_centred_where_it_is_densest() {
-        let flat = signal_peak(&ShapeSpec::Flat {}, [20.0, 60.0]);
+        let read = |text: &str| serde_yaml::from_str::<ShapeSpec>(text).unwrap();
+        let flat = signal_peak(&read("{flat: {}}"), [20.0, 60.0]);
         assert_eq!(
             flat,
             SignalPeak {
@@ -553,7 +554,7 @@ mod tests {
                 width: 8.0
             }
         );
-        let falling = signal_peak(&ShapeSpec::Exponential { slope: -0.1 }, [0.0, 10.0]);
+        let falling = signal_peak(&read("{exponential: {slope: -0.1}}"), [0.0, 10.0]);
         assert_eq!(falling.centre, 0.0);
     }
 }

@@ -20,6 +20,7 @@ pub mod ensemble;
 pub mod error;
 pub mod likelihood;
 pub mod limits;
+pub mod message;
 pub mod model;
 pub mod numeric;
 pub mod progress;

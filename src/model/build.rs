@@ -167,18 +167,15 @@ pub fn fraction_inside(spec: &ShapeSpec, range: [f64; 2], low: f64, high: f64) -
     fractions[window]
 }
 
-/// The shape a validated scenario names, on the observable's `range`.
+/// The shape a validated scenario names, on the observable's `range`, built
+/// by its kind's constructor (validation has run the same constructor).
 pub fn shape_from_spec(spec: &ShapeSpec, range: [f64; 2]) -> Box<dyn shapes::Shape> {
-    match spec {
-        ShapeSpec::Gaussian { mean, sigma } => Box::new(shapes::Gaussian::new(*mean, *sigma)),
-        ShapeSpec::BreitWigner { mean, width } => Box::new(shapes::BreitWigner::new(*mean, *width)),
-        ShapeSpec::Exponential { slope } => Box::new(shapes::Exponential::new(*slope)),
-        ShapeSpec::Polynomial { coefficients } => Box::new(
-            shapes::Polynomial::new(coefficients, range)
-                .expect("validation refuses polynomials that are no density on the range"),
-        ),
-        ShapeSpec::Flat {} => Box::new(shapes::Flat),
-    }
+    let fixed = shapes::Placement {
+        range,
+        floated: false,
+    };
+    spec.build(fixed)
+        .expect("validation refuses shapes that are no density on the range")
 }
 
 #[cfg(test)]
@@ -189,7 +186,7 @@ mod tests {
     /// (definition), also when the window touches or covers the range edges.
     #[test]
     fn flat_fraction_inside_is_the_width_share() {
-        let flat = ShapeSpec::Flat {};
+        let flat: ShapeSpec = serde_yaml::from_str("{flat: {}}").unwrap();
         for (low, high, expected) in [(2.0, 5.0, 0.3), (0.0, 4.0, 0.4), (6.0, 10.0, 0.4)] {
             let fraction = fraction_inside(&flat, [0.0, 10.0], low, high);
             assert!(

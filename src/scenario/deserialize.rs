@@ -1,10 +1,12 @@
 //! The YAML spellings of values that serde's derived forms cannot express:
 //! a normalisation uncertainty that is a number or the word `free`, and a shape
-//! written as a one-key mapping such as `{gaussian: {mean: 67.0, sigma: 0.8}}`.
+//! written as a one-key mapping such as `{gaussian: {mean: 67.0, sigma: 0.8}}`,
+//! whose keys come from the shape registry of the model.
 
 use super::{NormUncertainty, ShapeSpec};
+use crate::model::shapes::{ParameterValue, SHAPE_KINDS, ShapeKind};
 use serde::Deserialize;
-use serde::de::{self, Unexpected, Visitor};
+use serde::de::{self, DeserializeSeed, MapAccess, Unexpected, Visitor};
 use std::fmt;
 
 /// Reads a number as [`NormUncertainty::Relative`] and the word `free` as
@@ -46,122 +48,201 @@ impl Visitor<'_> for NormUncertaintyVisitor {
     }
 }
 
-/// A `shape:` mapping as written: exactly one of its keys must be present.
-/// Unknown keys (a misspelt shape) are rejected by the parser with their position.
-#[derive(Deserialize)]
-#[serde(deny_unknown_fields)]
-pub(super) struct ShapeEntry {
-    #[serde(default)]
-    gaussian: Option<GaussianParameters>,
-    #[serde(default)]
-    breit_wigner: Option<BreitWignerParameters>,
-    #[serde(default)]
-    exponential: Option<ExponentialParameters>,
-    #[serde(default)]
-    polynomial: Option<PolynomialParameters>,
-    #[serde(default)]
-    flat: Option<FlatParameters>,
+/// Reads a `shape:` mapping: exactly one key, a kind from the registry
+/// ([`SHAPE_KINDS`]), whose value maps each of that kind's parameters to a
+/// number or a list of numbers. An unknown kind or parameter, a repeated or
+/// missing one, or a value of the wrong type is a parse error at its position,
+/// worded as for the scenario's other keys.
+impl<'de> Deserialize<'de> for ShapeSpec {
+    fn deserialize<D: de::Deserializer<'de>>(deserializer: D) -> Result<Self, D::Error> {
+        deserializer.deserialize_map(ShapeVisitor)
+    }
 }
 
-#[derive(Deserialize)]
-#[serde(deny_unknown_fields)]
-struct GaussianParameters {
-    mean: f64,
-    sigma: f64,
+/// What a `shape:` mapping may hold, e.g. "one of gaussian, flat, e.g. {flat: {}}".
+fn shape_kinds() -> String {
+    let keys: Vec<&str> = SHAPE_KINDS.iter().map(|kind| kind.key).collect();
+    format!("one of {}, e.g. {{flat: {{}}}}", keys.join(", "))
 }
 
-#[derive(Deserialize)]
-#[serde(deny_unknown_fields)]
-struct BreitWignerParameters {
-    mean: f64,
-    width: f64,
+/// "unknown field `name`, expected ...", in the words serde uses for the
+/// scenario's other keys.
+fn unknown_field<'a>(name: &str, expected: impl ExactSizeIterator<Item = &'a str>) -> String {
+    let quoted: Vec<String> = expected.map(|key| format!("`{key}`")).collect();
+    match quoted.as_slice() {
+        [] => format!("unknown field `{name}`, there are no fields"),
+        [only] => format!("unknown field `{name}`, expected {only}"),
+        [first, second] => format!("unknown field `{name}`, expected {first} or {second}"),
+        all => format!("unknown field `{name}`, expected one of {}", all.join(", ")),
+    }
 }
 
-#[derive(Deserialize)]
-#[serde(deny_unknown_fields)]
-struct ExponentialParameters {
-    slope: f64,
+/// A mapping key that must be one of the given names, read as its index; an
+/// unknown key is an error at the key's own position.
+struct KnownKey<'a>(&'a [&'static str]);
+
+impl<'de> DeserializeSeed<'de> for KnownKey<'_> {
+    type Value = usize;
+
+    fn deserialize<D: de::Deserializer<'de>>(self, deserializer: D) -> Result<usize, D::Error> {
+        deserializer.deserialize_str(self)
+    }
 }
 
-#[derive(Deserialize)]
-#[serde(deny_unknown_fields)]
-struct PolynomialParameters {
-    coefficients: Vec<f64>,
+impl Visitor<'_> for KnownKey<'_> {
+    type Value = usize;
+
+    fn expecting(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str("a key")
+    }
+
+    fn visit_str<E: de::Error>(self, key: &str) -> Result<usize, E> {
+        self.0
+            .iter()
+            .position(|&name| name == key)
+            .ok_or_else(|| E::custom(unknown_field(key, self.0.iter().copied())))
+    }
 }
 
-#[derive(Deserialize)]
-#[serde(deny_unknown_fields)]
-struct FlatParameters {}
+struct ShapeVisitor;
 
-const SHAPE_KINDS: &str =
-    "one of gaussian, breit_wigner, exponential, polynomial, flat, e.g. {flat: {}}";
+impl<'de> Visitor<'de> for ShapeVisitor {
+    type Value = ShapeSpec;
 
-impl TryFrom<ShapeEntry> for ShapeSpec {
-    type Error = String;
+    fn expecting(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "a shape, {}", shape_kinds())
+    }
 
-    fn try_from(entry: ShapeEntry) -> Result<ShapeSpec, String> {
-        let mut shapes = Vec::new();
-        if let Some(GaussianParameters { mean, sigma }) = entry.gaussian {
-            shapes.push(ShapeSpec::Gaussian { mean, sigma });
-        }
-        if let Some(BreitWignerParameters { mean, width }) = entry.breit_wigner {
-            shapes.push(ShapeSpec::BreitWigner { mean, width });
-        }
-        if let Some(ExponentialParameters { slope }) = entry.exponential {
-            shapes.push(ShapeSpec::Exponential { slope });
-        }
-        if let Some(PolynomialParameters { coefficients }) = entry.polynomial {
-            shapes.push(ShapeSpec::Polynomial { coefficients });
-        }
-        if entry.flat.is_some() {
-            shapes.push(ShapeSpec::Flat {});
+    fn visit_map<A: MapAccess<'de>>(self, mut map: A) -> Result<ShapeSpec, A::Error> {
+        let mut shapes: Vec<ShapeSpec> = Vec::new();
+        let keys: Vec<&'static str> = SHAPE_KINDS.iter().map(|kind| kind.key).collect();
+        while let Some(index) = map.next_key_seed(KnownKey(&keys))? {
+            let kind = &SHAPE_KINDS[index];
+            if shapes.iter().any(|shape| shape.kind == kind) {
+                return Err(de::Error::duplicate_field(kind.key));
+            }
+            let values = map.next_value_seed(Parameters(kind))?;
+            shapes.push(ShapeSpec { kind, values });
         }
         match shapes.len() {
             1 => Ok(shapes.remove(0)),
-            0 => Err(format!("a shape needs {SHAPE_KINDS}; got none")),
-            count => Err(format!(
-                "a shape needs exactly {SHAPE_KINDS}; got {count} of them"
-            )),
+            0 => Err(de::Error::custom(format!(
+                "a shape needs {}; got none",
+                shape_kinds()
+            ))),
+            count => Err(de::Error::custom(format!(
+                "a shape needs exactly {}; got {count} of them",
+                shape_kinds()
+            ))),
         }
+    }
+}
+
+/// The parameters mapping of one shape kind, read into its values in order.
+struct Parameters(&'static ShapeKind);
+
+impl<'de> DeserializeSeed<'de> for Parameters {
+    type Value = Vec<ParameterValue>;
+
+    fn deserialize<D: de::Deserializer<'de>>(
+        self,
+        deserializer: D,
+    ) -> Result<Self::Value, D::Error> {
+        deserializer.deserialize_map(self)
+    }
+}
+
+impl<'de> Visitor<'de> for Parameters {
+    type Value = Vec<ParameterValue>;
+
+    fn expecting(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(
+            f,
+            "the parameters of {}, as in {}",
+            self.0.key, self.0.example
+        )
+    }
+
+    fn visit_map<A: MapAccess<'de>>(self, mut map: A) -> Result<Self::Value, A::Error> {
+        let parameters = self.0.parameters;
+        let mut values: Vec<Option<ParameterValue>> = vec![None; parameters.len()];
+        let names: Vec<&'static str> = parameters.iter().map(|p| p.name).collect();
+        while let Some(index) = map.next_key_seed(KnownKey(&names))? {
+            if values[index].is_some() {
+                return Err(de::Error::duplicate_field(parameters[index].name));
+            }
+            values[index] = Some(if parameters[index].list {
+                ParameterValue::List(map.next_value()?)
+            } else {
+                ParameterValue::Number(map.next_value()?)
+            });
+        }
+        values
+            .into_iter()
+            .zip(parameters)
+            .map(|(value, parameter)| value.ok_or_else(|| de::Error::missing_field(parameter.name)))
+            .collect()
     }
 }
 
 #[cfg(test)]
 mod tests {
     use super::super::{NormUncertainty, ShapeSpec};
+    use crate::model::shapes::{ParameterValue, SHAPE_KINDS};
 
     fn shape(text: &str) -> Result<ShapeSpec, String> {
         serde_yaml::from_str(text).map_err(|error| error.to_string())
     }
 
+    /// The kind and values read from `text`.
+    fn read(text: &str) -> (&'static str, Vec<ParameterValue>) {
+        let shape = shape(text).unwrap_or_else(|error| panic!("{text}: {error}"));
+        (shape.kind.key, shape.values)
+    }
+
     #[test]
     fn each_shape_reads_from_its_one_key_mapping() {
+        use ParameterValue::{List, Number};
         assert_eq!(
-            shape("{gaussian: {mean: 67.0, sigma: 0.8}}"),
-            Ok(ShapeSpec::Gaussian {
-                mean: 67.0,
-                sigma: 0.8
-            })
+            read("{gaussian: {mean: 67.0, sigma: 0.8}}"),
+            ("gaussian", vec![Number(67.0), Number(0.8)])
         );
         assert_eq!(
-            shape("{breit_wigner: {mean: 5, width: 0.2}}"),
-            Ok(ShapeSpec::BreitWigner {
-                mean: 5.0,
-                width: 0.2
-            })
+            read("{gaussian: {sigma: 0.8, mean: 67.0}}"),
+            ("gaussian", vec![Number(67.0), Number(0.8)])
         );
         assert_eq!(
-            shape("{exponential: {slope: -0.025}}"),
-            Ok(ShapeSpec::Exponential { slope: -0.025 })
+            read("{breit_wigner: {mean: 5, width: 0.2}}"),
+            ("breit_wigner", vec![Number(5.0), Number(0.2)])
         );
         assert_eq!(
-            shape("{polynomial: {coefficients: [1, -0.5]}}"),
-            Ok(ShapeSpec::Polynomial {
-                coefficients: vec![1.0, -0.5]
-            })
+            read("{exponential: {slope: -0.025}}"),
+            ("exponential", vec![Number(-0.025)])
         );
-        assert_eq!(shape("{flat: {}}"), Ok(ShapeSpec::Flat {}));
-        assert_eq!(shape("flat: {}"), Ok(ShapeSpec::Flat {}));
+        assert_eq!(
+            read("{polynomial: {coefficients: [1, -0.5]}}"),
+            ("polynomial", vec![List(vec![1.0, -0.5])])
+        );
+        assert_eq!(read("{flat: {}}"), ("flat", vec![]));
+        assert_eq!(read("flat: {}"), ("flat", vec![]));
+    }
+
+    /// Every registered kind reads back from its template example with
+    /// numbers in place of the letters.
+    #[test]
+    fn every_registered_kind_is_read() {
+        for kind in SHAPE_KINDS {
+            let values: Vec<String> = kind
+                .parameters
+                .iter()
+                .map(|p| match p.list {
+                    true => format!("{}: [1, 2]", p.name),
+                    false => format!("{}: 1", p.name),
+                })
+                .collect();
+            let text = format!("{{{}: {{{}}}}}", kind.key, values.join(", "));
+            assert_eq!(read(&text).0, kind.key, "{text}");
+        }
     }
 
     #[test]
@@ -177,6 +258,12 @@ mod tests {
         assert!(none.contains("got none"), "{none}");
         let two = shape("{flat: {}, exponential: {slope: 1}}").unwrap_err();
         assert!(two.contains("got 2 of them"), "{two}");
+        let missing = shape("{gaussian: {mean: 1}}").unwrap_err();
+        assert!(missing.contains("missing field `sigma`"), "{missing}");
+        let repeated = shape("{gaussian: {mean: 1, mean: 2, sigma: 1}}").unwrap_err();
+        assert!(repeated.contains("duplicate field `mean`"), "{repeated}");
+        let mistyped = shape("{polynomial: {coefficients: 1.0}}").unwrap_err();
+        assert!(mistyped.contains("expected a sequence"), "{mistyped}");
     }
 
     #[test]

@@ -12,6 +12,7 @@ mod validate;
 pub use error::ScenarioError;
 pub use template::TEMPLATE;
 
+use crate::model::shapes::{ParameterValue, Placement, Shape, ShapeError, ShapeKind};
 use serde::Deserialize;
 use std::path::Path;
 
@@ -65,7 +66,8 @@ pub struct Background {
     /// How well the normalisation is known; absent means known exactly.
     #[serde(default)]
     pub norm_uncertainty: Option<NormUncertainty>,
-    /// When true, the shape's parameters are fitted, unconstrained, in every fit.
+    /// When true, the shape's parameters are fitted in every fit, with no
+    /// constraint term, each held inside its domain (`Shape::parameter_lower_bounds`).
     #[serde(default)]
     pub float_shape: bool,
     /// A signal-free control region that measures this background's normalisation.
@@ -90,31 +92,24 @@ pub enum NormUncertainty {
     Free,
 }
 
-/// A density on the observable range; each is normalised on the range.
+/// A density on the observable range, normalised on the range: one of the
+/// registered [`SHAPE_KINDS`](crate::model::shapes::SHAPE_KINDS) with the values of its parameters.
 ///
 /// Written in YAML as a one-key mapping, e.g. `{gaussian: {mean: 67.0, sigma: 0.8}}`
-/// or `{flat: {}}`.
-#[derive(Debug, Clone, PartialEq, Deserialize)]
-#[serde(try_from = "deserialize::ShapeEntry")]
-pub enum ShapeSpec {
-    Gaussian {
-        mean: f64,
-        sigma: f64,
-    },
-    /// Non-relativistic Breit-Wigner (Cauchy); `width` is the full width at half maximum.
-    BreitWigner {
-        mean: f64,
-        width: f64,
-    },
-    /// Density proportional to exp(slope * x).
-    Exponential {
-        slope: f64,
-    },
-    /// Density proportional to sum_k c_k x^k.
-    Polynomial {
-        coefficients: Vec<f64>,
-    },
-    Flat {},
+/// or `{flat: {}}`; the key and the parameter names come from the registry, and
+/// validation checks the values with the kind's own constructor.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ShapeSpec {
+    pub kind: &'static ShapeKind,
+    /// One value per parameter of `kind`, in its order.
+    pub values: Vec<ParameterValue>,
+}
+
+impl ShapeSpec {
+    /// The shape at `placement`, or why its values make no density there.
+    pub fn build(&self, placement: Placement) -> Result<Box<dyn Shape>, ShapeError> {
+        self.kind.build(&self.values, placement)
+    }
 }
 
 /// When data are taken: a live fraction and optional reduced-rate periods at the start.

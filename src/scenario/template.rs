@@ -1,9 +1,41 @@
 //! The commented scenario written by `runcast new FILE`: a valid starting point
 //! that explains every key, its unit and its default.
 
+use crate::model::shapes::SHAPE_KINDS;
+use std::sync::LazyLock;
+
 /// A complete, valid scenario in which every key is explained by a comment.
-/// Its numbers are invented and the text says so.
-pub const TEMPLATE: &str = r#"# runcast scenario
+/// Its numbers are invented and the text says so. The list of shapes comes
+/// from the shape registry, so every registered shape is shown.
+pub static TEMPLATE: LazyLock<String> =
+    LazyLock::new(|| format!("{BEFORE_SHAPES}{}{AFTER_SHAPES}", shape_list()));
+
+/// Columns between the comment sign and a shape's explanation, beyond the
+/// longest example.
+const EXPLANATION_GAP: usize = 3;
+
+/// One comment line per line of explanation of each registered shape, the
+/// explanations aligned after the examples.
+fn shape_list() -> String {
+    let width = SHAPE_KINDS
+        .iter()
+        .map(|kind| kind.example.len())
+        .max()
+        .unwrap_or(0)
+        + EXPLANATION_GAP;
+    let mut list = String::new();
+    for kind in SHAPE_KINDS {
+        let mut example = kind.example;
+        for line in kind.explanation {
+            list.push_str(&format!("  #   {example:<width$}{line}\n"));
+            example = "";
+        }
+    }
+    list
+}
+
+/// The template up to the list of shapes.
+const BEFORE_SHAPES: &str = r#"# runcast scenario
 #
 # Every number in this file is INVENTED for illustration; replace each one with
 # the numbers of your own search. Lines starting with `#` are comments.
@@ -28,13 +60,10 @@ signal:
   # Expected signal events per live day inside the range, after all efficiencies.
   events_per_day: 1.5
   # Density in the observable, normalised on the range. One of:
-  #   {gaussian: {mean: M, sigma: S}}               normal peak; M and S in `unit`
-  #   {breit_wigner: {mean: M, width: W}}           Cauchy peak; W = full width at half maximum, in `unit`
-  #   {exponential: {slope: K}}                     density proportional to exp(K x); K in 1/`unit`
-  #   {polynomial: {coefficients: [c0, c1, ...]}}   density proportional to c0 + c1 x + c2 x^2 + ...;
-  #                                                 must not be negative anywhere on the range
-  #   {flat: {}}                                    uniform on the range
-  shape: {gaussian: {mean: 180.0, sigma: 2.5}}
+"#;
+
+/// The template after the list of shapes.
+const AFTER_SHAPES: &str = r#"  shape: {gaussian: {mean: 180.0, sigma: 2.5}}
   # Optional; absent = signal yield known exactly. Relative uncertainty on the yield:
   # a Gaussian constraint N(1, 0.10) on a factor multiplying it (0.10 = 10 %).
   yield_uncertainty: 0.10
@@ -51,7 +80,9 @@ backgrounds:
     # unconstrained, fitted from the data alone.
     norm_uncertainty: free
     # Optional, default false. true = the shape's parameters (here the slope) are
-    # fitted, unconstrained, in every fit instead of being fixed at the values above.
+    # fitted in every fit, with no constraint term, instead of being fixed at the
+    # values above. A polynomial floats as its Bernstein coefficients on the range,
+    # each held at 0 or above, so it stays a density.
     float_shape: true
   - name: instrumental
     events_per_day: 15
@@ -90,17 +121,18 @@ plan:
 #[cfg(test)]
 mod tests {
     use super::TEMPLATE;
-    use crate::scenario::{NormUncertainty, Scenario, ShapeSpec};
+    use crate::model::shapes::SHAPE_KINDS;
+    use crate::scenario::{NormUncertainty, Scenario};
 
     #[test]
     fn template_parses_and_validates_without_warnings() {
-        let scenario = Scenario::from_yaml(TEMPLATE).unwrap_or_else(|error| panic!("{error}"));
+        let scenario = Scenario::from_yaml(&TEMPLATE).unwrap_or_else(|error| panic!("{error}"));
         assert!(scenario.warnings().is_empty(), "{:?}", scenario.warnings());
     }
 
     #[test]
     fn template_shows_every_optional_key_and_each_kind_of_normalisation() {
-        let scenario = Scenario::from_yaml(TEMPLATE).unwrap_or_else(|error| panic!("{error}"));
+        let scenario = Scenario::from_yaml(&TEMPLATE).unwrap_or_else(|error| panic!("{error}"));
         assert!(scenario.signal.yield_uncertainty.is_some());
         assert!(scenario.backgrounds.iter().any(|b| b.float_shape));
         let norms: Vec<_> = scenario
@@ -112,7 +144,20 @@ mod tests {
         assert!(scenario.backgrounds.iter().any(|b| b.control.is_some()));
         assert!(scenario.schedule.live_fraction < 1.0);
         assert!(!scenario.schedule.periods.is_empty());
-        assert!(matches!(scenario.signal.shape, ShapeSpec::Gaussian { .. }));
+        assert_eq!(scenario.signal.shape.kind.key, "gaussian");
+    }
+
+    /// Each registered shape is listed with its example, explanations
+    /// aligned after the longest example.
+    #[test]
+    fn template_lists_every_registered_shape() {
+        for kind in SHAPE_KINDS {
+            let line = format!("  #   {}  ", kind.example);
+            assert!(TEMPLATE.contains(&line), "{} missing", kind.key);
+        }
+        assert!(TEMPLATE.contains(
+            "  #   {polynomial: {coefficients: [c0, c1, ...]}}   density proportional to c0 + c1 x + c2 x^2 + ...;\n  #                                                 must not be negative anywhere on the range\n"
+        ));
     }
 
     #[test]

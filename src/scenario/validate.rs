@@ -4,10 +4,8 @@
 //! Each rejection names the field by its dotted path, the value found and what
 //! is expected, so that the user can fix the file from the message alone.
 
-use crate::model::{
-    shape_from_spec,
-    shapes::{MAX_POLYNOMIAL_DEGREE, Polynomial, PolynomialError},
-};
+use crate::message::{not_finite, not_positive, show, show_rounded};
+use crate::model::shapes::{Placement, ShapeError};
 
 use super::{
     Background, DaysGrid, NormUncertainty, Observable, Plan, Scenario, ScenarioError, Schedule,
@@ -45,7 +43,10 @@ pub(super) fn validate(scenario: &Scenario) -> Checked {
 /// Remarks about a valid scenario that are probably, but not surely, mistakes.
 pub(super) fn warnings(scenario: &Scenario) -> Vec<String> {
     let mut remarks: Vec<String> = signal_peak_outside_range(scenario).into_iter().collect();
-    remarks.extend(flat_shapes_floated(&scenario.backgrounds));
+    remarks.extend(flat_shapes_floated(
+        &scenario.backgrounds,
+        scenario.observable.range,
+    ));
     remarks.extend(first_day_without_exposure(scenario));
     remarks
 }
@@ -54,7 +55,11 @@ pub(super) fn warnings(scenario: &Scenario) -> Vec<String> {
 fn signal_peak_outside_range(scenario: &Scenario) -> Option<String> {
     let range = scenario.observable.range;
     let [low, high] = range;
-    let peak = shape_from_spec(&scenario.signal.shape, range).peak()?;
+    let fixed = Placement {
+        range,
+        floated: false,
+    };
+    let peak = scenario.signal.shape.build(fixed).ok()?.peak()?;
     (!(low..=high).contains(&peak.centre)).then(|| {
         format!(
             "signal.shape.{}: the signal peak at {} lies outside the range [{}, {}]; only its tail is fitted",
@@ -68,24 +73,30 @@ fn signal_peak_outside_range(scenario: &Scenario) -> Option<String> {
 
 /// `float_shape: true` on a shape with no parameters (flat, or a polynomial
 /// of one term, whose only coefficient cancels in the normalisation).
-fn flat_shapes_floated(backgrounds: &[Background]) -> impl Iterator<Item = String> + '_ {
+fn flat_shapes_floated(
+    backgrounds: &[Background],
+    range: [f64; 2],
+) -> impl Iterator<Item = String> + '_ {
+    let floated = Placement {
+        range,
+        floated: true,
+    };
+    let has_no_parameters = move |shape: &ShapeSpec| {
+        shape
+            .build(floated)
+            .is_ok_and(|shape| shape.parameter_names().is_empty())
+    };
     backgrounds
         .iter()
         .enumerate()
-        .filter(|(_, background)| background.float_shape && has_no_parameters(&background.shape))
+        .filter(move |(_, background)| {
+            background.float_shape && has_no_parameters(&background.shape)
+        })
         .map(|(index, _)| {
             format!(
                 "backgrounds[{index}].float_shape: this shape has no parameters to float; the setting has no effect"
             )
         })
-}
-
-fn has_no_parameters(shape: &ShapeSpec) -> bool {
-    match shape {
-        ShapeSpec::Flat {} => true,
-        ShapeSpec::Polynomial { coefficients } => coefficients.len() == 1,
-        _ => false,
-    }
 }
 
 /// A days grid starting inside the leading schedule periods with `rate_scale` 0,
@@ -172,7 +183,7 @@ fn validate_bin_width(bin_width: f64, range: Range) -> Checked {
 
 fn validate_signal(signal: &Signal, range: Range) -> Checked {
     require_positive("signal.events_per_day", signal.events_per_day)?;
-    validate_shape("signal.shape", &signal.shape, range)?;
+    validate_shape("signal", &signal.shape, range, false)?;
     if let Some(relative) = signal.yield_uncertainty {
         require_relative_uncertainty("signal.yield_uncertainty", relative)?;
     }
@@ -202,10 +213,12 @@ fn validate_backgrounds(backgrounds: &[Background], range: Range) -> Checked {
             ));
         }
         require_positive(&field("events_per_day"), background.events_per_day)?;
-        validate_shape(&field("shape"), &background.shape, range)?;
-        if background.float_shape {
-            validate_floated_polynomial(&field("float_shape"), &background.shape, range)?;
-        }
+        validate_shape(
+            &format!("backgrounds[{index}]"),
+            &background.shape,
+            range,
+            background.float_shape,
+        )?;
         if let Some(NormUncertainty::Relative(relative)) = background.norm_uncertainty {
             require_relative_uncertainty(&field("norm_uncertainty"), relative)?;
         }
@@ -267,84 +280,25 @@ fn refuse_free_background_in_one_bin(scenario: &Scenario) -> Checked {
     }
 }
 
-/// Checks the parameters of one shape; `prefix` is the dotted path of its `shape` key.
-fn validate_shape(prefix: &str, shape: &ShapeSpec, range: Range) -> Checked {
-    match shape {
-        ShapeSpec::Gaussian { mean, sigma } => {
-            require_finite(&format!("{prefix}.gaussian.mean"), *mean)?;
-            require_positive(&format!("{prefix}.gaussian.sigma"), *sigma)
-        }
-        ShapeSpec::BreitWigner { mean, width } => {
-            require_finite(&format!("{prefix}.breit_wigner.mean"), *mean)?;
-            require_positive(&format!("{prefix}.breit_wigner.width"), *width)
-        }
-        ShapeSpec::Exponential { slope } => {
-            require_finite(&format!("{prefix}.exponential.slope"), *slope)
-        }
-        ShapeSpec::Polynomial { coefficients } => validate_polynomial(
-            &format!("{prefix}.polynomial.coefficients"),
-            coefficients,
-            range,
-        ),
-        ShapeSpec::Flat {} => Ok(()),
-    }
-}
-
-/// A polynomial density `sum_k c_k x^k` must be finite, nowhere negative and not
-/// zero everywhere on the range, checked exactly by [`Polynomial::new`].
-fn validate_polynomial(field: &str, coefficients: &[f64], range: Range) -> Checked {
-    for (power, &coefficient) in coefficients.iter().enumerate() {
-        require_finite(&format!("{field}[{power}]"), coefficient)?;
-    }
-    let message = match Polynomial::new(coefficients, [range.low, range.high]) {
-        Ok(_) => return Ok(()),
-        Err(PolynomialError::Empty) => {
-            "needs at least one coefficient [c0, c1, ...], got an empty list".to_string()
-        }
-        Err(PolynomialError::TooManyCoefficients) => format!(
-            "takes at most {} coefficients (degree {MAX_POLYNOMIAL_DEGREE}), got {}",
-            MAX_POLYNOMIAL_DEGREE + 1,
-            coefficients.len()
-        ),
-        Err(PolynomialError::Negative { at, value }) => format!(
-            "the polynomial must not be negative on the range [{}, {}], but is {} at x = {}; got {}",
-            show(range.low),
-            show(range.high),
-            show_rounded(value),
-            show_rounded(at),
-            show_list(coefficients)
-        ),
-        Err(PolynomialError::Zero) => format!(
-            "the polynomial is zero everywhere on the range [{}, {}]; got {}",
-            show(range.low),
-            show(range.high),
-            show_list(coefficients)
-        ),
+/// Checks one shape with its kind's constructor; `owner` is the dotted path
+/// of the signal or background holding it. A wrong value is named by its path
+/// inside `shape`, a shape that cannot float by `float_shape`.
+fn validate_shape(owner: &str, shape: &ShapeSpec, range: Range, floated: bool) -> Checked {
+    let placement = Placement {
+        range: [range.low, range.high],
+        floated,
     };
-    Err(ScenarioError::invalid(field, message))
-}
-
-/// A floated polynomial must have non-negative Bernstein coefficients on the
-/// range at some degree up to the largest (see [`Polynomial`]): true of every
-/// polynomial positive on the range, not of one touching zero inside it.
-fn validate_floated_polynomial(field: &str, shape: &ShapeSpec, range: Range) -> Checked {
-    let ShapeSpec::Polynomial { coefficients } = shape else {
-        return Ok(());
-    };
-    let floatable = Polynomial::new(coefficients, [range.low, range.high])
-        .is_ok_and(|polynomial| polynomial.can_float());
-    if floatable {
-        return Ok(());
+    match shape.build(placement) {
+        Ok(_) => Ok(()),
+        Err(ShapeError::Value { field, message }) => Err(ScenarioError::invalid(
+            format!("{owner}.shape.{field}"),
+            message,
+        )),
+        Err(ShapeError::CannotFloat { message }) => Err(ScenarioError::invalid(
+            format!("{owner}.float_shape"),
+            message,
+        )),
     }
-    Err(ScenarioError::invalid(
-        field,
-        format!(
-            "a floated polynomial must be positive on the range [{}, {}] by a margin its Bernstein coefficients of degree {MAX_POLYNOMIAL_DEGREE} or less can show, but shape.polynomial.coefficients {} touches or nearly touches zero; raise its lowest point or set float_shape: false",
-            show(range.low),
-            show(range.high),
-            show_list(coefficients)
-        ),
-    ))
 }
 
 fn validate_schedule(schedule: &Schedule) -> Checked {
@@ -450,23 +404,17 @@ fn require_text(field: &str, text: &str) -> Checked {
 }
 
 fn require_finite(field: &str, value: f64) -> Checked {
-    if !value.is_finite() {
-        return Err(ScenarioError::invalid(
-            field,
-            format!("must be a finite number, got {}", show(value)),
-        ));
+    match not_finite(value) {
+        Some(message) => Err(ScenarioError::invalid(field, message)),
+        None => Ok(()),
     }
-    Ok(())
 }
 
 fn require_positive(field: &str, value: f64) -> Checked {
-    if !(value.is_finite() && value > 0.0) {
-        return Err(ScenarioError::invalid(
-            field,
-            format!("must be a positive finite number, got {}", show(value)),
-        ));
+    match not_positive(value) {
+        Some(message) => Err(ScenarioError::invalid(field, message)),
+        None => Ok(()),
     }
-    Ok(())
 }
 
 fn require_relative_uncertainty(field: &str, relative: f64) -> Checked {
@@ -482,42 +430,9 @@ fn require_relative_uncertainty(field: &str, relative: f64) -> Checked {
     Ok(())
 }
 
-/// A number as a user would write it: plain decimals for ordinary magnitudes,
-/// exponent notation for very large or small ones (Rust's `{}` never uses an exponent).
-fn show(value: f64) -> String {
-    let magnitude = value.abs();
-    if value == 0.0 || !value.is_finite() || (1e-4..1e15).contains(&magnitude) {
-        format!("{value}")
-    } else {
-        format!("{value:e}")
-    }
-}
-
-/// A computed number to six significant digits, so that rounding noise such as
-/// 333.33333333333337 does not clutter a message.
-fn show_rounded(value: f64) -> String {
-    let magnitude = value.abs();
-    if value == 0.0 || !value.is_finite() || !(1e-4..1e15).contains(&magnitude) {
-        return show(value);
-    }
-    let decimals = (5 - magnitude.log10().floor() as i32).max(0) as usize;
-    let text = format!("{value:.decimals$}");
-    if text.contains('.') {
-        text.trim_end_matches('0').trim_end_matches('.').to_string()
-    } else {
-        text
-    }
-}
-
-fn show_list(values: &[f64]) -> String {
-    let shown: Vec<String> = values.iter().map(|&v| show(v)).collect();
-    format!("[{}]", shown.join(", "))
-}
-
 #[cfg(test)]
 mod tests {
     use super::super::Scenario;
-    use super::{show, show_rounded};
     use crate::scenario::ScenarioError;
 
     /// A valid scenario with two backgrounds, edited line by line by the tests below.
@@ -1030,17 +945,5 @@ plan:
         assert!(message.contains("no sensitivity"), "{message}");
         // With a relative uncertainty it is a valid counting window.
         accepted(&one_bin.replacen("norm_uncertainty: free", "norm_uncertainty: 0.2", 1));
-    }
-
-    #[test]
-    fn numbers_are_shown_as_written() {
-        assert_eq!(show(-3.0), "-3");
-        assert_eq!(show(0.05), "0.05");
-        assert_eq!(show(1e-9), "1e-9");
-        assert_eq!(show(f64::NAN), "NaN");
-        assert_eq!(show_rounded(100.0 / 0.3), "333.333");
-        assert_eq!(show_rounded(-0.001000000000000112), "-0.001");
-        assert_eq!(show_rounded(50.050000000000004), "50.05");
-        assert_eq!(show_rounded(200.0), "200");
     }
 }

@@ -1,7 +1,9 @@
 //! Non-relativistic Breit-Wigner (Cauchy) peak truncated to the range.
 
 use super::tails::{TailEdge, fill_masses, mass_between};
-use super::{Peak, Shape, mark_invalid, normalise_masses};
+use super::{
+    ParameterSyntax, Peak, Shape, ShapeKind, finite, mark_invalid, normalise_masses, positive,
+};
 use std::f64::consts::FRAC_PI_2;
 
 /// Mass on each side of the centre in units of pi times probability, the units
@@ -21,6 +23,19 @@ pub struct BreitWigner {
     mean: f64,
     width: f64,
 }
+
+/// `{breit_wigner: {mean: M, width: W}}`: any finite mean, a positive full width.
+pub(super) const KIND: ShapeKind = ShapeKind {
+    key: "breit_wigner",
+    parameters: &[ParameterSyntax::number("mean"), ParameterSyntax::number("width")],
+    example: "{breit_wigner: {mean: M, width: W}}",
+    explanation: &["Cauchy peak; W = full width at half maximum, in `unit`"],
+    build: |values, _| {
+        let mean = finite("breit_wigner.mean", values[0].number())?;
+        let width = positive("breit_wigner.width", values[1].number())?;
+        Ok(Box::new(BreitWigner::new(mean, width)))
+    },
+};
 
 impl BreitWigner {
     pub fn new(mean: f64, width: f64) -> BreitWigner {

@@ -1,6 +1,6 @@
 //! Exponential density on the range.
 
-use super::{Shape, mark_invalid, normalise_masses, range_of};
+use super::{ParameterSyntax, Shape, ShapeKind, finite, mark_invalid, normalise_masses, range_of};
 
 /// Below this |slope| × range width the density differs from a flat one by
 /// less than double-precision rounding.
@@ -36,6 +36,18 @@ const SHARED_HALF_WIDTH: f64 = 1e-12;
 pub struct Exponential {
     slope: f64,
 }
+
+/// `{exponential: {slope: K}}`: any finite slope.
+pub(super) const KIND: ShapeKind = ShapeKind {
+    key: "exponential",
+    parameters: &[ParameterSyntax::number("slope")],
+    example: "{exponential: {slope: K}}",
+    explanation: &["density proportional to exp(K x); K in 1/`unit`"],
+    build: |values, _| {
+        let slope = finite("exponential.slope", values[0].number())?;
+        Ok(Box::new(Exponential::new(slope)))
+    },
+};
 
 impl Exponential {
     pub fn new(slope: f64) -> Exponential {

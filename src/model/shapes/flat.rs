@@ -1,11 +1,20 @@
 //! Flat density on the range.
 
-use super::{Shape, normalise_masses};
+use super::{Shape, ShapeKind, normalise_masses};
 
 /// Uniform density 1 / (high - low) on the range; each bin holds its width over
 /// the range width. No parameters.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct Flat;
+
+/// `{flat: {}}`.
+pub(super) const KIND: ShapeKind = ShapeKind {
+    key: "flat",
+    parameters: &[],
+    example: "{flat: {}}",
+    explanation: &["uniform on the range"],
+    build: |_, _| Ok(Box::new(Flat)),
+};
 
 impl Shape for Flat {
     fn parameter_names(&self) -> Vec<String> {

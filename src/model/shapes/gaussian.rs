@@ -1,7 +1,10 @@
 //! Gaussian peak truncated to the range.
 
 use super::tails::{TailEdge, fill_masses, mass_between};
-use super::{Peak, Shape, mark_invalid, normalise_masses, range_of};
+use super::{
+    ParameterSyntax, Peak, Shape, ShapeKind, finite, mark_invalid, normalise_masses, positive,
+    range_of,
+};
 use statrs::function::erf::erfc;
 use std::f64::consts::{PI, SQRT_2};
 
@@ -28,6 +31,19 @@ pub struct Gaussian {
     mean: f64,
     sigma: f64,
 }
+
+/// `{gaussian: {mean: M, sigma: S}}`: any finite mean, a positive sigma.
+pub(super) const KIND: ShapeKind = ShapeKind {
+    key: "gaussian",
+    parameters: &[ParameterSyntax::number("mean"), ParameterSyntax::number("sigma")],
+    example: "{gaussian: {mean: M, sigma: S}}",
+    explanation: &["normal peak; M and S in `unit`"],
+    build: |values, _| {
+        let mean = finite("gaussian.mean", values[0].number())?;
+        let sigma = positive("gaussian.sigma", values[1].number())?;
+        Ok(Box::new(Gaussian::new(mean, sigma)))
+    },
+};
 
 impl Gaussian {
     pub fn new(mean: f64, sigma: f64) -> Gaussian {

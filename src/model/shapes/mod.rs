@@ -2,24 +2,179 @@
 //!
 //! Every shape is normalised on the fitted range `[edges[0], edges[last]]` and
 //! its bin fractions come from a closed-form cumulative distribution, never from
-//! sampling. One shape per file, all behind the [`Shape`] trait.
+//! sampling. One shape per file, all behind the [`Shape`] trait; each file also
+//! holds its [`ShapeKind`]: how a scenario writes it, and the constructor that
+//! checks its values. [`SHAPE_KINDS`] registers them, one line per file.
+//!
+//! This module imports nothing from the rest of the pipeline, so the scenario
+//! reads and checks shapes with the same registry the model builds them from.
 
 #[cfg(test)]
 #[macro_use]
 mod contract;
 
-mod breit_wigner;
-mod exponential;
-mod flat;
-mod gaussian;
-mod polynomial;
 mod tails;
 
-pub use breit_wigner::BreitWigner;
-pub use exponential::Exponential;
-pub use flat::Flat;
-pub use gaussian::Gaussian;
-pub use polynomial::{MAX_DEGREE as MAX_POLYNOMIAL_DEGREE, Polynomial, PolynomialError};
+use crate::message::{not_finite, not_positive};
+use std::fmt;
+
+/// Declares each shape file and registers its `KIND` in [`SHAPE_KINDS`], in
+/// the order shape kinds are listed to users.
+macro_rules! register_shapes {
+    ($($file:ident),* $(,)?) => {
+        $(mod $file;)*
+
+        /// Every shape a scenario can name.
+        pub const SHAPE_KINDS: &[ShapeKind] = &[$($file::KIND),*];
+    };
+}
+
+register_shapes! {
+    gaussian,
+    breit_wigner,
+    exponential,
+    polynomial,
+    flat,
+}
+
+/// A shape as a scenario names it: the key of its one-key mapping, its
+/// parameters, and the constructor that checks them.
+pub struct ShapeKind {
+    /// The key of the mapping, e.g. `gaussian` in `{gaussian: {mean: 67.0, sigma: 0.8}}`.
+    pub key: &'static str,
+    /// The parameters inside the mapping, each required, in the order of the
+    /// values given to `build`.
+    pub parameters: &'static [ParameterSyntax],
+    /// How the scenario template shows the mapping, e.g. `{gaussian: {mean: M, sigma: S}}`.
+    pub example: &'static str,
+    /// What the template says about it, one entry per comment line.
+    pub explanation: &'static [&'static str],
+    /// The shape for these values (in the order of `parameters`), or which
+    /// value is wrong and why.
+    pub build: fn(&[ParameterValue], Placement) -> Built,
+}
+
+/// A shape built from a scenario's values, or why they make none.
+pub type Built = Result<Box<dyn Shape>, ShapeError>;
+
+impl fmt::Debug for ShapeKind {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "ShapeKind({})", self.key)
+    }
+}
+
+/// Kinds are told apart by their key.
+impl PartialEq for ShapeKind {
+    fn eq(&self, other: &ShapeKind) -> bool {
+        self.key == other.key
+    }
+}
+
+impl ShapeKind {
+    /// The registered shape written with `key`.
+    pub fn find(key: &str) -> Option<&'static ShapeKind> {
+        SHAPE_KINDS.iter().find(|kind| kind.key == key)
+    }
+
+    /// Builds the shape, first checking that `values` have the kinds of
+    /// `parameters` (the scenario parser guarantees it).
+    pub fn build(&self, values: &[ParameterValue], placement: Placement) -> Built {
+        let fits = values.len() == self.parameters.len()
+            && values
+                .iter()
+                .zip(self.parameters)
+                .all(|(value, syntax)| value.is_list() == syntax.list);
+        assert!(fits, "{values:?} do not match the parameters of {self:?}");
+        (self.build)(values, placement)
+    }
+}
+
+/// One parameter as written inside a shape's mapping.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct ParameterSyntax {
+    pub name: &'static str,
+    /// A list of numbers rather than one number.
+    pub list: bool,
+}
+
+impl ParameterSyntax {
+    /// A parameter written as one number.
+    pub const fn number(name: &'static str) -> ParameterSyntax {
+        ParameterSyntax { name, list: false }
+    }
+
+    /// A parameter written as a list of numbers.
+    pub const fn list(name: &'static str) -> ParameterSyntax {
+        ParameterSyntax { name, list: true }
+    }
+}
+
+/// The value of one parameter as read from a scenario.
+#[derive(Debug, Clone, PartialEq)]
+pub enum ParameterValue {
+    Number(f64),
+    List(Vec<f64>),
+}
+
+impl ParameterValue {
+    fn is_list(&self) -> bool {
+        matches!(self, ParameterValue::List(_))
+    }
+
+    /// The number of a parameter declared with [`ParameterSyntax::number`].
+    pub fn number(&self) -> f64 {
+        match self {
+            ParameterValue::Number(value) => *value,
+            ParameterValue::List(_) => unreachable!("checked by ShapeKind::build"),
+        }
+    }
+
+    /// The numbers of a parameter declared with [`ParameterSyntax::list`].
+    pub fn list(&self) -> &[f64] {
+        match self {
+            ParameterValue::List(values) => values,
+            ParameterValue::Number(_) => unreachable!("checked by ShapeKind::build"),
+        }
+    }
+}
+
+/// Where a shape is used: the observable's range, and whether a fit floats
+/// its parameters.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Placement {
+    pub range: [f64; 2],
+    pub floated: bool,
+}
+
+/// Why values written for a shape make no density, located for the user.
+#[derive(Debug, Clone, PartialEq)]
+pub enum ShapeError {
+    /// A value is wrong; `field` is its dotted path inside the `shape` key,
+    /// e.g. `gaussian.sigma` or `polynomial.coefficients[1]`.
+    Value { field: String, message: String },
+    /// The shape is a density but cannot float (a fault of `float_shape`).
+    CannotFloat { message: String },
+}
+
+/// `value` if it is finite, else the error naming `field`.
+fn finite(field: &str, value: f64) -> Result<f64, ShapeError> {
+    checked(field, value, not_finite(value))
+}
+
+/// `value` if it is positive and finite, else the error naming `field`.
+fn positive(field: &str, value: f64) -> Result<f64, ShapeError> {
+    checked(field, value, not_positive(value))
+}
+
+fn checked(field: &str, value: f64, problem: Option<String>) -> Result<f64, ShapeError> {
+    match problem {
+        None => Ok(value),
+        Some(message) => Err(ShapeError::Value {
+            field: field.to_string(),
+            message,
+        }),
+    }
+}
 
 /// A normalised density on a range, with parameters that may float in fits.
 ///
@@ -226,4 +381,64 @@ fn central_difference(
         .zip(&lower)
         .map(|(up, down)| (up - down) / (2.0 * step))
         .collect()
+}
+
+#[cfg(test)]
+mod registry_tests {
+    use super::*;
+
+    /// Values for every parameter of `kind`, each `number` (lists of two).
+    fn values_of(kind: &ShapeKind, number: f64) -> Vec<ParameterValue> {
+        kind.parameters
+            .iter()
+            .map(|p| match p.list {
+                true => ParameterValue::List(vec![number, number]),
+                false => ParameterValue::Number(number),
+            })
+            .collect()
+    }
+
+    #[test]
+    fn keys_are_distinct_and_found() {
+        for (index, kind) in SHAPE_KINDS.iter().enumerate() {
+            assert_eq!(ShapeKind::find(kind.key), Some(kind));
+            assert!(SHAPE_KINDS[..index].iter().all(|k| k.key != kind.key));
+            assert!(kind.example.starts_with(&format!("{{{}: ", kind.key)));
+            assert!(!kind.explanation.is_empty());
+        }
+        assert_eq!(ShapeKind::find("gausian"), None);
+    }
+
+    /// A NaN in any value is refused, naming the first parameter inside the
+    /// shape's key; a valid value gives a shape with one nominal value per
+    /// parameter name.
+    #[test]
+    fn every_kind_checks_its_values() {
+        let placement = Placement {
+            range: [1.0, 3.0],
+            floated: false,
+        };
+        for kind in SHAPE_KINDS {
+            let shape = kind
+                .build(&values_of(kind, 1.0), placement)
+                .unwrap_or_else(|error| panic!("{}: {error:?}", kind.key));
+            assert_eq!(
+                shape.parameter_names().len(),
+                shape.nominal_parameters().len()
+            );
+            let Some(first) = kind.parameters.first() else {
+                continue;
+            };
+            match kind.build(&values_of(kind, f64::NAN), placement) {
+                Err(ShapeError::Value { field, message }) => {
+                    assert!(
+                        field.starts_with(&format!("{}.{}", kind.key, first.name)),
+                        "{field}"
+                    );
+                    assert!(message.ends_with("got NaN"), "{message}");
+                }
+                other => panic!("{}: {other:?}", kind.key),
+            }
+        }
+    }
 }

@@ -1,6 +1,10 @@
 //! Polynomial density on the range, written in the Bernstein basis.
 
-use super::{Shape, mark_invalid};
+use super::{
+    Built, ParameterSyntax, ParameterValue, Placement, Shape, ShapeError, ShapeKind, finite,
+};
+use super::mark_invalid;
+use crate::message::{show, show_list, show_rounded};
 
 /// Highest degree of the Bernstein form, also after degree elevation. Beyond
 /// it the power-basis coefficients of a scenario lose their meaning to
@@ -53,6 +57,79 @@ pub enum PolynomialError {
     Negative { at: f64, value: f64 },
     /// The polynomial is zero everywhere on the range.
     Zero,
+}
+
+/// `{polynomial: {coefficients: [c0, c1, ...]}}`: finite coefficients of a
+/// polynomial that is a density on the range ([`Polynomial::new`]); when it
+/// floats, one with a non-negative Bernstein form ([`Polynomial::can_float`]).
+pub(super) const KIND: ShapeKind = ShapeKind {
+    key: "polynomial",
+    parameters: &[ParameterSyntax::list("coefficients")],
+    example: "{polynomial: {coefficients: [c0, c1, ...]}}",
+    explanation: &[
+        "density proportional to c0 + c1 x + c2 x^2 + ...;",
+        "must not be negative anywhere on the range",
+    ],
+    build: build_from_scenario,
+};
+
+const FIELD: &str = "polynomial.coefficients";
+
+/// The polynomial of a scenario's coefficients, each error naming the field.
+fn build_from_scenario(values: &[ParameterValue], placement: Placement) -> Built {
+    let coefficients = values[0].list();
+    for (power, &coefficient) in coefficients.iter().enumerate() {
+        finite(&format!("{FIELD}[{power}]"), coefficient)?;
+    }
+    let polynomial = Polynomial::new(coefficients, placement.range).map_err(|error| {
+        ShapeError::Value {
+            field: FIELD.to_string(),
+            message: error.describe(coefficients, placement.range),
+        }
+    })?;
+    if placement.floated && !polynomial.can_float() {
+        let [low, high] = placement.range;
+        return Err(ShapeError::CannotFloat {
+            message: format!(
+                "a floated polynomial must be positive on the range [{}, {}] by a margin its Bernstein coefficients of degree {MAX_DEGREE} or less can show, but shape.{FIELD} {} touches or nearly touches zero; raise its lowest point or set float_shape: false",
+                show(low),
+                show(high),
+                show_list(coefficients)
+            ),
+        });
+    }
+    Ok(Box::new(polynomial))
+}
+
+impl PolynomialError {
+    /// The message for `coefficients` on `range` (a scenario's field).
+    fn describe(self, coefficients: &[f64], range: [f64; 2]) -> String {
+        let [low, high] = range;
+        match self {
+            PolynomialError::Empty => {
+                "needs at least one coefficient [c0, c1, ...], got an empty list".to_string()
+            }
+            PolynomialError::TooManyCoefficients => format!(
+                "takes at most {} coefficients (degree {MAX_DEGREE}), got {}",
+                MAX_DEGREE + 1,
+                coefficients.len()
+            ),
+            PolynomialError::Negative { at, value } => format!(
+                "the polynomial must not be negative on the range [{}, {}], but is {} at x = {}; got {}",
+                show(low),
+                show(high),
+                show_rounded(value),
+                show_rounded(at),
+                show_list(coefficients)
+            ),
+            PolynomialError::Zero => format!(
+                "the polynomial is zero everywhere on the range [{}, {}]; got {}",
+                show(low),
+                show(high),
+                show_list(coefficients)
+            ),
+        }
+    }
 }
 
 impl Polynomial {

@@ -1,0 +1,79 @@
+//! Numbers in error messages, shown as a user would write them, and the
+//! wording of the checks every stage makes on a single number.
+
+/// Why `value` is no finite number, or None when it is one.
+pub fn not_finite(value: f64) -> Option<String> {
+    (!value.is_finite()).then(|| format!("must be a finite number, got {}", show(value)))
+}
+
+/// Why `value` is no positive finite number, or None when it is one.
+pub fn not_positive(value: f64) -> Option<String> {
+    (!(value.is_finite() && value > 0.0))
+        .then(|| format!("must be a positive finite number, got {}", show(value)))
+}
+
+/// A number as a user would write it: plain decimals for ordinary magnitudes,
+/// exponent notation for very large or small ones (Rust's `{}` never uses an exponent).
+pub fn show(value: f64) -> String {
+    let magnitude = value.abs();
+    if value == 0.0 || !value.is_finite() || (1e-4..1e15).contains(&magnitude) {
+        format!("{value}")
+    } else {
+        format!("{value:e}")
+    }
+}
+
+/// A computed number to six significant digits, so that rounding noise such as
+/// 333.33333333333337 does not clutter a message.
+pub fn show_rounded(value: f64) -> String {
+    let magnitude = value.abs();
+    if value == 0.0 || !value.is_finite() || !(1e-4..1e15).contains(&magnitude) {
+        return show(value);
+    }
+    let decimals = (5 - magnitude.log10().floor() as i32).max(0) as usize;
+    let text = format!("{value:.decimals$}");
+    if text.contains('.') {
+        text.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        text
+    }
+}
+
+/// A list of numbers as written in YAML, e.g. `[1, -0.5]`.
+pub fn show_list(values: &[f64]) -> String {
+    let shown: Vec<String> = values.iter().map(|&v| show(v)).collect();
+    format!("[{}]", shown.join(", "))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn numbers_are_shown_as_written() {
+        assert_eq!(show(-3.0), "-3");
+        assert_eq!(show(0.05), "0.05");
+        assert_eq!(show(1e-9), "1e-9");
+        assert_eq!(show(f64::NAN), "NaN");
+        assert_eq!(show_rounded(100.0 / 0.3), "333.333");
+        assert_eq!(show_rounded(-0.001000000000000112), "-0.001");
+        assert_eq!(show_rounded(50.050000000000004), "50.05");
+        assert_eq!(show_rounded(200.0), "200");
+        assert_eq!(show_list(&[1.0, -0.5]), "[1, -0.5]");
+    }
+
+    #[test]
+    fn single_number_checks_name_the_value() {
+        assert_eq!(not_finite(2.0), None);
+        assert_eq!(
+            not_finite(f64::INFINITY).as_deref(),
+            Some("must be a finite number, got inf")
+        );
+        assert_eq!(not_positive(0.5), None);
+        assert_eq!(
+            not_positive(-3.0).as_deref(),
+            Some("must be a positive finite number, got -3")
+        );
+        assert!(not_positive(f64::NAN).is_some());
+    }
+}
