@@ -9,7 +9,7 @@
 //! `spectrum` draws pseudo-data spectra and `binning` scans bin widths and
 //! counting windows, both for planning beside the projection;
 //! `cli` and `commands` are the command-line front end; `benchmark` measures
-//! the engine.
+//! the engine; `message` words the numbers in error messages.
 
 pub mod asymptotic;
 pub mod benchmark;
