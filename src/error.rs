@@ -36,7 +36,7 @@ impl fmt::Display for Error {
         match self {
             // A read error names the file itself.
             Error::Scenario {
-                source: source @ ScenarioError::Read { .. },
+                source: source @ (ScenarioError::Read { .. } | ScenarioError::TooLarge { .. }),
                 ..
             } => write!(f, "{source}"),
             Error::Scenario { path, source } => write!(f, "{}: {source}", path.display()),

@@ -4,14 +4,17 @@
 //! Each rejection names the field by its dotted path, the value found and what
 //! is expected, so that the user can fix the file from the message alone.
 
+use super::limits::{
+    MAX_BINS, MAX_GRID_POINTS, MAX_TARGET_SIGMA, MAX_TARGETS, MAX_TEXT_CHARS, MAX_TOYS_IN_TOTAL,
+    MAX_TOYS_PER_POINT,
+};
 use super::{
     Background, DaysGrid, NormUncertainty, Observable, Plan, Scenario, ScenarioError, Schedule,
     ShapeSpec, Signal,
 };
 
-/// Largest number of bins accepted: every fit of every pseudo-experiment
-/// touches every bin, so far finer binning only costs time.
-const MAX_BINS: f64 = 100_000.0;
+/// Ensembles a default `project` run draws at each point: discovery and limits.
+const ENSEMBLES_PER_POINT: u64 = 2;
 
 /// Relative tolerance on `(high - low) / bin_width` being a whole number,
 /// allowing for decimal bin widths such as 0.1 that binary floating point cannot hold.
@@ -114,6 +117,7 @@ fn first_day_without_exposure(scenario: &Scenario) -> Option<String> {
 
 fn validate_observable(observable: &Observable) -> Checked<Range> {
     require_text("observable.name", &observable.name)?;
+    require_plain_text("observable.unit", &observable.unit)?;
     let [low, high] = observable.range;
     if !low.is_finite() || !high.is_finite() {
         return Err(ScenarioError::invalid(
@@ -146,14 +150,13 @@ fn validate_bin_width(bin_width: f64, range: Range) -> Checked {
     require_positive(field, bin_width)?;
     let span = range.high - range.low;
     let bins = span / bin_width;
-    if bins > MAX_BINS {
+    if bins > MAX_BINS as f64 {
         return Err(ScenarioError::invalid(
             field,
             format!(
-                "gives {} bins on a range of width {}, more than the {} allowed; got {}",
+                "gives {} bins on a range of width {}, more than the {MAX_BINS} allowed; got {}",
                 show_rounded(bins),
                 show_rounded(span),
-                show(MAX_BINS),
                 show(bin_width)
             ),
         ));
@@ -167,7 +170,7 @@ fn validate_bin_width(bin_width: f64, range: Range) -> Checked {
                 show(range.high),
                 show_rounded(span),
                 show(bin_width),
-                show_rounded(bins)
+                show_fraction(bins)
             ),
         ));
     }
@@ -341,21 +344,8 @@ fn validate_schedule(schedule: &Schedule) -> Checked {
 
 fn validate_plan(plan: &Plan) -> Checked {
     validate_days_grid(&plan.days)?;
-    if plan.toys == 0 {
-        return Err(ScenarioError::invalid(
-            "plan.toys",
-            "must be at least 1 pseudo-experiment, got 0",
-        ));
-    }
-    if plan.targets.is_empty() {
-        return Err(ScenarioError::invalid(
-            "plan.targets",
-            "at least one target significance (in sigma) is needed, got an empty list",
-        ));
-    }
-    for (index, &target) in plan.targets.iter().enumerate() {
-        require_positive(&format!("plan.targets[{index}]"), target)?;
-    }
+    validate_toys(plan)?;
+    validate_targets(&plan.targets)?;
     if !(plan.cl > 0.5 && plan.cl < 1.0) {
         return Err(ScenarioError::invalid(
             "plan.cl",
@@ -364,6 +354,75 @@ fn validate_plan(plan: &Plan) -> Checked {
                 plan.cl
             ),
         ));
+    }
+    Ok(())
+}
+
+/// At least one pseudo-experiment per point, at most [`MAX_TOYS_PER_POINT`],
+/// and at most [`MAX_TOYS_IN_TOTAL`] over the discovery and limit ensembles of
+/// every point.
+fn validate_toys(plan: &Plan) -> Checked {
+    let field = "plan.toys";
+    if plan.toys == 0 {
+        return Err(ScenarioError::invalid(
+            field,
+            "must be at least 1 pseudo-experiment, got 0",
+        ));
+    }
+    if plan.toys > MAX_TOYS_PER_POINT {
+        return Err(ScenarioError::invalid(
+            field,
+            format!(
+                "must be at most {MAX_TOYS_PER_POINT} pseudo-experiments per point, got {}",
+                plan.toys
+            ),
+        ));
+    }
+    let total = (plan.toys as u64)
+        .saturating_mul(plan.days.points as u64)
+        .saturating_mul(ENSEMBLES_PER_POINT);
+    if total > MAX_TOYS_IN_TOTAL {
+        return Err(ScenarioError::invalid(
+            field,
+            format!(
+                "{} pseudo-experiments at each of {} points, for discovery and for limits, make {total}, more than the {MAX_TOYS_IN_TOTAL} allowed in one projection",
+                plan.toys, plan.days.points
+            ),
+        ));
+    }
+    Ok(())
+}
+
+/// One to [`MAX_TARGETS`] significances, each above 0 and at most [`MAX_TARGET_SIGMA`].
+fn validate_targets(targets: &[f64]) -> Checked {
+    if targets.is_empty() {
+        return Err(ScenarioError::invalid(
+            "plan.targets",
+            "at least one target significance (in sigma) is needed, got an empty list",
+        ));
+    }
+    if targets.len() > MAX_TARGETS {
+        return Err(ScenarioError::invalid(
+            "plan.targets",
+            format!(
+                "at most {MAX_TARGETS} target significances are allowed, got {}",
+                targets.len()
+            ),
+        ));
+    }
+    for (index, &target) in targets.iter().enumerate() {
+        let field = format!("plan.targets[{index}]");
+        require_positive(&field, target)?;
+        if target > MAX_TARGET_SIGMA {
+            return Err(ScenarioError::invalid(
+                field,
+                format!(
+                    "must be at most {} sigma, got {}",
+                    show(MAX_TARGET_SIGMA),
+                    show(target)
+                ),
+            ));
+        }
     }
     Ok(())
 }
@@ -396,6 +455,10 @@ fn validate_days_grid(days: &DaysGrid) -> Checked {
                 show(days.first)
             ),
         )),
+        points if points > MAX_GRID_POINTS => Err(ScenarioError::invalid(
+            "plan.days.points",
+            format!("must be at most {MAX_GRID_POINTS} points, got {points}"),
+        )),
         points if points > 1 && days.last == days.first => Err(ScenarioError::invalid(
             "plan.days.last",
             format!(
@@ -407,11 +470,34 @@ fn validate_days_grid(days: &DaysGrid) -> Checked {
     }
 }
 
+/// Text that is not blank, see [`require_plain_text`].
 fn require_text(field: &str, text: &str) -> Checked {
     if text.trim().is_empty() {
         return Err(ScenarioError::invalid(
             field,
             format!("must not be empty, got {text:?}"),
+        ));
+    }
+    require_plain_text(field, text)
+}
+
+/// Text of at most [`MAX_TEXT_CHARS`] characters without control characters
+/// (line breaks, tabs, escapes), which go into titles, labels and file contents.
+fn require_plain_text(field: &str, text: &str) -> Checked {
+    let length = text.chars().count();
+    if length > MAX_TEXT_CHARS {
+        return Err(ScenarioError::invalid(
+            field,
+            format!("must be at most {MAX_TEXT_CHARS} characters long, got {length}"),
+        ));
+    }
+    if let Some(control) = text.chars().find(|c| c.is_control()) {
+        return Err(ScenarioError::invalid(
+            field,
+            format!(
+                "must not contain control characters, got {:?} in {text:?}",
+                control
+            ),
         ));
     }
     Ok(())
@@ -452,7 +538,7 @@ fn require_relative_uncertainty(field: &str, relative: f64) -> Checked {
 
 /// A number as a user would write it: plain decimals for ordinary magnitudes,
 /// exponent notation for very large or small ones (Rust's `{}` never uses an exponent).
-fn show(value: f64) -> String {
+pub(crate) fn show(value: f64) -> String {
     let magnitude = value.abs();
     if value == 0.0 || !value.is_finite() || (1e-4..1e15).contains(&magnitude) {
         format!("{value}")
@@ -474,6 +560,17 @@ fn show_rounded(value: f64) -> String {
         text.trim_end_matches('0').trim_end_matches('.').to_string()
     } else {
         text
+    }
+}
+
+/// A computed count that should be whole: rounded like [`show_rounded`],
+/// unless rounding would make a fractional count look whole.
+fn show_fraction(value: f64) -> String {
+    let rounded = show_rounded(value);
+    if value.fract() != 0.0 && !rounded.contains(['.', 'e']) {
+        show(value)
+    } else {
+        rounded
     }
 }
 
