@@ -10,6 +10,7 @@
 use crate::asymptotic::AsimovSignificance;
 use crate::likelihood::{FitFailure, Likelihood};
 use crate::model::{Model, fraction_inside, shape_from_spec};
+use crate::scenario::limits::MAX_BINS;
 use crate::scenario::{NormUncertainty, Scenario, ShapeSpec};
 use serde::Serialize;
 use std::fmt;
@@ -27,6 +28,9 @@ pub const WIDEST_WINDOW_IN_SIGNAL_WIDTHS: usize = 5;
 /// The recommended bin width is the coarsest whose Z_A is within this
 /// fraction of the best.
 pub const RECOMMENDATION_TOLERANCE: f64 = 0.01;
+/// Smallest window step relative to the peak position (or the range width,
+/// if larger): a thousand times the spacing of doubles, so windows differ.
+pub const SMALLEST_RELATIVE_STEP: f64 = 1e-12;
 /// A signal without a peak is given a width of the range over this number, so
 /// that the scans reach the whole range.
 const PEAKLESS_WIDTHS_PER_RANGE: f64 = 5.0;
@@ -77,22 +81,37 @@ pub struct BinningScan {
     pub best_window: WindowPoint,
 }
 
-/// An Asimov fit of the scan failed.
+/// Why a scan could not be made.
 #[derive(Debug, Clone, PartialEq)]
-pub struct BinningError {
-    /// What was being evaluated, e.g. "bin width 0.25 MeV".
-    pub subject: String,
-    pub live_days: f64,
-    pub failure: FitFailure,
+pub enum BinningError {
+    /// An Asimov fit of the scan failed.
+    Fit {
+        /// What was being evaluated, e.g. "bin width 0.25 MeV".
+        subject: String,
+        live_days: f64,
+        failure: FitFailure,
+    },
+    /// The signal is too narrow for its window steps to be told apart from
+    /// its position in double precision (see [`SMALLEST_RELATIVE_STEP`]).
+    TooNarrow { width: f64, centre: f64 },
 }
 
 impl fmt::Display for BinningError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        write!(
-            f,
-            "the Asimov fit for {} at {:.6} live days failed: {}",
-            self.subject, self.live_days, self.failure
-        )
+        match self {
+            BinningError::Fit {
+                subject,
+                live_days,
+                failure,
+            } => write!(
+                f,
+                "the Asimov fit for {subject} at {live_days:.6} live days failed: {failure}"
+            ),
+            BinningError::TooNarrow { width, centre } => write!(
+                f,
+                "signal.shape: a peak width of {width:e} at {centre} is too narrow to scan; window steps of a {WINDOW_STEPS_PER_SIGNAL_WIDTH}th of it must exceed {SMALLEST_RELATIVE_STEP:e} times the larger of the position and the range width"
+            ),
+        }
     }
 }
 
@@ -104,8 +123,16 @@ pub fn scan_binning(scenario: &Scenario, days: f64) -> Result<BinningScan, Binni
     let observable = &scenario.observable;
     let live_days = Model::from_scenario(scenario).live_time.live_days(days);
     let peak = signal_peak(&scenario.signal.shape, observable.range);
+    let [low, high] = observable.range;
+    let scale = peak.centre.abs().max(high - low);
+    if peak.width / (WINDOW_STEPS_PER_SIGNAL_WIDTH as f64) < SMALLEST_RELATIVE_STEP * scale {
+        return Err(BinningError::TooNarrow {
+            width: peak.width,
+            centre: peak.centre,
+        });
+    }
     let failed = |subject: String| {
-        move |failure| BinningError {
+        move |failure| BinningError::Fit {
             subject,
             live_days,
             failure,
@@ -185,8 +212,8 @@ fn densest_point(spec: &ShapeSpec, range: [f64; 2]) -> f64 {
 
 /// Round widths (1, 1.25, 2, 2.5, 4, 5, 8 times a power of ten) from
 /// [`FINEST_BIN_IN_SIGNAL_WIDTHS`] to [`WIDEST_BIN_IN_SIGNAL_WIDTHS`] signal
-/// widths that divide the range into a whole number of bins, and the
-/// scenario's own width; increasing.
+/// widths that divide the range into a whole number of bins, at most
+/// [`MAX_BINS`] as a scenario allows, and the scenario's own width; increasing.
 pub fn candidate_bin_widths(range: [f64; 2], signal_width: f64, scenario_width: f64) -> Vec<f64> {
     let finest = FINEST_BIN_IN_SIGNAL_WIDTHS * signal_width;
     let widest = WIDEST_BIN_IN_SIGNAL_WIDTHS * signal_width;
@@ -214,10 +241,11 @@ fn times_power_of_ten(mantissa: f64, decade: i32) -> f64 {
     }
 }
 
-/// Whether `width` splits the range into a whole number of bins, to rounding.
+/// Whether `width` splits the range into a whole number of bins, to
+/// rounding, and no more than [`MAX_BINS`].
 fn divides(range: [f64; 2], width: f64) -> bool {
     let bins = (range[1] - range[0]) / width;
-    bins.round() >= 1.0 && (bins - bins.round()).abs() <= 1e-9 * bins
+    bins.round() >= 1.0 && bins <= MAX_BINS as f64 && (bins - bins.round()).abs() <= 1e-9 * bins
 }
 
 /// Z_A of the binned shape fit of `scenario` with bins of `bin_width`, which

@@ -10,7 +10,7 @@ mod spectrum;
 use crate::cli::{Cli, Command};
 use crate::error::Error;
 use crate::model::Model;
-use crate::scenario::Scenario;
+use crate::scenario::{Scenario, show_number};
 use std::path::{Path, PathBuf};
 
 /// Runs one command line.
@@ -53,13 +53,15 @@ fn output_directory(scenario: &Path, out: Option<&Path>) -> PathBuf {
 fn check_days(scenario: &Scenario, days: f64) -> Result<(), Error> {
     if !(days.is_finite() && days > 0.0) {
         return Err(Error::Usage(format!(
-            "--days {days}: expected calendar days above 0"
+            "--days {}: expected calendar days above 0",
+            show_number(days)
         )));
     }
     let live_days = Model::from_scenario(scenario).live_time.live_days(days);
     if live_days <= 0.0 {
         return Err(Error::Usage(format!(
-            "--days {days}: the schedule gives no live time by then (live days {live_days})"
+            "--days {}: the schedule gives no live time by then (live days {live_days})",
+            show_number(days)
         )));
     }
     Ok(())

@@ -3,15 +3,35 @@
 use super::{check_days, load_scenario, output_directory};
 use crate::cli::SpectrumArgs;
 use crate::error::Error;
+use crate::model::Model;
 use crate::report;
-use crate::spectrum::pseudo_data_spectrum;
+use crate::scenario::limits::{MAX_EXPECTED_COUNT_PER_BIN, MAX_SPECTRUM_EXPOSURES};
+use crate::scenario::show_number;
+use crate::spectrum::{largest_expected_count, pseudo_data_spectrum};
 
 pub fn run(args: &SpectrumArgs) -> Result<(), Error> {
     let scenario = load_scenario(&args.scenario)?;
+    if args.days.len() > MAX_SPECTRUM_EXPOSURES {
+        return Err(Error::Usage(format!(
+            "--days: at most {MAX_SPECTRUM_EXPOSURES} exposures fit in one figure, got {}",
+            args.days.len()
+        )));
+    }
+    let model = Model::from_scenario(&scenario);
     for (index, &days) in args.days.iter().enumerate() {
         check_days(&scenario, days)?;
         if args.days[..index].contains(&days) {
-            return Err(Error::Usage(format!("--days {days}: given more than once")));
+            return Err(Error::Usage(format!(
+                "--days {}: given more than once",
+                show_number(days)
+            )));
+        }
+        let largest = largest_expected_count(&model, model.live_time.live_days(days));
+        if largest > MAX_EXPECTED_COUNT_PER_BIN {
+            return Err(Error::Usage(format!(
+                "--days {}: expects {largest:e} events in a bin, more than the {MAX_EXPECTED_COUNT_PER_BIN:e} a pseudo-dataset can draw exactly",
+                show_number(days)
+            )));
         }
     }
     let seed = args.seed.unwrap_or(scenario.plan.seed);

@@ -100,11 +100,10 @@ pub const BINNING_SVG: &str = "binning.svg";
 /// File name of the binning scan as JSON.
 pub const BINNING_JSON: &str = "binning.json";
 
-/// Renders the spectra in memory: `spectrum-<D>d.svg` and `spectrum-<D>d.csv`,
-/// with one `-<D>d` per exposure in the order given (`spectrum-3d-30d.svg`).
-/// The same spectra always give byte-identical files.
+/// Renders the spectra in memory: `<stem>.svg` and `<stem>.csv`, named by
+/// [`Spectrum::file_stem`]. The same spectra always give byte-identical files.
 pub fn render_spectrum(spectrum: &Spectrum) -> Result<Vec<Report>, ReportError> {
-    let stem = spectrum_file_stem(spectrum);
+    let stem = spectrum.file_stem();
     Ok(vec![
         Report {
             name: format!("{stem}.svg"),
@@ -115,16 +114,6 @@ pub fn render_spectrum(spectrum: &Spectrum) -> Result<Vec<Report>, ReportError> 
             bytes: csv_spectrum::render(spectrum)?,
         },
     ])
-}
-
-/// `spectrum-3d-30d` for exposures at 3 and 30 calendar days.
-fn spectrum_file_stem(spectrum: &Spectrum) -> String {
-    spectrum
-        .exposures
-        .iter()
-        .fold("spectrum".to_string(), |stem, exposure| {
-            format!("{stem}-{}d", exposure.days)
-        })
 }
 
 /// Renders the binning scan in memory: `binning.svg`, `binning.json`.

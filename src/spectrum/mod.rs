@@ -81,6 +81,45 @@ pub struct Spectrum {
     pub exposures: Vec<ExposureSpectrum>,
 }
 
+/// Longest file stem of a spectrum named after its days; longer stems fall
+/// back to a count and a hash (see [`Spectrum::file_stem`]).
+pub const MAX_FILE_STEM_BYTES: usize = 64;
+
+impl Spectrum {
+    /// `spectrum-3d-30d` for exposures at 3 and 30 calendar days, in the order
+    /// given; when that is longer than [`MAX_FILE_STEM_BYTES`] (many or long
+    /// day values), `spectrum-<count>-exposures-<hash>` with the 64-bit FNV-1a
+    /// hash of the days' bit patterns in hexadecimal, so the same days always
+    /// give the same name.
+    pub fn file_stem(&self) -> String {
+        let stem = self
+            .exposures
+            .iter()
+            .fold("spectrum".to_string(), |stem, exposure| {
+                format!("{stem}-{}d", exposure.days)
+            });
+        if stem.len() <= MAX_FILE_STEM_BYTES {
+            return stem;
+        }
+        let bytes = self
+            .exposures
+            .iter()
+            .flat_map(|exposure| exposure.days.to_bits().to_le_bytes());
+        format!(
+            "spectrum-{}-exposures-{:016x}",
+            self.exposures.len(),
+            fnv1a(bytes)
+        )
+    }
+}
+
+/// The 64-bit FNV-1a hash (Fowler, Noll and Vo; offset basis and prime as published).
+fn fnv1a(bytes: impl Iterator<Item = u8>) -> u64 {
+    bytes.fold(0xcbf2_9ce4_8422_2325, |hash, byte| {
+        (hash ^ u64::from(byte)).wrapping_mul(0x0000_0100_0000_01b3)
+    })
+}
+
 /// Draws one pseudo-dataset of `scenario` at each of `days` (calendar days)
 /// from the streams of `seed`; the same seed and day always give the same
 /// counts (see [`SPECTRUM_STREAM`]).
@@ -144,6 +183,15 @@ fn exposure_spectrum(likelihood: &Likelihood, days: f64, seed: u64) -> ExposureS
     }
 }
 
+/// The largest expected count of any bin at nominal parameters (mu = 1)
+/// after `live_days`: the largest mean a pseudo-dataset draws from.
+pub fn largest_expected_count(model: &Model, live_days: f64) -> f64 {
+    let likelihood = Likelihood::new(model);
+    expected(&likelihood, &model.nominal_parameters(), live_days)
+        .into_iter()
+        .fold(0.0, f64::max)
+}
+
 /// Expected counts per bin at `theta` after `live_days`.
 fn expected(likelihood: &Likelihood, theta: &[f64], live_days: f64) -> Vec<f64> {
     let mut work = likelihood.workspace();
@@ -195,6 +243,35 @@ mod tests {
         assert_eq!(alone.exposures[0], with_others.exposures[1]);
         let other_seed = pseudo_data_spectrum(&scenario(), &[10.0], 4);
         assert_ne!(alone.exposures[0].bins, other_seed.exposures[0].bins);
+    }
+
+    /// Test vectors of the 64-bit FNV-1a hash, from its published reference
+    /// table (Fowler, Noll and Vo): "" and "a".
+    #[test]
+    fn fnv1a_matches_the_published_test_vectors() {
+        assert_eq!(fnv1a("".bytes()), 0xcbf2_9ce4_8422_2325);
+        assert_eq!(fnv1a("a".bytes()), 0xaf63_dc4c_8601_ec8c);
+    }
+
+    #[test]
+    fn file_stems_name_the_days_or_fall_back_to_a_short_hash() {
+        let short = pseudo_data_spectrum(&scenario(), &[3.0, 30.0], 1);
+        assert_eq!(short.file_stem(), "spectrum-3d-30d");
+        let days = [
+            10.125, 20.125, 30.125, 40.125, 50.125, 60.125, 70.125, 80.125,
+        ];
+        let long = pseudo_data_spectrum(&scenario(), &days, 1);
+        let stem = long.file_stem();
+        assert!(stem.starts_with("spectrum-8-exposures-"), "{stem}");
+        assert!(stem.len() <= MAX_FILE_STEM_BYTES, "{stem}");
+        let mut swapped = days;
+        swapped.swap(0, 1);
+        let reordered = pseudo_data_spectrum(&scenario(), &swapped, 1);
+        assert_ne!(
+            reordered.file_stem(),
+            stem,
+            "the order of the days is part of the name"
+        );
     }
 
     #[test]
