@@ -1,10 +1,10 @@
 //! The errors a command can end with; each prints as one line a user can act on.
 
-use crate::benchmark::BenchmarkError;
-use crate::binning::BinningError;
-use crate::projection::ProjectionError;
-use crate::report::ReportError;
-use crate::scenario::ScenarioError;
+use runcast::benchmark::BenchmarkError;
+use runcast::binning::BinningError;
+use runcast::projection::ProjectionError;
+use runcast::report::ReportError;
+use runcast::scenario::ScenarioError;
 use std::fmt;
 use std::path::PathBuf;
 

@@ -1,9 +1,17 @@
+//! The runcast command line: parse the arguments, run the command, print one
+//! error line. The engine and the reports are the library (`src/lib.rs`).
+
+mod cli;
+mod commands;
+mod error;
+mod progress;
+
 use clap::Parser;
 use std::process::ExitCode;
 
 fn main() -> ExitCode {
-    let cli = runcast::cli::Cli::parse();
-    match runcast::commands::run(cli) {
+    let cli = cli::Cli::parse();
+    match commands::run(cli) {
         Ok(()) => ExitCode::SUCCESS,
         Err(error) => {
             eprintln!("runcast: error: {error}");

@@ -1,6 +1,6 @@
 //! `runcast bench`: the engine's throughput, scaling and memory on built-in models.
 
-use crate::benchmark::{self, Length, PROBE_FLAG};
+use runcast::benchmark::{self, Length, PROBE_FLAG};
 use crate::cli::BenchArgs;
 use crate::error::Error;
 

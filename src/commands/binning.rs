@@ -1,10 +1,10 @@
 //! `runcast binning`: the bin width and counting window scans at one exposure.
 
 use super::{check_days, load_scenario, output_directory};
-use crate::binning::scan_binning;
+use runcast::binning::scan_binning;
 use crate::cli::BinningArgs;
 use crate::error::Error;
-use crate::report;
+use runcast::report;
 
 pub fn run(args: &BinningArgs) -> Result<(), Error> {
     let scenario = load_scenario(&args.scenario)?;

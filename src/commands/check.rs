@@ -2,9 +2,9 @@
 
 use super::load_scenario;
 use crate::error::Error;
-use crate::model::{Model, fraction_inside};
-use crate::projection::{ProjectionSettings, project};
-use crate::scenario::{Scenario, ShapeSpec};
+use runcast::model::{Model, fraction_inside};
+use runcast::projection::{ProjectionSettings, project};
+use runcast::scenario::{Scenario, ShapeSpec};
 
 pub fn run(path: &std::path::Path) -> Result<(), Error> {
     let scenario = load_scenario(path)?;

@@ -9,8 +9,8 @@ mod spectrum;
 
 use crate::cli::{Cli, Command};
 use crate::error::Error;
-use crate::model::Model;
-use crate::scenario::{Scenario, show_number};
+use runcast::model::Model;
+use runcast::scenario::{Scenario, show_number};
 use std::path::{Path, PathBuf};
 
 /// Runs one command line.

@@ -1,7 +1,7 @@
 //! `runcast new FILE`: a commented template scenario.
 
 use crate::error::Error;
-use crate::scenario::TEMPLATE;
+use runcast::scenario::TEMPLATE;
 use std::io::Write;
 use std::path::Path;
 

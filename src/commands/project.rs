@@ -3,15 +3,15 @@
 use super::{load_scenario, output_directory};
 use crate::cli::ProjectArgs;
 use crate::error::Error;
-use crate::model::Model;
+use runcast::model::Model;
 use crate::progress::toy_progress;
-use crate::projection::{ProjectionSettings, project};
-use crate::report;
-use crate::scenario::Scenario;
-use crate::scenario::limits::{
+use runcast::projection::{ProjectionSettings, project};
+use runcast::report;
+use runcast::scenario::Scenario;
+use runcast::scenario::limits::{
     MAX_EXPECTED_COUNT_PER_BIN, MAX_THREADS, MAX_TOYS_IN_TOTAL, MAX_TOYS_PER_POINT,
 };
-use crate::spectrum::largest_expected_count;
+use runcast::spectrum::largest_expected_count;
 
 pub fn run(args: &ProjectArgs) -> Result<(), Error> {
     let scenario = load_scenario(&args.scenario)?;

@@ -3,11 +3,11 @@
 use super::{check_days, load_scenario, output_directory};
 use crate::cli::SpectrumArgs;
 use crate::error::Error;
-use crate::model::Model;
-use crate::report;
-use crate::scenario::limits::{MAX_EXPECTED_COUNT_PER_BIN, MAX_SPECTRUM_EXPOSURES};
-use crate::scenario::show_number;
-use crate::spectrum::{largest_expected_count, pseudo_data_spectrum};
+use runcast::model::Model;
+use runcast::report;
+use runcast::scenario::limits::{MAX_EXPECTED_COUNT_PER_BIN, MAX_SPECTRUM_EXPOSURES};
+use runcast::scenario::show_number;
+use runcast::spectrum::{largest_expected_count, pseudo_data_spectrum};
 
 pub fn run(args: &SpectrumArgs) -> Result<(), Error> {
     let scenario = load_scenario(&args.scenario)?;
@@ -43,7 +43,7 @@ pub fn run(args: &SpectrumArgs) -> Result<(), Error> {
     println!("{}", spectrum.title);
     println!("Pseudo-data with seed {seed}");
     for exposure in &spectrum.exposures {
-        let expected = |value: fn(&crate::spectrum::SpectrumBin) -> f64| -> f64 {
+        let expected = |value: fn(&runcast::spectrum::SpectrumBin) -> f64| -> f64 {
             exposure.bins.iter().map(value).sum()
         };
         println!(

@@ -12,7 +12,7 @@ mod validate;
 
 pub use error::ScenarioError;
 pub use template::TEMPLATE;
-pub(crate) use validate::show as show_number;
+pub use validate::show as show_number;
 
 use serde::Deserialize;
 use std::io::Read;

@@ -538,7 +538,7 @@ fn require_relative_uncertainty(field: &str, relative: f64) -> Checked {
 
 /// A number as a user would write it: plain decimals for ordinary magnitudes,
 /// exponent notation for very large or small ones (Rust's `{}` never uses an exponent).
-pub(crate) fn show(value: f64) -> String {
+pub fn show(value: f64) -> String {
     let magnitude = value.abs();
     if value == 0.0 || !value.is_finite() || (1e-4..1e15).contains(&magnitude) {
         format!("{value}")
