@@ -9,7 +9,7 @@
 
 use crate::asymptotic::AsimovSignificance;
 use crate::likelihood::{FitFailure, Likelihood};
-use crate::model::{Model, fraction_inside, shape_from_spec};
+use crate::model::{LiveTime, Model, fraction_inside, shape_from_spec};
 use crate::scenario::limits::MAX_BINS;
 use crate::scenario::{NormUncertainty, Scenario, ShapeSpec};
 use serde::Serialize;
@@ -121,7 +121,7 @@ impl std::error::Error for BinningError {}
 /// days, which must give some live time.
 pub fn scan_binning(scenario: &Scenario, days: f64) -> Result<BinningScan, BinningError> {
     let observable = &scenario.observable;
-    let live_days = Model::from_scenario(scenario).live_time.live_days(days);
+    let live_days = LiveTime::from_schedule(&scenario.schedule).live_days(days);
     let peak = signal_peak(&scenario.signal.shape, observable.range);
     let [low, high] = observable.range;
     let scale = peak.centre.abs().max(high - low);

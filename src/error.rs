@@ -7,6 +7,7 @@ use runcast::report::ReportError;
 use runcast::scenario::ScenarioError;
 use std::fmt;
 use std::path::PathBuf;
+use std::process::ExitCode;
 
 #[derive(Debug)]
 pub enum Error {
@@ -29,6 +30,8 @@ pub enum Error {
     /// Command-line values that parse but make no sense.
     Usage(String),
     Benchmark(BenchmarkError),
+    /// Standard output failed for another reason than a closed pipe.
+    Stdout(std::io::Error),
 }
 
 impl fmt::Display for Error {
@@ -51,6 +54,19 @@ impl fmt::Display for Error {
             ),
             Error::Usage(message) => f.write_str(message),
             Error::Benchmark(source) => write!(f, "{source}"),
+            Error::Stdout(source) => write!(f, "cannot write to standard output: {source}"),
+        }
+    }
+}
+
+impl Error {
+    /// The exit status: 2 for a usage error (a command-line value the parser
+    /// or a command refuses, as the argument parser itself does), 1 for
+    /// everything else (a bad scenario, a failed fit, a file not written).
+    pub fn exit_code(&self) -> ExitCode {
+        match self {
+            Error::Usage(_) => ExitCode::from(2),
+            _ => ExitCode::FAILURE,
         }
     }
 }

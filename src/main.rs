@@ -4,18 +4,18 @@
 mod cli;
 mod commands;
 mod error;
+mod options;
 mod progress;
+mod stdout;
 
-use clap::Parser;
 use std::process::ExitCode;
 
 fn main() -> ExitCode {
-    let cli = cli::Cli::parse();
-    match commands::run(cli) {
+    match cli::parse().and_then(commands::run) {
         Ok(()) => ExitCode::SUCCESS,
         Err(error) => {
             eprintln!("runcast: error: {error}");
-            ExitCode::FAILURE
+            error.exit_code()
         }
     }
 }

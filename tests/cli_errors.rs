@@ -353,10 +353,20 @@ fn bad_command_line_values_are_named() {
     let scratch = Scratch::new("command-line");
     fs::write(scratch.path.join(SCENARIO), BASE).unwrap();
     let before = scratch.entries();
-    let cases: [(&[&str], &[&str]); 4] = [
+    let cases: [(&[&str], &[&str]); 6] = [
         (
             &["project", SCENARIO, "--out", "out", "--toys", "0"],
             &["--toys"],
+        ),
+        (
+            &["project", SCENARIO, "--out", "out", "--toys", "abc"],
+            &["--toys", "abc"],
+        ),
+        (
+            // One toy cannot resolve any tail: p = 1/N must be below
+            // 1 - Phi(1) = 0.1587 (standard normal table; common practice).
+            &["project", SCENARIO, "--out", "out", "--calibrate", "1"],
+            &["--calibrate 1", "at least 7"],
         ),
         (
             &["project", SCENARIO, "--out", "out", "--calibrate", "0"],
@@ -591,5 +601,69 @@ fn binning_recommends_only_widths_that_check_accepts() {
     if let Some(problem) = misbehaviour(&scratch, &output, &["signal.shape", "too narrow"], &before)
     {
         panic!("{problem}");
+    }
+}
+
+#[test]
+fn usage_errors_exit_2_and_other_errors_exit_1() {
+    // The convention of README ("Commands"): a refused command-line value exits
+    // 2, whether the argument parser or the command refuses it; a bad scenario,
+    // a failed fit or an unwritable file exits 1.
+    let scratch = Scratch::new("exit-codes");
+    fs::write(scratch.path.join(SCENARIO), BASE).unwrap();
+    fs::write(
+        scratch.path.join("bad.yaml"),
+        edited("toys: 100", "toys: 0"),
+    )
+    .unwrap();
+    let cases: [(&[&str], i32); 8] = [
+        (&["project", SCENARIO, "--toys", "abc"], 2),
+        (&["project", SCENARIO, "--toys", "0"], 2),
+        (&["project", SCENARIO, "--calibrate", "3"], 2),
+        (&["project", SCENARIO, "--threads", "0"], 2),
+        (&["spectrum", SCENARIO, "--days", "0"], 2),
+        (&["project", SCENARIO, "--no-such-flag"], 2),
+        (&["check", "bad.yaml"], 1),
+        (&["check", "missing.yaml"], 1),
+    ];
+    for (args, expected) in cases {
+        let output = scratch.run(args);
+        assert_eq!(
+            output.status.code(),
+            Some(expected),
+            "{args:?}: {}",
+            String::from_utf8_lossy(&output.stderr)
+        );
+        let stderr = String::from_utf8_lossy(&output.stderr);
+        assert!(
+            stderr.starts_with("runcast: error: ") && stderr.trim_end().lines().count() == 1,
+            "{args:?}: {stderr}"
+        );
+    }
+}
+
+#[test]
+fn a_closed_stdout_pipe_is_a_normal_end() {
+    // `runcast check FILE | head -1`: the reader closes the pipe before the
+    // check prints (it first runs an Asimov projection), so every write meets
+    // a broken pipe; that ends the output, with exit 0 and nothing on stderr.
+    let scratch = Scratch::new("broken-pipe");
+    fs::write(scratch.path.join(SCENARIO), BASE).unwrap();
+    for args in [
+        &["check", SCENARIO][..],
+        &["project", SCENARIO, "--asimov-only", "--out", "out"][..],
+    ] {
+        let mut child = std::process::Command::new(env!("CARGO_BIN_EXE_runcast"))
+            .args(args)
+            .current_dir(&scratch.path)
+            .stdout(std::process::Stdio::piped())
+            .stderr(std::process::Stdio::piped())
+            .spawn()
+            .expect("start runcast");
+        drop(child.stdout.take());
+        let output = child.wait_with_output().expect("wait for runcast");
+        let stderr = String::from_utf8_lossy(&output.stderr);
+        assert_eq!(output.status.code(), Some(0), "{args:?}: {stderr}");
+        assert!(stderr.is_empty(), "{args:?}: {stderr}");
     }
 }

@@ -1,6 +1,7 @@
 //! `runcast new FILE`: a commented template scenario.
 
 use crate::error::Error;
+use crate::stdout;
 use runcast::scenario::TEMPLATE;
 use std::io::Write;
 use std::path::Path;
@@ -38,10 +39,7 @@ pub fn run(file: &Path) -> Result<(), Error> {
         .and_then(|()| std::fs::hard_link(&temporary, file));
     let _ = std::fs::remove_file(&temporary);
     match result {
-        Ok(()) => {
-            println!("wrote template scenario {}", file.display());
-            Ok(())
-        }
+        Ok(()) => stdout::print(&format!("wrote template scenario {}\n", file.display())),
         Err(source) if source.kind() == std::io::ErrorKind::AlreadyExists => Err(Error::Exists {
             path: file.to_path_buf(),
         }),

@@ -11,16 +11,19 @@
 //! Pseudo-data spectra ([`render_spectrum`]: `svg_spectrum.rs`,
 //! `csv_spectrum.rs`) and the binning scan ([`render_binning`]:
 //! `svg_binning.rs`, `json_binning.rs`, and `binning_table.rs` for the
-//! terminal) follow the same pattern.
+//! terminal) follow the same pattern; `spectrum_summary.rs` and
+//! `check_summary.rs` are the terminal text of `spectrum` and `check`.
 
 mod binning_table;
 mod check;
+mod check_summary;
 mod csv;
 mod csv_spectrum;
 mod error;
 mod json;
 mod json_binning;
 mod plot;
+mod spectrum_summary;
 mod summary;
 mod svg_binning;
 mod svg_limits;
@@ -30,7 +33,9 @@ mod svg_spectrum;
 mod writer;
 
 pub use binning_table::binning_table;
+pub use check_summary::check_summary;
 pub use error::ReportError;
+pub use spectrum_summary::spectrum_summary;
 pub use summary::summary;
 pub use writer::write_all;
 

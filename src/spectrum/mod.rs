@@ -62,6 +62,14 @@ pub struct ExposureSpectrum {
 }
 
 impl ExposureSpectrum {
+    /// The largest expected count (signal + background) of any bin.
+    pub fn largest_expected(&self) -> f64 {
+        self.bins
+            .iter()
+            .map(|bin| bin.signal_plus_background)
+            .fold(0.0, f64::max)
+    }
+
     /// Total pseudo-data count.
     pub fn total_counts(&self) -> u64 {
         self.bins.iter().map(|bin| bin.counts).sum()
