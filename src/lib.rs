@@ -8,6 +8,7 @@
 //! `asymptotic` holds the Asimov answers the projection cross-checks against;
 //! `spectrum` draws pseudo-data spectra and `binning` scans bin widths and
 //! counting windows, both for planning beside the projection;
+//! `warning` types what may be wrong with a scenario or results;
 //! `benchmark` measures the engine. The command-line front end lives with
 //! the binary (`src/main.rs` and its modules), so the engine does not depend on
 //! the argument parser or the progress bar.
@@ -24,3 +25,4 @@ pub mod projection;
 pub mod report;
 pub mod scenario;
 pub mod spectrum;
+pub mod warning;

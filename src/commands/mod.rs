@@ -10,7 +10,7 @@ mod spectrum;
 use crate::cli::{Cli, Command};
 use crate::error::Error;
 use crate::options::Loaded;
-use runcast::report::Report;
+use runcast::report::{self, Report};
 use std::path::Path;
 
 /// Runs one command line.
@@ -28,7 +28,11 @@ pub fn run(cli: Cli) -> Result<(), Error> {
 /// Prints the scenario's warnings to stderr.
 fn print_warnings(loaded: &Loaded) {
     for warning in loaded.scenario.warnings() {
-        eprintln!("runcast: warning: {}: {warning}", loaded.path.display());
+        eprintln!(
+            "runcast: warning: {}: {}",
+            loaded.path.display(),
+            report::warning_text(&warning)
+        );
     }
 }
 

@@ -30,6 +30,7 @@ mod svg_limits;
 mod svg_probability;
 mod svg_projection;
 mod svg_spectrum;
+mod warnings;
 mod writer;
 
 pub use binning_table::binning_table;
@@ -37,6 +38,7 @@ pub use check_summary::check_summary;
 pub use error::ReportError;
 pub use spectrum_summary::spectrum_summary;
 pub use summary::summary;
+pub use warnings::warning_text;
 pub use writer::write_all;
 
 use crate::binning::BinningScan;

@@ -3,13 +3,11 @@
 //! failed fits of each ensemble, and a warning when systematic uncertainties
 //! cap the significance.
 
+use super::warnings::{excluded_from, fit_percent, warning_text};
 use super::{days_label, percent_label, target_label};
 use crate::asymptotic::significance;
-use crate::projection::{Calibration, DaysToTarget, ExposurePoint, Projection};
-
-/// Failed fits above this fraction of the toys at one exposure point earn a
-/// warning: the quantiles there exclude them and may be biased.
-const FAILED_FRACTION_WARNING: f64 = 0.001;
+use crate::projection::{Calibration, DaysToTarget, Projection};
+use crate::warning::Ensemble;
 
 const COLUMNS: [&str; 5] = [
     "target",
@@ -142,93 +140,56 @@ pub(super) fn aligned(rows: &[Vec<String>]) -> String {
 }
 
 /// One ensemble of pseudo-experiments, as its failed-fit lines name it.
-struct Ensemble {
+struct EnsembleLines {
+    kind: Ensemble,
     /// Start of the total line: "Failed fits", "Failed fits (limits)".
     heading: &'static str,
     /// What was thrown: "pseudo-experiments", "background-only pseudo-experiments".
     thrown: &'static str,
-    /// Which fits the warning speaks of: "fits", "limit fits".
-    fits: &'static str,
-    /// What the failed fits are left out of.
-    results: &'static str,
-    /// Pseudo-experiments per exposure point.
-    toys: usize,
-    failed_fits: fn(&ExposurePoint) -> usize,
 }
 
-/// The ensembles the projection ran: discovery toys, background-only toys
-/// for the limits, and background-only toys for the q0 calibration.
-fn ensembles(projection: &Projection) -> Vec<Ensemble> {
-    let toys = projection.toys;
-    let discovery = Ensemble {
-        heading: "Failed fits",
-        thrown: "pseudo-experiments",
-        fits: "fits",
-        results: "the quantiles",
-        toys,
-        failed_fits: |point| point.failed_fits,
-    };
-    let limits = Ensemble {
-        heading: "Failed fits (limits)",
-        thrown: "background-only pseudo-experiments",
-        fits: "limit fits",
-        results: "the limit quantiles",
-        toys,
-        failed_fits: |point| point.limit_failed_fits,
-    };
-    let calibration = Ensemble {
-        heading: "Failed fits (q0 calibration)",
-        thrown: "background-only pseudo-experiments",
-        fits: "calibration fits",
-        results: "the toy p-values",
-        toys: projection.calibration_toys,
-        failed_fits: |point| point.calibration.as_ref().map_or(0, |c| c.failed_fits),
-    };
-    let with_limits = projection.cl.is_some();
-    [
-        (toys > 0).then_some(discovery),
-        (toys > 0 && with_limits).then_some(limits),
-        (projection.calibration_toys > 0).then_some(calibration),
-    ]
-    .into_iter()
-    .flatten()
-    .collect()
+/// The headings of each ensemble the projection ran.
+fn ensembles(projection: &Projection) -> Vec<EnsembleLines> {
+    projection
+        .ensembles()
+        .into_iter()
+        .map(|kind| {
+            let (heading, thrown) = match kind {
+                Ensemble::Discovery => ("Failed fits", "pseudo-experiments"),
+                Ensemble::Limits => ("Failed fits (limits)", "background-only pseudo-experiments"),
+                Ensemble::Calibration => (
+                    "Failed fits (q0 calibration)",
+                    "background-only pseudo-experiments",
+                ),
+            };
+            EnsembleLines {
+                kind,
+                heading,
+                thrown,
+            }
+        })
+        .collect()
 }
 
-/// Total failed fits of one ensemble, and a warning naming the worst exposure
-/// point when any point loses more than 0.1% of its toys.
-fn failed_fits_lines(projection: &Projection, ensemble: &Ensemble) -> String {
-    let toys = ensemble.toys;
-    let failed_fits = ensemble.failed_fits;
-    let total_toys = toys * projection.points.len();
-    let total_failed: usize = projection.points.iter().map(failed_fits).sum();
+/// Total failed fits of one ensemble, and its warning when any point lost
+/// more than [`FAILED_FRACTION_WARNING`](crate::warning::FAILED_FRACTION_WARNING) of its toys.
+fn failed_fits_lines(projection: &Projection, ensemble: &EnsembleLines) -> String {
+    let kind = ensemble.kind;
+    let total_toys = projection.ensemble_toys(kind) * projection.points.len();
+    let total_failed: usize = projection
+        .points
+        .iter()
+        .map(|point| point.failed_fits_of(kind))
+        .sum();
     let mut text = format!(
         "{}: {total_failed} of {total_toys} {} ({}), excluded from {}.\n",
         ensemble.heading,
         ensemble.thrown,
-        percent(total_failed, total_toys),
-        ensemble.results
+        fit_percent(total_failed, total_toys),
+        excluded_from(kind)
     );
-    let fraction = |failed: usize| failed as f64 / toys as f64;
-    let flagged: Vec<_> = projection
-        .points
-        .iter()
-        .filter(|point| fraction(failed_fits(point)) > FAILED_FRACTION_WARNING)
-        .collect();
-    // `max_by_key` keeps the last of equals; reversed, that is the earliest day.
-    let worst = flagged.iter().rev().max_by_key(|point| failed_fits(point));
-    if let Some(worst) = worst {
-        text.push_str(&format!(
-            "warning: more than 0.1% of {} failed at {} of {} exposure points \
-             (worst: {} of {toys} at {}, {}); {} there may be biased.\n",
-            ensemble.fits,
-            flagged.len(),
-            projection.points.len(),
-            failed_fits(worst),
-            days_label(worst.days),
-            percent(failed_fits(worst), toys),
-            ensemble.results
-        ));
+    if let Some(warning) = projection.failed_fit_warning(kind) {
+        text.push_str(&format!("warning: {}\n", warning_text(&warning)));
     }
     text
 }
@@ -286,18 +247,6 @@ fn calibration_table(projection: &Projection) -> Option<String> {
 /// A significance to two decimals, without a negative zero.
 fn two_decimals(value: f64) -> String {
     format!("{:.2}", (value * 100.0).round() / 100.0 + 0.0)
-}
-
-fn percent(part: usize, whole: usize) -> String {
-    if whole == 0 {
-        return "0%".to_string();
-    }
-    let value = 100.0 * part as f64 / whole as f64;
-    if part > 0 && value < 0.01 {
-        "<0.01%".to_string()
-    } else {
-        format!("{value:.2}%")
-    }
 }
 
 /// One line when systematic uncertainties make Z_A saturate, naming the

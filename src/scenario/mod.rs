@@ -14,6 +14,7 @@ pub use error::ScenarioError;
 pub use template::TEMPLATE;
 pub use validate::show as show_number;
 
+use crate::warning::Warning;
 use serde::Deserialize;
 use std::io::Read;
 use std::path::Path;
@@ -230,7 +231,7 @@ impl Scenario {
     }
 
     /// Non-fatal remarks about a valid scenario (e.g. a signal peak outside the range).
-    pub fn warnings(&self) -> Vec<String> {
+    pub fn warnings(&self) -> Vec<Warning> {
         validate::warnings(self)
     }
 }

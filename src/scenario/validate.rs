@@ -12,6 +12,7 @@ use super::{
     Background, DaysGrid, NormUncertainty, Observable, Plan, Scenario, ScenarioError, Schedule,
     ShapeSpec, Signal,
 };
+use crate::warning::Warning;
 
 /// Ensembles a default `project` run draws at each point: discovery and limits.
 const ENSEMBLES_PER_POINT: u64 = 2;
@@ -48,43 +49,36 @@ pub(super) fn validate(scenario: &Scenario) -> Checked {
 }
 
 /// Remarks about a valid scenario that are probably, but not surely, mistakes.
-pub(super) fn warnings(scenario: &Scenario) -> Vec<String> {
-    let mut remarks: Vec<String> = signal_peak_outside_range(scenario).into_iter().collect();
+pub(super) fn warnings(scenario: &Scenario) -> Vec<Warning> {
+    let mut remarks: Vec<Warning> = signal_peak_outside_range(scenario).into_iter().collect();
     remarks.extend(flat_shapes_floated(&scenario.backgrounds));
     remarks.extend(first_day_without_exposure(scenario));
     remarks
 }
 
 /// A Gaussian or Breit-Wigner signal whose mean lies outside the range.
-fn signal_peak_outside_range(scenario: &Scenario) -> Option<String> {
-    let [low, high] = scenario.observable.range;
+fn signal_peak_outside_range(scenario: &Scenario) -> Option<Warning> {
+    let range = scenario.observable.range;
     let (field, mean) = match scenario.signal.shape {
         ShapeSpec::Gaussian { mean, .. } => ("signal.shape.gaussian.mean", mean),
         ShapeSpec::BreitWigner { mean, .. } => ("signal.shape.breit_wigner.mean", mean),
         _ => return None,
     };
-    (!(low..=high).contains(&mean)).then(|| {
-        format!(
-            "{field}: the signal peak at {} lies outside the range [{}, {}]; only its tail is fitted",
-            show(mean),
-            show(low),
-            show(high)
-        )
+    (!(range[0]..=range[1]).contains(&mean)).then_some(Warning::SignalPeakOutsideRange {
+        field,
+        mean,
+        range,
     })
 }
 
 /// `float_shape: true` on a shape with no parameters (flat, or a polynomial
 /// of one term, whose only coefficient cancels in the normalisation).
-fn flat_shapes_floated(backgrounds: &[Background]) -> impl Iterator<Item = String> + '_ {
+fn flat_shapes_floated(backgrounds: &[Background]) -> impl Iterator<Item = Warning> + '_ {
     backgrounds
         .iter()
         .enumerate()
         .filter(|(_, background)| background.float_shape && has_no_parameters(&background.shape))
-        .map(|(index, _)| {
-            format!(
-                "backgrounds[{index}].float_shape: this shape has no parameters to float; the setting has no effect"
-            )
-        })
+        .map(|(background, _)| Warning::NothingToFloat { background })
 }
 
 fn has_no_parameters(shape: &ShapeSpec) -> bool {
@@ -97,7 +91,7 @@ fn has_no_parameters(shape: &ShapeSpec) -> bool {
 
 /// A days grid starting inside the leading schedule periods with `rate_scale` 0,
 /// where no data are recorded and the projection can show nothing.
-fn first_day_without_exposure(scenario: &Scenario) -> Option<String> {
+fn first_day_without_exposure(scenario: &Scenario) -> Option<Warning> {
     let days_without_data: f64 = scenario
         .schedule
         .periods
@@ -105,13 +99,10 @@ fn first_day_without_exposure(scenario: &Scenario) -> Option<String> {
         .take_while(|period| period.rate_scale == 0.0)
         .map(|period| period.days)
         .sum();
-    let first = scenario.plan.days.first;
-    (first <= days_without_data).then(|| {
-        format!(
-            "plan.days.first: day {} falls within the first {} days, when schedule.periods scale all rates to 0; grid points there have no data",
-            show(first),
-            show(days_without_data)
-        )
+    let first_day = scenario.plan.days.first;
+    (first_day <= days_without_data).then_some(Warning::FirstDayWithoutData {
+        first_day,
+        days_without_data,
     })
 }
 
@@ -584,6 +575,7 @@ mod tests {
     use super::super::Scenario;
     use super::{show, show_rounded};
     use crate::scenario::ScenarioError;
+    use crate::warning::Warning;
 
     /// A valid scenario with two backgrounds, edited line by line by the tests below.
     const BASE: &str = "\
@@ -945,10 +937,13 @@ plan:
         let scenario = accepted(&with("mean: 50.0", "mean: 120.0"));
         let warnings = scenario.warnings();
         assert_eq!(warnings.len(), 1, "{warnings:?}");
-        assert!(
-            warnings[0].starts_with("signal.shape.gaussian.mean: the signal peak at 120"),
-            "{}",
-            warnings[0]
+        assert_eq!(
+            warnings[0],
+            Warning::SignalPeakOutsideRange {
+                field: "signal.shape.gaussian.mean",
+                mean: 120.0,
+                range: [0.0, 100.0]
+            }
         );
     }
 
@@ -957,7 +952,7 @@ plan:
         let text = with("{polynomial: {coefficients: [1.0, 0.01]}}", "{flat: {}}");
         let warnings = accepted(&text).warnings();
         assert_eq!(warnings.len(), 1, "{warnings:?}");
-        assert!(warnings[0].starts_with("backgrounds[1].float_shape"));
+        assert_eq!(warnings[0], Warning::NothingToFloat { background: 1 });
     }
 
     #[test]
@@ -968,7 +963,13 @@ plan:
         );
         let warnings = accepted(&text).warnings();
         assert_eq!(warnings.len(), 1, "{warnings:?}");
-        assert!(warnings[0].starts_with("plan.days.first: day 1 falls within the first 10 days"));
+        assert_eq!(
+            warnings[0],
+            Warning::FirstDayWithoutData {
+                first_day: 1.0,
+                days_without_data: 10.0
+            }
+        );
         let later_start = text.replace("first: 1,", "first: 11,");
         assert!(accepted(&later_start).warnings().is_empty());
     }

@@ -1,0 +1,119 @@
+//! The wording of every [`Warning`], in one place.
+
+use super::{days_label, percent_label};
+use crate::scenario::show_number;
+use crate::warning::{Ensemble, FAILED_FRACTION_WARNING, Warning};
+
+/// One line, without the "warning: " prefix the caller adds.
+pub fn warning_text(warning: &Warning) -> String {
+    match *warning {
+        Warning::SignalPeakOutsideRange {
+            field,
+            mean,
+            range: [low, high],
+        } => format!(
+            "{field}: the signal peak at {} lies outside the range [{}, {}]; only its tail is fitted",
+            show_number(mean),
+            show_number(low),
+            show_number(high)
+        ),
+        Warning::NothingToFloat { background } => format!(
+            "backgrounds[{background}].float_shape: this shape has no parameters to float; the setting has no effect"
+        ),
+        Warning::FirstDayWithoutData {
+            first_day,
+            days_without_data,
+        } => format!(
+            "plan.days.first: day {} falls within the first {} days, when schedule.periods scale all rates to 0; grid points there have no data",
+            show_number(first_day),
+            show_number(days_without_data)
+        ),
+        Warning::FailedFits {
+            ensemble,
+            flagged_points,
+            points,
+            worst_failed,
+            toys,
+            worst_days,
+        } => format!(
+            "more than {} of {} failed at {flagged_points} of {points} exposure points \
+             (worst: {worst_failed} of {toys} at {}, {}); {} there may be biased.",
+            percent_label(FAILED_FRACTION_WARNING),
+            fits(ensemble),
+            days_label(worst_days),
+            fit_percent(worst_failed, toys),
+            excluded_from(ensemble)
+        ),
+    }
+}
+
+/// Which fits of an ensemble a warning speaks of.
+fn fits(ensemble: Ensemble) -> &'static str {
+    match ensemble {
+        Ensemble::Discovery => "fits",
+        Ensemble::Limits => "limit fits",
+        Ensemble::Calibration => "calibration fits",
+    }
+}
+
+/// What the failed fits of an ensemble are left out of.
+pub(super) fn excluded_from(ensemble: Ensemble) -> &'static str {
+    match ensemble {
+        Ensemble::Discovery => "the quantiles",
+        Ensemble::Limits => "the limit quantiles",
+        Ensemble::Calibration => "the toy p-values",
+    }
+}
+
+/// `part` of `whole` in percent to two decimals ("1.00%"), "<0.01%" for a
+/// non-zero part below that, "0%" of nothing.
+pub(super) fn fit_percent(part: usize, whole: usize) -> String {
+    if whole == 0 {
+        return "0%".to_string();
+    }
+    let value = 100.0 * part as f64 / whole as f64;
+    if part > 0 && value < 0.01 {
+        "<0.01%".to_string()
+    } else {
+        format!("{value:.2}%")
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_failed_fit_threshold_is_worded_from_its_constant() {
+        let warning = Warning::FailedFits {
+            ensemble: Ensemble::Limits,
+            flagged_points: 1,
+            points: 31,
+            worst_failed: 3,
+            toys: 200,
+            worst_days: 12.0,
+        };
+        assert_eq!(
+            warning_text(&warning),
+            "more than 0.1% of limit fits failed at 1 of 31 exposure points \
+             (worst: 3 of 200 at 12 d, 1.50%); the limit quantiles there may be biased."
+        );
+    }
+
+    #[test]
+    fn scenario_warnings_name_the_field() {
+        let outside = Warning::SignalPeakOutsideRange {
+            field: "signal.shape.gaussian.mean",
+            mean: 120.0,
+            range: [0.0, 100.0],
+        };
+        assert_eq!(
+            warning_text(&outside),
+            "signal.shape.gaussian.mean: the signal peak at 120 lies outside the range [0, 100]; only its tail is fitted"
+        );
+        assert!(
+            warning_text(&Warning::NothingToFloat { background: 1 })
+                .starts_with("backgrounds[1].float_shape: ")
+        );
+    }
+}
