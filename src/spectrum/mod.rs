@@ -11,7 +11,7 @@ pub use interval::{EXACT_INTERVAL_BELOW, error_bar, garwood_interval, one_sigma_
 
 use crate::ensemble::{Generator, toy_stream};
 use crate::likelihood::Likelihood;
-use crate::model::{Model, SIGNAL_STRENGTH};
+use crate::model::{Constraint, Model, SIGNAL_STRENGTH};
 use crate::scenario::Scenario;
 
 /// Exposure index of the random streams of pseudo-data spectra, apart from the
@@ -191,12 +191,22 @@ fn exposure_spectrum(likelihood: &Likelihood, days: f64, seed: u64) -> ExposureS
     }
 }
 
-/// The largest expected count of any bin at nominal parameters (mu = 1)
-/// after `live_days`: the largest mean a pseudo-dataset draws from.
+/// The largest mean a pseudo-dataset at nominal parameters (mu = 1) draws
+/// from after `live_days`: the expected count of any bin, or of any control
+/// region.
 pub fn largest_expected_count(model: &Model, live_days: f64) -> f64 {
     let likelihood = Likelihood::new(model);
-    expected(&likelihood, &model.nominal_parameters(), live_days)
+    let nominal = model.nominal_parameters();
+    let control_counts = model
+        .constraints
+        .iter()
+        .filter(|constraint| matches!(constraint, Constraint::ControlRegion { .. }))
+        .map(|constraint| {
+            constraint.expected_global_observable(nominal[constraint.parameter()], live_days)
+        });
+    expected(&likelihood, &nominal, live_days)
         .into_iter()
+        .chain(control_counts)
         .fold(0.0, f64::max)
 }
 
@@ -251,6 +261,27 @@ mod tests {
         assert_eq!(alone.exposures[0], with_others.exposures[1]);
         let other_seed = pseudo_data_spectrum(&scenario(), &[10.0], 4);
         assert_ne!(alone.exposures[0].bins, other_seed.exposures[0].bins);
+    }
+
+    /// The largest mean drawn: a flat 40 per live day over 20 bins gives 10
+    /// per bin after 5 live days, and the two bins beside the peak hold
+    /// Phi(1) - Phi(0) = 0.341345 of the 25 signal events each (standard
+    /// normal table); a control region of ratio 3 expects 3 x 200 = 600.
+    #[test]
+    fn largest_expected_count_covers_bins_and_control_regions() {
+        let model = Model::from_scenario(&scenario());
+        let largest = largest_expected_count(&model, 5.0);
+        assert!(
+            (largest - (10.0 + 25.0 * 0.341345)).abs() < 1e-5,
+            "{largest}"
+        );
+        let text = "title: on off\n\
+             observable: {name: x, unit: a.u., range: [0.0, 1.0], bin_width: 1.0}\n\
+             signal: {events_per_day: 1.0, shape: {flat: {}}}\n\
+             backgrounds:\n  - {name: flat, events_per_day: 40.0, shape: {flat: {}}, control: {ratio: 3.0}}\n\
+             plan: {days: {first: 1, last: 10, points: 2, spacing: log}, toys: 1, seed: 1, targets: [3]}\n";
+        let on_off = Model::from_scenario(&Scenario::from_yaml(text).unwrap());
+        assert_eq!(largest_expected_count(&on_off, 5.0), 600.0);
     }
 
     /// Test vectors of the 64-bit FNV-1a hash, from its published reference
