@@ -87,9 +87,10 @@ struct PlanOverrides {
 /// The projection the scenario's plan asks for, with the command line's
 /// overrides applied and checked against the limits.
 fn projection_settings(
-    scenario: &Scenario,
+    loaded: &Loaded,
     overrides: &PlanOverrides,
 ) -> Result<ProjectionSettings, Error> {
+    let scenario = &loaded.scenario;
     if overrides.toys == Some(0) && !overrides.asimov_only {
         return Err(Error::Usage(
             "--toys: must be at least 1 (use --asimov-only to skip pseudo-experiments)".into(),
@@ -123,7 +124,7 @@ fn projection_settings(
         title: scenario.title.clone(),
         days: scenario.plan.days.days(),
         toys,
-        seed: overrides.seed.unwrap_or(scenario.plan.seed),
+        seed: loaded.seed(overrides.seed),
         targets: scenario.plan.targets.clone(),
         cl: (!overrides.no_limits).then_some(scenario.plan.cl),
         calibration_toys: overrides.calibrate.unwrap_or(0),
@@ -187,7 +188,7 @@ impl ProjectOptions {
             no_limits: args.no_limits,
             calibrate: args.calibrate,
         };
-        let settings = projection_settings(&loaded.scenario, &overrides)?;
+        let settings = projection_settings(&loaded, &overrides)?;
         let model = Model::from_scenario(&loaded.scenario);
         let with_toys = settings.toys_per_point() > 0;
         if with_toys {
@@ -218,7 +219,7 @@ impl CheckOptions {
             asimov_only: true,
             ..PlanOverrides::default()
         };
-        let settings = projection_settings(&loaded.scenario, &overrides)?;
+        let settings = projection_settings(&loaded, &overrides)?;
         Ok(CheckOptions {
             model: Model::from_scenario(&loaded.scenario),
             loaded,
@@ -279,5 +280,117 @@ impl BinningOptions {
             out: loaded.output_directory(args.out.as_deref()),
             loaded,
         })
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn loaded() -> Loaded {
+        let text = "title: options test (invented numbers)\n\
+             observable: {name: x, unit: a.u., range: [0.0, 10.0], bin_width: 1.0}\n\
+             signal: {events_per_day: 1.0, shape: {gaussian: {mean: 5.0, sigma: 1.0}}}\n\
+             backgrounds:\n  - {name: flat, events_per_day: 10.0, shape: {flat: {}}}\n\
+             plan: {days: {first: 1, last: 10, points: 3, spacing: log}, toys: 50, seed: 9, targets: [3], cl: 0.9}\n";
+        Loaded {
+            path: PathBuf::from("scenarios/test.yaml"),
+            scenario: Scenario::from_yaml(text).unwrap(),
+        }
+    }
+
+    /// 1 - Phi(1) = 0.158655 (statrs, reference library): 1/7 lies below it
+    /// and 1/6 above, so 7 toys are the fewest that reach 1 sigma.
+    #[test]
+    fn the_fewest_calibration_toys_resolve_one_sigma() {
+        let tail = Normal::standard().sf(1.0);
+        assert!((tail - 0.158655).abs() < 1e-6, "{tail}");
+        let n = MIN_CALIBRATION_TOYS as f64;
+        assert!(1.0 / n < tail && 1.0 / (n - 1.0) > tail);
+    }
+
+    #[test]
+    fn check_and_project_share_one_settings_builder() {
+        let loaded = loaded();
+        let check = projection_settings(
+            &loaded,
+            &PlanOverrides {
+                asimov_only: true,
+                ..PlanOverrides::default()
+            },
+        )
+        .unwrap();
+        assert_eq!(
+            (check.toys, check.seed, check.cl, check.calibration_toys),
+            (0, 9, Some(0.9), 0)
+        );
+        assert_eq!(check.days.len(), 3);
+        let project = projection_settings(
+            &loaded,
+            &PlanOverrides {
+                toys: Some(20),
+                seed: Some(4),
+                no_limits: true,
+                calibrate: Some(7),
+                ..PlanOverrides::default()
+            },
+        )
+        .unwrap();
+        assert_eq!(
+            (
+                project.toys,
+                project.seed,
+                project.cl,
+                project.calibration_toys
+            ),
+            (20, 4, None, 7)
+        );
+        assert_eq!(project.total_toys(), 3 * (20 + 7));
+    }
+
+    #[test]
+    fn refused_overrides_are_usage_errors_naming_the_flag() {
+        let loaded = loaded();
+        let refused = |overrides: PlanOverrides, flag: &str| {
+            let error = projection_settings(&loaded, &overrides).unwrap_err();
+            assert!(matches!(error, Error::Usage(_)), "{error}");
+            assert!(error.to_string().starts_with(flag), "{error}");
+        };
+        refused(
+            PlanOverrides {
+                toys: Some(0),
+                ..PlanOverrides::default()
+            },
+            "--toys",
+        );
+        refused(
+            PlanOverrides {
+                calibrate: Some(MIN_CALIBRATION_TOYS - 1),
+                ..PlanOverrides::default()
+            },
+            "--calibrate 6",
+        );
+        refused(
+            PlanOverrides {
+                toys: Some(MAX_TOYS_PER_POINT + 1),
+                ..PlanOverrides::default()
+            },
+            "--toys 10000001",
+        );
+        assert!(check_threads(Some(MAX_THREADS + 1)).is_err());
+        assert_eq!(check_threads(Some(MAX_THREADS)).unwrap(), Some(MAX_THREADS));
+    }
+
+    #[test]
+    fn days_must_give_live_time() {
+        let loaded = loaded();
+        assert_eq!(loaded.live_days(2.5).unwrap(), 2.5);
+        for days in [0.0, -1.0, f64::NAN, f64::INFINITY] {
+            assert!(loaded.live_days(days).is_err(), "{days}");
+        }
+        assert_eq!(
+            loaded.output_directory(None),
+            Path::new("output").join("test")
+        );
     }
 }
