@@ -82,6 +82,7 @@ pub(super) fn fit_percent(part: usize, whole: usize) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::report::example;
 
     #[test]
     fn the_failed_fit_threshold_is_worded_from_its_constant() {
@@ -114,6 +115,42 @@ mod tests {
         assert!(
             warning_text(&Warning::NothingToFloat { background: 1 })
                 .starts_with("backgrounds[1].float_shape: ")
+        );
+    }
+
+    /// The projection's warnings follow its failed fits: 3 of 2000
+    /// discovery fits (0.15%) at four early points and 5 of 2000 limit fits
+    /// (0.25%) at the first are above 0.1%; 2 of 5000 calibration fits
+    /// (0.04%) are not.
+    #[test]
+    fn projection_warnings_come_from_the_failed_fits() {
+        let mut projection = example::with_limits();
+        projection.points[0].limit_failed_fits = 5;
+        projection.points[7]
+            .calibration
+            .as_mut()
+            .unwrap()
+            .failed_fits = 2;
+        let summary: Vec<_> = projection
+            .warnings()
+            .into_iter()
+            .map(|warning| match warning {
+                Warning::FailedFits {
+                    ensemble,
+                    flagged_points,
+                    worst_failed,
+                    toys,
+                    ..
+                } => (ensemble, flagged_points, worst_failed, toys),
+                other => panic!("{other:?}"),
+            })
+            .collect();
+        assert_eq!(
+            summary,
+            [
+                (Ensemble::Discovery, 4, 3, 2000),
+                (Ensemble::Limits, 1, 5, 2000)
+            ]
         );
     }
 }
