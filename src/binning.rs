@@ -214,9 +214,12 @@ fn densest_point(spec: &ShapeSpec, range: [f64; 2]) -> f64 {
 /// [`FINEST_BIN_IN_SIGNAL_WIDTHS`] to [`WIDEST_BIN_IN_SIGNAL_WIDTHS`] signal
 /// widths that divide the range into a whole number of bins, at most
 /// [`MAX_BINS`] as a scenario allows, and the scenario's own width; increasing.
+/// Only widths between the range over [`MAX_BINS`] and the whole range are
+/// tried, so the scan covers at most six decades whatever the signal width.
 pub fn candidate_bin_widths(range: [f64; 2], signal_width: f64, scenario_width: f64) -> Vec<f64> {
-    let finest = FINEST_BIN_IN_SIGNAL_WIDTHS * signal_width;
-    let widest = WIDEST_BIN_IN_SIGNAL_WIDTHS * signal_width;
+    let span = range[1] - range[0];
+    let finest = (FINEST_BIN_IN_SIGNAL_WIDTHS * signal_width).max(span / MAX_BINS as f64);
+    let widest = (WIDEST_BIN_IN_SIGNAL_WIDTHS * signal_width).min(span);
     let first_decade = finest.log10().floor() as i32;
     let last_decade = widest.log10().ceil() as i32;
     let mut widths: Vec<f64> = (first_decade..=last_decade)
@@ -571,6 +574,26 @@ mod tests {
         // 3.0 is not round and 7.5 does not divide [0, 100]: neither appears.
         let widths = candidate_bin_widths([0.0, 100.0], 1.5, 3.0);
         assert!(widths.contains(&3.0) && !widths.contains(&7.5));
+    }
+
+    /// However wide or narrow the signal, only widths from the range over
+    /// MAX_BINS to the whole range are tried: a signal 100 wide on [10, 110]
+    /// keeps the round widths from 10 to 100 that divide the range; one 1e308
+    /// or 1e-300 wide leaves the scenario's width alone; one 1e-3 wide starts
+    /// at 1e-3, the range over MAX_BINS, not at 1e-4.
+    #[test]
+    fn candidate_widths_stay_between_the_bin_limit_and_the_range() {
+        let wide = candidate_bin_widths([10.0, 110.0], 100.0, 0.5);
+        assert_eq!(wide, [0.5, 10.0, 12.5, 20.0, 25.0, 50.0, 100.0]);
+        for signal_width in [1e308, 1e-300] {
+            assert_eq!(
+                candidate_bin_widths([10.0, 110.0], signal_width, 0.5),
+                [0.5]
+            );
+        }
+        let near_limit = candidate_bin_widths([0.0, 100.0], 1e-3, 0.5);
+        assert_eq!(near_limit.len(), 7, "{near_limit:?}");
+        assert!((near_limit[0] - 1e-3).abs() < 1e-15, "{near_limit:?}");
     }
 
     #[test]

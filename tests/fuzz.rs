@@ -1,9 +1,10 @@
 //! Mutated scenarios, run as a user would: the shipped demos with numbers set
 //! to extremes, lines dropped or repeated, text cut short, shapes swapped and
 //! keys added, through `check`, `project --asimov-only` and, for some, a
-//! projection with a few pseudo-experiments. Every run must end in time with
-//! either one located error and no file written, or success with outputs that
-//! hold no NaN (a null in `projection.json` only where the schema allows one).
+//! projection with a few pseudo-experiments, `binning` and `spectrum`. Every
+//! run must end in time with either one located error and no file written, or
+//! success with outputs that hold no NaN (a null in `projection.json` only
+//! where the schema allows one, none in `binning.json`).
 //!
 //! The mutations come from a fixed seed, so a failure repeats; its message
 //! shows the mutated scenario.
@@ -20,7 +21,8 @@ use std::time::{Duration, Instant};
 
 /// Mutated scenarios per run of the test.
 const MUTANTS: usize = 240;
-/// Every this many mutants also run a projection with pseudo-experiments.
+/// Every this many mutants also run a projection with pseudo-experiments,
+/// `binning` and `spectrum`.
 const WITH_TOYS_EVERY: usize = 4;
 /// Far beyond the fraction of a second a demo takes: a run still going then
 /// hangs or runs away with the request.
@@ -326,8 +328,13 @@ fn outcome(directory: &Path, args: &[&str]) -> Result<bool, String> {
     if !errors.is_empty() {
         return Err(format!("succeeded with stderr: {stderr}"));
     }
-    if args[0] == "project" {
-        let json = directory.join("out").join("projection.json");
+    let written = match args[0] {
+        "project" => Some("projection.json"),
+        "binning" => Some("binning.json"),
+        _ => None,
+    };
+    if let Some(written) = written {
+        let json = directory.join("out").join(written);
         let text = fs::read_to_string(&json).unwrap_or_default();
         let Ok(parsed) = serde_json::from_str::<Value>(&text) else {
             return Err(format!("no readable {}", json.display()));
@@ -337,7 +344,10 @@ fn outcome(directory: &Path, args: &[&str]) -> Result<bool, String> {
         if !nulls.is_empty() {
             return Err(format!("null (NaN) at {nulls:?}"));
         }
-        fs::remove_dir_all(directory.join("out")).expect("remove outputs");
+    }
+    let outputs = directory.join("out");
+    if outputs.exists() {
+        fs::remove_dir_all(outputs).expect("remove outputs");
     }
     Ok(true)
 }
@@ -399,6 +409,8 @@ fn mutated_demos_end_in_a_located_error_or_finite_outputs() {
                             "--out",
                             "out",
                         ]);
+                        runs.push(&["binning", "scenario.yaml", "--days", "30", "--out", "out"]);
+                        runs.push(&["spectrum", "scenario.yaml", "--days", "30", "--out", "out"]);
                     }
                     for args in runs {
                         match outcome(&directory, args) {
