@@ -57,7 +57,7 @@ pub struct WindowPoint {
 pub struct SignalPeak {
     pub centre: f64,
     /// Gaussian sigma, Breit-Wigner half width at half maximum, or for a
-    /// signal without a peak the range over [`PEAKLESS_WIDTHS_PER_RANGE`].
+    /// signal without a peak the range over `PEAKLESS_WIDTHS_PER_RANGE`.
     pub width: f64,
 }
 
