@@ -590,6 +590,21 @@ fn binning_recommends_only_widths_that_check_accepts() {
         String::from_utf8_lossy(&check.stderr)
     );
 
+    // A peak of sigma 1e-7 asked for 10^10 bins (80 GB) before the limit; now
+    // the scan keeps to the scenario's width and windows of 2e-9.
+    let scratch = Scratch::new("binning-narrow");
+    fs::write(
+        scratch.path.join(SCENARIO),
+        edited("sigma: 2.0", "sigma: 1e-7"),
+    )
+    .unwrap();
+    let output = scratch.run(&["binning", SCENARIO, "--days", "10", "--out", "out"]);
+    assert!(
+        output.status.success(),
+        "{}",
+        String::from_utf8_lossy(&output.stderr)
+    );
+
     let scratch = Scratch::new("binning-too-narrow");
     fs::write(
         scratch.path.join(SCENARIO),
