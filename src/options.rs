@@ -10,7 +10,7 @@ use runcast::scenario::limits::{
     MAX_EXPECTED_COUNT_PER_BIN, MAX_SPECTRUM_EXPOSURES, MAX_THREADS, MAX_TOYS_IN_TOTAL,
     MAX_TOYS_PER_POINT,
 };
-use runcast::scenario::{Scenario, show_number};
+use runcast::scenario::{Scenario, ScenarioError, show_number};
 use runcast::spectrum::largest_expected_count;
 use statrs::distribution::{ContinuousCDF, Normal};
 use std::path::{Path, PathBuf};
@@ -141,15 +141,26 @@ fn projection_settings(
 }
 
 /// Pseudo-experiments draw whole counts: refuses a grid whose last day
-/// expects more than [`MAX_EXPECTED_COUNT_PER_BIN`] events in a bin.
-fn check_countable(model: &Model, settings: &ProjectionSettings) -> Result<(), Error> {
+/// expects more than [`MAX_EXPECTED_COUNT_PER_BIN`] events in a bin or a
+/// control region, naming `plan.days.last` (a scenario error, not a usage one).
+fn check_countable(
+    loaded: &Loaded,
+    model: &Model,
+    settings: &ProjectionSettings,
+) -> Result<(), Error> {
     let last_day = settings.days.last().copied().unwrap_or_default();
     let largest = largest_expected_count(model, model.live_time.live_days(last_day));
     if largest > MAX_EXPECTED_COUNT_PER_BIN {
-        return Err(Error::Usage(format!(
-            "plan.days.last: {} days expect {largest:e} events in a bin, more than the {MAX_EXPECTED_COUNT_PER_BIN:e} a pseudo-experiment can draw exactly; shorten the grid or use --asimov-only",
-            show_number(last_day)
-        )));
+        return Err(Error::Scenario {
+            path: loaded.path.clone(),
+            source: ScenarioError::invalid(
+                "plan.days.last",
+                format!(
+                    "{} days expect {largest:e} events in a bin, more than the {MAX_EXPECTED_COUNT_PER_BIN:e} a pseudo-experiment can draw exactly; shorten the grid or use --asimov-only",
+                    show_number(last_day)
+                ),
+            ),
+        });
     }
     Ok(())
 }
@@ -192,7 +203,7 @@ impl ProjectOptions {
         let model = Model::from_scenario(&loaded.scenario);
         let with_toys = settings.toys_per_point() > 0;
         if with_toys {
-            check_countable(&model, &settings)?;
+            check_countable(&loaded, &model, &settings)?;
         }
         Ok(ProjectOptions {
             out: loaded.output_directory(args.out.as_deref()),

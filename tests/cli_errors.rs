@@ -515,6 +515,11 @@ fn control_characters_in_text_are_named() {
 fn command_line_requests_beyond_the_limits_are_named() {
     let scratch = Scratch::new("command-line-limits");
     fs::write(scratch.path.join(SCENARIO), BASE).unwrap();
+    fs::write(
+        scratch.path.join("big.yaml"),
+        edited("first: 1, last: 100", "first: 1, last: 1e+18"),
+    )
+    .unwrap();
     let before = scratch.entries();
     let project = |extra: &'static [&'static str]| -> Vec<&'static str> {
         [&["project", SCENARIO, "--out", "out", "--quiet"], extra].concat()
@@ -548,6 +553,11 @@ fn command_line_requests_beyond_the_limits_are_named() {
             &["--days 1e300", "9.007199254740992e15"],
         ),
         (vec!["check", "/dev/zero"], &["/dev/zero", "1048576 bytes"]),
+        (
+            // 40 events per live day over 20 bins for 1e18 days, with toys.
+            vec!["project", "big.yaml", "--out", "out", "--toys", "3"],
+            &["big.yaml: plan.days.last: ", "9.007199254740992e15"],
+        ),
     ];
     let failures: Vec<String> = cases
         .iter()

@@ -47,7 +47,7 @@ impl ScenarioError {
     }
 
     /// A [`ScenarioError::Invalid`] for `field`.
-    pub(super) fn invalid(field: impl Into<String>, message: impl Into<String>) -> ScenarioError {
+    pub fn invalid(field: impl Into<String>, message: impl Into<String>) -> ScenarioError {
         ScenarioError::Invalid {
             field: field.into(),
             message: message.into(),
