@@ -10,6 +10,7 @@
 use crate::asymptotic::AsimovSignificance;
 use crate::likelihood::{FitFailure, Likelihood};
 use crate::model::{LiveTime, Model, fraction_inside, shape_from_spec};
+use crate::numeric::times_power_of_ten;
 use crate::scenario::limits::MAX_BINS;
 use crate::scenario::{NormUncertainty, Scenario, ShapeSpec};
 use serde::Serialize;
@@ -231,17 +232,6 @@ pub fn candidate_bin_widths(range: [f64; 2], signal_width: f64, scenario_width: 
     widths.sort_by(f64::total_cmp);
     widths.dedup_by(|a, b| (*a - *b).abs() <= 1e-9 * b.abs());
     widths
-}
-
-/// `mantissa × 10^decade`, dividing for negative decades so that 2.5e-1 is the
-/// double nearest 0.25.
-fn times_power_of_ten(mantissa: f64, decade: i32) -> f64 {
-    let power = 10f64.powi(decade.abs());
-    if decade < 0 {
-        mantissa / power
-    } else {
-        mantissa * power
-    }
 }
 
 /// Whether `width` splits the range into a whole number of bins, to

@@ -1,4 +1,18 @@
-//! Root finding for increasing functions, shared by every stage that solves for a crossing.
+//! Root finding for increasing functions, shared by every stage that solves for a crossing,
+//! and round numbers.
+
+/// `mantissa × 10^decade` for a mantissa such as 1, 2.5 or 5. Negative
+/// decades divide by 10^-decade, which is exact up to 10^22, so that the
+/// result is the double nearest the decimal (2.5e-1 reads back as 0.25);
+/// 10^-1 itself is not exact.
+pub fn times_power_of_ten(mantissa: f64, decade: i32) -> f64 {
+    let power = 10f64.powi(decade.abs());
+    if decade < 0 {
+        mantissa / power
+    } else {
+        mantissa * power
+    }
+}
 
 /// Root of an increasing function between `low` (below `level`) and `high`
 /// (at or above it), by bisection in log(x) to a relative precision of 1e-7.

@@ -157,6 +157,7 @@ fn assert_schema(json: &Value) {
                 "probability",
                 "signal",
                 "z_asimov",
+                "z_asimov_band",
                 "z_band",
                 "z_median"
             ]
@@ -172,6 +173,22 @@ fn assert_schema(json: &Value) {
             number(&point[key]);
         }
         assert!(point["failed_fits"].is_u64(), "{point}");
+        // The asymptotic band: sqrt(q0) is about normal with unit width around
+        // Z_A, and q0 is 0 for a negative fitted signal, so Z_A - 2, Z_A - 1,
+        // Z_A + 1, Z_A + 2 floored at 0 (Cowan et al., EPJC 71 (2011) 1554,
+        // eqs. 52-53, sec. 5.1).
+        let z_asimov = number(&point["z_asimov"]);
+        let asimov_band: Vec<f64> = point["z_asimov_band"]
+            .as_array()
+            .expect("z_asimov_band is an array")
+            .iter()
+            .map(number)
+            .collect();
+        let expected = [-2.0, -1.0, 1.0, 2.0].map(|shift: f64| (z_asimov + shift).max(0.0));
+        // serde_json reads decimals to within an ulp or so, not exactly.
+        for (value, expected) in asimov_band.iter().zip(expected) {
+            assert!((value - expected).abs() <= 1e-12, "{point}");
+        }
         let band: Vec<f64> = point["z_band"]
             .as_array()
             .expect("z_band is an array")
@@ -224,10 +241,10 @@ fn assert_schema(json: &Value) {
             sorted_keys(row),
             [
                 "asimov_days",
-                "limit_z",
                 "median_days",
                 "p50_days",
                 "p90_days",
+                "saturation_z",
                 "target"
             ]
         );
@@ -237,7 +254,7 @@ fn assert_schema(json: &Value) {
             "median_days",
             "p50_days",
             "p90_days",
-            "limit_z",
+            "saturation_z",
         ] {
             assert!(row[key].is_null() || row[key].is_f64(), "{key}: {row}");
         }
@@ -494,7 +511,7 @@ fn no_limits_skips_exclusion_and_calibrate_adds_toy_p_values() {
     let normal = Normal::standard();
     for point in points(&calibrated) {
         let calibration = &point["calibration"];
-        assert_eq!(calibration["toys"], 400, "{point}");
+        assert_eq!(calibration["converged_toys"], 400, "{point}");
         // The asymptotic p-value of the Asimov q0 is 1 - Phi(Z_A) (Cowan et al.,
         // EPJC 71 (2011) 1554, eq. 52), checked with statrs as reference.
         let z = number(&point["z_asimov"]);
@@ -532,10 +549,10 @@ fn counting_window_demo_never_reaches_five_sigma() {
     assert_schema(&json);
     let rows = json["days_to_target"].as_array().unwrap();
     for row in rows {
-        let limit_z = number(&row["limit_z"]);
+        let saturation_z = number(&row["saturation_z"]);
         assert!(
-            (limit_z - limit).abs() < 0.01 * limit,
-            "limit_z {limit_z}, expected {limit}"
+            (saturation_z - limit).abs() < 0.01 * limit,
+            "saturation_z {saturation_z}, expected {limit}"
         );
     }
     let five = rows.iter().find(|row| row["target"] == 5.0).unwrap();
@@ -632,7 +649,10 @@ fn check_prints_rates_and_asymptotic_days_from_equation_97() {
             (days - expected).abs() < 1e-5 * expected,
             "{days} vs {expected}"
         );
-        assert!(row["limit_z"].is_null(), "statistics only: no limit, {row}");
+        assert!(
+            row["saturation_z"].is_null(),
+            "statistics only: no saturation, {row}"
+        );
     }
 }
 

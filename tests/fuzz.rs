@@ -80,7 +80,7 @@ const NULLABLE: [&str; 16] = [
     "toys",
     "p50_days",
     "p90_days",
-    "limit_z",
+    "saturation_z",
 ];
 
 /// SplitMix64 (Steele, Lea and Flood, OOPSLA 2014): a small seeded generator.

@@ -8,6 +8,7 @@ use crate::progress::toy_progress;
 use crate::stdout;
 use runcast::projection::project;
 use runcast::report;
+use std::path::Path;
 
 pub fn run(args: &ProjectArgs) -> Result<(), Error> {
     let options = ProjectOptions::resolve(args)?;
@@ -21,9 +22,24 @@ pub fn run(args: &ProjectArgs) -> Result<(), Error> {
     bar.finish_and_clear();
 
     let reports = report::render_all(&projection)?;
-    report::write_all(&options.out, &reports)?;
+    let removed = report::write_all(&options.out, &reports, &report::PROJECTION_FILES)?;
     stdout::print(&report::summary(&projection))?;
-    stdout::print(&format!("wrote {}\n", options.out.display()))
+    stdout::print(&format!("wrote {}\n", options.out.display()))?;
+    stdout::print(&removed_lines(&options.out, &removed))
+}
+
+/// The "removed FILE" lines for files of the output set left from an earlier
+/// run that `write_all` removed from `out`.
+fn removed_lines(out: &Path, removed: &[String]) -> String {
+    removed
+        .iter()
+        .map(|name| {
+            format!(
+                "removed {} (left from an earlier run)\n",
+                out.join(name).display()
+            )
+        })
+        .collect()
 }
 
 /// Runs `work` on a pool of `threads` workers (the global pool when None).

@@ -24,7 +24,8 @@ pub fn run(args: &SpectrumArgs) -> Result<(), Error> {
         }
     }
     let reports = report::render_spectrum(&spectrum)?;
-    report::write_all(&options.out, &reports)?;
+    // Other spectra in the directory are other exposures: nothing is stale.
+    report::write_all(&options.out, &reports, &[])?;
     stdout::print(&report::spectrum_summary(&spectrum))?;
     stdout::print(&wrote(&options.out, &reports))
 }

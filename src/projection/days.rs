@@ -17,7 +17,7 @@ pub(super) fn days_to_targets(
     targets: &[f64],
 ) -> Result<Vec<DaysToTarget>, ProjectionError> {
     let last_live_days = points.last().map_or(1.0, |p| p.live_days).max(1e-9);
-    let limit_z = asimov
+    let saturation_z = asimov
         .limit(last_live_days)
         .map_err(|failure| ProjectionError {
             live_days: last_live_days,
@@ -56,7 +56,7 @@ pub(super) fn days_to_targets(
                 median_days: crossing(&z_squared, target * target),
                 p50_days: crossing(&probability, 0.5),
                 p90_days: crossing(&probability, 0.9),
-                limit_z,
+                saturation_z,
             })
         })
         .collect()

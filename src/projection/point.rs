@@ -2,7 +2,9 @@
 
 use super::crossing::quantile;
 use super::{Calibration, ExposurePoint, ProjectionError, ProjectionSettings, TargetProbability};
-use crate::asymptotic::{AsimovSignificance, p_value, probability_to_reach, significance};
+use crate::asymptotic::{
+    AsimovSignificance, p_value, probability_to_reach, significance, significance_band,
+};
 use crate::ensemble::{
     EnsembleOutcome, EnsemblePlan, background_only_q0_ensemble, discovery_ensemble,
 };
@@ -132,6 +134,7 @@ impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
             signal: self.rates.0 * live_days,
             background: self.rates.1 * live_days,
             z_asimov,
+            z_asimov_band: significance_band(z_asimov),
             z_median: sorted.as_ref().map(|z| quantile(z, 0.5)),
             z_band: sorted
                 .as_ref()
@@ -168,11 +171,11 @@ fn add_limits(
 /// (Cowan, Cranmer, Gross, Vitells, Eur. Phys. J. C 71 (2011) 1554, eq. 49).
 fn calibration(outcome: EnsembleOutcome, z_asimov: f64) -> Calibration {
     let q0_asimov = z_asimov * z_asimov;
-    let toys = outcome.values.len();
+    let converged_toys = outcome.values.len();
     let exceeding = outcome.values.iter().filter(|&&q0| q0 >= q0_asimov).count();
-    let p_toys = (exceeding > 0).then(|| exceeding as f64 / toys as f64);
+    let p_toys = (exceeding > 0).then(|| exceeding as f64 / converged_toys as f64);
     Calibration {
-        toys,
+        converged_toys,
         failed_fits: outcome.failed_fits,
         q0_asimov,
         exceeding,
@@ -180,7 +183,7 @@ fn calibration(outcome: EnsembleOutcome, z_asimov: f64) -> Calibration {
         z_asymptotic: z_asimov,
         p_toys,
         z_toys: p_toys.map(|p| significance(p).max(0.0)),
-        tail_reach_z: significance(1.0 / toys.max(1) as f64),
+        tail_reach_z: significance(1.0 / converged_toys.max(1) as f64),
     }
 }
 

@@ -9,13 +9,15 @@ use serde::Serialize;
 pub struct Projection {
     pub title: String,
     pub seed: u64,
-    /// Pseudo-experiments per exposure point (0 for an Asimov-only run).
+    /// Pseudo-experiments requested per exposure point (0 for an Asimov-only
+    /// run); those whose fits converged are `toys` less `failed_fits`.
     pub toys: usize,
     /// Target significances in sigma.
     pub targets: Vec<f64>,
     /// Confidence level of the expected limits; None when limits were not computed.
     pub cl: Option<f64>,
-    /// Background-only pseudo-experiments per point for the q0 calibration (0 = none).
+    /// Background-only pseudo-experiments requested per point for the q0
+    /// calibration (0 = none); see `Calibration::converged_toys`.
     pub calibration_toys: usize,
     pub points: Vec<ExposurePoint>,
     pub days_to_target: Vec<DaysToTarget>,
@@ -35,6 +37,10 @@ pub struct ExposurePoint {
     pub background: f64,
     /// Median expected discovery significance from the Asimov dataset.
     pub z_asimov: f64,
+    /// Asymptotic band of the significance: Z_A - 2, Z_A - 1, Z_A + 1, Z_A + 2,
+    /// floored at 0 (`asymptotic::significance_band`), standing at the
+    /// quantiles of `z_band`.
+    pub z_asimov_band: [f64; 4],
     /// Median significance of the pseudo-experiments (None for Asimov-only).
     pub z_median: Option<f64>,
     /// Quantiles 2.3%, 15.9%, 84.1%, 97.7% of the toy significances.
@@ -61,8 +67,9 @@ pub struct ExposurePoint {
 /// from background-only pseudo-experiments.
 #[derive(Debug, Clone, Serialize)]
 pub struct Calibration {
-    /// Background-only pseudo-experiments whose fits converged.
-    pub toys: usize,
+    /// Background-only pseudo-experiments whose fits converged (of the
+    /// requested `Projection::calibration_toys`).
+    pub converged_toys: usize,
     pub failed_fits: usize,
     /// The Asimov q0 = Z_A^2 whose p-value is calibrated.
     pub q0_asimov: f64,
@@ -71,10 +78,10 @@ pub struct Calibration {
     /// 1 - Phi(Z_A) from the asymptotic half chi-square distribution.
     pub p_asymptotic: f64,
     pub z_asymptotic: f64,
-    /// exceeding / toys; None when no pseudo-experiment reached q0_asimov.
+    /// exceeding / converged_toys; None when no pseudo-experiment reached q0_asimov.
     pub p_toys: Option<f64>,
     pub z_toys: Option<f64>,
-    /// The significance of p = 1/toys, the deepest tail the ensemble resolves.
+    /// The significance of p = 1/converged_toys, the deepest tail the ensemble resolves.
     pub tail_reach_z: f64,
 }
 
@@ -111,12 +118,12 @@ pub struct DaysToTarget {
     pub p90_days: Option<f64>,
     /// The Asimov significance as days grow without bound, when systematic
     /// uncertainties make it saturate; None when it grows without bound.
-    pub limit_z: Option<f64>,
+    pub saturation_z: Option<f64>,
 }
 
 impl DaysToTarget {
     /// True when systematic uncertainties keep Z_A below the target at any exposure.
     pub fn never_reached(&self) -> bool {
-        self.limit_z.is_some_and(|limit| limit < self.target)
+        self.saturation_z.is_some_and(|limit| limit < self.target)
     }
 }

@@ -23,6 +23,9 @@ pub enum ReportError {
         path: PathBuf,
         source: io::Error,
     },
+    /// SIGINT or SIGTERM arrived while the reports were written; nothing of
+    /// this run was left in the directory.
+    Interrupted { path: PathBuf },
 }
 
 impl fmt::Display for ReportError {
@@ -44,6 +47,11 @@ impl fmt::Display for ReportError {
                 path,
                 source,
             } => write!(f, "cannot {action} {}: {source}", path.display()),
+            ReportError::Interrupted { path } => write!(
+                f,
+                "interrupted while writing {}: none of this run's files were written",
+                path.display()
+            ),
         }
     }
 }
@@ -52,7 +60,9 @@ impl std::error::Error for ReportError {
     fn source(&self) -> Option<&(dyn std::error::Error + 'static)> {
         match self {
             ReportError::Io { source, .. } => Some(source),
-            ReportError::InvalidProjection { .. } | ReportError::Render { .. } => None,
+            ReportError::InvalidProjection { .. }
+            | ReportError::Render { .. }
+            | ReportError::Interrupted { .. } => None,
         }
     }
 }

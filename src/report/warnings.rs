@@ -1,8 +1,11 @@
-//! The wording of every [`Warning`], in one place.
+//! The wording of every [`Warning`], in one place: scenario warnings, and
+//! failed fits named by the projection's ensemble descriptions
+//! (`projection/ensembles.rs`).
 
-use super::{days_label, percent_label};
+use super::kit::format::{days_label, fit_percent, percent_label};
+use super::projection::ensembles::Ensemble;
 use crate::scenario::show_number;
-use crate::warning::{Ensemble, FAILED_FRACTION_WARNING, Warning};
+use crate::warning::{FAILED_FRACTION_WARNING, Warning};
 
 /// One line, without the "warning: " prefix the caller adds.
 pub fn warning_text(warning: &Warning) -> String {
@@ -35,54 +38,26 @@ pub fn warning_text(warning: &Warning) -> String {
             worst_failed,
             toys,
             worst_days,
-        } => format!(
-            "more than {} of {} failed at {flagged_points} of {points} exposure points \
-             (worst: {worst_failed} of {toys} at {}, {}); {} there may be biased.",
-            percent_label(FAILED_FRACTION_WARNING),
-            fits(ensemble),
-            days_label(worst_days),
-            fit_percent(worst_failed, toys),
-            excluded_from(ensemble)
-        ),
-    }
-}
-
-/// Which fits of an ensemble a warning speaks of.
-fn fits(ensemble: Ensemble) -> &'static str {
-    match ensemble {
-        Ensemble::Discovery => "fits",
-        Ensemble::Limits => "limit fits",
-        Ensemble::Calibration => "calibration fits",
-    }
-}
-
-/// What the failed fits of an ensemble are left out of.
-pub(super) fn excluded_from(ensemble: Ensemble) -> &'static str {
-    match ensemble {
-        Ensemble::Discovery => "the quantiles",
-        Ensemble::Limits => "the limit quantiles",
-        Ensemble::Calibration => "the toy p-values",
-    }
-}
-
-/// `part` of `whole` in percent to two decimals ("1.00%"), "<0.01%" for a
-/// non-zero part below that, "0%" of nothing.
-pub(super) fn fit_percent(part: usize, whole: usize) -> String {
-    if whole == 0 {
-        return "0%".to_string();
-    }
-    let value = 100.0 * part as f64 / whole as f64;
-    if part > 0 && value < 0.01 {
-        "<0.01%".to_string()
-    } else {
-        format!("{value:.2}%")
+        } => {
+            let ensemble = Ensemble::of(ensemble);
+            format!(
+                "more than {} of {} failed at {flagged_points} of {points} exposure points \
+                 (worst: {worst_failed} of {toys} at {}, {}); {} there may be biased.",
+                percent_label(FAILED_FRACTION_WARNING),
+                ensemble.fits,
+                days_label(worst_days),
+                fit_percent(worst_failed, toys),
+                ensemble.results
+            )
+        }
     }
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::report::example;
+    use crate::report::projection::example;
+    use crate::warning::Ensemble;
 
     #[test]
     fn the_failed_fit_threshold_is_worded_from_its_constant() {

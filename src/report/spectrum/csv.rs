@@ -7,8 +7,9 @@
 //! shortest round-trip decimals, as in `projection.csv`, so the same spectrum
 //! always gives the same bytes.
 
-use super::ReportError;
-use super::csv::number;
+use crate::report::ReportError;
+use crate::report::kit::encode::csv_bytes;
+use crate::report::kit::format::number;
 use crate::spectrum::Spectrum;
 
 /// Name used in rendering errors.
@@ -28,35 +29,22 @@ const COLUMNS: [&str; 9] = [
 
 /// The CSV table of the spectra, exposures in order.
 pub(super) fn render(spectrum: &Spectrum) -> Result<Vec<u8>, ReportError> {
-    let mut writer = ::csv::Writer::from_writer(Vec::new());
-    writer.write_record(COLUMNS).map_err(failure)?;
-    for exposure in &spectrum.exposures {
-        for bin in &exposure.bins {
-            writer
-                .write_record([
-                    number(exposure.days),
-                    number(exposure.live_days),
-                    number(bin.low),
-                    number(bin.high),
-                    bin.counts.to_string(),
-                    number(bin.background),
-                    number(bin.signal_plus_background),
-                    number(bin.error_low),
-                    number(bin.error_high),
-                ])
-                .map_err(failure)?;
-        }
-    }
-    writer
-        .into_inner()
-        .map_err(|error| failure(error.into_error()))
-}
-
-fn failure(error: impl std::fmt::Display) -> ReportError {
-    ReportError::Render {
-        file: FILE,
-        message: error.to_string(),
-    }
+    let rows = spectrum.exposures.iter().flat_map(|exposure| {
+        exposure.bins.iter().map(move |bin| {
+            [
+                number(exposure.days),
+                number(exposure.live_days),
+                number(bin.low),
+                number(bin.high),
+                bin.counts.to_string(),
+                number(bin.background),
+                number(bin.signal_plus_background),
+                number(bin.error_low),
+                number(bin.error_high),
+            ]
+        })
+    });
+    csv_bytes(FILE, COLUMNS, rows)
 }
 
 #[cfg(test)]

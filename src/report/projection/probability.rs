@@ -4,32 +4,34 @@
 //! al., EPJC 71 (2011) 1554). Dotted lines mark the 50% and 90% levels that
 //! the summary reports.
 
-use super::plot::{self, Canvas, DrawError, Stroke, TARGET_COLOURS, ValueAxis};
-use super::{PROBABILITY_SVG, ReportError, target_label};
+use super::{PROBABILITY_SVG, day_range};
 use crate::projection::Projection;
+use crate::report::ReportError;
+use crate::report::kit::axis::{Axis, days_axis, linear_axis};
+use crate::report::kit::figure::{self, Canvas, DrawError, Frame, SIZE};
+use crate::report::kit::format::target_label;
+use crate::report::kit::marks::{self, Stroke};
+use crate::report::kit::palette::TARGET_COLOURS;
 use plotters::chart::SeriesLabelPosition;
 
 /// The probability plot as SVG bytes.
 pub(super) fn render(projection: &Projection) -> Result<Vec<u8>, ReportError> {
-    plot::svg_bytes(PROBABILITY_SVG, |canvas| draw(canvas, projection))
+    figure::svg_bytes(PROBABILITY_SVG, SIZE, |canvas| draw(canvas, projection))
 }
 
 fn draw(canvas: &Canvas, projection: &Projection) -> Result<(), DrawError> {
     let points = &projection.points;
-    let value_axis = ValueAxis {
-        coordinate: plot::linear_axis(0.0..1.0),
-        description: "Probability P(Z ≥ target)",
-        format: &|probability| format!("{probability:.1}"),
+    let format = |probability: &f64| format!("{probability:.1}");
+    let y = Axis {
+        coordinate: linear_axis(0.0..1.0),
+        description: Some("Probability P(Z ≥ target)"),
+        format: &format,
+        labels: Some(12),
     };
-    let mut chart = plot::day_chart(
-        canvas,
-        &projection.title,
-        plot::day_range(points),
-        value_axis,
-        false,
-    )?;
+    let frame = Frame::single(&projection.title, false);
+    let mut chart = figure::chart(canvas, &frame, days_axis(day_range(points)), y)?;
     for (level, label) in [(0.5, "50%"), (0.9, "90%")] {
-        plot::reference_line(&mut chart, canvas, level, label)?;
+        marks::reference_line(&mut chart, canvas, level, label)?;
     }
     for (slot, &target) in projection.targets.iter().enumerate() {
         let colour = TARGET_COLOURS[slot % TARGET_COLOURS.len()];
@@ -41,22 +43,22 @@ fn draw(canvas: &Canvas, projection: &Projection) -> Result<(), DrawError> {
             .collect();
         if toys.len() > 1 {
             let label = format!("{label}, pseudo-experiments");
-            plot::draw_curve(&mut chart, toys, colour, Stroke::Solid, label)?;
+            marks::draw_curve(&mut chart, toys, colour, Stroke::Solid, label)?;
         }
         let asymptotic = points
             .iter()
             .map(|point| (point.days, point.probability[slot].asimov))
             .collect();
         let label = format!("{label}, asymptotic");
-        plot::draw_curve(&mut chart, asymptotic, colour, Stroke::Dashed, label)?;
+        marks::draw_curve(&mut chart, asymptotic, colour, Stroke::Dashed, label)?;
     }
-    plot::draw_legend_at(&mut chart, SeriesLabelPosition::UpperLeft)
+    marks::draw_legend_at(&mut chart, SeriesLabelPosition::UpperLeft)
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::report::example;
+    use crate::report::projection::example;
 
     #[test]
     fn one_solid_and_one_dashed_curve_per_target() {

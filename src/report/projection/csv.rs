@@ -1,26 +1,39 @@
 //! `projection.csv`: one row per exposure point.
 //!
 //! Columns: `days, live_days, signal, background, z_asimov, z_median,
-//! z_q02_3, z_q15_9, z_q84_1, z_q97_7`, then for each target T
+//! z_q02_3, z_q15_9, z_q84_1, z_q97_7` (toys), `z_asimov_q02_3,
+//! z_asimov_q15_9, z_asimov_q84_1, z_asimov_q97_7` (Z_A - 2, - 1, + 1, + 2,
+//! floored at 0, standing at those quantiles), then for each target T
 //! `p_toys_<T>sigma, p_asimov_<T>sigma`, then `failed_fits`; then the
 //! expected limits on μ, `limit_median, limit_q02_3, limit_q15_9,
 //! limit_q84_1, limit_q97_7` (pseudo-experiments), `limit_asimov,
 //! limit_asimov_q02_3, limit_asimov_q15_9, limit_asimov_q84_1,
 //! limit_asimov_q97_7` (asymptotic, the -2, -1, +1, +2 σ limits standing at
 //! those quantiles), `limit_failed_fits`; then the q0 calibration,
-//! `calibration_toys, calibration_failed_fits, calibration_exceeding,
+//! `calibration_converged_toys, calibration_failed_fits, calibration_exceeding,
 //! q0_asimov, p_asymptotic, p_toys, z_asymptotic, z_toys, tail_reach_z`. An
 //! empty cell means no value (an Asimov-only run has no toy columns filled, a
 //! run without limits or calibration none of theirs). Numbers are
-//! written as the shortest decimal that reads back to the same f64, so the
-//! file is lossless and byte-for-byte reproducible; magnitudes below 1e-4 or
-//! from 1e15 up use exponent form (`2.867e-7`) instead of long runs of zeros.
+//! written as the shortest decimal that reads back to the same f64
+//! (`kit::format::number`), so the file is lossless and byte-for-byte
+//! reproducible.
 
-use super::{PROJECTION_CSV, ReportError};
+use super::PROJECTION_CSV;
 use crate::projection::{Calibration, ExposurePoint, Projection};
+use crate::report::ReportError;
+use crate::report::kit::encode::csv_bytes;
+use crate::report::kit::format::{number, optional};
 
 /// Names of the four toy quantile columns, in the order of `z_band`.
 const BAND_COLUMNS: [&str; 4] = ["z_q02_3", "z_q15_9", "z_q84_1", "z_q97_7"];
+
+/// Names of the asymptotic band columns, in the order of `z_asimov_band`.
+const ASIMOV_BAND_COLUMNS: [&str; 4] = [
+    "z_asimov_q02_3",
+    "z_asimov_q15_9",
+    "z_asimov_q84_1",
+    "z_asimov_q97_7",
+];
 
 /// The limit columns after `failed_fits`, in the order of [`limit_cells`].
 const LIMIT_COLUMNS: [&str; 11] = [
@@ -39,7 +52,7 @@ const LIMIT_COLUMNS: [&str; 11] = [
 
 /// The calibration columns at the end, in the order of [`calibration_cells`].
 const CALIBRATION_COLUMNS: [&str; 9] = [
-    "calibration_toys",
+    "calibration_converged_toys",
     "calibration_failed_fits",
     "calibration_exceeding",
     "q0_asimov",
@@ -52,16 +65,11 @@ const CALIBRATION_COLUMNS: [&str; 9] = [
 
 /// The CSV table of the projection.
 pub(super) fn render(projection: &Projection) -> Result<Vec<u8>, ReportError> {
-    let mut writer = ::csv::Writer::from_writer(Vec::new());
-    writer
-        .write_record(header(&projection.targets))
-        .map_err(failure)?;
-    for point in &projection.points {
-        writer.write_record(row(point)).map_err(failure)?;
-    }
-    writer
-        .into_inner()
-        .map_err(|error| failure(error.into_error()))
+    csv_bytes(
+        PROJECTION_CSV,
+        header(&projection.targets),
+        projection.points.iter().map(row),
+    )
 }
 
 fn header(targets: &[f64]) -> Vec<String> {
@@ -76,6 +84,7 @@ fn header(targets: &[f64]) -> Vec<String> {
     let mut columns: Vec<String> = leading
         .iter()
         .chain(&BAND_COLUMNS)
+        .chain(&ASIMOV_BAND_COLUMNS)
         .map(|name| name.to_string())
         .collect();
     for target in targets {
@@ -103,6 +112,7 @@ fn row(point: &ExposurePoint) -> Vec<String> {
         optional(point.z_median),
     ];
     cells.extend(band_cells(point.z_band));
+    cells.extend(band_cells(Some(point.z_asimov_band)));
     for probability in &point.probability {
         cells.push(optional(probability.toys));
         cells.push(number(probability.asimov));
@@ -133,7 +143,7 @@ fn calibration_cells(calibration: Option<&Calibration>) -> [String; 9] {
         return Default::default();
     };
     [
-        calibration.toys.to_string(),
+        calibration.converged_toys.to_string(),
         calibration.failed_fits.to_string(),
         calibration.exceeding.to_string(),
         number(calibration.q0_asimov),
@@ -145,31 +155,10 @@ fn calibration_cells(calibration: Option<&Calibration>) -> [String; 9] {
     ]
 }
 
-/// The shortest decimal that reads back to `value`, in exponent form outside [1e-4, 1e15).
-pub(super) fn number(value: f64) -> String {
-    let magnitude = value.abs();
-    if magnitude != 0.0 && !(1e-4..1e15).contains(&magnitude) {
-        format!("{value:e}")
-    } else {
-        value.to_string()
-    }
-}
-
-fn optional(value: Option<f64>) -> String {
-    value.map(number).unwrap_or_default()
-}
-
-fn failure(error: impl std::fmt::Display) -> ReportError {
-    ReportError::Render {
-        file: PROJECTION_CSV,
-        message: error.to_string(),
-    }
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::report::example;
+    use crate::report::projection::example;
 
     #[test]
     fn header_and_rows_match_the_documented_columns() {
@@ -180,15 +169,16 @@ mod tests {
             [
                 "days,live_days,signal,background,z_asimov,z_median,\
                  z_q02_3,z_q15_9,z_q84_1,z_q97_7,\
+                 z_asimov_q02_3,z_asimov_q15_9,z_asimov_q84_1,z_asimov_q97_7,\
                  p_toys_3sigma,p_asimov_3sigma,p_toys_5sigma,p_asimov_5sigma,failed_fits,\
                  limit_median,limit_q02_3,limit_q15_9,limit_q84_1,limit_q97_7,\
                  limit_asimov,limit_asimov_q02_3,limit_asimov_q15_9,limit_asimov_q84_1,\
                  limit_asimov_q97_7,limit_failed_fits,\
-                 calibration_toys,calibration_failed_fits,calibration_exceeding,q0_asimov,\
+                 calibration_converged_toys,calibration_failed_fits,calibration_exceeding,q0_asimov,\
                  p_asymptotic,p_toys,z_asymptotic,z_toys,tail_reach_z",
-                "10,8,16,80,1.75,1.625,0.125,0.75,2.5,3.5,0.105,0.0885,0,0.0005,0\
+                "10,8,16,80,1.75,1.625,0.125,0.75,2.5,3.5,0,0.75,2.75,3.75,0.105,0.0885,0,0.0005,0\
                  ,,,,,,,,,,,0,,,,,,,,,",
-                "100,80,160,800,3.875,,,,,,,0.8125,,0.125,2\
+                "100,80,160,800,3.875,,,,,,1.875,2.875,4.875,5.875,,0.8125,,0.125,2\
                  ,,,,,,,,,,,0,,,,,,,,,",
             ]
         );
@@ -228,7 +218,7 @@ mod tests {
             let calibration = point.calibration.as_ref().unwrap();
             assert_eq!(value("z_asymptotic", row), calibration.z_asymptotic);
             assert_eq!(value("tail_reach_z", row), calibration.tail_reach_z);
-            assert_eq!(cell(&table, "calibration_toys", row), "5000");
+            assert_eq!(cell(&table, "calibration_converged_toys", row), "5000");
         }
         // At 1000 days the Asimov Z lies far past what 5000 toys resolve: none exceeds.
         let last = projection.points.len() - 1;
@@ -250,20 +240,6 @@ mod tests {
                 .unwrap()
                 > 0.0
         );
-        assert_eq!(cell(&table, "calibration_toys", 3), "");
-    }
-
-    #[test]
-    fn numbers_are_shortest_round_trip_decimals() {
-        assert_eq!(number(0.1 + 0.2), "0.30000000000000004");
-        assert_eq!(number(1.5e6), "1500000");
-        assert_eq!(number(0.0), "0");
-        assert_eq!(number(0.0001), "0.0001");
-        assert_eq!(number(2.867e-7), "2.867e-7");
-        assert_eq!(number(-4.0291033463290996e-6), "-4.0291033463290996e-6");
-        assert_eq!(number(2.5e15), "2.5e15");
-        for value in [2.867e-7, 0.1 + 0.2, 1.0 / 3.0, 6.02e23] {
-            assert_eq!(number(value).parse::<f64>().unwrap(), value);
-        }
+        assert_eq!(cell(&table, "calibration_converged_toys", 3), "");
     }
 }

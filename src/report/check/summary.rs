@@ -20,7 +20,7 @@ pub fn check_summary(
     let last_day = projection.points.last().map_or(0.0, |point| point.days);
     text.push_str("  asymptotic days to target:\n");
     for days in &projection.days_to_target {
-        let answer = match (days.asimov_days, days.limit_z) {
+        let answer = match (days.asimov_days, days.saturation_z) {
             (Some(days), _) => format!("{days:.1} days"),
             (None, Some(limit)) if limit < days.target => {
                 format!("never: systematic uncertainties cap Z at {limit:.2} sigma")

@@ -12,18 +12,28 @@
 //! where a median limit crosses it, the nominal signal is expected to be
 //! excluded, and the day is marked.
 
-use super::plot::{
-    self, BandPoint, Canvas, DOT, DayChart, DrawError, INK_TEAL, LABEL_SIZE, LogAxis, SLATE,
-    Stroke, VERMILION, ValueAxis,
-};
-use super::{LIMITS_SVG, ReportError, days_label, percent_label};
+use super::ensembles::Ensemble;
+use super::{LIMITS_SVG, day_range};
 use crate::projection::{ExposurePoint, Projection};
+use crate::report::ReportError;
+use crate::report::kit::axis::{Axis, LogAxis, days_axis, log_axis, one_two_five_span, tick_label};
+use crate::report::kit::figure::{self, Canvas, Chart, DrawError, Frame, SIZE};
+use crate::report::kit::format::{days_label, percent_label};
+use crate::report::kit::marks::{self, BandPoint, Stroke};
+use crate::report::kit::palette::{DOT, INK_TEAL, LABEL_SIZE, SLATE, VERMILION};
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, VPos};
 
-/// The limit plot at confidence level `cl` as SVG bytes.
-pub(super) fn render(projection: &Projection, cl: f64) -> Result<Vec<u8>, ReportError> {
-    plot::svg_bytes(LIMITS_SVG, |canvas| draw(canvas, projection, cl))
+type LimitChart<'a, 'b> = Chart<'a, 'b, LogAxis, LogAxis>;
+
+/// The limit plot at the confidence level of the projection as SVG bytes;
+/// only for a projection with limits (`cl` set).
+pub(super) fn render(projection: &Projection) -> Result<Vec<u8>, ReportError> {
+    let cl = projection.cl.ok_or_else(|| ReportError::Render {
+        file: LIMITS_SVG,
+        message: "the projection has no expected limits (no confidence level)".to_string(),
+    })?;
+    figure::svg_bytes(LIMITS_SVG, SIZE, |canvas| draw(canvas, projection, cl))
 }
 
 fn draw(canvas: &Canvas, projection: &Projection, cl: f64) -> Result<(), DrawError> {
@@ -43,31 +53,28 @@ fn draw(canvas: &Canvas, projection: &Projection, cl: f64) -> Result<(), DrawErr
     let median = series(points, |point| point.limit_median);
     let asymptotic = series(points, |point| point.limit_asimov);
     let description = format!("Expected {} CL upper limit on μ (CLs)", percent_label(cl));
-    let value_axis = ValueAxis {
-        coordinate: plot::log_axis(limit_span(&band, &median, &asymptotic)),
-        description: &description,
-        format: &|mu| plot::tick_label(*mu),
+    let format = |mu: &f64| tick_label(*mu);
+    let y = Axis {
+        coordinate: log_axis(limit_span(&band, &median, &asymptotic)),
+        description: Some(&description),
+        format: &format,
+        labels: Some(12),
     };
     let footnote = footnote(projection);
-    let mut chart = plot::day_chart(
-        canvas,
-        &projection.title,
-        plot::day_range(points),
-        value_axis,
-        footnote.is_some(),
-    )?;
-    plot::draw_band(&mut chart, &band, band_labels)?;
+    let frame = Frame::single(&projection.title, footnote.is_some());
+    let mut chart = figure::chart(canvas, &frame, days_axis(day_range(points)), y)?;
+    marks::draw_band(&mut chart, &band, band_labels)?;
     draw_nominal_signal(&mut chart, canvas, points)?;
     if median.len() > 1 {
         let label = format!("Toy median ({} per point)", projection.toys);
-        plot::draw_curve(&mut chart, median, INK_TEAL, Stroke::Solid, label)?;
+        marks::draw_curve(&mut chart, median, INK_TEAL, Stroke::Solid, label)?;
     }
     let label = "Asymptotic median".to_string();
-    plot::draw_curve(&mut chart, asymptotic, VERMILION, Stroke::Dashed, label)?;
+    marks::draw_curve(&mut chart, asymptotic, VERMILION, Stroke::Dashed, label)?;
     draw_days_to_exclusion(&mut chart, canvas, projection)?;
-    plot::draw_legend_at(&mut chart, SeriesLabelPosition::UpperRight)?;
+    marks::draw_legend_at(&mut chart, SeriesLabelPosition::UpperRight)?;
     match footnote {
-        Some(text) => plot::draw_footnote(canvas, &text),
+        Some(text) => marks::draw_footnote(canvas, &text),
         None => Ok(()),
     }
 }
@@ -97,7 +104,7 @@ fn limit_span(
         .flat_map(|(_, quantiles)| *quantiles)
         .chain(median.iter().chain(asymptotic).map(|&(_, mu)| mu));
     let (low, high) = values.fold((0.5, 2.0), |(low, high), mu| (mu.min(low), mu.max(high)));
-    plot::one_two_five_span(low, high)
+    one_two_five_span(low, high)
 }
 
 /// The dotted line at μ = 1, labelled "nominal signal (μ = 1)" inside the
@@ -105,12 +112,12 @@ fn limit_span(
 /// every limit of the last point lies below 1 (the nominal signal is excluded
 /// by then), else below the line at the left end, where limits are highest.
 fn draw_nominal_signal(
-    chart: &mut DayChart<LogAxis>,
+    chart: &mut LimitChart,
     canvas: &Canvas,
     points: &[ExposurePoint],
 ) -> Result<(), DrawError> {
     const INSET: i32 = 6;
-    let (right, y) = plot::horizontal_line(chart, 1.0, SLATE, DOT)?;
+    let (right, y) = marks::horizontal_line(chart, 1.0, SLATE, DOT)?;
     let excluded_at_the_end = points.last().is_some_and(|point| {
         let band = point
             .limit_band
@@ -127,7 +134,7 @@ fn draw_nominal_signal(
         let left = chart.plotting_area().get_pixel_range().0.start;
         ((left + INSET, y + INSET), (HPos::Left, VPos::Top))
     };
-    plot::draw_text(
+    marks::draw_text(
         canvas,
         "nominal signal (μ = 1)",
         position,
@@ -142,7 +149,7 @@ fn draw_nominal_signal(
 /// exposure, so the labels go below the line, one row each, the median's
 /// first.
 fn draw_days_to_exclusion(
-    chart: &mut DayChart<LogAxis>,
+    chart: &mut LimitChart,
     canvas: &Canvas,
     projection: &Projection,
 ) -> Result<(), DrawError> {
@@ -157,7 +164,7 @@ fn draw_days_to_exclusion(
         .filter_map(|(days, curve)| Some((days?, curve)));
     for (row, (days, curve)) in (0..).zip(reached) {
         let label = format!("excluded: {}", days_label(days));
-        plot::mark_crossing(
+        marks::mark_crossing(
             chart,
             canvas,
             (days, 1.0),
@@ -171,23 +178,23 @@ fn draw_days_to_exclusion(
 
 /// Footnote text: how Asimov-only bands are made, or failed limit fits when any.
 fn footnote(projection: &Projection) -> Option<String> {
-    plot::EnsembleFootnote {
-        asimov_only: "Asimov only: bands are the asymptotic limits at ±1σ and ±2σ of the \
-                      background-only expectation.",
-        heading: "Failed limit fits",
-        ensemble: "background-only pseudo-experiments",
-        failed_at: |point| point.limit_failed_fits,
+    if projection.toys == 0 {
+        return Some(
+            "Asimov only: bands are the asymptotic limits at ±1σ and ±2σ of the \
+             background-only expectation."
+                .to_string(),
+        );
     }
-    .text(projection)
+    Ensemble::limits().footnote(projection)
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::report::example;
+    use crate::report::projection::example;
 
     fn svg(projection: &Projection) -> String {
-        String::from_utf8(render(projection, projection.cl.unwrap()).unwrap()).unwrap()
+        String::from_utf8(render(projection).unwrap()).unwrap()
     }
 
     #[test]

@@ -5,8 +5,8 @@
 //! CSV columns follow the order of `targets`. A projection breaking any of
 //! these is refused with the path of the offending value.
 
-use super::ReportError;
 use crate::projection::{Calibration, ExposurePoint, Projection};
+use crate::report::ReportError;
 
 const FINITE: &str = "a finite number";
 /// Limits go on a logarithmic axis, and a CLs upper limit is always above 0.
@@ -37,7 +37,7 @@ pub(super) fn check_projection(projection: &Projection) -> Result<(), ReportErro
         optional_finite(field("median_days"), row.median_days)?;
         optional_finite(field("p50_days"), row.p50_days)?;
         optional_finite(field("p90_days"), row.p90_days)?;
-        optional_finite(field("limit_z"), row.limit_z)?;
+        optional_finite(field("saturation_z"), row.saturation_z)?;
     }
     if let Some(cl) = projection.cl
         && !(cl > 0.0 && cl < 1.0)
@@ -71,6 +71,9 @@ fn check_points(projection: &Projection) -> Result<(), ReportError> {
         finite(field("signal"), point.signal)?;
         finite(field("background"), point.background)?;
         finite(field("z_asimov"), point.z_asimov)?;
+        for (quantile, &z) in point.z_asimov_band.iter().enumerate() {
+            finite(format!("points[{index}].z_asimov_band[{quantile}]"), z)?;
+        }
         optional_finite(field("z_median"), point.z_median)?;
         if let Some(band) = point.z_band {
             for (quantile, &z) in band.iter().enumerate() {
@@ -164,7 +167,7 @@ fn invalid(field: String, value: String, expected: &'static str) -> ReportError 
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::report::example;
+    use crate::report::projection::example;
 
     fn message(projection: &Projection) -> String {
         check_projection(projection).unwrap_err().to_string()
@@ -260,10 +263,10 @@ mod tests {
     #[test]
     fn a_nan_day_to_target_is_named() {
         let mut projection = example::tiny();
-        projection.days_to_target[1].limit_z = Some(f64::NAN);
+        projection.days_to_target[1].saturation_z = Some(f64::NAN);
         assert_eq!(
             message(&projection),
-            "cannot report the projection: days_to_target[1].limit_z is NaN, expected a finite number"
+            "cannot report the projection: days_to_target[1].saturation_z is NaN, expected a finite number"
         );
     }
 

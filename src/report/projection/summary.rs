@@ -3,11 +3,10 @@
 //! failed fits of each ensemble, and a warning when systematic uncertainties
 //! cap the significance.
 
-use super::warnings::{excluded_from, fit_percent, warning_text};
-use super::{days_label, percent_label, target_label};
-use crate::asymptotic::significance;
+use super::ensembles::Ensemble;
 use crate::projection::{Calibration, DaysToTarget, Projection};
-use crate::warning::Ensemble;
+use crate::report::kit::format::{aligned, days_label, fit_percent, percent_label, target_label};
+use crate::report::warning_text;
 
 const COLUMNS: [&str; 5] = [
     "target",
@@ -48,7 +47,7 @@ pub fn summary(projection: &Projection) -> String {
         text.push('\n');
         text.push_str(&table);
     }
-    let ensembles = ensembles(projection);
+    let ensembles = Ensemble::ran(projection);
     if !ensembles.is_empty() {
         text.push('\n');
     }
@@ -114,81 +113,20 @@ fn grid_day(days: f64) -> String {
     format!("{} d", (days * 100.0).round() / 100.0)
 }
 
-/// Left-aligned columns separated by three spaces (widths in characters, so
-/// "σ" and "—" count as one).
-pub(super) fn aligned(rows: &[Vec<String>]) -> String {
-    let columns = rows.first().map_or(0, Vec::len);
-    let widths: Vec<usize> = (0..columns)
-        .map(|column| {
-            rows.iter()
-                .map(|row| row[column].chars().count())
-                .max()
-                .unwrap_or(0)
-        })
-        .collect();
-    let mut text = String::new();
-    for row in rows {
-        let cells: Vec<String> = row
-            .iter()
-            .zip(&widths)
-            .map(|(cell, &width)| format!("{cell:<width$}"))
-            .collect();
-        text.push_str(cells.join("   ").trim_end());
-        text.push('\n');
-    }
-    text
-}
-
-/// One ensemble of pseudo-experiments, as its failed-fit lines name it.
-struct EnsembleLines {
-    kind: Ensemble,
-    /// Start of the total line: "Failed fits", "Failed fits (limits)".
-    heading: &'static str,
-    /// What was thrown: "pseudo-experiments", "background-only pseudo-experiments".
-    thrown: &'static str,
-}
-
-/// The headings of each ensemble the projection ran.
-fn ensembles(projection: &Projection) -> Vec<EnsembleLines> {
-    projection
-        .ensembles()
-        .into_iter()
-        .map(|kind| {
-            let (heading, thrown) = match kind {
-                Ensemble::Discovery => ("Failed fits", "pseudo-experiments"),
-                Ensemble::Limits => ("Failed fits (limits)", "background-only pseudo-experiments"),
-                Ensemble::Calibration => (
-                    "Failed fits (q0 calibration)",
-                    "background-only pseudo-experiments",
-                ),
-            };
-            EnsembleLines {
-                kind,
-                heading,
-                thrown,
-            }
-        })
-        .collect()
-}
-
-/// Total failed fits of one ensemble, and its warning when any point lost
-/// more than [`FAILED_FRACTION_WARNING`](crate::warning::FAILED_FRACTION_WARNING) of its toys.
-fn failed_fits_lines(projection: &Projection, ensemble: &EnsembleLines) -> String {
-    let kind = ensemble.kind;
-    let total_toys = projection.ensemble_toys(kind) * projection.points.len();
-    let total_failed: usize = projection
-        .points
-        .iter()
-        .map(|point| point.failed_fits_of(kind))
-        .sum();
+/// Total failed fits of one ensemble, and its warning (worded by
+/// [`warning_text`]) when any point lost more than
+/// [`FAILED_FRACTION_WARNING`](crate::warning::FAILED_FRACTION_WARNING) of its toys.
+fn failed_fits_lines(projection: &Projection, ensemble: &Ensemble) -> String {
+    let total_toys = ensemble.total_toys(projection);
+    let total_failed = ensemble.total_failed(projection);
     let mut text = format!(
         "{}: {total_failed} of {total_toys} {} ({}), excluded from {}.\n",
         ensemble.heading,
         ensemble.thrown,
         fit_percent(total_failed, total_toys),
-        excluded_from(kind)
+        ensemble.results
     );
-    if let Some(warning) = projection.failed_fit_warning(kind) {
+    if let Some(warning) = projection.failed_fit_warning(ensemble.kind) {
         text.push_str(&format!("warning: {}\n", warning_text(&warning)));
     }
     text
@@ -196,7 +134,8 @@ fn failed_fits_lines(projection: &Projection, ensemble: &EnsembleLines) -> Strin
 
 /// The discovery significance of the Asimov q0 at each calibrated point:
 /// asymptotic, from background-only pseudo-experiments, their difference, and
-/// the converged toys; then a note on the tail reach of N toys, p = 1/N. Where
+/// the converged toys; then a note on the tail reach of N converged toys,
+/// p = 1/N, at the point with the fewest (the reach the points carry). Where
 /// no toy reached the Asimov q0, the toy Z is only known to exceed the reach,
 /// written "> 3.29", and the difference is bounded accordingly.
 fn calibration_table(projection: &Projection) -> Option<String> {
@@ -205,10 +144,12 @@ fn calibration_table(projection: &Projection) -> Option<String> {
         .iter()
         .filter_map(|point| Some((point.days, point.calibration.as_ref()?)))
         .collect();
-    if calibrated.is_empty() {
-        return None;
-    }
     let toys = projection.calibration_toys;
+    let shallowest = calibrated
+        .iter()
+        .map(|(_, calibration)| *calibration)
+        .min_by_key(|calibration| calibration.converged_toys)?;
+    let reached = shallowest.converged_toys;
     let header = [
         "days",
         "Z asymptotic",
@@ -231,16 +172,16 @@ fn calibration_table(projection: &Projection) -> Option<String> {
             two_decimals(z),
             z_toys,
             difference,
-            calibration.toys.to_string(),
+            calibration.converged_toys.to_string(),
         ]
     }));
     Some(format!(
         "Discovery Z of the Asimov q0, asymptotic and from {toys} background-only \
          pseudo-experiments per point\n{}\
-         note: {toys} background-only pseudo-experiments resolve p-values down to 1/{toys}, \
+         note: {reached} background-only pseudo-experiments resolve p-values down to 1/{reached}, \
          Z ≈ {}; where none reaches the Asimov q0, the toy Z is only known to lie above that.\n",
         aligned(&rows),
-        two_decimals(significance(1.0 / toys as f64))
+        two_decimals(shallowest.tail_reach_z)
     ))
 }
 
@@ -252,7 +193,7 @@ fn two_decimals(value: f64) -> String {
 /// One line when systematic uncertainties make Z_A saturate, naming the
 /// targets that are therefore never reached.
 fn saturation_line(rows: &[DaysToTarget]) -> Option<String> {
-    let limit = rows.iter().find_map(|row| row.limit_z)?;
+    let limit = rows.iter().find_map(|row| row.saturation_z)?;
     let never: Vec<String> = rows
         .iter()
         .filter(|row| row.never_reached())
@@ -271,7 +212,7 @@ fn saturation_line(rows: &[DaysToTarget]) -> Option<String> {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::report::example;
+    use crate::report::projection::example;
 
     #[test]
     fn table_of_the_tiny_example() {
@@ -295,8 +236,8 @@ warning: systematic uncertainties make Z_A saturate at 4.50σ however long the r
     #[test]
     fn a_target_past_the_grid_is_beyond_the_last_day() {
         let mut projection = example::tiny();
-        projection.days_to_target[1].limit_z = None;
-        projection.days_to_target[0].limit_z = None;
+        projection.days_to_target[1].saturation_z = None;
+        projection.days_to_target[0].saturation_z = None;
         let text = summary(&projection);
         assert!(
             text.contains("5σ       beyond 100 d   beyond 100 d   beyond 100 d   beyond 100 d\n")
@@ -407,5 +348,27 @@ warning: systematic uncertainties make Z_A saturate at 4.50σ however long the r
         }
         assert!(text.contains("\n1 d        0.55           0.34     0.20                5000\n"));
         assert!(text.contains("\n63.1 d     3.95           > 3.54   < 0.41              5000\n"));
+    }
+
+    #[test]
+    fn the_tail_reach_is_that_of_the_converged_toys() {
+        let mut projection = example::with_limits();
+        let calibration = projection.points[3].calibration.as_mut().unwrap();
+        calibration.failed_fits = 1000;
+        calibration.converged_toys = 4000;
+        calibration.tail_reach_z = crate::asymptotic::significance(1.0 / 4000.0);
+        let text = summary(&projection);
+        // Φ⁻¹(1 − 1/4000) = 3.48 (standard normal quantile, from memory;
+        // recomputed with statrs as reference).
+        let normal = statrs::distribution::Normal::standard();
+        let reach = statrs::distribution::ContinuousCDF::inverse_cdf(&normal, 1.0 - 1.0 / 4000.0);
+        assert_eq!(format!("{reach:.2}"), "3.48");
+        assert!(
+            text.contains(
+                "note: 4000 background-only pseudo-experiments resolve p-values down to 1/4000, \
+                 Z ≈ 3.48;"
+            ),
+            "{text}"
+        );
     }
 }

@@ -27,6 +27,7 @@ pub(crate) fn tiny() -> Projection {
                 signal: 16.0,
                 background: 80.0,
                 z_asimov: 1.75,
+                z_asimov_band: [0.0, 0.75, 2.75, 3.75],
                 z_median: Some(1.625),
                 z_band: Some([0.125, 0.75, 2.5, 3.5]),
                 probability: vec![
@@ -55,6 +56,7 @@ pub(crate) fn tiny() -> Projection {
                 signal: 160.0,
                 background: 800.0,
                 z_asimov: 3.875,
+                z_asimov_band: [1.875, 2.875, 4.875, 5.875],
                 z_median: None,
                 z_band: None,
                 probability: vec![
@@ -85,7 +87,7 @@ pub(crate) fn tiny() -> Projection {
                 median_days: Some(44.0),
                 p50_days: Some(44.25),
                 p90_days: Some(98.0),
-                limit_z: Some(4.5),
+                saturation_z: Some(4.5),
             },
             DaysToTarget {
                 target: 5.0,
@@ -93,7 +95,7 @@ pub(crate) fn tiny() -> Projection {
                 median_days: None,
                 p50_days: None,
                 p90_days: None,
-                limit_z: Some(4.5),
+                saturation_z: Some(4.5),
             },
         ],
     }
@@ -128,7 +130,7 @@ impl InventedSearch {
     }
 
     /// s / (δ b): where Z_A saturates as exposure grows (common practice).
-    fn limit_z(&self) -> f64 {
+    fn saturation_z(&self) -> f64 {
         Self::SIGNAL_PER_LIVE_DAY / (self.relative_uncertainty * Self::BACKGROUND_PER_LIVE_DAY)
     }
 
@@ -190,6 +192,7 @@ impl InventedSearch {
             signal: Self::SIGNAL_PER_LIVE_DAY * live_days,
             background: Self::BACKGROUND_PER_LIVE_DAY * live_days,
             z_asimov,
+            z_asimov_band: crate::asymptotic::significance_band(z_asimov),
             z_median: toys.then_some(z_median),
             z_band: toys.then(|| {
                 [
@@ -240,7 +243,7 @@ impl InventedSearch {
         let exceeding = (1.25 * p_asymptotic * toys as f64).round() as usize;
         let p_toys = (exceeding > 0).then(|| exceeding as f64 / toys as f64);
         Calibration {
-            toys,
+            converged_toys: toys,
             failed_fits: 0,
             q0_asimov: z_asimov * z_asimov,
             exceeding,
@@ -255,7 +258,7 @@ impl InventedSearch {
     fn projection(&self, title: &str, toys: usize) -> Projection {
         let targets = vec![3.0, 5.0];
         let with_toys = toys > 0;
-        let limit_z = (self.relative_uncertainty > 0.0).then(|| self.limit_z());
+        let saturation_z = (self.relative_uncertainty > 0.0).then(|| self.saturation_z());
         let days_to_target = targets
             .iter()
             .map(|&target| {
@@ -268,7 +271,7 @@ impl InventedSearch {
                     p50_days: median_days.filter(|_| with_toys),
                     p90_days: Self::days_to(|days| 0.98 * self.z_asimov(days) - 1.2816, target)
                         .filter(|_| with_toys),
-                    limit_z,
+                    saturation_z,
                 }
             })
             .collect();

@@ -8,19 +8,24 @@
 //! (Cowan et al., EPJC 71 (2011) 1554). Each target is a horizontal line,
 //! with a marker and a label where each curve reaches it.
 
-use super::plot::{
-    self, BandPoint, Canvas, DASH, DayChart, DrawError, INK_TEAL, LABEL_SIZE, Stroke, VERMILION,
-    ValueAxis,
-};
-use super::{PROJECTION_SVG, ReportError, days_label, target_label};
-use crate::asymptotic::significance_band;
+use super::ensembles::Ensemble;
+use super::{PROJECTION_SVG, day_range};
 use crate::projection::Projection;
+use crate::report::ReportError;
+use crate::report::kit::axis::{Axis, LogAxis, days_axis, linear_axis};
+use crate::report::kit::figure::{self, Canvas, Chart, DrawError, Frame, SIZE};
+use crate::report::kit::format::{days_label, target_label};
+use crate::report::kit::marks::{self, BandPoint, Stroke};
+use crate::report::kit::palette::{DASH, INK_TEAL, LABEL_SIZE, VERMILION};
+use plotters::coord::types::RangedCoordf64;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, VPos};
 
+type SignificanceChart<'a, 'b> = Chart<'a, 'b, LogAxis, RangedCoordf64>;
+
 /// The significance plot as SVG bytes.
 pub(super) fn render(projection: &Projection) -> Result<Vec<u8>, ReportError> {
-    plot::svg_bytes(PROJECTION_SVG, |canvas| draw(canvas, projection))
+    figure::svg_bytes(PROJECTION_SVG, SIZE, |canvas| draw(canvas, projection))
 }
 
 fn draw(canvas: &Canvas, projection: &Projection) -> Result<(), DrawError> {
@@ -33,27 +38,24 @@ fn draw(canvas: &Canvas, projection: &Projection) -> Result<(), DrawError> {
     };
     let footnote = footnote(projection);
     let ceiling = significance_ceiling(projection, &band);
-    let value_axis = ValueAxis {
-        coordinate: plot::linear_axis(0.0..ceiling),
-        description: "Expected significance Z [σ]",
-        // Key points such as 0.6000000000000001 print as 0.6.
-        format: &|z| format!("{}", (z * 100.0).round() / 100.0),
+    // Key points such as 0.6000000000000001 print as 0.6.
+    let format = |z: &f64| format!("{}", (z * 100.0).round() / 100.0);
+    let y = Axis {
+        coordinate: linear_axis(0.0..ceiling),
+        description: Some("Expected significance Z [σ]"),
+        format: &format,
+        labels: Some(12),
     };
-    let mut chart = plot::day_chart(
-        canvas,
-        &projection.title,
-        plot::day_range(points),
-        value_axis,
-        footnote.is_some(),
-    )?;
+    let frame = Frame::single(&projection.title, footnote.is_some());
+    let mut chart = figure::chart(canvas, &frame, days_axis(day_range(points)), y)?;
     let band_labels = if with_toys {
         ["Toys, central 95.4%", "Toys, central 68.3%"]
     } else {
         ["Z_A ± 2 (asymptotic)", "Z_A ± 1 (asymptotic)"]
     };
-    plot::draw_band(&mut chart, &band, band_labels)?;
+    marks::draw_band(&mut chart, &band, band_labels)?;
     for &target in &projection.targets {
-        plot::reference_line(&mut chart, canvas, target, &target_label(target))?;
+        marks::reference_line(&mut chart, canvas, target, &target_label(target))?;
     }
     let median: Vec<(f64, f64)> = points
         .iter()
@@ -61,11 +63,11 @@ fn draw(canvas: &Canvas, projection: &Projection) -> Result<(), DrawError> {
         .collect();
     if median.len() > 1 {
         let label = format!("Toy median ({} per point)", projection.toys);
-        plot::draw_curve(&mut chart, median, INK_TEAL, Stroke::Solid, label)?;
+        marks::draw_curve(&mut chart, median, INK_TEAL, Stroke::Solid, label)?;
     }
     let asimov = points.iter().map(|point| (point.days, point.z_asimov));
     let label = "Asimov Z_A".to_string();
-    plot::draw_curve(
+    marks::draw_curve(
         &mut chart,
         asimov.collect(),
         VERMILION,
@@ -74,9 +76,9 @@ fn draw(canvas: &Canvas, projection: &Projection) -> Result<(), DrawError> {
     )?;
     draw_saturation(&mut chart, canvas, projection, ceiling)?;
     draw_days_to_target(&mut chart, canvas, projection)?;
-    plot::draw_legend_at(&mut chart, SeriesLabelPosition::UpperLeft)?;
+    marks::draw_legend_at(&mut chart, SeriesLabelPosition::UpperLeft)?;
     match footnote {
-        Some(text) => plot::draw_footnote(canvas, &text),
+        Some(text) => marks::draw_footnote(canvas, &text),
         None => Ok(()),
     }
 }
@@ -90,12 +92,12 @@ fn toy_band(projection: &Projection) -> Vec<BandPoint> {
         .collect()
 }
 
-/// Z_A ± 1 and Z_A ± 2, floored at 0.
+/// Z_A ± 1 and Z_A ± 2, floored at 0, as the projection computed them.
 fn asymptotic_band(projection: &Projection) -> Vec<BandPoint> {
     projection
         .points
         .iter()
-        .map(|point| (point.days, significance_band(point.z_asimov)))
+        .map(|point| (point.days, point.z_asimov_band))
         .collect()
 }
 
@@ -118,7 +120,7 @@ fn significance_ceiling(projection: &Projection, band: &[BandPoint]) -> f64 {
 /// one row above the Asimov one; a label that would leave the plot on the
 /// left goes right of its marker instead.
 fn draw_days_to_target(
-    chart: &mut DayChart,
+    chart: &mut SignificanceChart,
     canvas: &Canvas,
     projection: &Projection,
 ) -> Result<(), DrawError> {
@@ -131,30 +133,32 @@ fn draw_days_to_target(
         for (days, curve, raise) in crossings {
             let Some(days) = days else { continue };
             let label = format!("{}: {}", target_label(row.target), days_label(days));
-            plot::mark_crossing(chart, canvas, (days, row.target), curve, &label, -raise)?;
+            marks::mark_crossing(chart, canvas, (days, row.target), curve, &label, -raise)?;
         }
     }
     Ok(())
 }
 
 /// When systematic uncertainties cap Z_A within the plotted range, a line at
-/// that limit, labelled inside the plot at its right end.
+/// that saturation value, labelled inside the plot at its right end.
 fn draw_saturation(
-    chart: &mut DayChart,
+    chart: &mut SignificanceChart,
     canvas: &Canvas,
     projection: &Projection,
     ceiling: f64,
 ) -> Result<(), DrawError> {
-    let limit = projection
+    let saturation = projection
         .days_to_target
         .iter()
-        .find_map(|row| row.limit_z)
-        .filter(|&limit| limit < ceiling);
-    let Some(limit) = limit else { return Ok(()) };
-    let (x, y) = plot::horizontal_line(chart, limit, VERMILION, DASH)?;
-    plot::draw_text(
+        .find_map(|row| row.saturation_z)
+        .filter(|&saturation| saturation < ceiling);
+    let Some(saturation) = saturation else {
+        return Ok(());
+    };
+    let (x, y) = marks::horizontal_line(chart, saturation, VERMILION, DASH)?;
+    marks::draw_text(
         canvas,
-        &format!("Z_A limit {limit:.2}σ"),
+        &format!("Z_A limit {saturation:.2}σ"),
         (x - 6, y - 4),
         VERMILION,
         LABEL_SIZE,
@@ -164,19 +168,18 @@ fn draw_saturation(
 
 /// Footnote text: failed fits when any, or how Asimov-only bands are made.
 fn footnote(projection: &Projection) -> Option<String> {
-    plot::EnsembleFootnote {
-        asimov_only: "Asimov only: bands are Z_A ± 1 and Z_A ± 2, floored at 0 (asymptotic).",
-        heading: "Failed fits",
-        ensemble: "pseudo-experiments",
-        failed_at: |point| point.failed_fits,
+    if projection.toys == 0 {
+        return Some(
+            "Asimov only: bands are Z_A ± 1 and Z_A ± 2, floored at 0 (asymptotic).".to_string(),
+        );
     }
-    .text(projection)
+    Ensemble::discovery().footnote(projection)
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::report::example;
+    use crate::report::projection::example;
 
     fn svg(projection: &Projection) -> String {
         String::from_utf8(render(projection).unwrap()).unwrap()

@@ -6,14 +6,17 @@
 //! the excess (n − b)/√b per bin with the expected signal excess. The count
 //! axes are linear, so that empty bins and their error bars show.
 
-use super::plot::{
-    self, Canvas, DrawError, INK, INK_TEAL, MAJOR_GRID, MINOR_GRID, PALE_LAVENDER, SLATE, VERMILION,
-};
-use super::{ReportError, exposure_label};
+use crate::report::ReportError;
+use crate::report::kit::axis::{Axis, axis_label, linear_axis};
+use crate::report::kit::figure::{self, Canvas, Chart, DrawError, Frame};
+use crate::report::kit::format::{exposure_label, number};
+use crate::report::kit::legend::{Line, Sample};
+use crate::report::kit::marks;
+use crate::report::kit::palette::{INK, INK_TEAL, PALE_LAVENDER, SLATE, VERMILION, text_style};
 use crate::spectrum::{EXACT_INTERVAL_BELOW, ExposureSpectrum, Spectrum, SpectrumBin};
 use plotters::coord::types::RangedCoordf64;
 use plotters::prelude::*;
-use plotters::style::text_anchor::{HPos, VPos};
+use std::ops::Range;
 
 /// Name used in rendering errors.
 const FILE: &str = "spectrum SVG";
@@ -25,6 +28,8 @@ const HEIGHT: u32 = 720;
 const COUNTS_SHARE: f64 = 0.68;
 /// Pixels left of each plot for the vertical axis labels and description.
 const Y_LABEL_AREA: u32 = 72;
+/// Font sizes of the axis descriptions and tick labels.
+const TEXT_SIZES: (u32, u32) = (17, 15);
 const MARKER_RADIUS: u32 = 3;
 /// The count axis reaches this factor above the highest bar or expectation,
 /// leaving room for the legend.
@@ -32,8 +37,7 @@ const HEADROOM: f64 = 1.3;
 /// Opacity of the error bars.
 const BAR_OPACITY: f64 = 0.6;
 
-type BinChart<'a, 'b> =
-    ChartContext<'a, SVGBackend<'b>, Cartesian2d<RangedCoordf64, RangedCoordf64>>;
+type BinChart<'a, 'b> = Chart<'a, 'b, RangedCoordf64, RangedCoordf64>;
 
 /// The spectra as SVG bytes.
 pub(super) fn render(spectrum: &Spectrum) -> Result<Vec<u8>, ReportError> {
@@ -43,31 +47,26 @@ pub(super) fn render(spectrum: &Spectrum) -> Result<Vec<u8>, ReportError> {
     } else {
         PANEL_WIDTH.saturating_mul(panels)
     };
-    plot::svg_bytes_sized(FILE, (width, HEIGHT), |canvas| draw(canvas, spectrum))
+    figure::svg_bytes(FILE, (width, HEIGHT), |canvas| draw(canvas, spectrum))
 }
 
 fn draw(canvas: &Canvas, spectrum: &Spectrum) -> Result<(), DrawError> {
-    let body = canvas.titled(&spectrum.title, plot::text_style(24))?;
+    let body = canvas.titled(&spectrum.title, text_style(24))?;
     let panels = body.split_evenly((1, spectrum.exposures.len()));
     for (index, (panel, exposure)) in panels.iter().zip(&spectrum.exposures).enumerate() {
         // One legend, in the first panel, serves them all.
         draw_panel(panel, spectrum, exposure, index == 0)?;
     }
-    let (_, height) = canvas.dim_in_pixel();
-    let second_last_line = i32::try_from(height).unwrap_or(i32::MAX) - 30;
-    plot::draw_text(
+    marks::draw_footnote_line(
         canvas,
         &format!(
             "Pseudo-data with seed {}. Error bars: exact central 68.27% Poisson interval \
              (Garwood 1936) below {EXACT_INTERVAL_BELOW} counts,",
             spectrum.seed
         ),
-        (14, second_last_line),
-        SLATE,
-        15,
-        (HPos::Left, VPos::Bottom),
+        1,
     )?;
-    plot::draw_footnote(
+    marks::draw_footnote(
         canvas,
         "±√n from there on; not drawn for empty bins (0 to 1.84).",
     )
@@ -106,43 +105,43 @@ fn draw_counts(
             .iter()
             .map(|bin| (bin.counts as f64 + bin.error_high).max(bin.signal_plus_background))
             .fold(0.0, f64::max);
-    let mut chart = ChartBuilder::on(area)
-        .caption(caption, plot::text_style(19))
-        .margin_top(6)
-        .margin_left(10)
-        .margin_right(24)
-        .x_label_area_size(10)
-        .y_label_area_size(Y_LABEL_AREA)
-        .build_cartesian_2d(observable_range(exposure), 0.0..ceiling)?;
-    let per_bin = format!(
-        "Events / {} {}",
-        super::csv::number(spectrum.bin_width),
-        spectrum.unit
-    );
-    configure_mesh(&mut chart, &per_bin, None)?;
+    let frame = Frame {
+        caption: Some((caption, 19)),
+        margins: [6, 24, 0, 10],
+        label_areas: (10, Y_LABEL_AREA, 0),
+        text_sizes: TEXT_SIZES,
+        light_lines: (Some(1), Some(1)),
+    };
+    // The observable is labelled on the excess chart below.
+    let x = Axis {
+        coordinate: linear_axis(observable_range(exposure)),
+        description: None,
+        format: &|_| String::new(),
+        labels: Some(8),
+    };
+    let per_bin = format!("Events / {} {}", number(spectrum.bin_width), spectrum.unit);
+    let y = value_axis(0.0..ceiling, &per_bin);
+    let mut chart = figure::chart(area, &frame, x, y)?;
 
     let background = step_outline(bins, |bin| bin.background);
     let mut filled = background.clone();
     filled.insert(0, (bins[0].low, 0.0));
     filled.push((bins[bins.len() - 1].high, 0.0));
-    chart
-        .draw_series(std::iter::once(Polygon::new(
-            filled,
-            PALE_LAVENDER.filled(),
-        )))?
-        .label("Expected background")
-        .legend(|(x, y)| {
-            EmptyElement::at((x, y))
-                + Rectangle::new([(0, -6), (24, 6)], PALE_LAVENDER.filled())
-                + PathElement::new([(0, -6), (24, -6)], INK_TEAL.stroke_width(2))
-        });
-    chart.draw_series(LineSeries::new(background, INK_TEAL.stroke_width(2)))?;
+    let area = chart.draw_series(std::iter::once(Polygon::new(
+        filled,
+        PALE_LAVENDER.filled(),
+    )))?;
+    Sample::SwatchWithEdge(PALE_LAVENDER, INK_TEAL.stroke_width(2))
+        .attach(area, "Expected background");
+    let edge = Line::Solid(INK_TEAL.stroke_width(2));
+    marks::draw_line(&mut chart, background, edge, None)?;
     let signal_plus_background = step_outline(bins, |bin| bin.signal_plus_background);
-    let style = VERMILION.stroke_width(2);
-    chart
-        .draw_series(LineSeries::new(signal_plus_background, style))?
-        .label("Expected signal + background")
-        .legend(move |(x, y)| PathElement::new([(x, y), (x + 24, y)], style));
+    marks::draw_line(
+        &mut chart,
+        signal_plus_background,
+        Line::Solid(VERMILION.stroke_width(2)),
+        Some("Expected signal + background".to_string()),
+    )?;
     let points = bins.iter().map(|bin| {
         let count = bin.counts as f64;
         DataPoint {
@@ -153,7 +152,7 @@ fn draw_counts(
     });
     draw_points(&mut chart, points, "Pseudo-data")?;
     if with_legend {
-        plot::draw_legend_at(&mut chart, SeriesLabelPosition::UpperRight)?;
+        marks::draw_legend_at(&mut chart, SeriesLabelPosition::UpperRight)?;
     }
     Ok(())
 }
@@ -172,26 +171,32 @@ fn draw_excess(
         .flatten()
         .fold(0.0, |largest: f64, pull| largest.max(pull.abs()));
     let limit = (1.15 * largest).max(3.5);
-    let mut chart = ChartBuilder::on(area)
-        .margin_left(10)
-        .margin_right(24)
-        .margin_bottom(50)
-        .x_label_area_size(50)
-        .y_label_area_size(Y_LABEL_AREA)
-        .build_cartesian_2d(observable_range(exposure), -limit..limit)?;
-    let axis = format!("{} [{}]", spectrum.observable, spectrum.unit);
-    configure_mesh(&mut chart, "(n − b)/√b", Some(&axis))?;
+    let frame = Frame {
+        caption: None,
+        margins: [0, 24, 50, 10],
+        label_areas: (50, Y_LABEL_AREA, 0),
+        text_sizes: TEXT_SIZES,
+        light_lines: (Some(1), Some(1)),
+    };
+    let description = format!("{} [{}]", spectrum.observable, spectrum.unit);
+    let x = Axis {
+        coordinate: linear_axis(observable_range(exposure)),
+        description: Some(&description),
+        format: &axis_label,
+        labels: Some(8),
+    };
+    let y = value_axis(-limit..limit, "(n − b)/√b");
+    let mut chart = figure::chart(area, &frame, x, y)?;
     let (low, high) = (bins[0].low, bins[bins.len() - 1].high);
-    chart.draw_series(LineSeries::new(
-        [(low, 0.0), (high, 0.0)],
-        SLATE.stroke_width(1),
-    ))?;
+    let zero = Line::Solid(SLATE.stroke_width(1));
+    marks::draw_line(&mut chart, vec![(low, 0.0), (high, 0.0)], zero, None)?;
     let expected: Vec<(f64, f64)> = bins
         .iter()
         .filter_map(|bin| Some((bin, bin.expected_pull()?)))
         .flat_map(|(bin, pull)| [(bin.low, pull), (bin.high, pull)])
         .collect();
-    chart.draw_series(LineSeries::new(expected, VERMILION.stroke_width(2)))?;
+    let expected_line = Line::Solid(VERMILION.stroke_width(2));
+    marks::draw_line(&mut chart, expected, expected_line, None)?;
     let points = bins.iter().filter_map(|bin| {
         let pull = bin.pull()?;
         let root = bin.background.sqrt();
@@ -209,31 +214,14 @@ fn draw_excess(
     draw_points(&mut chart, points, "")
 }
 
-/// Grid, axes and tick labels of either chart; only the lower one labels the
-/// observable.
-fn configure_mesh<'a, 'b: 'a>(
-    chart: &mut BinChart<'a, 'b>,
-    value_description: &str,
-    observable_description: Option<&str>,
-) -> Result<(), DrawError> {
-    let mut mesh = chart.configure_mesh();
-    mesh.y_desc(value_description)
-        .x_labels(8)
-        .y_labels(6)
-        .y_label_formatter(&plot::axis_label)
-        .axis_desc_style(plot::text_style(17))
-        .label_style(plot::text_style(15))
-        .axis_style(INK)
-        .bold_line_style(MAJOR_GRID)
-        .light_line_style(MINOR_GRID)
-        .max_light_lines(1);
-    match observable_description {
-        Some(description) => mesh
-            .x_desc(description)
-            .x_label_formatter(&plot::axis_label),
-        None => mesh.x_label_formatter(&|_| String::new()),
-    };
-    mesh.draw()
+/// The value axis of either chart over `range`, described by `description`.
+fn value_axis(range: Range<f64>, description: &str) -> Axis<'_, RangedCoordf64> {
+    Axis {
+        coordinate: linear_axis(range),
+        description: Some(description),
+        format: &axis_label,
+        labels: Some(6),
+    }
 }
 
 /// A pseudo-data point with its error bar (bottom, top), if drawn.
@@ -272,11 +260,7 @@ fn draw_points<'a, 'b: 'a>(
             .map(|point| Circle::new((point.x, point.y), MARKER_RADIUS, INK.filled())),
     )?;
     if !label.is_empty() {
-        markers.label(label).legend(move |(x, y)| {
-            EmptyElement::at((x + 12, y))
-                + Circle::new((0, 0), MARKER_RADIUS, INK.filled())
-                + PathElement::new([(0, -7), (0, 7)], bar_style)
-        });
+        Sample::MarkerWithBar(INK.filled(), MARKER_RADIUS, bar_style).attach(markers, label);
     }
     Ok(())
 }
@@ -292,7 +276,7 @@ fn centre(bin: &SpectrumBin) -> f64 {
     0.5 * (bin.low + bin.high)
 }
 
-fn observable_range(exposure: &ExposureSpectrum) -> std::ops::Range<f64> {
+fn observable_range(exposure: &ExposureSpectrum) -> Range<f64> {
     exposure.bins[0].low..exposure.bins[exposure.bins.len() - 1].high
 }
 
@@ -338,5 +322,16 @@ mod tests {
     fn one_exposure_fills_the_single_canvas() {
         let text = String::from_utf8(render(&spectrum(&[3.0])).unwrap()).unwrap();
         assert!(text.starts_with("<svg width=\"900\" height=\"720\""));
+    }
+
+    #[test]
+    fn hostile_names_and_units_give_a_well_formed_svg() {
+        let mut spectrum = spectrum(&[3.0]);
+        spectrum.title = "t\u{2}<t>".to_string();
+        spectrum.observable = "m&\u{7}".to_string();
+        spectrum.unit = "\u{0}]]>".to_string();
+        let text = String::from_utf8(render(&spectrum).unwrap()).unwrap();
+        crate::report::kit::figure::tests::assert_well_formed(&text);
+        assert!(text.contains("m&amp;\u{FFFD} [\u{FFFD}]]&gt;]"));
     }
 }

@@ -2,9 +2,9 @@
 //! recommendation, and the counting windows every half signal width with the
 //! best one.
 
-use super::summary::aligned;
-use super::{exposure_label, window_digits};
+use super::window_digits;
 use crate::binning::{BinningScan, RECOMMENDATION_TOLERANCE, WINDOW_STEPS_PER_SIGNAL_WIDTH};
+use crate::report::kit::format::{aligned, exposure_label};
 
 /// Windows listed in the table: one every this many steps of the scan.
 const WINDOW_ROW_EVERY: usize = WINDOW_STEPS_PER_SIGNAL_WIDTH / 2;

@@ -4,23 +4,20 @@
 //! The projection has been checked for non-finite numbers before this runs,
 //! so every null in the file means "no value", never NaN.
 
-use super::{PROJECTION_JSON, ReportError};
+use super::PROJECTION_JSON;
 use crate::projection::Projection;
+use crate::report::ReportError;
+use crate::report::kit::encode::json_bytes;
 
 /// Pretty-printed JSON of the projection, ending with a newline.
 pub(super) fn render(projection: &Projection) -> Result<Vec<u8>, ReportError> {
-    let mut bytes = serde_json::to_vec_pretty(projection).map_err(|error| ReportError::Render {
-        file: PROJECTION_JSON,
-        message: error.to_string(),
-    })?;
-    bytes.push(b'\n');
-    Ok(bytes)
+    json_bytes(PROJECTION_JSON, projection)
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::report::example;
+    use crate::report::projection::example;
     use serde_json::{Value, json};
 
     fn parsed(projection: &Projection) -> Value {
@@ -39,7 +36,7 @@ mod tests {
             "points": [
                 {
                     "days": 10.0, "live_days": 8.0, "signal": 16.0, "background": 80.0,
-                    "z_asimov": 1.75, "z_median": 1.625, "z_band": [0.125, 0.75, 2.5, 3.5],
+                    "z_asimov": 1.75, "z_asimov_band": [0.0, 0.75, 2.75, 3.75], "z_median": 1.625, "z_band": [0.125, 0.75, 2.5, 3.5],
                     "probability": [
                         {"target": 3.0, "toys": 0.105, "asimov": 0.0885},
                         {"target": 5.0, "toys": 0.0, "asimov": 0.0005}
@@ -51,7 +48,7 @@ mod tests {
                 },
                 {
                     "days": 100.0, "live_days": 80.0, "signal": 160.0, "background": 800.0,
-                    "z_asimov": 3.875, "z_median": null, "z_band": null,
+                    "z_asimov": 3.875, "z_asimov_band": [1.875, 2.875, 4.875, 5.875], "z_median": null, "z_band": null,
                     "probability": [
                         {"target": 3.0, "toys": null, "asimov": 0.8125},
                         {"target": 5.0, "toys": null, "asimov": 0.125}
@@ -64,9 +61,9 @@ mod tests {
             ],
             "days_to_target": [
                 {"target": 3.0, "asimov_days": 41.5, "median_days": 44.0,
-                 "p50_days": 44.25, "p90_days": 98.0, "limit_z": 4.5},
+                 "p50_days": 44.25, "p90_days": 98.0, "saturation_z": 4.5},
                 {"target": 5.0, "asimov_days": null, "median_days": null,
-                 "p50_days": null, "p90_days": null, "limit_z": 4.5}
+                 "p50_days": null, "p90_days": null, "saturation_z": 4.5}
             ],
             "days_to_exclusion": {"asimov_days": null, "median_days": null}
         });
@@ -95,7 +92,7 @@ mod tests {
         assert_eq!(
             first["calibration"],
             json!({
-                "toys": 5000, "failed_fits": 0,
+                "converged_toys": 5000, "failed_fits": 0,
                 "q0_asimov": calibration.q0_asimov, "exceeding": calibration.exceeding,
                 "p_asymptotic": calibration.p_asymptotic,
                 "z_asymptotic": calibration.z_asymptotic,

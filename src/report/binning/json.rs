@@ -1,0 +1,76 @@
+//! `binning.json`: both scans and the recommendation.
+//!
+//! Schema: `{days, bin_widths: [{width, z_asimov}], windows: [{low, high,
+//! signal_fraction, z_asimov}], recommended_bin_width, best_window: {low,
+//! high, signal_fraction, z_asimov}}`, widths and edges in the unit of the
+//! observable, significances in σ.
+
+use super::BINNING_JSON;
+use crate::binning::{BinWidthPoint, BinningScan, WindowPoint};
+use crate::report::ReportError;
+use crate::report::kit::encode::json_bytes;
+use serde::Serialize;
+
+#[derive(Serialize)]
+struct BinningJson<'s> {
+    days: f64,
+    bin_widths: &'s [BinWidthPoint],
+    windows: &'s [WindowPoint],
+    recommended_bin_width: f64,
+    best_window: WindowPoint,
+}
+
+/// Pretty-printed JSON of the scan, ending with a newline.
+pub(super) fn render(scan: &BinningScan) -> Result<Vec<u8>, ReportError> {
+    let document = BinningJson {
+        days: scan.days,
+        bin_widths: &scan.bin_widths,
+        windows: &scan.windows,
+        recommended_bin_width: scan.recommended_bin_width,
+        best_window: scan.best_window,
+    };
+    json_bytes(BINNING_JSON, &document)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::binning::scan_binning;
+    use crate::scenario::Scenario;
+    use serde_json::Value;
+
+    #[test]
+    fn keys_follow_the_documented_schema() {
+        let scenario = Scenario::from_yaml(
+            "title: Invented peak\n\
+             observable: {name: mass, unit: MeV, range: [0.0, 20.0], bin_width: 0.5}\n\
+             signal: {events_per_day: 5.0, shape: {gaussian: {mean: 10.0, sigma: 1.0}}}\n\
+             backgrounds:\n  - {name: flat, events_per_day: 40.0, shape: {flat: {}}}\n\
+             plan: {days: {first: 1, last: 10, points: 2, spacing: log}, toys: 1, seed: 1, targets: [3]}\n",
+        )
+        .unwrap();
+        let scan = scan_binning(&scenario, 10.0).unwrap();
+        let json: Value = serde_json::from_slice(&render(&scan).unwrap()).unwrap();
+        let keys: Vec<&str> = json
+            .as_object()
+            .unwrap()
+            .keys()
+            .map(String::as_str)
+            .collect();
+        assert_eq!(
+            keys,
+            [
+                "best_window",
+                "bin_widths",
+                "days",
+                "recommended_bin_width",
+                "windows"
+            ]
+        );
+        assert_eq!(json["recommended_bin_width"], scan.recommended_bin_width);
+        assert_eq!(
+            json["windows"].as_array().unwrap().len(),
+            scan.windows.len()
+        );
+    }
+}

@@ -1,0 +1,305 @@
+//! What figures draw on a chart: curves, bands, reference lines, markers,
+//! legends, and text placed by hand in the margins. Every function works for
+//! any x axis.
+
+use super::figure::{Canvas, Chart, DrawError};
+use super::legend::{Line, Sample};
+use super::palette::{
+    DASH, DOT, LABEL_SIZE, LAVENDER, MAJOR_GRID, PALE_LAVENDER, SLATE, text_style,
+};
+use plotters::prelude::*;
+use plotters::style::text_anchor::{HPos, Pos, VPos};
+
+/// Quantiles at one x: 2.3%, 15.9%, 84.1%, 97.7% (or the asymptotic -2, -1,
+/// +1, +2 σ values standing in for them).
+pub type BandPoint = (f64, [f64; 4]);
+
+/// How a curve is stroked: solid for pseudo-experiments, dashed for
+/// asymptotic (Asimov) results, in every plot.
+#[derive(Debug, Clone, Copy)]
+pub enum Stroke {
+    Solid,
+    Dashed,
+}
+
+impl Stroke {
+    /// The stroke in `colour`, 3 pixels wide when solid, 2 when dashed.
+    fn line(self, colour: RGBColor) -> Line {
+        match self {
+            Stroke::Solid => Line::Solid(colour.stroke_width(3)),
+            Stroke::Dashed => Line::Dashed(colour.stroke_width(2), DASH),
+        }
+    }
+}
+
+/// A curve through `points`, with its legend entry.
+pub fn draw_curve<'a, 'b: 'a, X, Y>(
+    chart: &mut Chart<'a, 'b, X, Y>,
+    points: Vec<(f64, f64)>,
+    colour: RGBColor,
+    stroke: Stroke,
+    label: String,
+) -> Result<(), DrawError>
+where
+    X: Ranged<ValueType = f64>,
+    Y: Ranged<ValueType = f64>,
+{
+    draw_line(chart, points, stroke.line(colour), Some(label))
+}
+
+/// A line through `points`, with a legend entry when labelled.
+pub fn draw_line<'a, 'b: 'a, X, Y>(
+    chart: &mut Chart<'a, 'b, X, Y>,
+    points: Vec<(f64, f64)>,
+    line: Line,
+    label: Option<String>,
+) -> Result<(), DrawError>
+where
+    X: Ranged<ValueType = f64>,
+    Y: Ranged<ValueType = f64>,
+{
+    let drawn = match line {
+        Line::Solid(style) => chart.draw_series(LineSeries::new(points, style))?,
+        Line::Dashed(style, (dash, gap)) => {
+            chart.draw_series(DashedLineSeries::new(points, dash, gap, style))?
+        }
+    };
+    if let Some(label) = label {
+        Sample::Line(line).attach(drawn, label);
+    }
+    Ok(())
+}
+
+/// The outer band (quantiles 0 to 3) in pale lavender, then the inner one
+/// (quantiles 1 to 2) in lavender over it, each a closed polygon with its
+/// legend entry; nothing when fewer than two points carry quantiles.
+pub fn draw_band<'a, 'b: 'a, X, Y>(
+    chart: &mut Chart<'a, 'b, X, Y>,
+    band: &[BandPoint],
+    [outer, inner]: [&str; 2],
+) -> Result<(), DrawError>
+where
+    X: Ranged<ValueType = f64>,
+    Y: Ranged<ValueType = f64>,
+{
+    if band.len() < 2 {
+        return Ok(());
+    }
+    for (lower, upper, colour, label) in [(0, 3, PALE_LAVENDER, outer), (1, 2, LAVENDER, inner)] {
+        let outline: Vec<(f64, f64)> = band
+            .iter()
+            .map(|(x, quantiles)| (*x, quantiles[upper]))
+            .chain(
+                band.iter()
+                    .rev()
+                    .map(|(x, quantiles)| (*x, quantiles[lower])),
+            )
+            .collect();
+        let drawn = chart.draw_series(std::iter::once(Polygon::new(outline, colour.filled())))?;
+        Sample::Swatch(colour).attach(drawn, label);
+    }
+    Ok(())
+}
+
+/// A marker of `radius` pixels at `point`, explained in the legend.
+pub fn mark_point<'a, 'b: 'a, Coordinates>(
+    chart: &mut ChartContext<'a, SVGBackend<'b>, Coordinates>,
+    point: (f64, f64),
+    (colour, radius): (RGBColor, u32),
+    label: String,
+) -> Result<(), DrawError>
+where
+    Coordinates: CoordTranslate<From = (f64, f64)>,
+{
+    let drawn = chart.draw_series(std::iter::once(Circle::new(point, radius, colour.filled())))?;
+    Sample::Marker(colour.filled(), radius).attach(drawn, label);
+    Ok(())
+}
+
+/// The legend of any chart, at `position` inside the plot.
+pub fn draw_legend_at<'a, 'b: 'a, Coordinates: CoordTranslate>(
+    chart: &mut ChartContext<'a, SVGBackend<'b>, Coordinates>,
+    position: SeriesLabelPosition,
+) -> Result<(), DrawError> {
+    chart
+        .configure_series_labels()
+        .position(position)
+        .margin(12)
+        .background_style(WHITE.mix(0.92))
+        .border_style(MAJOR_GRID)
+        .label_font(text_style(16))
+        .draw()
+}
+
+/// A dotted horizontal line across the plot at `value`, labelled in the right
+/// margin.
+pub fn reference_line<X, Y>(
+    chart: &mut Chart<'_, '_, X, Y>,
+    canvas: &Canvas,
+    value: f64,
+    label: &str,
+) -> Result<(), DrawError>
+where
+    X: Ranged<ValueType = f64>,
+    Y: Ranged<ValueType = f64>,
+{
+    let (x, y) = horizontal_line(chart, value, SLATE, DOT)?;
+    draw_text(
+        canvas,
+        label,
+        (x + 8, y),
+        SLATE,
+        17,
+        (HPos::Left, VPos::Center),
+    )
+}
+
+/// A thin horizontal line of `(dash, gap)` pixels across the plot at
+/// `value`; returns the pixel position of its right end.
+pub fn horizontal_line<X, Y>(
+    chart: &mut Chart<'_, '_, X, Y>,
+    value: f64,
+    colour: RGBColor,
+    (dash, gap): (u32, u32),
+) -> Result<(i32, i32), DrawError>
+where
+    X: Ranged<ValueType = f64>,
+    Y: Ranged<ValueType = f64>,
+{
+    let range = chart.x_range();
+    chart.draw_series(DashedLineSeries::new(
+        [(range.start, value), (range.end, value)],
+        dash,
+        gap,
+        colour.stroke_width(1),
+    ))?;
+    Ok(chart.backend_coord(&(range.end, value)))
+}
+
+/// A marker where a curve crosses a reference line at `(x, value)`, filled
+/// for a solid curve and a ring for a dashed one (a ring around a dot shows
+/// both where they coincide), and `label` in the curve's colour, its top
+/// `shift` pixels below the marker (above it when negative). The label goes
+/// left of the marker, or right of it when it would leave the plot on the
+/// left.
+pub fn mark_crossing<X, Y>(
+    chart: &mut Chart<'_, '_, X, Y>,
+    canvas: &Canvas,
+    (x, value): (f64, f64),
+    (colour, stroke): (RGBColor, Stroke),
+    label: &str,
+    shift: i32,
+) -> Result<(), DrawError>
+where
+    X: Ranged<ValueType = f64>,
+    Y: Ranged<ValueType = f64>,
+{
+    const GAP: i32 = 8;
+    let marker = match stroke {
+        Stroke::Solid => Circle::new((x, value), 5, colour.filled()),
+        Stroke::Dashed => Circle::new((x, value), 7, colour.stroke_width(2)),
+    };
+    chart.draw_series(std::iter::once(marker))?;
+    let plot_left = chart.plotting_area().get_pixel_range().0.start;
+    let (pixel_x, pixel_y) = chart.backend_coord(&(x, value));
+    let (width, _) = canvas.estimate_text_size(label, &text_style(LABEL_SIZE))?;
+    let width = i32::try_from(width).unwrap_or(i32::MAX);
+    let (horizontal, left) = if pixel_x - GAP - width >= plot_left {
+        (HPos::Right, pixel_x - GAP)
+    } else {
+        (HPos::Left, pixel_x + GAP)
+    };
+    draw_text(
+        canvas,
+        label,
+        (left, pixel_y + shift),
+        colour,
+        LABEL_SIZE,
+        (horizontal, VPos::Top),
+    )
+}
+
+/// A line of text at pixel `position`, anchored by `(horizontal, vertical)`.
+pub fn draw_text(
+    canvas: &Canvas,
+    text: &str,
+    position: (i32, i32),
+    colour: RGBColor,
+    size: u32,
+    (horizontal, vertical): (HPos, VPos),
+) -> Result<(), DrawError> {
+    let style = text_style(size)
+        .color(&colour)
+        .pos(Pos::new(horizontal, vertical));
+    canvas.draw(&Text::new(text.to_string(), position, style))
+}
+
+/// A one-line footnote at the bottom left of the canvas.
+pub fn draw_footnote(canvas: &Canvas, text: &str) -> Result<(), DrawError> {
+    draw_footnote_line(canvas, text, 0)
+}
+
+/// A line of a footnote of several lines: `from_bottom` 0 is the last.
+pub fn draw_footnote_line(canvas: &Canvas, text: &str, from_bottom: i32) -> Result<(), DrawError> {
+    let (_, height) = canvas.dim_in_pixel();
+    let bottom = i32::try_from(height).unwrap_or(i32::MAX) - 10 - 20 * from_bottom;
+    draw_text(
+        canvas,
+        text,
+        (14, bottom),
+        SLATE,
+        15,
+        (HPos::Left, VPos::Bottom),
+    )
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::report::kit::axis::{Axis, axis_label, linear_axis};
+    use crate::report::kit::figure::{Frame, SIZE, chart, svg_bytes};
+    use crate::report::kit::palette::INK_TEAL;
+
+    #[test]
+    fn marks_draw_over_a_linear_position_axis() {
+        let bytes = svg_bytes("test.svg", SIZE, |canvas| {
+            let x = Axis {
+                coordinate: linear_axis(0.0..100.0),
+                description: Some("Signal position [keV]"),
+                format: &axis_label,
+                labels: None,
+            };
+            let y = Axis {
+                coordinate: linear_axis(0.0..6.0),
+                description: Some("Z_A [σ]"),
+                format: &axis_label,
+                labels: None,
+            };
+            let frame = Frame::single("Invented scan", true);
+            let mut chart = chart(canvas, &frame, x, y)?;
+            let band = [(10.0, [0.0, 1.0, 3.0, 4.0]), (90.0, [1.0, 2.0, 4.0, 5.0])];
+            draw_band(&mut chart, &band, ["outer band", "inner band"])?;
+            reference_line(&mut chart, canvas, 3.0, "3σ")?;
+            let curve = vec![(10.0, 2.0), (90.0, 3.0)];
+            draw_curve(&mut chart, curve, INK_TEAL, Stroke::Solid, "median".into())?;
+            let curve = (INK_TEAL, Stroke::Solid);
+            mark_crossing(&mut chart, canvas, (90.0, 3.0), curve, "3σ at 90 keV", -18)?;
+            draw_legend_at(&mut chart, SeriesLabelPosition::UpperLeft)?;
+            draw_footnote(canvas, "Invented numbers.")
+        })
+        .unwrap();
+        let text = String::from_utf8(bytes).unwrap();
+        for expected in [
+            "\nSignal position [keV]\n</text>",
+            "\n50\n</text>",
+            "\n3σ\n</text>",
+            "\n3σ at 90 keV\n</text>",
+            "\nmedian\n</text>",
+            "\nouter band\n</text>",
+            "\ninner band\n</text>",
+            "\nInvented numbers.\n</text>",
+        ] {
+            assert!(text.contains(expected), "missing {expected:?}");
+        }
+    }
+}

@@ -1,0 +1,13 @@
+//! The kit every report is made with: figures over any x axis (`figure.rs`,
+//! `axis.rs`), what is drawn on them (`marks.rs`: curves, bands, reference
+//! lines, markers, legends, text; `legend.rs`: legend samples), the palette
+//! (`palette.rs`), number formatting (`format.rs`) and CSV and JSON encoding
+//! (`encode.rs`).
+
+pub mod axis;
+pub mod encode;
+pub mod figure;
+pub mod format;
+pub mod legend;
+pub mod marks;
+pub mod palette;
