@@ -44,6 +44,7 @@ pub(super) fn validate(scenario: &Scenario) -> Checked {
     let range = validate_observable(&scenario.observable)?;
     validate_signal(&scenario.signal, range)?;
     validate_backgrounds(&scenario.backgrounds, range)?;
+    refuse_free_background_in_one_bin(scenario)?;
     validate_schedule(&scenario.schedule)?;
     validate_plan(&scenario.plan)
 }
@@ -215,6 +216,28 @@ fn validate_backgrounds(backgrounds: &[Background], range: Range) -> Checked {
         }
     }
     Ok(())
+}
+
+/// A single counting window (one bin) has one count: a background whose
+/// normalisation is free can take any excess over the rest, so the signal
+/// strength is not determined and there is no sensitivity at any exposure
+/// (its profile likelihood is flat in mu; common practice).
+fn refuse_free_background_in_one_bin(scenario: &Scenario) -> Checked {
+    let [low, high] = scenario.observable.range;
+    if ((high - low) / scenario.observable.bin_width).round() != 1.0 {
+        return Ok(());
+    }
+    let free = scenario
+        .backgrounds
+        .iter()
+        .position(|b| b.norm_uncertainty == Some(NormUncertainty::Free));
+    match free {
+        Some(index) => Err(ScenarioError::invalid(
+            format!("backgrounds[{index}].norm_uncertainty"),
+            "a single counting window (one bin) whose background is free has no sensitivity: the fit takes any excess as background; give a relative uncertainty or a control region, or more bins, got free",
+        )),
+        None => Ok(()),
+    }
 }
 
 /// Checks the parameters of one shape; `prefix` is the dotted path of its `shape` key.
@@ -746,7 +769,12 @@ plan:
         .replace("sigma: 1.5", "sigma: 0.05");
         let text = text.replace("coefficients: [1.0, 0.01]", "coefficients: [1.0]");
         accepted(&text);
-        accepted(&with("bin_width: 0.5", "bin_width: 100"));
+        // One bin: a counting window, whose backgrounds cannot be free.
+        accepted(&with("bin_width: 0.5", "bin_width: 100").replacen(
+            "norm_uncertainty: free",
+            "norm_uncertainty: 0.2",
+            1,
+        ));
     }
 
     #[test]
@@ -1026,6 +1054,18 @@ plan:
             integer.backgrounds[0].norm_uncertainty,
             Some(NormUncertainty::Relative(1.0))
         );
+    }
+
+    #[test]
+    fn a_free_background_in_one_bin_is_refused() {
+        // One bin of width 100: the free background (backgrounds[1]) can absorb
+        // any excess, so mu is undetermined (common practice).
+        let one_bin = with("bin_width: 0.5", "bin_width: 100.0");
+        let (field, message) = rejection(&one_bin);
+        assert_eq!(field, "backgrounds[1].norm_uncertainty");
+        assert!(message.contains("no sensitivity"), "{message}");
+        // With a relative uncertainty it is a valid counting window.
+        accepted(&one_bin.replacen("norm_uncertainty: free", "norm_uncertainty: 0.2", 1));
     }
 
     #[test]
