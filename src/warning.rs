@@ -21,11 +21,12 @@ pub enum Ensemble {
 
 #[derive(Debug, Clone, PartialEq)]
 pub enum Warning {
-    /// A Gaussian or Breit-Wigner signal whose mean (at the dotted `field`)
-    /// lies outside the range `[low, high]`: only its tail is fitted.
+    /// A peaked signal whose maximum `centre` (given at `signal.shape.` and
+    /// the dotted `centre_key`, e.g. `gaussian.mean`) lies outside the range
+    /// `[low, high]`: only its tail is fitted.
     SignalPeakOutsideRange {
-        field: &'static str,
-        mean: f64,
+        centre_key: &'static str,
+        centre: f64,
         range: [f64; 2],
     },
     /// `backgrounds[background].float_shape` is set on a shape without

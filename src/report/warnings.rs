@@ -11,12 +11,12 @@ use crate::warning::{FAILED_FRACTION_WARNING, Warning};
 pub fn warning_text(warning: &Warning) -> String {
     match *warning {
         Warning::SignalPeakOutsideRange {
-            field,
-            mean,
+            centre_key,
+            centre,
             range: [low, high],
         } => format!(
-            "{field}: the signal peak at {} lies outside the range [{}, {}]; only its tail is fitted",
-            show_number(mean),
+            "signal.shape.{centre_key}: the signal peak at {} lies outside the range [{}, {}]; only its tail is fitted",
+            show_number(centre),
             show_number(low),
             show_number(high)
         ),
@@ -79,8 +79,8 @@ mod tests {
     #[test]
     fn scenario_warnings_name_the_field() {
         let outside = Warning::SignalPeakOutsideRange {
-            field: "signal.shape.gaussian.mean",
-            mean: 120.0,
+            centre_key: "gaussian.mean",
+            centre: 120.0,
             range: [0.0, 100.0],
         };
         assert_eq!(

@@ -12,6 +12,10 @@ use super::{
     Background, DaysGrid, NormUncertainty, Observable, Plan, Scenario, ScenarioError, Schedule,
     ShapeSpec, Signal,
 };
+use crate::model::{
+    shape_from_spec,
+    shapes::{MAX_POLYNOMIAL_DEGREE, Polynomial, PolynomialError},
+};
 use crate::warning::Warning;
 
 /// Ensembles a default `project` run draws at each point: discovery and limits.
@@ -20,14 +24,6 @@ const ENSEMBLES_PER_POINT: u64 = 2;
 /// Relative tolerance on `(high - low) / bin_width` being a whole number,
 /// allowing for decimal bin widths such as 0.1 that binary floating point cannot hold.
 const BIN_COUNT_TOLERANCE: f64 = 1e-9;
-
-/// Number of evenly spaced points, edges included, at which a polynomial
-/// density is checked for negative values.
-const POLYNOMIAL_SAMPLES: usize = 2001;
-
-/// Relative size of rounding error allowed when a polynomial touches zero
-/// (for example `(x - a)^2` written out in coefficients).
-const POLYNOMIAL_ROUNDING: f64 = 1e-12;
 
 type Checked<T = ()> = Result<T, ScenarioError>;
 
@@ -57,17 +53,13 @@ pub(super) fn warnings(scenario: &Scenario) -> Vec<Warning> {
     remarks
 }
 
-/// A Gaussian or Breit-Wigner signal whose mean lies outside the range.
+/// A peaked signal ([`Shape::peak`](crate::model::shapes::Shape::peak)) whose maximum lies outside the range.
 fn signal_peak_outside_range(scenario: &Scenario) -> Option<Warning> {
     let range = scenario.observable.range;
-    let (field, mean) = match scenario.signal.shape {
-        ShapeSpec::Gaussian { mean, .. } => ("signal.shape.gaussian.mean", mean),
-        ShapeSpec::BreitWigner { mean, .. } => ("signal.shape.breit_wigner.mean", mean),
-        _ => return None,
-    };
-    (!(range[0]..=range[1]).contains(&mean)).then_some(Warning::SignalPeakOutsideRange {
-        field,
-        mean,
+    let peak = shape_from_spec(&scenario.signal.shape, range).peak()?;
+    (!(range[0]..=range[1]).contains(&peak.centre)).then_some(Warning::SignalPeakOutsideRange {
+        centre_key: peak.centre_key,
+        centre: peak.centre,
         range,
     })
 }
@@ -202,6 +194,9 @@ fn validate_backgrounds(backgrounds: &[Background], range: Range) -> Checked {
         }
         require_positive(&field("events_per_day"), background.events_per_day)?;
         validate_shape(&field("shape"), &background.shape, range)?;
+        if background.float_shape {
+            validate_floated_polynomial(&field("float_shape"), &background.shape, range)?;
+        }
         if let Some(NormUncertainty::Relative(relative)) = background.norm_uncertainty {
             require_relative_uncertainty(&field("norm_uncertainty"), relative)?;
         }
@@ -213,6 +208,29 @@ fn validate_backgrounds(backgrounds: &[Background], range: Range) -> Checked {
                 ));
             }
             require_positive(&field("control.ratio"), control.ratio)?;
+        }
+    }
+    refuse_indistinguishable_backgrounds(backgrounds)
+}
+
+/// Two backgrounds with free normalisations and the same shape: only the sum
+/// of their yields enters the likelihood, so the fit cannot tell them apart
+/// (a flat direction of -ln L, no unique minimum).
+fn refuse_indistinguishable_backgrounds(backgrounds: &[Background]) -> Checked {
+    let free = |background: &Background| {
+        background.control.is_none() && background.norm_uncertainty == Some(NormUncertainty::Free)
+    };
+    for (index, background) in backgrounds.iter().enumerate() {
+        let twin = backgrounds[..index].iter().position(|earlier| {
+            free(earlier) && free(background) && earlier.shape == background.shape
+        });
+        if let Some(first) = twin {
+            return Err(ScenarioError::invalid(
+                format!("backgrounds[{index}].norm_uncertainty"),
+                format!(
+                    "backgrounds[{first}] and backgrounds[{index}] have the same shape and both normalisations free, so no fit can tell them apart; merge them into one background or constrain one normalisation"
+                ),
+            ));
         }
     }
     Ok(())
@@ -264,72 +282,60 @@ fn validate_shape(prefix: &str, shape: &ShapeSpec, range: Range) -> Checked {
 }
 
 /// A polynomial density `sum_k c_k x^k` must be finite, nowhere negative and not
-/// zero everywhere on the range; it is evaluated at [`POLYNOMIAL_SAMPLES`] points.
+/// zero everywhere on the range, checked exactly by [`Polynomial::new`].
 fn validate_polynomial(field: &str, coefficients: &[f64], range: Range) -> Checked {
-    if coefficients.is_empty() {
-        return Err(ScenarioError::invalid(
-            field,
-            "needs at least one coefficient [c0, c1, ...], got an empty list",
-        ));
-    }
     for (power, &coefficient) in coefficients.iter().enumerate() {
         require_finite(&format!("{field}[{power}]"), coefficient)?;
     }
-    let mut largest = 0.0_f64;
-    for x in evenly_spaced(range, POLYNOMIAL_SAMPLES) {
-        let value = polynomial(coefficients, x);
-        if value < -POLYNOMIAL_ROUNDING * polynomial_magnitude(coefficients, x) {
-            return Err(ScenarioError::invalid(
-                field,
-                format!(
-                    "the polynomial must not be negative on the range [{}, {}], but is {} at x = {}; got {}",
-                    show(range.low),
-                    show(range.high),
-                    show_rounded(value),
-                    show_rounded(x),
-                    show_list(coefficients)
-                ),
-            ));
+    let message = match Polynomial::new(coefficients, [range.low, range.high]) {
+        Ok(_) => return Ok(()),
+        Err(PolynomialError::Empty) => {
+            "needs at least one coefficient [c0, c1, ...], got an empty list".to_string()
         }
-        largest = largest.max(value);
+        Err(PolynomialError::TooManyCoefficients) => format!(
+            "takes at most {} coefficients (degree {MAX_POLYNOMIAL_DEGREE}), got {}",
+            MAX_POLYNOMIAL_DEGREE + 1,
+            coefficients.len()
+        ),
+        Err(PolynomialError::Negative { at, value }) => format!(
+            "the polynomial must not be negative on the range [{}, {}], but is {} at x = {}; got {}",
+            show(range.low),
+            show(range.high),
+            show_rounded(value),
+            show_rounded(at),
+            show_list(coefficients)
+        ),
+        Err(PolynomialError::Zero) => format!(
+            "the polynomial is zero everywhere on the range [{}, {}]; got {}",
+            show(range.low),
+            show(range.high),
+            show_list(coefficients)
+        ),
+    };
+    Err(ScenarioError::invalid(field, message))
+}
+
+/// A floated polynomial must have non-negative Bernstein coefficients on the
+/// range at some degree up to the largest (see [`Polynomial`]): true of every
+/// polynomial positive on the range, not of one touching zero inside it.
+fn validate_floated_polynomial(field: &str, shape: &ShapeSpec, range: Range) -> Checked {
+    let ShapeSpec::Polynomial { coefficients } = shape else {
+        return Ok(());
+    };
+    let floatable = Polynomial::new(coefficients, [range.low, range.high])
+        .is_ok_and(|polynomial| polynomial.can_float());
+    if floatable {
+        return Ok(());
     }
-    if largest <= 0.0 {
-        return Err(ScenarioError::invalid(
-            field,
-            format!(
-                "the polynomial is zero everywhere on the range [{}, {}]; got {}",
-                show(range.low),
-                show(range.high),
-                show_list(coefficients)
-            ),
-        ));
-    }
-    Ok(())
-}
-
-/// `sum_k c_k x^k` by Horner's rule.
-fn polynomial(coefficients: &[f64], x: f64) -> f64 {
-    coefficients.iter().rev().fold(0.0, |sum, &c| sum * x + c)
-}
-
-/// `sum_k |c_k| |x|^k`: the scale of the rounding error in [`polynomial`].
-fn polynomial_magnitude(coefficients: &[f64], x: f64) -> f64 {
-    coefficients
-        .iter()
-        .rev()
-        .fold(0.0, |sum, &c| sum * x.abs() + c.abs())
-}
-
-/// `count` (at least 2) evenly spaced points from `low` to `high`, both edges exact.
-fn evenly_spaced(range: Range, count: usize) -> impl Iterator<Item = f64> {
-    let steps = (count - 1) as f64;
-    (0..count).map(move |i| {
-        if i + 1 == count {
-            range.high
-        } else {
-            range.low + (range.high - range.low) * (i as f64 / steps)
-        }
-    })
+    Err(ScenarioError::invalid(
+        field,
+        format!(
+            "a floated polynomial must be positive on the range [{}, {}] by a margin its Bernstein coefficients of degree {MAX_POLYNOMIAL_DEGREE} or less can show, but shape.polynomial.coefficients {} touches or nearly touches zero; raise its lowest point or set float_shape: false",
+            show(range.low),
+            show(range.high),
+            show_list(coefficients)
+        ),
+    ))
 }
 
 fn validate_schedule(schedule: &Schedule) -> Checked {
@@ -910,7 +916,7 @@ plan:
         let (field, message) = rejection(&text);
         assert_eq!(field, "backgrounds[1].shape.polynomial.coefficients");
         assert!(message.contains("must not be negative"), "{message}");
-        assert!(message.contains("at x = 50.05"), "{message}");
+        assert!(message.contains("but is -1 at x = 100"), "{message}");
         // (x - 30)(x - 40) = 1200 - 70 x + x^2 is positive at both edges, negative
         // only between 30 and 40: caught by evaluating inside the range.
         let dip = with("coefficients: [1.0, 0.01]", "coefficients: [1200, -70, 1]");
@@ -929,13 +935,66 @@ plan:
     }
 
     #[test]
-    fn polynomial_touching_zero_is_accepted() {
-        // (x - 50)^2 = 2500 - 100 x + x^2 vanishes at x = 50, a sample point, and is
-        // positive elsewhere: a valid density.
-        accepted(&with(
+    fn polynomial_touching_zero_is_accepted_unless_floated() {
+        // (x - 50)^2 = 2500 - 100 x + x^2 vanishes at x = 50 and is positive
+        // elsewhere: a valid density, but one without non-negative Bernstein
+        // coefficients at any degree (Lorentz, Bernstein Polynomials, 1953,
+        // ch. 1.1), so it cannot float.
+        let touching = with("coefficients: [1.0, 0.01]", "coefficients: [2500, -100, 1]");
+        accepted(&touching.replace("float_shape: true", "float_shape: false"));
+        let (field, message) = rejection(&touching);
+        assert_eq!(field, "backgrounds[1].float_shape");
+        assert!(
+            message.contains("touches or nearly touches zero"),
+            "{message}"
+        );
+    }
+
+    /// x^2 - 5e-4 x + 5.25e-8 is negative between its roots 1.5e-4 and
+    /// 3.5e-4 (closed form), between the points of any coarse grid on [0, 1].
+    #[test]
+    fn polynomial_with_a_narrow_dip_is_rejected() {
+        let text = with(
+            "range: [0.0, 100.0], bin_width: 0.5",
+            "range: [0.0, 1.0], bin_width: 0.0001",
+        )
+        .replace("mean: 50.0", "mean: 0.5")
+        .replace("sigma: 1.5", "sigma: 0.01")
+        .replace(
             "coefficients: [1.0, 0.01]",
-            "coefficients: [2500, -100, 1]",
-        ));
+            "coefficients: [5.25e-8, -5e-4, 1]",
+        );
+        let (field, message) = rejection(&text);
+        assert_eq!(field, "backgrounds[1].shape.polynomial.coefficients");
+        assert!(message.contains("at x = 0.00025"), "{message}");
+    }
+
+    #[test]
+    fn two_free_backgrounds_with_one_shape_are_refused() {
+        let text = with(
+            "shape: {exponential: {slope: -0.02}}\n    norm_uncertainty: 0.05",
+            "shape: {polynomial: {coefficients: [1.0, 0.01]}}\n    norm_uncertainty: free",
+        );
+        let (field, message) = rejection(&text);
+        assert_eq!(field, "backgrounds[1].norm_uncertainty");
+        assert!(
+            message.contains("backgrounds[0] and backgrounds[1]"),
+            "{message}"
+        );
+        // A constraint on either normalisation tells them apart.
+        accepted(&text.replacen("norm_uncertainty: free", "norm_uncertainty: 0.1", 1));
+    }
+
+    #[test]
+    fn polynomial_degree_is_limited() {
+        let terms = vec!["1"; 22].join(", ");
+        let text = with(
+            "coefficients: [1.0, 0.01]",
+            &format!("coefficients: [{terms}]"),
+        );
+        let (field, message) = rejection(&text);
+        assert_eq!(field, "backgrounds[1].shape.polynomial.coefficients");
+        assert!(message.contains("at most 21 coefficients"), "{message}");
     }
 
     #[test]
@@ -968,8 +1027,8 @@ plan:
         assert_eq!(
             warnings[0],
             Warning::SignalPeakOutsideRange {
-                field: "signal.shape.gaussian.mean",
-                mean: 120.0,
+                centre_key: "gaussian.mean",
+                centre: 120.0,
                 range: [0.0, 100.0]
             }
         );

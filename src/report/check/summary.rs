@@ -1,7 +1,7 @@
 //! The text of `runcast check`: a valid scenario's rates, S/B at the peak,
 //! and the asymptotic days to each target and to exclusion.
 
-use crate::model::{Model, fraction_inside};
+use crate::model::{Model, fraction_inside, shape_from_spec};
 use crate::projection::Projection;
 use crate::scenario::{Scenario, ShapeSpec};
 use std::fmt::Write;
@@ -77,16 +77,15 @@ fn rates(text: &mut String, scenario: &Scenario, model: &Model) {
     );
 }
 
-/// The peak ±2 widths (sigma for a Gaussian, half width at half maximum for a
-/// Breit-Wigner), clipped to the range; the whole range for other shapes; None
-/// when the window lies entirely outside the range.
+/// The peak ±2 widths of a peaked shape ([`Shape::peak`](crate::model::shapes::Shape::peak): sigma for a
+/// Gaussian, half width at half maximum for a Breit-Wigner), clipped to the
+/// range; the whole range for other shapes; None when the window lies
+/// entirely outside the range.
 fn peak_window(shape: &ShapeSpec, range: [f64; 2]) -> Option<(f64, f64)> {
-    let (centre, width) = match *shape {
-        ShapeSpec::Gaussian { mean, sigma } => (mean, sigma),
-        ShapeSpec::BreitWigner { mean, width } => (mean, width / 2.0),
-        _ => return Some((range[0], range[1])),
+    let Some(peak) = shape_from_spec(shape, range).peak() else {
+        return Some((range[0], range[1]));
     };
-    let low = (centre - 2.0 * width).max(range[0]);
-    let high = (centre + 2.0 * width).min(range[1]);
+    let low = (peak.centre - 2.0 * peak.width).max(range[0]);
+    let high = (peak.centre + 2.0 * peak.width).min(range[1]);
     (low < high).then_some((low, high))
 }
