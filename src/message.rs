@@ -39,6 +39,17 @@ pub fn show_rounded(value: f64) -> String {
     }
 }
 
+/// A computed count that should be whole: rounded like [`show_rounded`],
+/// unless rounding would make a fractional count look whole.
+pub fn show_fraction(value: f64) -> String {
+    let rounded = show_rounded(value);
+    if value.fract() != 0.0 && !rounded.contains(['.', 'e']) {
+        show(value)
+    } else {
+        rounded
+    }
+}
+
 /// A list of numbers as written in YAML, e.g. `[1, -0.5]`.
 pub fn show_list(values: &[f64]) -> String {
     let shown: Vec<String> = values.iter().map(|&v| show(v)).collect();
@@ -59,6 +70,9 @@ mod tests {
         assert_eq!(show_rounded(-0.001000000000000112), "-0.001");
         assert_eq!(show_rounded(50.050000000000004), "50.05");
         assert_eq!(show_rounded(200.0), "200");
+        assert_eq!(show_fraction(100.0 / 0.3), "333.333");
+        assert_eq!(show_fraction(200.0), "200");
+        assert_eq!(show_fraction(200.0000001), "200.0000001");
         assert_eq!(show_list(&[1.0, -0.5]), "[1, -0.5]");
     }
 

@@ -4,6 +4,7 @@ mod crossing;
 mod days;
 mod point;
 mod result;
+mod warnings;
 
 pub use crossing::{first_crossing, quantile};
 pub use result::{
