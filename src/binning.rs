@@ -9,11 +9,11 @@
 
 use crate::asymptotic::AsimovSignificance;
 use crate::likelihood::{FitFailure, Likelihood};
-use crate::model::shapes::Shape;
 use crate::model::{LiveTime, Model, fraction_inside, shape_from_spec};
 use crate::numeric::times_power_of_ten;
 use crate::scenario::limits::MAX_BINS;
 use crate::scenario::{NormUncertainty, Scenario, ShapeSpec};
+use crate::shapes::Shape;
 use serde::Serialize;
 use std::fmt;
 

@@ -1,7 +1,8 @@
 //! runcast: how long a search must run to reach evidence or discovery.
 //!
 //! The engine is a pipeline; each module is one stage:
-//! scenario (file -> typed, validated) -> model (expected counts per bin)
+//! shapes (densities and their registry, which the scenario reads with)
+//! -> scenario (file -> typed, validated) -> model (expected counts per bin)
 //! -> likelihood (negative log-likelihood, fits, test statistics)
 //! -> ensemble (seeded pseudo-experiments) -> projection (exposure scan, days to target)
 //! -> report (SVG, CSV, JSON, terminal summary).
@@ -26,5 +27,6 @@ pub mod numeric;
 pub mod projection;
 pub mod report;
 pub mod scenario;
+pub mod shapes;
 pub mod spectrum;
 pub mod warning;

@@ -34,7 +34,7 @@ struct Term<'m> {
     bins: usize,
     events_per_live_day: f64,
     yield_parameters: &'m [usize],
-    shape: &'m dyn crate::model::shapes::Shape,
+    shape: &'m dyn crate::shapes::Shape,
     edges: &'m [f64],
     /// Shape parameter indices when floating; None when fixed.
     floating: Option<&'m [usize]>,

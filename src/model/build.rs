@@ -2,9 +2,9 @@
 
 use super::{
     Channel, Component, Constraint, LiveTime, Model, Parameter, SIGNAL_STRENGTH, ShapeParameters,
-    shapes,
 };
 use crate::scenario::{Background, NormUncertainty, Scenario, ShapeSpec, Signal};
+use crate::shapes;
 
 impl Model {
     /// The single-channel model of a scenario: mu, an optional constrained signal

@@ -11,12 +11,11 @@
 
 mod build;
 mod schedule;
-pub mod shapes;
 
 pub use build::{bin_edges, fraction_inside, shape_from_spec};
 pub use schedule::LiveTime;
 
-use shapes::Shape;
+use crate::shapes::Shape;
 
 /// Index of the signal strength mu in every parameter vector.
 pub const SIGNAL_STRENGTH: usize = 0;

@@ -4,7 +4,7 @@
 //! whose keys come from the shape registry of the model.
 
 use super::{NormUncertainty, ShapeSpec};
-use crate::model::shapes::{ParameterValue, SHAPE_KINDS, ShapeKind};
+use crate::shapes::{ParameterValue, SHAPE_KINDS, ShapeKind};
 use serde::Deserialize;
 use serde::de::{self, DeserializeSeed, MapAccess, Unexpected, Visitor};
 use std::fmt;
@@ -188,7 +188,7 @@ impl<'de> Visitor<'de> for Parameters {
 #[cfg(test)]
 mod tests {
     use super::super::{NormUncertainty, ShapeSpec};
-    use crate::model::shapes::{ParameterValue, SHAPE_KINDS};
+    use crate::shapes::{ParameterValue, SHAPE_KINDS};
 
     fn shape(text: &str) -> Result<ShapeSpec, String> {
         serde_yaml::from_str(text).map_err(|error| error.to_string())

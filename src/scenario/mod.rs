@@ -13,7 +13,7 @@ mod validate;
 pub use error::ScenarioError;
 pub use template::TEMPLATE;
 
-use crate::model::shapes::{ParameterValue, Placement, Shape, ShapeError, ShapeKind};
+use crate::shapes::{ParameterValue, Placement, Shape, ShapeError, ShapeKind};
 use crate::warning::Warning;
 use serde::Deserialize;
 use std::io::Read;
@@ -96,7 +96,7 @@ pub enum NormUncertainty {
 }
 
 /// A density on the observable range, normalised on the range: one of the
-/// registered [`SHAPE_KINDS`](crate::model::shapes::SHAPE_KINDS) with the values of its parameters.
+/// registered [`SHAPE_KINDS`](crate::shapes::SHAPE_KINDS) with the values of its parameters.
 ///
 /// Written in YAML as a one-key mapping, e.g. `{gaussian: {mean: 67.0, sigma: 0.8}}`
 /// or `{flat: {}}`; the key and the parameter names come from the registry, and

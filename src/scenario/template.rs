@@ -1,7 +1,7 @@
 //! The commented scenario written by `runcast new FILE`: a valid starting point
 //! that explains every key, its unit and its default.
 
-use crate::model::shapes::SHAPE_KINDS;
+use crate::shapes::SHAPE_KINDS;
 use std::sync::LazyLock;
 
 /// A complete, valid scenario in which every key is explained by a comment.
@@ -121,8 +121,8 @@ plan:
 #[cfg(test)]
 mod tests {
     use super::TEMPLATE;
-    use crate::model::shapes::SHAPE_KINDS;
     use crate::scenario::{NormUncertainty, Scenario};
+    use crate::shapes::SHAPE_KINDS;
 
     #[test]
     fn template_parses_and_validates_without_warnings() {

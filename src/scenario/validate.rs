@@ -13,7 +13,7 @@ use super::{
     ShapeSpec, Signal,
 };
 use crate::message::{not_finite, not_positive, show, show_fraction, show_rounded};
-use crate::model::shapes::{Placement, ShapeError};
+use crate::shapes::{Placement, ShapeError};
 use crate::warning::Warning;
 
 /// Ensembles a default `project` run draws at each point: discovery and limits.
@@ -54,7 +54,7 @@ pub(super) fn warnings(scenario: &Scenario) -> Vec<Warning> {
     remarks
 }
 
-/// A peaked signal ([`Shape::peak`](crate::model::shapes::Shape::peak)) whose maximum lies outside the range.
+/// A peaked signal ([`Shape::peak`](crate::shapes::Shape::peak)) whose maximum lies outside the range.
 fn signal_peak_outside_range(scenario: &Scenario) -> Option<Warning> {
     let range = scenario.observable.range;
     let fixed = Placement {

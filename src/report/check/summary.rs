@@ -77,7 +77,7 @@ fn rates(text: &mut String, scenario: &Scenario, model: &Model) {
     );
 }
 
-/// The peak ±2 widths of a peaked shape ([`Shape::peak`](crate::model::shapes::Shape::peak): sigma for a
+/// The peak ±2 widths of a peaked shape ([`Shape::peak`](crate::shapes::Shape::peak): sigma for a
 /// Gaussian, half width at half maximum for a Breit-Wigner), clipped to the
 /// range; the whole range for other shapes; None when the window lies
 /// entirely outside the range.

@@ -281,7 +281,7 @@ mod tests {
         assert_eq!((peak.centre, peak.width), (3.5, 0.25));
         assert_eq!(peak.centre_key, "gaussian.mean");
     }
-    use crate::model::shapes::assert_normalised;
+    use crate::shapes::assert_normalised;
     use statrs::distribution::{Continuous, ContinuousCDF, Normal};
 
     fn fractions(mean: f64, sigma: f64, edges: &[f64]) -> Vec<f64> {

@@ -45,7 +45,7 @@ impl Shape for Flat {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::model::shapes::assert_normalised;
+    use crate::shapes::assert_normalised;
 
     // No parameters, so nothing lies outside the domain.
     shape_contract_tests! {

@@ -142,7 +142,7 @@ mod tests {
         assert_eq!((peak.centre, peak.width), (91.0, 1.25));
         assert_eq!(peak.centre_key, "breit_wigner.mean");
     }
-    use crate::model::shapes::assert_normalised;
+    use crate::shapes::assert_normalised;
     use statrs::distribution::{Cauchy, Continuous, ContinuousCDF};
 
     fn fractions(mean: f64, width: f64, edges: &[f64]) -> Vec<f64> {

@@ -560,7 +560,7 @@ fn bisect_sign_change(coefficients: &[f64], low: f64, high: f64) -> Option<f64> 
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::model::shapes::assert_normalised;
+    use crate::shapes::assert_normalised;
 
     // 1 - x/2 + x²/5 + x³/20 on [0, 2] has Bernstein coefficients [1, 2/3,
     // 3/5, 6/5] (by hand); inside the domain and at a zero coefficient, and

@@ -396,7 +396,7 @@ fn langevin_derivative(y: f64) -> f64 {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::model::shapes::assert_normalised;
+    use crate::shapes::assert_normalised;
 
     // Both sides of zero slope and zero itself; a slope that is not finite
     // is outside the domain.

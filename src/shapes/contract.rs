@@ -114,13 +114,13 @@ macro_rules! shape_contract_tests {
             #[test]
             fn fractions_and_derivatives_inside_the_domain() {
                 let shape = $shape;
-                $(crate::model::shapes::contract::check_inside(&shape, $params, $edges);)*
+                $(crate::shapes::contract::check_inside(&shape, $params, $edges);)*
             }
 
             #[test]
             fn nan_outside_the_domain() {
                 let shape = $shape;
-                $(crate::model::shapes::contract::check_outside(&shape, $outside);)*
+                $(crate::shapes::contract::check_outside(&shape, $outside);)*
                 let _ = &shape;
             }
         }
