@@ -160,12 +160,13 @@ fn calibration_table(projection: &Projection) -> Option<String> {
     let mut rows = vec![header.map(str::to_string).to_vec()];
     rows.extend(calibrated.iter().map(|(days, calibration)| {
         let z = calibration.z_asymptotic;
-        let (z_toys, difference) = match calibration.z_toys {
-            Some(z_toys) => (two_decimals(z_toys), two_decimals(z - z_toys)),
-            None => (
-                format!("> {}", two_decimals(calibration.tail_reach_z)),
-                format!("< {}", two_decimals(z - calibration.tail_reach_z)),
+        let (z_toys, difference) = match (calibration.z_toys, calibration.tail_reach_z) {
+            (Some(z_toys), _) => (two_decimals(z_toys), two_decimals(z - z_toys)),
+            (None, Some(reach)) => (
+                format!("> {}", two_decimals(reach)),
+                format!("< {}", two_decimals(z - reach)),
             ),
+            (None, None) => ("—".to_string(), "—".to_string()),
         };
         vec![
             grid_day(*days),
@@ -177,12 +178,27 @@ fn calibration_table(projection: &Projection) -> Option<String> {
     }));
     Some(format!(
         "Discovery Z of the Asimov q0, asymptotic and from {toys} background-only \
-         pseudo-experiments per point\n{}\
-         note: {reached} background-only pseudo-experiments resolve p-values down to 1/{reached}, \
-         Z ≈ {}; where none reaches the Asimov q0, the toy Z is only known to lie above that.\n",
+         pseudo-experiments per point\n{}{}",
         aligned(&rows),
-        two_decimals(shallowest.tail_reach_z)
+        tail_reach_note(reached, shallowest.tail_reach_z)
     ))
+}
+
+/// The note on the deepest tail `reached` converged toys resolve, p = 1/N at
+/// Z ≈ `reach`; fewer than two resolve none.
+fn tail_reach_note(reached: usize, reach: Option<f64>) -> String {
+    match reach {
+        Some(reach) => format!(
+            "note: {reached} background-only pseudo-experiments resolve p-values down to 1/{reached}, \
+             Z ≈ {}; where none reaches the Asimov q0, the toy Z is only known to lie above that.\n",
+            two_decimals(reach)
+        ),
+        None => format!(
+            "note: at one point only {reached} background-only pseudo-experiments converged, \
+             too few to resolve any p-value below 1; where none reaches the Asimov q0, \
+             the toy Z is unknown (—).\n"
+        ),
+    }
 }
 
 /// A significance to two decimals, without a negative zero.
@@ -356,7 +372,7 @@ warning: systematic uncertainties make Z_A saturate at 4.50σ however long the r
         let calibration = projection.points[3].calibration.as_mut().unwrap();
         calibration.failed_fits = 1000;
         calibration.converged_toys = 4000;
-        calibration.tail_reach_z = crate::asymptotic::significance(1.0 / 4000.0);
+        calibration.tail_reach_z = Calibration::tail_reach(4000);
         let text = summary(&projection);
         // Φ⁻¹(1 − 1/4000) = 3.48 (standard normal quantile, from memory;
         // recomputed with statrs as reference).
@@ -370,5 +386,29 @@ warning: systematic uncertainties make Z_A saturate at 4.50σ however long the r
             ),
             "{text}"
         );
+    }
+
+    #[test]
+    fn one_converged_calibration_toy_resolves_no_tail() {
+        // Once a run aborted here on "tail_reach_z is -inf": one converged toy
+        // gives p = 1/1, whose Z = Phi^-1(0) is -inf (standard normal quantile).
+        let mut projection = example::with_limits();
+        let calibration = projection.points[3].calibration.as_mut().unwrap();
+        calibration.failed_fits = calibration.converged_toys - 1;
+        calibration.converged_toys = 1;
+        calibration.exceeding = 0;
+        calibration.p_toys = None;
+        calibration.z_toys = None;
+        calibration.tail_reach_z = Calibration::tail_reach(1);
+        let days = grid_day(projection.points[3].days);
+        crate::report::render_all(&projection).unwrap();
+        let text = summary(&projection);
+        assert!(
+            text.contains("note: at one point only 1 background-only pseudo-experiments converged"),
+            "{text}"
+        );
+        let row = text.lines().find(|line| line.starts_with(&days)).unwrap();
+        let cells: Vec<&str> = row.split_whitespace().collect();
+        assert_eq!(cells[cells.len() - 3..], ["—", "—", "1"], "{row}");
     }
 }
