@@ -49,7 +49,8 @@ pub struct ExposurePoint {
     pub z_band: Option<[f64; 4]>,
     /// Probability of reaching each target, from toys and asymptotically.
     pub probability: Vec<TargetProbability>,
-    /// Pseudo-experiments whose fits failed after all retries (excluded from quantiles).
+    /// Pseudo-experiments whose fits failed after all retries (excluded from
+    /// quantiles); 0 before any live time, where none is run.
     pub failed_fits: usize,
     /// Median expected upper limit on mu from background-only pseudo-experiments;
     /// None without toys or limits, before any live time, or when unbounded
@@ -64,7 +65,9 @@ pub struct ExposurePoint {
     /// Asymptotic expected limits on mu at -2, -1, +1, +2 sigma; None as for
     /// `limit_asimov`, or when one of them is unbounded.
     pub limit_asimov_band: Option<[f64; 4]>,
-    /// Background-only pseudo-experiments whose limit could not be computed.
+    /// Background-only pseudo-experiments whose limit could not be computed;
+    /// 0 where none is run: before any live time, or without a bounded
+    /// `limit_asimov` (`Projection::toys_run_at`).
     pub limit_failed_fits: usize,
     /// Toy calibration of the discovery p-value (with `--calibrate`).
     pub calibration: Option<Calibration>,

@@ -113,14 +113,32 @@ fn grid_day(days: f64) -> String {
     format!("{} d", (days * 100.0).round() / 100.0)
 }
 
-/// Total failed fits of one ensemble, and its warning (worded by
-/// [`warning_text`]) when any point lost more than
-/// [`FAILED_FRACTION_WARNING`](crate::warning::FAILED_FRACTION_WARNING) of its toys.
+/// Total failed fits of one ensemble of the toys it ran, the points where it
+/// ran none, and its warning (worded by [`warning_text`]) when any point lost
+/// more than [`FAILED_FRACTION_WARNING`](crate::warning::FAILED_FRACTION_WARNING)
+/// of its toys.
 fn failed_fits_lines(projection: &Projection, ensemble: &Ensemble) -> String {
     let total_toys = ensemble.total_toys(projection);
     let total_failed = ensemble.total_failed(projection);
+    let points = projection.points.len();
+    let points_run = projection.points_run(ensemble.kind);
+    if points_run == 0 {
+        return format!(
+            "{}: none run ({} at any of the {points} points).\n",
+            ensemble.heading, ensemble.not_run
+        );
+    }
+    let not_run = if points_run < points {
+        format!(
+            "; none ran at {} of {points} points ({})",
+            points - points_run,
+            ensemble.not_run
+        )
+    } else {
+        String::new()
+    };
     let mut text = format!(
-        "{}: {total_failed} of {total_toys} {} ({}), excluded from {}.\n",
+        "{}: {total_failed} of {total_toys} {} ({}), excluded from {}{not_run}.\n",
         ensemble.heading,
         ensemble.thrown,
         fit_percent(total_failed, total_toys),
@@ -410,5 +428,70 @@ warning: systematic uncertainties make Z_A saturate at 4.50σ however long the r
         let row = text.lines().find(|line| line.starts_with(&days)).unwrap();
         let cells: Vec<&str> = row.split_whitespace().collect();
         assert_eq!(cells[cells.len() - 3..], ["—", "—", "1"], "{row}");
+    }
+
+    /// Two points before any live time and one whose Asimov limit is
+    /// unbounded: the totals count the toys that ran, not those requested.
+    fn with_points_that_ran_no_toys() -> Projection {
+        let mut projection = example::with_limits();
+        for point in &mut projection.points {
+            point.failed_fits = 0;
+            point.limit_failed_fits = 0;
+        }
+        for point in &mut projection.points[..2] {
+            point.live_days = 0.0;
+            point.calibration = None;
+        }
+        for point in &mut projection.points[..3] {
+            point.limit_asimov = None;
+            point.limit_asimov_band = None;
+            point.limit_median = None;
+            point.limit_band = None;
+        }
+        projection.points[5].limit_failed_fits = 3;
+        projection
+    }
+
+    #[test]
+    fn failed_fits_count_the_toys_that_ran() {
+        // 31 points: discovery and calibration toys at 29, limit toys at 28,
+        // of 2000 (limits, discovery) and 5000 (calibration) per point.
+        let projection = with_points_that_ran_no_toys();
+        let text = summary(&projection);
+        for expected in [
+            "Failed fits: 0 of 58000 pseudo-experiments (0.00%), excluded from the quantiles; \
+             none ran at 2 of 31 points (no live time).\n",
+            "Failed fits (limits): 3 of 56000 background-only pseudo-experiments (<0.01%), \
+             excluded from the limit quantiles; none ran at 3 of 31 points \
+             (no live time, or no bounded Asimov limit).\n",
+            "warning: more than 0.1% of limit fits failed at 1 of 28 exposure points \
+             (worst: 3 of 2000 at",
+            "Failed fits (q0 calibration): 0 of 145000 background-only pseudo-experiments \
+             (0.00%), excluded from the toy p-values; none ran at 2 of 31 points (no live time).\n",
+        ] {
+            assert!(text.contains(expected), "missing {expected:?} in\n{text}");
+        }
+        let footnote = Ensemble::limits().footnote(&projection).unwrap();
+        assert!(
+            footnote.starts_with("Failed limit fits: 3 of 56000 "),
+            "{footnote}"
+        );
+    }
+
+    #[test]
+    fn an_ensemble_that_never_ran_says_so() {
+        let mut projection = with_points_that_ran_no_toys();
+        for point in &mut projection.points {
+            point.limit_asimov = None;
+            point.limit_failed_fits = 0;
+        }
+        let text = summary(&projection);
+        assert!(
+            text.contains(
+                "Failed fits (limits): none run (no live time, or no bounded Asimov limit \
+                 at any of the 31 points).\n"
+            ),
+            "{text}"
+        );
     }
 }
