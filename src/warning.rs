@@ -39,7 +39,8 @@ pub enum Warning {
         days_without_data: f64,
     },
     /// More than [`FAILED_FRACTION_WARNING`] of the `toys` fits of `ensemble`
-    /// failed at `flagged_points` of `points` exposure points; the most, at
+    /// failed at `flagged_points` of the `points` exposure points where it
+    /// ran; the most, at
     /// `worst_days` calendar days, lost `worst_failed`.
     FailedFits {
         ensemble: Ensemble,

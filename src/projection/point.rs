@@ -200,7 +200,7 @@ fn calibration(outcome: EnsembleOutcome, z_asimov: f64) -> Calibration {
         z_asymptotic: z_asimov,
         p_toys,
         z_toys: p_toys.map(|p| significance(p).max(0.0)),
-        tail_reach_z: significance(1.0 / converged_toys.max(1) as f64),
+        tail_reach_z: Calibration::tail_reach(converged_toys),
     }
 }
 

@@ -35,6 +35,37 @@ impl Projection {
         }
     }
 
+    /// Pseudo-experiments of `ensemble` run at `point`: the requested number
+    /// where the ensemble ran, 0 where it did not. No toy runs before any live
+    /// time (every discovery toy is then the empty dataset, Z = 0), and limit
+    /// toys run only where the Asimov median limit is bounded (`limit_asimov`
+    /// present; `PointRunner::point` skips them otherwise).
+    pub fn toys_run_at(&self, point: &ExposurePoint, ensemble: Ensemble) -> usize {
+        let ran = point.live_days > 0.0
+            && match ensemble {
+                Ensemble::Discovery => true,
+                Ensemble::Limits => self.cl.is_some() && point.limit_asimov.is_some(),
+                Ensemble::Calibration => point.calibration.is_some(),
+            };
+        if ran { self.ensemble_toys(ensemble) } else { 0 }
+    }
+
+    /// Pseudo-experiments of `ensemble` run over the whole grid.
+    pub fn toys_run(&self, ensemble: Ensemble) -> usize {
+        self.points
+            .iter()
+            .map(|point| self.toys_run_at(point, ensemble))
+            .sum()
+    }
+
+    /// Grid points where `ensemble` ran.
+    pub fn points_run(&self, ensemble: Ensemble) -> usize {
+        self.points
+            .iter()
+            .filter(|point| self.toys_run_at(point, ensemble) > 0)
+            .count()
+    }
+
     /// The warning for `ensemble` when any point lost more than
     /// [`FAILED_FRACTION_WARNING`] of its fits, naming the worst point (the
     /// earliest of equals).
@@ -54,7 +85,7 @@ impl Projection {
         Some(Warning::FailedFits {
             ensemble,
             flagged_points: flagged.len(),
-            points: self.points.len(),
+            points: self.points_run(ensemble),
             worst_failed: worst.failed_fits_of(ensemble),
             toys,
             worst_days: worst.days,

@@ -21,6 +21,8 @@ pub(in crate::report) struct Ensemble {
     pub fits: &'static str,
     /// What the failed fits are left out of.
     pub results: &'static str,
+    /// Why the ensemble runs at no toy at some points.
+    pub not_run: &'static str,
 }
 
 impl Ensemble {
@@ -42,6 +44,7 @@ impl Ensemble {
             thrown: "pseudo-experiments",
             fits: "fits",
             results: "the quantiles",
+            not_run: "no live time",
         }
     }
 
@@ -54,6 +57,7 @@ impl Ensemble {
             thrown: "background-only pseudo-experiments",
             fits: "limit fits",
             results: "the limit quantiles",
+            not_run: "no live time, or no bounded Asimov limit",
         }
     }
 
@@ -66,6 +70,7 @@ impl Ensemble {
             thrown: "background-only pseudo-experiments",
             fits: "calibration fits",
             results: "the toy p-values",
+            not_run: "no live time",
         }
     }
 
@@ -80,9 +85,10 @@ impl Ensemble {
             .collect()
     }
 
-    /// Pseudo-experiments requested over the whole grid.
+    /// Pseudo-experiments run over the whole grid (none at points where
+    /// the ensemble did not run, see `Projection::toys_run_at`).
     pub fn total_toys(&self, projection: &Projection) -> usize {
-        projection.ensemble_toys(self.kind) * projection.points.len()
+        projection.toys_run(self.kind)
     }
 
     /// Failed fits over the whole grid.
