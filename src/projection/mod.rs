@@ -43,9 +43,13 @@ impl ProjectionSettings {
         self.toys * (1 + usize::from(self.cl.is_some())) + self.calibration_toys
     }
 
-    /// Every pseudo-experiment the projection (or its shard `shard`) will
-    /// run, for progress reporting.
-    pub fn total_toys(&self, shard: ShardSpec) -> u64 {
+    /// Every pseudo-experiment the projection will run, for progress reporting.
+    pub fn total_toys(&self) -> u64 {
+        self.total_toys_in(ShardSpec::WHOLE)
+    }
+
+    /// The pseudo-experiments shard `shard` of the projection will run.
+    pub fn total_toys_in(&self, shard: ShardSpec) -> u64 {
         let toys = shard.toys(self.toys).len();
         let calibration_toys = shard.toys(self.calibration_toys).len();
         let per_point = toys * (1 + usize::from(self.cl.is_some())) + calibration_toys;
