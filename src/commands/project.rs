@@ -15,10 +15,7 @@ pub fn run(args: &ProjectArgs) -> Result<(), Error> {
     let out = output_directory(&args.scenario, args.out.as_deref());
     let model = Model::from_scenario(&scenario);
 
-    let bar = toy_progress(
-        settings.total_toys(crate::projection::ShardSpec::WHOLE),
-        args.quiet,
-    );
+    let bar = toy_progress(settings.total_toys(), args.quiet);
     let progress = |done: u64| bar.inc(done);
     let projection = with_threads(args.threads, || project(&model, &settings, &progress))??;
     bar.finish_and_clear();
