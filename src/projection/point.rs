@@ -83,7 +83,7 @@ impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
                 alpha: 1.0 - settings.cl.unwrap_or_default(),
                 sigma: limits.sigma,
             }),
-            calibration: (settings.calibration_toys > 0).then(|| CalibrationRequest {
+            calibration: (settings.calibration_toys > 0).then_some(CalibrationRequest {
                 toys: settings.calibration_toys,
                 q0_asimov: z_asimov * z_asimov,
             }),
