@@ -4,7 +4,8 @@ use crate::ensemble::EnsembleOutcome;
 use crate::projection::ensembles::{CalibrationCount, PointToys};
 use sha2::{Digest, Sha256};
 use std::fs::File;
-use std::io::{self, BufReader, Read, Write};
+use std::io::{self, BufReader, Read, Seek, SeekFrom, Write};
+use std::path::Path;
 
 /// A point's section: each ensemble as a presence flag, then its failed fits
 /// and converged values, or (calibration) converged, exceeding and failed.
@@ -134,6 +135,20 @@ pub(super) struct Decoder {
 }
 
 impl Decoder {
+    /// Reads the file at `path` from byte `start` up to byte `end`.
+    pub(super) fn open(path: &Path, start: u64, end: u64) -> io::Result<Decoder> {
+        let mut file = File::open(path)?;
+        file.seek(SeekFrom::Start(start))?;
+        Ok(Decoder {
+            input: BufReader::new(file).take(end - start),
+        })
+    }
+
+    /// Bytes left before the end.
+    pub(super) fn remaining(&self) -> u64 {
+        self.input.limit()
+    }
+
     pub(super) fn raw<const N: usize>(&mut self) -> Result<[u8; N], String> {
         let mut bytes = [0u8; N];
         self.input

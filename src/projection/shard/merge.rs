@@ -28,7 +28,7 @@ pub fn merge_shards(directory: &Path) -> Result<(ShardRun, Projection), ShardErr
     let model = Model::from_scenario(&scenario);
     let projection =
         crate::projection::project_from(&model, &run.settings, &mut MergeSource(&mut shards))?;
-    for shard in &mut shards {
+    for shard in &shards {
         shard.expect_end()?;
     }
     Ok((run, projection))
@@ -109,25 +109,27 @@ impl ToySource for MergeSource<'_> {
     fn skip(&mut self, _: usize) {}
 }
 
-/// One shard file, its checksum verified, read section by section.
+/// One shard file, its checksum verified, read section by section. The file
+/// is opened for each section only, so a merge of thousands of shards never
+/// holds thousands of open files.
 struct ShardReader {
     path: PathBuf,
     run: ShardRun,
     shard: ShardSpec,
-    input: Decoder,
+    /// Where the next section starts.
+    offset: u64,
+    /// Where the checksum starts.
+    body_length: u64,
 }
 
 impl ShardReader {
     /// Verifies the checksum of the file at `path` and reads its header.
     fn open(path: PathBuf) -> Result<ShardReader, ShardError> {
         let body_length = verify_checksum(&path)?;
-        let file = File::open(&path).map_err(|source| ShardError::Io {
+        let mut input = Decoder::open(&path, 0, body_length).map_err(|source| ShardError::Io {
             path: path.clone(),
             source,
         })?;
-        let mut input = Decoder {
-            input: BufReader::new(file).take(body_length),
-        };
         let malformed = |what: String| ShardError::Malformed {
             path: path.clone(),
             what,
@@ -149,14 +151,23 @@ impl ShardReader {
             path,
             run,
             shard,
-            input,
+            offset: body_length - input.remaining(),
+            body_length,
         })
     }
 
     /// The next point's section, checked against what the point asks for.
     fn point(&mut self, request: &PointRequest) -> Result<PointToys, ShardError> {
-        let toys = decode_point(&mut self.input)
-            .and_then(|toys| self.check(&toys, request).map(|()| toys));
+        let mut input =
+            Decoder::open(&self.path, self.offset, self.body_length).map_err(|source| {
+                ShardError::Io {
+                    path: self.path.clone(),
+                    source,
+                }
+            })?;
+        let toys =
+            decode_point(&mut input).and_then(|toys| self.check(&toys, request).map(|()| toys));
+        self.offset = self.body_length - input.remaining();
         toys.map_err(|what| ShardError::Malformed {
             path: self.path.clone(),
             what: format!("grid point {}: {what}", request.index + 1),
@@ -188,18 +199,14 @@ impl ShardReader {
     }
 
     /// Checks that every section has been read.
-    fn expect_end(&mut self) -> Result<(), ShardError> {
-        match self.input.input.read(&mut [0]) {
-            Ok(0) => Ok(()),
-            Ok(_) => Err(ShardError::Malformed {
+    fn expect_end(&self) -> Result<(), ShardError> {
+        if self.offset != self.body_length {
+            return Err(ShardError::Malformed {
                 path: self.path.clone(),
                 what: "holds more grid points than its scenario".into(),
-            }),
-            Err(source) => Err(ShardError::Io {
-                path: self.path.clone(),
-                source,
-            }),
+            });
         }
+        Ok(())
     }
 }
 
