@@ -5,8 +5,31 @@
 //! not HTML, and backticks would show in the help.
 #![allow(rustdoc::invalid_html_tags)]
 
+use crate::error::Error;
+use clap::error::ErrorKind;
 use clap::{Args, Parser, Subcommand};
 use std::path::PathBuf;
+
+/// Parses the command line. A request for help or the version prints it and
+/// exits here, as does a bare `runcast` (help on stderr, exit 2); any other
+/// parse error becomes one [`Error::Usage`] line: the parser's message up to
+/// its first blank line, joined.
+pub fn parse() -> Result<Cli, Error> {
+    Cli::try_parse().map_err(|error| {
+        if !error.use_stderr()
+            || error.kind() == ErrorKind::DisplayHelpOnMissingArgumentOrSubcommand
+        {
+            error.exit();
+        }
+        let rendered = error.to_string();
+        let message: Vec<&str> = rendered
+            .lines()
+            .map(str::trim)
+            .take_while(|line| !line.is_empty())
+            .collect();
+        Error::Usage(message.join(" ").trim_start_matches("error: ").to_string())
+    })
+}
 
 /// runcast: how long a search must run to reach evidence or discovery.
 ///

@@ -1,12 +1,13 @@
 //! The errors a command can end with; each prints as one line a user can act on.
 
-use crate::benchmark::BenchmarkError;
-use crate::binning::BinningError;
-use crate::projection::ProjectionError;
-use crate::report::ReportError;
-use crate::scenario::ScenarioError;
+use runcast::benchmark::BenchmarkError;
+use runcast::binning::BinningError;
+use runcast::projection::ProjectionError;
+use runcast::report::ReportError;
+use runcast::scenario::ScenarioError;
 use std::fmt;
 use std::path::PathBuf;
+use std::process::ExitCode;
 
 #[derive(Debug)]
 pub enum Error {
@@ -29,6 +30,8 @@ pub enum Error {
     /// Command-line values that parse but make no sense.
     Usage(String),
     Benchmark(BenchmarkError),
+    /// Standard output failed for another reason than a closed pipe.
+    Stdout(std::io::Error),
 }
 
 impl fmt::Display for Error {
@@ -36,7 +39,7 @@ impl fmt::Display for Error {
         match self {
             // A read error names the file itself.
             Error::Scenario {
-                source: source @ ScenarioError::Read { .. },
+                source: source @ (ScenarioError::Read { .. } | ScenarioError::TooLarge { .. }),
                 ..
             } => write!(f, "{source}"),
             Error::Scenario { path, source } => write!(f, "{}: {source}", path.display()),
@@ -51,6 +54,19 @@ impl fmt::Display for Error {
             ),
             Error::Usage(message) => f.write_str(message),
             Error::Benchmark(source) => write!(f, "{source}"),
+            Error::Stdout(source) => write!(f, "cannot write to standard output: {source}"),
+        }
+    }
+}
+
+impl Error {
+    /// The exit status: 2 for a usage error (a command-line value the parser
+    /// or a command refuses, as the argument parser itself does), 1 for
+    /// everything else (a bad scenario, a failed fit, a file not written).
+    pub fn exit_code(&self) -> ExitCode {
+        match self {
+            Error::Usage(_) => ExitCode::from(2),
+            _ => ExitCode::FAILURE,
         }
     }
 }

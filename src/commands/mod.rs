@@ -1,4 +1,4 @@
-//! The commands: each loads what it needs, calls the engine and reports.
+//! The commands: each resolves its options, calls the engine and reports.
 
 mod bench;
 mod binning;
@@ -9,9 +9,9 @@ mod spectrum;
 
 use crate::cli::{Cli, Command};
 use crate::error::Error;
-use crate::model::Model;
-use crate::scenario::Scenario;
-use std::path::{Path, PathBuf};
+use crate::options::Loaded;
+use runcast::report::{self, Report};
+use std::path::Path;
 
 /// Runs one command line.
 pub fn run(cli: Cli) -> Result<(), Error> {
@@ -25,42 +25,21 @@ pub fn run(cli: Cli) -> Result<(), Error> {
     }
 }
 
-/// Loads a scenario and prints its warnings to stderr.
-fn load_scenario(path: &Path) -> Result<Scenario, Error> {
-    let scenario = Scenario::load(path).map_err(|source| Error::Scenario {
-        path: path.to_path_buf(),
-        source,
-    })?;
-    for warning in scenario.warnings() {
-        eprintln!("runcast: warning: {}: {warning}", path.display());
-    }
-    Ok(scenario)
-}
-
-/// `out`, or `output/<scenario file stem>`.
-fn output_directory(scenario: &Path, out: Option<&Path>) -> PathBuf {
-    out.map(Path::to_path_buf).unwrap_or_else(|| {
-        let stem = scenario.file_stem().map_or_else(
-            || "scenario".into(),
-            |stem| stem.to_string_lossy().into_owned(),
+/// Prints the scenario's warnings to stderr.
+fn print_warnings(loaded: &Loaded) {
+    for warning in loaded.scenario.warnings() {
+        eprintln!(
+            "runcast: warning: {}: {}",
+            loaded.path.display(),
+            report::warning_text(&warning)
         );
-        Path::new("output").join(stem)
-    })
+    }
 }
 
-/// Checks that `days` are calendar days after which the scenario has taken
-/// some data: finite, above zero, with live time by then.
-fn check_days(scenario: &Scenario, days: f64) -> Result<(), Error> {
-    if !(days.is_finite() && days > 0.0) {
-        return Err(Error::Usage(format!(
-            "--days {days}: expected calendar days above 0"
-        )));
-    }
-    let live_days = Model::from_scenario(scenario).live_time.live_days(days);
-    if live_days <= 0.0 {
-        return Err(Error::Usage(format!(
-            "--days {days}: the schedule gives no live time by then (live days {live_days})"
-        )));
-    }
-    Ok(())
+/// The "wrote FILE" lines after `reports` went to `out`.
+fn wrote(out: &Path, reports: &[Report]) -> String {
+    reports
+        .iter()
+        .map(|report| format!("wrote {}\n", out.join(&report.name).display()))
+        .collect()
 }

@@ -1,63 +1,45 @@
 //! `runcast project`: the main job.
 
-use super::{load_scenario, output_directory};
+use super::print_warnings;
 use crate::cli::ProjectArgs;
 use crate::error::Error;
-use crate::model::Model;
+use crate::options::ProjectOptions;
 use crate::progress::toy_progress;
-use crate::projection::{ProjectionSettings, project};
-use crate::report;
-use crate::scenario::Scenario;
+use crate::stdout;
+use runcast::projection::project;
+use runcast::report;
+use std::path::Path;
 
 pub fn run(args: &ProjectArgs) -> Result<(), Error> {
-    let scenario = load_scenario(&args.scenario)?;
-    let settings = settings(&scenario, args)?;
-    let out = output_directory(&args.scenario, args.out.as_deref());
-    let model = Model::from_scenario(&scenario);
-
-    let bar = toy_progress(settings.total_toys(), args.quiet);
+    let options = ProjectOptions::resolve(args)?;
+    print_warnings(&options.loaded);
+    let settings = &options.settings;
+    let bar = toy_progress(settings.total_toys(), options.quiet);
     let progress = |done: u64| bar.inc(done);
-    let projection = with_threads(args.threads, || project(&model, &settings, &progress))??;
+    let projection = with_threads(options.threads, || {
+        project(&options.model, settings, &progress)
+    })??;
     bar.finish_and_clear();
 
     let reports = report::render_all(&projection)?;
-    let removed = report::write_all(&out, &reports, &report::PROJECTION_FILES)?;
-    print!("{}", report::summary(&projection));
-    println!("wrote {}", out.display());
-    for name in removed {
-        println!(
-            "removed {} (left from an earlier run)",
-            out.join(name).display()
-        );
-    }
-    Ok(())
+    let removed = report::write_all(&options.out, &reports, &report::PROJECTION_FILES)?;
+    stdout::print(&report::summary(&projection))?;
+    stdout::print(&format!("wrote {}\n", options.out.display()))?;
+    stdout::print(&removed_lines(&options.out, &removed))
 }
 
-fn settings(scenario: &Scenario, args: &ProjectArgs) -> Result<ProjectionSettings, Error> {
-    if args.toys == Some(0) && !args.asimov_only {
-        return Err(Error::Usage(
-            "--toys: must be at least 1 (use --asimov-only to skip pseudo-experiments)".into(),
-        ));
-    }
-    if args.calibrate == Some(0) {
-        return Err(Error::Usage(
-            "--calibrate: must be at least 1 pseudo-experiment".into(),
-        ));
-    }
-    let toys = if args.asimov_only {
-        0
-    } else {
-        args.toys.unwrap_or(scenario.plan.toys)
-    };
-    Ok(ProjectionSettings {
-        title: scenario.title.clone(),
-        days: scenario.plan.days.days(),
-        toys,
-        seed: args.seed.unwrap_or(scenario.plan.seed),
-        targets: scenario.plan.targets.clone(),
-        cl: (!args.no_limits).then_some(scenario.plan.cl),
-        calibration_toys: args.calibrate.unwrap_or(0),
-    })
+/// The "removed FILE" lines for files of the output set left from an earlier
+/// run that `write_all` removed from `out`.
+fn removed_lines(out: &Path, removed: &[String]) -> String {
+    removed
+        .iter()
+        .map(|name| {
+            format!(
+                "removed {} (left from an earlier run)\n",
+                out.join(name).display()
+            )
+        })
+        .collect()
 }
 
 /// Runs `work` on a pool of `threads` workers (the global pool when None).
@@ -67,7 +49,6 @@ fn with_threads<T: Send>(
 ) -> Result<T, Error> {
     match threads {
         None => Ok(work()),
-        Some(0) => Err(Error::Usage("--threads: must be at least 1".into())),
         Some(threads) => rayon::ThreadPoolBuilder::new()
             .num_threads(threads)
             .build()

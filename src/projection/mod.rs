@@ -6,6 +6,7 @@ mod ensembles;
 mod point;
 mod result;
 mod shard;
+mod warnings;
 
 pub use crossing::{first_crossing, quantile};
 pub use ensembles::{

@@ -5,11 +5,8 @@
 
 use super::ensembles::Ensemble;
 use crate::projection::{Calibration, DaysToTarget, Projection};
-use crate::report::kit::format::{aligned, days_label, percent_label, target_label};
-
-/// Failed fits above this fraction of the toys at one exposure point earn a
-/// warning: the quantiles there exclude them and may be biased.
-const FAILED_FRACTION_WARNING: f64 = 0.001;
+use crate::report::kit::format::{aligned, days_label, fit_percent, percent_label, target_label};
+use crate::report::warning_text;
 
 const COLUMNS: [&str; 5] = [
     "target",
@@ -116,40 +113,21 @@ fn grid_day(days: f64) -> String {
     format!("{} d", (days * 100.0).round() / 100.0)
 }
 
-/// Total failed fits of one ensemble, and a warning naming the worst exposure
-/// point when any point loses more than 0.1% of its toys.
+/// Total failed fits of one ensemble, and its warning (worded by
+/// [`warning_text`]) when any point lost more than
+/// [`FAILED_FRACTION_WARNING`](crate::warning::FAILED_FRACTION_WARNING) of its toys.
 fn failed_fits_lines(projection: &Projection, ensemble: &Ensemble) -> String {
-    let toys = ensemble.toys;
-    let failed_fits = ensemble.failed_fits;
     let total_toys = ensemble.total_toys(projection);
     let total_failed = ensemble.total_failed(projection);
     let mut text = format!(
         "{}: {total_failed} of {total_toys} {} ({}), excluded from {}.\n",
         ensemble.heading,
         ensemble.thrown,
-        percent(total_failed, total_toys),
+        fit_percent(total_failed, total_toys),
         ensemble.results
     );
-    let fraction = |failed: usize| failed as f64 / toys as f64;
-    let flagged: Vec<_> = projection
-        .points
-        .iter()
-        .filter(|point| fraction(failed_fits(point)) > FAILED_FRACTION_WARNING)
-        .collect();
-    // `max_by_key` keeps the last of equals; reversed, that is the earliest day.
-    let worst = flagged.iter().rev().max_by_key(|point| failed_fits(point));
-    if let Some(worst) = worst {
-        text.push_str(&format!(
-            "warning: more than 0.1% of {} failed at {} of {} exposure points \
-             (worst: {} of {toys} at {}, {}); {} there may be biased.\n",
-            ensemble.fits,
-            flagged.len(),
-            projection.points.len(),
-            failed_fits(worst),
-            days_label(worst.days),
-            percent(failed_fits(worst), toys),
-            ensemble.results
-        ));
+    if let Some(warning) = projection.failed_fit_warning(ensemble.kind) {
+        text.push_str(&format!("warning: {}\n", warning_text(&warning)));
     }
     text
 }
@@ -210,18 +188,6 @@ fn calibration_table(projection: &Projection) -> Option<String> {
 /// A significance to two decimals, without a negative zero.
 fn two_decimals(value: f64) -> String {
     format!("{:.2}", (value * 100.0).round() / 100.0 + 0.0)
-}
-
-fn percent(part: usize, whole: usize) -> String {
-    if whole == 0 {
-        return "0%".to_string();
-    }
-    let value = 100.0 * part as f64 / whole as f64;
-    if part > 0 && value < 0.01 {
-        "<0.01%".to_string()
-    } else {
-        format!("{value:.2}%")
-    }
 }
 
 /// One line when systematic uncertainties make Z_A saturate, naming the
