@@ -22,8 +22,8 @@ cd "$(dirname "$0")/../.."
 RUNCAST=$(realpath "${RUNCAST:-target/release/runcast}")
 TIMEOUT=${SLURM_TEST_TIMEOUT:-600}
 SCENARIO=scenarios/narrow_peak.yaml
-TOYS=400
-CALIBRATION_TOYS=4000
+TOYS=1000
+CALIBRATION_TOYS=20000
 SEED=20261202
 TASKS=4
 START=$SECONDS
