@@ -413,6 +413,7 @@ mod tests {
         Loaded {
             path: PathBuf::from("scenarios/test.yaml"),
             scenario: Scenario::from_yaml(text).unwrap(),
+            text: text.to_string(),
         }
     }
 
@@ -463,6 +464,37 @@ mod tests {
             (20, 4, None, 7)
         );
         assert_eq!(project.total_toys(), 3 * (20 + 7));
+    }
+
+    #[test]
+    fn calibration_and_total_limits_hold_per_shard() {
+        let loaded = loaded();
+        let calibrate = |toys, shards| {
+            projection_settings(
+                &loaded,
+                &PlanOverrides {
+                    calibrate: Some(toys),
+                    shards,
+                    ..PlanOverrides::default()
+                },
+            )
+        };
+        assert!(calibrate(MAX_TOYS_PER_POINT + 1, 1).is_err());
+        assert!(calibrate(MAX_TOYS_PER_POINT + 1, 2).is_ok());
+        assert!(calibrate(100 * MAX_TOYS_PER_POINT, 100).is_ok());
+        assert!(calibrate(100 * MAX_TOYS_PER_POINT + 1, 100).is_err());
+        let toys = projection_settings(
+            &loaded,
+            &PlanOverrides {
+                toys: Some(MAX_TOYS_PER_POINT + 1),
+                shards: 100,
+                ..PlanOverrides::default()
+            },
+        );
+        assert!(
+            toys.is_err(),
+            "the merge holds every discovery value of a point"
+        );
     }
 
     #[test]
