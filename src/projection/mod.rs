@@ -1,4 +1,4 @@
-//! Projection: the exposure scan, quantiles, days to each target and to exclusion.
+//! Projection: the exposure scan, quantiles, days to each target and to exclusion; shards of its pseudo-experiments, merged exactly.
 
 mod crossing;
 mod days;
