@@ -2,7 +2,7 @@
 
 use runcast::benchmark::BenchmarkError;
 use runcast::binning::BinningError;
-use runcast::projection::ProjectionError;
+use runcast::projection::{ProjectionError, ShardError};
 use runcast::report::ReportError;
 use runcast::scenario::ScenarioError;
 use std::fmt;
@@ -16,6 +16,10 @@ pub enum Error {
         source: ScenarioError,
     },
     Projection(ProjectionError),
+    /// A shard could not be written, or shards not merged.
+    Shard(ShardError),
+    /// sbatch could not be run or refused a script.
+    Slurm(String),
     Binning(BinningError),
     Report(ReportError),
     /// A file the user named could not be written.
@@ -44,6 +48,8 @@ impl fmt::Display for Error {
             } => write!(f, "{source}"),
             Error::Scenario { path, source } => write!(f, "{}: {source}", path.display()),
             Error::Projection(source) => write!(f, "{source}"),
+            Error::Shard(source) => write!(f, "{source}"),
+            Error::Slurm(message) => f.write_str(message),
             Error::Binning(source) => write!(f, "{source}"),
             Error::Report(source) => write!(f, "{source}"),
             Error::Write { path, source } => write!(f, "cannot write {}: {source}", path.display()),
@@ -94,5 +100,11 @@ impl From<BenchmarkError> for Error {
 impl From<ReportError> for Error {
     fn from(source: ReportError) -> Error {
         Error::Report(source)
+    }
+}
+
+impl From<ShardError> for Error {
+    fn from(source: ShardError) -> Error {
+        Error::Shard(source)
     }
 }

@@ -2,11 +2,11 @@
 //! value per command, so every override (`--toys`, `--seed`, ...) and every
 //! limit on the command line is applied in one place.
 
-use crate::cli::{BinningArgs, ProjectArgs, SpectrumArgs};
+use crate::cli::{BinningArgs, PlanArgs, ProjectArgs, SlurmArgs, SpectrumArgs};
 use crate::error::Error;
 use runcast::message::show;
 use runcast::model::{LiveTime, Model};
-use runcast::projection::ProjectionSettings;
+use runcast::projection::{ProjectionSettings, ShardSpec};
 use runcast::scenario::limits::{
     MAX_EXPECTED_COUNT_PER_BIN, MAX_SPECTRUM_EXPOSURES, MAX_THREADS, MAX_TOYS_IN_TOTAL,
     MAX_TOYS_PER_POINT,
@@ -25,18 +25,31 @@ pub const MIN_CALIBRATION_TOYS: usize = 7;
 pub struct Loaded {
     pub path: PathBuf,
     pub scenario: Scenario,
+    /// The file's text, which a shard carries.
+    pub text: String,
 }
 
 impl Loaded {
     pub fn load(path: &Path) -> Result<Loaded, Error> {
-        let scenario = Scenario::load(path).map_err(|source| Error::Scenario {
+        let scenario_error = |source| Error::Scenario {
             path: path.to_path_buf(),
             source,
-        })?;
+        };
+        let text = Scenario::read_text(path).map_err(scenario_error)?;
+        let scenario = Scenario::from_yaml(&text).map_err(scenario_error)?;
         Ok(Loaded {
             path: path.to_path_buf(),
             scenario,
+            text,
         })
+    }
+
+    /// The scenario's file name, as shards record it.
+    pub fn file_name(&self) -> String {
+        self.path.file_name().map_or_else(
+            || "scenario".into(),
+            |name| name.to_string_lossy().into_owned(),
+        )
     }
 
     /// `out`, or `output/<scenario file stem>`.
@@ -83,6 +96,32 @@ struct PlanOverrides {
     asimov_only: bool,
     no_limits: bool,
     calibrate: Option<usize>,
+    /// The shards the projection is split into (0 or 1: not split); the
+    /// limits on calibration toys and on all toys then hold per shard, since
+    /// a shard holds only its own toys and merging keeps calibration counts.
+    shards: usize,
+}
+
+impl PlanOverrides {
+    fn from_args(args: &PlanArgs, shards: usize) -> PlanOverrides {
+        PlanOverrides {
+            toys: args.toys,
+            seed: args.seed,
+            asimov_only: args.asimov_only,
+            no_limits: args.no_limits,
+            calibrate: args.calibrate,
+            shards,
+        }
+    }
+
+    /// The largest shard (the last one, ceil(T/N) of T toys).
+    fn largest_shard(&self) -> ShardSpec {
+        let count = self.shards.max(1);
+        ShardSpec {
+            index: count,
+            count,
+        }
+    }
 }
 
 /// The projection the scenario's plan asks for, with the command line's
@@ -106,9 +145,13 @@ fn projection_settings(
             Normal::standard().sf(1.0)
         )));
     }
+    let largest_shard = overrides.largest_shard();
+    let calibration_share = overrides
+        .calibrate
+        .map(|toys| largest_shard.toys(toys).len());
     for (flag, toys) in [
         ("--toys", overrides.toys),
-        ("--calibrate", overrides.calibrate),
+        ("--calibrate", calibration_share),
     ] {
         if let Some(toys) = toys.filter(|&toys| toys > MAX_TOYS_PER_POINT) {
             return Err(Error::Usage(format!(
@@ -130,12 +173,17 @@ fn projection_settings(
         cl: (!overrides.no_limits).then_some(scenario.plan.cl),
         calibration_toys: overrides.calibrate.unwrap_or(0),
     };
-    if settings.total_toys() > MAX_TOYS_IN_TOTAL {
+    if settings.total_toys_in(largest_shard) > MAX_TOYS_IN_TOTAL {
         return Err(Error::Usage(format!(
-            "--toys/--calibrate: {} pseudo-experiments at each of {} points make {}, more than the {MAX_TOYS_IN_TOTAL} allowed in one projection",
+            "--toys/--calibrate: {} pseudo-experiments at each of {} points make {}, more than the {MAX_TOYS_IN_TOTAL} allowed in one projection{}",
             settings.toys_per_point(),
             settings.days.len(),
-            settings.total_toys()
+            settings.total_toys(),
+            if largest_shard.count > 1 {
+                " or shard"
+            } else {
+                ""
+            }
         )));
     }
     Ok(settings)
@@ -186,6 +234,8 @@ pub struct ProjectOptions {
     /// A pool of this many workers; None for the global pool, and always
     /// None when there are no pseudo-experiments to share out.
     pub threads: Option<usize>,
+    /// Only this shard of the toys, written as a shard file (`--shard K/N`).
+    pub shard: Option<ShardSpec>,
     pub quiet: bool,
 }
 
@@ -193,13 +243,8 @@ impl ProjectOptions {
     pub fn resolve(args: &ProjectArgs) -> Result<ProjectOptions, Error> {
         let threads = check_threads(args.threads)?;
         let loaded = Loaded::load(&args.scenario)?;
-        let overrides = PlanOverrides {
-            toys: args.toys,
-            seed: args.seed,
-            asimov_only: args.asimov_only,
-            no_limits: args.no_limits,
-            calibrate: args.calibrate,
-        };
+        let shards = args.shard.map_or(1, |shard| shard.count);
+        let overrides = PlanOverrides::from_args(&args.plan, shards);
         let settings = projection_settings(&loaded, &overrides)?;
         let model = Model::from_scenario(&loaded.scenario);
         let with_toys = settings.toys_per_point() > 0;
@@ -209,10 +254,71 @@ impl ProjectOptions {
         Ok(ProjectOptions {
             out: loaded.output_directory(args.out.as_deref()),
             threads: threads.filter(|_| with_toys),
+            shard: args.shard,
             quiet: args.quiet,
             loaded,
             model,
             settings,
+        })
+    }
+}
+
+/// `runcast slurm`, resolved: the projection every shard runs, and the
+/// absolute paths the batch scripts use.
+pub struct SlurmOptions {
+    pub loaded: Loaded,
+    pub settings: ProjectionSettings,
+    pub tasks: usize,
+    /// Absolute paths: this runcast binary, the scenario, the output directory.
+    pub runcast: PathBuf,
+    pub scenario: PathBuf,
+    pub out: PathBuf,
+    /// `#SBATCH` options of both scripts, without the prefix.
+    pub sbatch_options: Vec<String>,
+    pub submit: bool,
+}
+
+impl SlurmOptions {
+    pub fn resolve(args: &SlurmArgs) -> Result<SlurmOptions, Error> {
+        if args.tasks == 0 {
+            return Err(Error::Usage("--tasks: must be at least 1".into()));
+        }
+        let loaded = Loaded::load(&args.scenario)?;
+        let settings =
+            projection_settings(&loaded, &PlanOverrides::from_args(&args.plan, args.tasks))?;
+        let model = Model::from_scenario(&loaded.scenario);
+        if settings.toys_per_point() > 0 {
+            check_countable(&loaded, &model, &settings)?;
+        }
+        let mut sbatch_options: Vec<String> = [
+            args.partition.as_ref().map(|p| format!("--partition={p}")),
+            args.time.as_ref().map(|t| format!("--time={t}")),
+        ]
+        .into_iter()
+        .flatten()
+        .chain(args.sbatch_arg.iter().cloned())
+        .collect();
+        if let Some(bad) = sbatch_options.iter().find(|option| option.contains('\n')) {
+            return Err(Error::Usage(format!(
+                "--sbatch-arg {bad:?}: an sbatch option cannot contain a line break"
+            )));
+        }
+        sbatch_options.dedup();
+        let absolute = |path: &Path, what: &str| {
+            std::path::absolute(path)
+                .map_err(|error| Error::Usage(format!("{what} {}: {error}", path.display())))
+        };
+        let runcast = std::env::current_exe()
+            .map_err(|error| Error::Usage(format!("cannot find the runcast binary: {error}")))?;
+        Ok(SlurmOptions {
+            out: absolute(&loaded.output_directory(args.out.as_deref()), "--out")?,
+            scenario: absolute(&loaded.path, "the scenario")?,
+            runcast,
+            tasks: args.tasks,
+            settings,
+            sbatch_options,
+            submit: args.submit,
+            loaded,
         })
     }
 }
@@ -308,6 +414,7 @@ mod tests {
         Loaded {
             path: PathBuf::from("scenarios/test.yaml"),
             scenario: Scenario::from_yaml(text).unwrap(),
+            text: text.to_string(),
         }
     }
 
@@ -358,6 +465,37 @@ mod tests {
             (20, 4, None, 7)
         );
         assert_eq!(project.total_toys(), 3 * (20 + 7));
+    }
+
+    #[test]
+    fn calibration_and_total_limits_hold_per_shard() {
+        let loaded = loaded();
+        let calibrate = |toys, shards| {
+            projection_settings(
+                &loaded,
+                &PlanOverrides {
+                    calibrate: Some(toys),
+                    shards,
+                    ..PlanOverrides::default()
+                },
+            )
+        };
+        assert!(calibrate(MAX_TOYS_PER_POINT + 1, 1).is_err());
+        assert!(calibrate(MAX_TOYS_PER_POINT + 1, 2).is_ok());
+        assert!(calibrate(100 * MAX_TOYS_PER_POINT, 100).is_ok());
+        assert!(calibrate(100 * MAX_TOYS_PER_POINT + 1, 100).is_err());
+        let toys = projection_settings(
+            &loaded,
+            &PlanOverrides {
+                toys: Some(MAX_TOYS_PER_POINT + 1),
+                shards: 100,
+                ..PlanOverrides::default()
+            },
+        );
+        assert!(
+            toys.is_err(),
+            "the merge holds every discovery value of a point"
+        );
     }
 
     #[test]

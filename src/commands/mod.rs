@@ -3,8 +3,10 @@
 mod bench;
 mod binning;
 mod check;
+mod merge;
 mod new;
 mod project;
+mod slurm;
 mod spectrum;
 
 use crate::cli::{Cli, Command};
@@ -22,6 +24,8 @@ pub fn run(cli: Cli) -> Result<(), Error> {
         Command::Binning(args) => binning::run(&args),
         Command::New { file } => new::run(&file),
         Command::Bench(args) => bench::run(&args),
+        Command::Merge { directory } => merge::run(&directory),
+        Command::Slurm(args) => slurm::run(&args),
     }
 }
 

@@ -6,13 +6,16 @@ use crate::error::Error;
 use crate::options::ProjectOptions;
 use crate::progress::toy_progress;
 use crate::stdout;
-use runcast::projection::project;
+use runcast::projection::{self, ShardRun, ShardSpec, project};
 use runcast::report;
 use std::path::Path;
 
 pub fn run(args: &ProjectArgs) -> Result<(), Error> {
     let options = ProjectOptions::resolve(args)?;
     print_warnings(&options.loaded);
+    if let Some(shard) = options.shard {
+        return run_shard(&options, shard);
+    }
     let settings = &options.settings;
     let bar = toy_progress(settings.total_toys(), options.quiet);
     let progress = |done: u64| bar.inc(done);
@@ -28,9 +31,27 @@ pub fn run(args: &ProjectArgs) -> Result<(), Error> {
     stdout::print(&removed_lines(&options.out, &removed))
 }
 
+/// `--shard K/N`: runs the shard's toys and writes its file into the output
+/// directory; `runcast merge` makes the outputs.
+fn run_shard(options: &ProjectOptions, shard: ShardSpec) -> Result<(), Error> {
+    let loaded = &options.loaded;
+    let run = ShardRun::new(
+        loaded.file_name(),
+        loaded.text.clone(),
+        options.settings.clone(),
+    );
+    let bar = toy_progress(options.settings.total_toys_in(shard), options.quiet);
+    let progress = |done: u64| bar.inc(done);
+    let path = with_threads(options.threads, || {
+        projection::run_shard(&options.model, &run, shard, &options.out, &progress)
+    })??;
+    bar.finish_and_clear();
+    stdout::print(&format!("wrote shard {shard}: {}\n", path.display()))
+}
+
 /// The "removed FILE" lines for files of the output set left from an earlier
 /// run that `write_all` removed from `out`.
-fn removed_lines(out: &Path, removed: &[String]) -> String {
+pub(super) fn removed_lines(out: &Path, removed: &[String]) -> String {
     removed
         .iter()
         .map(|name| {
@@ -43,7 +64,7 @@ fn removed_lines(out: &Path, removed: &[String]) -> String {
 }
 
 /// Runs `work` on a pool of `threads` workers (the global pool when None).
-fn with_threads<T: Send>(
+pub(super) fn with_threads<T: Send>(
     threads: Option<usize>,
     work: impl FnOnce() -> T + Send,
 ) -> Result<T, Error> {

@@ -40,7 +40,19 @@ pub fn write_all(
     reports: &[Report],
     family: &[&str],
 ) -> Result<Vec<String>, ReportError> {
-    let _writing = interrupt::start_writing();
+    let writing = interrupt::start_writing();
+    let written = stage_and_commit(dir, reports, family);
+    writing.release();
+    written
+}
+
+/// The set staged and moved in; on any error, including an interruption, the
+/// staging folder is removed (when `Staging` is dropped) before returning.
+fn stage_and_commit(
+    dir: &Path,
+    reports: &[Report],
+    family: &[&str],
+) -> Result<Vec<String>, ReportError> {
     let mut staging = Staging::create(dir)?;
     for report in reports {
         staging.write(report)?;

@@ -185,6 +185,11 @@ impl Scenario {
     /// Reads, parses and validates a scenario file of at most
     /// [`limits::MAX_SCENARIO_BYTES`]; no more than that is ever read.
     pub fn load(path: &Path) -> Result<Scenario, ScenarioError> {
+        Scenario::from_yaml(&Scenario::read_text(path)?)
+    }
+
+    /// The text of a scenario file, refused above [`limits::MAX_SCENARIO_BYTES`].
+    pub fn read_text(path: &Path) -> Result<String, ScenarioError> {
         let read_error = |source| ScenarioError::Read {
             path: path.to_path_buf(),
             source,
@@ -202,7 +207,7 @@ impl Scenario {
                 limit: limits::MAX_SCENARIO_BYTES,
             });
         }
-        Scenario::from_yaml(&text)
+        Ok(text)
     }
 
     /// Parses and validates scenario text; brackets nested deeper than

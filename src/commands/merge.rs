@@ -1,0 +1,23 @@
+//! `runcast merge DIR`: the shards of one run into the outputs of the unsharded run.
+
+use crate::error::Error;
+use crate::stdout;
+use runcast::projection::merge_shards;
+use runcast::report;
+use std::path::Path;
+
+/// Merges the shards in `directory` and writes the projection's files there,
+/// with the summary on stdout, as `runcast project` does. Nothing is written
+/// unless every shard is present, intact and of the same run.
+pub fn run(directory: &Path) -> Result<(), Error> {
+    let (run, projection) = merge_shards(directory)?;
+    let reports = report::render_all(&projection)?;
+    let removed = report::write_all(directory, &reports, &report::PROJECTION_FILES)?;
+    stdout::print(&format!(
+        "merged the shards of {} (seed {})\n",
+        run.scenario_name, run.settings.seed
+    ))?;
+    stdout::print(&report::summary(&projection))?;
+    stdout::print(&format!("wrote {}\n", directory.display()))?;
+    stdout::print(&super::project::removed_lines(directory, &removed))
+}
