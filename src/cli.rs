@@ -1,5 +1,6 @@
 //! Command-line arguments.
 
+use crate::report::{DEFAULT_DPI, DPI_RANGE, FigureFormat};
 use clap::{Args, Parser, Subcommand};
 use std::path::PathBuf;
 
@@ -75,6 +76,8 @@ pub struct ProjectArgs {
     /// Output directory (default: output/<scenario file stem>).
     #[arg(long, value_name = "DIR")]
     pub out: Option<PathBuf>,
+    #[command(flatten)]
+    pub figures: FigureArgs,
     /// Worker threads (default: all cores); results do not depend on it.
     #[arg(long, value_name = "N")]
     pub threads: Option<usize>,
@@ -105,6 +108,8 @@ pub struct SpectrumArgs {
     /// Output directory (default: output/<scenario file stem>).
     #[arg(long, value_name = "DIR")]
     pub out: Option<PathBuf>,
+    #[command(flatten)]
+    pub figures: FigureArgs,
 }
 
 #[derive(Debug, Args)]
@@ -117,4 +122,28 @@ pub struct BinningArgs {
     /// Output directory (default: output/<scenario file stem>).
     #[arg(long, value_name = "DIR")]
     pub out: Option<PathBuf>,
+    #[command(flatten)]
+    pub figures: FigureArgs,
+}
+
+/// The formats figures are written in.
+#[derive(Debug, Args)]
+pub struct FigureArgs {
+    /// Figure formats, a comma list of svg, pdf (vector, font embedded) and png.
+    #[arg(
+        long = "format",
+        value_name = "FORMATS",
+        value_delimiter = ',',
+        default_value = "svg"
+    )]
+    pub formats: Vec<FigureFormat>,
+    /// Resolution of PNG figures in dots per inch (10 to 1200).
+    #[arg(
+        long,
+        value_name = "N",
+        default_value_t = DEFAULT_DPI,
+        value_parser = clap::value_parser!(u32)
+            .range(i64::from(*DPI_RANGE.start())..=i64::from(*DPI_RANGE.end()))
+    )]
+    pub dpi: u32,
 }

@@ -7,9 +7,10 @@ mod new;
 mod project;
 mod spectrum;
 
-use crate::cli::{Cli, Command};
+use crate::cli::{Cli, Command, FigureArgs};
 use crate::error::Error;
 use crate::model::Model;
+use crate::report::FigureFormats;
 use crate::scenario::Scenario;
 use std::path::{Path, PathBuf};
 
@@ -63,4 +64,16 @@ fn check_days(scenario: &Scenario, days: f64) -> Result<(), Error> {
         )));
     }
     Ok(())
+}
+
+/// The figure formats and PNG resolution asked for.
+fn figure_formats(args: &FigureArgs) -> Result<FigureFormats, Error> {
+    FigureFormats::new(&args.formats, args.dpi).ok_or_else(|| {
+        Error::Usage(format!(
+            "--format, --dpi {}: expected at least one format and a resolution from {} to {}",
+            args.dpi,
+            crate::report::DPI_RANGE.start(),
+            crate::report::DPI_RANGE.end()
+        ))
+    })
 }

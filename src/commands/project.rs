@@ -1,6 +1,6 @@
 //! `runcast project`: the main job.
 
-use super::{load_scenario, output_directory};
+use super::{figure_formats, load_scenario, output_directory};
 use crate::cli::ProjectArgs;
 use crate::error::Error;
 use crate::model::Model;
@@ -13,6 +13,7 @@ pub fn run(args: &ProjectArgs) -> Result<(), Error> {
     let scenario = load_scenario(&args.scenario)?;
     let settings = settings(&scenario, args)?;
     let out = output_directory(&args.scenario, args.out.as_deref());
+    let formats = figure_formats(&args.figures)?;
     let model = Model::from_scenario(&scenario);
 
     let bar = toy_progress(settings.total_toys(), args.quiet);
@@ -21,10 +22,10 @@ pub fn run(args: &ProjectArgs) -> Result<(), Error> {
     bar.finish_and_clear();
 
     let reports = report::render_all(&projection)?;
-    let removed = report::write_all(&out, &reports, &report::PROJECTION_FILES)?;
+    let written = report::write_all(&out, reports, &report::PROJECTION_FILES, &formats)?;
     print!("{}", report::summary(&projection));
     println!("wrote {}", out.display());
-    for name in removed {
+    for name in written.removed {
         println!(
             "removed {} (left from an earlier run)",
             out.join(name).display()

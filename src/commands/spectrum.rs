@@ -1,6 +1,6 @@
 //! `runcast spectrum`: pseudo-data spectra at one or more exposures.
 
-use super::{check_days, load_scenario, output_directory};
+use super::{check_days, figure_formats, load_scenario, output_directory};
 use crate::cli::SpectrumArgs;
 use crate::error::Error;
 use crate::report;
@@ -14,12 +14,13 @@ pub fn run(args: &SpectrumArgs) -> Result<(), Error> {
             return Err(Error::Usage(format!("--days {days}: given more than once")));
         }
     }
+    let formats = figure_formats(&args.figures)?;
     let seed = args.seed.unwrap_or(scenario.plan.seed);
     let spectrum = pseudo_data_spectrum(&scenario, &args.days, seed);
     let reports = report::render_spectrum(&spectrum)?;
     let out = output_directory(&args.scenario, args.out.as_deref());
     // Other spectra in the directory are other exposures: nothing is stale.
-    report::write_all(&out, &reports, &[])?;
+    let written = report::write_all(&out, reports, &[], &formats)?;
 
     println!("{}", spectrum.title);
     println!("Pseudo-data with seed {seed}");
@@ -36,8 +37,8 @@ pub fn run(args: &SpectrumArgs) -> Result<(), Error> {
             expected(|bin| bin.signal_plus_background),
         );
     }
-    for written in &reports {
-        println!("wrote {}", out.join(&written.name).display());
+    for name in &written.files {
+        println!("wrote {}", out.join(name).display());
     }
     Ok(())
 }

@@ -13,6 +13,7 @@
 //! disk, writing a product's files as one set.
 
 mod binning;
+mod convert;
 mod error;
 mod interrupt;
 mod kit;
@@ -21,13 +22,14 @@ mod spectrum;
 mod writer;
 
 pub use binning::{BINNING_FILES, BINNING_JSON, BINNING_SVG, binning_table, render_binning};
+pub use convert::{DEFAULT_DPI, DPI_RANGE, FigureFormat, FigureFormats};
 pub use error::ReportError;
 pub use projection::{
     LIMITS_SVG, PROBABILITY_SVG, PROJECTION_CSV, PROJECTION_FILES, PROJECTION_JSON, PROJECTION_SVG,
     render_all, summary,
 };
 pub use spectrum::render_spectrum;
-pub use writer::{write_all, write_new};
+pub use writer::{Written, write_all, write_new};
 
 /// What an output file holds. Figures are marked so that the writer can turn
 /// every figure into another format in one place.

@@ -3,8 +3,9 @@
 
 use plotters::prelude::*;
 
-/// Font family of every text; the viewer picks its own sans-serif face.
-const FONT: &str = "sans-serif";
+/// Font family of every text: the font shipped with runcast (the one PDF
+/// and PNG use), else the viewer's own sans-serif face.
+const FONT: &str = "DejaVu Sans, sans-serif";
 
 /// Toy median: deep ink teal.
 pub const INK_TEAL: RGBColor = RGBColor(0x0b, 0x4f, 0x6c);
