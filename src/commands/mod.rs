@@ -3,6 +3,7 @@
 mod bench;
 mod binning;
 mod check;
+mod compare;
 mod new;
 mod project;
 mod spectrum;
@@ -21,6 +22,7 @@ pub fn run(cli: Cli) -> Result<(), Error> {
         Command::Check { scenario } => check::run(&scenario),
         Command::Spectrum(args) => spectrum::run(&args),
         Command::Binning(args) => binning::run(&args),
+        Command::Compare(args) => compare::run(&args),
         Command::New { file } => new::run(&file),
         Command::Bench(args) => bench::run(&args),
     }

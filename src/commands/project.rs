@@ -5,7 +5,7 @@ use crate::cli::ProjectArgs;
 use crate::error::Error;
 use crate::model::Model;
 use crate::progress::toy_progress;
-use crate::projection::{ProjectionSettings, project};
+use crate::projection::{Projection, ProjectionSettings, project};
 use crate::report;
 use crate::scenario::Scenario;
 
@@ -14,12 +14,7 @@ pub fn run(args: &ProjectArgs) -> Result<(), Error> {
     let settings = settings(&scenario, args)?;
     let out = output_directory(&args.scenario, args.out.as_deref());
     let formats = figure_formats(&args.figures)?;
-    let model = Model::from_scenario(&scenario);
-
-    let bar = toy_progress(settings.total_toys(), args.quiet);
-    let progress = |done: u64| bar.inc(done);
-    let projection = with_threads(args.threads, || project(&model, &settings, &progress))??;
-    bar.finish_and_clear();
+    let projection = projection(&scenario, &settings, args)?;
 
     let reports = report::render_all(&projection)?;
     let written = report::write_all(&out, reports, &report::PROJECTION_FILES, &formats)?;
@@ -34,7 +29,26 @@ pub fn run(args: &ProjectArgs) -> Result<(), Error> {
     Ok(())
 }
 
-fn settings(scenario: &Scenario, args: &ProjectArgs) -> Result<ProjectionSettings, Error> {
+/// The projection of `scenario` with `settings`, on `args.threads` workers,
+/// with a progress bar unless `args.quiet`.
+pub(super) fn projection(
+    scenario: &Scenario,
+    settings: &ProjectionSettings,
+    args: &ProjectArgs,
+) -> Result<Projection, Error> {
+    let model = Model::from_scenario(scenario);
+    let bar = toy_progress(settings.total_toys(), args.quiet);
+    let progress = |done: u64| bar.inc(done);
+    let projection = with_threads(args.threads, || project(&model, settings, &progress))??;
+    bar.finish_and_clear();
+    Ok(projection)
+}
+
+/// What `runcast project` runs with `args` on `scenario`.
+pub(super) fn settings(
+    scenario: &Scenario,
+    args: &ProjectArgs,
+) -> Result<ProjectionSettings, Error> {
     if args.toys == Some(0) && !args.asimov_only {
         return Err(Error::Usage(
             "--toys: must be at least 1 (use --asimov-only to skip pseudo-experiments)".into(),

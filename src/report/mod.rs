@@ -13,6 +13,7 @@
 //! disk, writing a product's files as one set.
 
 mod binning;
+mod compare;
 mod convert;
 mod error;
 mod interrupt;
@@ -22,6 +23,10 @@ mod spectrum;
 mod writer;
 
 pub use binning::{BINNING_FILES, BINNING_JSON, BINNING_SVG, binning_table, render_binning};
+pub use compare::{
+    COMPARE_CSV, COMPARE_FILES, COMPARE_JSON, COMPARE_LIMITS_SVG, COMPARE_PROBABILITY_SVG,
+    COMPARE_SVG, ComparedPlan, Comparison, comparison_table, render_comparison,
+};
 pub use convert::{DEFAULT_DPI, DPI_RANGE, FigureFormat, FigureFormats};
 pub use error::ReportError;
 pub use projection::{
