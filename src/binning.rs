@@ -9,6 +9,7 @@
 
 use crate::asymptotic::AsimovSignificance;
 use crate::likelihood::{FitFailure, Likelihood};
+use crate::model::shapes::Shape;
 use crate::model::{Model, fraction_inside, shape_from_spec};
 use crate::numeric::times_power_of_ten;
 use crate::scenario::{NormUncertainty, Scenario, ShapeSpec};
@@ -54,7 +55,7 @@ pub struct WindowPoint {
 pub struct SignalPeak {
     pub centre: f64,
     /// Gaussian sigma, Breit-Wigner half width at half maximum, or for a
-    /// signal without a peak the range over [`PEAKLESS_WIDTHS_PER_RANGE`].
+    /// signal without a peak the range over `PEAKLESS_WIDTHS_PER_RANGE`.
     pub width: f64,
 }
 
@@ -145,15 +146,16 @@ pub fn scan_binning(scenario: &Scenario, days: f64) -> Result<BinningScan, Binni
     })
 }
 
-/// The peak of a Gaussian or Breit-Wigner signal, clamped into the range; for
-/// other shapes the middle of where the density is highest on the range (the
-/// middle of the range for a flat one), with a width of a fifth of the range.
+/// The peak of a peaked signal shape ([`Shape::peak`]), clamped into the
+/// range; for other shapes the middle of where the density is highest on the
+/// range (the middle of the range for a flat one), with a width of a fifth of
+/// the range.
 pub fn signal_peak(spec: &ShapeSpec, range: [f64; 2]) -> SignalPeak {
-    let (centre, width) = match *spec {
-        ShapeSpec::Gaussian { mean, sigma } => (mean, sigma),
-        ShapeSpec::BreitWigner { mean, width } => (mean, width / 2.0),
-        _ => (
-            densest_point(spec, range),
+    let shape = shape_from_spec(spec, range);
+    let (centre, width) = match shape.peak() {
+        Some(peak) => (peak.centre, peak.width),
+        None => (
+            densest_point(shape.as_ref(), range),
             (range[1] - range[0]) / PEAKLESS_WIDTHS_PER_RANGE,
         ),
     };
@@ -165,9 +167,8 @@ pub fn signal_peak(spec: &ShapeSpec, range: [f64; 2]) -> SignalPeak {
 
 /// The middle of the points of a fine grid where the density is within
 /// rounding of its maximum.
-fn densest_point(spec: &ShapeSpec, range: [f64; 2]) -> f64 {
+fn densest_point(shape: &dyn Shape, range: [f64; 2]) -> f64 {
     const POINTS: usize = 1001;
-    let shape = shape_from_spec(spec);
     let parameters = shape.nominal_parameters();
     let grid: Vec<(f64, f64)> = (0..POINTS)
         .map(|i| {

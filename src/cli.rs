@@ -1,4 +1,9 @@
 //! Command-line arguments.
+//!
+//! The doc comments of the argument types are the `--help` text (clap), where
+//! `<D>` or `<scenario file stem>` stand for values the user supplies; they are
+//! not HTML, and backticks would show in the help.
+#![allow(rustdoc::invalid_html_tags)]
 
 use crate::report::{DEFAULT_DPI, DPI_RANGE, FigureFormat};
 use clap::{Args, Parser, Subcommand};

@@ -31,6 +31,47 @@ fn one_bin_known_background_matches_eq_97() {
     }
 }
 
+/// (s + b) ln(1 + x) - s = b ((1 + x) ln(1 + x) - x) with x = s/b, from the
+/// Taylor series (1 + x) ln(1 + x) - x = sum_{k>=2} (-1)^k x^k / (k (k - 1))
+/// (ln(1 + x) = sum_{k>=1} (-1)^(k+1) x^k / k; common practice), whose terms
+/// neither cancel nor lose precision for small x: the cancellation-free form
+/// of eq. 97 of Cowan et al., EPJC 71 (2011) 1554.
+fn cowan_eq97_small_signal(s: f64, b: f64) -> f64 {
+    let x = s / b;
+    let mut sum = 0.0;
+    let mut power = x * x;
+    for k in 2..40 {
+        let sign = if k % 2 == 0 { 1.0 } else { -1.0 };
+        sum += sign * power / f64::from(k * (k - 1));
+        power *= x;
+    }
+    (2.0 * b * sum).sqrt()
+}
+
+#[test]
+fn tiny_signal_on_a_huge_background_matches_eq_97_to_rounding() {
+    // s/b from 1e-2 down to 1e-10 on b = 1e9 and 1e3 events (Cowan et al. 2011,
+    // eq. 97, in the series form above, valid for x <= 1e-2 where 40 terms
+    // leave x^40 behind). s is rounded to a multiple of the spacing of doubles
+    // near b, so that the Asimov count b + s is held exactly and the test
+    // measures the likelihood alone. Each deviance term is a product of
+    // factors exact to rounding, and the fitted mu enters q0 only at second
+    // order, so Z_A is exact to a few roundings of 1.1e-16: 1e-14 relative
+    // allows about 50.
+    for b in [1e9_f64, 1e3] {
+        let spacing = b.next_up() - b;
+        for decade in 2..=10 {
+            let s = (10f64.powi(-decade) * b / spacing).round() * spacing;
+            let z = asimov_z(&counting_window(s, b, ""), 1.0);
+            let expected = cowan_eq97_small_signal(s, b);
+            assert!(
+                (z / expected - 1.0).abs() < 1e-14,
+                "s/b = 1e-{decade}, b = {b}: Z_A = {z}, eq. 97 gives {expected}"
+            );
+        }
+    }
+}
+
 #[test]
 fn exposure_scales_counts_in_eq_97() {
     // 2.5 live days of s=4/day, b=40/day is s=10, b=100 (Cowan et al. 2011, eq. 97).

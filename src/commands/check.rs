@@ -2,7 +2,7 @@
 
 use super::load_scenario;
 use crate::error::Error;
-use crate::model::{Model, fraction_inside};
+use crate::model::{Model, fraction_inside, shape_from_spec};
 use crate::projection::{ProjectionSettings, project};
 use crate::scenario::{Scenario, ShapeSpec};
 
@@ -76,16 +76,15 @@ fn print_rates(scenario: &Scenario, model: &Model) {
     );
 }
 
-/// The peak ±2 widths (sigma for a Gaussian, half width at half maximum for a
-/// Breit-Wigner), clipped to the range; the whole range for other shapes; None
-/// when the window lies entirely outside the range.
+/// The peak ±2 widths of a peaked shape ([`Shape::peak`](crate::model::shapes::Shape::peak): sigma for a
+/// Gaussian, half width at half maximum for a Breit-Wigner), clipped to the
+/// range; the whole range for other shapes; None when the window lies
+/// entirely outside the range.
 fn peak_window(shape: &ShapeSpec, range: [f64; 2]) -> Option<(f64, f64)> {
-    let (centre, width) = match *shape {
-        ShapeSpec::Gaussian { mean, sigma } => (mean, sigma),
-        ShapeSpec::BreitWigner { mean, width } => (mean, width / 2.0),
-        _ => return Some((range[0], range[1])),
+    let Some(peak) = shape_from_spec(shape, range).peak() else {
+        return Some((range[0], range[1]));
     };
-    let low = (centre - 2.0 * width).max(range[0]);
-    let high = (centre + 2.0 * width).min(range[1]);
+    let low = (peak.centre - 2.0 * peak.width).max(range[0]);
+    let high = (peak.centre + 2.0 * peak.width).min(range[1]);
     (low < high).then_some((low, high))
 }

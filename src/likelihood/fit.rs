@@ -1,10 +1,14 @@
 //! A bounded Newton minimiser for -ln L.
 //!
-//! Each iteration solves H d = -g on the parameters that are free and not held
-//! at a bound, adding a Levenberg-Marquardt damping term to H when it is not
-//! positive definite, then backtracks along d (projected on the bounds) until
-//! the Armijo condition holds (Nocedal and Wright, Numerical Optimization, 2nd
-//! ed., Springer 2006, ch. 3 and 10). Convergence is declared when the Newton
+//! Parameters have bounds (mu >= 0, yield factors >= 0, shape parameters as
+//! their shape declares) and the minimiser keeps to them as bounds: each
+//! iteration holds the parameters that sit at a bound with the gradient
+//! pointing outwards (the active set), solves H d = -g on the others, adding a
+//! Levenberg-Marquardt damping term to H when it is not positive definite,
+//! then backtracks along the projection of theta + s d on the bounds until
+//! the Armijo condition holds for the projected point (Bertsekas, SIAM J.
+//! Control Optim. 20 (1982) 221; Nocedal and Wright, Numerical Optimization,
+//! 2nd ed., Springer 2006, ch. 3, 10 and 16.7). Convergence is declared when the Newton
 //! decrement -g.d, the expected drop of -ln L, falls below 1e-10.
 
 use super::linear::solve_positive_definite;
@@ -18,6 +22,16 @@ const CONVERGED_DECREMENT: f64 = 1e-10;
 /// Below this decrement a step that cannot lower -ln L is rounding, not failure.
 const ROUNDING_DECREMENT: f64 = 1e-6;
 const ARMIJO: f64 = 1e-4;
+/// First damping (relative to the largest diagonal of H) tried when H is not
+/// positive definite, and after a step that no backtracking could accept.
+const INDEFINITE_DAMPING: f64 = 1e-8;
+const FAILED_STEP_DAMPING: f64 = 1e-4;
+/// Beyond this damping the step is the gradient shrunk a hundred-millionfold:
+/// nothing left to try.
+const MAX_DAMPING: f64 = 1e8;
+/// Damping is proportional to each diagonal entry of H, but at least this
+/// fraction of the largest, so that a flat direction is damped too.
+const SMALLEST_DAMPED_DIAGONAL: f64 = 1e-12;
 
 /// Why a fit did not converge.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -30,6 +44,9 @@ pub enum FitFailure {
     Curvature,
     /// The iteration limit was reached.
     IterationLimit,
+    /// A test statistic never crosses the threshold sought (no upper limit):
+    /// it stays below or jumps across it.
+    NoCrossing,
 }
 
 impl fmt::Display for FitFailure {
@@ -39,6 +56,9 @@ impl fmt::Display for FitFailure {
             FitFailure::LineSearch => "no step lowered the negative log-likelihood",
             FitFailure::Curvature => "the Hessian could not be made positive definite",
             FitFailure::IterationLimit => "the iteration limit was reached",
+            FitFailure::NoCrossing => {
+                "no upper limit: the test statistic does not cross its CLs threshold"
+            }
         };
         f.write_str(text)
     }
@@ -56,6 +76,8 @@ pub struct Fitter<'l, 'm> {
     reduced_hessian: Vec<f64>,
     reduced_step: Vec<f64>,
     step: Vec<f64>,
+    /// The gradient at theta, kept while the line search overwrites the workspace's.
+    gradient: Vec<f64>,
 }
 
 impl<'l, 'm> Fitter<'l, 'm> {
@@ -71,6 +93,7 @@ impl<'l, 'm> Fitter<'l, 'm> {
             reduced_hessian: vec![0.0; parameters * parameters],
             reduced_step: vec![0.0; parameters],
             step: vec![0.0; parameters],
+            gradient: vec![0.0; parameters],
         }
     }
 
@@ -179,22 +202,36 @@ impl<'l, 'm> Fitter<'l, 'm> {
         if !nll.is_finite() {
             return Err(FitFailure::InvalidStart);
         }
+        let mut damping_floor = 0.0;
         for _ in 0..MAX_ITERATIONS {
             self.select_free_parameters(fixed_mu.is_some());
             if self.free.is_empty() {
                 return Ok(nll);
             }
-            let decrement = self.newton_step()?;
-            if decrement < CONVERGED_DECREMENT {
+            let decrement = self.newton_step(damping_floor)?;
+            if decrement < CONVERGED_DECREMENT && damping_floor == 0.0 {
                 return Ok(nll);
             }
-            match self.line_search(live_days, data, nll, decrement) {
+            match self.line_search(live_days, data, nll) {
                 Some(trial_nll) => {
                     std::mem::swap(&mut self.theta, &mut self.trial);
                     nll = trial_nll;
+                    damping_floor = 0.0;
                 }
-                None if decrement < ROUNDING_DECREMENT => return Ok(nll),
-                None => return Err(FitFailure::LineSearch),
+                None if decrement < ROUNDING_DECREMENT && damping_floor == 0.0 => return Ok(nll),
+                None => {
+                    damping_floor = next_damping(damping_floor, FAILED_STEP_DAMPING);
+                    if damping_floor > MAX_DAMPING {
+                        return Err(FitFailure::LineSearch);
+                    }
+                    // The search left the derivatives of a rejected point behind.
+                    likelihood.negative_log_likelihood_with_derivatives(
+                        &self.theta,
+                        live_days,
+                        data,
+                        &mut self.work,
+                    );
+                }
             }
         }
         Err(FitFailure::IterationLimit)
@@ -217,9 +254,19 @@ impl<'l, 'm> Fitter<'l, 'm> {
         }
     }
 
-    /// Solves the damped Newton system on the free parameters into `self.step`
-    /// (full length, zero on held parameters); returns the decrement -g.d.
-    fn newton_step(&mut self) -> Result<f64, FitFailure> {
+    /// Solves the damped Newton system (H + lambda D) d = -g on the free
+    /// parameters into `self.step` (full length, zero on held parameters),
+    /// with lambda the smallest of `damping_floor` and its tenfold steps for
+    /// which the matrix is positive definite; returns the decrement -g.d. D is
+    /// the diagonal of |H| (raised to 1e-12 of its largest entry), so damping
+    /// treats parameters of very different scales alike (a signal strength
+    /// whose unit is a million events beside shape coefficients of order
+    /// one; Marquardt, J. SIAM 11 (1963) 431). A floor above zero follows a step that failed: where
+    /// -ln L is nearly flat or concave along some direction (a shape fitted
+    /// to a handful of events) the Newton step can be absurdly long, and
+    /// damping turns it towards the gradient until it is short enough
+    /// (Levenberg-Marquardt; Nocedal and Wright, ch. 10.3).
+    fn newton_step(&mut self, damping_floor: f64) -> Result<f64, FitFailure> {
         let parameters = self.likelihood.parameter_count();
         let free = self.free.len();
         let largest_diagonal = self
@@ -228,22 +275,24 @@ impl<'l, 'm> Fitter<'l, 'm> {
             .map(|&a| self.work.hessian[a * parameters + a].abs())
             .fold(0.0, f64::max)
             .max(1e-300);
-        let mut damping = 0.0;
+        let mut damping = damping_floor;
         let reduced_step = &mut self.reduced_step[..free];
         loop {
             for (i, &a) in self.free.iter().enumerate() {
                 for (k, &b) in self.free.iter().enumerate() {
                     self.reduced_hessian[i * free + k] = self.work.hessian[a * parameters + b];
                 }
-                self.reduced_hessian[i * free + i] += damping * largest_diagonal;
+                let diagonal = self.work.hessian[a * parameters + a].abs();
+                self.reduced_hessian[i * free + i] +=
+                    damping * diagonal.max(SMALLEST_DAMPED_DIAGONAL * largest_diagonal);
                 reduced_step[i] = -self.work.gradient[a];
             }
             if solve_positive_definite(&mut self.reduced_hessian[..free * free], reduced_step, free)
             {
                 break;
             }
-            damping = if damping == 0.0 { 1e-8 } else { damping * 10.0 };
-            if damping > 1e8 {
+            damping = next_damping(damping, INDEFINITE_DAMPING);
+            if damping > MAX_DAMPING {
                 return Err(FitFailure::Curvature);
             }
         }
@@ -256,27 +305,28 @@ impl<'l, 'm> Fitter<'l, 'm> {
         Ok(decrement)
     }
 
-    /// Backtracks from a full Newton step; leaves the accepted point in
-    /// `self.trial` and its derivatives in the workspace. The full step, which
-    /// is almost always accepted, is evaluated with its derivatives at once.
-    /// A step too short to change any parameter is no step: the search stops
-    /// there rather than accept the starting point again.
-    fn line_search(
-        &mut self,
-        live_days: f64,
-        data: &Dataset,
-        nll: f64,
-        decrement: f64,
-    ) -> Option<f64> {
+    /// Backtracks from a full Newton step along the projected path
+    /// P(theta + s d), P clamping to the bounds; leaves the accepted point in
+    /// `self.trial` and its derivatives in the workspace. A point is accepted
+    /// when -ln L falls by at least ARMIJO g.(theta - trial), the decrease
+    /// predicted for the projected point itself, so a step cut short by a
+    /// bound is judged by what it moved (Bertsekas, SIAM J. Control Optim. 20
+    /// (1982) 221, the Armijo rule along the projection arc). The full step,
+    /// which is almost always accepted, is evaluated with its derivatives at
+    /// once. A step too short to change any parameter is no step: the search
+    /// stops there rather than accept the starting point again.
+    fn line_search(&mut self, live_days: f64, data: &Dataset, nll: f64) -> Option<f64> {
         let likelihood = self.likelihood;
+        self.gradient.copy_from_slice(&self.work.gradient);
         self.set_trial(1.0);
+        let predicted = self.predicted_decrease();
         let full_nll = likelihood.negative_log_likelihood_with_derivatives(
             &self.trial,
             live_days,
             data,
             &mut self.work,
         );
-        if full_nll <= nll - ARMIJO * decrement {
+        if sufficient_decrease(nll, full_nll, predicted) {
             return Some(full_nll);
         }
         let mut scale = 1.0;
@@ -286,9 +336,10 @@ impl<'l, 'm> Fitter<'l, 'm> {
             if self.trial == self.theta {
                 return None;
             }
+            let predicted = self.predicted_decrease();
             let trial_nll =
                 likelihood.negative_log_likelihood(&self.trial, live_days, data, &mut self.work);
-            if trial_nll <= nll - ARMIJO * scale * decrement {
+            if sufficient_decrease(nll, trial_nll, predicted) {
                 return Some(likelihood.negative_log_likelihood_with_derivatives(
                     &self.trial,
                     live_days,
@@ -300,6 +351,15 @@ impl<'l, 'm> Fitter<'l, 'm> {
         None
     }
 
+    /// g.(theta - trial): the first-order decrease of -ln L from theta to the trial point.
+    fn predicted_decrease(&self) -> f64 {
+        self.gradient
+            .iter()
+            .zip(self.theta.iter().zip(&self.trial))
+            .map(|(g, (theta, trial))| g * (theta - trial))
+            .sum()
+    }
+
     /// `self.trial` = theta + scale x step, projected on the bounds.
     fn set_trial(&mut self, scale: f64) {
         let parameters = &self.likelihood.model().parameters;
@@ -307,5 +367,21 @@ impl<'l, 'm> Fitter<'l, 'm> {
             self.trial[index] = (self.theta[index] + scale * self.step[index])
                 .clamp(parameter.lower, parameter.upper);
         }
+    }
+}
+
+/// The Armijo condition: -ln L fell from `nll` to `trial_nll` by at least
+/// ARMIJO times the first-order `predicted` decrease, which must be positive
+/// (a projected point that is no descent to first order is not accepted).
+fn sufficient_decrease(nll: f64, trial_nll: f64, predicted: f64) -> bool {
+    predicted > 0.0 && trial_nll <= nll - ARMIJO * predicted
+}
+
+/// The damping after `damping`: `first` from zero, then tenfold.
+fn next_damping(damping: f64, first: f64) -> f64 {
+    if damping == 0.0 {
+        first
+    } else {
+        damping * 10.0
     }
 }

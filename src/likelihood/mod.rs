@@ -50,6 +50,9 @@ pub struct Likelihood<'m> {
     /// For each parameter, the bins whose expectation can depend on it
     /// (empty for a parameter no component uses).
     columns: Vec<Range<usize>>,
+    /// The parameters of each floating scale-free shape, whose common scale
+    /// the gauge term fixes (see [`Likelihood::gauge_terms`]).
+    gauges: Vec<&'m [usize]>,
 }
 
 /// Per-thread scratch space: nothing in the fit loop allocates.
@@ -124,11 +127,17 @@ impl<'m> Likelihood<'m> {
         let columns = (0..model.parameters.len())
             .map(|parameter| column_of(&terms, parameter))
             .collect();
+        let gauges = terms
+            .iter()
+            .filter(|term| term.shape.scale_free())
+            .filter_map(|term| term.floating)
+            .collect();
         Likelihood {
             model,
             terms,
             bins: offset,
             columns,
+            gauges,
         }
     }
 
@@ -155,6 +164,7 @@ impl<'m> Likelihood<'m> {
                 if term.floating.is_none() {
                     term.shape
                         .bin_fractions(term.fixed_parameters, term.edges, &mut fractions);
+                    raise_underflow(&mut fractions);
                 }
                 fractions
             })
@@ -258,6 +268,7 @@ impl<'m> Likelihood<'m> {
                 term.shape
                     .bin_fractions(parameters, term.edges, &mut work.fractions[index]);
             }
+            raise_underflow(&mut work.fractions[index]);
         }
     }
 
@@ -275,6 +286,40 @@ impl<'m> Likelihood<'m> {
         }
         poisson_terms_with_weights(&data.counts, work)
             + self.constraint_terms(theta, live_days, data)
+            + self.gauge_terms(theta)
+    }
+
+    /// The gauge term of each floating scale-free shape with parameters
+    /// beta_1..beta_n: (mean_k beta_k - 1)^2 / 2. Its fractions do not change
+    /// along beta -> c beta, so that direction leaves -ln L flat and its
+    /// Hessian singular; the term fixes the scale at a mean of 1 (the nominal
+    /// scale) and is zero at every minimum, since rescaling any point to mean
+    /// 1 keeps its -ln L. Minima, and so every likelihood ratio, are those
+    /// without it (fixing a gauge, common practice).
+    fn gauge_terms(&self, theta: &[f64]) -> f64 {
+        self.gauges
+            .iter()
+            .map(|parameters| {
+                let offset = gauge_mean(theta, parameters) - 1.0;
+                0.5 * offset * offset
+            })
+            .sum()
+    }
+
+    /// Gradient (mean - 1)/n and Hessian 1/n^2 (every pair, lower triangle)
+    /// of the gauge terms.
+    fn add_gauge_derivatives(&self, theta: &[f64], work: &mut Workspace) {
+        let parameters = self.parameter_count();
+        for gauge in &self.gauges {
+            let n = gauge.len() as f64;
+            let slope = (gauge_mean(theta, gauge) - 1.0) / n;
+            for (k, &a) in gauge.iter().enumerate() {
+                work.gradient[a] += slope;
+                for &b in &gauge[..=k] {
+                    add_lower(&mut work.hessian, parameters, a, b, 1.0 / (n * n));
+                }
+            }
+        }
     }
 
     /// -ln of the constraint terms: a Gaussian (theta - g)^2 / (2 width^2), a
@@ -352,13 +397,14 @@ impl<'m> Likelihood<'m> {
         self.fill_gradient_and_hessian(work);
         self.add_second_derivative_terms(theta, live_days, work);
         self.add_constraint_derivatives(theta, live_days, data, work);
+        self.add_gauge_derivatives(theta, work);
         let parameters = self.parameter_count();
         for a in 0..parameters {
             for b in 0..a {
                 work.hessian[b * parameters + a] = work.hessian[a * parameters + b];
             }
         }
-        total + self.constraint_terms(theta, live_days, data)
+        total + self.constraint_terms(theta, live_days, data) + self.gauge_terms(theta)
     }
 
     /// Expected counts nu_j and their derivatives dnu_j/dtheta_a, from the
@@ -525,6 +571,28 @@ impl Term<'_> {
     }
 }
 
+/// The smallest bin fraction a shape is given, 1e-100.
+const FRACTION_FLOOR: f64 = 1e-100;
+
+/// Raises bin fractions between zero and [`FRACTION_FLOOR`] to it (leaving
+/// NaN ones, which mark parameters outside the shape's domain). A density's
+/// far tail (beyond about 38 sigma of a Gaussian) underflows to zero in double
+/// precision, and a count in a bin that only such tails reach would make
+/// -ln L infinite at every parameter value, so no fit could start. With the
+/// floor one event there weighs against a hypothesis without other
+/// components in that bin by about ln(1e100) = 230, a significance of about
+/// 21 sigma: below the true, astronomically large one, but beyond any target
+/// a projection is asked for. A fraction this small changes no expectation
+/// that has any other component in it, even in its last bit. Expectations
+/// that vanish because a yield parameter is zero stay zero.
+fn raise_underflow(fractions: &mut [f64]) {
+    for fraction in fractions.iter_mut() {
+        if (0.0..FRACTION_FLOOR).contains(fraction) {
+            *fraction = FRACTION_FLOOR;
+        }
+    }
+}
+
 /// nu - n + n ln(n/nu), with 0 ln 0 = 0; infinite for an invalid expectation.
 fn poisson_deviance_term(n: f64, nu: f64) -> f64 {
     if poisson::is_valid(n, nu) {
@@ -567,6 +635,11 @@ fn column_of(terms: &[Term], parameter: usize) -> Range<usize> {
         .map(|term| term.offset..term.offset + term.bins)
         .reduce(|a, b| a.start.min(b.start)..a.end.max(b.end))
         .unwrap_or(0..0)
+}
+
+/// Mean of theta over `indices`.
+fn gauge_mean(theta: &[f64], indices: &[usize]) -> f64 {
+    indices.iter().map(|&p| theta[p]).sum::<f64>() / indices.len() as f64
 }
 
 /// Product of theta over `indices`, skipping index `skip`.

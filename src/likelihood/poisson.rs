@@ -10,22 +10,49 @@ use std::f64::consts::LN_2;
 /// (see [`is_valid`]). A bin without counts gives (nu, 1, 0).
 ///
 /// With e = (nu - n)/nu, the logarithm is ln(n/nu) = ln(1 - e), evaluated by
-/// [`ln_ratio`] from e itself when n/nu is near one, so a term stays accurate
-/// to rounding even when nu and n are both in the millions and agree closely.
+/// [`ReducedLogarithm`] from e itself when n/nu is near one, and the term itself by
+/// [`deviance`] without cancellation, so it stays accurate to rounding even
+/// when nu and n are in the billions and differ by a fraction of an event.
 #[inline(always)]
 pub fn bin_terms(n: f64, nu: f64) -> (f64, f64, f64) {
     let inverse = 1.0 / nu;
     let excess = (nu - n) * inverse;
     let ratio = n * inverse;
     if n > 0.0 {
-        (
-            nu - n + n * ln_ratio(ratio, -excess),
-            excess,
-            ratio * inverse,
-        )
+        (deviance(n, nu, ratio, excess), excess, ratio * inverse)
     } else {
         (nu, 1.0, 0.0)
     }
+}
+
+/// The deviance term nu - n + n ln(n/nu) of a bin with n > 0, given ratio =
+/// n/nu and excess = (nu - n)/nu.
+///
+/// With the reduction of [`ReducedLogarithm`], ln(n/nu) = k ln 2 + 2s +
+/// 2 s^3 P(s^2), so the term is
+///
+///   nu - n + n (k ln 2 + 2s) + 2 n s^3 P(s^2).
+///
+/// Near one (k = 0, f = r = n/nu - 1, s = r/(2 + r)) the first part is about
+/// nu r^2/2 and would cancel; there r = 2s/(1 - s) and n = nu (1 + s)/(1 - s)
+/// give exactly nu - n + 2 n s = nu s r, so the term is
+///
+///   nu s r + 2 n s^3 P(s^2),
+///
+/// whose second part is below 0.05 of the first: no cancellation, and the
+/// term keeps its relative precision however close n is to nu. (The series:
+/// Abramowitz and Stegun, Handbook of Mathematical Functions, 4.1.28, from
+/// memory; the algebra by hand.)
+#[inline(always)]
+fn deviance(n: f64, nu: f64, ratio: f64, excess: f64) -> f64 {
+    let log = ReducedLogarithm::of(ratio, -excess);
+    let s = log.s;
+    let leading = if log.exponent == 0.0 {
+        nu * s * log.f
+    } else {
+        nu - n + n * (log.exponent * LN_2 + 2.0 * s)
+    };
+    leading + 2.0 * n * s * (s * s) * log.series
 }
 
 /// Whether nu can be the expectation of a bin that observed n: positive, or
@@ -89,7 +116,7 @@ fn terms_with_weights_portable(
         let ratio = n * inverse;
         let excess = (nu - n) * inverse;
         let term = if n > 0.0 {
-            nu - n + n * ln_ratio(ratio, -excess)
+            deviance(n, nu, ratio, excess)
         } else {
             nu
         };
@@ -132,34 +159,58 @@ const ODD_RECIPROCALS: [f64; 9] = [
     1.0 / 19.0,
 ];
 
-/// ln(ratio) for a positive normal `ratio`, given `ratio_minus_one`, its
-/// difference from one computed without cancellation.
+/// ln(ratio) for a positive normal `ratio` in pieces, given `ratio_minus_one`,
+/// its difference from one computed without cancellation.
 ///
 /// With ratio = 2^k m, m in [sqrt(1/2), sqrt(2)) and f = m - 1 (exact, or
 /// `ratio_minus_one` itself when k = 0), s = f / (2 + f) and
 ///
 ///   ln(ratio) = k ln 2 + ln((1 + s)/(1 - s)) = k ln 2 + 2 (s + s^3/3 + s^5/5 + ...)
+///           = k ln 2 + 2 s + 2 s z P(z),  z = s^2,  P(z) = sum_j z^j / (2j + 3)
 ///
 /// (Abramowitz and Stegun, Handbook of Mathematical Functions, 4.1.28, from
 /// memory); |s| <= 3 - 2 sqrt 2 = 0.172 makes the series converge fast.
-#[inline(always)]
-pub fn ln_ratio(ratio: f64, ratio_minus_one: f64) -> f64 {
-    let bits = ratio.to_bits();
-    let offset = bits.wrapping_sub(REDUCTION_ORIGIN);
-    // k + 1023 as the exponent field of an integer shifted logically, so that no
-    // 64-bit signed shift or integer-to-float conversion is needed.
-    let biased_exponent = (offset >> 52).wrapping_add(1023) & 0x7FF;
-    let mantissa = f64::from_bits(bits.wrapping_sub(offset & 0xFFF0_0000_0000_0000));
-    let exponent = f64::from_bits(0x4330_0000_0000_0000 | biased_exponent)
-        - (4_503_599_627_370_496.0 + 1023.0);
-    let f = if exponent == 0.0 {
-        ratio_minus_one
-    } else {
-        mantissa - 1.0
-    };
-    let s = f / (2.0 + f);
-    let z = s * s;
-    exponent * LN_2 + (2.0 * s + 2.0 * s * z * odd_series(z))
+struct ReducedLogarithm {
+    /// k.
+    exponent: f64,
+    f: f64,
+    s: f64,
+    /// P(s^2).
+    series: f64,
+}
+
+impl ReducedLogarithm {
+    #[inline(always)]
+    fn of(ratio: f64, ratio_minus_one: f64) -> ReducedLogarithm {
+        let bits = ratio.to_bits();
+        let offset = bits.wrapping_sub(REDUCTION_ORIGIN);
+        // k + 1023 as the exponent field of an integer shifted logically, so that no
+        // 64-bit signed shift or integer-to-float conversion is needed.
+        let biased_exponent = (offset >> 52).wrapping_add(1023) & 0x7FF;
+        let mantissa = f64::from_bits(bits.wrapping_sub(offset & 0xFFF0_0000_0000_0000));
+        let exponent = f64::from_bits(0x4330_0000_0000_0000 | biased_exponent)
+            - (4_503_599_627_370_496.0 + 1023.0);
+        let f = if exponent == 0.0 {
+            ratio_minus_one
+        } else {
+            mantissa - 1.0
+        };
+        let s = f / (2.0 + f);
+        ReducedLogarithm {
+            exponent,
+            f,
+            s,
+            series: odd_series(s * s),
+        }
+    }
+
+    /// ln(ratio) = k ln 2 + 2 s + 2 s z P(z): the logarithm [`deviance`] is
+    /// built from, checked on its own by the tests.
+    #[cfg(test)]
+    fn ln(&self) -> f64 {
+        let (s, z) = (self.s, self.s * self.s);
+        self.exponent * LN_2 + (2.0 * s + 2.0 * s * z * self.series)
+    }
 }
 
 /// sum_j z^j / (2j + 3) over [`ODD_RECIPROCALS`], in pairs and powers of z
@@ -188,7 +239,7 @@ mod tests {
     /// Against the standard library's ln, accurate to within an ulp (common
     /// practice for checking a series implementation), over many decades.
     #[test]
-    fn ln_ratio_matches_the_library_logarithm() {
+    fn logarithm_matches_the_library_logarithm() {
         let mut x = 1e-300_f64;
         while x < 1e300 {
             for y in [
@@ -198,7 +249,7 @@ mod tests {
                 x * SQRT_2,
                 x * (SQRT_2 - 1e-9),
             ] {
-                let got = ln_ratio(y, y - 1.0);
+                let got = ReducedLogarithm::of(y, y - 1.0).ln();
                 assert!(
                     difference(got, y.ln()) < 4e-16,
                     "ln({y}) = {got}, {}",
@@ -212,10 +263,10 @@ mod tests {
     /// Near one the answer comes from ratio - 1 alone: ln(1 + e) = e - e^2/2 + e^3/3
     /// (Taylor series), to full relative precision for tiny e.
     #[test]
-    fn ln_ratio_keeps_relative_precision_near_one() {
+    fn logarithm_keeps_relative_precision_near_one() {
         for e in [1e-3_f64, -1e-3, 1e-9, -1e-9, 1e-17, 3e-300] {
             let expected = e.ln_1p();
-            let got = ln_ratio(1.0 + e, e);
+            let got = ReducedLogarithm::of(1.0 + e, e).ln();
             assert!(
                 (got - expected).abs() <= 4e-16 * expected.abs(),
                 "ln(1 + {e}) = {got}, {expected}"
@@ -224,8 +275,12 @@ mod tests {
     }
 
     /// The bin terms against the definitions nu - n + n ln(n/nu) (written as
-    /// nu - n - n ln_1p((nu - n)/n) so that it does not cancel when nu is close
-    /// to n), 1 - n/nu and n/nu^2, and the empty-bin case.
+    /// nu - n - n ln_1p((nu - n)/n), whose logarithm keeps its relative
+    /// precision), 1 - n/nu and n/nu^2, and the empty-bin case. The sum still
+    /// cancels when nu is close to n: it is good to rounding times its
+    /// condition number
+    /// (|nu - n| + |n ln(n/nu)|) / term, which sets the tolerance (precision
+    /// near one is checked against a series below).
     #[test]
     fn bin_terms_match_direct_formulas() {
         for (n, nu) in [
@@ -235,9 +290,11 @@ mod tests {
             (7.0, 0.01),
         ] {
             let (term, weight, curvature) = bin_terms(n, nu);
-            let direct = nu - n - n * ((nu - n) / n).ln_1p();
+            let logarithm = -n * ((nu - n) / n).ln_1p();
+            let direct = nu - n + logarithm;
+            let condition = ((nu - n).abs() + logarithm.abs()) / direct;
             assert!(
-                difference(term, direct) < 1e-14,
+                difference(term, direct) < 1e-14 * condition.max(1.0),
                 "{n}, {nu}: {term} vs {direct}"
             );
             assert!(difference(weight, 1.0 - n / nu) < 1e-15);
@@ -245,6 +302,35 @@ mod tests {
         }
         assert_eq!(bin_terms(0.0, 2.5), (2.5, 1.0, 0.0));
         assert_eq!(bin_terms(0.0, 0.0), (0.0, 1.0, 0.0));
+    }
+
+    /// n ln(n/nu) - (n - nu) = nu h(r), r = (n - nu)/nu, against the Taylor
+    /// series h(r) = sum_{k>=2} (-1)^k r^k / (k (k - 1)) (from ln(1 + r) =
+    /// sum_{k>=1} (-1)^(k+1) r^k / k; common practice), with n and nu a
+    /// whole number of double spacings apart so that r is exact: the term is
+    /// about nu r^2/2 and must keep its relative precision as r shrinks.
+    #[test]
+    fn deviance_near_one_keeps_relative_precision() {
+        let nu = 2f64.powi(30);
+        let spacing = nu.next_up() - nu;
+        for steps in [1e7, -1e7, 4e3, -4e3, 9.0, -9.0, 1.0] {
+            let n = nu + steps * spacing;
+            let r = (n - nu) / nu;
+            let mut series = 0.0;
+            let mut power = r * r;
+            for k in 2..30 {
+                let sign = if k % 2 == 0 { 1.0 } else { -1.0 };
+                series += sign * power / f64::from(k * (k - 1));
+                power *= r;
+            }
+            let (term, _, _) = bin_terms(n, nu);
+            // A handful of roundings in the product form (1.1e-16 each).
+            assert!(
+                (term / (nu * series) - 1.0).abs() < 1e-15,
+                "r = {r}: {term} vs {}",
+                nu * series
+            );
+        }
     }
 
     /// The 256-bit build of the Poisson pass against the portable one, bit for

@@ -5,7 +5,7 @@
 //! treatment of Cousins and Highland, Nucl. Instrum. Meth. A 320 (1992) 331; a
 //! known yield is the special case of a single node.
 
-use crate::numeric::solve_increasing;
+use crate::numeric::{Crossing, solve_increasing};
 use statrs::function::gamma::gamma_ur;
 
 /// The fewest Gauss-Hermite nodes per uncertain yield: exact for polynomials
@@ -142,13 +142,14 @@ pub fn poisson_cls(
 /// The upper limit on mu at CLs = alpha for one observed count. With a known,
 /// vanishing background it is the classical Poisson upper limit, e.g. 3.00
 /// signal events for n = 0 at 95% CL (Particle Data Group, statistics review,
-/// table of Poisson limits).
+/// table of Poisson limits). None when 1 - CLs cannot be bracketed around
+/// 1 - alpha.
 pub fn poisson_upper_limit(
     observed: f64,
     signal: &UncertainYield,
     background: &UncertainYield,
     alpha: f64,
-) -> f64 {
+) -> Option<f64> {
     let mean_signal = signal.expectation(|s| s).max(f64::MIN_POSITIVE);
     // 1 - CLs increases with mu from 0; solve 1 - CLs = 1 - alpha.
     let guess = (observed + 3.0) / mean_signal;
@@ -156,8 +157,7 @@ pub fn poisson_upper_limit(
         Ok(1.0 - poisson_cls(observed, signal, background, mu))
     })
     .ok()
-    .flatten()
-    .unwrap_or(f64::INFINITY)
+    .and_then(Crossing::root)
 }
 
 #[cfg(test)]
@@ -169,7 +169,7 @@ mod tests {
             UncertainYield::known(signal),
             UncertainYield::known(background),
         );
-        poisson_upper_limit(observed, &s, &b, 0.05)
+        poisson_upper_limit(observed, &s, &b, 0.05).unwrap()
     }
 
     #[test]
@@ -200,14 +200,14 @@ mod tests {
         let nodes = standard_normal_nodes(QUADRATURE_NODES);
         let signal = UncertainYield::known(1.0);
         let uncertain = UncertainYield::gaussian(3.0, 1.0, &nodes);
-        let n0 = poisson_upper_limit(0.0, &signal, &uncertain, 0.05);
+        let n0 = poisson_upper_limit(0.0, &signal, &uncertain, 0.05).unwrap();
         assert!((n0 - 2.9957).abs() < 1e-3, "{n0}");
         let known = known_limit(5.0, 1.0, 3.0);
-        let smeared = poisson_upper_limit(5.0, &signal, &uncertain, 0.05);
+        let smeared = poisson_upper_limit(5.0, &signal, &uncertain, 0.05).unwrap();
         assert!(smeared > known, "{smeared} vs {known}");
         // A vanishing width gives back the known-background limit.
         let sharp = UncertainYield::gaussian(3.0, 1e-9, &nodes);
-        assert!((poisson_upper_limit(5.0, &signal, &sharp, 0.05) - known).abs() < 1e-6);
+        assert!((poisson_upper_limit(5.0, &signal, &sharp, 0.05).unwrap() - known).abs() < 1e-6);
     }
 
     #[test]

@@ -7,7 +7,7 @@ use super::{
 use crate::ensemble::{EnsembleOutcome, EnsemblePlan, Family, Generator, run_ensemble};
 use crate::likelihood::{Dataset, FitFailure, Likelihood, UpperLimitTest};
 use crate::model::{Constraint, Model, SIGNAL_STRENGTH};
-use crate::numeric::solve_increasing;
+use crate::numeric::{Crossing, solve_increasing};
 
 /// The bands of expected limits, in the order of every `*_band` field.
 pub const BAND_SIGMAS: [f64; 4] = [-2.0, -1.0, 1.0, 2.0];
@@ -15,9 +15,9 @@ pub const BAND_SIGMAS: [f64; 4] = [-2.0, -1.0, 1.0, 2.0];
 /// Asymptotic expected CLs limits on mu at one exposure.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct AsymptoticLimits {
-    /// Median expected upper limit on mu.
+    /// Median expected upper limit on mu; infinite when no mu is excluded.
     pub median: f64,
-    /// Expected limits at -2, -1, +1, +2 sigma.
+    /// Expected limits at -2, -1, +1, +2 sigma; infinite where unbounded.
     pub band: [f64; 4],
     /// sigma_A = mu / sqrt(q~_mu,A) at the median limit (Cowan et al. 2011, eq. 31).
     pub sigma: f64,
@@ -38,10 +38,16 @@ pub fn asymptotic_limits(
     test.fit_free(live_days, &data)?;
     let mut limit_at = |n_sigma: f64| -> Result<f64, FitFailure> {
         let level = expected_limit_significance(alpha, n_sigma);
-        let limit = solve_increasing(1.0, level, |mu| {
+        let crossing = solve_increasing(1.0, level, |mu| {
             Ok(test.q_tilde(live_days, &data, mu)?.sqrt())
         })?;
-        Ok(limit.unwrap_or(f64::INFINITY))
+        match crossing {
+            Crossing::At(mu) => Ok(mu),
+            // No signal strength is excluded: an unbounded limit, reported
+            // as absent by the projection.
+            Crossing::OutOfReach => Ok(f64::INFINITY),
+            Crossing::AtOrigin | Crossing::NoRoot => Err(FitFailure::NoCrossing),
+        }
     };
     let median = limit_at(0.0)?;
     let band = [
@@ -74,7 +80,7 @@ fn background_only(likelihood: &Likelihood) -> Vec<f64> {
 ///
 /// A single counting window whose uncertainties are all Gaussian constraints on
 /// yields gets the exact Poisson CLs limit, averaged over those constraints
-/// around each pseudo-experiment's global observables ([`CountingWindow`]).
+/// around each pseudo-experiment's global observables (`CountingWindow`).
 /// Otherwise each pseudo-experiment's q~_mu comes from profile-likelihood fits,
 /// which carry the systematic uncertainties, and its CLs from the asymptotic
 /// formulae with sigma = `sigma` (the Asimov sigma_A).
@@ -94,7 +100,7 @@ pub fn toy_limit_ensemble(
             streams,
             plan,
             || (),
-            |(), data| Some(window.upper_limit(data, alpha)),
+            |(), data| window.upper_limit(data, alpha),
         ),
         None => run_ensemble(
             &generator,
@@ -201,8 +207,9 @@ impl CountingWindow {
     }
 
     /// The exact CLs limit of one pseudo-experiment, the yields smeared by
-    /// their constraints around its global observables.
-    fn upper_limit(&self, data: &Dataset, alpha: f64) -> f64 {
+    /// their constraints around its global observables; None (a failure) when
+    /// no limit is found.
+    fn upper_limit(&self, data: &Dataset, alpha: f64) -> Option<f64> {
         let observed = &data.global_observables;
         let signal = match self.signal_constraint {
             Some((index, width)) => UncertainYield::gaussian(

@@ -11,7 +11,11 @@ impl Model {
     /// yield factor, one factor per background whose normalisation is uncertain,
     /// and the parameters of every background shape marked `float_shape`.
     pub fn from_scenario(scenario: &Scenario) -> Model {
-        let mut builder = Builder::default();
+        let mut builder = Builder {
+            parameters: Vec::new(),
+            constraints: Vec::new(),
+            range: scenario.observable.range,
+        };
         builder.parameters.push(Parameter {
             name: "signal_strength".into(),
             nominal: 1.0,
@@ -57,10 +61,11 @@ pub fn bin_edges(range: [f64; 2], width: f64) -> Vec<f64> {
         .collect()
 }
 
-#[derive(Default)]
 struct Builder {
     parameters: Vec<Parameter>,
     constraints: Vec<Constraint>,
+    /// The observable's range, on which every shape is normalised.
+    range: [f64; 2],
 }
 
 impl Builder {
@@ -89,7 +94,7 @@ impl Builder {
         if let Some(width) = signal.yield_uncertainty {
             yield_parameters.push(self.yield_factor("signal.yield_factor".into(), Some(width)));
         }
-        let shape = shape_from_spec(&signal.shape);
+        let shape = shape_from_spec(&signal.shape, self.range);
         Component {
             name: "signal".into(),
             is_signal: true,
@@ -117,18 +122,15 @@ impl Builder {
             }
             (Some(NormUncertainty::Free), None) => vec![self.yield_factor(factor_name, None)],
         };
-        let shape = shape_from_spec(&background.shape);
+        let shape = shape_from_spec(&background.shape, self.range);
         let shape_parameters = if background.float_shape {
             let names = shape.parameter_names();
             let indices = names
                 .iter()
                 .zip(shape.nominal_parameters())
-                .map(|(name, nominal)| {
-                    self.add_parameter(
-                        format!("{}.{}", background.name, name),
-                        nominal,
-                        f64::NEG_INFINITY,
-                    )
+                .zip(shape.parameter_lower_bounds())
+                .map(|((name, nominal), lower)| {
+                    self.add_parameter(format!("{}.{}", background.name, name), nominal, lower)
                 })
                 .collect();
             ShapeParameters::Floating(indices)
@@ -159,21 +161,22 @@ pub fn fraction_inside(spec: &ShapeSpec, range: [f64; 2], low: f64, high: f64) -
         }
     }
     let window = usize::from(low > range[0]);
-    let shape = shape_from_spec(spec);
+    let shape = shape_from_spec(spec, range);
     let mut fractions = vec![0.0; edges.len() - 1];
     shape.bin_fractions(&shape.nominal_parameters(), &edges, &mut fractions);
     fractions[window]
 }
 
-/// The shape a scenario names.
-pub fn shape_from_spec(spec: &ShapeSpec) -> Box<dyn shapes::Shape> {
+/// The shape a validated scenario names, on the observable's `range`.
+pub fn shape_from_spec(spec: &ShapeSpec, range: [f64; 2]) -> Box<dyn shapes::Shape> {
     match spec {
         ShapeSpec::Gaussian { mean, sigma } => Box::new(shapes::Gaussian::new(*mean, *sigma)),
         ShapeSpec::BreitWigner { mean, width } => Box::new(shapes::BreitWigner::new(*mean, *width)),
         ShapeSpec::Exponential { slope } => Box::new(shapes::Exponential::new(*slope)),
-        ShapeSpec::Polynomial { coefficients } => {
-            Box::new(shapes::Polynomial::new(coefficients.clone()))
-        }
+        ShapeSpec::Polynomial { coefficients } => Box::new(
+            shapes::Polynomial::new(coefficients, range)
+                .expect("validation refuses polynomials that are no density on the range"),
+        ),
         ShapeSpec::Flat {} => Box::new(shapes::Flat),
     }
 }

@@ -39,6 +39,31 @@ impl LiveTime {
         }
         self.live_fraction * (scaled_days + remaining)
     }
+
+    /// The first calendar day by which `live_days` live days have accumulated:
+    /// the inverse of [`LiveTime::live_days`], which is continuous and
+    /// non-decreasing, so the earliest day of a stretch where no live time
+    /// accrues (a period of `rate_scale` 0) is returned, never a day inside it.
+    ///
+    /// T(L) = start of the period in which live_fraction x (scaled days so far)
+    /// reaches L, plus the days still needed at that period's rate scale.
+    pub fn calendar_days(&self, live_days: f64) -> f64 {
+        let mut remaining = live_days / self.live_fraction;
+        let mut start = 0.0;
+        for &(length, scale) in &self.periods {
+            let accrued = length * scale;
+            if remaining <= accrued {
+                return if remaining > 0.0 {
+                    start + remaining / scale
+                } else {
+                    start
+                };
+            }
+            remaining -= accrued;
+            start += length;
+        }
+        start + remaining
+    }
 }
 
 #[cfg(test)]
@@ -75,5 +100,30 @@ mod tests {
         assert_eq!(live.live_days(10.0), 0.0);
         assert_eq!(live.live_days(20.0), 5.0);
         assert_eq!(live.live_days(25.0), 10.0);
+    }
+
+    #[test]
+    fn calendar_days_inverts_live_days_outside_pauses() {
+        // A commissioning period, a pause and full rate (all invented): every
+        // calendar day where live time accrues maps back to itself.
+        let live = schedule(0.8, &[(20.0, 0.5), (100.0, 0.0), (30.0, 2.0)]);
+        for days in [0.5, 7.0, 20.0, 120.5, 133.0, 150.0, 151.0, 400.0] {
+            let back = live.calendar_days(live.live_days(days));
+            assert!((back - days).abs() < 1e-12 * days, "{days} -> {back}");
+        }
+    }
+
+    #[test]
+    fn calendar_days_never_fall_inside_a_pause() {
+        // Live time 8 is reached on day 20 and kept until day 120: the first
+        // day with it is 20; anything more needs days after the pause.
+        let live = schedule(0.8, &[(20.0, 0.5), (100.0, 0.0)]);
+        assert_eq!(live.calendar_days(8.0), 20.0);
+        assert!((live.calendar_days(8.0 + 0.8) - 121.0).abs() < 1e-12);
+        // A leading pause: no live time is had from day 0; the first live day
+        // after it ends.
+        let late = schedule(1.0, &[(10.0, 0.0)]);
+        assert_eq!(late.calendar_days(0.0), 0.0);
+        assert!((late.calendar_days(1.0) - 11.0).abs() < 1e-12);
     }
 }

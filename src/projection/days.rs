@@ -2,19 +2,23 @@
 
 use super::crossing::first_crossing;
 use super::{DaysToExclusion, DaysToTarget, ExposurePoint, ProjectionError};
-use crate::asymptotic::AsimovSignificance;
+use crate::asymptotic::{AsimovSignificance, significance};
 use crate::likelihood::{FitFailure, Likelihood};
 use crate::limits::asymptotic_limits;
-use crate::model::Model;
+use crate::model::{LiveTime, Model};
 use crate::numeric::bisect_log;
 
-/// Days to each target: Z_A root-found, the toy median with Z^2 linear in days,
-/// and the days where 50% and 90% of the pseudo-experiments reach the target.
+/// Days to each target: Z_A root-found, the toy median with Z^2 linear in live
+/// days, and the days where 50% and 90% of the `toys` pseudo-experiments per
+/// point reach the target (their fractions turned into significances, see
+/// [`fraction_as_significance_squared`], also linear in live days), each toy
+/// crossing mapped back to the first calendar day with that live time.
 pub(super) fn days_to_targets(
     model: &Model,
     asimov: &mut AsimovSignificance,
     points: &[ExposurePoint],
     targets: &[f64],
+    toys: usize,
 ) -> Result<Vec<DaysToTarget>, ProjectionError> {
     let last_live_days = points.last().map_or(1.0, |p| p.live_days).max(1e-9);
     let saturation_z = asimov
@@ -44,18 +48,27 @@ pub(super) fn days_to_targets(
                     })
             })?;
             let z_squared = toy_series(points, |p| p.z_median.map(|z| z * z));
-            let probability = toy_series(points, |p| p.probability[index].toys);
+            let reach = toy_series(points, |p| {
+                let converged = toys.saturating_sub(p.failed_fits);
+                p.probability[index]
+                    .toys
+                    .map(|fraction| fraction_as_significance_squared(fraction, target, converged))
+            });
+            let reached_by = |fraction: f64| {
+                let z = target + significance(1.0 - fraction);
+                z * z
+            };
             let crossing = |series: &Option<Vec<f64>>, level| {
                 series
                     .as_ref()
-                    .and_then(|values| first_crossing(&days, values, level))
+                    .and_then(|values| toy_crossing(&model.live_time, points, values, level))
             };
             Ok(DaysToTarget {
                 target,
                 asimov_days,
                 median_days: crossing(&z_squared, target * target),
-                p50_days: crossing(&probability, 0.5),
-                p90_days: crossing(&probability, 0.9),
+                p50_days: crossing(&reach, reached_by(0.5)),
+                p90_days: crossing(&reach, reached_by(0.9)),
                 saturation_z,
             })
         })
@@ -63,9 +76,11 @@ pub(super) fn days_to_targets(
 }
 
 /// Days until the median expected limit on mu falls to 1: asymptotically
-/// root-found, and from the toy medians with 1/limit^2 linear in days (exact
-/// when statistics dominate, as the limit then falls as 1/sqrt(exposure);
-/// common practice).
+/// root-found, and from the toy medians with 1/limit^2 linear in live days
+/// (exact when statistics dominate, as the limit then falls as
+/// 1/sqrt(exposure); common practice), mapped back to the first calendar day
+/// with that live time. A point without a limit (no live time, or nothing
+/// excluded at any mu) counts as 1/limit^2 = 0.
 pub(super) fn days_to_exclusion(
     likelihood: &Likelihood,
     points: &[ExposurePoint],
@@ -93,11 +108,51 @@ pub(super) fn days_to_exclusion(
             })?;
         Ok(1.0 / (limits.median * limits.median))
     })?;
-    let toy_sensitivity = toy_series(points, |p| p.limit_median.map(|l| 1.0 / (l * l)));
+    let with_toys = points.iter().any(|p| p.limit_median.is_some());
+    let toy_sensitivity: Option<Vec<f64>> = with_toys.then(|| {
+        points
+            .iter()
+            .map(|p| inverse_squared(p.limit_median))
+            .collect()
+    });
     Ok(DaysToExclusion {
         asimov_days,
-        median_days: toy_sensitivity.and_then(|values| first_crossing(&days, &values, 1.0)),
+        median_days: toy_sensitivity
+            .and_then(|values| toy_crossing(live_time, points, &values, 1.0)),
     })
+}
+
+/// The first calendar day where a toy quantity sampled at the grid points
+/// reaches `level`, interpolated linearly in live days from 0 at no live time
+/// (points without live time are that origin) and mapped back through the
+/// schedule, so a crossing never falls where no live time accrues.
+fn toy_crossing(
+    live_time: &LiveTime,
+    points: &[ExposurePoint],
+    values: &[f64],
+    level: f64,
+) -> Option<f64> {
+    let (live_days, values): (Vec<f64>, Vec<f64>) = points
+        .iter()
+        .zip(values)
+        .filter(|(p, _)| p.live_days > 0.0)
+        .map(|(p, &value)| (p.live_days, value))
+        .unzip();
+    first_crossing(&live_days, &values, level).map(|live| live_time.calendar_days(live))
+}
+
+/// The fraction of `converged` pseudo-experiments reaching `target` as the
+/// squared median significance that gives it, when the significance is
+/// normal with unit width: P(Z >= target) = Phi(Z_A - target), so
+/// Z_A^2 = (target + Phi^-1(P))^2, floored at 0 (Cowan, Cranmer, Gross,
+/// Vitells, EPJC 71 (2011) 1554, sec. 5.1). Z_A^2 grows linearly in live days
+/// where statistics dominate, so fractions interpolate well in this form; at
+/// the grid points it holds the toy fraction exactly. A fraction of 0 or 1 is
+/// taken 1/(2N) from the edge (a continuity correction; common practice).
+fn fraction_as_significance_squared(fraction: f64, target: f64, converged: usize) -> f64 {
+    let edge = 0.5 / converged.max(1) as f64;
+    let z = target + significance(1.0 - fraction.clamp(edge, 1.0 - edge));
+    z.max(0.0).powi(2)
 }
 
 /// A per-point toy quantity over the grid; None when any point lacks it.
@@ -131,4 +186,34 @@ fn refine_crossing<E>(
         low
     };
     bisect_log(low, high, level, value_at).map(Some)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::asymptotic::probability_to_reach;
+
+    #[test]
+    fn a_normal_fraction_gives_back_its_significance() {
+        // P(Z >= t) = Phi(Z_A - t) for Z ~ N(Z_A, 1) (Cowan et al., EPJC 71
+        // (2011) 1554, sec. 5.1): the fraction stands for Z_A^2 again.
+        for (z_asimov, target) in [(2.0, 3.0), (3.0, 3.0), (4.5, 3.0), (6.0, 5.0)] {
+            let fraction = probability_to_reach(z_asimov, target);
+            let squared = fraction_as_significance_squared(fraction, target, 1000);
+            assert!(
+                (squared - z_asimov * z_asimov).abs() < 1e-9,
+                "{z_asimov}: {squared}"
+            );
+        }
+    }
+
+    #[test]
+    fn fractions_of_none_and_all_stay_finite() {
+        // 1/(2N) from the edges: Phi^-1(1/2000) = -3.2905 (standard normal table).
+        let none = fraction_as_significance_squared(0.0, 5.0, 1000);
+        assert!((none - (5.0_f64 - 3.2905).powi(2)).abs() < 1e-3, "{none}");
+        assert_eq!(fraction_as_significance_squared(0.0, 3.0, 1000), 0.0);
+        let all = fraction_as_significance_squared(1.0, 3.0, 1000);
+        assert!((all - (3.0_f64 + 3.2905).powi(2)).abs() < 1e-3, "{all}");
+    }
 }

@@ -82,7 +82,13 @@ pub fn project(
         .enumerate()
         .map(|(index, &days)| runner.point(&mut asimov, index, days))
         .collect::<Result<Vec<_>, _>>()?;
-    let days_to_target = days::days_to_targets(model, &mut asimov, &points, &settings.targets)?;
+    let days_to_target = days::days_to_targets(
+        model,
+        &mut asimov,
+        &points,
+        &settings.targets,
+        settings.toys,
+    )?;
     let days_to_exclusion = match settings.cl {
         Some(cl) => days::days_to_exclusion(&likelihood, &points, 1.0 - cl)?,
         None => DaysToExclusion::default(),

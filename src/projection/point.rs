@@ -77,7 +77,13 @@ impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
             .map(|cl| asymptotic_limits(self.likelihood, live_days, 1.0 - cl))
             .transpose()
             .map_err(failed("background-only Asimov fit for expected limits"))?;
-        let toy_limits = limits.filter(|_| toys > 0).map(|limits| {
+        // An unbounded median limit leaves no sigma_A to run the toys with:
+        // nothing can be excluded at this exposure, and its toys are skipped.
+        let bounded = limits.filter(|limits| limits.median.is_finite());
+        if limits.is_some() && bounded.is_none() {
+            (self.progress)(toys as u64);
+        }
+        let toy_limits = bounded.filter(|_| toys > 0).map(|limits| {
             let alpha = 1.0 - settings.cl.unwrap_or_default();
             toy_limit_ensemble(
                 self.likelihood,
@@ -151,19 +157,30 @@ impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
     }
 }
 
+/// Stores the limits of a point. A limit that is unbounded (no mu can be
+/// excluded at that exposure and quantile) is reported as absent, and so is a
+/// band with an unbounded edge; JSON and CSV have no infinity.
 fn add_limits(
     point: &mut ExposurePoint,
     limits: Option<AsymptoticLimits>,
     toys: Option<EnsembleOutcome>,
 ) {
-    point.limit_asimov = limits.map(|l| l.median);
-    point.limit_asimov_band = limits.map(|l| l.band);
+    point.limit_asimov = limits.map(|l| l.median).filter(|mu| mu.is_finite());
+    point.limit_asimov_band = limits.map(|l| l.band).filter(bounded);
     point.limit_failed_fits = toys.as_ref().map_or(0, |t| t.failed_fits);
     let sorted = toys.and_then(sorted_values);
-    point.limit_median = sorted.as_ref().map(|l| quantile(l, 0.5));
+    point.limit_median = sorted
+        .as_ref()
+        .map(|l| quantile(l, 0.5))
+        .filter(|mu| mu.is_finite());
     point.limit_band = sorted
         .as_ref()
-        .map(|l| BAND_QUANTILES.map(|p| quantile(l, p)));
+        .map(|l| BAND_QUANTILES.map(|p| quantile(l, p)))
+        .filter(bounded);
+}
+
+fn bounded(band: &[f64; 4]) -> bool {
+    band.iter().all(|mu| mu.is_finite())
 }
 
 /// The toy p-value of the Asimov q0 = Z_A^2 against its asymptotic value

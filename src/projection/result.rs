@@ -49,13 +49,18 @@ pub struct ExposurePoint {
     pub probability: Vec<TargetProbability>,
     /// Pseudo-experiments whose fits failed after all retries (excluded from quantiles).
     pub failed_fits: usize,
-    /// Median expected upper limit on mu from background-only pseudo-experiments.
+    /// Median expected upper limit on mu from background-only pseudo-experiments;
+    /// None without toys or limits, before any live time, or when unbounded
+    /// (no mu is excluded at this exposure).
     pub limit_median: Option<f64>,
-    /// Quantiles 2.3%, 15.9%, 84.1%, 97.7% of the pseudo-experiment limits on mu.
+    /// Quantiles 2.3%, 15.9%, 84.1%, 97.7% of the pseudo-experiment limits on mu;
+    /// None as for `limit_median`, or when one of them is unbounded.
     pub limit_band: Option<[f64; 4]>,
-    /// Median expected upper limit on mu from the asymptotic formulae.
+    /// Median expected upper limit on mu from the asymptotic formulae; None
+    /// without limits, before any live time, or when unbounded.
     pub limit_asimov: Option<f64>,
-    /// Asymptotic expected limits on mu at -2, -1, +1, +2 sigma.
+    /// Asymptotic expected limits on mu at -2, -1, +1, +2 sigma; None as for
+    /// `limit_asimov`, or when one of them is unbounded.
     pub limit_asimov_band: Option<[f64; 4]>,
     /// Background-only pseudo-experiments whose limit could not be computed.
     pub limit_failed_fits: usize,
@@ -90,7 +95,7 @@ pub struct Calibration {
 pub struct DaysToExclusion {
     /// From the asymptotic median limit (root-found).
     pub asimov_days: Option<f64>,
-    /// From the median of the pseudo-experiment limits (1/limit^2 linear in days).
+    /// From the median of the pseudo-experiment limits (1/limit^2 linear in live days).
     pub median_days: Option<f64>,
 }
 
@@ -110,9 +115,11 @@ pub struct DaysToTarget {
     pub target: f64,
     /// Where the Asimov significance reaches the target (root-found).
     pub asimov_days: Option<f64>,
-    /// Where the toy median reaches the target (Z^2 linear in days between grid points).
+    /// Where the toy median reaches the target (Z^2 linear in live days between grid points).
     pub median_days: Option<f64>,
-    /// Where 50% of the pseudo-experiments reach the target.
+    /// Where 50% of the pseudo-experiments reach the target (the fraction read
+    /// as the median significance it stands for, whose square is interpolated
+    /// linearly in live days).
     pub p50_days: Option<f64>,
     /// Where 90% of the pseudo-experiments reach the target.
     pub p90_days: Option<f64>,

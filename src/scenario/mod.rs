@@ -1,7 +1,7 @@
 //! Scenario: the YAML file a user writes, parsed into typed, validated values.
 //!
 //! Parsing rejects unknown keys and wrong types (with line and column from the
-//! YAML parser); [`validate`] then rejects values that parse but make no physical
+//! YAML parser); `validate` then rejects values that parse but make no physical
 //! sense, naming the field. Nothing downstream re-checks these invariants.
 
 mod deserialize;

@@ -4,6 +4,11 @@
 //! Each rejection names the field by its dotted path, the value found and what
 //! is expected, so that the user can fix the file from the message alone.
 
+use crate::model::{
+    shape_from_spec,
+    shapes::{MAX_POLYNOMIAL_DEGREE, Polynomial, PolynomialError},
+};
+
 use super::{
     Background, DaysGrid, NormUncertainty, Observable, Plan, Scenario, ScenarioError, Schedule,
     ShapeSpec, Signal,
@@ -16,14 +21,6 @@ const MAX_BINS: f64 = 100_000.0;
 /// Relative tolerance on `(high - low) / bin_width` being a whole number,
 /// allowing for decimal bin widths such as 0.1 that binary floating point cannot hold.
 const BIN_COUNT_TOLERANCE: f64 = 1e-9;
-
-/// Number of evenly spaced points, edges included, at which a polynomial
-/// density is checked for negative values.
-const POLYNOMIAL_SAMPLES: usize = 2001;
-
-/// Relative size of rounding error allowed when a polynomial touches zero
-/// (for example `(x - a)^2` written out in coefficients).
-const POLYNOMIAL_ROUNDING: f64 = 1e-12;
 
 type Checked<T = ()> = Result<T, ScenarioError>;
 
@@ -40,6 +37,7 @@ pub(super) fn validate(scenario: &Scenario) -> Checked {
     let range = validate_observable(&scenario.observable)?;
     validate_signal(&scenario.signal, range)?;
     validate_backgrounds(&scenario.backgrounds, range)?;
+    refuse_free_background_in_one_bin(scenario)?;
     validate_schedule(&scenario.schedule)?;
     validate_plan(&scenario.plan)
 }
@@ -52,18 +50,16 @@ pub(super) fn warnings(scenario: &Scenario) -> Vec<String> {
     remarks
 }
 
-/// A Gaussian or Breit-Wigner signal whose mean lies outside the range.
+/// A peaked signal ([`Shape::peak`](crate::model::shapes::Shape::peak)) whose maximum lies outside the range.
 fn signal_peak_outside_range(scenario: &Scenario) -> Option<String> {
-    let [low, high] = scenario.observable.range;
-    let (field, mean) = match scenario.signal.shape {
-        ShapeSpec::Gaussian { mean, .. } => ("signal.shape.gaussian.mean", mean),
-        ShapeSpec::BreitWigner { mean, .. } => ("signal.shape.breit_wigner.mean", mean),
-        _ => return None,
-    };
-    (!(low..=high).contains(&mean)).then(|| {
+    let range = scenario.observable.range;
+    let [low, high] = range;
+    let peak = shape_from_spec(&scenario.signal.shape, range).peak()?;
+    (!(low..=high).contains(&peak.centre)).then(|| {
         format!(
-            "{field}: the signal peak at {} lies outside the range [{}, {}]; only its tail is fitted",
-            show(mean),
+            "signal.shape.{}: the signal peak at {} lies outside the range [{}, {}]; only its tail is fitted",
+            peak.centre_key,
+            show(peak.centre),
             show(low),
             show(high)
         )
@@ -207,6 +203,9 @@ fn validate_backgrounds(backgrounds: &[Background], range: Range) -> Checked {
         }
         require_positive(&field("events_per_day"), background.events_per_day)?;
         validate_shape(&field("shape"), &background.shape, range)?;
+        if background.float_shape {
+            validate_floated_polynomial(&field("float_shape"), &background.shape, range)?;
+        }
         if let Some(NormUncertainty::Relative(relative)) = background.norm_uncertainty {
             require_relative_uncertainty(&field("norm_uncertainty"), relative)?;
         }
@@ -220,7 +219,52 @@ fn validate_backgrounds(backgrounds: &[Background], range: Range) -> Checked {
             require_positive(&field("control.ratio"), control.ratio)?;
         }
     }
+    refuse_indistinguishable_backgrounds(backgrounds)
+}
+
+/// Two backgrounds with free normalisations and the same shape: only the sum
+/// of their yields enters the likelihood, so the fit cannot tell them apart
+/// (a flat direction of -ln L, no unique minimum).
+fn refuse_indistinguishable_backgrounds(backgrounds: &[Background]) -> Checked {
+    let free = |background: &Background| {
+        background.control.is_none() && background.norm_uncertainty == Some(NormUncertainty::Free)
+    };
+    for (index, background) in backgrounds.iter().enumerate() {
+        let twin = backgrounds[..index].iter().position(|earlier| {
+            free(earlier) && free(background) && earlier.shape == background.shape
+        });
+        if let Some(first) = twin {
+            return Err(ScenarioError::invalid(
+                format!("backgrounds[{index}].norm_uncertainty"),
+                format!(
+                    "backgrounds[{first}] and backgrounds[{index}] have the same shape and both normalisations free, so no fit can tell them apart; merge them into one background or constrain one normalisation"
+                ),
+            ));
+        }
+    }
     Ok(())
+}
+
+/// A single counting window (one bin) has one count: a background whose
+/// normalisation is free can take any excess over the rest, so the signal
+/// strength is not determined and there is no sensitivity at any exposure
+/// (its profile likelihood is flat in mu; common practice).
+fn refuse_free_background_in_one_bin(scenario: &Scenario) -> Checked {
+    let [low, high] = scenario.observable.range;
+    if ((high - low) / scenario.observable.bin_width).round() != 1.0 {
+        return Ok(());
+    }
+    let free = scenario
+        .backgrounds
+        .iter()
+        .position(|b| b.norm_uncertainty == Some(NormUncertainty::Free));
+    match free {
+        Some(index) => Err(ScenarioError::invalid(
+            format!("backgrounds[{index}].norm_uncertainty"),
+            "a single counting window (one bin) whose background is free has no sensitivity: the fit takes any excess as background; give a relative uncertainty or a control region, or more bins, got free",
+        )),
+        None => Ok(()),
+    }
 }
 
 /// Checks the parameters of one shape; `prefix` is the dotted path of its `shape` key.
@@ -247,72 +291,60 @@ fn validate_shape(prefix: &str, shape: &ShapeSpec, range: Range) -> Checked {
 }
 
 /// A polynomial density `sum_k c_k x^k` must be finite, nowhere negative and not
-/// zero everywhere on the range; it is evaluated at [`POLYNOMIAL_SAMPLES`] points.
+/// zero everywhere on the range, checked exactly by [`Polynomial::new`].
 fn validate_polynomial(field: &str, coefficients: &[f64], range: Range) -> Checked {
-    if coefficients.is_empty() {
-        return Err(ScenarioError::invalid(
-            field,
-            "needs at least one coefficient [c0, c1, ...], got an empty list",
-        ));
-    }
     for (power, &coefficient) in coefficients.iter().enumerate() {
         require_finite(&format!("{field}[{power}]"), coefficient)?;
     }
-    let mut largest = 0.0_f64;
-    for x in evenly_spaced(range, POLYNOMIAL_SAMPLES) {
-        let value = polynomial(coefficients, x);
-        if value < -POLYNOMIAL_ROUNDING * polynomial_magnitude(coefficients, x) {
-            return Err(ScenarioError::invalid(
-                field,
-                format!(
-                    "the polynomial must not be negative on the range [{}, {}], but is {} at x = {}; got {}",
-                    show(range.low),
-                    show(range.high),
-                    show_rounded(value),
-                    show_rounded(x),
-                    show_list(coefficients)
-                ),
-            ));
+    let message = match Polynomial::new(coefficients, [range.low, range.high]) {
+        Ok(_) => return Ok(()),
+        Err(PolynomialError::Empty) => {
+            "needs at least one coefficient [c0, c1, ...], got an empty list".to_string()
         }
-        largest = largest.max(value);
+        Err(PolynomialError::TooManyCoefficients) => format!(
+            "takes at most {} coefficients (degree {MAX_POLYNOMIAL_DEGREE}), got {}",
+            MAX_POLYNOMIAL_DEGREE + 1,
+            coefficients.len()
+        ),
+        Err(PolynomialError::Negative { at, value }) => format!(
+            "the polynomial must not be negative on the range [{}, {}], but is {} at x = {}; got {}",
+            show(range.low),
+            show(range.high),
+            show_rounded(value),
+            show_rounded(at),
+            show_list(coefficients)
+        ),
+        Err(PolynomialError::Zero) => format!(
+            "the polynomial is zero everywhere on the range [{}, {}]; got {}",
+            show(range.low),
+            show(range.high),
+            show_list(coefficients)
+        ),
+    };
+    Err(ScenarioError::invalid(field, message))
+}
+
+/// A floated polynomial must have non-negative Bernstein coefficients on the
+/// range at some degree up to the largest (see [`Polynomial`]): true of every
+/// polynomial positive on the range, not of one touching zero inside it.
+fn validate_floated_polynomial(field: &str, shape: &ShapeSpec, range: Range) -> Checked {
+    let ShapeSpec::Polynomial { coefficients } = shape else {
+        return Ok(());
+    };
+    let floatable = Polynomial::new(coefficients, [range.low, range.high])
+        .is_ok_and(|polynomial| polynomial.can_float());
+    if floatable {
+        return Ok(());
     }
-    if largest <= 0.0 {
-        return Err(ScenarioError::invalid(
-            field,
-            format!(
-                "the polynomial is zero everywhere on the range [{}, {}]; got {}",
-                show(range.low),
-                show(range.high),
-                show_list(coefficients)
-            ),
-        ));
-    }
-    Ok(())
-}
-
-/// `sum_k c_k x^k` by Horner's rule.
-fn polynomial(coefficients: &[f64], x: f64) -> f64 {
-    coefficients.iter().rev().fold(0.0, |sum, &c| sum * x + c)
-}
-
-/// `sum_k |c_k| |x|^k`: the scale of the rounding error in [`polynomial`].
-fn polynomial_magnitude(coefficients: &[f64], x: f64) -> f64 {
-    coefficients
-        .iter()
-        .rev()
-        .fold(0.0, |sum, &c| sum * x.abs() + c.abs())
-}
-
-/// `count` (at least 2) evenly spaced points from `low` to `high`, both edges exact.
-fn evenly_spaced(range: Range, count: usize) -> impl Iterator<Item = f64> {
-    let steps = (count - 1) as f64;
-    (0..count).map(move |i| {
-        if i + 1 == count {
-            range.high
-        } else {
-            range.low + (range.high - range.low) * (i as f64 / steps)
-        }
-    })
+    Err(ScenarioError::invalid(
+        field,
+        format!(
+            "a floated polynomial must be positive on the range [{}, {}] by a margin its Bernstein coefficients of degree {MAX_POLYNOMIAL_DEGREE} or less can show, but shape.polynomial.coefficients {} touches or nearly touches zero; raise its lowest point or set float_shape: false",
+            show(range.low),
+            show(range.high),
+            show_list(coefficients)
+        ),
+    ))
 }
 
 fn validate_schedule(schedule: &Schedule) -> Checked {
@@ -657,7 +689,12 @@ plan:
         .replace("sigma: 1.5", "sigma: 0.05");
         let text = text.replace("coefficients: [1.0, 0.01]", "coefficients: [1.0]");
         accepted(&text);
-        accepted(&with("bin_width: 0.5", "bin_width: 100"));
+        // One bin: a counting window, whose backgrounds cannot be free.
+        accepted(&with("bin_width: 0.5", "bin_width: 100").replacen(
+            "norm_uncertainty: free",
+            "norm_uncertainty: 0.2",
+            1,
+        ));
     }
 
     #[test]
@@ -793,7 +830,7 @@ plan:
         let (field, message) = rejection(&text);
         assert_eq!(field, "backgrounds[1].shape.polynomial.coefficients");
         assert!(message.contains("must not be negative"), "{message}");
-        assert!(message.contains("at x = 50.05"), "{message}");
+        assert!(message.contains("but is -1 at x = 100"), "{message}");
         // (x - 30)(x - 40) = 1200 - 70 x + x^2 is positive at both edges, negative
         // only between 30 and 40: caught by evaluating inside the range.
         let dip = with("coefficients: [1.0, 0.01]", "coefficients: [1200, -70, 1]");
@@ -812,13 +849,66 @@ plan:
     }
 
     #[test]
-    fn polynomial_touching_zero_is_accepted() {
-        // (x - 50)^2 = 2500 - 100 x + x^2 vanishes at x = 50, a sample point, and is
-        // positive elsewhere: a valid density.
-        accepted(&with(
+    fn polynomial_touching_zero_is_accepted_unless_floated() {
+        // (x - 50)^2 = 2500 - 100 x + x^2 vanishes at x = 50 and is positive
+        // elsewhere: a valid density, but one without non-negative Bernstein
+        // coefficients at any degree (Lorentz, Bernstein Polynomials, 1953,
+        // ch. 1.1), so it cannot float.
+        let touching = with("coefficients: [1.0, 0.01]", "coefficients: [2500, -100, 1]");
+        accepted(&touching.replace("float_shape: true", "float_shape: false"));
+        let (field, message) = rejection(&touching);
+        assert_eq!(field, "backgrounds[1].float_shape");
+        assert!(
+            message.contains("touches or nearly touches zero"),
+            "{message}"
+        );
+    }
+
+    /// x^2 - 5e-4 x + 5.25e-8 is negative between its roots 1.5e-4 and
+    /// 3.5e-4 (closed form), between the points of any coarse grid on [0, 1].
+    #[test]
+    fn polynomial_with_a_narrow_dip_is_rejected() {
+        let text = with(
+            "range: [0.0, 100.0], bin_width: 0.5",
+            "range: [0.0, 1.0], bin_width: 0.0001",
+        )
+        .replace("mean: 50.0", "mean: 0.5")
+        .replace("sigma: 1.5", "sigma: 0.01")
+        .replace(
             "coefficients: [1.0, 0.01]",
-            "coefficients: [2500, -100, 1]",
-        ));
+            "coefficients: [5.25e-8, -5e-4, 1]",
+        );
+        let (field, message) = rejection(&text);
+        assert_eq!(field, "backgrounds[1].shape.polynomial.coefficients");
+        assert!(message.contains("at x = 0.00025"), "{message}");
+    }
+
+    #[test]
+    fn two_free_backgrounds_with_one_shape_are_refused() {
+        let text = with(
+            "shape: {exponential: {slope: -0.02}}\n    norm_uncertainty: 0.05",
+            "shape: {polynomial: {coefficients: [1.0, 0.01]}}\n    norm_uncertainty: free",
+        );
+        let (field, message) = rejection(&text);
+        assert_eq!(field, "backgrounds[1].norm_uncertainty");
+        assert!(
+            message.contains("backgrounds[0] and backgrounds[1]"),
+            "{message}"
+        );
+        // A constraint on either normalisation tells them apart.
+        accepted(&text.replacen("norm_uncertainty: free", "norm_uncertainty: 0.1", 1));
+    }
+
+    #[test]
+    fn polynomial_degree_is_limited() {
+        let terms = vec!["1"; 22].join(", ");
+        let text = with(
+            "coefficients: [1.0, 0.01]",
+            &format!("coefficients: [{terms}]"),
+        );
+        let (field, message) = rejection(&text);
+        assert_eq!(field, "backgrounds[1].shape.polynomial.coefficients");
+        assert!(message.contains("at most 21 coefficients"), "{message}");
     }
 
     #[test]
@@ -928,6 +1018,18 @@ plan:
             integer.backgrounds[0].norm_uncertainty,
             Some(NormUncertainty::Relative(1.0))
         );
+    }
+
+    #[test]
+    fn a_free_background_in_one_bin_is_refused() {
+        // One bin of width 100: the free background (backgrounds[1]) can absorb
+        // any excess, so mu is undetermined (common practice).
+        let one_bin = with("bin_width: 0.5", "bin_width: 100.0");
+        let (field, message) = rejection(&one_bin);
+        assert_eq!(field, "backgrounds[1].norm_uncertainty");
+        assert!(message.contains("no sensitivity"), "{message}");
+        // With a relative uncertainty it is a valid counting window.
+        accepted(&one_bin.replacen("norm_uncertainty: free", "norm_uncertainty: 0.2", 1));
     }
 
     #[test]

@@ -30,7 +30,7 @@ const SHARED_HALF_WIDTH: f64 = 1e-12;
 /// expm1 keeps slopes near zero exact, and every bin keeps its relative
 /// precision, however far from r. Walking outwards from r, exp(-k d) is carried
 /// from bin to bin by the factor exp(-k w) and recomputed exactly every
-/// [`ANCHOR_INTERVAL`] bins, and equal widths share one expm1, so a uniform
+/// `ANCHOR_INTERVAL` bins, and equal widths share one expm1, so a uniform
 /// binning costs a multiplication per bin. Parameters: `["slope"]`.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Exponential {
@@ -74,9 +74,14 @@ impl Shape for Exponential {
     }
 
     /// Analytic derivative: d ln m / d slope is the mean of x over the bin, so
-    /// d f_i / d slope = f_i (<x>_bin - <x>_range). On an interval of centre c
-    /// and half width h, <x> = c + h L(slope h), with L(y) = coth(y) - 1/y the
-    /// Langevin function (closed form of the truncated exponential mean).
+    ///
+    /// ```text
+    /// d f_i / d slope = f_i (<x>_bin - <x>_range).
+    /// ```
+    ///
+    /// On an interval of centre c and half width h, `<x> = c + h L(slope h)`,
+    /// with L(y) = coth(y) - 1/y the Langevin function (closed form of the
+    /// truncated exponential mean).
     fn bin_fractions_with_gradient(
         &self,
         params: &[f64],
@@ -93,7 +98,11 @@ impl Shape for Exponential {
     }
 
     /// d2 ln m / d slope2 is the variance of x over the bin, so
+    ///
+    /// ```text
     /// d2 f_i / d slope2 = f_i [(<x>_bin - <x>_range)^2 + Var_bin - Var_range].
+    /// ```
+    ///
     /// On an interval of half width h, Var = h^2 L'(slope h) with
     /// L'(y) = 1/y^2 - 1/sinh^2 y, the derivative of the Langevin function.
     fn bin_fraction_curvatures(
@@ -375,7 +384,22 @@ fn langevin_derivative(y: f64) -> f64 {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::model::shapes::{assert_normalised, central_difference};
+    use crate::model::shapes::assert_normalised;
+
+    // Both sides of zero slope and zero itself; a slope that is not finite
+    // is outside the domain.
+    shape_contract_tests! {
+        shape: Exponential::new(1.0),
+        inside: [
+            (&[-3.0], &uniform_edges(0.0, 2.0, 20)),
+            (&[-1e-9], &uniform_edges(0.0, 2.0, 20)),
+            (&[0.0], &uniform_edges(0.0, 2.0, 20)),
+            (&[1e-9], &uniform_edges(0.0, 2.0, 20)),
+            (&[0.5], &uniform_edges(0.0, 2.0, 20)),
+            (&[40.0], &uniform_edges(0.0, 2.0, 20)),
+        ],
+        outside: [&[f64::NAN], &[f64::INFINITY], &[f64::NEG_INFINITY]],
+    }
 
     fn fractions(slope: f64, edges: &[f64]) -> Vec<f64> {
         let mut fractions = vec![0.0; edges.len() - 1];
@@ -405,56 +429,6 @@ mod tests {
                 assert!(
                     (fraction - expected).abs() < 1e-14,
                     "{fraction} vs {expected}"
-                );
-            }
-        }
-    }
-
-    /// The analytic gradient against central differences (common practice), on
-    /// both sides of zero slope and at zero itself.
-    #[test]
-    fn gradient_matches_central_differences() {
-        let edges = uniform_edges(0.0, 2.0, 20);
-        for slope in [-3.0, -1e-9, 0.0, 1e-9, 0.5, 40.0] {
-            let shape = Exponential::new(slope);
-            let mut fractions = vec![0.0; 20];
-            let mut gradient = vec![0.0; 20];
-            shape.bin_fractions_with_gradient(&[slope], &edges, &mut fractions, &mut gradient);
-            assert_normalised(&fractions);
-            let numeric = central_difference(&shape, &[slope], &edges, 0, 1e-5);
-            for (analytic, numeric) in gradient.iter().zip(&numeric) {
-                assert!(
-                    (analytic - numeric).abs() < 1e-8,
-                    "slope {slope}: {analytic} vs {numeric}"
-                );
-            }
-        }
-    }
-
-    /// The analytic second derivative against central differences of the
-    /// analytic gradient (common practice), on both sides of zero slope.
-    #[test]
-    fn curvature_matches_differences_of_the_gradient() {
-        let edges = uniform_edges(0.0, 2.0, 20);
-        let step = 1e-5;
-        for slope in [-3.0, -0.04, 0.0, 1e-9, 0.5, 40.0] {
-            let shape = Exponential::new(slope);
-            let gradient_at = |s: f64| {
-                let (mut fractions, mut gradient) = (vec![0.0; 20], vec![0.0; 20]);
-                shape.bin_fractions_with_gradient(&[s], &edges, &mut fractions, &mut gradient);
-                gradient
-            };
-            let (upper, lower) = (gradient_at(slope + step), gradient_at(slope - step));
-            let mut fractions = vec![0.0; 20];
-            shape.bin_fractions(&[slope], &edges, &mut fractions);
-            let mut curvatures = vec![0.0; 20];
-            assert!(shape.bin_fraction_curvatures(&[slope], &edges, &fractions, &mut curvatures));
-            for i in 0..20 {
-                let numeric = (upper[i] - lower[i]) / (2.0 * step);
-                assert!(
-                    (curvatures[i] - numeric).abs() < 1e-7 * numeric.abs().max(1.0),
-                    "slope {slope}, bin {i}: {} vs {numeric}",
-                    curvatures[i]
                 );
             }
         }
@@ -548,28 +522,6 @@ mod tests {
             let shape = Exponential::new(slope);
             shape.bin_fractions_with_gradient(&[slope], &edges, &mut recomputed, &mut gradient);
             assert!(gradient.iter().all(|derivative| derivative.is_finite()));
-        }
-    }
-
-    #[test]
-    fn non_finite_slope_gives_nan() {
-        let shape = Exponential::new(1.0);
-        for slope in [f64::NAN, f64::INFINITY, f64::NEG_INFINITY] {
-            let mut fractions = [0.0; 2];
-            let mut gradient = [0.0; 2];
-            shape.bin_fractions_with_gradient(
-                &[slope],
-                &[0.0, 1.0, 2.0],
-                &mut fractions,
-                &mut gradient,
-            );
-            assert!(
-                fractions
-                    .iter()
-                    .chain(&gradient)
-                    .all(|value| value.is_nan())
-            );
-            assert!(shape.density(&[slope], 0.0, 2.0, 1.0).is_nan());
         }
     }
 

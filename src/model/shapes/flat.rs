@@ -38,6 +38,13 @@ mod tests {
     use super::*;
     use crate::model::shapes::assert_normalised;
 
+    // No parameters, so nothing lies outside the domain.
+    shape_contract_tests! {
+        shape: Flat,
+        inside: [(&[], &[0.0, 1.0, 3.0, 8.0])],
+        outside: [],
+    }
+
     /// Equal bins of a uniform density hold equal fractions; unequal bins hold
     /// their width over the range width (closed form).
     #[test]

@@ -1,7 +1,7 @@
 //! Gaussian peak truncated to the range.
 
 use super::tails::{TailEdge, fill_masses, mass_between};
-use super::{Shape, mark_invalid, normalise_masses, range_of};
+use super::{Peak, Shape, mark_invalid, normalise_masses, range_of};
 use statrs::function::erf::erfc;
 use std::f64::consts::{PI, SQRT_2};
 
@@ -36,6 +36,14 @@ impl Gaussian {
 }
 
 impl Shape for Gaussian {
+    fn peak(&self) -> Option<Peak> {
+        Some(Peak {
+            centre: self.mean,
+            width: self.sigma,
+            centre_key: "gaussian.mean",
+        })
+    }
+
     fn parameter_names(&self) -> Vec<String> {
         vec!["mean".to_string(), "sigma".to_string()]
     }
@@ -239,7 +247,25 @@ fn erfc_scaled_asymptotic(x: f64) -> f64 {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::model::shapes::{assert_normalised, central_difference};
+
+    // Near the peak and deep in a tail; sigma zero, negative or NaN is outside.
+    shape_contract_tests! {
+        shape: Gaussian::new(4.2, 1.3),
+        inside: [
+            (&[4.2, 1.3], &(0..=20).map(|i| 0.5 * f64::from(i)).collect::<Vec<f64>>()),
+            (&[0.0, 1.0], &[40.0, 40.02, 40.1, 40.5, 42.0]),
+        ],
+        outside: [&[1.0, 0.0], &[1.0, -0.5], &[1.0, f64::NAN]],
+    }
+
+    /// A normal density peaks at its mean, with width sigma (definition).
+    #[test]
+    fn peak_is_the_mean() {
+        let peak = Gaussian::new(3.5, 0.25).peak().unwrap();
+        assert_eq!((peak.centre, peak.width), (3.5, 0.25));
+        assert_eq!(peak.centre_key, "gaussian.mean");
+    }
+    use crate::model::shapes::assert_normalised;
     use statrs::distribution::{Continuous, ContinuousCDF, Normal};
 
     fn fractions(mean: f64, sigma: f64, edges: &[f64]) -> Vec<f64> {
@@ -344,46 +370,6 @@ mod tests {
             "{} vs {expected}",
             lower[2]
         );
-    }
-
-    /// Analytic gradient against central differences of the fractions (common
-    /// practice), near the peak and deep in a tail.
-    #[test]
-    fn gradient_matches_central_differences() {
-        let peak_edges: Vec<f64> = (0..=20).map(|i| 0.5 * f64::from(i)).collect();
-        let tail_edges = [40.0, 40.02, 40.1, 40.5, 42.0];
-        for (params, edges) in [([4.2, 1.3], &peak_edges[..]), ([0.0, 1.0], &tail_edges[..])] {
-            let shape = Gaussian::new(params[0], params[1]);
-            let bins = edges.len() - 1;
-            let mut fractions = vec![0.0; bins];
-            let mut gradient = vec![0.0; 2 * bins];
-            shape.bin_fractions_with_gradient(&params, edges, &mut fractions, &mut gradient);
-            assert_normalised(&fractions);
-            for k in 0..2 {
-                let numeric = central_difference(&shape, &params, edges, k, 1e-6);
-                for (analytic, numeric) in gradient[k * bins..(k + 1) * bins].iter().zip(&numeric) {
-                    assert!((analytic - numeric).abs() < 1e-7, "{analytic} vs {numeric}");
-                }
-            }
-        }
-    }
-
-    #[test]
-    fn sigma_outside_domain_gives_nan() {
-        let shape = Gaussian::new(1.0, 1.0);
-        let edges = [0.0, 1.0, 2.0];
-        for sigma in [0.0, -0.5, f64::NAN] {
-            let mut fractions = [0.0; 2];
-            let mut gradient = [0.0; 4];
-            shape.bin_fractions_with_gradient(&[1.0, sigma], &edges, &mut fractions, &mut gradient);
-            assert!(
-                fractions
-                    .iter()
-                    .chain(&gradient)
-                    .all(|value| value.is_nan())
-            );
-            assert!(shape.density(&[1.0, sigma], 0.0, 2.0, 1.0).is_nan());
-        }
     }
 
     /// Density of the truncated Gaussian: phi / (Phi(high) - Phi(low)) with phi

@@ -4,6 +4,10 @@
 //! its bin fractions come from a closed-form cumulative distribution, never from
 //! sampling. One shape per file, all behind the [`Shape`] trait.
 
+#[cfg(test)]
+#[macro_use]
+mod contract;
+
 mod breit_wigner;
 mod exponential;
 mod flat;
@@ -15,7 +19,7 @@ pub use breit_wigner::BreitWigner;
 pub use exponential::Exponential;
 pub use flat::Flat;
 pub use gaussian::Gaussian;
-pub use polynomial::Polynomial;
+pub use polynomial::{MAX_DEGREE as MAX_POLYNOMIAL_DEGREE, Polynomial, PolynomialError};
 
 /// A normalised density on a range, with parameters that may float in fits.
 ///
@@ -33,17 +37,37 @@ pub trait Shape: std::fmt::Debug + Send + Sync {
     /// The parameter values given in the scenario.
     fn nominal_parameters(&self) -> Vec<f64>;
 
+    /// The lowest value of each parameter inside the domain, a bound a fit
+    /// holds it at; minus infinity by default.
+    fn parameter_lower_bounds(&self) -> Vec<f64> {
+        vec![f64::NEG_INFINITY; self.nominal_parameters().len()]
+    }
+
+    /// Where the density peaks, for a shape with a peak of its own (at
+    /// nominal parameters); None for a continuum. Used to centre windows and
+    /// bin widths on the signal and to warn about a peak outside the range.
+    fn peak(&self) -> Option<Peak> {
+        None
+    }
+
+    /// Whether the fractions depend only on the ratios of the parameters, so
+    /// that multiplying all of them by one positive factor changes nothing.
+    /// A fit then fixes that factor (see the likelihood's gauge term).
+    fn scale_free(&self) -> bool {
+        false
+    }
+
     /// Fraction of the density (normalised on `[edges[0], edges[last]]`) inside
     /// each bin `[edges[i], edges[i + 1]]`, written to `fractions` (length
     /// `edges.len() - 1`). The fractions sum to one.
     fn bin_fractions(&self, params: &[f64], edges: &[f64], fractions: &mut [f64]);
 
     /// Bin fractions and their derivatives in each parameter:
-    /// `gradient[k * bins + i]` = d fraction_i / d params[k].
+    /// `gradient[k * bins + i]` = d fraction_i / d `params[k]`.
     ///
     /// The default uses central finite differences of [`Shape::bin_fractions`];
     /// shapes whose parameters commonly float override it analytically. It
-    /// allocates nothing for up to [`STACK_PARAMETERS`] parameters: each row of
+    /// allocates nothing for up to `STACK_PARAMETERS` parameters: each row of
     /// `gradient` holds the upper fractions and `fractions` the lower ones
     /// until the difference is taken.
     fn bin_fractions_with_gradient(
@@ -72,7 +96,7 @@ pub trait Shape: std::fmt::Debug + Send + Sync {
     }
 
     /// Second derivatives of the bin fractions in the parameters,
-    /// `curvatures[(k * n + l) * bins + i]` = d2 fraction_i / d params[k] d params[l]
+    /// `curvatures[(k * n + l) * bins + i]` = d2 fraction_i / d `params[k]` d `params[l]`
     /// with n = `params.len()`, given the `fractions` of the same parameters.
     /// Returns false, writing nothing, when the shape does not provide them;
     /// a fit then approximates that block of its Hessian (Gauss-Newton).
@@ -89,6 +113,18 @@ pub trait Shape: std::fmt::Debug + Send + Sync {
     /// The normalised density at `x` on the range `[low, high]` (per unit of the
     /// observable), zero outside the range and NaN outside the shape's domain.
     fn density(&self, params: &[f64], low: f64, high: f64, x: f64) -> f64;
+}
+
+/// The maximum of a peaked density and its width.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Peak {
+    /// Position of the maximum, in units of the observable.
+    pub centre: f64,
+    /// Gaussian sigma, or Breit-Wigner half width at half maximum.
+    pub width: f64,
+    /// The scenario key of the centre inside the shape's mapping, e.g.
+    /// `"gaussian.mean"`, for messages that name the field.
+    pub centre_key: &'static str,
 }
 
 /// Shapes with at most this many parameters are differentiated without allocating.

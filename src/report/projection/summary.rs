@@ -23,8 +23,8 @@ const COLUMNS: [&str; 5] = [
 /// then the days until the nominal signal is excluded (when limits were
 /// computed), the calibration table (with `--calibrate`), failed-fit counts
 /// and warnings. Each cell is calendar days rounded up ("142 d", "3.1 d"),
-/// "never" when the saturation limit of Z_A lies below the target, "beyond
-/// <last grid day> d" when the target lies past the grid, and "—" for toy
+/// "never" when the saturation limit of Z_A lies below the target, `"beyond
+/// <last grid day> d"` when the target lies past the grid, and "—" for toy
 /// columns of an Asimov-only run.
 pub fn summary(projection: &Projection) -> String {
     let mut text = format!("{}\n{}\n\n", projection.title, run_line(projection));
