@@ -14,6 +14,7 @@
 pub mod asymptotic;
 pub mod benchmark;
 pub mod binning;
+pub mod calendar;
 pub mod cli;
 pub mod commands;
 pub mod ensemble;
