@@ -41,7 +41,7 @@ impl CalendarDate {
     /// day 57.3 is reached by the start of the 58th day after it. `None` for
     /// a negative, non-finite or out-of-calendar number of days.
     pub fn after(self, days: f64) -> Option<CalendarDate> {
-        if !(days.is_finite() && days >= 0.0 && days < 1e7) {
+        if !(0.0..1e7).contains(&days) {
             return None;
         }
         self.0
