@@ -1,5 +1,6 @@
 //! Live time: calendar days to live days through the data-taking schedule.
 
+use crate::calendar::CalendarDate;
 use crate::scenario::Schedule;
 
 /// Converts calendar days into live days.
@@ -11,6 +12,8 @@ use crate::scenario::Schedule;
 /// start date.
 #[derive(Debug, Clone, PartialEq)]
 pub struct LiveTime {
+    /// The date of calendar day 0, when the schedule gives one.
+    start: Option<CalendarDate>,
     live_fraction: f64,
     /// (length in calendar days, rate scale) of consecutive stretches from
     /// day 0, in order: the periods split where breaks cut them, then the
@@ -32,9 +35,15 @@ impl LiveTime {
             split_by_breaks(begin, last_break_end - begin, 1.0, &breaks, &mut periods);
         }
         LiveTime {
+            start: schedule.start_date(),
             live_fraction: schedule.live_fraction,
             periods,
         }
+    }
+
+    /// The date of calendar day 0, when the schedule gives one.
+    pub fn start(&self) -> Option<CalendarDate> {
+        self.start
     }
 
     /// Live days accumulated by calendar day `days`.

@@ -95,6 +95,7 @@ pub fn project(
     };
     Ok(Projection {
         title: settings.title.clone(),
+        start: model.live_time.start(),
         seed: settings.seed,
         toys: settings.toys,
         targets: settings.targets.clone(),

@@ -2,10 +2,12 @@
 //! exclusion of the nominal signal: calendar days by the Asimov dataset and
 //! by the toy median, and their difference to the first plan (negative:
 //! sooner). Numbers are lossless; an empty cell is a value not reached
-//! within the grid (or not computed).
+//! within the grid (or not computed). When any plan's schedule has a start,
+//! `asimov_date, median_date` follow (ISO 8601; empty for a plan without one).
 
 use super::{COMPARE_CSV, Comparison};
 use crate::report::ReportError;
+use crate::report::kit::dates::date_cell;
 use crate::report::kit::encode::csv_bytes;
 use crate::report::kit::format::{number, optional};
 
@@ -20,12 +22,19 @@ const HEADER: [&str; 8] = [
     "median_days_minus_first",
 ];
 
+/// Appended when any plan has a start date.
+const DATE_COLUMNS: [&str; 2] = ["asimov_date", "median_date"];
+
 /// Days of one quantity for one plan: Asimov and toy median.
 type Days = (Option<f64>, Option<f64>);
 
 pub(super) fn render(comparison: &Comparison) -> Result<Vec<u8>, ReportError> {
     let mut rows = Vec::new();
     let first = comparison.first();
+    let with_dates = comparison
+        .plans
+        .iter()
+        .any(|plan| plan.projection.start.is_some());
     for (slot, reference) in first.days_to_target.iter().enumerate() {
         let reference = (reference.asimov_days, reference.median_days);
         for plan in &comparison.plans {
@@ -33,7 +42,14 @@ pub(super) fn render(comparison: &Comparison) -> Result<Vec<u8>, ReportError> {
             let row = &plan.projection.days_to_target[slot];
             let days = (row.asimov_days, row.median_days);
             let target = number(row.target);
-            rows.push(cells(plan, "days_to_target", target, days, reference));
+            rows.push(cells(
+                plan,
+                "days_to_target",
+                target,
+                days,
+                reference,
+                with_dates,
+            ));
         }
     }
     if first.cl.is_some() {
@@ -48,10 +64,16 @@ pub(super) fn render(comparison: &Comparison) -> Result<Vec<u8>, ReportError> {
                 String::new(),
                 days,
                 reference,
+                with_dates,
             ));
         }
     }
-    csv_bytes(COMPARE_CSV, HEADER, rows)
+    let dates = if with_dates {
+        DATE_COLUMNS.as_slice()
+    } else {
+        &[]
+    };
+    csv_bytes(COMPARE_CSV, HEADER.iter().chain(dates), rows)
 }
 
 fn cells(
@@ -60,11 +82,12 @@ fn cells(
     target: String,
     (asimov, median): Days,
     (first_asimov, first_median): Days,
+    with_dates: bool,
 ) -> Vec<String> {
     let minus = |days: Option<f64>, first: Option<f64>| {
         optional(days.zip(first).map(|(days, first)| days - first))
     };
-    vec![
+    let mut row = vec![
         plan.label.clone(),
         plan.file.clone(),
         quantity.to_string(),
@@ -73,7 +96,17 @@ fn cells(
         optional(median),
         minus(asimov, first_asimov),
         minus(median, first_median),
-    ]
+    ];
+    if with_dates {
+        for days in [asimov, median] {
+            row.push(
+                plan.projection
+                    .start
+                    .map_or_else(String::new, |start| date_cell(days, start)),
+            );
+        }
+    }
+    row
 }
 
 #[cfg(test)]

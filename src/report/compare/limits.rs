@@ -8,8 +8,9 @@
 use super::{COMPARE_LIMITS_SVG, Comparison, day_range, plan_colour};
 use crate::report::ReportError;
 use crate::report::kit::axis::{Axis, days_axis, log_axis, one_two_five_span, tick_label};
+use crate::report::kit::dates::dated_days_label;
 use crate::report::kit::figure::{self, Canvas, DrawError, Frame, SIZE};
-use crate::report::kit::format::{days_label, percent_label};
+use crate::report::kit::format::percent_label;
 use crate::report::kit::marks::{self, Stroke};
 use crate::report::kit::palette::{DOT, SLATE};
 use plotters::chart::SeriesLabelPosition;
@@ -83,7 +84,10 @@ fn draw(canvas: &Canvas, comparison: &Comparison, cl: f64) -> Result<(), DrawErr
         ];
         for (days, stroke) in crossings {
             let Some(days) = days else { continue };
-            let label = format!("excluded: {}", days_label(days));
+            let label = format!(
+                "excluded: {}",
+                dated_days_label(days, plan.projection.start)
+            );
             let shift = ROW / 2 + row * ROW;
             marks::mark_crossing(
                 &mut chart,

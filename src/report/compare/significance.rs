@@ -7,8 +7,9 @@
 use super::{COMPARE_SVG, Comparison, day_range, plan_colour};
 use crate::report::ReportError;
 use crate::report::kit::axis::{Axis, days_axis, linear_axis};
+use crate::report::kit::dates::dated_days_label;
 use crate::report::kit::figure::{self, Canvas, DrawError, Frame, SIZE};
-use crate::report::kit::format::{days_label, target_label};
+use crate::report::kit::format::target_label;
 use crate::report::kit::marks::{self, Stroke};
 use plotters::chart::SeriesLabelPosition;
 
@@ -55,7 +56,11 @@ fn draw(canvas: &Canvas, comparison: &Comparison) -> Result<(), DrawError> {
             ];
             for (days, stroke, raise) in crossings {
                 let Some(days) = days else { continue };
-                let label = format!("{}: {}", target_label(row.target), days_label(days));
+                let label = format!(
+                    "{}: {}",
+                    target_label(row.target),
+                    dated_days_label(days, plan.projection.start)
+                );
                 let point = (days, row.target);
                 marks::mark_crossing(
                     &mut chart,

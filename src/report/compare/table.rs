@@ -4,7 +4,9 @@
 //! (toy median with pseudo-experiments, else Asimov; negative: sooner).
 
 use super::Comparison;
-use crate::report::kit::format::{aligned, days_label, percent_label, target_label};
+use crate::calendar::CalendarDate;
+use crate::report::kit::dates::dated_days_label;
+use crate::report::kit::format::{aligned, percent_label, target_label};
 
 /// The comparison table, with the shared targets and confidence level above it.
 pub fn comparison_table(comparison: &Comparison) -> String {
@@ -26,12 +28,13 @@ pub fn comparison_table(comparison: &Comparison) -> String {
     let mut rows = vec![header];
     for (index, plan) in comparison.plans.iter().enumerate() {
         let mut row = vec![plan.label.clone()];
+        let start = plan.projection.start;
         for ((asimov, median), (first_asimov, first_median)) in
             days_of(comparison, index).into_iter().zip(&reference)
         {
-            row.push(days_cell(asimov));
+            row.push(days_cell(asimov, start));
             if with_toys {
-                row.push(days_cell(median));
+                row.push(days_cell(median, start));
             }
             let (days, first) = if with_toys {
                 (median, *first_median)
@@ -69,8 +72,12 @@ fn days_of(comparison: &Comparison, index: usize) -> Vec<(Option<f64>, Option<f6
     days
 }
 
-fn days_cell(days: Option<f64>) -> String {
-    days.map_or_else(|| "not reached".to_string(), days_label)
+/// "58 d", with its date when the plan has a start ("58 d (2027-04-28)").
+fn days_cell(days: Option<f64>, start: Option<CalendarDate>) -> String {
+    days.map_or_else(
+        || "not reached".to_string(),
+        |days| dated_days_label(days, start),
+    )
 }
 
 /// The difference in whole days, signed ("-45 d", "+12 d").
