@@ -10,8 +10,9 @@
 use crate::asymptotic::AsimovSignificance;
 use crate::likelihood::{FitFailure, Likelihood};
 use crate::model::shapes::Shape;
-use crate::model::{Model, fraction_inside, shape_from_spec};
+use crate::model::{LiveTime, Model, fraction_inside, shape_from_spec};
 use crate::numeric::times_power_of_ten;
+use crate::scenario::limits::MAX_BINS;
 use crate::scenario::{NormUncertainty, Scenario, ShapeSpec};
 use serde::Serialize;
 use std::fmt;
@@ -29,6 +30,9 @@ pub const WIDEST_WINDOW_IN_SIGNAL_WIDTHS: usize = 5;
 /// The recommended bin width is the coarsest whose Z_A is within this
 /// fraction of the best.
 pub const RECOMMENDATION_TOLERANCE: f64 = 0.01;
+/// Smallest window step relative to the peak position (or the range width,
+/// if larger): a thousand times the spacing of doubles, so windows differ.
+pub const SMALLEST_RELATIVE_STEP: f64 = 1e-12;
 /// A signal without a peak is given a width of the range over this number, so
 /// that the scans reach the whole range.
 const PEAKLESS_WIDTHS_PER_RANGE: f64 = 5.0;
@@ -79,22 +83,37 @@ pub struct BinningScan {
     pub best_window: WindowPoint,
 }
 
-/// An Asimov fit of the scan failed.
+/// Why a scan could not be made.
 #[derive(Debug, Clone, PartialEq)]
-pub struct BinningError {
-    /// What was being evaluated, e.g. "bin width 0.25 MeV".
-    pub subject: String,
-    pub live_days: f64,
-    pub failure: FitFailure,
+pub enum BinningError {
+    /// An Asimov fit of the scan failed.
+    Fit {
+        /// What was being evaluated, e.g. "bin width 0.25 MeV".
+        subject: String,
+        live_days: f64,
+        failure: FitFailure,
+    },
+    /// The signal is too narrow for its window steps to be told apart from
+    /// its position in double precision (see [`SMALLEST_RELATIVE_STEP`]).
+    TooNarrow { width: f64, centre: f64 },
 }
 
 impl fmt::Display for BinningError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        write!(
-            f,
-            "the Asimov fit for {} at {:.6} live days failed: {}",
-            self.subject, self.live_days, self.failure
-        )
+        match self {
+            BinningError::Fit {
+                subject,
+                live_days,
+                failure,
+            } => write!(
+                f,
+                "the Asimov fit for {subject} at {live_days:.6} live days failed: {failure}"
+            ),
+            BinningError::TooNarrow { width, centre } => write!(
+                f,
+                "signal.shape: a peak width of {width:e} at {centre} is too narrow to scan; window steps of a {WINDOW_STEPS_PER_SIGNAL_WIDTH}th of it must exceed {SMALLEST_RELATIVE_STEP:e} times the larger of the position and the range width"
+            ),
+        }
     }
 }
 
@@ -104,10 +123,18 @@ impl std::error::Error for BinningError {}
 /// days, which must give some live time.
 pub fn scan_binning(scenario: &Scenario, days: f64) -> Result<BinningScan, BinningError> {
     let observable = &scenario.observable;
-    let live_days = Model::from_scenario(scenario).live_time.live_days(days);
+    let live_days = LiveTime::from_schedule(&scenario.schedule).live_days(days);
     let peak = signal_peak(&scenario.signal.shape, observable.range);
+    let [low, high] = observable.range;
+    let scale = peak.centre.abs().max(high - low);
+    if peak.width / (WINDOW_STEPS_PER_SIGNAL_WIDTH as f64) < SMALLEST_RELATIVE_STEP * scale {
+        return Err(BinningError::TooNarrow {
+            width: peak.width,
+            centre: peak.centre,
+        });
+    }
     let failed = |subject: String| {
-        move |failure| BinningError {
+        move |failure| BinningError::Fit {
             subject,
             live_days,
             failure,
@@ -187,11 +214,14 @@ fn densest_point(shape: &dyn Shape, range: [f64; 2]) -> f64 {
 
 /// Round widths (1, 1.25, 2, 2.5, 4, 5, 8 times a power of ten) from
 /// [`FINEST_BIN_IN_SIGNAL_WIDTHS`] to [`WIDEST_BIN_IN_SIGNAL_WIDTHS`] signal
-/// widths that divide the range into a whole number of bins, and the
-/// scenario's own width; increasing.
+/// widths that divide the range into a whole number of bins, at most
+/// [`MAX_BINS`] as a scenario allows, and the scenario's own width; increasing.
+/// Only widths between the range over [`MAX_BINS`] and the whole range are
+/// tried, so the scan covers at most six decades whatever the signal width.
 pub fn candidate_bin_widths(range: [f64; 2], signal_width: f64, scenario_width: f64) -> Vec<f64> {
-    let finest = FINEST_BIN_IN_SIGNAL_WIDTHS * signal_width;
-    let widest = WIDEST_BIN_IN_SIGNAL_WIDTHS * signal_width;
+    let span = range[1] - range[0];
+    let finest = (FINEST_BIN_IN_SIGNAL_WIDTHS * signal_width).max(span / MAX_BINS as f64);
+    let widest = (WIDEST_BIN_IN_SIGNAL_WIDTHS * signal_width).min(span);
     let first_decade = finest.log10().floor() as i32;
     let last_decade = widest.log10().ceil() as i32;
     let mut widths: Vec<f64> = (first_decade..=last_decade)
@@ -205,10 +235,11 @@ pub fn candidate_bin_widths(range: [f64; 2], signal_width: f64, scenario_width: 
     widths
 }
 
-/// Whether `width` splits the range into a whole number of bins, to rounding.
+/// Whether `width` splits the range into a whole number of bins, to
+/// rounding, and no more than [`MAX_BINS`].
 fn divides(range: [f64; 2], width: f64) -> bool {
     let bins = (range[1] - range[0]) / width;
-    bins.round() >= 1.0 && (bins - bins.round()).abs() <= 1e-9 * bins
+    bins.round() >= 1.0 && bins <= MAX_BINS as f64 && (bins - bins.round()).abs() <= 1e-9 * bins
 }
 
 /// Z_A of the binned shape fit of `scenario` with bins of `bin_width`, which
@@ -534,6 +565,26 @@ mod tests {
         // 3.0 is not round and 7.5 does not divide [0, 100]: neither appears.
         let widths = candidate_bin_widths([0.0, 100.0], 1.5, 3.0);
         assert!(widths.contains(&3.0) && !widths.contains(&7.5));
+    }
+
+    /// However wide or narrow the signal, only widths from the range over
+    /// MAX_BINS to the whole range are tried: a signal 100 wide on [10, 110]
+    /// keeps the round widths from 10 to 100 that divide the range; one 1e308
+    /// or 1e-300 wide leaves the scenario's width alone; one 1e-3 wide starts
+    /// at 1e-3, the range over MAX_BINS, not at 1e-4.
+    #[test]
+    fn candidate_widths_stay_between_the_bin_limit_and_the_range() {
+        let wide = candidate_bin_widths([10.0, 110.0], 100.0, 0.5);
+        assert_eq!(wide, [0.5, 10.0, 12.5, 20.0, 25.0, 50.0, 100.0]);
+        for signal_width in [1e308, 1e-300] {
+            assert_eq!(
+                candidate_bin_widths([10.0, 110.0], signal_width, 0.5),
+                [0.5]
+            );
+        }
+        let near_limit = candidate_bin_widths([0.0, 100.0], 1e-3, 0.5);
+        assert_eq!(near_limit.len(), 7, "{near_limit:?}");
+        assert!((near_limit[0] - 1e-3).abs() < 1e-15, "{near_limit:?}");
     }
 
     #[test]

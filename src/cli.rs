@@ -5,9 +5,33 @@
 //! not HTML, and backticks would show in the help.
 #![allow(rustdoc::invalid_html_tags)]
 
-use crate::report::{DEFAULT_DPI, DPI_RANGE, FigureFormat};
+use crate::error::Error;
+use clap::error::ErrorKind;
 use clap::{Args, Parser, Subcommand};
+use runcast::projection::ShardSpec;
+use runcast::report::{DEFAULT_DPI, DPI_RANGE, FigureFormat};
 use std::path::PathBuf;
+
+/// Parses the command line. A request for help or the version prints it and
+/// exits here, as does a bare `runcast` (help on stderr, exit 2); any other
+/// parse error becomes one [`Error::Usage`] line: the parser's message up to
+/// its first blank line, joined.
+pub fn parse() -> Result<Cli, Error> {
+    Cli::try_parse().map_err(|error| {
+        if !error.use_stderr()
+            || error.kind() == ErrorKind::DisplayHelpOnMissingArgumentOrSubcommand
+        {
+            error.exit();
+        }
+        let rendered = error.to_string();
+        let message: Vec<&str> = rendered
+            .lines()
+            .map(str::trim)
+            .take_while(|line| !line.is_empty())
+            .collect();
+        Error::Usage(message.join(" ").trim_start_matches("error: ").to_string())
+    })
+}
 
 /// runcast: how long a search must run to reach evidence or discovery.
 ///
@@ -63,6 +87,23 @@ pub enum Command {
     /// 2000 bins: toys per second on 1 and 2 threads, draws alone, peak memory,
     /// the Asimov-only projection time; a table on stdout.
     Bench(BenchArgs),
+    /// Merge the shards in DIR (runcast project --shard K/N) into the outputs of the unsharded run.
+    ///
+    /// Checks that DIR holds all N shards of one run (same scenario, seed,
+    /// options and runcast version, each intact), then writes the same files,
+    /// byte for byte, as runcast project without --shard, into DIR.
+    Merge {
+        /// The directory holding the shard files.
+        directory: PathBuf,
+        #[command(flatten)]
+        figures: FigureArgs,
+    },
+    /// Write (and with --submit, submit) a Slurm job array running N shards and a dependent merge job.
+    ///
+    /// Writes DIR/runcast-array.sh (task K runs shard K/N) and DIR/runcast-merge.sh
+    /// (runs after every task succeeded; cancelled if one failed), both plain sbatch
+    /// scripts to read or edit, with absolute paths to this runcast and the scenario.
+    Slurm(SlurmArgs),
 }
 
 #[derive(Debug, Args)]
@@ -79,12 +120,8 @@ pub struct BenchArgs {
 pub struct ProjectArgs {
     /// The scenario file (YAML).
     pub scenario: PathBuf,
-    /// Pseudo-experiments per exposure point (overrides plan.toys).
-    #[arg(long, value_name = "N")]
-    pub toys: Option<usize>,
-    /// Seed of all pseudo-experiments (overrides plan.seed); same seed, same numbers.
-    #[arg(long, value_name = "S")]
-    pub seed: Option<u64>,
+    #[command(flatten)]
+    pub plan: PlanArgs,
     /// Output directory (default: output/<scenario file stem>).
     #[arg(long, value_name = "DIR")]
     pub out: Option<PathBuf>,
@@ -93,6 +130,25 @@ pub struct ProjectArgs {
     /// Worker threads (default: all cores); results do not depend on it.
     #[arg(long, value_name = "N")]
     pub threads: Option<usize>,
+    /// Run only shard K of N of every ensemble and write it to the output
+    /// directory as one shard file (no figures, no summary); runcast merge
+    /// makes the outputs from all N.
+    #[arg(long, value_name = "K/N")]
+    pub shard: Option<ShardSpec>,
+    /// No progress bar.
+    #[arg(long)]
+    pub quiet: bool,
+}
+
+/// What a projection runs, overriding the scenario's plan.
+#[derive(Debug, Args)]
+pub struct PlanArgs {
+    /// Pseudo-experiments per exposure point (overrides plan.toys).
+    #[arg(long, value_name = "N")]
+    pub toys: Option<usize>,
+    /// Seed of all pseudo-experiments (overrides plan.seed); same seed, same numbers.
+    #[arg(long, value_name = "S")]
+    pub seed: Option<u64>,
     /// Skip the pseudo-experiments; asymptotic (Asimov) results only.
     #[arg(long)]
     pub asimov_only: bool,
@@ -102,9 +158,33 @@ pub struct ProjectArgs {
     /// Calibrate the discovery p-value with N background-only pseudo-experiments per point.
     #[arg(long, value_name = "N")]
     pub calibrate: Option<usize>,
-    /// No progress bar.
+}
+
+#[derive(Debug, Args)]
+pub struct SlurmArgs {
+    /// The scenario file (YAML).
+    pub scenario: PathBuf,
+    /// Array tasks, one shard each.
+    #[arg(long, value_name = "N")]
+    pub tasks: usize,
+    /// Directory of the scripts, shards, logs and merged outputs (default:
+    /// output/<scenario file stem>); it must be visible to every node.
+    #[arg(long, value_name = "DIR")]
+    pub out: Option<PathBuf>,
+    #[command(flatten)]
+    pub plan: PlanArgs,
+    /// Slurm partition of both jobs.
+    #[arg(long, value_name = "P")]
+    pub partition: Option<String>,
+    /// Time limit of each array task (and of the merge), as sbatch takes it.
+    #[arg(long, value_name = "HH:MM:SS")]
+    pub time: Option<String>,
+    /// Another sbatch option for both scripts, e.g. --sbatch-arg=--cpus-per-task=8; repeatable.
+    #[arg(long, value_name = "ARG", allow_hyphen_values = true)]
+    pub sbatch_arg: Vec<String>,
+    /// Submit both jobs with sbatch and print their ids (otherwise print the commands).
     #[arg(long)]
-    pub quiet: bool,
+    pub submit: bool,
 }
 
 #[derive(Debug, Args)]

@@ -13,6 +13,7 @@ use poisson::PoissonCounts;
 use rand_distr::{Distribution, Normal};
 use rand_pcg::Pcg64;
 use rayon::prelude::*;
+use std::ops::Range;
 
 /// The random stream of one pseudo-experiment.
 ///
@@ -125,9 +126,11 @@ pub struct EnsembleOutcome {
     pub failed_fits: usize,
 }
 
-/// How many pseudo-experiments, from which seed, with what progress callback.
+/// Which pseudo-experiments, from which seed, with what progress callback.
 pub struct EnsemblePlan<'a> {
-    pub toys: usize,
+    /// Indices of the pseudo-experiments to run: `0..toys` for a whole
+    /// ensemble, a part of it for a shard (`projection::ShardSpec`).
+    pub toys: Range<usize>,
     pub seed: u64,
     /// Called with the number of pseudo-experiments just finished.
     pub progress: &'a (dyn Fn(u64) + Sync),
@@ -160,8 +163,8 @@ impl Family {
 /// Pseudo-experiments per unit of parallel work (and per progress report).
 const CHUNK: usize = 256;
 
-/// Runs `plan.toys` pseudo-experiments drawn by `generator`, in parallel chunks,
-/// each from its own stream (`stream_index`, toy index), and applies `measure`
+/// Runs the pseudo-experiments `plan.toys` drawn by `generator`, in parallel
+/// chunks, each from its own stream (`stream_index`, toy index), and applies `measure`
 /// (with per-thread state made by `state`) to each; None counts as a failed fit.
 ///
 /// Each worker keeps one state and one dataset for all its toys, and the values
@@ -175,12 +178,14 @@ pub fn run_ensemble<S>(
     state: impl Fn() -> S + Sync + Send,
     measure: impl Fn(&mut S, &Dataset) -> Option<f64> + Sync + Send,
 ) -> EnsembleOutcome {
-    let mut values = vec![f64::NAN; plan.toys];
+    let first_toy = plan.toys.start;
+    let mut values = vec![f64::NAN; plan.toys.len()];
     values.par_chunks_mut(CHUNK).enumerate().for_each_init(
         || (state(), generator.empty_dataset()),
         |(state, data), (chunk, results)| {
             for (offset, value) in results.iter_mut().enumerate() {
-                let mut rng = toy_stream(plan.seed, stream_index, chunk * CHUNK + offset);
+                let mut rng =
+                    toy_stream(plan.seed, stream_index, first_toy + chunk * CHUNK + offset);
                 generator.draw(&mut rng, data);
                 *value = measure(state, data).unwrap_or(f64::NAN);
             }
@@ -189,12 +194,12 @@ pub fn run_ensemble<S>(
     );
     values.retain(|value| !value.is_nan());
     EnsembleOutcome {
-        failed_fits: plan.toys - values.len(),
+        failed_fits: plan.toys.len() - values.len(),
         values,
     }
 }
 
-/// Significances Z = sqrt(q0) of `plan.toys` pseudo-experiments generated at
+/// Significances Z = sqrt(q0) of the pseudo-experiments `plan.toys` generated at
 /// nominal parameters (mu = 1) after `live_days`.
 pub fn discovery_ensemble(
     likelihood: &Likelihood,
@@ -213,7 +218,7 @@ pub fn discovery_ensemble(
     )
 }
 
-/// q0 of `plan.toys` pseudo-experiments generated under the background-only
+/// q0 of the pseudo-experiments `plan.toys` generated under the background-only
 /// hypothesis (mu = 0, nuisance parameters nominal) after `live_days`, for the
 /// calibration of discovery p-values.
 pub fn background_only_q0_ensemble(

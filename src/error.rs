@@ -1,12 +1,13 @@
 //! The errors a command can end with; each prints as one line a user can act on.
 
-use crate::benchmark::BenchmarkError;
-use crate::binning::BinningError;
-use crate::projection::ProjectionError;
-use crate::report::ReportError;
-use crate::scenario::ScenarioError;
+use runcast::benchmark::BenchmarkError;
+use runcast::binning::BinningError;
+use runcast::projection::{ProjectionError, ShardError};
+use runcast::report::ReportError;
+use runcast::scenario::ScenarioError;
 use std::fmt;
 use std::path::PathBuf;
+use std::process::ExitCode;
 
 #[derive(Debug)]
 pub enum Error {
@@ -15,6 +16,10 @@ pub enum Error {
         source: ScenarioError,
     },
     Projection(ProjectionError),
+    /// A shard could not be written, or shards not merged.
+    Shard(ShardError),
+    /// sbatch could not be run or refused a script.
+    Slurm(String),
     Binning(BinningError),
     Report(ReportError),
     /// A file the user named could not be written.
@@ -29,6 +34,8 @@ pub enum Error {
     /// Command-line values that parse but make no sense.
     Usage(String),
     Benchmark(BenchmarkError),
+    /// Standard output failed for another reason than a closed pipe.
+    Stdout(std::io::Error),
 }
 
 impl fmt::Display for Error {
@@ -36,11 +43,13 @@ impl fmt::Display for Error {
         match self {
             // A read error names the file itself.
             Error::Scenario {
-                source: source @ ScenarioError::Read { .. },
+                source: source @ (ScenarioError::Read { .. } | ScenarioError::TooLarge { .. }),
                 ..
             } => write!(f, "{source}"),
             Error::Scenario { path, source } => write!(f, "{}: {source}", path.display()),
             Error::Projection(source) => write!(f, "{source}"),
+            Error::Shard(source) => write!(f, "{source}"),
+            Error::Slurm(message) => f.write_str(message),
             Error::Binning(source) => write!(f, "{source}"),
             Error::Report(source) => write!(f, "{source}"),
             Error::Write { path, source } => write!(f, "cannot write {}: {source}", path.display()),
@@ -51,6 +60,19 @@ impl fmt::Display for Error {
             ),
             Error::Usage(message) => f.write_str(message),
             Error::Benchmark(source) => write!(f, "{source}"),
+            Error::Stdout(source) => write!(f, "cannot write to standard output: {source}"),
+        }
+    }
+}
+
+impl Error {
+    /// The exit status: 2 for a usage error (a command-line value the parser
+    /// or a command refuses, as the argument parser itself does), 1 for
+    /// everything else (a bad scenario, a failed fit, a file not written).
+    pub fn exit_code(&self) -> ExitCode {
+        match self {
+            Error::Usage(_) => ExitCode::from(2),
+            _ => ExitCode::FAILURE,
         }
     }
 }
@@ -78,5 +100,11 @@ impl From<BenchmarkError> for Error {
 impl From<ReportError> for Error {
     fn from(source: ReportError) -> Error {
         Error::Report(source)
+    }
+}
+
+impl From<ShardError> for Error {
+    fn from(source: ShardError) -> Error {
+        Error::Shard(source)
     }
 }

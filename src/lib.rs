@@ -8,23 +8,22 @@
 //! `asymptotic` holds the Asimov answers the projection cross-checks against;
 //! `spectrum` draws pseudo-data spectra and `binning` scans bin widths and
 //! counting windows, both for planning beside the projection;
-//! `cli` and `commands` are the command-line front end; `benchmark` measures
-//! the engine.
+//! `warning` types what may be wrong with a scenario or results;
+//! `benchmark` measures the engine. The command-line front end lives with
+//! the binary (`src/main.rs` and its modules), so the engine does not depend on
+//! the argument parser or the progress bar.
 
 pub mod asymptotic;
 pub mod benchmark;
 pub mod binning;
 pub mod calendar;
-pub mod cli;
-pub mod commands;
 pub mod ensemble;
-pub mod error;
 pub mod likelihood;
 pub mod limits;
 pub mod model;
 pub mod numeric;
-pub mod progress;
 pub mod projection;
 pub mod report;
 pub mod scenario;
 pub mod spectrum;
+pub mod warning;

@@ -19,7 +19,7 @@ fn calibrated_p_value(
         .at_live_days(live_days)
         .unwrap();
     let plan = EnsemblePlan {
-        toys,
+        toys: 0..toys,
         seed: 1954,
         progress: &|_| {},
     };

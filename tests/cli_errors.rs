@@ -353,10 +353,20 @@ fn bad_command_line_values_are_named() {
     let scratch = Scratch::new("command-line");
     fs::write(scratch.path.join(SCENARIO), BASE).unwrap();
     let before = scratch.entries();
-    let cases: [(&[&str], &[&str]); 4] = [
+    let cases: [(&[&str], &[&str]); 6] = [
         (
             &["project", SCENARIO, "--out", "out", "--toys", "0"],
             &["--toys"],
+        ),
+        (
+            &["project", SCENARIO, "--out", "out", "--toys", "abc"],
+            &["--toys", "abc"],
+        ),
+        (
+            // One toy cannot resolve any tail: p = 1/N must be below
+            // 1 - Phi(1) = 0.1587 (standard normal table; common practice).
+            &["project", SCENARIO, "--out", "out", "--calibrate", "1"],
+            &["--calibrate 1", "at least 7"],
         ),
         (
             &["project", SCENARIO, "--out", "out", "--calibrate", "0"],
@@ -396,4 +406,289 @@ fn a_signal_peak_outside_the_range_is_only_a_warning() {
     assert!(stderr.contains("warning"), "{stderr}");
     assert!(stderr.contains("signal.shape.gaussian.mean"), "{stderr}");
     assert!(scratch.path.join("out").join("projection.json").is_file());
+}
+
+#[test]
+fn requests_beyond_the_documented_limits_are_named() {
+    // The limits are listed in README ("Limits") and src/scenario/limits.rs.
+    let deep = format!(
+        "{}\nextra: {}{}\n",
+        BASE,
+        "[".repeat(100_000),
+        "]".repeat(100_000)
+    );
+    let cases: [(&str, String, &[&str]); 11] = [
+        (
+            "grid points near 2^63",
+            edited("points: 4", "points: 9223372036854775000"),
+            &["plan.days.points: ", "10000"],
+        ),
+        (
+            "a million grid points",
+            edited("points: 4", "points: 1000000"),
+            &["plan.days.points: ", "10000"],
+        ),
+        (
+            "toys at 2^64 - 1",
+            edited("toys: 100", "toys: 18446744073709551615"),
+            &["plan.toys: ", "10000000"],
+        ),
+        (
+            "toys at 10^12",
+            edited("toys: 100", "toys: 1000000000000"),
+            &["plan.toys: ", "10000000"],
+        ),
+        (
+            "toys times points beyond the total",
+            edited("toys: 100", "toys: 9000000").replace("points: 4", "points: 100"),
+            &["plan.toys: ", "1000000000"],
+        ),
+        (
+            "a target of 1.7e308 sigma",
+            edited("targets: [3, 5]", "targets: [3, 1.7e+308]"),
+            &["plan.targets[1]: ", "100 sigma"],
+        ),
+        (
+            "seventeen targets",
+            edited("targets: [3, 5]", &format!("targets: {:?}", [3.0; 17])),
+            &["plan.targets: ", "16"],
+        ),
+        (
+            "a unit of 65,530 characters",
+            edited("unit: keV", &format!("unit: {}", "k".repeat(65_530))),
+            &["observable.unit: ", "200 characters"],
+        ),
+        (
+            "a background name of 201 characters",
+            edited(
+                "  - name: continuum",
+                &format!("  - name: {}", "x".repeat(201)),
+            ),
+            &["backgrounds[0].name: ", "200 characters"],
+        ),
+        (
+            "a tiny range the bin width does not divide",
+            edited(
+                "range: [0.0, 100.0], bin_width: 5.0",
+                "range: [1000000.0, 1000000.000001], bin_width: 1e-7",
+            ),
+            // 10.0000076 bins, not "10 bins".
+            &["observable.bin_width: ", "(10.0001 bins)"],
+        ),
+        (
+            "100,000 nested brackets",
+            deep,
+            &["line 22: ", "nested 100000 deep", "32 levels"],
+        ),
+    ];
+    assert_rejected("requests-beyond-the-documented-limits-are-named", &cases);
+}
+
+#[test]
+fn control_characters_in_text_are_named() {
+    // They would go raw into the SVG text and break the XML (XML 1.0, sec. 2.2:
+    // no control characters other than tab and line breaks; common practice).
+    let cases: [(&str, String, &[&str]); 3] = [
+        (
+            "escape in the title",
+            edited(
+                "title: Command-line test scenario (invented numbers)",
+                "title: \"Command-line test\\e scenario\"",
+            ),
+            &["title: ", "control characters"],
+        ),
+        (
+            "bell in a background name",
+            edited("  - name: continuum", "  - name: \"contin\\auum\""),
+            &["backgrounds[0].name: ", "control characters"],
+        ),
+        (
+            "line break in the unit",
+            edited("unit: keV", "unit: \"k\\neV\""),
+            &["observable.unit: ", "control characters"],
+        ),
+    ];
+    assert_rejected("control-characters-in-text-are-named", &cases);
+}
+
+#[test]
+fn command_line_requests_beyond_the_limits_are_named() {
+    let scratch = Scratch::new("command-line-limits");
+    fs::write(scratch.path.join(SCENARIO), BASE).unwrap();
+    fs::write(
+        scratch.path.join("big.yaml"),
+        edited("first: 1, last: 100", "first: 1, last: 1e+18"),
+    )
+    .unwrap();
+    let before = scratch.entries();
+    let project = |extra: &'static [&'static str]| -> Vec<&'static str> {
+        [&["project", SCENARIO, "--out", "out", "--quiet"], extra].concat()
+    };
+    let many_days: Vec<String> = (1..=9).map(|day| day.to_string()).collect();
+    let mut spectrum_nine = vec!["spectrum", SCENARIO, "--out", "out"];
+    for day in &many_days {
+        spectrum_nine.extend(["--days", day.as_str()]);
+    }
+    let cases: Vec<(Vec<&str>, &[&str])> = vec![
+        (
+            project(&["--toys", "18446744073709551615"]),
+            &["--toys 18446744073709551615", "10000000"],
+        ),
+        (
+            project(&["--toys", "1000000000000"]),
+            &["--toys 1000000000000", "10000000"],
+        ),
+        (
+            project(&["--calibrate", "18446744073709551615"]),
+            &["--calibrate 18446744073709551615", "10000000"],
+        ),
+        (
+            project(&["--asimov-only", "--threads", "10000"]),
+            &["--threads 10000", "1024"],
+        ),
+        (spectrum_nine, &["--days", "at most 8 exposures"]),
+        (
+            // 40 events per live day in 20 bins for 1e300 days.
+            vec!["spectrum", SCENARIO, "--out", "out", "--days", "1e300"],
+            &["--days 1e300", "9.007199254740992e15"],
+        ),
+        (vec!["check", "/dev/zero"], &["/dev/zero", "1048576 bytes"]),
+        (
+            // 40 events per live day over 20 bins for 1e18 days, with toys.
+            vec!["project", "big.yaml", "--out", "out", "--toys", "3"],
+            &["big.yaml: plan.days.last: ", "9.007199254740992e15"],
+        ),
+    ];
+    let failures: Vec<String> = cases
+        .iter()
+        .filter_map(|(args, expected)| {
+            let output = scratch.run(args);
+            misbehaviour(&scratch, &output, expected, &before)
+                .map(|problem| format!("{args:?}: {problem}"))
+        })
+        .collect();
+    assert!(failures.is_empty(), "\n{}", failures.join("\n"));
+}
+
+#[test]
+fn binning_recommends_only_widths_that_check_accepts() {
+    // A peak of sigma 0.002 on a range of 100: the round candidates from 0.1
+    // sigma would give up to 500,000 bins, beyond the 100,000 a scenario
+    // allows; they are skipped, so the recommendation is always a valid width.
+    let scratch = Scratch::new("binning-limit");
+    let narrow = edited("sigma: 2.0", "sigma: 0.002");
+    fs::write(scratch.path.join(SCENARIO), &narrow).unwrap();
+    let output = scratch.run(&["binning", SCENARIO, "--days", "10", "--out", "out"]);
+    assert!(
+        output.status.success(),
+        "{}",
+        String::from_utf8_lossy(&output.stderr)
+    );
+    let json = fs::read_to_string(scratch.path.join("out").join("binning.json")).unwrap();
+    let scan: serde_json::Value = serde_json::from_str(&json).unwrap();
+    let recommended = scan["recommended_bin_width"].as_f64().unwrap();
+    for point in scan["bin_widths"].as_array().unwrap() {
+        let width = point["width"].as_f64().unwrap();
+        assert!(100.0 / width <= 100_000.0 * (1.0 + 1e-9), "width {width}");
+    }
+    let rebinned = narrow.replace("bin_width: 5.0", &format!("bin_width: {recommended:e}"));
+    fs::write(scratch.path.join(SCENARIO), rebinned).unwrap();
+    let check = scratch.run(&["check", SCENARIO]);
+    assert!(
+        check.status.success(),
+        "recommended {recommended}: {}",
+        String::from_utf8_lossy(&check.stderr)
+    );
+
+    // A peak of sigma 1e-7 asked for 10^10 bins (80 GB) before the limit; now
+    // the scan keeps to the scenario's width and windows of 2e-9.
+    let scratch = Scratch::new("binning-narrow");
+    fs::write(
+        scratch.path.join(SCENARIO),
+        edited("sigma: 2.0", "sigma: 1e-7"),
+    )
+    .unwrap();
+    let output = scratch.run(&["binning", SCENARIO, "--days", "10", "--out", "out"]);
+    assert!(
+        output.status.success(),
+        "{}",
+        String::from_utf8_lossy(&output.stderr)
+    );
+
+    let scratch = Scratch::new("binning-too-narrow");
+    fs::write(
+        scratch.path.join(SCENARIO),
+        edited("sigma: 2.0", "sigma: 1e-300"),
+    )
+    .unwrap();
+    let before = scratch.entries();
+    let output = scratch.run(&["binning", SCENARIO, "--days", "10", "--out", "out"]);
+    if let Some(problem) = misbehaviour(&scratch, &output, &["signal.shape", "too narrow"], &before)
+    {
+        panic!("{problem}");
+    }
+}
+
+#[test]
+fn usage_errors_exit_2_and_other_errors_exit_1() {
+    // The convention of README ("Commands"): a refused command-line value exits
+    // 2, whether the argument parser or the command refuses it; a bad scenario,
+    // a failed fit or an unwritable file exits 1.
+    let scratch = Scratch::new("exit-codes");
+    fs::write(scratch.path.join(SCENARIO), BASE).unwrap();
+    fs::write(
+        scratch.path.join("bad.yaml"),
+        edited("toys: 100", "toys: 0"),
+    )
+    .unwrap();
+    let cases: [(&[&str], i32); 8] = [
+        (&["project", SCENARIO, "--toys", "abc"], 2),
+        (&["project", SCENARIO, "--toys", "0"], 2),
+        (&["project", SCENARIO, "--calibrate", "3"], 2),
+        (&["project", SCENARIO, "--threads", "0"], 2),
+        (&["spectrum", SCENARIO, "--days", "0"], 2),
+        (&["project", SCENARIO, "--no-such-flag"], 2),
+        (&["check", "bad.yaml"], 1),
+        (&["check", "missing.yaml"], 1),
+    ];
+    for (args, expected) in cases {
+        let output = scratch.run(args);
+        assert_eq!(
+            output.status.code(),
+            Some(expected),
+            "{args:?}: {}",
+            String::from_utf8_lossy(&output.stderr)
+        );
+        let stderr = String::from_utf8_lossy(&output.stderr);
+        assert!(
+            stderr.starts_with("runcast: error: ") && stderr.trim_end().lines().count() == 1,
+            "{args:?}: {stderr}"
+        );
+    }
+}
+
+#[test]
+fn a_closed_stdout_pipe_is_a_normal_end() {
+    // `runcast check FILE | head -1`: the reader closes the pipe before the
+    // check prints (it first runs an Asimov projection), so every write meets
+    // a broken pipe; that ends the output, with exit 0 and nothing on stderr.
+    let scratch = Scratch::new("broken-pipe");
+    fs::write(scratch.path.join(SCENARIO), BASE).unwrap();
+    for args in [
+        &["check", SCENARIO][..],
+        &["project", SCENARIO, "--asimov-only", "--out", "out"][..],
+    ] {
+        let mut child = std::process::Command::new(env!("CARGO_BIN_EXE_runcast"))
+            .args(args)
+            .current_dir(&scratch.path)
+            .stdout(std::process::Stdio::piped())
+            .stderr(std::process::Stdio::piped())
+            .spawn()
+            .expect("start runcast");
+        drop(child.stdout.take());
+        let output = child.wait_with_output().expect("wait for runcast");
+        let stderr = String::from_utf8_lossy(&output.stderr);
+        assert_eq!(output.status.code(), Some(0), "{args:?}: {stderr}");
+        assert!(stderr.is_empty(), "{args:?}: {stderr}");
+    }
 }

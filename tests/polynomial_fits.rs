@@ -25,7 +25,7 @@ fn floated_polynomial(signal: f64, coefficients: &str) -> String {
 
 fn plan(toys: usize) -> EnsemblePlan<'static> {
     EnsemblePlan {
-        toys,
+        toys: 0..toys,
         seed: 8,
         progress: &|_| {},
     }

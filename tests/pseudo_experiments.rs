@@ -11,7 +11,7 @@ use runcast::projection::quantile;
 
 fn plan(toys: usize, seed: u64) -> EnsemblePlan<'static> {
     EnsemblePlan {
-        toys,
+        toys: 0..toys,
         seed,
         progress: &|_| {},
     }

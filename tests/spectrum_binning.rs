@@ -327,3 +327,30 @@ fn both_commands_work_on_every_demo_scenario() {
         fs::remove_dir_all(out).unwrap();
     }
 }
+
+#[test]
+fn many_long_days_give_a_short_file_name() {
+    // Eight days of six characters each would make a 72-byte stem; beyond 64
+    // bytes the name is `spectrum-<count>-exposures-<hash>` (README, Limits).
+    let out = scratch("long-names");
+    let scenario = demo("narrow_peak.yaml");
+    let days: Vec<String> = (1..=8).map(|i| format!("{i}0.125")).collect();
+    let mut arguments = vec!["spectrum", scenario.to_str().unwrap()];
+    for day in &days {
+        arguments.extend(["--days", day.as_str()]);
+    }
+    arguments.extend(["--out", out.to_str().unwrap()]);
+    succeeds(&arguments);
+    let mut names: Vec<String> = fs::read_dir(&out)
+        .unwrap()
+        .map(|entry| entry.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    names.sort();
+    assert_eq!(names.len(), 2, "{names:?}");
+    for (name, extension) in names.iter().zip([".csv", ".svg"]) {
+        let stem = name.strip_suffix(extension).expect("csv and svg");
+        assert!(stem.starts_with("spectrum-8-exposures-"), "{name}");
+        assert!(stem.len() <= 64, "{name}");
+    }
+    fs::remove_dir_all(&out).unwrap();
+}

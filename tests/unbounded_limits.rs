@@ -11,6 +11,11 @@ use std::fs;
 /// The counting-window demo with one line replaced, projected with a few toys;
 /// returns the parsed `projection.json`.
 fn project_demo_with(label: &str, from: &str, to: &str) -> Value {
+    run_demo_with(label, from, to).0
+}
+
+/// As `project_demo_with`, also returning the summary printed on stdout.
+fn run_demo_with(label: &str, from: &str, to: &str) -> (Value, String) {
     let demo = fs::read_to_string(concat!(
         env!("CARGO_MANIFEST_DIR"),
         "/scenarios/counting_window.yaml"
@@ -34,7 +39,8 @@ fn project_demo_with(label: &str, from: &str, to: &str) -> Value {
         String::from_utf8_lossy(&output.stderr)
     );
     let bytes = fs::read(scratch.path.join("out/projection.json")).unwrap();
-    serde_json::from_slice(&bytes).expect("projection.json is JSON")
+    let json = serde_json::from_slice(&bytes).expect("projection.json is JSON");
+    (json, String::from_utf8(output.stdout).unwrap())
 }
 
 fn points(projection: &Value) -> &Vec<Value> {
@@ -107,5 +113,52 @@ fn a_vanishing_first_day_only_loses_its_own_point() {
     assert!(
         asimov > without_uncertainty,
         "{asimov} d, below {without_uncertainty} d without the uncertainty"
+    );
+}
+
+#[test]
+fn limit_toys_that_never_ran_are_not_counted() {
+    // No Asimov limit is bounded (a_huge_signal_yield_uncertainty_excludes_nothing),
+    // so no limit toy runs at any of the 24 points: once reported as
+    // "0 of 4800" failed.
+    let (_, summary) = run_demo_with(
+        "yield-summary",
+        "  shape: {flat: {}}\nbackgrounds:",
+        "  shape: {flat: {}}\n  yield_uncertainty: 1e6\nbackgrounds:",
+    );
+    assert!(
+        summary.contains(
+            "Failed fits (limits): none run (no live time, or no bounded Asimov limit \
+             at any of the 24 points).\n"
+        ),
+        "{summary}"
+    );
+}
+
+#[test]
+fn toys_before_any_live_time_are_not_counted() {
+    // A first period of 10 days at rate 0: the grid days 5, 6.5 and 8.4 (24
+    // points from 5 to 2000, even in ratio) have no live time, so toys run
+    // at 21 points only, 200 each.
+    let (projection, summary) = run_demo_with(
+        "dark-start",
+        "live_fraction: 0.9",
+        "live_fraction: 0.9\n  periods: [{days: 10, rate_scale: 0}]",
+    );
+    let dark = points(&projection)
+        .iter()
+        .filter(|point| point["live_days"] == 0.0)
+        .count();
+    assert_eq!(dark, 3);
+    assert!(
+        summary.contains(
+            "Failed fits: 0 of 4200 pseudo-experiments (0.00%), excluded from the quantiles; \
+             none ran at 3 of 24 points (no live time).\n"
+        ),
+        "{summary}"
+    );
+    assert!(
+        summary.contains("Failed fits (limits): 0 of 4200 background-only pseudo-experiments"),
+        "{summary}"
     );
 }

@@ -271,7 +271,7 @@ fn pool(threads: usize) -> Result<rayon::ThreadPool, BenchmarkError> {
 /// `toys` full toys generated at nominal parameters (mu = 1), with their failed fits.
 fn time_toys(likelihood: &Likelihood, toys: usize) -> (Timing, usize) {
     let plan = EnsemblePlan {
-        toys,
+        toys: 0..toys,
         seed: SEED,
         progress: &|_| {},
     };
@@ -313,7 +313,7 @@ fn time_draws(likelihood: &Likelihood, toys: usize) -> Timing {
 /// `toys` toys generated with mu = 0, as for calibrating q0 by pseudo-experiments.
 fn time_background_only(likelihood: &Likelihood, toys: usize) -> (Timing, usize) {
     let plan = EnsemblePlan {
-        toys,
+        toys: 0..toys,
         seed: SEED,
         progress: &|_| {},
     };

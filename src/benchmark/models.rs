@@ -47,7 +47,8 @@ mod tests {
     fn every_benchmark_model_builds_with_its_bins_and_three_parameters() {
         for bins in BIN_COUNTS {
             let model = model(bins).expect("built-in scenario is valid");
-            assert_eq!(model.bin_count(), bins);
+            let model_bins: usize = model.channels.iter().map(|c| c.edges.len() - 1).sum();
+            assert_eq!(model_bins, bins);
             assert_eq!(model.parameters.len(), 3);
             assert_eq!(model.constraints.len(), 1);
         }

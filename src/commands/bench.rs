@@ -1,8 +1,9 @@
 //! `runcast bench`: the engine's throughput, scaling and memory on built-in models.
 
-use crate::benchmark::{self, Length, PROBE_FLAG};
 use crate::cli::BenchArgs;
 use crate::error::Error;
+use crate::stdout;
+use runcast::benchmark::{self, Length, PROBE_FLAG};
 
 pub fn run(args: &BenchArgs) -> Result<(), Error> {
     if let Some(argument) = &args.memory_probe {
@@ -11,8 +12,7 @@ pub fn run(args: &BenchArgs) -> Result<(), Error> {
                 "{PROBE_FLAG} {argument}: expected POINTS:TOYS, at least one point"
             ))
         })?;
-        println!("{}", benchmark::probe_in_process(points, toys)?);
-        return Ok(());
+        return stdout::print(&format!("{}\n", benchmark::probe_in_process(points, toys)?));
     }
     let length = if args.quick {
         Length::Quick
@@ -20,6 +20,5 @@ pub fn run(args: &BenchArgs) -> Result<(), Error> {
         Length::Full
     };
     let report = benchmark::run(length, &|step| eprintln!("runcast bench: {step}"))?;
-    print!("{}", benchmark::render(&report));
-    Ok(())
+    stdout::print(&benchmark::render(&report))
 }

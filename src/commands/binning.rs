@@ -1,22 +1,24 @@
 //! `runcast binning`: the bin width and counting window scans at one exposure.
 
-use super::{check_days, figure_formats, load_scenario, output_directory};
-use crate::binning::scan_binning;
+use super::{print_warnings, wrote};
 use crate::cli::BinningArgs;
 use crate::error::Error;
-use crate::report;
+use crate::options::BinningOptions;
+use crate::stdout;
+use runcast::binning::scan_binning;
+use runcast::report;
 
 pub fn run(args: &BinningArgs) -> Result<(), Error> {
-    let scenario = load_scenario(&args.scenario)?;
-    check_days(&scenario, args.days)?;
-    let formats = figure_formats(&args.figures)?;
-    let scan = scan_binning(&scenario, args.days)?;
+    let options = BinningOptions::resolve(args)?;
+    print_warnings(&options.loaded);
+    let scan = scan_binning(&options.loaded.scenario, options.days)?;
     let reports = report::render_binning(&scan)?;
-    let out = output_directory(&args.scenario, args.out.as_deref());
-    let written = report::write_all(&out, reports, &report::BINNING_FILES, &formats)?;
-    print!("{}", report::binning_table(&scan));
-    for name in &written.files {
-        println!("wrote {}", out.join(name).display());
-    }
-    Ok(())
+    let written = report::write_all(
+        &options.out,
+        reports,
+        &report::BINNING_FILES,
+        &options.formats,
+    )?;
+    stdout::print(&report::binning_table(&scan))?;
+    stdout::print(&wrote(&options.out, &written.files))
 }

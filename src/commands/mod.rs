@@ -1,19 +1,20 @@
-//! The commands: each loads what it needs, calls the engine and reports.
+//! The commands: each resolves its options, calls the engine and reports.
 
 mod bench;
 mod binning;
 mod check;
 mod compare;
+mod merge;
 mod new;
 mod project;
+mod slurm;
 mod spectrum;
 
-use crate::cli::{Cli, Command, FigureArgs};
+use crate::cli::{Cli, Command};
 use crate::error::Error;
-use crate::model::Model;
-use crate::report::FigureFormats;
-use crate::scenario::Scenario;
-use std::path::{Path, PathBuf};
+use crate::options::Loaded;
+use runcast::report;
+use std::path::Path;
 
 /// Runs one command line.
 pub fn run(cli: Cli) -> Result<(), Error> {
@@ -25,57 +26,26 @@ pub fn run(cli: Cli) -> Result<(), Error> {
         Command::Compare(args) => compare::run(&args),
         Command::New { file } => new::run(&file),
         Command::Bench(args) => bench::run(&args),
+        Command::Merge { directory, figures } => merge::run(&directory, &figures),
+        Command::Slurm(args) => slurm::run(&args),
     }
 }
 
-/// Loads a scenario and prints its warnings to stderr.
-fn load_scenario(path: &Path) -> Result<Scenario, Error> {
-    let scenario = Scenario::load(path).map_err(|source| Error::Scenario {
-        path: path.to_path_buf(),
-        source,
-    })?;
-    for warning in scenario.warnings() {
-        eprintln!("runcast: warning: {}: {warning}", path.display());
-    }
-    Ok(scenario)
-}
-
-/// `out`, or `output/<scenario file stem>`.
-fn output_directory(scenario: &Path, out: Option<&Path>) -> PathBuf {
-    out.map(Path::to_path_buf).unwrap_or_else(|| {
-        let stem = scenario.file_stem().map_or_else(
-            || "scenario".into(),
-            |stem| stem.to_string_lossy().into_owned(),
+/// Prints the scenario's warnings to stderr.
+fn print_warnings(loaded: &Loaded) {
+    for warning in loaded.scenario.warnings() {
+        eprintln!(
+            "runcast: warning: {}: {}",
+            loaded.path.display(),
+            report::warning_text(&warning)
         );
-        Path::new("output").join(stem)
-    })
+    }
 }
 
-/// Checks that `days` are calendar days after which the scenario has taken
-/// some data: finite, above zero, with live time by then.
-fn check_days(scenario: &Scenario, days: f64) -> Result<(), Error> {
-    if !(days.is_finite() && days > 0.0) {
-        return Err(Error::Usage(format!(
-            "--days {days}: expected calendar days above 0"
-        )));
-    }
-    let live_days = Model::from_scenario(scenario).live_time.live_days(days);
-    if live_days <= 0.0 {
-        return Err(Error::Usage(format!(
-            "--days {days}: the schedule gives no live time by then (live days {live_days})"
-        )));
-    }
-    Ok(())
-}
-
-/// The figure formats and PNG resolution asked for.
-fn figure_formats(args: &FigureArgs) -> Result<FigureFormats, Error> {
-    FigureFormats::new(&args.formats, args.dpi).ok_or_else(|| {
-        Error::Usage(format!(
-            "--format, --dpi {}: expected at least one format and a resolution from {} to {}",
-            args.dpi,
-            crate::report::DPI_RANGE.start(),
-            crate::report::DPI_RANGE.end()
-        ))
-    })
+/// The "wrote FILE" lines after the files `names` went to `out`.
+fn wrote(out: &Path, names: &[String]) -> String {
+    names
+        .iter()
+        .map(|name| format!("wrote {}\n", out.join(name).display()))
+        .collect()
 }

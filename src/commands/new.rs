@@ -1,8 +1,9 @@
 //! `runcast new FILE`: a commented template scenario.
 
 use crate::error::Error;
-use crate::report;
-use crate::scenario::TEMPLATE;
+use crate::stdout;
+use runcast::report;
+use runcast::scenario::TEMPLATE;
 use std::path::Path;
 
 /// Writes the template to `file`, refusing to replace anything
@@ -21,10 +22,7 @@ pub fn run(file: &Path) -> Result<(), Error> {
         )));
     }
     match report::write_new(file, TEMPLATE.as_bytes()) {
-        Ok(()) => {
-            println!("wrote template scenario {}", file.display());
-            Ok(())
-        }
+        Ok(()) => stdout::print(&format!("wrote template scenario {}\n", file.display())),
         Err(source) if source.kind() == std::io::ErrorKind::AlreadyExists => Err(Error::Exists {
             path: file.to_path_buf(),
         }),

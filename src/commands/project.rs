@@ -1,88 +1,86 @@
 //! `runcast project`: the main job.
 
-use super::{figure_formats, load_scenario, output_directory};
+use super::print_warnings;
 use crate::cli::ProjectArgs;
 use crate::error::Error;
-use crate::model::Model;
+use crate::options::ProjectOptions;
 use crate::progress::toy_progress;
-use crate::projection::{Projection, ProjectionSettings, project};
-use crate::report;
-use crate::scenario::Scenario;
+use crate::stdout;
+use runcast::projection::{self, Projection, ShardRun, ShardSpec, project};
+use runcast::report;
+use std::path::Path;
 
 pub fn run(args: &ProjectArgs) -> Result<(), Error> {
-    let scenario = load_scenario(&args.scenario)?;
-    let settings = settings(&scenario, args)?;
-    let out = output_directory(&args.scenario, args.out.as_deref());
-    let formats = figure_formats(&args.figures)?;
-    let projection = projection(&scenario, &settings, args)?;
-
-    let reports = report::render_all(&projection)?;
-    let written = report::write_all(&out, reports, &report::PROJECTION_FILES, &formats)?;
-    print!("{}", report::summary(&projection));
-    println!("wrote {}", out.display());
-    for name in written.removed {
-        println!(
-            "removed {} (left from an earlier run)",
-            out.join(name).display()
-        );
+    let options = ProjectOptions::resolve(args)?;
+    print_warnings(&options.loaded);
+    if let Some(shard) = options.shard {
+        return run_shard(&options, shard);
     }
-    Ok(())
+    let projection = projection(&options)?;
+    let reports = report::render_all(&projection)?;
+    let written = report::write_all(
+        &options.out,
+        reports,
+        &report::PROJECTION_FILES,
+        &options.formats,
+    )?;
+    stdout::print(&report::summary(&projection))?;
+    stdout::print(&format!("wrote {}\n", options.out.display()))?;
+    stdout::print(&removed_lines(&options.out, &written.removed))
 }
 
-/// The projection of `scenario` with `settings`, on `args.threads` workers,
-/// with a progress bar unless `args.quiet`.
-pub(super) fn projection(
-    scenario: &Scenario,
-    settings: &ProjectionSettings,
-    args: &ProjectArgs,
-) -> Result<Projection, Error> {
-    let model = Model::from_scenario(scenario);
-    let bar = toy_progress(settings.total_toys(), args.quiet);
+/// The projection `options` ask for, on their worker threads, with a
+/// progress bar unless quiet.
+pub(super) fn projection(options: &ProjectOptions) -> Result<Projection, Error> {
+    let settings = &options.settings;
+    let bar = toy_progress(settings.total_toys(), options.quiet);
     let progress = |done: u64| bar.inc(done);
-    let projection = with_threads(args.threads, || project(&model, settings, &progress))??;
+    let projection = with_threads(options.threads, || {
+        project(&options.model, settings, &progress)
+    })??;
     bar.finish_and_clear();
     Ok(projection)
 }
 
-/// What `runcast project` runs with `args` on `scenario`.
-pub(super) fn settings(
-    scenario: &Scenario,
-    args: &ProjectArgs,
-) -> Result<ProjectionSettings, Error> {
-    if args.toys == Some(0) && !args.asimov_only {
-        return Err(Error::Usage(
-            "--toys: must be at least 1 (use --asimov-only to skip pseudo-experiments)".into(),
-        ));
-    }
-    if args.calibrate == Some(0) {
-        return Err(Error::Usage(
-            "--calibrate: must be at least 1 pseudo-experiment".into(),
-        ));
-    }
-    let toys = if args.asimov_only {
-        0
-    } else {
-        args.toys.unwrap_or(scenario.plan.toys)
-    };
-    Ok(ProjectionSettings {
-        title: scenario.title.clone(),
-        days: scenario.plan.days.days(),
-        toys,
-        seed: args.seed.unwrap_or(scenario.plan.seed),
-        targets: scenario.plan.targets.clone(),
-        cl: (!args.no_limits).then_some(scenario.plan.cl),
-        calibration_toys: args.calibrate.unwrap_or(0),
-    })
+/// `--shard K/N`: runs the shard's toys and writes its file into the output
+/// directory; `runcast merge` makes the outputs.
+fn run_shard(options: &ProjectOptions, shard: ShardSpec) -> Result<(), Error> {
+    let loaded = &options.loaded;
+    let run = ShardRun::new(
+        loaded.file_name(),
+        loaded.text.clone(),
+        options.settings.clone(),
+    );
+    let bar = toy_progress(options.settings.total_toys_in(shard), options.quiet);
+    let progress = |done: u64| bar.inc(done);
+    let path = with_threads(options.threads, || {
+        projection::run_shard(&options.model, &run, shard, &options.out, &progress)
+    })??;
+    bar.finish_and_clear();
+    stdout::print(&format!("wrote shard {shard}: {}\n", path.display()))
+}
+
+/// The "removed FILE" lines for files of the output set left from an earlier
+/// run that `write_all` removed from `out`.
+pub(super) fn removed_lines(out: &Path, removed: &[String]) -> String {
+    removed
+        .iter()
+        .map(|name| {
+            format!(
+                "removed {} (left from an earlier run)\n",
+                out.join(name).display()
+            )
+        })
+        .collect()
 }
 
 /// Runs `work` on a pool of `threads` workers (the global pool when None).
-fn with_threads<T: Send>(
+pub(super) fn with_threads<T: Send>(
     threads: Option<usize>,
     work: impl FnOnce() -> T + Send,
 ) -> Result<T, Error> {
     match threads {
         None => Ok(work()),
-        Some(0) => Err(Error::Usage("--threads: must be at least 1".into())),
         Some(threads) => rayon::ThreadPoolBuilder::new()
             .num_threads(threads)
             .build()

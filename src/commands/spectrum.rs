@@ -1,44 +1,31 @@
 //! `runcast spectrum`: pseudo-data spectra at one or more exposures.
 
-use super::{check_days, figure_formats, load_scenario, output_directory};
+use super::{print_warnings, wrote};
 use crate::cli::SpectrumArgs;
 use crate::error::Error;
-use crate::report;
-use crate::spectrum::pseudo_data_spectrum;
+use crate::options::SpectrumOptions;
+use crate::stdout;
+use runcast::report;
+use runcast::scenario::limits::MAX_EXPECTED_COUNT_PER_BIN;
+use runcast::scenario::show_number;
+use runcast::spectrum::pseudo_data_spectrum;
 
 pub fn run(args: &SpectrumArgs) -> Result<(), Error> {
-    let scenario = load_scenario(&args.scenario)?;
-    for (index, &days) in args.days.iter().enumerate() {
-        check_days(&scenario, days)?;
-        if args.days[..index].contains(&days) {
-            return Err(Error::Usage(format!("--days {days}: given more than once")));
+    let options = SpectrumOptions::resolve(args)?;
+    print_warnings(&options.loaded);
+    let spectrum = pseudo_data_spectrum(&options.loaded.scenario, &options.days, options.seed);
+    for exposure in &spectrum.exposures {
+        let largest = exposure.largest_expected();
+        if largest > MAX_EXPECTED_COUNT_PER_BIN {
+            return Err(Error::Usage(format!(
+                "--days {}: expects {largest:e} events in a bin, more than the {MAX_EXPECTED_COUNT_PER_BIN:e} a pseudo-dataset can draw exactly",
+                show_number(exposure.days)
+            )));
         }
     }
-    let formats = figure_formats(&args.figures)?;
-    let seed = args.seed.unwrap_or(scenario.plan.seed);
-    let spectrum = pseudo_data_spectrum(&scenario, &args.days, seed);
     let reports = report::render_spectrum(&spectrum)?;
-    let out = output_directory(&args.scenario, args.out.as_deref());
     // Other spectra in the directory are other exposures: nothing is stale.
-    let written = report::write_all(&out, reports, &[], &formats)?;
-
-    println!("{}", spectrum.title);
-    println!("Pseudo-data with seed {seed}");
-    for exposure in &spectrum.exposures {
-        let expected = |value: fn(&crate::spectrum::SpectrumBin) -> f64| -> f64 {
-            exposure.bins.iter().map(value).sum()
-        };
-        println!(
-            "  {} d ({:.1} live days): {} events; expected {:.1} background, {:.1} signal + background",
-            exposure.days,
-            exposure.live_days,
-            exposure.total_counts(),
-            expected(|bin| bin.background),
-            expected(|bin| bin.signal_plus_background),
-        );
-    }
-    for name in &written.files {
-        println!("wrote {}", out.join(name).display());
-    }
-    Ok(())
+    let written = report::write_all(&options.out, reports, &[], &options.formats)?;
+    stdout::print(&report::spectrum_summary(&spectrum))?;
+    stdout::print(&wrote(&options.out, &written.files))
 }

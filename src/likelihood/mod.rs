@@ -149,10 +149,6 @@ impl<'m> Likelihood<'m> {
         self.model.parameters.len()
     }
 
-    pub fn bin_count(&self) -> usize {
-        self.bins
-    }
-
     /// A workspace with the fixed-shape fractions already computed.
     pub fn workspace(&self) -> Workspace {
         let parameters = self.parameter_count();

@@ -76,7 +76,7 @@ fn background_only(likelihood: &Likelihood) -> Vec<f64> {
     theta
 }
 
-/// Upper limits on mu of `plan.toys` background-only pseudo-experiments.
+/// Upper limits on mu of the background-only pseudo-experiments.
 ///
 /// A single counting window whose uncertainties are all Gaussian constraints on
 /// yields gets the exact Poisson CLs limit, averaged over those constraints

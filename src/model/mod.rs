@@ -112,11 +112,6 @@ impl Model {
         self.parameters.iter().map(|p| p.nominal).collect()
     }
 
-    /// Total number of bins over all channels.
-    pub fn bin_count(&self) -> usize {
-        self.channels.iter().map(|c| c.edges.len() - 1).sum()
-    }
-
     /// Expected events per live day at nominal parameters, split into (signal, background).
     pub fn nominal_rates(&self) -> (f64, f64) {
         let nominal = self.nominal_parameters();

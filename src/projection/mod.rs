@@ -1,14 +1,21 @@
-//! Projection: the exposure scan, quantiles, days to each target and to exclusion.
+//! Projection: the exposure scan, quantiles, days to each target and to exclusion; shards of its pseudo-experiments, merged exactly.
 
 mod crossing;
 mod days;
+mod ensembles;
 mod point;
 mod result;
+mod shard;
+mod warnings;
 
 pub use crossing::{first_crossing, quantile};
+pub use ensembles::{
+    CalibrationCount, CalibrationRequest, LimitRequest, PointRequest, PointToys, RunToys, ToySource,
+};
 pub use result::{
     Calibration, DaysToExclusion, DaysToTarget, ExposurePoint, Projection, TargetProbability,
 };
+pub use shard::{ShardError, ShardRun, ShardSpec, merge_shards, run_shard};
 
 use crate::asymptotic::AsimovSignificance;
 use crate::likelihood::{FitFailure, Likelihood};
@@ -16,7 +23,7 @@ use crate::model::Model;
 use std::fmt;
 
 /// What to project.
-#[derive(Debug, Clone)]
+#[derive(Debug, Clone, PartialEq)]
 pub struct ProjectionSettings {
     pub title: String,
     /// Calendar days of the grid, increasing.
@@ -39,7 +46,15 @@ impl ProjectionSettings {
 
     /// Every pseudo-experiment the projection will run, for progress reporting.
     pub fn total_toys(&self) -> u64 {
-        (self.toys_per_point() * self.days.len()) as u64
+        self.total_toys_in(ShardSpec::WHOLE)
+    }
+
+    /// The pseudo-experiments shard `shard` of the projection will run.
+    pub fn total_toys_in(&self, shard: ShardSpec) -> u64 {
+        let toys = shard.toys(self.toys).len();
+        let calibration_toys = shard.toys(self.calibration_toys).len();
+        let per_point = toys * (1 + usize::from(self.cl.is_some())) + calibration_toys;
+        (per_point * self.days.len()) as u64
     }
 }
 
@@ -73,15 +88,25 @@ pub fn project(
     settings: &ProjectionSettings,
     progress: &(dyn Fn(u64) + Sync),
 ) -> Result<Projection, ProjectionError> {
+    let mut source = RunToys {
+        seed: settings.seed,
+        shard: ShardSpec::WHOLE,
+        progress,
+    };
+    project_from(model, settings, &mut source)
+}
+
+/// The projection with its pseudo-experiments from `source`: run here
+/// ([`project`]) or merged from shards ([`merge_shards`]), the same code
+/// from there on.
+pub fn project_from<S: ToySource>(
+    model: &Model,
+    settings: &ProjectionSettings,
+    source: &mut S,
+) -> Result<Projection, S::Error> {
     let likelihood = Likelihood::new(model);
     let mut asimov = AsimovSignificance::new(&likelihood);
-    let runner = point::PointRunner::new(&likelihood, settings, progress);
-    let points = settings
-        .days
-        .iter()
-        .enumerate()
-        .map(|(index, &days)| runner.point(&mut asimov, index, days))
-        .collect::<Result<Vec<_>, _>>()?;
+    let points = points(&likelihood, &mut asimov, settings, source)?;
     let days_to_target = days::days_to_targets(
         model,
         &mut asimov,
@@ -105,4 +130,20 @@ pub fn project(
         days_to_target,
         days_to_exclusion,
     })
+}
+
+/// The exposure point at every grid day, in grid order.
+fn points<S: ToySource>(
+    likelihood: &Likelihood,
+    asimov: &mut AsimovSignificance,
+    settings: &ProjectionSettings,
+    source: &mut S,
+) -> Result<Vec<ExposurePoint>, S::Error> {
+    let runner = point::PointRunner::new(likelihood, settings);
+    settings
+        .days
+        .iter()
+        .enumerate()
+        .map(|(index, &days)| runner.point(asimov, index, days, source))
+        .collect()
 }

@@ -1,15 +1,16 @@
 //! Everything computed at one grid day.
 
 use super::crossing::quantile;
+use super::ensembles::{
+    CalibrationCount, CalibrationRequest, LimitRequest, PointRequest, ToySource,
+};
 use super::{Calibration, ExposurePoint, ProjectionError, ProjectionSettings, TargetProbability};
 use crate::asymptotic::{
     AsimovSignificance, p_value, probability_to_reach, significance, significance_band,
 };
-use crate::ensemble::{
-    EnsembleOutcome, EnsemblePlan, background_only_q0_ensemble, discovery_ensemble,
-};
+use crate::ensemble::EnsembleOutcome;
 use crate::likelihood::Likelihood;
-use crate::limits::{AsymptoticLimits, asymptotic_limits, toy_limit_ensemble};
+use crate::limits::{AsymptoticLimits, asymptotic_limits};
 
 /// The quantiles reported as bands: the normal-distribution probabilities of
 /// -2, -1, +1 and +2 sigma (common practice).
@@ -19,44 +20,36 @@ pub const BAND_QUANTILES: [f64; 4] = [0.02275, 0.158655, 0.841345, 0.97725];
 pub(super) struct PointRunner<'a, 'l, 'm> {
     likelihood: &'l Likelihood<'m>,
     settings: &'a ProjectionSettings,
-    progress: &'a (dyn Fn(u64) + Sync),
     /// Expected (signal, background) events per live day.
     rates: (f64, f64),
 }
 
 impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
-    pub fn new(
-        likelihood: &'l Likelihood<'m>,
-        settings: &'a ProjectionSettings,
-        progress: &'a (dyn Fn(u64) + Sync),
-    ) -> Self {
+    pub fn new(likelihood: &'l Likelihood<'m>, settings: &'a ProjectionSettings) -> Self {
         PointRunner {
             likelihood,
             settings,
-            progress,
             rates: likelihood.model().nominal_rates(),
         }
     }
 
-    fn plan(&self, toys: usize) -> EnsemblePlan<'a> {
-        EnsemblePlan {
-            toys,
-            seed: self.settings.seed,
-            progress: self.progress,
-        }
-    }
-
-    /// The exposure point at calendar day `days`, grid index `index`.
-    pub fn point(
+    /// The exposure point at calendar day `days`, grid index `index`, with
+    /// its pseudo-experiments from `source`.
+    pub fn point<S: ToySource>(
         &self,
         asimov: &mut AsimovSignificance,
         index: usize,
         days: f64,
-    ) -> Result<ExposurePoint, ProjectionError> {
+        source: &mut S,
+    ) -> Result<ExposurePoint, S::Error> {
         let settings = self.settings;
         let live_days = self.likelihood.model().live_time.live_days(days);
         if live_days <= 0.0 {
-            (self.progress)(settings.toys_per_point() as u64);
+            source.skip(settings.toys);
+            if settings.cl.is_some() {
+                source.skip(settings.toys);
+            }
+            source.skip(settings.calibration_toys);
             return Ok(self.without_exposure(days));
         }
         let failed = |what| {
@@ -70,8 +63,6 @@ impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
             .at_live_days(live_days)
             .map_err(failed("Asimov discovery fit"))?;
         let toys = settings.toys;
-        let discovery = (toys > 0)
-            .then(|| discovery_ensemble(self.likelihood, live_days, index, &self.plan(toys)));
         let limits = settings
             .cl
             .map(|cl| asymptotic_limits(self.likelihood, live_days, 1.0 - cl))
@@ -81,27 +72,28 @@ impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
         // nothing can be excluded at this exposure, and its toys are skipped.
         let bounded = limits.filter(|limits| limits.median.is_finite());
         if limits.is_some() && bounded.is_none() {
-            (self.progress)(toys as u64);
+            source.skip(toys);
         }
-        let toy_limits = bounded.filter(|_| toys > 0).map(|limits| {
-            let alpha = 1.0 - settings.cl.unwrap_or_default();
-            toy_limit_ensemble(
-                self.likelihood,
-                live_days,
-                index,
-                &self.plan(toys),
-                alpha,
-                limits.sigma,
-            )
-        });
-        let calibration = (settings.calibration_toys > 0).then(|| {
-            let plan = self.plan(settings.calibration_toys);
-            let outcome = background_only_q0_ensemble(self.likelihood, live_days, index, &plan);
-            calibration(outcome, z_asimov)
-        });
-        let mut point = self.discovery_point(days, live_days, z_asimov, discovery);
-        add_limits(&mut point, limits, toy_limits);
-        point.calibration = calibration;
+        let request = PointRequest {
+            index,
+            live_days,
+            discovery_toys: toys,
+            limits: bounded.filter(|_| toys > 0).map(|limits| LimitRequest {
+                toys,
+                alpha: 1.0 - settings.cl.unwrap_or_default(),
+                sigma: limits.sigma,
+            }),
+            calibration: (settings.calibration_toys > 0).then_some(CalibrationRequest {
+                toys: settings.calibration_toys,
+                q0_asimov: z_asimov * z_asimov,
+            }),
+        };
+        let outcomes = source.toys(self.likelihood, &request)?;
+        let mut point = self.discovery_point(days, live_days, z_asimov, outcomes.discovery);
+        add_limits(&mut point, limits, outcomes.limits);
+        point.calibration = outcomes
+            .calibration
+            .map(|count| calibration(count, z_asimov));
         Ok(point)
     }
 
@@ -186,21 +178,23 @@ fn bounded(band: &[f64; 4]) -> bool {
 /// The toy p-value of the Asimov q0 = Z_A^2 against its asymptotic value
 /// 1 - Phi(Z_A), from the half chi-square law of q0 under the background
 /// (Cowan, Cranmer, Gross, Vitells, Eur. Phys. J. C 71 (2011) 1554, eq. 49).
-fn calibration(outcome: EnsembleOutcome, z_asimov: f64) -> Calibration {
-    let q0_asimov = z_asimov * z_asimov;
-    let converged_toys = outcome.values.len();
-    let exceeding = outcome.values.iter().filter(|&&q0| q0 >= q0_asimov).count();
-    let p_toys = (exceeding > 0).then(|| exceeding as f64 / converged_toys as f64);
+fn calibration(count: CalibrationCount, z_asimov: f64) -> Calibration {
+    let CalibrationCount {
+        converged,
+        exceeding,
+        failed_fits,
+    } = count;
+    let p_toys = (exceeding > 0).then(|| exceeding as f64 / converged as f64);
     Calibration {
-        converged_toys,
-        failed_fits: outcome.failed_fits,
-        q0_asimov,
+        converged_toys: converged,
+        failed_fits,
+        q0_asimov: z_asimov * z_asimov,
         exceeding,
         p_asymptotic: p_value(z_asimov),
         z_asymptotic: z_asimov,
         p_toys,
         z_toys: p_toys.map(|p| significance(p).max(0.0)),
-        tail_reach_z: significance(1.0 / converged_toys.max(1) as f64),
+        tail_reach_z: Calibration::tail_reach(converged),
     }
 }
 

@@ -5,6 +5,8 @@
 use crate::calendar::CalendarDate;
 use serde::Serialize;
 
+use crate::asymptotic::significance;
+
 /// A whole projection over the grid of calendar days.
 #[derive(Debug, Clone, Serialize)]
 pub struct Projection {
@@ -52,7 +54,8 @@ pub struct ExposurePoint {
     pub z_band: Option<[f64; 4]>,
     /// Probability of reaching each target, from toys and asymptotically.
     pub probability: Vec<TargetProbability>,
-    /// Pseudo-experiments whose fits failed after all retries (excluded from quantiles).
+    /// Pseudo-experiments whose fits failed after all retries (excluded from
+    /// quantiles); 0 before any live time, where none is run.
     pub failed_fits: usize,
     /// Median expected upper limit on mu from background-only pseudo-experiments;
     /// None without toys or limits, before any live time, or when unbounded
@@ -67,7 +70,9 @@ pub struct ExposurePoint {
     /// Asymptotic expected limits on mu at -2, -1, +1, +2 sigma; None as for
     /// `limit_asimov`, or when one of them is unbounded.
     pub limit_asimov_band: Option<[f64; 4]>,
-    /// Background-only pseudo-experiments whose limit could not be computed.
+    /// Background-only pseudo-experiments whose limit could not be computed;
+    /// 0 where none is run: before any live time, or without a bounded
+    /// `limit_asimov` (`Projection::toys_run_at`).
     pub limit_failed_fits: usize,
     /// Toy calibration of the discovery p-value (with `--calibrate`).
     pub calibration: Option<Calibration>,
@@ -91,8 +96,20 @@ pub struct Calibration {
     /// exceeding / converged_toys; None when no pseudo-experiment reached q0_asimov.
     pub p_toys: Option<f64>,
     pub z_toys: Option<f64>,
-    /// The significance of p = 1/converged_toys, the deepest tail the ensemble resolves.
-    pub tail_reach_z: f64,
+    /// The significance of p = 1/converged_toys, the deepest tail the ensemble
+    /// resolves (`Calibration::tail_reach`); None when fewer than two toys
+    /// converged, as p = 1 resolves no tail.
+    pub tail_reach_z: Option<f64>,
+}
+
+impl Calibration {
+    /// The one-sided significance of p = 1/N, the smallest p-value N converged
+    /// pseudo-experiments resolve (Cowan et al., Eur. Phys. J. C 71 (2011)
+    /// 1554, eq. 1: Z = Phi^-1(1 - p)); None for N < 2, where p = 1/N is 1 or
+    /// undefined and Z would be -inf or nothing.
+    pub fn tail_reach(converged_toys: usize) -> Option<f64> {
+        (converged_toys >= 2).then(|| significance(1.0 / converged_toys as f64))
+    }
 }
 
 /// Calendar days until the nominal signal (mu = 1) is excluded by the median expected limit.
@@ -137,5 +154,25 @@ impl DaysToTarget {
     /// True when systematic uncertainties keep Z_A below the target at any exposure.
     pub fn never_reached(&self) -> bool {
         self.saturation_z.is_some_and(|limit| limit < self.target)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use statrs::distribution::{ContinuousCDF, Normal};
+
+    #[test]
+    fn tail_reach_needs_two_converged_toys() {
+        // p = 1/N: N = 1 gives p = 1, Z = -inf, and N = 0 no p-value at all.
+        assert_eq!(Calibration::tail_reach(0), None);
+        assert_eq!(Calibration::tail_reach(1), None);
+        // p = 1/2 is the median of the standard normal, Z = 0 (common practice).
+        assert!(Calibration::tail_reach(2).unwrap().abs() < 1e-12);
+        // Phi^-1(1 - 1/5000) = 3.540 (standard normal quantile, from memory;
+        // recomputed with statrs as reference).
+        let reach = Calibration::tail_reach(5000).unwrap();
+        let reference = Normal::standard().inverse_cdf(1.0 - 1.0 / 5000.0);
+        assert!((reach - 3.540).abs() < 5e-4 && (reach - reference).abs() < 1e-12);
     }
 }

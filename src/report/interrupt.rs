@@ -40,6 +40,21 @@ pub(super) fn start_writing() -> WritingGuard {
     }
 }
 
+impl WritingGuard {
+    /// Releases the writing lock. After SIGINT or SIGTERM the signal thread
+    /// then ends the process the way the signal would have; this thread
+    /// waits for that rather than going on, so the process never ends
+    /// another way first (with an error status, say).
+    pub(super) fn release(self) {
+        drop(self);
+        if interrupted() {
+            loop {
+                std::thread::park();
+            }
+        }
+    }
+}
+
 /// Whether SIGINT or SIGTERM arrived: the writer then stops and cleans up.
 pub(super) fn interrupted() -> bool {
     INTERRUPTED.load(Ordering::SeqCst)

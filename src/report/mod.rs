@@ -2,10 +2,13 @@
 //!
 //! One folder per product, each turning its result into bytes and nothing
 //! else: `projection/` (significance, probability and limit figures, CSV,
-//! JSON, and the terminal summary), `spectrum/` (pseudo-data figure and CSV)
-//! and `binning/` (figure, JSON and the terminal table). They draw and format
-//! with `kit/` (figures over any x axis, legends, bands, markers, footnotes,
-//! number formatting, CSV and JSON encoding).
+//! JSON, and the terminal summary), `spectrum/` (pseudo-data figure, CSV and
+//! the terminal summary) and `binning/` (figure, JSON and the terminal table).
+//! They draw and format with `kit/` (figures over any x axis, legends, bands,
+//! markers, footnotes, number formatting, CSV and JSON encoding).
+//!
+//! `check/` is the terminal text of `runcast check`, and `warnings.rs` words
+//! every typed warning of a scenario or a projection.
 //!
 //! Every output file is a [`Render`]: a name, a [`Kind`] and its bytes. A
 //! product lists its outputs and [`render`] makes them all in memory, so a
@@ -13,6 +16,7 @@
 //! disk, writing a product's files as one set.
 
 mod binning;
+mod check;
 mod compare;
 mod convert;
 mod error;
@@ -20,9 +24,11 @@ mod interrupt;
 mod kit;
 mod projection;
 mod spectrum;
+mod warnings;
 mod writer;
 
 pub use binning::{BINNING_FILES, BINNING_JSON, BINNING_SVG, binning_table, render_binning};
+pub use check::check_summary;
 pub use compare::{
     COMPARE_CSV, COMPARE_FILES, COMPARE_JSON, COMPARE_LIMITS_SVG, COMPARE_PROBABILITY_SVG,
     COMPARE_SVG, ComparedPlan, Comparison, comparison_table, render_comparison,
@@ -33,7 +39,8 @@ pub use projection::{
     LIMITS_SVG, PROBABILITY_SVG, PROJECTION_CSV, PROJECTION_FILES, PROJECTION_JSON, PROJECTION_SVG,
     render_all, summary,
 };
-pub use spectrum::render_spectrum;
+pub use spectrum::{render_spectrum, spectrum_summary};
+pub use warnings::warning_text;
 pub use writer::{Written, write_all, write_new};
 
 /// What an output file holds. Figures are marked so that the writer can turn

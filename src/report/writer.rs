@@ -65,7 +65,20 @@ pub fn write_all(
 /// Writes `reports` into `dir` as one set; returns the names of `family`
 /// removed as left from an earlier run.
 fn write_set(dir: &Path, reports: &[Report], family: &[&str]) -> Result<Vec<String>, ReportError> {
-    let _writing = interrupt::start_writing();
+    let writing = interrupt::start_writing();
+    let written = stage_and_commit(dir, reports, family);
+    writing.release();
+    written
+}
+
+/// The set staged and moved in; on any error, including an interruption, the
+/// staging folder is removed (when `Staging` is dropped) before returning.
+/// Returns the names of `family` removed as left from an earlier run.
+fn stage_and_commit(
+    dir: &Path,
+    reports: &[Report],
+    family: &[&str],
+) -> Result<Vec<String>, ReportError> {
     let mut staging = Staging::create(dir)?;
     for report in reports {
         staging.write(report)?;

@@ -10,6 +10,8 @@ use std::path::PathBuf;
 pub enum ScenarioError {
     /// The file could not be read.
     Read { path: PathBuf, source: io::Error },
+    /// The file is longer than the limit, in bytes.
+    TooLarge { path: PathBuf, limit: u64 },
     /// The text is not valid YAML, or does not match the scenario format
     /// (unknown key, missing key, wrong type). `line` and `column` are 1-based.
     Parse {
@@ -45,7 +47,7 @@ impl ScenarioError {
     }
 
     /// A [`ScenarioError::Invalid`] for `field`.
-    pub(super) fn invalid(field: impl Into<String>, message: impl Into<String>) -> ScenarioError {
+    pub fn invalid(field: impl Into<String>, message: impl Into<String>) -> ScenarioError {
         ScenarioError::Invalid {
             field: field.into(),
             message: message.into(),
@@ -59,6 +61,11 @@ impl fmt::Display for ScenarioError {
             ScenarioError::Read { path, source } => {
                 write!(f, "cannot read scenario file {}: {source}", path.display())
             }
+            ScenarioError::TooLarge { path, limit } => write!(
+                f,
+                "scenario file {} is larger than the {limit} bytes allowed",
+                path.display()
+            ),
             ScenarioError::Parse {
                 message,
                 line: Some(line),
@@ -79,7 +86,9 @@ impl std::error::Error for ScenarioError {
     fn source(&self) -> Option<&(dyn std::error::Error + 'static)> {
         match self {
             ScenarioError::Read { source, .. } => Some(source),
-            ScenarioError::Parse { .. } | ScenarioError::Invalid { .. } => None,
+            ScenarioError::TooLarge { .. }
+            | ScenarioError::Parse { .. }
+            | ScenarioError::Invalid { .. } => None,
         }
     }
 }

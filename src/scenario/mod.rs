@@ -6,14 +6,18 @@
 
 mod deserialize;
 mod error;
+pub mod limits;
 mod template;
 mod validate;
 
 pub use error::ScenarioError;
 pub use template::TEMPLATE;
+pub use validate::show as show_number;
 
 use crate::calendar::CalendarDate;
+use crate::warning::Warning;
 use serde::Deserialize;
+use std::io::Read;
 use std::path::Path;
 
 /// A whole search scenario: one observable, one signal, one or more backgrounds,
@@ -223,24 +227,55 @@ pub enum Spacing {
 }
 
 impl Scenario {
-    /// Reads, parses and validates a scenario file.
+    /// Reads, parses and validates a scenario file of at most
+    /// [`limits::MAX_SCENARIO_BYTES`]; no more than that is ever read.
     pub fn load(path: &Path) -> Result<Scenario, ScenarioError> {
-        let text = std::fs::read_to_string(path).map_err(|source| ScenarioError::Read {
-            path: path.to_path_buf(),
-            source,
-        })?;
-        Scenario::from_yaml(&text)
+        Scenario::from_yaml(&Scenario::read_text(path)?)
     }
 
-    /// Parses and validates scenario text.
+    /// The text of a scenario file, refused above [`limits::MAX_SCENARIO_BYTES`].
+    pub fn read_text(path: &Path) -> Result<String, ScenarioError> {
+        let read_error = |source| ScenarioError::Read {
+            path: path.to_path_buf(),
+            source,
+        };
+        let mut text = String::new();
+        std::fs::File::open(path)
+            .and_then(|file| {
+                file.take(limits::MAX_SCENARIO_BYTES + 1)
+                    .read_to_string(&mut text)
+            })
+            .map_err(read_error)?;
+        if text.len() as u64 > limits::MAX_SCENARIO_BYTES {
+            return Err(ScenarioError::TooLarge {
+                path: path.to_path_buf(),
+                limit: limits::MAX_SCENARIO_BYTES,
+            });
+        }
+        Ok(text)
+    }
+
+    /// Parses and validates scenario text; brackets nested deeper than
+    /// [`limits::MAX_NESTING_DEPTH`] are refused before parsing.
     pub fn from_yaml(text: &str) -> Result<Scenario, ScenarioError> {
+        let (depth, line) = limits::bracket_depth(text);
+        if depth > limits::MAX_NESTING_DEPTH {
+            return Err(ScenarioError::Parse {
+                message: format!(
+                    "brackets nested {depth} deep, more than the {} levels allowed",
+                    limits::MAX_NESTING_DEPTH
+                ),
+                line: Some(line),
+                column: None,
+            });
+        }
         let scenario: Scenario = serde_yaml::from_str(text).map_err(ScenarioError::from_yaml)?;
         validate::validate(&scenario)?;
         Ok(scenario)
     }
 
     /// Non-fatal remarks about a valid scenario (e.g. a signal peak outside the range).
-    pub fn warnings(&self) -> Vec<String> {
+    pub fn warnings(&self) -> Vec<Warning> {
         validate::warnings(self)
     }
 }

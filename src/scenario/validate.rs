@@ -4,20 +4,23 @@
 //! Each rejection names the field by its dotted path, the value found and what
 //! is expected, so that the user can fix the file from the message alone.
 
+use super::limits::{
+    MAX_BINS, MAX_GRID_POINTS, MAX_TARGET_SIGMA, MAX_TARGETS, MAX_TEXT_CHARS, MAX_TOYS_IN_TOTAL,
+    MAX_TOYS_PER_POINT,
+};
+use super::{
+    Background, DaysGrid, NormUncertainty, Observable, Plan, Scenario, ScenarioError, Schedule,
+    ShapeSpec, Signal,
+};
 use crate::calendar::CalendarDate;
 use crate::model::{
     shape_from_spec,
     shapes::{MAX_POLYNOMIAL_DEGREE, Polynomial, PolynomialError},
 };
+use crate::warning::Warning;
 
-use super::{
-    Background, DaysGrid, NormUncertainty, Observable, Plan, Scenario, ScenarioError, Schedule,
-    ShapeSpec, Signal,
-};
-
-/// Largest number of bins accepted: every fit of every pseudo-experiment
-/// touches every bin, so far finer binning only costs time.
-const MAX_BINS: f64 = 100_000.0;
+/// Ensembles a default `project` run draws at each point: discovery and limits.
+const ENSEMBLES_PER_POINT: u64 = 2;
 
 /// Relative tolerance on `(high - low) / bin_width` being a whole number,
 /// allowing for decimal bin widths such as 0.1 that binary floating point cannot hold.
@@ -44,41 +47,32 @@ pub(super) fn validate(scenario: &Scenario) -> Checked {
 }
 
 /// Remarks about a valid scenario that are probably, but not surely, mistakes.
-pub(super) fn warnings(scenario: &Scenario) -> Vec<String> {
-    let mut remarks: Vec<String> = signal_peak_outside_range(scenario).into_iter().collect();
+pub(super) fn warnings(scenario: &Scenario) -> Vec<Warning> {
+    let mut remarks: Vec<Warning> = signal_peak_outside_range(scenario).into_iter().collect();
     remarks.extend(flat_shapes_floated(&scenario.backgrounds));
     remarks.extend(first_day_without_exposure(scenario));
     remarks
 }
 
 /// A peaked signal ([`Shape::peak`](crate::model::shapes::Shape::peak)) whose maximum lies outside the range.
-fn signal_peak_outside_range(scenario: &Scenario) -> Option<String> {
+fn signal_peak_outside_range(scenario: &Scenario) -> Option<Warning> {
     let range = scenario.observable.range;
-    let [low, high] = range;
     let peak = shape_from_spec(&scenario.signal.shape, range).peak()?;
-    (!(low..=high).contains(&peak.centre)).then(|| {
-        format!(
-            "signal.shape.{}: the signal peak at {} lies outside the range [{}, {}]; only its tail is fitted",
-            peak.centre_key,
-            show(peak.centre),
-            show(low),
-            show(high)
-        )
+    (!(range[0]..=range[1]).contains(&peak.centre)).then_some(Warning::SignalPeakOutsideRange {
+        centre_key: peak.centre_key,
+        centre: peak.centre,
+        range,
     })
 }
 
 /// `float_shape: true` on a shape with no parameters (flat, or a polynomial
 /// of one term, whose only coefficient cancels in the normalisation).
-fn flat_shapes_floated(backgrounds: &[Background]) -> impl Iterator<Item = String> + '_ {
+fn flat_shapes_floated(backgrounds: &[Background]) -> impl Iterator<Item = Warning> + '_ {
     backgrounds
         .iter()
         .enumerate()
         .filter(|(_, background)| background.float_shape && has_no_parameters(&background.shape))
-        .map(|(index, _)| {
-            format!(
-                "backgrounds[{index}].float_shape: this shape has no parameters to float; the setting has no effect"
-            )
-        })
+        .map(|(background, _)| Warning::NothingToFloat { background })
 }
 
 fn has_no_parameters(shape: &ShapeSpec) -> bool {
@@ -91,7 +85,7 @@ fn has_no_parameters(shape: &ShapeSpec) -> bool {
 
 /// A days grid starting inside the leading schedule periods with `rate_scale` 0,
 /// where no data are recorded and the projection can show nothing.
-fn first_day_without_exposure(scenario: &Scenario) -> Option<String> {
+fn first_day_without_exposure(scenario: &Scenario) -> Option<Warning> {
     let days_without_data: f64 = scenario
         .schedule
         .periods
@@ -99,18 +93,16 @@ fn first_day_without_exposure(scenario: &Scenario) -> Option<String> {
         .take_while(|period| period.rate_scale == 0.0)
         .map(|period| period.days)
         .sum();
-    let first = scenario.plan.days.first;
-    (first <= days_without_data).then(|| {
-        format!(
-            "plan.days.first: day {} falls within the first {} days, when schedule.periods scale all rates to 0; grid points there have no data",
-            show(first),
-            show(days_without_data)
-        )
+    let first_day = scenario.plan.days.first;
+    (first_day <= days_without_data).then_some(Warning::FirstDayWithoutData {
+        first_day,
+        days_without_data,
     })
 }
 
 fn validate_observable(observable: &Observable) -> Checked<Range> {
     require_text("observable.name", &observable.name)?;
+    require_plain_text("observable.unit", &observable.unit)?;
     let [low, high] = observable.range;
     if !low.is_finite() || !high.is_finite() {
         return Err(ScenarioError::invalid(
@@ -143,14 +135,13 @@ fn validate_bin_width(bin_width: f64, range: Range) -> Checked {
     require_positive(field, bin_width)?;
     let span = range.high - range.low;
     let bins = span / bin_width;
-    if bins > MAX_BINS {
+    if bins > MAX_BINS as f64 {
         return Err(ScenarioError::invalid(
             field,
             format!(
-                "gives {} bins on a range of width {}, more than the {} allowed; got {}",
+                "gives {} bins on a range of width {}, more than the {MAX_BINS} allowed; got {}",
                 show_rounded(bins),
                 show_rounded(span),
-                show(MAX_BINS),
                 show(bin_width)
             ),
         ));
@@ -164,7 +155,7 @@ fn validate_bin_width(bin_width: f64, range: Range) -> Checked {
                 show(range.high),
                 show_rounded(span),
                 show(bin_width),
-                show_rounded(bins)
+                show_fraction(bins)
             ),
         ));
     }
@@ -439,21 +430,8 @@ fn validate_dates(schedule: &Schedule) -> Checked {
 
 fn validate_plan(plan: &Plan) -> Checked {
     validate_days_grid(&plan.days)?;
-    if plan.toys == 0 {
-        return Err(ScenarioError::invalid(
-            "plan.toys",
-            "must be at least 1 pseudo-experiment, got 0",
-        ));
-    }
-    if plan.targets.is_empty() {
-        return Err(ScenarioError::invalid(
-            "plan.targets",
-            "at least one target significance (in sigma) is needed, got an empty list",
-        ));
-    }
-    for (index, &target) in plan.targets.iter().enumerate() {
-        require_positive(&format!("plan.targets[{index}]"), target)?;
-    }
+    validate_toys(plan)?;
+    validate_targets(&plan.targets)?;
     if !(plan.cl > 0.5 && plan.cl < 1.0) {
         return Err(ScenarioError::invalid(
             "plan.cl",
@@ -462,6 +440,75 @@ fn validate_plan(plan: &Plan) -> Checked {
                 plan.cl
             ),
         ));
+    }
+    Ok(())
+}
+
+/// At least one pseudo-experiment per point, at most [`MAX_TOYS_PER_POINT`],
+/// and at most [`MAX_TOYS_IN_TOTAL`] over the discovery and limit ensembles of
+/// every point.
+fn validate_toys(plan: &Plan) -> Checked {
+    let field = "plan.toys";
+    if plan.toys == 0 {
+        return Err(ScenarioError::invalid(
+            field,
+            "must be at least 1 pseudo-experiment, got 0",
+        ));
+    }
+    if plan.toys > MAX_TOYS_PER_POINT {
+        return Err(ScenarioError::invalid(
+            field,
+            format!(
+                "must be at most {MAX_TOYS_PER_POINT} pseudo-experiments per point, got {}",
+                plan.toys
+            ),
+        ));
+    }
+    let total = (plan.toys as u64)
+        .saturating_mul(plan.days.points as u64)
+        .saturating_mul(ENSEMBLES_PER_POINT);
+    if total > MAX_TOYS_IN_TOTAL {
+        return Err(ScenarioError::invalid(
+            field,
+            format!(
+                "{} pseudo-experiments at each of {} points, for discovery and for limits, make {total}, more than the {MAX_TOYS_IN_TOTAL} allowed in one projection",
+                plan.toys, plan.days.points
+            ),
+        ));
+    }
+    Ok(())
+}
+
+/// One to [`MAX_TARGETS`] significances, each above 0 and at most [`MAX_TARGET_SIGMA`].
+fn validate_targets(targets: &[f64]) -> Checked {
+    if targets.is_empty() {
+        return Err(ScenarioError::invalid(
+            "plan.targets",
+            "at least one target significance (in sigma) is needed, got an empty list",
+        ));
+    }
+    if targets.len() > MAX_TARGETS {
+        return Err(ScenarioError::invalid(
+            "plan.targets",
+            format!(
+                "at most {MAX_TARGETS} target significances are allowed, got {}",
+                targets.len()
+            ),
+        ));
+    }
+    for (index, &target) in targets.iter().enumerate() {
+        let field = format!("plan.targets[{index}]");
+        require_positive(&field, target)?;
+        if target > MAX_TARGET_SIGMA {
+            return Err(ScenarioError::invalid(
+                field,
+                format!(
+                    "must be at most {} sigma, got {}",
+                    show(MAX_TARGET_SIGMA),
+                    show(target)
+                ),
+            ));
+        }
     }
     Ok(())
 }
@@ -494,6 +541,10 @@ fn validate_days_grid(days: &DaysGrid) -> Checked {
                 show(days.first)
             ),
         )),
+        points if points > MAX_GRID_POINTS => Err(ScenarioError::invalid(
+            "plan.days.points",
+            format!("must be at most {MAX_GRID_POINTS} points, got {points}"),
+        )),
         points if points > 1 && days.last == days.first => Err(ScenarioError::invalid(
             "plan.days.last",
             format!(
@@ -505,11 +556,34 @@ fn validate_days_grid(days: &DaysGrid) -> Checked {
     }
 }
 
+/// Text that is not blank, see [`require_plain_text`].
 fn require_text(field: &str, text: &str) -> Checked {
     if text.trim().is_empty() {
         return Err(ScenarioError::invalid(
             field,
             format!("must not be empty, got {text:?}"),
+        ));
+    }
+    require_plain_text(field, text)
+}
+
+/// Text of at most [`MAX_TEXT_CHARS`] characters without control characters
+/// (line breaks, tabs, escapes), which go into titles, labels and file contents.
+fn require_plain_text(field: &str, text: &str) -> Checked {
+    let length = text.chars().count();
+    if length > MAX_TEXT_CHARS {
+        return Err(ScenarioError::invalid(
+            field,
+            format!("must be at most {MAX_TEXT_CHARS} characters long, got {length}"),
+        ));
+    }
+    if let Some(control) = text.chars().find(|c| c.is_control()) {
+        return Err(ScenarioError::invalid(
+            field,
+            format!(
+                "must not contain control characters, got {:?} in {text:?}",
+                control
+            ),
         ));
     }
     Ok(())
@@ -550,7 +624,7 @@ fn require_relative_uncertainty(field: &str, relative: f64) -> Checked {
 
 /// A number as a user would write it: plain decimals for ordinary magnitudes,
 /// exponent notation for very large or small ones (Rust's `{}` never uses an exponent).
-fn show(value: f64) -> String {
+pub fn show(value: f64) -> String {
     let magnitude = value.abs();
     if value == 0.0 || !value.is_finite() || (1e-4..1e15).contains(&magnitude) {
         format!("{value}")
@@ -575,6 +649,17 @@ fn show_rounded(value: f64) -> String {
     }
 }
 
+/// A computed count that should be whole: rounded like [`show_rounded`],
+/// unless rounding would make a fractional count look whole.
+fn show_fraction(value: f64) -> String {
+    let rounded = show_rounded(value);
+    if value.fract() != 0.0 && !rounded.contains(['.', 'e']) {
+        show(value)
+    } else {
+        rounded
+    }
+}
+
 fn show_list(values: &[f64]) -> String {
     let shown: Vec<String> = values.iter().map(|&v| show(v)).collect();
     format!("[{}]", shown.join(", "))
@@ -585,6 +670,7 @@ mod tests {
     use super::super::Scenario;
     use super::{show, show_rounded};
     use crate::scenario::ScenarioError;
+    use crate::warning::Warning;
 
     /// A valid scenario with two backgrounds, edited line by line by the tests below.
     const BASE: &str = "\
@@ -1075,10 +1161,13 @@ plan:
         let scenario = accepted(&with("mean: 50.0", "mean: 120.0"));
         let warnings = scenario.warnings();
         assert_eq!(warnings.len(), 1, "{warnings:?}");
-        assert!(
-            warnings[0].starts_with("signal.shape.gaussian.mean: the signal peak at 120"),
-            "{}",
-            warnings[0]
+        assert_eq!(
+            warnings[0],
+            Warning::SignalPeakOutsideRange {
+                centre_key: "gaussian.mean",
+                centre: 120.0,
+                range: [0.0, 100.0]
+            }
         );
     }
 
@@ -1087,7 +1176,7 @@ plan:
         let text = with("{polynomial: {coefficients: [1.0, 0.01]}}", "{flat: {}}");
         let warnings = accepted(&text).warnings();
         assert_eq!(warnings.len(), 1, "{warnings:?}");
-        assert!(warnings[0].starts_with("backgrounds[1].float_shape"));
+        assert_eq!(warnings[0], Warning::NothingToFloat { background: 1 });
     }
 
     #[test]
@@ -1098,7 +1187,13 @@ plan:
         );
         let warnings = accepted(&text).warnings();
         assert_eq!(warnings.len(), 1, "{warnings:?}");
-        assert!(warnings[0].starts_with("plan.days.first: day 1 falls within the first 10 days"));
+        assert_eq!(
+            warnings[0],
+            Warning::FirstDayWithoutData {
+                first_day: 1.0,
+                days_without_data: 10.0
+            }
+        );
         let later_start = text.replace("first: 1,", "first: 11,");
         assert!(accepted(&later_start).warnings().is_empty());
     }

@@ -11,7 +11,7 @@ pub use interval::{EXACT_INTERVAL_BELOW, error_bar, garwood_interval, one_sigma_
 
 use crate::ensemble::{Generator, toy_stream};
 use crate::likelihood::Likelihood;
-use crate::model::{Model, SIGNAL_STRENGTH};
+use crate::model::{Constraint, Model, SIGNAL_STRENGTH};
 use crate::scenario::Scenario;
 
 /// Exposure index of the random streams of pseudo-data spectra, apart from the
@@ -62,6 +62,14 @@ pub struct ExposureSpectrum {
 }
 
 impl ExposureSpectrum {
+    /// The largest expected count (signal + background) of any bin.
+    pub fn largest_expected(&self) -> f64 {
+        self.bins
+            .iter()
+            .map(|bin| bin.signal_plus_background)
+            .fold(0.0, f64::max)
+    }
+
     /// Total pseudo-data count.
     pub fn total_counts(&self) -> u64 {
         self.bins.iter().map(|bin| bin.counts).sum()
@@ -79,6 +87,45 @@ pub struct Spectrum {
     pub seed: u64,
     /// In the order the days were asked for.
     pub exposures: Vec<ExposureSpectrum>,
+}
+
+/// Longest file stem of a spectrum named after its days; longer stems fall
+/// back to a count and a hash (see [`Spectrum::file_stem`]).
+pub const MAX_FILE_STEM_BYTES: usize = 64;
+
+impl Spectrum {
+    /// `spectrum-3d-30d` for exposures at 3 and 30 calendar days, in the order
+    /// given; when that is longer than [`MAX_FILE_STEM_BYTES`] (many or long
+    /// day values), `spectrum-<count>-exposures-<hash>` with the 64-bit FNV-1a
+    /// hash of the days' bit patterns in hexadecimal, so the same days always
+    /// give the same name.
+    pub fn file_stem(&self) -> String {
+        let stem = self
+            .exposures
+            .iter()
+            .fold("spectrum".to_string(), |stem, exposure| {
+                format!("{stem}-{}d", exposure.days)
+            });
+        if stem.len() <= MAX_FILE_STEM_BYTES {
+            return stem;
+        }
+        let bytes = self
+            .exposures
+            .iter()
+            .flat_map(|exposure| exposure.days.to_bits().to_le_bytes());
+        format!(
+            "spectrum-{}-exposures-{:016x}",
+            self.exposures.len(),
+            fnv1a(bytes)
+        )
+    }
+}
+
+/// The 64-bit FNV-1a hash (Fowler, Noll and Vo; offset basis and prime as published).
+fn fnv1a(bytes: impl Iterator<Item = u8>) -> u64 {
+    bytes.fold(0xcbf2_9ce4_8422_2325, |hash, byte| {
+        (hash ^ u64::from(byte)).wrapping_mul(0x0000_0100_0000_01b3)
+    })
 }
 
 /// Draws one pseudo-dataset of `scenario` at each of `days` (calendar days)
@@ -144,6 +191,25 @@ fn exposure_spectrum(likelihood: &Likelihood, days: f64, seed: u64) -> ExposureS
     }
 }
 
+/// The largest mean a pseudo-dataset at nominal parameters (mu = 1) draws
+/// from after `live_days`: the expected count of any bin, or of any control
+/// region.
+pub fn largest_expected_count(model: &Model, live_days: f64) -> f64 {
+    let likelihood = Likelihood::new(model);
+    let nominal = model.nominal_parameters();
+    let control_counts = model
+        .constraints
+        .iter()
+        .filter(|constraint| matches!(constraint, Constraint::ControlRegion { .. }))
+        .map(|constraint| {
+            constraint.expected_global_observable(nominal[constraint.parameter()], live_days)
+        });
+    expected(&likelihood, &nominal, live_days)
+        .into_iter()
+        .chain(control_counts)
+        .fold(0.0, f64::max)
+}
+
 /// Expected counts per bin at `theta` after `live_days`.
 fn expected(likelihood: &Likelihood, theta: &[f64], live_days: f64) -> Vec<f64> {
     let mut work = likelihood.workspace();
@@ -195,6 +261,56 @@ mod tests {
         assert_eq!(alone.exposures[0], with_others.exposures[1]);
         let other_seed = pseudo_data_spectrum(&scenario(), &[10.0], 4);
         assert_ne!(alone.exposures[0].bins, other_seed.exposures[0].bins);
+    }
+
+    /// The largest mean drawn: a flat 40 per live day over 20 bins gives 10
+    /// per bin after 5 live days, and the two bins beside the peak hold
+    /// Phi(1) - Phi(0) = 0.341345 of the 25 signal events each (standard
+    /// normal table); a control region of ratio 3 expects 3 x 200 = 600.
+    #[test]
+    fn largest_expected_count_covers_bins_and_control_regions() {
+        let model = Model::from_scenario(&scenario());
+        let largest = largest_expected_count(&model, 5.0);
+        assert!(
+            (largest - (10.0 + 25.0 * 0.341345)).abs() < 1e-5,
+            "{largest}"
+        );
+        let text = "title: on off\n\
+             observable: {name: x, unit: a.u., range: [0.0, 1.0], bin_width: 1.0}\n\
+             signal: {events_per_day: 1.0, shape: {flat: {}}}\n\
+             backgrounds:\n  - {name: flat, events_per_day: 40.0, shape: {flat: {}}, control: {ratio: 3.0}}\n\
+             plan: {days: {first: 1, last: 10, points: 2, spacing: log}, toys: 1, seed: 1, targets: [3]}\n";
+        let on_off = Model::from_scenario(&Scenario::from_yaml(text).unwrap());
+        assert_eq!(largest_expected_count(&on_off, 5.0), 600.0);
+    }
+
+    /// Test vectors of the 64-bit FNV-1a hash, from its published reference
+    /// table (Fowler, Noll and Vo): "" and "a".
+    #[test]
+    fn fnv1a_matches_the_published_test_vectors() {
+        assert_eq!(fnv1a("".bytes()), 0xcbf2_9ce4_8422_2325);
+        assert_eq!(fnv1a("a".bytes()), 0xaf63_dc4c_8601_ec8c);
+    }
+
+    #[test]
+    fn file_stems_name_the_days_or_fall_back_to_a_short_hash() {
+        let short = pseudo_data_spectrum(&scenario(), &[3.0, 30.0], 1);
+        assert_eq!(short.file_stem(), "spectrum-3d-30d");
+        let days = [
+            10.125, 20.125, 30.125, 40.125, 50.125, 60.125, 70.125, 80.125,
+        ];
+        let long = pseudo_data_spectrum(&scenario(), &days, 1);
+        let stem = long.file_stem();
+        assert!(stem.starts_with("spectrum-8-exposures-"), "{stem}");
+        assert!(stem.len() <= MAX_FILE_STEM_BYTES, "{stem}");
+        let mut swapped = days;
+        swapped.swap(0, 1);
+        let reordered = pseudo_data_spectrum(&scenario(), &swapped, 1);
+        assert_ne!(
+            reordered.file_stem(),
+            stem,
+            "the order of the days is part of the name"
+        );
     }
 
     #[test]

@@ -48,6 +48,20 @@ pub fn days_label(days: f64) -> String {
     }
 }
 
+/// `part` of `whole` in percent to two decimals ("1.00%"), "<0.01%" for a
+/// non-zero part below that, "0%" of nothing: failed fits among toys.
+pub fn fit_percent(part: usize, whole: usize) -> String {
+    if whole == 0 {
+        return "0%".to_string();
+    }
+    let value = 100.0 * part as f64 / whole as f64;
+    if part > 0 && value < 0.01 {
+        "<0.01%".to_string()
+    } else {
+        format!("{value:.2}%")
+    }
+}
+
 /// Left-aligned columns separated by three spaces (widths in characters, so
 /// "σ" and "—" count as one), for the terminal.
 pub fn aligned(rows: &[Vec<String>]) -> String {

@@ -134,7 +134,7 @@ fn check_calibration(index: usize, calibration: &Calibration) -> Result<(), Repo
     finite(field("z_asymptotic"), calibration.z_asymptotic)?;
     optional_finite(field("p_toys"), calibration.p_toys)?;
     optional_finite(field("z_toys"), calibration.z_toys)?;
-    finite(field("tail_reach_z"), calibration.tail_reach_z)
+    optional_finite(field("tail_reach_z"), calibration.tail_reach_z)
 }
 
 fn finite(field: String, value: f64) -> Result<(), ReportError> {

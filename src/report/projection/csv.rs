@@ -157,7 +157,7 @@ fn calibration_cells(calibration: Option<&Calibration>) -> [String; 9] {
         optional(calibration.p_toys),
         number(calibration.z_asymptotic),
         optional(calibration.z_toys),
-        number(calibration.tail_reach_z),
+        optional(calibration.tail_reach_z),
     ]
 }
 
@@ -223,7 +223,7 @@ mod tests {
             assert_eq!(value("limit_asimov_q84_1", row), asymptotic_band[2]);
             let calibration = point.calibration.as_ref().unwrap();
             assert_eq!(value("z_asymptotic", row), calibration.z_asymptotic);
-            assert_eq!(value("tail_reach_z", row), calibration.tail_reach_z);
+            assert_eq!(Some(value("tail_reach_z", row)), calibration.tail_reach_z);
             assert_eq!(cell(&table, "calibration_converged_toys", row), "5000");
         }
         // At 1000 days the Asimov Z lies far past what 5000 toys resolve: none exceeds.

@@ -1,11 +1,16 @@
 //! The ensembles of pseudo-experiments a projection runs, as the figures'
-//! footnotes and the summary name and count them: one description each, so
-//! every report counts the same toys.
+//! footnotes, the summary and the failed-fit warnings name them: one
+//! description each, keyed by [`warning::Ensemble`]. What each ensemble
+//! counts (toys per point, failed fits per point, which ran) comes from the
+//! projection itself (`Projection::ensembles`, `ensemble_toys`,
+//! `ExposurePoint::failed_fits_of`), so every report counts the same toys.
 
-use crate::projection::{ExposurePoint, Projection};
+use crate::projection::Projection;
+use crate::warning;
 
-/// One ensemble of pseudo-experiments.
-pub(super) struct Ensemble {
+/// How the reports name one ensemble of pseudo-experiments.
+pub(in crate::report) struct Ensemble {
+    pub kind: warning::Ensemble,
     /// Start of the summary's total line: "Failed fits", "Failed fits (limits)".
     pub heading: &'static str,
     /// Start of a figure's footnote: "Failed fits", "Failed limit fits".
@@ -16,73 +21,83 @@ pub(super) struct Ensemble {
     pub fits: &'static str,
     /// What the failed fits are left out of.
     pub results: &'static str,
-    /// Pseudo-experiments requested per exposure point.
-    pub toys: usize,
-    pub failed_fits: fn(&ExposurePoint) -> usize,
+    /// Why the ensemble runs at no toy at some points.
+    pub not_run: &'static str,
 }
 
 impl Ensemble {
+    /// The description of `kind`.
+    pub fn of(kind: warning::Ensemble) -> Ensemble {
+        match kind {
+            warning::Ensemble::Discovery => Ensemble::discovery(),
+            warning::Ensemble::Limits => Ensemble::limits(),
+            warning::Ensemble::Calibration => Ensemble::calibration(),
+        }
+    }
+
     /// Signal-plus-background toys for the discovery significance.
-    pub fn discovery(projection: &Projection) -> Ensemble {
+    pub fn discovery() -> Ensemble {
         Ensemble {
+            kind: warning::Ensemble::Discovery,
             heading: "Failed fits",
             figure_heading: "Failed fits",
             thrown: "pseudo-experiments",
             fits: "fits",
             results: "the quantiles",
-            toys: projection.toys,
-            failed_fits: |point| point.failed_fits,
+            not_run: "no live time",
         }
     }
 
     /// Background-only toys for the expected limits.
-    pub fn limits(projection: &Projection) -> Ensemble {
+    pub fn limits() -> Ensemble {
         Ensemble {
+            kind: warning::Ensemble::Limits,
             heading: "Failed fits (limits)",
             figure_heading: "Failed limit fits",
             thrown: "background-only pseudo-experiments",
             fits: "limit fits",
             results: "the limit quantiles",
-            toys: projection.toys,
-            failed_fits: |point| point.limit_failed_fits,
+            not_run: "no live time, or no bounded Asimov limit",
         }
     }
 
     /// Background-only toys for the q0 calibration.
-    pub fn calibration(projection: &Projection) -> Ensemble {
+    pub fn calibration() -> Ensemble {
         Ensemble {
+            kind: warning::Ensemble::Calibration,
             heading: "Failed fits (q0 calibration)",
             figure_heading: "Failed calibration fits",
             thrown: "background-only pseudo-experiments",
             fits: "calibration fits",
             results: "the toy p-values",
-            toys: projection.calibration_toys,
-            failed_fits: |point| point.calibration.as_ref().map_or(0, |c| c.failed_fits),
+            not_run: "no live time",
         }
     }
 
-    /// The ensembles the projection ran, in this order: discovery, limits
-    /// (with toys and a confidence level), calibration.
+    /// The ensembles the projection ran, in the order of
+    /// `Projection::ensembles`: discovery, limits (with toys and a confidence
+    /// level), calibration.
     pub fn ran(projection: &Projection) -> Vec<Ensemble> {
-        let with_toys = projection.toys > 0;
-        [
-            with_toys.then(|| Ensemble::discovery(projection)),
-            (with_toys && projection.cl.is_some()).then(|| Ensemble::limits(projection)),
-            (projection.calibration_toys > 0).then(|| Ensemble::calibration(projection)),
-        ]
-        .into_iter()
-        .flatten()
-        .collect()
+        projection
+            .ensembles()
+            .into_iter()
+            .map(Ensemble::of)
+            .collect()
     }
 
-    /// Pseudo-experiments requested over the whole grid.
+    /// Pseudo-experiments run over the whole grid (none at points where
+    /// the ensemble did not run, see `Projection::toys_run_at`).
     pub fn total_toys(&self, projection: &Projection) -> usize {
-        self.toys * projection.points.len()
+        projection.toys_run(self.kind)
     }
 
     /// Failed fits over the whole grid.
     pub fn total_failed(&self, projection: &Projection) -> usize {
-        projection.points.iter().map(self.failed_fits).sum()
+        projection
+            .points
+            .iter()
+            .map(|point| point.failed_fits_of(self.kind))
+            .sum()
     }
 
     /// A figure's footnote when any fit failed: "Failed fits: 12 of 62000
@@ -122,7 +137,7 @@ mod tests {
             ]
         );
         // 31 points of 2000 toys; 12 discovery and 8 limit failures in the example.
-        let limits = Ensemble::limits(&projection);
+        let limits = Ensemble::limits();
         assert_eq!(limits.total_toys(&projection), 62000);
         assert_eq!(limits.total_failed(&projection), 8);
         assert_eq!(
@@ -130,16 +145,13 @@ mod tests {
             "Failed limit fits: 8 of 62000 background-only pseudo-experiments, \
              excluded from the median and bands."
         );
-        assert_eq!(
-            Ensemble::calibration(&projection).total_toys(&projection),
-            155000
-        );
+        assert_eq!(Ensemble::calibration().total_toys(&projection), 155000);
     }
 
     #[test]
     fn no_failure_no_footnote() {
         let projection = example::asimov_only_with_limits();
         assert!(Ensemble::ran(&projection).is_empty());
-        assert_eq!(Ensemble::discovery(&projection).footnote(&projection), None);
+        assert_eq!(Ensemble::discovery().footnote(&projection), None);
     }
 }

@@ -252,7 +252,7 @@ impl InventedSearch {
             z_asymptotic: z_asimov,
             p_toys,
             z_toys: p_toys.map(significance),
-            tail_reach_z: significance(1.0 / toys as f64),
+            tail_reach_z: Calibration::tail_reach(toys),
         }
     }
 

@@ -186,7 +186,7 @@ fn footnote(projection: &Projection) -> Option<String> {
                 .to_string(),
         );
     }
-    Ensemble::limits(projection).footnote(projection)
+    Ensemble::limits().footnote(projection)
 }
 
 #[cfg(test)]

@@ -7,7 +7,7 @@
 
 mod check;
 mod csv;
-mod ensembles;
+pub(super) mod ensembles;
 mod json;
 mod limits;
 mod probability;

@@ -178,7 +178,7 @@ fn footnote(projection: &Projection) -> Option<String> {
             "Asimov only: bands are Z_A ± 1 and Z_A ± 2, floored at 0 (asymptotic).".to_string(),
         );
     }
-    Ensemble::discovery(projection).footnote(projection)
+    Ensemble::discovery().footnote(projection)
 }
 
 #[cfg(test)]

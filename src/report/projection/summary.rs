@@ -7,11 +7,8 @@ use super::ensembles::Ensemble;
 use crate::calendar::CalendarDate;
 use crate::projection::{Calibration, DaysToTarget, Projection};
 use crate::report::kit::dates::{dated_days_label, with_date};
-use crate::report::kit::format::{aligned, percent_label, target_label};
-
-/// Failed fits above this fraction of the toys at one exposure point earn a
-/// warning: the quantiles there exclude them and may be biased.
-const FAILED_FRACTION_WARNING: f64 = 0.001;
+use crate::report::kit::format::{aligned, fit_percent, percent_label, target_label};
+use crate::report::warning_text;
 
 const COLUMNS: [&str; 5] = [
     "target",
@@ -138,40 +135,39 @@ fn grid_day(days: f64, start: Option<CalendarDate>) -> String {
     with_date(format!("{} d", (days * 100.0).round() / 100.0), days, start)
 }
 
-/// Total failed fits of one ensemble, and a warning naming the worst exposure
-/// point when any point loses more than 0.1% of its toys.
+/// Total failed fits of one ensemble of the toys it ran, the points where it
+/// ran none, and its warning (worded by [`warning_text`]) when any point lost
+/// more than [`FAILED_FRACTION_WARNING`](crate::warning::FAILED_FRACTION_WARNING)
+/// of its toys.
 fn failed_fits_lines(projection: &Projection, ensemble: &Ensemble) -> String {
-    let toys = ensemble.toys;
-    let failed_fits = ensemble.failed_fits;
     let total_toys = ensemble.total_toys(projection);
     let total_failed = ensemble.total_failed(projection);
+    let points = projection.points.len();
+    let points_run = projection.points_run(ensemble.kind);
+    if points_run == 0 {
+        return format!(
+            "{}: none run ({} at any of the {points} points).\n",
+            ensemble.heading, ensemble.not_run
+        );
+    }
+    let not_run = if points_run < points {
+        format!(
+            "; none ran at {} of {points} points ({})",
+            points - points_run,
+            ensemble.not_run
+        )
+    } else {
+        String::new()
+    };
     let mut text = format!(
-        "{}: {total_failed} of {total_toys} {} ({}), excluded from {}.\n",
+        "{}: {total_failed} of {total_toys} {} ({}), excluded from {}{not_run}.\n",
         ensemble.heading,
         ensemble.thrown,
-        percent(total_failed, total_toys),
+        fit_percent(total_failed, total_toys),
         ensemble.results
     );
-    let fraction = |failed: usize| failed as f64 / toys as f64;
-    let flagged: Vec<_> = projection
-        .points
-        .iter()
-        .filter(|point| fraction(failed_fits(point)) > FAILED_FRACTION_WARNING)
-        .collect();
-    // `max_by_key` keeps the last of equals; reversed, that is the earliest day.
-    let worst = flagged.iter().rev().max_by_key(|point| failed_fits(point));
-    if let Some(worst) = worst {
-        text.push_str(&format!(
-            "warning: more than 0.1% of {} failed at {} of {} exposure points \
-             (worst: {} of {toys} at {}, {}); {} there may be biased.\n",
-            ensemble.fits,
-            flagged.len(),
-            projection.points.len(),
-            failed_fits(worst),
-            dated_days_label(worst.days, projection.start),
-            percent(failed_fits(worst), toys),
-            ensemble.results
-        ));
+    if let Some(warning) = projection.failed_fit_warning(ensemble.kind) {
+        text.push_str(&format!("warning: {}\n", warning_text(&warning)));
     }
     text
 }
@@ -204,12 +200,13 @@ fn calibration_table(projection: &Projection) -> Option<String> {
     let mut rows = vec![header.map(str::to_string).to_vec()];
     rows.extend(calibrated.iter().map(|(days, calibration)| {
         let z = calibration.z_asymptotic;
-        let (z_toys, difference) = match calibration.z_toys {
-            Some(z_toys) => (two_decimals(z_toys), two_decimals(z - z_toys)),
-            None => (
-                format!("> {}", two_decimals(calibration.tail_reach_z)),
-                format!("< {}", two_decimals(z - calibration.tail_reach_z)),
+        let (z_toys, difference) = match (calibration.z_toys, calibration.tail_reach_z) {
+            (Some(z_toys), _) => (two_decimals(z_toys), two_decimals(z - z_toys)),
+            (None, Some(reach)) => (
+                format!("> {}", two_decimals(reach)),
+                format!("< {}", two_decimals(z - reach)),
             ),
+            (None, None) => ("—".to_string(), "—".to_string()),
         };
         vec![
             grid_day(*days, projection.start),
@@ -221,29 +218,32 @@ fn calibration_table(projection: &Projection) -> Option<String> {
     }));
     Some(format!(
         "Discovery Z of the Asimov q0, asymptotic and from {toys} background-only \
-         pseudo-experiments per point\n{}\
-         note: {reached} background-only pseudo-experiments resolve p-values down to 1/{reached}, \
-         Z ≈ {}; where none reaches the Asimov q0, the toy Z is only known to lie above that.\n",
+         pseudo-experiments per point\n{}{}",
         aligned(&rows),
-        two_decimals(shallowest.tail_reach_z)
+        tail_reach_note(reached, shallowest.tail_reach_z)
     ))
+}
+
+/// The note on the deepest tail `reached` converged toys resolve, p = 1/N at
+/// Z ≈ `reach`; fewer than two resolve none.
+fn tail_reach_note(reached: usize, reach: Option<f64>) -> String {
+    match reach {
+        Some(reach) => format!(
+            "note: {reached} background-only pseudo-experiments resolve p-values down to 1/{reached}, \
+             Z ≈ {}; where none reaches the Asimov q0, the toy Z is only known to lie above that.\n",
+            two_decimals(reach)
+        ),
+        None => format!(
+            "note: at one point only {reached} background-only pseudo-experiments converged, \
+             too few to resolve any p-value below 1; where none reaches the Asimov q0, \
+             the toy Z is unknown (—).\n"
+        ),
+    }
 }
 
 /// A significance to two decimals, without a negative zero.
 fn two_decimals(value: f64) -> String {
     format!("{:.2}", (value * 100.0).round() / 100.0 + 0.0)
-}
-
-fn percent(part: usize, whole: usize) -> String {
-    if whole == 0 {
-        return "0%".to_string();
-    }
-    let value = 100.0 * part as f64 / whole as f64;
-    if part > 0 && value < 0.01 {
-        "<0.01%".to_string()
-    } else {
-        format!("{value:.2}%")
-    }
 }
 
 /// One line when systematic uncertainties make Z_A saturate, naming the
@@ -412,7 +412,7 @@ warning: systematic uncertainties make Z_A saturate at 4.50σ however long the r
         let calibration = projection.points[3].calibration.as_mut().unwrap();
         calibration.failed_fits = 1000;
         calibration.converged_toys = 4000;
-        calibration.tail_reach_z = crate::asymptotic::significance(1.0 / 4000.0);
+        calibration.tail_reach_z = Calibration::tail_reach(4000);
         let text = summary(&projection);
         // Φ⁻¹(1 − 1/4000) = 3.48 (standard normal quantile, from memory;
         // recomputed with statrs as reference).
@@ -423,6 +423,95 @@ warning: systematic uncertainties make Z_A saturate at 4.50σ however long the r
             text.contains(
                 "note: 4000 background-only pseudo-experiments resolve p-values down to 1/4000, \
                  Z ≈ 3.48;"
+            ),
+            "{text}"
+        );
+    }
+
+    #[test]
+    fn one_converged_calibration_toy_resolves_no_tail() {
+        // Once a run aborted here on "tail_reach_z is -inf": one converged toy
+        // gives p = 1/1, whose Z = Phi^-1(0) is -inf (standard normal quantile).
+        let mut projection = example::with_limits();
+        let calibration = projection.points[3].calibration.as_mut().unwrap();
+        calibration.failed_fits = calibration.converged_toys - 1;
+        calibration.converged_toys = 1;
+        calibration.exceeding = 0;
+        calibration.p_toys = None;
+        calibration.z_toys = None;
+        calibration.tail_reach_z = Calibration::tail_reach(1);
+        let days = grid_day(projection.points[3].days, None);
+        crate::report::render_all(&projection).unwrap();
+        let text = summary(&projection);
+        assert!(
+            text.contains("note: at one point only 1 background-only pseudo-experiments converged"),
+            "{text}"
+        );
+        let row = text.lines().find(|line| line.starts_with(&days)).unwrap();
+        let cells: Vec<&str> = row.split_whitespace().collect();
+        assert_eq!(cells[cells.len() - 3..], ["—", "—", "1"], "{row}");
+    }
+
+    /// Two points before any live time and one whose Asimov limit is
+    /// unbounded: the totals count the toys that ran, not those requested.
+    fn with_points_that_ran_no_toys() -> Projection {
+        let mut projection = example::with_limits();
+        for point in &mut projection.points {
+            point.failed_fits = 0;
+            point.limit_failed_fits = 0;
+        }
+        for point in &mut projection.points[..2] {
+            point.live_days = 0.0;
+            point.calibration = None;
+        }
+        for point in &mut projection.points[..3] {
+            point.limit_asimov = None;
+            point.limit_asimov_band = None;
+            point.limit_median = None;
+            point.limit_band = None;
+        }
+        projection.points[5].limit_failed_fits = 3;
+        projection
+    }
+
+    #[test]
+    fn failed_fits_count_the_toys_that_ran() {
+        // 31 points: discovery and calibration toys at 29, limit toys at 28,
+        // of 2000 (limits, discovery) and 5000 (calibration) per point.
+        let projection = with_points_that_ran_no_toys();
+        let text = summary(&projection);
+        for expected in [
+            "Failed fits: 0 of 58000 pseudo-experiments (0.00%), excluded from the quantiles; \
+             none ran at 2 of 31 points (no live time).\n",
+            "Failed fits (limits): 3 of 56000 background-only pseudo-experiments (<0.01%), \
+             excluded from the limit quantiles; none ran at 3 of 31 points \
+             (no live time, or no bounded Asimov limit).\n",
+            "warning: more than 0.1% of limit fits failed at 1 of 28 exposure points \
+             (worst: 3 of 2000 at",
+            "Failed fits (q0 calibration): 0 of 145000 background-only pseudo-experiments \
+             (0.00%), excluded from the toy p-values; none ran at 2 of 31 points (no live time).\n",
+        ] {
+            assert!(text.contains(expected), "missing {expected:?} in\n{text}");
+        }
+        let footnote = Ensemble::limits().footnote(&projection).unwrap();
+        assert!(
+            footnote.starts_with("Failed limit fits: 3 of 56000 "),
+            "{footnote}"
+        );
+    }
+
+    #[test]
+    fn an_ensemble_that_never_ran_says_so() {
+        let mut projection = with_points_that_ran_no_toys();
+        for point in &mut projection.points {
+            point.limit_asimov = None;
+            point.limit_failed_fits = 0;
+        }
+        let text = summary(&projection);
+        assert!(
+            text.contains(
+                "Failed fits (limits): none run (no live time, or no bounded Asimov limit \
+                 at any of the 31 points).\n"
             ),
             "{text}"
         );

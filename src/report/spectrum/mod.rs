@@ -1,17 +1,20 @@
 //! The pseudo-data spectra's files: `figure.rs` (`spectrum-<D>d.svg`) and
-//! `csv.rs` (`spectrum-<D>d.csv`).
+//! `csv.rs` (`spectrum-<D>d.csv`), and `summary.rs` for the terminal.
 
 mod csv;
 mod figure;
+mod summary;
+
+pub use summary::spectrum_summary;
 
 use super::{Kind, Output, Report, ReportError, render};
 use crate::spectrum::Spectrum;
 
-/// Renders the spectra in memory: `spectrum-<D>d.svg` and `spectrum-<D>d.csv`,
-/// with one `-<D>d` per exposure in the order given (`spectrum-3d-30d.svg`).
-/// The same spectra always give byte-identical files.
+/// Renders the spectra in memory: `<stem>.svg` and `<stem>.csv`, named by
+/// [`Spectrum::file_stem`] (`spectrum-3d-30d.svg`). The same spectra always
+/// give byte-identical files.
 pub fn render_spectrum(spectrum: &Spectrum) -> Result<Vec<Report>, ReportError> {
-    let stem = file_stem(spectrum);
+    let stem = spectrum.file_stem();
     render(&[
         &Output::new(
             format!("{stem}.svg"),
@@ -21,14 +24,4 @@ pub fn render_spectrum(spectrum: &Spectrum) -> Result<Vec<Report>, ReportError> 
         ),
         &Output::new(format!("{stem}.csv"), Kind::Table, spectrum, csv::render),
     ])
-}
-
-/// `spectrum-3d-30d` for exposures at 3 and 30 calendar days.
-fn file_stem(spectrum: &Spectrum) -> String {
-    spectrum
-        .exposures
-        .iter()
-        .fold("spectrum".to_string(), |stem, exposure| {
-            format!("{stem}-{}d", exposure.days)
-        })
 }

@@ -1,0 +1,565 @@
+//! The command line resolved against the scenario, once: one validated options
+//! value per command, so every override (`--toys`, `--seed`, ...) and every
+//! limit on the command line is applied in one place.
+
+use crate::cli::{BinningArgs, FigureArgs, PlanArgs, ProjectArgs, SlurmArgs, SpectrumArgs};
+use crate::error::Error;
+use runcast::model::{LiveTime, Model};
+use runcast::projection::{ProjectionSettings, ShardSpec};
+use runcast::report::{DPI_RANGE, FigureFormats};
+use runcast::scenario::limits::{
+    MAX_EXPECTED_COUNT_PER_BIN, MAX_SPECTRUM_EXPOSURES, MAX_THREADS, MAX_TOYS_IN_TOTAL,
+    MAX_TOYS_PER_POINT,
+};
+use runcast::scenario::{Scenario, ScenarioError, show_number};
+use runcast::spectrum::largest_expected_count;
+use statrs::distribution::{ContinuousCDF, Normal};
+use std::path::{Path, PathBuf};
+
+/// Fewest background-only pseudo-experiments `--calibrate` accepts: N toys
+/// resolve one-sided p-values down to 1/N, which must fall below
+/// 1 - Phi(1) = 0.1587 for the calibration to reach even 1 sigma.
+pub const MIN_CALIBRATION_TOYS: usize = 7;
+
+/// A validated scenario read from `path`.
+pub struct Loaded {
+    pub path: PathBuf,
+    pub scenario: Scenario,
+    /// The file's text, which a shard carries.
+    pub text: String,
+}
+
+impl Loaded {
+    pub fn load(path: &Path) -> Result<Loaded, Error> {
+        let scenario_error = |source| Error::Scenario {
+            path: path.to_path_buf(),
+            source,
+        };
+        let text = Scenario::read_text(path).map_err(scenario_error)?;
+        let scenario = Scenario::from_yaml(&text).map_err(scenario_error)?;
+        Ok(Loaded {
+            path: path.to_path_buf(),
+            scenario,
+            text,
+        })
+    }
+
+    /// The scenario's file name, as shards record it.
+    pub fn file_name(&self) -> String {
+        self.path.file_name().map_or_else(
+            || "scenario".into(),
+            |name| name.to_string_lossy().into_owned(),
+        )
+    }
+
+    /// `out`, or `output/<scenario file stem>`.
+    fn output_directory(&self, out: Option<&Path>) -> PathBuf {
+        out.map(Path::to_path_buf).unwrap_or_else(|| {
+            let stem = self.path.file_stem().map_or_else(
+                || "scenario".into(),
+                |stem| stem.to_string_lossy().into_owned(),
+            );
+            Path::new("output").join(stem)
+        })
+    }
+
+    /// `--seed`, or the scenario's `plan.seed`.
+    fn seed(&self, seed: Option<u64>) -> u64 {
+        seed.unwrap_or(self.scenario.plan.seed)
+    }
+
+    /// The live days after `days` calendar days (`--days`): finite, above
+    /// zero, and with some live time by then.
+    fn live_days(&self, days: f64) -> Result<f64, Error> {
+        if !(days.is_finite() && days > 0.0) {
+            return Err(Error::Usage(format!(
+                "--days {}: expected calendar days above 0",
+                show_number(days)
+            )));
+        }
+        let live_days = LiveTime::from_schedule(&self.scenario.schedule).live_days(days);
+        if live_days <= 0.0 {
+            return Err(Error::Usage(format!(
+                "--days {}: the schedule gives no live time by then (live days {live_days})",
+                show_number(days)
+            )));
+        }
+        Ok(live_days)
+    }
+}
+
+/// What the command line changes in the scenario's plan.
+#[derive(Debug, Default)]
+struct PlanOverrides {
+    toys: Option<usize>,
+    seed: Option<u64>,
+    asimov_only: bool,
+    no_limits: bool,
+    calibrate: Option<usize>,
+    /// The shards the projection is split into (0 or 1: not split); the
+    /// limits on calibration toys and on all toys then hold per shard, since
+    /// a shard holds only its own toys and merging keeps calibration counts.
+    shards: usize,
+}
+
+impl PlanOverrides {
+    fn from_args(args: &PlanArgs, shards: usize) -> PlanOverrides {
+        PlanOverrides {
+            toys: args.toys,
+            seed: args.seed,
+            asimov_only: args.asimov_only,
+            no_limits: args.no_limits,
+            calibrate: args.calibrate,
+            shards,
+        }
+    }
+
+    /// The largest shard (the last one, ceil(T/N) of T toys).
+    fn largest_shard(&self) -> ShardSpec {
+        let count = self.shards.max(1);
+        ShardSpec {
+            index: count,
+            count,
+        }
+    }
+}
+
+/// The projection the scenario's plan asks for, with the command line's
+/// overrides applied and checked against the limits.
+fn projection_settings(
+    loaded: &Loaded,
+    overrides: &PlanOverrides,
+) -> Result<ProjectionSettings, Error> {
+    let scenario = &loaded.scenario;
+    if overrides.toys == Some(0) && !overrides.asimov_only {
+        return Err(Error::Usage(
+            "--toys: must be at least 1 (use --asimov-only to skip pseudo-experiments)".into(),
+        ));
+    }
+    if let Some(toys) = overrides
+        .calibrate
+        .filter(|&toys| toys < MIN_CALIBRATION_TOYS)
+    {
+        return Err(Error::Usage(format!(
+            "--calibrate {toys}: at least {MIN_CALIBRATION_TOYS} pseudo-experiments are needed; N toys resolve p-values down to 1/N, and 1/N must be below {:.4} (1 sigma) to calibrate any tail",
+            Normal::standard().sf(1.0)
+        )));
+    }
+    let largest_shard = overrides.largest_shard();
+    let calibration_share = overrides
+        .calibrate
+        .map(|toys| largest_shard.toys(toys).len());
+    for (flag, toys) in [
+        ("--toys", overrides.toys),
+        ("--calibrate", calibration_share),
+    ] {
+        if let Some(toys) = toys.filter(|&toys| toys > MAX_TOYS_PER_POINT) {
+            return Err(Error::Usage(format!(
+                "{flag} {toys}: at most {MAX_TOYS_PER_POINT} pseudo-experiments per point are allowed"
+            )));
+        }
+    }
+    let toys = if overrides.asimov_only {
+        0
+    } else {
+        overrides.toys.unwrap_or(scenario.plan.toys)
+    };
+    let settings = ProjectionSettings {
+        title: scenario.title.clone(),
+        days: scenario.plan.days.days(),
+        toys,
+        seed: loaded.seed(overrides.seed),
+        targets: scenario.plan.targets.clone(),
+        cl: (!overrides.no_limits).then_some(scenario.plan.cl),
+        calibration_toys: overrides.calibrate.unwrap_or(0),
+    };
+    if settings.total_toys_in(largest_shard) > MAX_TOYS_IN_TOTAL {
+        return Err(Error::Usage(format!(
+            "--toys/--calibrate: {} pseudo-experiments at each of {} points make {}, more than the {MAX_TOYS_IN_TOTAL} allowed in one projection{}",
+            settings.toys_per_point(),
+            settings.days.len(),
+            settings.total_toys(),
+            if largest_shard.count > 1 {
+                " or shard"
+            } else {
+                ""
+            }
+        )));
+    }
+    Ok(settings)
+}
+
+/// Pseudo-experiments draw whole counts: refuses a grid whose last day
+/// expects more than [`MAX_EXPECTED_COUNT_PER_BIN`] events in a bin or a
+/// control region, naming `plan.days.last` (a scenario error, not a usage one).
+fn check_countable(
+    loaded: &Loaded,
+    model: &Model,
+    settings: &ProjectionSettings,
+) -> Result<(), Error> {
+    let last_day = settings.days.last().copied().unwrap_or_default();
+    let largest = largest_expected_count(model, model.live_time.live_days(last_day));
+    if largest > MAX_EXPECTED_COUNT_PER_BIN {
+        return Err(Error::Scenario {
+            path: loaded.path.clone(),
+            source: ScenarioError::invalid(
+                "plan.days.last",
+                format!(
+                    "{} days expect {largest:e} events in a bin, more than the {MAX_EXPECTED_COUNT_PER_BIN:e} a pseudo-experiment can draw exactly; shorten the grid or use --asimov-only",
+                    show_number(last_day)
+                ),
+            ),
+        });
+    }
+    Ok(())
+}
+
+/// `--threads`, between 1 and [`MAX_THREADS`].
+fn check_threads(threads: Option<usize>) -> Result<Option<usize>, Error> {
+    match threads {
+        Some(0) => Err(Error::Usage("--threads: must be at least 1".into())),
+        Some(threads) if threads > MAX_THREADS => Err(Error::Usage(format!(
+            "--threads {threads}: at most {MAX_THREADS} worker threads are allowed"
+        ))),
+        threads => Ok(threads),
+    }
+}
+
+/// The figure formats and PNG resolution asked for (`--format`, `--dpi`).
+pub fn figure_formats(args: &FigureArgs) -> Result<FigureFormats, Error> {
+    FigureFormats::new(&args.formats, args.dpi).ok_or_else(|| {
+        Error::Usage(format!(
+            "--format, --dpi {}: expected at least one format and a resolution from {} to {}",
+            args.dpi,
+            DPI_RANGE.start(),
+            DPI_RANGE.end()
+        ))
+    })
+}
+
+/// `runcast project`, resolved.
+pub struct ProjectOptions {
+    pub loaded: Loaded,
+    pub model: Model,
+    pub settings: ProjectionSettings,
+    pub out: PathBuf,
+    /// A pool of this many workers; None for the global pool, and always
+    /// None when there are no pseudo-experiments to share out.
+    pub threads: Option<usize>,
+    /// Only this shard of the toys, written as a shard file (`--shard K/N`).
+    pub shard: Option<ShardSpec>,
+    pub formats: FigureFormats,
+    pub quiet: bool,
+}
+
+impl ProjectOptions {
+    pub fn resolve(args: &ProjectArgs) -> Result<ProjectOptions, Error> {
+        let threads = check_threads(args.threads)?;
+        let formats = figure_formats(&args.figures)?;
+        let loaded = Loaded::load(&args.scenario)?;
+        let shards = args.shard.map_or(1, |shard| shard.count);
+        let overrides = PlanOverrides::from_args(&args.plan, shards);
+        let settings = projection_settings(&loaded, &overrides)?;
+        let model = Model::from_scenario(&loaded.scenario);
+        let with_toys = settings.toys_per_point() > 0;
+        if with_toys {
+            check_countable(&loaded, &model, &settings)?;
+        }
+        Ok(ProjectOptions {
+            out: loaded.output_directory(args.out.as_deref()),
+            threads: threads.filter(|_| with_toys),
+            shard: args.shard,
+            formats,
+            quiet: args.quiet,
+            loaded,
+            model,
+            settings,
+        })
+    }
+}
+
+/// `runcast slurm`, resolved: the projection every shard runs, and the
+/// absolute paths the batch scripts use.
+pub struct SlurmOptions {
+    pub loaded: Loaded,
+    pub settings: ProjectionSettings,
+    pub tasks: usize,
+    /// Absolute paths: this runcast binary, the scenario, the output directory.
+    pub runcast: PathBuf,
+    pub scenario: PathBuf,
+    pub out: PathBuf,
+    /// `#SBATCH` options of both scripts, without the prefix.
+    pub sbatch_options: Vec<String>,
+    pub submit: bool,
+}
+
+impl SlurmOptions {
+    pub fn resolve(args: &SlurmArgs) -> Result<SlurmOptions, Error> {
+        if args.tasks == 0 {
+            return Err(Error::Usage("--tasks: must be at least 1".into()));
+        }
+        let loaded = Loaded::load(&args.scenario)?;
+        let settings =
+            projection_settings(&loaded, &PlanOverrides::from_args(&args.plan, args.tasks))?;
+        let model = Model::from_scenario(&loaded.scenario);
+        if settings.toys_per_point() > 0 {
+            check_countable(&loaded, &model, &settings)?;
+        }
+        let mut sbatch_options: Vec<String> = [
+            args.partition.as_ref().map(|p| format!("--partition={p}")),
+            args.time.as_ref().map(|t| format!("--time={t}")),
+        ]
+        .into_iter()
+        .flatten()
+        .chain(args.sbatch_arg.iter().cloned())
+        .collect();
+        if let Some(bad) = sbatch_options.iter().find(|option| option.contains('\n')) {
+            return Err(Error::Usage(format!(
+                "--sbatch-arg {bad:?}: an sbatch option cannot contain a line break"
+            )));
+        }
+        sbatch_options.dedup();
+        let absolute = |path: &Path, what: &str| {
+            std::path::absolute(path)
+                .map_err(|error| Error::Usage(format!("{what} {}: {error}", path.display())))
+        };
+        let runcast = std::env::current_exe()
+            .map_err(|error| Error::Usage(format!("cannot find the runcast binary: {error}")))?;
+        Ok(SlurmOptions {
+            out: absolute(&loaded.output_directory(args.out.as_deref()), "--out")?,
+            scenario: absolute(&loaded.path, "the scenario")?,
+            runcast,
+            tasks: args.tasks,
+            settings,
+            sbatch_options,
+            submit: args.submit,
+            loaded,
+        })
+    }
+}
+
+/// `runcast check`: the plan as written, Asimov only, with limits.
+pub struct CheckOptions {
+    pub loaded: Loaded,
+    pub model: Model,
+    pub settings: ProjectionSettings,
+}
+
+impl CheckOptions {
+    pub fn resolve(path: &Path) -> Result<CheckOptions, Error> {
+        let loaded = Loaded::load(path)?;
+        let overrides = PlanOverrides {
+            asimov_only: true,
+            ..PlanOverrides::default()
+        };
+        let settings = projection_settings(&loaded, &overrides)?;
+        Ok(CheckOptions {
+            model: Model::from_scenario(&loaded.scenario),
+            loaded,
+            settings,
+        })
+    }
+}
+
+/// `runcast spectrum`, resolved.
+pub struct SpectrumOptions {
+    pub loaded: Loaded,
+    /// Calendar days, each with live time, none repeated, in the order given.
+    pub days: Vec<f64>,
+    pub seed: u64,
+    pub out: PathBuf,
+    pub formats: FigureFormats,
+}
+
+impl SpectrumOptions {
+    pub fn resolve(args: &SpectrumArgs) -> Result<SpectrumOptions, Error> {
+        if args.days.len() > MAX_SPECTRUM_EXPOSURES {
+            return Err(Error::Usage(format!(
+                "--days: at most {MAX_SPECTRUM_EXPOSURES} exposures fit in one figure, got {}",
+                args.days.len()
+            )));
+        }
+        let loaded = Loaded::load(&args.scenario)?;
+        for (index, &days) in args.days.iter().enumerate() {
+            loaded.live_days(days)?;
+            if args.days[..index].contains(&days) {
+                return Err(Error::Usage(format!(
+                    "--days {}: given more than once",
+                    show_number(days)
+                )));
+            }
+        }
+        Ok(SpectrumOptions {
+            days: args.days.clone(),
+            seed: loaded.seed(args.seed),
+            out: loaded.output_directory(args.out.as_deref()),
+            formats: figure_formats(&args.figures)?,
+            loaded,
+        })
+    }
+}
+
+/// `runcast binning`, resolved.
+pub struct BinningOptions {
+    pub loaded: Loaded,
+    pub days: f64,
+    pub out: PathBuf,
+    pub formats: FigureFormats,
+}
+
+impl BinningOptions {
+    pub fn resolve(args: &BinningArgs) -> Result<BinningOptions, Error> {
+        let loaded = Loaded::load(&args.scenario)?;
+        loaded.live_days(args.days)?;
+        Ok(BinningOptions {
+            days: args.days,
+            out: loaded.output_directory(args.out.as_deref()),
+            formats: figure_formats(&args.figures)?,
+            loaded,
+        })
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn loaded() -> Loaded {
+        let text = "title: options test (invented numbers)\n\
+             observable: {name: x, unit: a.u., range: [0.0, 10.0], bin_width: 1.0}\n\
+             signal: {events_per_day: 1.0, shape: {gaussian: {mean: 5.0, sigma: 1.0}}}\n\
+             backgrounds:\n  - {name: flat, events_per_day: 10.0, shape: {flat: {}}}\n\
+             plan: {days: {first: 1, last: 10, points: 3, spacing: log}, toys: 50, seed: 9, targets: [3], cl: 0.9}\n";
+        Loaded {
+            path: PathBuf::from("scenarios/test.yaml"),
+            scenario: Scenario::from_yaml(text).unwrap(),
+            text: text.to_string(),
+        }
+    }
+
+    /// 1 - Phi(1) = 0.158655 (statrs, reference library): 1/7 lies below it
+    /// and 1/6 above, so 7 toys are the fewest that reach 1 sigma.
+    #[test]
+    fn the_fewest_calibration_toys_resolve_one_sigma() {
+        let tail = Normal::standard().sf(1.0);
+        assert!((tail - 0.158655).abs() < 1e-6, "{tail}");
+        let n = MIN_CALIBRATION_TOYS as f64;
+        assert!(1.0 / n < tail && 1.0 / (n - 1.0) > tail);
+    }
+
+    #[test]
+    fn check_and_project_share_one_settings_builder() {
+        let loaded = loaded();
+        let check = projection_settings(
+            &loaded,
+            &PlanOverrides {
+                asimov_only: true,
+                ..PlanOverrides::default()
+            },
+        )
+        .unwrap();
+        assert_eq!(
+            (check.toys, check.seed, check.cl, check.calibration_toys),
+            (0, 9, Some(0.9), 0)
+        );
+        assert_eq!(check.days.len(), 3);
+        let project = projection_settings(
+            &loaded,
+            &PlanOverrides {
+                toys: Some(20),
+                seed: Some(4),
+                no_limits: true,
+                calibrate: Some(7),
+                ..PlanOverrides::default()
+            },
+        )
+        .unwrap();
+        assert_eq!(
+            (
+                project.toys,
+                project.seed,
+                project.cl,
+                project.calibration_toys
+            ),
+            (20, 4, None, 7)
+        );
+        assert_eq!(project.total_toys(), 3 * (20 + 7));
+    }
+
+    #[test]
+    fn calibration_and_total_limits_hold_per_shard() {
+        let loaded = loaded();
+        let calibrate = |toys, shards| {
+            projection_settings(
+                &loaded,
+                &PlanOverrides {
+                    calibrate: Some(toys),
+                    shards,
+                    ..PlanOverrides::default()
+                },
+            )
+        };
+        assert!(calibrate(MAX_TOYS_PER_POINT + 1, 1).is_err());
+        assert!(calibrate(MAX_TOYS_PER_POINT + 1, 2).is_ok());
+        assert!(calibrate(100 * MAX_TOYS_PER_POINT, 100).is_ok());
+        assert!(calibrate(100 * MAX_TOYS_PER_POINT + 1, 100).is_err());
+        let toys = projection_settings(
+            &loaded,
+            &PlanOverrides {
+                toys: Some(MAX_TOYS_PER_POINT + 1),
+                shards: 100,
+                ..PlanOverrides::default()
+            },
+        );
+        assert!(
+            toys.is_err(),
+            "the merge holds every discovery value of a point"
+        );
+    }
+
+    #[test]
+    fn refused_overrides_are_usage_errors_naming_the_flag() {
+        let loaded = loaded();
+        let refused = |overrides: PlanOverrides, flag: &str| {
+            let error = projection_settings(&loaded, &overrides).unwrap_err();
+            assert!(matches!(error, Error::Usage(_)), "{error}");
+            assert!(error.to_string().starts_with(flag), "{error}");
+        };
+        refused(
+            PlanOverrides {
+                toys: Some(0),
+                ..PlanOverrides::default()
+            },
+            "--toys",
+        );
+        refused(
+            PlanOverrides {
+                calibrate: Some(MIN_CALIBRATION_TOYS - 1),
+                ..PlanOverrides::default()
+            },
+            "--calibrate 6",
+        );
+        refused(
+            PlanOverrides {
+                toys: Some(MAX_TOYS_PER_POINT + 1),
+                ..PlanOverrides::default()
+            },
+            "--toys 10000001",
+        );
+        assert!(check_threads(Some(MAX_THREADS + 1)).is_err());
+        assert_eq!(check_threads(Some(MAX_THREADS)).unwrap(), Some(MAX_THREADS));
+    }
+
+    #[test]
+    fn days_must_give_live_time() {
+        let loaded = loaded();
+        assert_eq!(loaded.live_days(2.5).unwrap(), 2.5);
+        for days in [0.0, -1.0, f64::NAN, f64::INFINITY] {
+            assert!(loaded.live_days(days).is_err(), "{days}");
+        }
+        assert_eq!(
+            loaded.output_directory(None),
+            Path::new("output").join("test")
+        );
+    }
+}

@@ -1,0 +1,116 @@
+//! Why a shard could not be written, or shards not merged.
+
+use super::{SHARD_EXTENSION, ShardSpec};
+use crate::projection::ProjectionError;
+use crate::scenario::ScenarioError;
+use std::fmt;
+use std::io;
+use std::path::PathBuf;
+
+/// Why a shard could not be written, or shards not merged.
+#[derive(Debug)]
+pub enum ShardError {
+    /// A shard file or directory could not be read or written.
+    Io { path: PathBuf, source: io::Error },
+    /// Not a shard file of this format.
+    NotAShard { path: PathBuf },
+    /// The file's bytes do not match its checksum.
+    Corrupted { path: PathBuf },
+    /// The checksum matches but the content does not make sense.
+    Malformed { path: PathBuf, what: String },
+    /// No shard files in the directory.
+    NoShards { directory: PathBuf },
+    /// A shard of another run.
+    Mixed {
+        path: PathBuf,
+        first: PathBuf,
+        difference: String,
+    },
+    /// Two files for the same K.
+    Duplicate {
+        path: PathBuf,
+        other: PathBuf,
+        shard: ShardSpec,
+    },
+    /// Shards missing from the set.
+    Missing {
+        directory: PathBuf,
+        missing: Vec<usize>,
+        count: usize,
+    },
+    /// The scenario stored in the shards is not valid for this runcast.
+    Scenario {
+        path: PathBuf,
+        source: ScenarioError,
+    },
+    /// An asymptotic fit failed.
+    Projection(ProjectionError),
+}
+
+impl fmt::Display for ShardError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            ShardError::Io { path, source } => write!(f, "{}: {source}", path.display()),
+            ShardError::NotAShard { path } => {
+                write!(
+                    f,
+                    "{}: not a runcast shard file of this format",
+                    path.display()
+                )
+            }
+            ShardError::Corrupted { path } => write!(
+                f,
+                "{}: truncated or corrupted (its checksum does not match); rerun this shard",
+                path.display()
+            ),
+            ShardError::Malformed { path, what } => write!(f, "{}: {what}", path.display()),
+            ShardError::NoShards { directory } => write!(
+                f,
+                "{}: no shard files (*.{SHARD_EXTENSION}) to merge",
+                directory.display()
+            ),
+            ShardError::Mixed {
+                path,
+                first,
+                difference,
+            } => write!(
+                f,
+                "{}: a shard of another run than {} ({difference}); merge the shards of one run only",
+                path.display(),
+                first.display()
+            ),
+            ShardError::Duplicate { path, other, shard } => write!(
+                f,
+                "{}: shard {shard} is also in {}",
+                path.display(),
+                other.display()
+            ),
+            ShardError::Missing {
+                directory,
+                missing,
+                count,
+            } => {
+                let list: Vec<String> = missing.iter().map(|k| format!("{k}/{count}")).collect();
+                write!(
+                    f,
+                    "{}: missing shard{} {}; run them with --shard K/{count}",
+                    directory.display(),
+                    if missing.len() == 1 { "" } else { "s" },
+                    list.join(", ")
+                )
+            }
+            ShardError::Scenario { path, source } => {
+                write!(f, "{}: the scenario it holds: {source}", path.display())
+            }
+            ShardError::Projection(error) => error.fmt(f),
+        }
+    }
+}
+
+impl std::error::Error for ShardError {}
+
+impl From<ProjectionError> for ShardError {
+    fn from(error: ProjectionError) -> Self {
+        ShardError::Projection(error)
+    }
+}

@@ -1,0 +1,248 @@
+//! Merging: every shard of one run checked, then read point by point.
+
+use super::encoding::{Decoder, HashingWriter, decode_point};
+use super::{CHECKSUM_BYTES, MAGIC, SHARD_EXTENSION, ShardError, ShardRun, ShardSpec};
+use crate::ensemble::EnsembleOutcome;
+use crate::likelihood::Likelihood;
+use crate::model::Model;
+use crate::projection::Projection;
+use crate::projection::ensembles::{PointRequest, PointToys, ToySource};
+use crate::scenario::Scenario;
+use sha2::Digest;
+use std::fs::File;
+use std::io::{self, BufReader, Read, Write};
+use std::path::{Path, PathBuf};
+
+/// Merges the shards in `directory`: checks that they are all N shards of
+/// one run, unchanged, then runs the projection with their pseudo-experiments.
+/// Returns the run (scenario, settings) and the projection.
+pub fn merge_shards(directory: &Path) -> Result<(ShardRun, Projection), ShardError> {
+    let mut shards = open_shards(directory)?;
+    let first = &shards[0];
+    let run = first.run.clone();
+    let scenario =
+        Scenario::from_yaml(&run.scenario_text).map_err(|source| ShardError::Scenario {
+            path: first.path.clone(),
+            source,
+        })?;
+    let model = Model::from_scenario(&scenario);
+    let projection =
+        crate::projection::project_from(&model, &run.settings, &mut MergeSource(&mut shards))?;
+    for shard in &shards {
+        shard.expect_end()?;
+    }
+    Ok((run, projection))
+}
+
+/// Every shard file of `directory`, checked and sorted by K.
+fn open_shards(directory: &Path) -> Result<Vec<ShardReader>, ShardError> {
+    let io_error = |source| ShardError::Io {
+        path: directory.to_path_buf(),
+        source,
+    };
+    let mut paths = Vec::new();
+    for entry in std::fs::read_dir(directory).map_err(io_error)? {
+        let path = entry.map_err(io_error)?.path();
+        if path.extension().is_some_and(|ext| ext == SHARD_EXTENSION) {
+            paths.push(path);
+        }
+    }
+    paths.sort();
+    let mut shards = paths
+        .into_iter()
+        .map(ShardReader::open)
+        .collect::<Result<Vec<_>, _>>()?;
+    let Some(first) = shards.first() else {
+        return Err(ShardError::NoShards {
+            directory: directory.to_path_buf(),
+        });
+    };
+    for shard in &shards[1..] {
+        let difference = first.run.difference(&shard.run).or_else(|| {
+            (shard.shard.count != first.shard.count)
+                .then(|| format!("N = {} instead of {}", shard.shard.count, first.shard.count))
+        });
+        if let Some(difference) = difference {
+            return Err(ShardError::Mixed {
+                path: shard.path.clone(),
+                first: first.path.clone(),
+                difference,
+            });
+        }
+    }
+    shards.sort_by_key(|shard| shard.shard.index);
+    for pair in shards.windows(2) {
+        if pair[0].shard == pair[1].shard {
+            return Err(ShardError::Duplicate {
+                path: pair[1].path.clone(),
+                other: pair[0].path.clone(),
+                shard: pair[1].shard,
+            });
+        }
+    }
+    let count = shards[0].shard.count;
+    if shards.len() != count {
+        let present: Vec<usize> = shards.iter().map(|shard| shard.shard.index).collect();
+        return Err(ShardError::Missing {
+            directory: directory.to_path_buf(),
+            missing: (1..=count).filter(|k| !present.contains(k)).collect(),
+            count,
+        });
+    }
+    Ok(shards)
+}
+
+/// The pseudo-experiments of all shards, read point by point in the order of K.
+struct MergeSource<'a>(&'a mut [ShardReader]);
+
+impl ToySource for MergeSource<'_> {
+    type Error = ShardError;
+
+    fn toys(&mut self, _: &Likelihood, request: &PointRequest) -> Result<PointToys, ShardError> {
+        let mut merged = PointToys::default();
+        for shard in self.0.iter_mut() {
+            merged.append(shard.point(request)?);
+        }
+        Ok(merged)
+    }
+
+    fn skip(&mut self, _: usize) {}
+}
+
+/// One shard file, its checksum verified, read section by section. The file
+/// is opened for each section only, so a merge of thousands of shards never
+/// holds thousands of open files.
+struct ShardReader {
+    path: PathBuf,
+    run: ShardRun,
+    shard: ShardSpec,
+    /// Where the next section starts.
+    offset: u64,
+    /// Where the checksum starts.
+    body_length: u64,
+}
+
+impl ShardReader {
+    /// Verifies the checksum of the file at `path` and reads its header.
+    fn open(path: PathBuf) -> Result<ShardReader, ShardError> {
+        let body_length = verify_checksum(&path)?;
+        let mut input = Decoder::open(&path, 0, body_length).map_err(|source| ShardError::Io {
+            path: path.clone(),
+            source,
+        })?;
+        let malformed = |what: String| ShardError::Malformed {
+            path: path.clone(),
+            what,
+        };
+        let header = (|| {
+            input.raw::<16>()?; // the magic, checked with the checksum
+            let run = ShardRun::decode(&mut input)?;
+            let shard = ShardSpec {
+                index: input.count()?,
+                count: input.count()?,
+            };
+            if shard.index == 0 || shard.index > shard.count {
+                return Err(format!("shard {shard} is not a valid K/N"));
+            }
+            Ok((run, shard))
+        })();
+        let (run, shard) = header.map_err(malformed)?;
+        Ok(ShardReader {
+            path,
+            run,
+            shard,
+            offset: body_length - input.remaining(),
+            body_length,
+        })
+    }
+
+    /// The next point's section, checked against what the point asks for.
+    fn point(&mut self, request: &PointRequest) -> Result<PointToys, ShardError> {
+        let mut input =
+            Decoder::open(&self.path, self.offset, self.body_length).map_err(|source| {
+                ShardError::Io {
+                    path: self.path.clone(),
+                    source,
+                }
+            })?;
+        let toys =
+            decode_point(&mut input).and_then(|toys| self.check(&toys, request).map(|()| toys));
+        self.offset = self.body_length - input.remaining();
+        toys.map_err(|what| ShardError::Malformed {
+            path: self.path.clone(),
+            what: format!("grid point {}: {what}", request.index + 1),
+        })
+    }
+
+    /// The ensembles present are those requested, each with this shard's number of toys.
+    fn check(&self, toys: &PointToys, request: &PointRequest) -> Result<(), String> {
+        let share = |total: usize| self.shard.toys(total).len();
+        let size = |outcome: &EnsembleOutcome| outcome.values.len() + outcome.failed_fits;
+        let expected = [
+            (request.discovery_toys > 0).then(|| share(request.discovery_toys)),
+            request.limits.map(|limits| share(limits.toys)),
+            request
+                .calibration
+                .map(|calibration| share(calibration.toys)),
+        ];
+        let found = [
+            toys.discovery.as_ref().map(size),
+            toys.limits.as_ref().map(size),
+            toys.calibration.map(|count| count.toys()),
+        ];
+        if expected != found {
+            return Err(format!(
+                "holds ensembles of {found:?} pseudo-experiments where {expected:?} were expected"
+            ));
+        }
+        Ok(())
+    }
+
+    /// Checks that every section has been read.
+    fn expect_end(&self) -> Result<(), ShardError> {
+        if self.offset != self.body_length {
+            return Err(ShardError::Malformed {
+                path: self.path.clone(),
+                what: "holds more grid points than its scenario".into(),
+            });
+        }
+        Ok(())
+    }
+}
+
+/// Reads the whole file, compares the SHA-256 of all but its last 32 bytes
+/// with those bytes, and returns the length they cover.
+fn verify_checksum(path: &Path) -> Result<u64, ShardError> {
+    let io_error = |source| ShardError::Io {
+        path: path.to_path_buf(),
+        source,
+    };
+    let mut file = File::open(path).map_err(io_error)?;
+    let length = file.metadata().map_err(io_error)?.len();
+    let mut magic = [0u8; 16];
+    if length < MAGIC.len() as u64 + CHECKSUM_BYTES
+        || file.read_exact(&mut magic).is_err()
+        || &magic != MAGIC
+    {
+        return Err(ShardError::NotAShard {
+            path: path.to_path_buf(),
+        });
+    }
+    let body_length = length - CHECKSUM_BYTES;
+    let mut hasher = HashingWriter::new(io::sink());
+    hasher.write_all(&magic).map_err(io_error)?;
+    let mut file = BufReader::new(file);
+    io::copy(
+        &mut (&mut file).take(body_length - MAGIC.len() as u64),
+        &mut hasher,
+    )
+    .map_err(io_error)?;
+    let mut stored = [0u8; 32];
+    file.read_exact(&mut stored).map_err(io_error)?;
+    if stored != <[u8; 32]>::from(hasher.hasher.finalize()) {
+        return Err(ShardError::Corrupted {
+            path: path.to_path_buf(),
+        });
+    }
+    Ok(body_length)
+}

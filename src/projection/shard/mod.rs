@@ -1,0 +1,260 @@
+//! Shards: one projection split over processes or machines, merged exactly.
+//!
+//! Shard K of N runs the toy indices `[(K-1)·T/N, K·T/N)` (integer division)
+//! of every ensemble of T pseudo-experiments, at every grid point, whatever
+//! the thread count; each toy has its own random stream, so the toys of all
+//! shards together are those of the unsharded run. A shard file holds what
+//! merging needs and nothing else:
+//!
+//! - a header: the runcast version, the scenario text and its SHA-256, the
+//!   projection settings (seed, toys, limits, calibration, grid), K and N;
+//! - per grid point with live time, the shard's part of each ensemble: the
+//!   failed fits and the converged values (8 bytes a toy, in toy order) of
+//!   the discovery and limit ensembles, whose quantiles need every value,
+//!   and three counts for the calibration, whose p-value needs only how
+//!   many toys reached the Asimov q0 (so 10⁸ calibration toys cost 24 bytes
+//!   a point);
+//! - the SHA-256 of all the bytes before it.
+//!
+//! Merging reads the shards point by point, in the order of K, so that a
+//! point's values are those of the unsharded run in the same order; it holds
+//! one point's ensembles at a time, as the unsharded run does, and from there
+//! runs the same code ([`super::project_from`]).
+
+mod encoding;
+mod error;
+mod merge;
+mod write;
+
+pub use error::ShardError;
+pub use merge::merge_shards;
+pub use write::run_shard;
+
+use super::ProjectionSettings;
+use encoding::{Decoder, Encoder, hex};
+use sha2::{Digest, Sha256};
+use std::fmt;
+use std::ops::Range;
+use std::str::FromStr;
+
+/// The first bytes of every shard file, with the format number.
+const MAGIC: &[u8; 16] = b"runcast-shard 1\n";
+/// The extension of shard files; `merge` reads every file of a directory with it.
+pub const SHARD_EXTENSION: &str = "runcast-shard";
+/// Bytes of the SHA-256 checksum at the end of a shard file.
+const CHECKSUM_BYTES: u64 = 32;
+
+/// Shard K of N (1 <= K <= N).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct ShardSpec {
+    /// K, from 1.
+    pub index: usize,
+    /// N.
+    pub count: usize,
+}
+
+impl ShardSpec {
+    /// The whole ensemble: shard 1 of 1.
+    pub const WHOLE: ShardSpec = ShardSpec { index: 1, count: 1 };
+
+    /// The toy indices of this shard in an ensemble of `total`:
+    /// `[(K-1)·total/N, K·total/N)` with integer division, so the N shards
+    /// cover `0..total` in order, each within one toy of `total/N`.
+    pub fn toys(&self, total: usize) -> Range<usize> {
+        let bound = |k: usize| (k as u128 * total as u128 / self.count as u128) as usize;
+        bound(self.index - 1)..bound(self.index)
+    }
+}
+
+impl fmt::Display for ShardSpec {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "{}/{}", self.index, self.count)
+    }
+}
+
+impl FromStr for ShardSpec {
+    type Err = String;
+
+    /// Parses `K/N` with 1 <= K <= N.
+    fn from_str(text: &str) -> Result<ShardSpec, String> {
+        let expected = || format!("{text}: expected K/N with 1 <= K <= N, e.g. 3/8");
+        let (index, count) = text.split_once('/').ok_or_else(expected)?;
+        let number = |part: &str| part.trim().parse::<usize>().map_err(|_| expected());
+        let shard = ShardSpec {
+            index: number(index)?,
+            count: number(count)?,
+        };
+        if shard.index == 0 || shard.index > shard.count {
+            return Err(expected());
+        }
+        Ok(shard)
+    }
+}
+
+/// Everything that must agree between the shards of one run.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ShardRun {
+    /// The version of runcast that ran the shard.
+    pub version: String,
+    /// The scenario's file name, for messages and the summary.
+    pub scenario_name: String,
+    /// The scenario file's text, from which merging rebuilds the model.
+    pub scenario_text: String,
+    pub settings: ProjectionSettings,
+}
+
+impl ShardRun {
+    /// A run of this runcast version on the scenario `text` read from `name`.
+    pub fn new(scenario_name: String, scenario_text: String, settings: ProjectionSettings) -> Self {
+        ShardRun {
+            version: env!("CARGO_PKG_VERSION").to_string(),
+            scenario_name,
+            scenario_text,
+            settings,
+        }
+    }
+
+    /// SHA-256 of the scenario file's bytes.
+    pub fn scenario_hash(&self) -> [u8; 32] {
+        Sha256::digest(self.scenario_text.as_bytes()).into()
+    }
+
+    /// The header bytes of this run (everything but K).
+    fn encode(&self, out: &mut Encoder) {
+        let settings = &self.settings;
+        out.text(&self.version);
+        out.text(&self.scenario_name);
+        out.bytes(&self.scenario_hash());
+        out.text(&self.scenario_text);
+        out.text(&settings.title);
+        out.floats(&settings.days);
+        out.count(settings.toys);
+        out.u64(settings.seed);
+        out.floats(&settings.targets);
+        out.flag(settings.cl.is_some());
+        out.f64(settings.cl.unwrap_or_default());
+        out.count(settings.calibration_toys);
+    }
+
+    fn decode(input: &mut Decoder) -> Result<ShardRun, String> {
+        let version = input.text()?;
+        let scenario_name = input.text()?;
+        let hash = input.bytes()?;
+        let scenario_text = input.text()?;
+        let title = input.text()?;
+        let days = input.floats()?;
+        let toys = input.count()?;
+        let seed = input.u64()?;
+        let targets = input.floats()?;
+        let with_limits = input.flag()?;
+        let cl = input.f64()?;
+        let calibration_toys = input.count()?;
+        let run = ShardRun {
+            version,
+            scenario_name,
+            scenario_text,
+            settings: ProjectionSettings {
+                title,
+                days,
+                toys,
+                seed,
+                targets,
+                cl: with_limits.then_some(cl),
+                calibration_toys,
+            },
+        };
+        if hash != run.scenario_hash() {
+            return Err("the scenario text does not match its SHA-256".into());
+        }
+        Ok(run)
+    }
+
+    /// A short name of the run (the first 12 hex digits of the SHA-256 of its
+    /// header), so shards of different runs in one directory never collide.
+    fn id(&self) -> String {
+        let mut header = Encoder::default();
+        self.encode(&mut header);
+        hex(&Sha256::digest(&header.bytes)[..6])
+    }
+
+    /// The file name of shard `shard` of this run.
+    pub fn file_name(&self, shard: ShardSpec) -> String {
+        let width = shard.count.to_string().len();
+        format!(
+            "shard-{}-{:0width$}-of-{}.{SHARD_EXTENSION}",
+            self.id(),
+            shard.index,
+            shard.count
+        )
+    }
+
+    /// The first field in which `other` differs from this run, for messages.
+    fn difference(&self, other: &ShardRun) -> Option<String> {
+        let (a, b) = (&self.settings, &other.settings);
+        let named = |what: &str, mine: String, theirs: String| {
+            (mine != theirs).then(|| format!("{what} {theirs} instead of {mine}"))
+        };
+        named(
+            "runcast version",
+            self.version.clone(),
+            other.version.clone(),
+        )
+        .or_else(|| {
+            named(
+                "scenario (SHA-256)",
+                hex(&self.scenario_hash()),
+                hex(&other.scenario_hash()),
+            )
+        })
+        .or_else(|| {
+            named(
+                "scenario file name",
+                self.scenario_name.clone(),
+                other.scenario_name.clone(),
+            )
+        })
+        .or_else(|| named("seed", a.seed.to_string(), b.seed.to_string()))
+        .or_else(|| named("--toys", a.toys.to_string(), b.toys.to_string()))
+        .or_else(|| {
+            named(
+                "--calibrate",
+                a.calibration_toys.to_string(),
+                b.calibration_toys.to_string(),
+            )
+        })
+        .or_else(|| named("limits (CL)", format!("{:?}", a.cl), format!("{:?}", b.cl)))
+        .or_else(|| (self != other).then(|| "projection settings".to_string()))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn shards_cover_the_toys_in_order_and_within_one_toy_of_each_other() {
+        for total in [0, 1, 5, 7, 100, 1001] {
+            for count in [1, 2, 3, 7, 12] {
+                let ranges: Vec<_> = (1..=count)
+                    .map(|index| ShardSpec { index, count }.toys(total))
+                    .collect();
+                assert_eq!(ranges[0].start, 0);
+                assert_eq!(ranges[count - 1].end, total);
+                for pair in ranges.windows(2) {
+                    assert_eq!(pair[0].end, pair[1].start);
+                }
+                let sizes: Vec<_> = ranges.iter().map(|range| range.len()).collect();
+                let (min, max) = (sizes.iter().min().unwrap(), sizes.iter().max().unwrap());
+                assert!(max - min <= 1, "{total} toys in {count}: {sizes:?}");
+            }
+        }
+    }
+
+    #[test]
+    fn shard_specs_parse_as_k_of_n() {
+        assert_eq!("3/7".parse(), Ok(ShardSpec { index: 3, count: 7 }));
+        for bad in ["0/3", "4/3", "3", "a/b", "1/0", "-1/2"] {
+            assert!(bad.parse::<ShardSpec>().is_err(), "{bad}");
+        }
+    }
+}

@@ -1,0 +1,91 @@
+//! The text of `runcast check`: a valid scenario's rates, S/B at the peak,
+//! and the asymptotic days to each target and to exclusion.
+
+use crate::model::{Model, fraction_inside, shape_from_spec};
+use crate::projection::Projection;
+use crate::scenario::{Scenario, ShapeSpec};
+use std::fmt::Write;
+use std::path::Path;
+
+/// What `check` prints for the scenario at `path`, with its model and its
+/// Asimov-only projection (with limits).
+pub fn check_summary(
+    path: &Path,
+    scenario: &Scenario,
+    model: &Model,
+    projection: &Projection,
+) -> String {
+    let mut text = format!("{}: valid\n  {}\n", path.display(), scenario.title);
+    rates(&mut text, scenario, model);
+    let last_day = projection.points.last().map_or(0.0, |point| point.days);
+    text.push_str("  asymptotic days to target:\n");
+    for days in &projection.days_to_target {
+        let answer = match (days.asimov_days, days.saturation_z) {
+            (Some(days), _) => format!("{days:.1} days"),
+            (None, Some(limit)) if limit < days.target => {
+                format!("never: systematic uncertainties cap Z at {limit:.2} sigma")
+            }
+            (None, _) => format!("not within the grid (beyond {last_day} days)"),
+        };
+        let _ = writeln!(text, "    {} sigma: {answer}", days.target);
+    }
+    let exclusion = match projection.days_to_exclusion.asimov_days {
+        Some(days) => format!("{days:.1} days"),
+        None => format!("not within the grid (beyond {last_day} days)"),
+    };
+    let _ = writeln!(
+        text,
+        "  asymptotic days until the signal is excluded at {}% CL (median expected CLs limit): {exclusion}",
+        scenario.plan.cl * 100.0
+    );
+    text
+}
+
+/// Rates per live day, and S, B and S/B within the peak window.
+fn rates(text: &mut String, scenario: &Scenario, model: &Model) {
+    let (signal, background) = model.nominal_rates();
+    let observable = &scenario.observable;
+    let _ = writeln!(text, "  signal: {signal:.6} events per live day");
+    for b in &scenario.backgrounds {
+        let _ = writeln!(
+            text,
+            "  background {}: {:.6} events per live day",
+            b.name, b.events_per_day
+        );
+    }
+    let _ = writeln!(
+        text,
+        "  background total: {background:.6} events per live day"
+    );
+    let Some((low, high)) = peak_window(&scenario.signal.shape, observable.range) else {
+        text.push_str("  the signal peak ±2 widths lies outside the range: no S/B at the peak\n");
+        return;
+    };
+    let in_window =
+        |spec: &ShapeSpec, rate: f64| rate * fraction_inside(spec, observable.range, low, high);
+    let signal_in = in_window(&scenario.signal.shape, signal);
+    let background_in: f64 = scenario
+        .backgrounds
+        .iter()
+        .map(|b| in_window(&b.shape, b.events_per_day))
+        .sum();
+    let _ = writeln!(
+        text,
+        "  within [{low:.6}, {high:.6}] {}: S = {signal_in:.6}, B = {background_in:.6} per live day, S/B = {:.6}",
+        observable.unit,
+        signal_in / background_in
+    );
+}
+
+/// The peak ±2 widths of a peaked shape ([`Shape::peak`](crate::model::shapes::Shape::peak): sigma for a
+/// Gaussian, half width at half maximum for a Breit-Wigner), clipped to the
+/// range; the whole range for other shapes; None when the window lies
+/// entirely outside the range.
+fn peak_window(shape: &ShapeSpec, range: [f64; 2]) -> Option<(f64, f64)> {
+    let Some(peak) = shape_from_spec(shape, range).peak() else {
+        return Some((range[0], range[1]));
+    };
+    let low = (peak.centre - 2.0 * peak.width).max(range[0]);
+    let high = (peak.centre + 2.0 * peak.width).min(range[1]);
+    (low < high).then_some((low, high))
+}

@@ -1,0 +1,57 @@
+//! Warnings: what may be wrong with a valid scenario or a finished projection,
+//! as typed values carrying the data each needs. They travel with what
+//! produced them (`Scenario::warnings`, `Projection::warnings`) and are worded
+//! in one place, `report::warning_text`.
+
+use crate::calendar::CalendarDate;
+
+/// Failed fits above this fraction of an ensemble's pseudo-experiments at one
+/// exposure point earn a warning: the quantiles there exclude them and may be
+/// biased.
+pub const FAILED_FRACTION_WARNING: f64 = 0.001;
+
+/// An ensemble of pseudo-experiments of a projection.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Ensemble {
+    /// Signal + background toys for the discovery significance.
+    Discovery,
+    /// Background-only toys for the expected limits.
+    Limits,
+    /// Background-only toys calibrating the p-value of q0.
+    Calibration,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub enum Warning {
+    /// A peaked signal whose maximum `centre` (given at `signal.shape.` and
+    /// the dotted `centre_key`, e.g. `gaussian.mean`) lies outside the range
+    /// `[low, high]`: only its tail is fitted.
+    SignalPeakOutsideRange {
+        centre_key: &'static str,
+        centre: f64,
+        range: [f64; 2],
+    },
+    /// `backgrounds[background].float_shape` is set on a shape without
+    /// parameters (flat, or a one-term polynomial): it has no effect.
+    NothingToFloat { background: usize },
+    /// The grid starts on `first_day`, within the first `days_without_data`
+    /// days, when the schedule scales every rate to 0.
+    FirstDayWithoutData {
+        first_day: f64,
+        days_without_data: f64,
+    },
+    /// More than [`FAILED_FRACTION_WARNING`] of the `toys` fits of `ensemble`
+    /// failed at `flagged_points` of the `points` exposure points where it
+    /// ran; the most, at
+    /// `worst_days` calendar days, lost `worst_failed`; `start` is the date
+    /// of day 0 when the schedule has one.
+    FailedFits {
+        ensemble: Ensemble,
+        flagged_points: usize,
+        points: usize,
+        worst_failed: usize,
+        toys: usize,
+        worst_days: f64,
+        start: Option<CalendarDate>,
+    },
+}
