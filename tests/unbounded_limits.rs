@@ -7,6 +7,7 @@ mod common;
 use common::Scratch;
 use serde_json::Value;
 use std::fs;
+use std::process::Output;
 
 /// The counting-window demo with one line replaced, projected with a few toys;
 /// returns the parsed `projection.json`.
@@ -16,23 +17,13 @@ fn project_demo_with(label: &str, from: &str, to: &str) -> Value {
 
 /// As `project_demo_with`, also returning the summary printed on stdout.
 fn run_demo_with(label: &str, from: &str, to: &str) -> (Value, String) {
-    let demo = fs::read_to_string(concat!(
-        env!("CARGO_MANIFEST_DIR"),
-        "/scenarios/counting_window.yaml"
-    ))
-    .expect("demo scenario");
-    assert!(demo.contains(from), "{from:?} not in the demo");
+    run_demo_with_args(label, from, to, &["--toys", "200"])
+}
+
+/// As `run_demo_with`, with the options `extra` instead of `--toys 200`.
+fn run_demo_with_args(label: &str, from: &str, to: &str, extra: &[&str]) -> (Value, String) {
     let scratch = Scratch::new(label);
-    fs::write(scratch.path.join("edited.yaml"), demo.replacen(from, to, 1)).unwrap();
-    let output = scratch.run(&[
-        "project",
-        "edited.yaml",
-        "--out",
-        "out",
-        "--toys",
-        "200",
-        "--quiet",
-    ]);
+    let output = project_edited_demo(&scratch, from, to, extra);
     assert!(
         output.status.success(),
         "{label}: {}",
@@ -43,28 +34,101 @@ fn run_demo_with(label: &str, from: &str, to: &str) -> (Value, String) {
     (json, String::from_utf8(output.stdout).unwrap())
 }
 
+/// Writes the counting-window demo with one line replaced into `scratch` and
+/// projects it into `out` with the options `extra`.
+fn project_edited_demo(scratch: &Scratch, from: &str, to: &str, extra: &[&str]) -> Output {
+    let demo = fs::read_to_string(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/scenarios/counting_window.yaml"
+    ))
+    .expect("demo scenario");
+    assert!(demo.contains(from), "{from:?} not in the demo");
+    fs::write(scratch.path.join("edited.yaml"), demo.replacen(from, to, 1)).unwrap();
+    let mut args = vec!["project", "edited.yaml", "--out", "out", "--quiet"];
+    args.extend_from_slice(extra);
+    scratch.run(&args)
+}
+
 fn points(projection: &Value) -> &Vec<Value> {
     projection["points"].as_array().unwrap()
 }
 
+const DEMO_SIGNAL: &str = "  shape: {flat: {}}\nbackgrounds:";
+
+/// The demo with a Gaussian signal yield uncertainty `relative`.
+fn with_yield_uncertainty(relative: &str) -> String {
+    format!("  shape: {{flat: {{}}}}\n  yield_uncertainty: {relative}\nbackgrounds:")
+}
+
 #[test]
-fn a_huge_signal_yield_uncertainty_excludes_nothing() {
-    // With a Gaussian constraint (theta - 1)^2 / (2 delta^2) on the signal
-    // yield factor, the fit can scale the signal to nothing at a cost of
-    // 1/(2 delta^2) in -ln L, so sqrt(q~_mu) stays below 1/delta = 1e-6 at any
-    // mu, far below the 1.96 a 95% CL limit needs (Cowan et al., EPJC 71
-    // (2011) 1554, eqs. 88-89; the bound follows from the constraint term).
-    let projection = project_demo_with(
-        "yield",
-        "  shape: {flat: {}}\nbackgrounds:",
-        "  shape: {flat: {}}\n  yield_uncertainty: 1e6\nbackgrounds:",
-    );
-    for point in points(&projection) {
-        assert_eq!(point["limit_asimov"], Value::Null);
-        assert_eq!(point["limit_median"], Value::Null);
+fn a_signal_yield_uncertainty_above_a_third_is_refused() {
+    // The auxiliary measurement of the yield factor is drawn from N(1, delta^2)
+    // and lies below zero in Phi(-1/delta) of the pseudo-experiments; above
+    // delta = 1/3 that exceeds Phi(-3) = 1.35e-3 (PDG, Review of Particle
+    // Physics, statistics section, table of Gaussian tail probabilities).
+    for relative in ["0.34", "1.0", "1e6"] {
+        let scratch = Scratch::new(&format!("wide-yield-{relative}"));
+        let output = project_edited_demo(
+            &scratch,
+            DEMO_SIGNAL,
+            &with_yield_uncertainty(relative),
+            &["--toys", "10"],
+        );
+        assert!(!output.status.success(), "{relative} accepted");
+        let stderr = String::from_utf8(output.stderr).unwrap();
+        assert!(
+            stderr.contains(
+                "signal.yield_uncertainty: a Gaussian yield uncertainty above 1/3 puts more than \
+                 0.13% of the auxiliary measurements below zero"
+            ),
+            "{stderr}"
+        );
+        assert_eq!(stderr.lines().count(), 1, "{stderr}");
+        assert!(
+            !scratch.path.join("out").exists(),
+            "{relative}: output written"
+        );
     }
-    assert_eq!(projection["days_to_exclusion"]["asimov_days"], Value::Null);
-    assert_eq!(projection["days_to_exclusion"]["median_days"], Value::Null);
+}
+
+#[test]
+fn a_signal_yield_uncertainty_of_0_3_keeps_the_toys_on_asimov() {
+    // With delta = 0.3 only Phi(-1/0.3) = 4.3e-4 of the auxiliary measurements
+    // fall below zero (PDG statistics review, Gaussian tail table), so the toy
+    // median days to 3 sigma agree with the Asimov days. The sample median of
+    // N draws of a unit-width Z has standard error sqrt(pi/2) / sqrt(N)
+    // (asymptotic variance of the sample median, 1 / (4 N f(m)^2), with
+    // f(m) = 1/sqrt(2 pi); common practice); in days that is divided by
+    // dZ_A/dt at the crossing. Allowed: 4 standard errors (6e-5 two-sided).
+    let toys = 2000.0_f64;
+    // Discovery toys only: 2000 make 4 standard errors about 22 d, well
+    // below the 75 d offset a width of 1 gave.
+    let (projection, _) = run_demo_with_args(
+        "yield-0.3",
+        DEMO_SIGNAL,
+        &with_yield_uncertainty("0.3"),
+        &["--toys", "2000", "--no-limits"],
+    );
+    let row = &projection["days_to_target"][0];
+    assert_eq!(row["target"], 3.0);
+    let asimov = row["asimov_days"].as_f64().expect("Asimov reaches 3 sigma");
+    let median = row["median_days"]
+        .as_f64()
+        .expect("toy median reaches 3 sigma");
+    let grid = points(&projection);
+    let above = grid
+        .iter()
+        .position(|point| point["days"].as_f64().unwrap() > asimov)
+        .expect("3 sigma inside the grid");
+    let slope_of = |point: &Value, key: &str| point[key].as_f64().unwrap();
+    let (before, after) = (&grid[above - 1], &grid[above]);
+    let slope = (slope_of(after, "z_asimov") - slope_of(before, "z_asimov"))
+        / (slope_of(after, "days") - slope_of(before, "days"));
+    let error_days = (std::f64::consts::PI / 2.0).sqrt() / toys.sqrt() / slope;
+    assert!(
+        (median - asimov).abs() < 4.0 * error_days,
+        "toy median {median} d, Asimov {asimov} d, standard error {error_days} d"
+    );
 }
 
 #[test]
@@ -118,13 +182,13 @@ fn a_vanishing_first_day_only_loses_its_own_point() {
 
 #[test]
 fn limit_toys_that_never_ran_are_not_counted() {
-    // No Asimov limit is bounded (a_huge_signal_yield_uncertainty_excludes_nothing),
+    // No Asimov limit is bounded (a_vanishing_live_fraction_reaches_nothing),
     // so no limit toy runs at any of the 24 points: once reported as
     // "0 of 4800" failed.
     let (_, summary) = run_demo_with(
-        "yield-summary",
-        "  shape: {flat: {}}\nbackgrounds:",
-        "  shape: {flat: {}}\n  yield_uncertainty: 1e6\nbackgrounds:",
+        "live-summary",
+        "live_fraction: 0.9",
+        "live_fraction: 1e-300",
     );
     assert!(
         summary.contains(
