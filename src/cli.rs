@@ -9,6 +9,7 @@ use crate::error::Error;
 use clap::error::ErrorKind;
 use clap::{Args, Parser, Subcommand};
 use runcast::projection::ShardSpec;
+use runcast::report::{DEFAULT_DPI, DPI_RANGE, FigureFormat};
 use std::path::PathBuf;
 
 /// Parses the command line. A request for help or the version prints it and
@@ -70,6 +71,13 @@ pub enum Command {
     /// within 1% of the best) and the best window, and writes binning.svg and
     /// binning.json to output/<scenario file stem>/ (or --out).
     Binning(BinningArgs),
+    /// Compare run plans: each scenario projected as `project` does, on one page.
+    ///
+    /// Writes compare.svg, compare-probability.svg, compare-limits.svg,
+    /// compare.csv and compare.json to output/compare/ (or --out) and prints one
+    /// row per plan: days to each target and to exclusion, and the difference
+    /// to the first plan. The plans must share targets and confidence level.
+    Compare(CompareArgs),
     /// Write a commented template scenario to FILE (never overwrites).
     New {
         /// Where to write the template.
@@ -87,6 +95,8 @@ pub enum Command {
     Merge {
         /// The directory holding the shard files.
         directory: PathBuf,
+        #[command(flatten)]
+        figures: FigureArgs,
     },
     /// Write (and with --submit, submit) a Slurm job array running N shards and a dependent merge job.
     ///
@@ -115,6 +125,8 @@ pub struct ProjectArgs {
     /// Output directory (default: output/<scenario file stem>).
     #[arg(long, value_name = "DIR")]
     pub out: Option<PathBuf>,
+    #[command(flatten)]
+    pub figures: FigureArgs,
     /// Worker threads (default: all cores); results do not depend on it.
     #[arg(long, value_name = "N")]
     pub threads: Option<usize>,
@@ -176,6 +188,40 @@ pub struct SlurmArgs {
 }
 
 #[derive(Debug, Args)]
+pub struct CompareArgs {
+    /// The run plans (scenario files, YAML), the first one the reference.
+    #[arg(required = true, num_args = 2..)]
+    pub plans: Vec<PathBuf>,
+    /// Name of each plan in the legend and table, in the order of the files
+    /// (default: each scenario's title).
+    #[arg(long = "label", value_name = "NAME")]
+    pub labels: Vec<String>,
+    /// Pseudo-experiments per exposure point (overrides each plan.toys).
+    #[arg(long, value_name = "N")]
+    pub toys: Option<usize>,
+    /// Seed of all pseudo-experiments (overrides each plan.seed).
+    #[arg(long, value_name = "S")]
+    pub seed: Option<u64>,
+    /// Output directory (default: output/compare).
+    #[arg(long, value_name = "DIR")]
+    pub out: Option<PathBuf>,
+    #[command(flatten)]
+    pub figures: FigureArgs,
+    /// Worker threads (default: all cores); results do not depend on it.
+    #[arg(long, value_name = "N")]
+    pub threads: Option<usize>,
+    /// Skip the pseudo-experiments; asymptotic (Asimov) results only.
+    #[arg(long)]
+    pub asimov_only: bool,
+    /// Skip the expected exclusion limits (CLs) and compare-limits.svg.
+    #[arg(long)]
+    pub no_limits: bool,
+    /// No progress bar.
+    #[arg(long)]
+    pub quiet: bool,
+}
+
+#[derive(Debug, Args)]
 pub struct SpectrumArgs {
     /// The scenario file (YAML).
     pub scenario: PathBuf,
@@ -188,6 +234,8 @@ pub struct SpectrumArgs {
     /// Output directory (default: output/<scenario file stem>).
     #[arg(long, value_name = "DIR")]
     pub out: Option<PathBuf>,
+    #[command(flatten)]
+    pub figures: FigureArgs,
 }
 
 #[derive(Debug, Args)]
@@ -200,4 +248,28 @@ pub struct BinningArgs {
     /// Output directory (default: output/<scenario file stem>).
     #[arg(long, value_name = "DIR")]
     pub out: Option<PathBuf>,
+    #[command(flatten)]
+    pub figures: FigureArgs,
+}
+
+/// The formats figures are written in.
+#[derive(Debug, Clone, Args)]
+pub struct FigureArgs {
+    /// Figure formats, a comma list of svg, pdf (vector, font embedded) and png.
+    #[arg(
+        long = "format",
+        value_name = "FORMATS",
+        value_delimiter = ',',
+        default_value = "svg"
+    )]
+    pub formats: Vec<FigureFormat>,
+    /// Resolution of PNG figures in dots per inch (10 to 1200).
+    #[arg(
+        long,
+        value_name = "N",
+        default_value_t = DEFAULT_DPI,
+        value_parser = clap::value_parser!(u32)
+            .range(i64::from(*DPI_RANGE.start())..=i64::from(*DPI_RANGE.end()))
+    )]
+    pub dpi: u32,
 }

@@ -18,6 +18,7 @@
 pub mod asymptotic;
 pub mod benchmark;
 pub mod binning;
+pub mod calendar;
 pub mod ensemble;
 pub mod likelihood;
 pub mod limits;

@@ -2,11 +2,12 @@
 //! value per command, so every override (`--toys`, `--seed`, ...) and every
 //! limit on the command line is applied in one place.
 
-use crate::cli::{BinningArgs, PlanArgs, ProjectArgs, SlurmArgs, SpectrumArgs};
+use crate::cli::{BinningArgs, FigureArgs, PlanArgs, ProjectArgs, SlurmArgs, SpectrumArgs};
 use crate::error::Error;
 use runcast::message::show;
 use runcast::model::{LiveTime, Model};
 use runcast::projection::{ProjectionSettings, ShardSpec};
+use runcast::report::{DPI_RANGE, FigureFormats};
 use runcast::scenario::limits::{
     MAX_EXPECTED_COUNT_PER_BIN, MAX_SPECTRUM_EXPOSURES, MAX_THREADS, MAX_TOYS_IN_TOTAL,
     MAX_TOYS_PER_POINT,
@@ -225,6 +226,18 @@ fn check_threads(threads: Option<usize>) -> Result<Option<usize>, Error> {
     }
 }
 
+/// The figure formats and PNG resolution asked for (`--format`, `--dpi`).
+pub fn figure_formats(args: &FigureArgs) -> Result<FigureFormats, Error> {
+    FigureFormats::new(&args.formats, args.dpi).ok_or_else(|| {
+        Error::Usage(format!(
+            "--format, --dpi {}: expected at least one format and a resolution from {} to {}",
+            args.dpi,
+            DPI_RANGE.start(),
+            DPI_RANGE.end()
+        ))
+    })
+}
+
 /// `runcast project`, resolved.
 pub struct ProjectOptions {
     pub loaded: Loaded,
@@ -236,12 +249,14 @@ pub struct ProjectOptions {
     pub threads: Option<usize>,
     /// Only this shard of the toys, written as a shard file (`--shard K/N`).
     pub shard: Option<ShardSpec>,
+    pub formats: FigureFormats,
     pub quiet: bool,
 }
 
 impl ProjectOptions {
     pub fn resolve(args: &ProjectArgs) -> Result<ProjectOptions, Error> {
         let threads = check_threads(args.threads)?;
+        let formats = figure_formats(&args.figures)?;
         let loaded = Loaded::load(&args.scenario)?;
         let shards = args.shard.map_or(1, |shard| shard.count);
         let overrides = PlanOverrides::from_args(&args.plan, shards);
@@ -255,6 +270,7 @@ impl ProjectOptions {
             out: loaded.output_directory(args.out.as_deref()),
             threads: threads.filter(|_| with_toys),
             shard: args.shard,
+            formats,
             quiet: args.quiet,
             loaded,
             model,
@@ -353,6 +369,7 @@ pub struct SpectrumOptions {
     pub days: Vec<f64>,
     pub seed: u64,
     pub out: PathBuf,
+    pub formats: FigureFormats,
 }
 
 impl SpectrumOptions {
@@ -377,6 +394,7 @@ impl SpectrumOptions {
             days: args.days.clone(),
             seed: loaded.seed(args.seed),
             out: loaded.output_directory(args.out.as_deref()),
+            formats: figure_formats(&args.figures)?,
             loaded,
         })
     }
@@ -387,6 +405,7 @@ pub struct BinningOptions {
     pub loaded: Loaded,
     pub days: f64,
     pub out: PathBuf,
+    pub formats: FigureFormats,
 }
 
 impl BinningOptions {
@@ -396,6 +415,7 @@ impl BinningOptions {
         Ok(BinningOptions {
             days: args.days,
             out: loaded.output_directory(args.out.as_deref()),
+            formats: figure_formats(&args.figures)?,
             loaded,
         })
     }

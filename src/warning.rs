@@ -3,6 +3,8 @@
 //! produced them (`Scenario::warnings`, `Projection::warnings`) and are worded
 //! in one place, `report::warning_text`.
 
+use crate::calendar::CalendarDate;
+
 /// Failed fits above this fraction of an ensemble's pseudo-experiments at one
 /// exposure point earn a warning: the quantiles there exclude them and may be
 /// biased.
@@ -41,7 +43,8 @@ pub enum Warning {
     /// More than [`FAILED_FRACTION_WARNING`] of the `toys` fits of `ensemble`
     /// failed at `flagged_points` of the `points` exposure points where it
     /// ran; the most, at
-    /// `worst_days` calendar days, lost `worst_failed`.
+    /// `worst_days` calendar days, lost `worst_failed`; `start` is the date
+    /// of day 0 when the schedule has one.
     FailedFits {
         ensemble: Ensemble,
         flagged_points: usize,
@@ -49,5 +52,6 @@ pub enum Warning {
         worst_failed: usize,
         toys: usize,
         worst_days: f64,
+        start: Option<CalendarDate>,
     },
 }

@@ -13,7 +13,12 @@ pub fn run(args: &BinningArgs) -> Result<(), Error> {
     print_warnings(&options.loaded);
     let scan = scan_binning(&options.loaded.scenario, options.days)?;
     let reports = report::render_binning(&scan)?;
-    report::write_all(&options.out, &reports, &report::BINNING_FILES)?;
+    let written = report::write_all(
+        &options.out,
+        reports,
+        &report::BINNING_FILES,
+        &options.formats,
+    )?;
     stdout::print(&report::binning_table(&scan))?;
-    stdout::print(&wrote(&options.out, &reports))
+    stdout::print(&wrote(&options.out, &written.files))
 }

@@ -3,6 +3,7 @@
 mod bench;
 mod binning;
 mod check;
+mod compare;
 mod merge;
 mod new;
 mod project;
@@ -12,7 +13,7 @@ mod spectrum;
 use crate::cli::{Cli, Command};
 use crate::error::Error;
 use crate::options::Loaded;
-use runcast::report::{self, Report};
+use runcast::report;
 use std::path::Path;
 
 /// Runs one command line.
@@ -22,9 +23,10 @@ pub fn run(cli: Cli) -> Result<(), Error> {
         Command::Check { scenario } => check::run(&scenario),
         Command::Spectrum(args) => spectrum::run(&args),
         Command::Binning(args) => binning::run(&args),
+        Command::Compare(args) => compare::run(&args),
         Command::New { file } => new::run(&file),
         Command::Bench(args) => bench::run(&args),
-        Command::Merge { directory } => merge::run(&directory),
+        Command::Merge { directory, figures } => merge::run(&directory, &figures),
         Command::Slurm(args) => slurm::run(&args),
     }
 }
@@ -40,10 +42,10 @@ fn print_warnings(loaded: &Loaded) {
     }
 }
 
-/// The "wrote FILE" lines after `reports` went to `out`.
-fn wrote(out: &Path, reports: &[Report]) -> String {
-    reports
+/// The "wrote FILE" lines after the files `names` went to `out`.
+fn wrote(out: &Path, names: &[String]) -> String {
+    names
         .iter()
-        .map(|report| format!("wrote {}\n", out.join(&report.name).display()))
+        .map(|name| format!("wrote {}\n", out.join(name).display()))
         .collect()
 }

@@ -6,7 +6,7 @@ use crate::error::Error;
 use crate::options::ProjectOptions;
 use crate::progress::toy_progress;
 use crate::stdout;
-use runcast::projection::{self, ShardRun, ShardSpec, project};
+use runcast::projection::{self, Projection, ShardRun, ShardSpec, project};
 use runcast::report;
 use std::path::Path;
 
@@ -16,6 +16,22 @@ pub fn run(args: &ProjectArgs) -> Result<(), Error> {
     if let Some(shard) = options.shard {
         return run_shard(&options, shard);
     }
+    let projection = projection(&options)?;
+    let reports = report::render_all(&projection)?;
+    let written = report::write_all(
+        &options.out,
+        reports,
+        &report::PROJECTION_FILES,
+        &options.formats,
+    )?;
+    stdout::print(&report::summary(&projection))?;
+    stdout::print(&format!("wrote {}\n", options.out.display()))?;
+    stdout::print(&removed_lines(&options.out, &written.removed))
+}
+
+/// The projection `options` ask for, on their worker threads, with a
+/// progress bar unless quiet.
+pub(super) fn projection(options: &ProjectOptions) -> Result<Projection, Error> {
     let settings = &options.settings;
     let bar = toy_progress(settings.total_toys(), options.quiet);
     let progress = |done: u64| bar.inc(done);
@@ -23,12 +39,7 @@ pub fn run(args: &ProjectArgs) -> Result<(), Error> {
         project(&options.model, settings, &progress)
     })??;
     bar.finish_and_clear();
-
-    let reports = report::render_all(&projection)?;
-    let removed = report::write_all(&options.out, &reports, &report::PROJECTION_FILES)?;
-    stdout::print(&report::summary(&projection))?;
-    stdout::print(&format!("wrote {}\n", options.out.display()))?;
-    stdout::print(&removed_lines(&options.out, &removed))
+    Ok(projection)
 }
 
 /// `--shard K/N`: runs the shard's toys and writes its file into the output

@@ -1,28 +1,49 @@
 //! Live time: calendar days to live days through the data-taking schedule.
 
+use crate::calendar::CalendarDate;
 use crate::scenario::Schedule;
 
 /// Converts calendar days into live days.
 ///
 /// Live days at calendar day T = live_fraction x integral over [0, T] of the rate
-/// scale, which is `rate_scale` during each of the leading periods and 1 after them.
+/// scale, which is `rate_scale` during each of the leading periods and 1 after
+/// them, and 0 during each break. A break from date F to date G (both
+/// included) covers calendar days [F - start, G - start + 1), day 0 being the
+/// start date.
 #[derive(Debug, Clone, PartialEq)]
 pub struct LiveTime {
+    /// The date of calendar day 0, when the schedule gives one.
+    start: Option<CalendarDate>,
     live_fraction: f64,
-    /// (length in calendar days, rate scale) of the leading periods, in order.
+    /// (length in calendar days, rate scale) of consecutive stretches from
+    /// day 0, in order: the periods split where breaks cut them, then the
+    /// breaks after the periods; the rate scale is 1 after the last.
     periods: Vec<(f64, f64)>,
 }
 
 impl LiveTime {
     pub fn from_schedule(schedule: &Schedule) -> LiveTime {
-        LiveTime {
-            live_fraction: schedule.live_fraction,
-            periods: schedule
-                .periods
-                .iter()
-                .map(|p| (p.days, p.rate_scale))
-                .collect(),
+        let breaks = break_days(schedule);
+        let mut periods = Vec::new();
+        let mut begin = 0.0;
+        for period in &schedule.periods {
+            split_by_breaks(begin, period.days, period.rate_scale, &breaks, &mut periods);
+            begin += period.days;
         }
+        let last_break_end = breaks.last().map_or(begin, |&(_, end)| end);
+        if last_break_end > begin {
+            split_by_breaks(begin, last_break_end - begin, 1.0, &breaks, &mut periods);
+        }
+        LiveTime {
+            start: schedule.start_date(),
+            live_fraction: schedule.live_fraction,
+            periods,
+        }
+    }
+
+    /// The date of calendar day 0, when the schedule gives one.
+    pub fn start(&self) -> Option<CalendarDate> {
+        self.start
     }
 
     /// Live days accumulated by calendar day `days`.
@@ -66,10 +87,60 @@ impl LiveTime {
     }
 }
 
+/// The breaks as calendar-day intervals [begin, end) since the start, in
+/// order (validation guarantees they follow the start and do not overlap).
+fn break_days(schedule: &Schedule) -> Vec<(f64, f64)> {
+    let Some(start) = schedule.start_date() else {
+        return Vec::new();
+    };
+    let mut days: Vec<(f64, f64)> = schedule
+        .break_dates()
+        .iter()
+        .map(|(from, to)| {
+            (
+                from.days_since(start) as f64,
+                (to.days_since(start) + 1) as f64,
+            )
+        })
+        .collect();
+    days.sort_by(|a, b| a.0.total_cmp(&b.0));
+    days
+}
+
+/// Appends the stretch [begin, begin + length) at `scale` to `periods`, with
+/// the parts inside `breaks` at scale 0. A stretch no break touches is
+/// appended as it is, so a schedule without breaks keeps its exact lengths.
+fn split_by_breaks(
+    begin: f64,
+    length: f64,
+    scale: f64,
+    breaks: &[(f64, f64)],
+    periods: &mut Vec<(f64, f64)>,
+) {
+    let end = begin + length;
+    let mut at = begin;
+    for &(from, to) in breaks
+        .iter()
+        .filter(|&&(from, to)| from < end && to > begin)
+    {
+        if from > at {
+            periods.push((from - at, scale));
+        }
+        let pause_end = to.min(end);
+        periods.push((pause_end - from.max(at), 0.0));
+        at = pause_end;
+    }
+    if at == begin {
+        periods.push((length, scale));
+    } else if end > at {
+        periods.push((end - at, scale));
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::scenario::Period;
+    use crate::scenario::{Break, Period};
 
     fn schedule(live_fraction: f64, periods: &[(f64, f64)]) -> LiveTime {
         LiveTime::from_schedule(&Schedule {
@@ -78,7 +149,88 @@ mod tests {
                 .iter()
                 .map(|&(days, rate_scale)| Period { days, rate_scale })
                 .collect(),
+            ..Schedule::default()
         })
+    }
+
+    /// A schedule from `start` with breaks given as (from, to) dates.
+    fn with_breaks(start: &str, periods: &[(f64, f64)], breaks: &[(&str, &str)]) -> LiveTime {
+        LiveTime::from_schedule(&Schedule {
+            live_fraction: 1.0,
+            periods: periods
+                .iter()
+                .map(|&(days, rate_scale)| Period { days, rate_scale })
+                .collect(),
+            start: Some(start.to_string()),
+            breaks: breaks
+                .iter()
+                .map(|&(from, to)| Break {
+                    from: from.to_string(),
+                    to: to.to_string(),
+                })
+                .collect(),
+        })
+    }
+
+    #[test]
+    fn breaks_match_a_hand_count_over_a_small_calendar() {
+        // Hand count (common practice: a day of data per calendar day at its
+        // rate scale), start 2027-03-01, 6 days at rate 0.5, break 03-05..03-07:
+        //   03-01 .5  03-02 .5  03-03 .5  03-04 .5  03-05 0  03-06 0
+        //   03-07 0 (break, after the period)  03-08 1  03-09 1  03-10 1
+        // By day 10 (the start of 03-11): 2 + 3 = 5 live days; by day 4: 2;
+        // during the break no more; by day 8: 3.
+        let live = with_breaks("2027-03-01", &[(6.0, 0.5)], &[("2027-03-05", "2027-03-07")]);
+        for (day, expected) in [(4.0, 2.0), (5.0, 2.0), (7.0, 2.0), (8.0, 3.0), (10.0, 5.0)] {
+            assert!(
+                (live.live_days(day) - expected).abs() < 1e-12,
+                "day {day}: {}",
+                live.live_days(day)
+            );
+        }
+        // Two breaks after the periods, one a single day (03-09 counts as a break day).
+        let two = with_breaks(
+            "2027-03-01",
+            &[],
+            &[("2027-03-03", "2027-03-04"), ("2027-03-09", "2027-03-09")],
+        );
+        assert_eq!(two.live_days(10.0), 7.0);
+        assert_eq!(two.live_days(20.0), 17.0);
+    }
+
+    #[test]
+    fn a_break_over_a_leap_day_lasts_three_days() {
+        // Gregorian calendar (ISO 8601): 2028 has 29 February, so the break
+        // 2028-02-28..2028-03-01 covers 3 days, days 8, 9 and 10 after the start.
+        let live = with_breaks("2028-02-20", &[], &[("2028-02-28", "2028-03-01")]);
+        assert_eq!(live.live_days(8.0), 8.0);
+        assert_eq!(live.live_days(11.0), 8.0);
+        assert_eq!(live.live_days(20.0), 17.0);
+        assert_eq!(live.calendar_days(9.0), 12.0);
+    }
+
+    #[test]
+    fn a_day_inside_a_break_has_the_live_time_of_its_first_day() {
+        // Start 2027-03-01, break 03-05..03-07 = days [4, 7): a grid point at
+        // day 5.5 has 4 live days, like day 4; live time 4 is first had on
+        // day 4 (never inside the break), and 4.5 half a day after it.
+        let live = with_breaks("2027-03-01", &[], &[("2027-03-05", "2027-03-07")]);
+        assert_eq!(live.live_days(5.5), 4.0);
+        assert_eq!(live.calendar_days(live.live_days(5.5)), 4.0);
+        assert!((live.calendar_days(4.5) - 7.5).abs() < 1e-12);
+    }
+
+    #[test]
+    fn breaks_cutting_a_period_keep_its_rate_on_both_sides() {
+        // 10 days at rate 0.2 cut by a break on days [3, 5) (2027-03-04..05):
+        // 0.2 x 3 + 0.2 x 5 + 1 x 2 = 3.6 live days by day 12.
+        let live = with_breaks(
+            "2027-03-01",
+            &[(10.0, 0.2)],
+            &[("2027-03-04", "2027-03-05")],
+        );
+        assert!((live.live_days(12.0) - 3.6).abs() < 1e-12);
+        assert!((live.calendar_days(3.6) - 12.0).abs() < 1e-12);
     }
 
     #[test]

@@ -120,6 +120,7 @@ pub fn project_from<S: ToySource>(
     };
     Ok(Projection {
         title: settings.title.clone(),
+        start: model.live_time.start(),
         seed: settings.seed,
         toys: settings.toys,
         targets: settings.targets.clone(),

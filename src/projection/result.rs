@@ -2,6 +2,7 @@
 //!
 //! Field names are the JSON schema of `projection.json`; `None` is written as null.
 
+use crate::calendar::CalendarDate;
 use serde::Serialize;
 
 use crate::asymptotic::significance;
@@ -10,6 +11,10 @@ use crate::asymptotic::significance;
 #[derive(Debug, Clone, Serialize)]
 pub struct Projection {
     pub title: String,
+    /// The date of calendar day 0 (`schedule.start`); absent from the JSON
+    /// without one. With it the reports give a date beside each calendar day.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub start: Option<CalendarDate>,
     pub seed: u64,
     /// Pseudo-experiments requested per exposure point (0 for an Asimov-only
     /// run); those whose fits converged are `toys` less `failed_fits`.

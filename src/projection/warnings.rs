@@ -89,6 +89,7 @@ impl Projection {
             worst_failed: worst.failed_fits_of(ensemble),
             toys,
             worst_days: worst.days,
+            start: self.start,
         })
     }
 }

@@ -16,6 +16,8 @@ pub enum ReportError {
     },
     /// A renderer (plotting, CSV or JSON encoding) failed.
     Render { file: &'static str, message: String },
+    /// A figure could not be converted to another format (PDF, PNG).
+    Convert { file: String, message: String },
     /// A file-system operation on a report file or directory failed.
     Io {
         /// What was being done, e.g. "create directory", "write".
@@ -42,6 +44,9 @@ impl fmt::Display for ReportError {
             ReportError::Render { file, message } => {
                 write!(f, "cannot render {file}: {message}")
             }
+            ReportError::Convert { file, message } => {
+                write!(f, "cannot render {file}: {message}")
+            }
             ReportError::Io {
                 action,
                 path,
@@ -62,6 +67,7 @@ impl std::error::Error for ReportError {
             ReportError::Io { source, .. } => Some(source),
             ReportError::InvalidProjection { .. }
             | ReportError::Render { .. }
+            | ReportError::Convert { .. }
             | ReportError::Interrupted { .. } => None,
         }
     }

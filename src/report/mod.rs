@@ -17,6 +17,8 @@
 
 mod binning;
 mod check;
+mod compare;
+mod convert;
 mod error;
 mod interrupt;
 mod kit;
@@ -27,6 +29,11 @@ mod writer;
 
 pub use binning::{BINNING_FILES, BINNING_JSON, BINNING_SVG, binning_table, render_binning};
 pub use check::check_summary;
+pub use compare::{
+    COMPARE_CSV, COMPARE_FILES, COMPARE_JSON, COMPARE_LIMITS_SVG, COMPARE_PROBABILITY_SVG,
+    COMPARE_SVG, ComparedPlan, Comparison, comparison_table, render_comparison,
+};
+pub use convert::{DEFAULT_DPI, DPI_RANGE, FigureFormat, FigureFormats};
 pub use error::ReportError;
 pub use projection::{
     LIMITS_SVG, PROBABILITY_SVG, PROJECTION_CSV, PROJECTION_FILES, PROJECTION_JSON, PROJECTION_SVG,
@@ -34,7 +41,7 @@ pub use projection::{
 };
 pub use spectrum::{render_spectrum, spectrum_summary};
 pub use warnings::warning_text;
-pub use writer::{write_all, write_new};
+pub use writer::{Written, write_all, write_new};
 
 /// What an output file holds. Figures are marked so that the writer can turn
 /// every figure into another format in one place.

@@ -2,7 +2,8 @@
 //! failed fits named by the projection's ensemble descriptions
 //! (`projection/ensembles.rs`).
 
-use super::kit::format::{days_label, fit_percent, percent_label};
+use super::kit::dates::dated_days_label;
+use super::kit::format::{fit_percent, percent_label};
 use super::projection::ensembles::Ensemble;
 use crate::message::show;
 use crate::warning::{FAILED_FRACTION_WARNING, Warning};
@@ -38,6 +39,7 @@ pub fn warning_text(warning: &Warning) -> String {
             worst_failed,
             toys,
             worst_days,
+            start,
         } => {
             let ensemble = Ensemble::of(ensemble);
             format!(
@@ -45,7 +47,7 @@ pub fn warning_text(warning: &Warning) -> String {
                  (worst: {worst_failed} of {toys} at {}, {}); {} there may be biased.",
                 percent_label(FAILED_FRACTION_WARNING),
                 ensemble.fits,
-                days_label(worst_days),
+                dated_days_label(worst_days, start),
                 fit_percent(worst_failed, toys),
                 ensemble.results
             )
@@ -56,6 +58,7 @@ pub fn warning_text(warning: &Warning) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::calendar::CalendarDate;
     use crate::report::projection::example;
     use crate::warning::Ensemble;
 
@@ -68,11 +71,32 @@ mod tests {
             worst_failed: 3,
             toys: 200,
             worst_days: 12.0,
+            start: None,
         };
         assert_eq!(
             warning_text(&warning),
             "more than 0.1% of limit fits failed at 1 of 31 exposure points \
              (worst: 3 of 200 at 12 d, 1.50%); the limit quantiles there may be biased."
+        );
+    }
+
+    /// 2028 is a leap year (Gregorian calendar, common practice): 12 days
+    /// after 17 February 2028 is 29 February.
+    #[test]
+    fn the_worst_day_of_failed_fits_carries_its_date() {
+        let warning = Warning::FailedFits {
+            ensemble: Ensemble::Limits,
+            flagged_points: 1,
+            points: 31,
+            worst_failed: 3,
+            toys: 200,
+            worst_days: 12.0,
+            start: CalendarDate::parse("2028-02-17"),
+        };
+        assert!(
+            warning_text(&warning).contains("(worst: 3 of 200 at 12 d (2028-02-29), 1.50%)"),
+            "{}",
+            warning_text(&warning)
         );
     }
 

@@ -21,6 +21,7 @@
 //! removed: anything else in the directory is left alone, and a directory in
 //! the way of a file is an error, never replaced.
 
+use super::convert::{FigureFormats, convert, family_names};
 use super::interrupt;
 use super::{Report, ReportError};
 use std::fs::{self, File};
@@ -30,16 +31,40 @@ use std::path::{Path, PathBuf};
 /// Bytes written between two checks for SIGINT or SIGTERM.
 const CHUNK: usize = 1 << 20;
 
+/// What [`write_all`] did: the files it wrote, and those it removed as left
+/// from an earlier run.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Written {
+    pub files: Vec<String>,
+    pub removed: Vec<String>,
+}
+
 /// Writes `reports` into `dir` (created with its parents if needed) as one
-/// set, replacing files of the same names. `family` names every file the
-/// product can write; those present in `dir` but not in `reports` are left
-/// from an earlier run and are removed with the same all-or-nothing move.
-/// Returns their names, for the command to report.
+/// set, replacing files of the same names, with every figure in each of
+/// `formats` (converted in memory first, so a failed conversion writes
+/// nothing). `family` names every file the product can write (figures by
+/// their `.svg` name, standing for every format); those present in `dir` but
+/// not written now are left from an earlier run and are removed with the
+/// same all-or-nothing move.
 pub fn write_all(
     dir: &Path,
-    reports: &[Report],
+    reports: Vec<Report>,
     family: &[&str],
-) -> Result<Vec<String>, ReportError> {
+    formats: &FigureFormats,
+) -> Result<Written, ReportError> {
+    let reports = convert(reports, formats)?;
+    let family = family_names(family);
+    let family: Vec<&str> = family.iter().map(String::as_str).collect();
+    let removed = write_set(dir, &reports, &family)?;
+    Ok(Written {
+        files: reports.into_iter().map(|report| report.name).collect(),
+        removed,
+    })
+}
+
+/// Writes `reports` into `dir` as one set; returns the names of `family`
+/// removed as left from an earlier run.
+fn write_set(dir: &Path, reports: &[Report], family: &[&str]) -> Result<Vec<String>, ReportError> {
     let writing = interrupt::start_writing();
     let written = stage_and_commit(dir, reports, family);
     writing.release();
@@ -48,6 +73,7 @@ pub fn write_all(
 
 /// The set staged and moved in; on any error, including an interruption, the
 /// staging folder is removed (when `Staging` is dropped) before returning.
+/// Returns the names of `family` removed as left from an earlier run.
 fn stage_and_commit(
     dir: &Path,
     reports: &[Report],
@@ -377,7 +403,7 @@ mod tests {
     fn creates_nested_directories_and_leaves_no_temporary_files() {
         let root = scratch("create");
         let dir = root.join("nested").join("out");
-        write_all(
+        write_set(
             &dir,
             &[report("a.csv", "1,2\n"), report("b.json", "{}\n")],
             &[],
@@ -393,7 +419,7 @@ mod tests {
         let dir = scratch("overwrite");
         fs::create_dir_all(&dir).unwrap();
         fs::write(dir.join("a.csv"), "an older and longer content\n").unwrap();
-        write_all(&dir, &[report("a.csv", "new\n")], &[]).unwrap();
+        write_set(&dir, &[report("a.csv", "new\n")], &[]).unwrap();
         assert_eq!(fs::read_to_string(dir.join("a.csv")).unwrap(), "new\n");
         assert_eq!(names_in(&dir), ["a.csv"]);
         fs::remove_dir_all(dir).unwrap();
@@ -404,7 +430,7 @@ mod tests {
         let dir = scratch("blocked");
         // A non-empty directory where the file should go cannot be replaced by rename.
         fs::create_dir_all(dir.join("a.csv").join("occupied")).unwrap();
-        let error = write_all(&dir, &[report("a.csv", "new\n")], &[]).unwrap_err();
+        let error = write_set(&dir, &[report("a.csv", "new\n")], &[]).unwrap_err();
         let message = error.to_string();
         assert!(
             message.starts_with(&format!("cannot replace {}", dir.join("a.csv").display())),
@@ -420,7 +446,7 @@ mod tests {
         fs::create_dir_all(&root).unwrap();
         let blocker = root.join("reports");
         fs::write(&blocker, "not a directory").unwrap();
-        let error = write_all(&blocker, &[report("a.csv", "new\n")], &[]).unwrap_err();
+        let error = write_set(&blocker, &[report("a.csv", "new\n")], &[]).unwrap_err();
         assert!(
             error
                 .to_string()
@@ -437,7 +463,7 @@ mod tests {
         fs::write(dir.join("limits.svg"), "earlier run\n").unwrap();
         fs::write(dir.join("notes.txt"), "the user's own\n").unwrap();
         let family = ["plot.svg", "limits.svg", "table.csv"];
-        let removed = write_all(
+        let removed = write_set(
             &dir,
             &[report("plot.svg", "<svg/>\n"), report("table.csv", "1\n")],
             &family,
@@ -452,7 +478,7 @@ mod tests {
     fn a_directory_named_like_a_stale_file_is_left_alone() {
         let dir = scratch("stale-directory");
         fs::create_dir_all(dir.join("limits.svg")).unwrap();
-        let removed = write_all(&dir, &[report("plot.svg", "<svg/>\n")], &["limits.svg"]).unwrap();
+        let removed = write_set(&dir, &[report("plot.svg", "<svg/>\n")], &["limits.svg"]).unwrap();
         assert!(removed.is_empty());
         assert_eq!(names_in(&dir), ["limits.svg", "plot.svg"]);
         fs::remove_dir_all(dir).unwrap();
@@ -470,7 +496,7 @@ mod tests {
             report("b.svg", "new b\n"),
             report("c.json", "new c\n"),
         ];
-        let error = write_all(&dir, &reports, &["stale.svg"]).unwrap_err();
+        let error = write_set(&dir, &reports, &["stale.svg"]).unwrap_err();
         assert!(
             error
                 .to_string()
@@ -493,7 +519,7 @@ mod tests {
         fs::create_dir_all(&root).unwrap();
         let dir = root.join("made").join("for").join("out");
         // A name with a separator cannot be created inside the staging folder.
-        let error = write_all(
+        let error = write_set(
             &dir,
             &[report("a.csv", "1\n"), report("x/b.csv", "2\n")],
             &[],
@@ -508,7 +534,7 @@ mod tests {
     fn a_new_directory_appears_with_every_file_and_nothing_else_beside_it() {
         let root = scratch("new-directory");
         fs::create_dir_all(&root).unwrap();
-        write_all(
+        write_set(
             &root.join("out"),
             &[report("a.csv", "1\n"), report("b.svg", "2\n")],
             &[],

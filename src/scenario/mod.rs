@@ -13,6 +13,7 @@ mod validate;
 pub use error::ScenarioError;
 pub use template::TEMPLATE;
 
+use crate::calendar::CalendarDate;
 use crate::shapes::{ParameterValue, Placement, Shape, ShapeError, ShapeKind};
 use crate::warning::Warning;
 use serde::Deserialize;
@@ -115,7 +116,8 @@ impl ShapeSpec {
     }
 }
 
-/// When data are taken: a live fraction and optional reduced-rate periods at the start.
+/// When data are taken: a live fraction, optional reduced-rate periods at the
+/// start, and optionally the date of the first day and planned breaks.
 #[derive(Debug, Clone, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct Schedule {
@@ -123,6 +125,13 @@ pub struct Schedule {
     pub live_fraction: f64,
     #[serde(default)]
     pub periods: Vec<Period>,
+    /// Date of calendar day 0 (ISO 8601 text, checked by validation); with it
+    /// every calendar day is also shown as a date.
+    #[serde(default)]
+    pub start: Option<String>,
+    /// Date ranges without data (both ends included); they need `start`.
+    #[serde(default)]
+    pub breaks: Vec<Break>,
 }
 
 impl Default for Schedule {
@@ -130,6 +139,8 @@ impl Default for Schedule {
         Schedule {
             live_fraction: 1.0,
             periods: Vec::new(),
+            start: None,
+            breaks: Vec::new(),
         }
     }
 }
@@ -144,6 +155,34 @@ fn one() -> f64 {
 pub struct Period {
     pub days: f64,
     pub rate_scale: f64,
+}
+
+/// A planned break in data-taking from `from` to `to`, both days included.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Break {
+    pub from: String,
+    pub to: String,
+}
+
+impl Schedule {
+    /// The date of calendar day 0, when given.
+    pub fn start_date(&self) -> Option<CalendarDate> {
+        self.start.as_deref().and_then(CalendarDate::parse)
+    }
+
+    /// The breaks as (first, last) dates, in the order given.
+    pub fn break_dates(&self) -> Vec<(CalendarDate, CalendarDate)> {
+        self.breaks
+            .iter()
+            .filter_map(|pause| {
+                Some((
+                    CalendarDate::parse(&pause.from)?,
+                    CalendarDate::parse(&pause.to)?,
+                ))
+            })
+            .collect()
+    }
 }
 
 /// What to project: the grid of calendar days, the ensemble size, seed and targets.

@@ -102,6 +102,11 @@ schedule:
   periods:
     - {days: 14, rate_scale: 0.3}    # e.g. commissioning
     - {days: 30, rate_scale: 0.7}    # e.g. reduced intensity
+  # Optional. ISO 8601 date of day 0: every day in the outputs then also shows
+  # its date. Breaks (they need start) are date ranges without data, both ends
+  # included; live days skip them.
+  # start: 2027-03-01
+  # breaks: [{from: 2027-07-20, to: 2027-08-31}]
 
 # What to project.
 plan:

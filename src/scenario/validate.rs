@@ -12,6 +12,7 @@ use super::{
     Background, DaysGrid, NormUncertainty, Observable, Plan, Scenario, ScenarioError, Schedule,
     ShapeSpec, Signal,
 };
+use crate::calendar::CalendarDate;
 use crate::message::{not_finite, not_positive, show, show_fraction, show_rounded};
 use crate::shapes::{Placement, ShapeError};
 use crate::warning::Warning;
@@ -329,6 +330,71 @@ fn validate_schedule(schedule: &Schedule) -> Checked {
                 format!(
                     "must be a non-negative finite number, got {}",
                     show(period.rate_scale)
+                ),
+            ));
+        }
+    }
+    validate_dates(schedule)
+}
+
+/// An ISO 8601 calendar date that exists, or an error naming `field`.
+fn require_date(field: &str, text: &str) -> Checked<CalendarDate> {
+    CalendarDate::parse(text).ok_or_else(|| {
+        ScenarioError::invalid(
+            field,
+            format!("`{text}` is not a calendar date; expected an ISO 8601 date YYYY-MM-DD that exists, such as 2027-03-01"),
+        )
+    })
+}
+
+/// `schedule.start` is a date; breaks need it, end no earlier than they
+/// begin, begin no earlier than the start, and do not overlap one another.
+fn validate_dates(schedule: &Schedule) -> Checked {
+    let start = match &schedule.start {
+        Some(text) => Some(require_date("schedule.start", text)?),
+        None => None,
+    };
+    if schedule.breaks.is_empty() {
+        return Ok(());
+    }
+    let Some(start) = start else {
+        return Err(ScenarioError::invalid(
+            "schedule.breaks",
+            "breaks are dates and need schedule.start, the date of day 0",
+        ));
+    };
+    let mut breaks = Vec::with_capacity(schedule.breaks.len());
+    for (index, pause) in schedule.breaks.iter().enumerate() {
+        let from = require_date(&format!("schedule.breaks[{index}].from"), &pause.from)?;
+        let to = require_date(&format!("schedule.breaks[{index}].to"), &pause.to)?;
+        if from < start {
+            return Err(ScenarioError::invalid(
+                format!("schedule.breaks[{index}].from"),
+                format!("the break begins on {from}, before schedule.start {start}"),
+            ));
+        }
+        if to < from {
+            return Err(ScenarioError::invalid(
+                format!("schedule.breaks[{index}].to"),
+                format!("the break ends on {to}, before it begins on {from}"),
+            ));
+        }
+        breaks.push((index, from, to));
+    }
+    breaks.sort_by_key(|&(_, from, _)| from);
+    for pair in breaks.windows(2) {
+        let [
+            (earlier, earlier_from, earlier_to),
+            (later, later_from, later_to),
+        ] = pair
+        else {
+            continue;
+        };
+        if later_from <= earlier_to {
+            return Err(ScenarioError::invalid(
+                format!("schedule.breaks[{later}]"),
+                format!(
+                    "the break {later_from} to {later_to} overlaps schedule.breaks[{earlier}] ({earlier_from} to {earlier_to}); merge them into one"
                 ),
             ));
         }
@@ -730,6 +796,77 @@ plan:
             "schedule.periods[0].rate_scale"
         );
         accepted(&with("rate_scale: 0.5", "rate_scale: 0"));
+    }
+
+    /// `BASE` with `schedule.start` and the given `breaks` list.
+    fn with_dates(start: &str, breaks: &str) -> String {
+        with(
+            "  periods: [{days: 20, rate_scale: 0.5}]\n",
+            &format!(
+                "  periods: [{{days: 20, rate_scale: 0.5}}]\n  start: {start}\n  breaks: {breaks}\n"
+            ),
+        )
+    }
+
+    #[test]
+    fn dates_and_breaks_are_accepted_when_consistent() {
+        let scenario = accepted(&with_dates(
+            "2027-03-01",
+            "[{from: 2027-07-20, to: 2027-08-31}, {from: 2028-02-29, to: 2028-02-29}]",
+        ));
+        assert_eq!(scenario.schedule.breaks.len(), 2);
+        assert_eq!(
+            scenario.schedule.start_date().unwrap().to_string(),
+            "2027-03-01"
+        );
+    }
+
+    #[test]
+    fn invalid_dates_are_rejected_naming_their_field() {
+        // 2027 is not a leap year (Gregorian calendar): 29 February does not exist.
+        for (start, breaks, field) in [
+            ("2027-02-29", "[]", "schedule.start"),
+            ("2027-3-1", "[]", "schedule.start"),
+            (
+                "2027-03-01",
+                "[{from: 2027-07-32, to: 2027-08-31}]",
+                "schedule.breaks[0].from",
+            ),
+            (
+                "2027-03-01",
+                "[{from: 2027-07-20, to: end}]",
+                "schedule.breaks[0].to",
+            ),
+        ] {
+            let (rejected, message) = rejection(&with_dates(start, breaks));
+            assert_eq!(rejected, field);
+            assert!(message.contains("not a calendar date"), "{message}");
+        }
+    }
+
+    #[test]
+    fn breaks_need_start_order_and_no_overlap() {
+        let without_start = with(
+            "  periods: [{days: 20, rate_scale: 0.5}]\n",
+            "  periods: [{days: 20, rate_scale: 0.5}]\n  breaks: [{from: 2027-07-20, to: 2027-08-31}]\n",
+        );
+        assert_eq!(rejected_field(&without_start), "schedule.breaks");
+        let before_start = with_dates("2027-03-01", "[{from: 2027-02-20, to: 2027-03-31}]");
+        assert_eq!(rejected_field(&before_start), "schedule.breaks[0].from");
+        let reversed = with_dates("2027-03-01", "[{from: 2027-08-31, to: 2027-07-20}]");
+        assert_eq!(rejected_field(&reversed), "schedule.breaks[0].to");
+        let overlapping = with_dates(
+            "2027-03-01",
+            "[{from: 2027-09-01, to: 2027-09-10}, {from: 2027-07-20, to: 2027-09-01}]",
+        );
+        let (field, message) = rejection(&overlapping);
+        assert_eq!(field, "schedule.breaks[0]");
+        assert!(message.contains("schedule.breaks[1]"), "{message}");
+        // Breaks on consecutive days touch but do not overlap.
+        accepted(&with_dates(
+            "2027-03-01",
+            "[{from: 2027-07-20, to: 2027-07-31}, {from: 2027-08-01, to: 2027-08-02}]",
+        ));
     }
 
     #[test]

@@ -60,11 +60,11 @@ mod tests {
         assert_eq!(
             keys,
             [
-                "best_window",
-                "bin_widths",
                 "days",
+                "bin_widths",
+                "windows",
                 "recommended_bin_width",
-                "windows"
+                "best_window"
             ]
         );
         assert_eq!(json["recommended_bin_width"], scan.recommended_bin_width);

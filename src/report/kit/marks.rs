@@ -24,7 +24,7 @@ pub enum Stroke {
 
 impl Stroke {
     /// The stroke in `colour`, 3 pixels wide when solid, 2 when dashed.
-    fn line(self, colour: RGBColor) -> Line {
+    pub fn line(self, colour: RGBColor) -> Line {
         match self {
             Stroke::Solid => Line::Solid(colour.stroke_width(3)),
             Stroke::Dashed => Line::Dashed(colour.stroke_width(2), DASH),

@@ -1,10 +1,11 @@
 //! The kit every report is made with: figures over any x axis (`figure.rs`,
 //! `axis.rs`), what is drawn on them (`marks.rs`: curves, bands, reference
 //! lines, markers, legends, text; `legend.rs`: legend samples), the palette
-//! (`palette.rs`), number formatting (`format.rs`) and CSV and JSON encoding
-//! (`encode.rs`).
+//! (`palette.rs`), number formatting (`format.rs`), calendar dates beside
+//! days (`dates.rs`) and CSV and JSON encoding (`encode.rs`).
 
 pub mod axis;
+pub mod dates;
 pub mod encode;
 pub mod figure;
 pub mod format;

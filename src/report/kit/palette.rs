@@ -3,8 +3,9 @@
 
 use plotters::prelude::*;
 
-/// Font family of every text; the viewer picks its own sans-serif face.
-const FONT: &str = "sans-serif";
+/// Font family of every text: the font shipped with runcast (the one PDF
+/// and PNG use), else the viewer's own sans-serif face.
+const FONT: &str = "DejaVu Sans, sans-serif";
 
 /// Toy median: deep ink teal.
 pub const INK_TEAL: RGBColor = RGBColor(0x0b, 0x4f, 0x6c);
@@ -18,8 +19,9 @@ pub const PALE_LAVENDER: RGBColor = RGBColor(0xe6, 0xe3, 0xf3);
 pub const SLATE: RGBColor = RGBColor(0x5f, 0x6b, 0x7a);
 /// Axis labels, titles and footnotes: near-black ink.
 pub const INK: RGBColor = RGBColor(0x22, 0x26, 0x2e);
-/// One colour per target in the probability plot, cycled past the sixth.
-pub const TARGET_COLOURS: [RGBColor; 6] = [
+/// One colour per series (each target of the probability plot, each plan of
+/// a comparison), cycled past the sixth.
+pub const SERIES_COLOURS: [RGBColor; 6] = [
     INK_TEAL,
     VERMILION,
     RGBColor(0x6a, 0x3d, 0x9a), // violet

@@ -18,7 +18,7 @@ const LIMIT: &str = "a finite upper limit on the signal strength above 0";
 ///   calibrations), the confidence level between 0 and 1;
 /// - every expected limit on μ finite and above zero (absent limits are fine);
 /// - every point carries one probability per target, in the order of `targets`.
-pub(super) fn check_projection(projection: &Projection) -> Result<(), ReportError> {
+pub(in crate::report) fn check_projection(projection: &Projection) -> Result<(), ReportError> {
     if projection.points.is_empty() {
         return Err(invalid(
             "points".to_string(),

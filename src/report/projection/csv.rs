@@ -1,6 +1,7 @@
 //! `projection.csv`: one row per exposure point.
 //!
-//! Columns: `days, live_days, signal, background, z_asimov, z_median,
+//! Columns: `days` (then `date`, its ISO 8601 date, when the schedule has a
+//! start), `live_days, signal, background, z_asimov, z_median,
 //! z_q02_3, z_q15_9, z_q84_1, z_q97_7` (toys), `z_asimov_q02_3,
 //! z_asimov_q15_9, z_asimov_q84_1, z_asimov_q97_7` (Z_A - 2, - 1, + 1, + 2,
 //! floored at 0, standing at those quantiles), then for each target T
@@ -21,6 +22,7 @@
 use super::PROJECTION_CSV;
 use crate::projection::{Calibration, ExposurePoint, Projection};
 use crate::report::ReportError;
+use crate::report::kit::dates::date_cell;
 use crate::report::kit::encode::csv_bytes;
 use crate::report::kit::format::{number, optional};
 
@@ -65,11 +67,15 @@ const CALIBRATION_COLUMNS: [&str; 9] = [
 
 /// The CSV table of the projection.
 pub(super) fn render(projection: &Projection) -> Result<Vec<u8>, ReportError> {
-    csv_bytes(
-        PROJECTION_CSV,
-        header(&projection.targets),
-        projection.points.iter().map(row),
-    )
+    let mut columns = header(&projection.targets);
+    let mut rows: Vec<Vec<String>> = projection.points.iter().map(row).collect();
+    if let Some(start) = projection.start {
+        columns.insert(1, "date".to_string());
+        for (cells, point) in rows.iter_mut().zip(&projection.points) {
+            cells.insert(1, date_cell(Some(point.days), start));
+        }
+    }
+    csv_bytes(PROJECTION_CSV, columns, rows)
 }
 
 fn header(targets: &[f64]) -> Vec<String> {

@@ -13,6 +13,7 @@ use crate::projection::{
 /// the 5σ target is never reached (Z saturates at 4.5σ), to exercise nulls.
 pub(crate) fn tiny() -> Projection {
     Projection {
+        start: None,
         title: "Invented counting search".to_string(),
         seed: 7,
         toys: 200,
@@ -277,6 +278,7 @@ impl InventedSearch {
             .collect();
         Projection {
             title: title.to_string(),
+            start: None,
             seed: 20240611,
             toys,
             points: Self::grid()

@@ -7,11 +7,20 @@
 use super::PROJECTION_JSON;
 use crate::projection::Projection;
 use crate::report::ReportError;
+use crate::report::kit::dates::insert_dates;
 use crate::report::kit::encode::json_bytes;
 
-/// Pretty-printed JSON of the projection, ending with a newline.
+/// Pretty-printed JSON of the projection, ending with a newline; with a
+/// start date, a date beside each calendar-days value.
 pub(super) fn render(projection: &Projection) -> Result<Vec<u8>, ReportError> {
-    json_bytes(PROJECTION_JSON, projection)
+    let Some(start) = projection.start else {
+        return json_bytes(PROJECTION_JSON, projection);
+    };
+    let document = serde_json::to_value(projection).map_err(|error| ReportError::Render {
+        file: PROJECTION_JSON,
+        message: error.to_string(),
+    })?;
+    json_bytes(PROJECTION_JSON, &insert_dates(document, start))
 }
 
 #[cfg(test)]

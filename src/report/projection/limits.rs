@@ -17,8 +17,9 @@ use super::{LIMITS_SVG, day_range};
 use crate::projection::{ExposurePoint, Projection};
 use crate::report::ReportError;
 use crate::report::kit::axis::{Axis, LogAxis, days_axis, log_axis, one_two_five_span, tick_label};
+use crate::report::kit::dates::dated_days_label;
 use crate::report::kit::figure::{self, Canvas, Chart, DrawError, Frame, SIZE};
-use crate::report::kit::format::{days_label, percent_label};
+use crate::report::kit::format::percent_label;
 use crate::report::kit::marks::{self, BandPoint, Stroke};
 use crate::report::kit::palette::{DOT, INK_TEAL, LABEL_SIZE, SLATE, VERMILION};
 use plotters::prelude::*;
@@ -163,7 +164,7 @@ fn draw_days_to_exclusion(
         .into_iter()
         .filter_map(|(days, curve)| Some((days?, curve)));
     for (row, (days, curve)) in (0..).zip(reached) {
-        let label = format!("excluded: {}", days_label(days));
+        let label = format!("excluded: {}", dated_days_label(days, projection.start));
         marks::mark_crossing(
             chart,
             canvas,

@@ -17,6 +17,7 @@ mod summary;
 #[cfg(test)]
 pub(crate) mod example;
 
+pub(super) use check::check_projection;
 pub use summary::summary;
 
 use super::{Kind, Output, Render, Report, ReportError, render};

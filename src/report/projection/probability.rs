@@ -11,7 +11,7 @@ use crate::report::kit::axis::{Axis, days_axis, linear_axis};
 use crate::report::kit::figure::{self, Canvas, DrawError, Frame, SIZE};
 use crate::report::kit::format::target_label;
 use crate::report::kit::marks::{self, Stroke};
-use crate::report::kit::palette::TARGET_COLOURS;
+use crate::report::kit::palette::SERIES_COLOURS;
 use plotters::chart::SeriesLabelPosition;
 
 /// The probability plot as SVG bytes.
@@ -34,7 +34,7 @@ fn draw(canvas: &Canvas, projection: &Projection) -> Result<(), DrawError> {
         marks::reference_line(&mut chart, canvas, level, label)?;
     }
     for (slot, &target) in projection.targets.iter().enumerate() {
-        let colour = TARGET_COLOURS[slot % TARGET_COLOURS.len()];
+        let colour = SERIES_COLOURS[slot % SERIES_COLOURS.len()];
         let label = target_label(target);
         // Probabilities follow the order of the targets (checked before rendering).
         let toys: Vec<(f64, f64)> = points

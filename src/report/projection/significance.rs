@@ -13,8 +13,9 @@ use super::{PROJECTION_SVG, day_range};
 use crate::projection::Projection;
 use crate::report::ReportError;
 use crate::report::kit::axis::{Axis, LogAxis, days_axis, linear_axis};
+use crate::report::kit::dates::dated_days_label;
 use crate::report::kit::figure::{self, Canvas, Chart, DrawError, Frame, SIZE};
-use crate::report::kit::format::{days_label, target_label};
+use crate::report::kit::format::target_label;
 use crate::report::kit::marks::{self, BandPoint, Stroke};
 use crate::report::kit::palette::{DASH, INK_TEAL, LABEL_SIZE, VERMILION};
 use plotters::coord::types::RangedCoordf64;
@@ -132,7 +133,11 @@ fn draw_days_to_target(
         ];
         for (days, curve, raise) in crossings {
             let Some(days) = days else { continue };
-            let label = format!("{}: {}", target_label(row.target), days_label(days));
+            let label = format!(
+                "{}: {}",
+                target_label(row.target),
+                dated_days_label(days, projection.start)
+            );
             marks::mark_crossing(chart, canvas, (days, row.target), curve, &label, -raise)?;
         }
     }

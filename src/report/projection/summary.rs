@@ -4,8 +4,10 @@
 //! cap the significance.
 
 use super::ensembles::Ensemble;
+use crate::calendar::CalendarDate;
 use crate::projection::{Calibration, DaysToTarget, Projection};
-use crate::report::kit::format::{aligned, days_label, fit_percent, percent_label, target_label};
+use crate::report::kit::dates::{dated_days_label, with_date};
+use crate::report::kit::format::{aligned, fit_percent, percent_label, target_label};
 use crate::report::warning_text;
 
 const COLUMNS: [&str; 5] = [
@@ -22,13 +24,15 @@ const COLUMNS: [&str; 5] = [
 /// and warnings. Each cell is calendar days rounded up ("142 d", "3.1 d"),
 /// "never" when the saturation limit of Z_A lies below the target, `"beyond
 /// <last grid day> d"` when the target lies past the grid, and "—" for toy
-/// columns of an Asimov-only run.
+/// columns of an Asimov-only run. With a start date in the schedule every
+/// calendar day is followed by its date: "58 d (2027-04-28)".
 pub fn summary(projection: &Projection) -> String {
     let mut text = format!("{}\n{}\n\n", projection.title, run_line(projection));
     let last_day = projection.points.last().map_or(0.0, |point| point.days);
+    let start = projection.start;
     let mut rows = vec![COLUMNS.map(str::to_string).to_vec()];
     rows.extend(projection.days_to_target.iter().map(|row| {
-        let cell = |days, available| days_cell(days, available, row, last_day);
+        let cell = |days, available| days_cell(days, available, row, last_day, start);
         let with_toys = projection.toys > 0;
         vec![
             target_label(row.target),
@@ -63,7 +67,13 @@ pub fn summary(projection: &Projection) -> String {
 /// "Days until the nominal signal is excluded at 95% CL (median expected CLs
 /// limit): Asimov 32 d, toy median 33 d"; the toy part only with toys.
 fn exclusion_line(projection: &Projection, cl: f64, last_day: f64) -> String {
-    let cell = |days: Option<f64>| days.map_or_else(|| beyond(last_day), days_label);
+    let start = projection.start;
+    let cell = |days: Option<f64>| {
+        days.map_or_else(
+            || beyond(last_day, start),
+            |days| dated_days_label(days, start),
+        )
+    };
     let exclusion = &projection.days_to_exclusion;
     let mut line = format!(
         "Days until the nominal signal is excluded at {} CL (median expected CLs limit): Asimov {}",
@@ -80,7 +90,12 @@ fn exclusion_line(projection: &Projection, cl: f64, last_day: f64) -> String {
 fn run_line(projection: &Projection) -> String {
     let grid = match (projection.points.first(), projection.points.last()) {
         (Some(first), Some(last)) => {
-            format!("; grid {} to {}", grid_day(first.days), grid_day(last.days))
+            let start = projection.start;
+            format!(
+                "; grid {} to {}",
+                grid_day(first.days, start),
+                grid_day(last.days, start)
+            )
         }
         _ => String::new(),
     };
@@ -94,23 +109,30 @@ fn run_line(projection: &Projection) -> String {
     }
 }
 
-fn days_cell(days: Option<f64>, available: bool, row: &DaysToTarget, last_day: f64) -> String {
+fn days_cell(
+    days: Option<f64>,
+    available: bool,
+    row: &DaysToTarget,
+    last_day: f64,
+    start: Option<CalendarDate>,
+) -> String {
     match days {
-        Some(days) => days_label(days),
+        Some(days) => dated_days_label(days, start),
         None if !available => "—".to_string(),
         None if row.never_reached() => "never".to_string(),
-        None => beyond(last_day),
+        None => beyond(last_day, start),
     }
 }
 
 /// A crossing past the last day of the grid: "beyond 365 d".
-fn beyond(last_day: f64) -> String {
-    format!("beyond {}", grid_day(last_day))
+fn beyond(last_day: f64, start: Option<CalendarDate>) -> String {
+    format!("beyond {}", grid_day(last_day, start))
 }
 
 /// A day of the grid as given, to two decimals at most ("1 d", "1.26 d").
-fn grid_day(days: f64) -> String {
-    format!("{} d", (days * 100.0).round() / 100.0)
+/// With a start date, the date of that day follows ("365 d (2028-02-29)").
+fn grid_day(days: f64, start: Option<CalendarDate>) -> String {
+    with_date(format!("{} d", (days * 100.0).round() / 100.0), days, start)
 }
 
 /// Total failed fits of one ensemble of the toys it ran, the points where it
@@ -187,7 +209,7 @@ fn calibration_table(projection: &Projection) -> Option<String> {
             (None, None) => ("—".to_string(), "—".to_string()),
         };
         vec![
-            grid_day(*days),
+            grid_day(*days, projection.start),
             two_decimals(z),
             z_toys,
             difference,
@@ -418,7 +440,7 @@ warning: systematic uncertainties make Z_A saturate at 4.50σ however long the r
         calibration.p_toys = None;
         calibration.z_toys = None;
         calibration.tail_reach_z = Calibration::tail_reach(1);
-        let days = grid_day(projection.points[3].days);
+        let days = grid_day(projection.points[3].days, None);
         crate::report::render_all(&projection).unwrap();
         let text = summary(&projection);
         assert!(

@@ -1,0 +1,108 @@
+//! Calendar dates: ISO 8601 dates (`2027-03-01`) read from a scenario and the
+//! date on which a number of calendar days since the start has passed.
+//!
+//! Date arithmetic (month lengths, leap years) is the `time` crate's.
+
+use std::fmt;
+
+use serde::{Serialize, Serializer};
+use time::Date;
+use time::format_description::well_known::Iso8601;
+
+/// A calendar date, read and written as ISO 8601 `YYYY-MM-DD`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord)]
+pub struct CalendarDate(Date);
+
+impl CalendarDate {
+    /// Parses an ISO 8601 calendar date such as `2027-03-01`; `None` for
+    /// anything else, including days that do not exist (`2027-02-29`).
+    pub fn parse(text: &str) -> Option<CalendarDate> {
+        let is_calendar_form = text.len() == 10
+            && text.bytes().enumerate().all(|(i, b)| {
+                if i == 4 || i == 7 {
+                    b == b'-'
+                } else {
+                    b.is_ascii_digit()
+                }
+            });
+        if !is_calendar_form {
+            return None;
+        }
+        Date::parse(text, &Iso8601::DATE).ok().map(CalendarDate)
+    }
+
+    /// Whole days from `earlier` to this date (negative if `earlier` is later).
+    pub fn days_since(self, earlier: CalendarDate) -> i64 {
+        (self.0 - earlier.0).whole_days()
+    }
+
+    /// The date by which `days` calendar days have passed since the start of
+    /// this date: this date plus ceil(days) days, so day 0 is this date and
+    /// day 57.3 is reached by the start of the 58th day after it. `None` for
+    /// a negative, non-finite or out-of-calendar number of days.
+    pub fn after(self, days: f64) -> Option<CalendarDate> {
+        if !(0.0..1e7).contains(&days) {
+            return None;
+        }
+        self.0
+            .checked_add(time::Duration::days(days.ceil() as i64))
+            .map(CalendarDate)
+    }
+}
+
+impl fmt::Display for CalendarDate {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "{}", self.0)
+    }
+}
+
+impl Serialize for CalendarDate {
+    fn serialize<S: Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        serializer.collect_str(self)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn date(text: &str) -> CalendarDate {
+        CalendarDate::parse(text).unwrap()
+    }
+
+    #[test]
+    fn parses_and_writes_iso_8601_calendar_dates() {
+        assert_eq!(date("2027-03-01").to_string(), "2027-03-01");
+        for wrong in [
+            "2027-02-29",
+            "2027-13-01",
+            "2027-3-1",
+            "20270301",
+            "2027-060",
+            "soon",
+        ] {
+            assert_eq!(CalendarDate::parse(wrong), None, "{wrong}");
+        }
+    }
+
+    #[test]
+    fn leap_day_exists_in_2028_only() {
+        // Gregorian calendar (ISO 8601): 2028 is divisible by 4 and not by
+        // 100, so it has 29 February; 2027 does not.
+        assert_eq!(date("2028-02-29").to_string(), "2028-02-29");
+        assert_eq!(date("2028-03-01").days_since(date("2028-02-28")), 2);
+        assert_eq!(date("2027-03-01").days_since(date("2027-02-28")), 1);
+        assert_eq!(date("2028-02-28").after(1.0), Some(date("2028-02-29")));
+    }
+
+    #[test]
+    fn after_counts_whole_days_rounded_up() {
+        // March has 31 days: 58 days after 1 March is 28 April.
+        let start = date("2027-03-01");
+        assert_eq!(start.after(58.0), Some(date("2027-04-28")));
+        assert_eq!(start.after(57.3), Some(date("2027-04-28")));
+        assert_eq!(start.after(0.0), Some(start));
+        assert_eq!(start.after(-1.0), None);
+        assert_eq!(start.after(f64::NAN), None);
+    }
+}

@@ -1,0 +1,220 @@
+//! The comparison's files: several run plans (scenarios), each projected as
+//! `runcast project` does, on one page. `significance.rs` (`compare.svg`,
+//! median expected significance against calendar days), `probability.rs`
+//! (`compare-probability.svg`), `limits.rs` (`compare-limits.svg`, only with
+//! limits), `csv.rs`, `json.rs`, and `table.rs` for the terminal. One colour
+//! per plan throughout.
+
+mod csv;
+mod json;
+mod limits;
+mod probability;
+mod significance;
+mod table;
+
+pub use table::comparison_table;
+
+use super::projection::check_projection;
+use super::{Kind, Output, Render, Report, ReportError, render};
+use crate::projection::Projection;
+use crate::report::kit::palette::SERIES_COLOURS;
+use plotters::style::RGBColor;
+use std::ops::Range;
+
+/// File name of the significance comparison.
+pub const COMPARE_SVG: &str = "compare.svg";
+/// File name of the probability comparison.
+pub const COMPARE_PROBABILITY_SVG: &str = "compare-probability.svg";
+/// File name of the expected-limit comparison (only with limits).
+pub const COMPARE_LIMITS_SVG: &str = "compare-limits.svg";
+/// File name of the days-per-plan table.
+pub const COMPARE_CSV: &str = "compare.csv";
+/// File name of the comparison as JSON.
+pub const COMPARE_JSON: &str = "compare.json";
+/// Every file `render_comparison` can give: the output set of `runcast compare`.
+pub const COMPARE_FILES: [&str; 5] = [
+    COMPARE_SVG,
+    COMPARE_PROBABILITY_SVG,
+    COMPARE_LIMITS_SVG,
+    COMPARE_CSV,
+    COMPARE_JSON,
+];
+
+/// One run plan of a comparison: the file it came from, its name in the
+/// legend and tables, and its projection.
+#[derive(Debug, Clone)]
+pub struct ComparedPlan {
+    pub file: String,
+    pub label: String,
+    pub projection: Projection,
+}
+
+/// Several run plans sharing targets and confidence level, the first being
+/// the one the others are compared with.
+#[derive(Debug, Clone)]
+pub struct Comparison {
+    pub plans: Vec<ComparedPlan>,
+}
+
+impl Comparison {
+    fn first(&self) -> &Projection {
+        &self.plans[0].projection
+    }
+
+    fn with_toys(&self) -> bool {
+        self.first().toys > 0
+    }
+}
+
+/// Renders every file of the comparison in memory: `compare.svg`,
+/// `compare-probability.svg`, `compare-limits.svg` (with limits),
+/// `compare.csv`, `compare.json`. Each projection is checked as for
+/// `runcast project`, and the plans must share targets, confidence level and
+/// the use of pseudo-experiments.
+pub fn render_comparison(comparison: &Comparison) -> Result<Vec<Report>, ReportError> {
+    check_comparison(comparison)?;
+    type Renderer = fn(&Comparison) -> Result<Vec<u8>, ReportError>;
+    let output = |name: &str, kind, render: Renderer| Output::new(name, kind, comparison, render);
+    let outputs = [
+        Some(output(COMPARE_SVG, Kind::Figure, significance::render)),
+        Some(output(
+            COMPARE_PROBABILITY_SVG,
+            Kind::Figure,
+            probability::render,
+        )),
+        comparison
+            .first()
+            .cl
+            .map(|_| output(COMPARE_LIMITS_SVG, Kind::Figure, limits::render)),
+        Some(output(COMPARE_CSV, Kind::Table, csv::render)),
+        Some(output(COMPARE_JSON, Kind::Document, json::render)),
+    ];
+    let outputs: Vec<&dyn Render> = outputs
+        .iter()
+        .flatten()
+        .map(|output| output as &dyn Render)
+        .collect();
+    render(&outputs)
+}
+
+fn check_comparison(comparison: &Comparison) -> Result<(), ReportError> {
+    let Some(first) = comparison.plans.first() else {
+        return Err(ReportError::InvalidProjection {
+            field: "plans".to_string(),
+            value: "empty".to_string(),
+            expected: "at least one plan",
+        });
+    };
+    for (index, plan) in comparison.plans.iter().enumerate() {
+        let shared = |name: &str, value: String, same: bool| {
+            if same {
+                Ok(())
+            } else {
+                Err(ReportError::InvalidProjection {
+                    field: format!("plans[{index}].{name}"),
+                    value,
+                    expected: "the same as the first plan's",
+                })
+            }
+        };
+        let projection = &plan.projection;
+        let reference = &first.projection;
+        shared(
+            "targets",
+            format!("{:?}", projection.targets),
+            projection.targets == reference.targets,
+        )?;
+        shared(
+            "cl",
+            format!("{:?}", projection.cl),
+            projection.cl == reference.cl,
+        )?;
+        shared(
+            "toys",
+            projection.toys.to_string(),
+            (projection.toys > 0) == (reference.toys > 0),
+        )?;
+        check_projection(projection)?;
+    }
+    Ok(())
+}
+
+/// The colour of the plan at `index`.
+fn plan_colour(index: usize) -> RGBColor {
+    SERIES_COLOURS[index % SERIES_COLOURS.len()]
+}
+
+/// Calendar days covered by any plan's grid (a factor of two either side of a
+/// single day). Grids are not empty (checked before rendering).
+fn day_range(comparison: &Comparison) -> Range<f64> {
+    let days = comparison
+        .plans
+        .iter()
+        .flat_map(|plan| plan.projection.points.iter().map(|point| point.days));
+    let (low, high) = days.fold((f64::INFINITY, 0.0_f64), |(low, high), day| {
+        (low.min(day), high.max(day))
+    });
+    if high > low {
+        low..high
+    } else {
+        low / 2.0..low * 2.0
+    }
+}
+
+#[cfg(test)]
+pub(crate) mod tests {
+    use super::*;
+    use crate::report::projection::example;
+
+    /// Two invented plans: the example projection and one reaching every
+    /// target in half the days.
+    pub(crate) fn two_plans(toys: bool) -> Comparison {
+        let first = if toys {
+            example::with_limits()
+        } else {
+            example::asimov_only_with_limits()
+        };
+        let mut faster = first.clone();
+        for point in &mut faster.points {
+            point.days /= 2.0;
+        }
+        for row in &mut faster.days_to_target {
+            row.asimov_days = row.asimov_days.map(|days| days / 2.0);
+            row.median_days = row.median_days.map(|days| days / 2.0);
+        }
+        let exclusion = &mut faster.days_to_exclusion;
+        exclusion.asimov_days = exclusion.asimov_days.map(|days| days / 2.0);
+        exclusion.median_days = exclusion.median_days.map(|days| days / 2.0);
+        let plan = |file: &str, label: &str, projection: Projection| ComparedPlan {
+            file: file.to_string(),
+            label: label.to_string(),
+            projection,
+        };
+        Comparison {
+            plans: vec![
+                plan("now.yaml", "Now", first),
+                plan("upgrade.yaml", "Upgrade", faster),
+            ],
+        }
+    }
+
+    #[test]
+    fn every_file_renders_in_order() {
+        for toys in [false, true] {
+            let reports = render_comparison(&two_plans(toys)).unwrap();
+            let names: Vec<&str> = reports.iter().map(|report| report.name.as_str()).collect();
+            assert_eq!(names, COMPARE_FILES);
+            for report in &reports {
+                assert!(!report.bytes.is_empty());
+            }
+        }
+    }
+
+    #[test]
+    fn plans_with_other_targets_are_refused() {
+        let mut comparison = two_plans(false);
+        comparison.plans[1].projection.targets = vec![2.0];
+        let error = render_comparison(&comparison).unwrap_err().to_string();
+        assert!(error.contains("plans[1].targets"), "{error}");
+    }
+}

@@ -1,0 +1,90 @@
+//! `compare.svg`: the median expected significance of each plan against
+//! calendar days, in the plan's colour: the toy median solid, the Asimov Z_A
+//! dashed (Cowan et al., EPJC 71 (2011) 1554). Each target is a horizontal
+//! line, and where each plan's curves reach it a marker is labelled with the
+//! days.
+
+use super::{COMPARE_SVG, Comparison, day_range, plan_colour};
+use crate::report::ReportError;
+use crate::report::kit::axis::{Axis, days_axis, linear_axis};
+use crate::report::kit::dates::dated_days_label;
+use crate::report::kit::figure::{self, Canvas, DrawError, Frame, SIZE};
+use crate::report::kit::format::target_label;
+use crate::report::kit::marks::{self, Stroke};
+use plotters::chart::SeriesLabelPosition;
+
+/// The significance comparison as SVG bytes.
+pub(super) fn render(comparison: &Comparison) -> Result<Vec<u8>, ReportError> {
+    figure::svg_bytes(COMPARE_SVG, SIZE, |canvas| draw(canvas, comparison))
+}
+
+fn draw(canvas: &Canvas, comparison: &Comparison) -> Result<(), DrawError> {
+    let format = |z: &f64| format!("{}", (z * 100.0).round() / 100.0);
+    let y = Axis {
+        coordinate: linear_axis(0.0..significance_ceiling(comparison)),
+        description: Some("Median expected significance Z [σ]"),
+        format: &format,
+        labels: Some(12),
+    };
+    let frame = Frame::single("Run plans compared", false);
+    let mut chart = figure::chart(canvas, &frame, days_axis(day_range(comparison)), y)?;
+    for &target in &comparison.first().targets {
+        marks::reference_line(&mut chart, canvas, target, &target_label(target))?;
+    }
+    const ROW: i32 = 18;
+    let rows_per_plan = if comparison.with_toys() { 2 } else { 1 };
+    for (index, plan) in comparison.plans.iter().enumerate() {
+        let colour = plan_colour(index);
+        let points = &plan.projection.points;
+        let median: Vec<(f64, f64)> = points
+            .iter()
+            .filter_map(|point| Some((point.days, point.z_median?)))
+            .collect();
+        if median.len() > 1 {
+            let label = format!("{}: toy median", plan.label);
+            marks::draw_curve(&mut chart, median, colour, Stroke::Solid, label)?;
+        }
+        let asimov = points.iter().map(|point| (point.days, point.z_asimov));
+        let label = format!("{}: Asimov Z_A", plan.label);
+        marks::draw_curve(&mut chart, asimov.collect(), colour, Stroke::Dashed, label)?;
+        // Labels stack above the target line, one row per curve and plan.
+        let base = (index * rows_per_plan) as i32;
+        for row in &plan.projection.days_to_target {
+            let crossings = [
+                (row.asimov_days, Stroke::Dashed, base + 1),
+                (row.median_days, Stroke::Solid, base + 2),
+            ];
+            for (days, stroke, raise) in crossings {
+                let Some(days) = days else { continue };
+                let label = format!(
+                    "{}: {}",
+                    target_label(row.target),
+                    dated_days_label(days, plan.projection.start)
+                );
+                let point = (days, row.target);
+                marks::mark_crossing(
+                    &mut chart,
+                    canvas,
+                    point,
+                    (colour, stroke),
+                    &label,
+                    -raise * ROW,
+                )?;
+            }
+        }
+    }
+    marks::draw_legend_at(&mut chart, SeriesLabelPosition::LowerRight)
+}
+
+/// Top of the y axis: 10% above the highest curve or target, rounded up to a
+/// whole σ.
+fn significance_ceiling(comparison: &Comparison) -> f64 {
+    let highest = comparison
+        .plans
+        .iter()
+        .flat_map(|plan| plan.projection.points.iter())
+        .flat_map(|point| [point.z_asimov, point.z_median.unwrap_or(0.0)])
+        .chain(comparison.first().targets.iter().copied())
+        .fold(1.0, f64::max);
+    (1.1 * highest).ceil()
+}

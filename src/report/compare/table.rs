@@ -1,0 +1,111 @@
+//! The terminal table of a comparison: one row per plan; per target the
+//! calendar days by the Asimov dataset and by the toy median, then the days
+//! to exclusion (with limits), and the difference to the first plan in days
+//! (toy median with pseudo-experiments, else Asimov; negative: sooner).
+
+use super::Comparison;
+use crate::calendar::CalendarDate;
+use crate::report::kit::dates::dated_days_label;
+use crate::report::kit::format::{aligned, percent_label, target_label};
+
+/// The comparison table, with the shared targets and confidence level above it.
+pub fn comparison_table(comparison: &Comparison) -> String {
+    let first = comparison.first();
+    let with_toys = comparison.with_toys();
+    let mut header = vec!["plan".to_string()];
+    let mut quantities: Vec<String> = first.targets.iter().map(|&t| target_label(t)).collect();
+    if let Some(cl) = first.cl {
+        quantities.push(format!("excluded ({} CL)", percent_label(cl)));
+    }
+    for quantity in &quantities {
+        header.push(format!("{quantity} Asimov"));
+        if with_toys {
+            header.push(format!("{quantity} toy median"));
+        }
+        header.push(format!("{quantity} vs first"));
+    }
+    let reference = days_of(comparison, 0);
+    let mut rows = vec![header];
+    for (index, plan) in comparison.plans.iter().enumerate() {
+        let mut row = vec![plan.label.clone()];
+        let start = plan.projection.start;
+        for ((asimov, median), (first_asimov, first_median)) in
+            days_of(comparison, index).into_iter().zip(&reference)
+        {
+            row.push(days_cell(asimov, start));
+            if with_toys {
+                row.push(days_cell(median, start));
+            }
+            let (days, first) = if with_toys {
+                (median, *first_median)
+            } else {
+                (asimov, *first_asimov)
+            };
+            row.push(if index == 0 {
+                "—".to_string()
+            } else {
+                difference_cell(days, first)
+            });
+        }
+        rows.push(row);
+    }
+    let run = if with_toys {
+        format!("{} pseudo-experiments per point", first.toys)
+    } else {
+        "Asimov only".to_string()
+    };
+    format!("Run plans compared ({run})\n\n{}", aligned(&rows))
+}
+
+/// Per target (then exclusion, with limits) the plan's Asimov and toy median days.
+fn days_of(comparison: &Comparison, index: usize) -> Vec<(Option<f64>, Option<f64>)> {
+    let projection = &comparison.plans[index].projection;
+    let mut days: Vec<_> = projection
+        .days_to_target
+        .iter()
+        .map(|row| (row.asimov_days, row.median_days))
+        .collect();
+    if projection.cl.is_some() {
+        let exclusion = &projection.days_to_exclusion;
+        days.push((exclusion.asimov_days, exclusion.median_days));
+    }
+    days
+}
+
+/// "58 d", with its date when the plan has a start ("58 d (2027-04-28)").
+fn days_cell(days: Option<f64>, start: Option<CalendarDate>) -> String {
+    days.map_or_else(
+        || "not reached".to_string(),
+        |days| dated_days_label(days, start),
+    )
+}
+
+/// The difference in whole days, signed ("-45 d", "+12 d").
+fn difference_cell(days: Option<f64>, first: Option<f64>) -> String {
+    match (days, first) {
+        (Some(days), Some(first)) => format!("{:+} d", (days - first).round()),
+        _ => "—".to_string(),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::super::tests::two_plans;
+    use super::*;
+
+    #[test]
+    fn one_row_per_plan_with_the_difference_to_the_first() {
+        let comparison = two_plans(false);
+        let table = comparison_table(&comparison);
+        let lines: Vec<&str> = table.lines().collect();
+        assert!(lines[0].contains("Asimov only"), "{table}");
+        assert!(lines[2].starts_with("plan"), "{table}");
+        assert!(lines[3].starts_with("Now"), "{table}");
+        assert!(lines[4].starts_with("Upgrade"), "{table}");
+        let first = comparison.plans[0].projection.days_to_target[0]
+            .asimov_days
+            .unwrap();
+        let expected = format!("{:+} d", (first / 2.0 - first).round());
+        assert!(lines[4].contains(&expected), "{expected} in {table}");
+    }
+}
