@@ -212,18 +212,11 @@ fn draw_windows(area: &Canvas, scan: &BinningScan, ceiling: f64) -> Result<(), D
 mod tests {
     use super::*;
     use crate::binning::scan_binning;
-    use crate::scenario::Scenario;
+    use crate::report::projection::example;
 
     #[test]
     fn hostile_titles_and_units_give_a_well_formed_svg() {
-        let scenario = Scenario::from_yaml(
-            "title: Invented peak\n\
-             observable: {name: mass, unit: MeV, range: [0.0, 20.0], bin_width: 0.5}\n\
-             signal: {events_per_day: 5.0, shape: {gaussian: {mean: 10.0, sigma: 1.0}}}\n\
-             backgrounds:\n  - {name: flat, events_per_day: 40.0, shape: {flat: {}}}\n\
-             plan: {days: {first: 1, last: 10, points: 2, spacing: log}, toys: 1, seed: 1, targets: [3]}\n",
-        )
-        .unwrap();
+        let scenario = example::invented_peak();
         let mut scan = scan_binning(&scenario, 10.0).unwrap();
         scan.title = "<\u{3}>".to_string();
         scan.unit = "\u{1b}&".to_string();

@@ -36,19 +36,12 @@ pub(super) fn render(scan: &BinningScan) -> Result<Vec<u8>, ReportError> {
 mod tests {
     use super::*;
     use crate::binning::scan_binning;
-    use crate::scenario::Scenario;
+    use crate::report::projection::example;
     use serde_json::Value;
 
     #[test]
     fn keys_follow_the_documented_schema() {
-        let scenario = Scenario::from_yaml(
-            "title: Invented peak\n\
-             observable: {name: mass, unit: MeV, range: [0.0, 20.0], bin_width: 0.5}\n\
-             signal: {events_per_day: 5.0, shape: {gaussian: {mean: 10.0, sigma: 1.0}}}\n\
-             backgrounds:\n  - {name: flat, events_per_day: 40.0, shape: {flat: {}}}\n\
-             plan: {days: {first: 1, last: 10, points: 2, spacing: log}, toys: 1, seed: 1, targets: [3]}\n",
-        )
-        .unwrap();
+        let scenario = example::invented_peak();
         let scan = scan_binning(&scenario, 10.0).unwrap();
         let json: Value = serde_json::from_slice(&render(&scan).unwrap()).unwrap();
         let keys: Vec<&str> = json

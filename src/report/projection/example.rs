@@ -8,6 +8,20 @@ use crate::limits::expected_limit_significance;
 use crate::projection::{
     Calibration, DaysToExclusion, DaysToTarget, ExposurePoint, Projection, TargetProbability,
 };
+use crate::scenario::Scenario;
+
+/// An invented Gaussian peak on a flat background in 40 bins, the scenario
+/// behind the spectrum and binning report tests.
+pub(crate) fn invented_peak() -> Scenario {
+    Scenario::from_yaml(
+        "title: Invented peak\n\
+         observable: {name: mass, unit: MeV, range: [0.0, 20.0], bin_width: 0.5}\n\
+         signal: {events_per_day: 5.0, shape: {gaussian: {mean: 10.0, sigma: 1.0}}}\n\
+         backgrounds:\n  - {name: flat, events_per_day: 40.0, shape: {flat: {}}}\n\
+         plan: {days: {first: 1, last: 10, points: 2, spacing: log}, toys: 1, seed: 1, targets: [3]}\n",
+    )
+    .expect("the invented peak scenario is valid")
+}
 
 /// Two hand-written points and two targets. Point 1 carries no toy results and
 /// the 5σ target is never reached (Z saturates at 4.5σ), to exercise nulls.

@@ -283,18 +283,11 @@ fn observable_range(exposure: &ExposureSpectrum) -> Range<f64> {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::scenario::Scenario;
+    use crate::report::projection::example;
     use crate::spectrum::pseudo_data_spectrum;
 
     fn spectrum(days: &[f64]) -> Spectrum {
-        let scenario = Scenario::from_yaml(
-            "title: Invented peak\n\
-             observable: {name: mass, unit: MeV, range: [0.0, 20.0], bin_width: 0.5}\n\
-             signal: {events_per_day: 5.0, shape: {gaussian: {mean: 10.0, sigma: 1.0}}}\n\
-             backgrounds:\n  - {name: flat, events_per_day: 40.0, shape: {flat: {}}}\n\
-             plan: {days: {first: 1, last: 10, points: 2, spacing: log}, toys: 1, seed: 1, targets: [3]}\n",
-        )
-        .unwrap();
+        let scenario = example::invented_peak();
         pseudo_data_spectrum(&scenario, days, 11)
     }
 
