@@ -23,14 +23,6 @@ pub enum Ensemble {
 
 #[derive(Debug, Clone, PartialEq)]
 pub enum Warning {
-    /// A peaked signal whose maximum `centre` (given at `signal.shape.` and
-    /// the dotted `centre_key`, e.g. `gaussian.mean`) lies outside the range
-    /// `[low, high]`: only its tail is fitted.
-    SignalPeakOutsideRange {
-        centre_key: &'static str,
-        centre: f64,
-        range: [f64; 2],
-    },
     /// `backgrounds[background].float_shape` is set on a shape without
     /// parameters (flat, or a one-term polynomial): it has no effect.
     NothingToFloat { background: usize },

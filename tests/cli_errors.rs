@@ -393,8 +393,8 @@ fn bad_command_line_values_are_named() {
 }
 
 #[test]
-fn a_signal_peak_outside_the_range_is_only_a_warning() {
-    let scratch = Scratch::new("warning");
+fn a_signal_peak_outside_the_range_is_an_error() {
+    let scratch = Scratch::new("peak-outside");
     fs::write(
         scratch.path.join(SCENARIO),
         edited("mean: 50.0", "mean: 101.0"),
@@ -402,10 +402,10 @@ fn a_signal_peak_outside_the_range_is_only_a_warning() {
     .unwrap();
     let output = scratch.run(&["project", SCENARIO, "--out", "out", "--quiet"]);
     let stderr = String::from_utf8_lossy(&output.stderr);
-    assert!(output.status.success(), "{stderr}");
-    assert!(stderr.contains("warning"), "{stderr}");
+    assert!(!output.status.success(), "{stderr}");
+    assert_eq!(stderr.lines().count(), 1, "{stderr}");
     assert!(stderr.contains("signal.shape.gaussian.mean"), "{stderr}");
-    assert!(scratch.path.join("out").join("projection.json").is_file());
+    assert!(!scratch.path.join("out").exists());
 }
 
 #[test]

@@ -33,16 +33,7 @@ fn window(schedule: &str) -> Model {
 }
 
 fn run(model: &Model, days: &[f64]) -> Projection {
-    let settings = ProjectionSettings {
-        title: "schedule".to_string(),
-        days: days.to_vec(),
-        toys: TOYS,
-        seed: 20261202,
-        targets: vec![3.0],
-        cl: Some(0.95),
-        calibration_toys: 0,
-    };
-    project(model, &settings, &|_| {}).expect("projection")
+    project(model, &settings(days), &|_| {}).expect("projection")
 }
 
 /// Live days to reach Z_A = 3 (eq. 97, proportional to live days).
@@ -198,10 +189,7 @@ fn narrow_peak_demo_with_one_grid_point_agrees_with_asimov() {
 fn narrow_peak_demo_with_a_pause_agrees_with_asimov() {
     // The same with no beam from day 20 to 120, one grid point at day 200:
     // every day found lies after the pause.
-    let pause = Period {
-        days: 100.0,
-        rate_scale: 0.0,
-    };
+    let pause = Period::uniform(100.0, 0.0);
     let projection = demo_with_one_grid_point_agrees_with_asimov(&[pause], 200.0);
     for day in [
         projection.days_to_target[0].median_days,
@@ -270,4 +258,136 @@ fn demo_with_one_grid_point_agrees_with_asimov(periods: &[Period], day: f64) -> 
         "toy exclusion at {median} d, Asimov {asimov} d (tolerance {tolerance})"
     );
     projection
+}
+
+/// Z_A of one bin with s signal and b background events and nothing
+/// uncertain (Cowan et al., EPJC 71 (2011) 1554, eq. 97).
+fn counting_z(s: f64, b: f64) -> f64 {
+    (2.0 * ((s + b) * (s / b).ln_1p() - s)).sqrt()
+}
+
+#[test]
+fn a_background_halved_from_day_t_on_matches_a_hand_computation() {
+    // Shielding halves the background from day 40 to the end of the run
+    // (invented). By calendar day D > 40 at live fraction 0.8 the window
+    // holds s = 0.8 x 10 D and b = 0.8 x 1000 x (40 + (D - 40)/2)
+    // (live-time-weighted expectations, common practice), and Z_A is eq. 97
+    // at those counts.
+    let model =
+        window("{live_fraction: 0.8, periods: [{days: 40}, {background_scale: {flat: 0.5}}]}");
+    let by_hand = |day: f64| {
+        let halved = (day - 40.0).max(0.0);
+        (
+            0.8 * SIGNAL * day,
+            0.8 * BACKGROUND * (day.min(40.0) + 0.5 * halved),
+        )
+    };
+    let grid = [20.0, 100.0, 400.0];
+    let mut settings = settings(&grid);
+    settings.toys = 0;
+    let projection = project(&model, &settings, &|_| {}).expect("projection");
+    for point in &projection.points {
+        let (s, b) = by_hand(point.days);
+        assert!((point.live_days - 0.8 * point.days).abs() < 1e-9);
+        assert!(
+            (point.signal - s).abs() < 1e-9 * s,
+            "{} vs {s}",
+            point.signal
+        );
+        assert!(
+            (point.background - b).abs() < 1e-9 * b,
+            "{} vs {b}",
+            point.background
+        );
+        let z = counting_z(s, b);
+        // The fit converges far below 1e-6 of Z_A (see the roots test above).
+        assert!(
+            (point.z_asimov / z - 1.0).abs() < 1e-6,
+            "{} vs {z}",
+            point.z_asimov
+        );
+    }
+    // The day Z_A reaches 3, solved by bisection on the hand counts: the
+    // root-found Asimov day agrees to the promised 1e-6.
+    let (mut low, mut high) = (grid[0], grid[2]);
+    while high - low > 1e-9 * high {
+        let middle = 0.5 * (low + high);
+        let (s, b) = by_hand(middle);
+        if counting_z(s, b) < 3.0 {
+            low = middle;
+        } else {
+            high = middle;
+        }
+    }
+    let found = projection.days_to_target[0].asimov_days.expect("3 sigma");
+    assert!(found > 40.0, "the halving must matter: {found} d");
+    assert!((found / high - 1.0).abs() < 1e-6, "{found} d vs {high} d");
+}
+
+#[test]
+fn a_signal_efficiency_change_mid_run_moves_the_toy_days_with_it() {
+    // The signal efficiency drops to 0.25 from day 20 to day 60, full rate
+    // before and after (invented). The toy median and 50% days agree with
+    // the hand-computed Asimov day within the toy statistics, also though the
+    // crossing is interpolated in live days across the change.
+    let model = window("{periods: [{days: 20}, {days: 40, signal_scale: 0.25}]}");
+    let by_hand = |day: f64| {
+        let efficiency_days =
+            day.min(20.0) + 0.25 * (day.min(60.0) - 20.0).max(0.0) + (day - 60.0).max(0.0);
+        (SIGNAL * efficiency_days, BACKGROUND * day)
+    };
+    // Z_A dips while the efficiency is low (1.30 at day 30, 1.22 at day 60)
+    // and passes 3 near day 145; grid points at 140 and 160 bracket it.
+    let projection = run(&model, &[30.0, 140.0, 160.0]);
+    let (mut low, mut high) = (30.0, 160.0);
+    while high - low > 1e-9 * high {
+        let middle = 0.5 * (low + high);
+        let (s, b) = by_hand(middle);
+        if counting_z(s, b) < 3.0 {
+            low = middle;
+        } else {
+            high = middle;
+        }
+    }
+    let row = &projection.days_to_target[0];
+    let asimov = row.asimov_days.expect("Asimov 3 sigma");
+    assert!((asimov / high - 1.0).abs() < 1e-6, "{asimov} d vs {high} d");
+    let median = row.median_days.expect("toy 3 sigma");
+    let tolerance = toy_tolerance(high, projection.points[1].z_median.unwrap());
+    assert!(
+        (median - high).abs() < tolerance,
+        "toy median at {median} d, hand {high} d (tolerance {tolerance})"
+    );
+    let half = row.p50_days.expect("50% of toys reach 3 sigma");
+    assert!(
+        (half - high).abs() < tolerance,
+        "50% of toys at {half} d, hand {high} d (tolerance {tolerance})"
+    );
+}
+
+#[test]
+fn factors_all_one_give_the_very_same_projection_as_no_schedule() {
+    // Periods whose rate, signal and background factors are all 1 change
+    // nothing: every number of the projection, toys included, bit for bit.
+    let plain = window("{}");
+    let neutral = window(
+        "{periods: [{days: 12.3, rate_scale: 1, signal_scale: 1, background_scale: {flat: 1}}, {days: 7, rate_scale: 1}]}",
+    );
+    let mut settings = settings(&[5.0, 17.5, 60.0]);
+    settings.toys = 200;
+    let one = project(&plain, &settings, &|_| {}).expect("projection");
+    let other = project(&neutral, &settings, &|_| {}).expect("projection");
+    assert_eq!(format!("{one:?}"), format!("{other:?}"));
+}
+
+fn settings(days: &[f64]) -> ProjectionSettings {
+    ProjectionSettings {
+        title: "schedule".to_string(),
+        days: days.to_vec(),
+        toys: TOYS,
+        seed: 20261202,
+        targets: vec![3.0],
+        cl: Some(0.95),
+        calibration_toys: 0,
+    }
 }

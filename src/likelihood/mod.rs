@@ -22,7 +22,7 @@ pub use fit::{FitFailure, Fitter};
 pub use test_statistic::{DiscoveryFit, DiscoveryTest, q0_from_fits};
 pub use upper_limit::{UpperLimitTest, q_tilde_from_fits};
 
-use crate::model::{Constraint, Model, ShapeParameters};
+use crate::model::{Component, Constraint, Model, ShapeParameters};
 use linear::{add_scaled, dot, weighted_dot};
 use std::ops::Range;
 
@@ -32,7 +32,7 @@ struct Term<'m> {
     /// First bin of the term's channel in the concatenated bin vector.
     offset: usize,
     bins: usize,
-    events_per_live_day: f64,
+    component: &'m Component,
     yield_parameters: &'m [usize],
     shape: &'m dyn crate::shapes::Shape,
     edges: &'m [f64],
@@ -114,7 +114,7 @@ impl<'m> Likelihood<'m> {
                 terms.push(Term {
                     offset,
                     bins,
-                    events_per_live_day: component.events_per_live_day,
+                    component,
                     yield_parameters: &component.yield_parameters,
                     shape: component.shape.as_ref(),
                     edges: &channel.edges,
@@ -413,7 +413,7 @@ impl<'m> Likelihood<'m> {
             work.expected_gradient[a * bins..][column.clone()].fill(0.0);
         }
         for (index, term) in self.terms.iter().enumerate() {
-            let base = term.events_per_live_day * live_days;
+            let base = term.component.events(live_days);
             let yield_ = base * product_except(theta, term.yield_parameters, usize::MAX);
             let fractions = &work.fractions[index];
             let range = term.offset..term.offset + term.bins;
@@ -496,7 +496,7 @@ impl<'m> Likelihood<'m> {
                 continue;
             }
             let weighted_fraction = dot(weights, &work.fractions[index]);
-            let base = term.events_per_live_day * live_days;
+            let base = term.component.events(live_days);
             for (i, &a) in term.yield_parameters.iter().enumerate() {
                 for &b in &term.yield_parameters[..i] {
                     let mixed = base * product_except_two(theta, term.yield_parameters, a, b);
@@ -546,9 +546,10 @@ impl<'m> Likelihood<'m> {
                 Constraint::ControlRegion {
                     parameter,
                     events_per_live_day,
+                    ref exposure,
                 } => {
                     // a = theta A: d/dtheta = (1 - m/a) A, d2/dtheta2 = (m/a^2) A^2.
-                    let scale = events_per_live_day * live_days;
+                    let scale = events_per_live_day * exposure.at(live_days);
                     let expected = theta[parameter] * scale;
                     let (weight, curvature) = poisson_weights(observed, expected);
                     work.gradient[parameter] += weight * scale;
@@ -561,9 +562,7 @@ impl<'m> Likelihood<'m> {
 
 impl Term<'_> {
     fn yield_at(&self, theta: &[f64], live_days: f64) -> f64 {
-        self.events_per_live_day
-            * live_days
-            * product_except(theta, self.yield_parameters, usize::MAX)
+        self.component.events(live_days) * product_except(theta, self.yield_parameters, usize::MAX)
     }
 }
 

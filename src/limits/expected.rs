@@ -166,7 +166,7 @@ impl CountingWindow {
             standard_nodes: Vec::new(),
         };
         for component in &channel.components {
-            let events = component.events_per_live_day * live_days;
+            let events = component.events(live_days);
             let factor = component
                 .yield_parameters
                 .iter()

@@ -11,10 +11,12 @@ impl Model {
     /// yield factor, one factor per background whose normalisation is uncertain,
     /// and the parameters of every background shape marked `float_shape`.
     pub fn from_scenario(scenario: &Scenario) -> Model {
+        let live_time = LiveTime::from_schedule(&scenario.schedule);
         let mut builder = Builder {
             parameters: Vec::new(),
             constraints: Vec::new(),
             range: scenario.observable.range,
+            live_time: &live_time,
         };
         builder.parameters.push(Parameter {
             name: "signal_strength".into(),
@@ -42,7 +44,7 @@ impl Model {
                 components,
             }],
             constraints: builder.constraints,
-            live_time: LiveTime::from_schedule(&scenario.schedule),
+            live_time,
         }
     }
 }
@@ -61,14 +63,16 @@ pub fn bin_edges(range: [f64; 2], width: f64) -> Vec<f64> {
         .collect()
 }
 
-struct Builder {
+struct Builder<'s> {
     parameters: Vec<Parameter>,
     constraints: Vec<Constraint>,
     /// The observable's range, on which every shape is normalised.
     range: [f64; 2],
+    /// The schedule, from which each component's exposure comes.
+    live_time: &'s LiveTime,
 }
 
-impl Builder {
+impl Builder<'_> {
     fn add_parameter(&mut self, name: String, nominal: f64, lower: f64) -> usize {
         self.parameters.push(Parameter {
             name,
@@ -99,6 +103,7 @@ impl Builder {
             name: "signal".into(),
             is_signal: true,
             events_per_live_day: signal.events_per_day,
+            exposure: self.live_time.exposure(|period| period.signal_scale),
             shape_parameters: ShapeParameters::Fixed(shape.nominal_parameters()),
             shape,
             yield_parameters,
@@ -107,21 +112,27 @@ impl Builder {
 
     fn background_component(&mut self, background: &Background) -> Component {
         let factor_name = format!("{}.norm_factor", background.name);
-        let yield_parameters = match (background.norm_uncertainty, background.control) {
-            (_, Some(control)) => {
-                let parameter = self.yield_factor(factor_name, None);
-                self.constraints.push(Constraint::ControlRegion {
-                    parameter,
-                    events_per_live_day: control.ratio * background.events_per_day,
-                });
-                vec![parameter]
-            }
-            (None, None) => Vec::new(),
-            (Some(NormUncertainty::Relative(width)), None) => {
-                vec![self.yield_factor(factor_name, Some(width))]
-            }
-            (Some(NormUncertainty::Free), None) => vec![self.yield_factor(factor_name, None)],
+        let exposure = self
+            .live_time
+            .exposure(|period| period.background_factor(&background.name));
+        let width = match background.norm_uncertainty {
+            Some(NormUncertainty::Relative(width)) => Some(width),
+            Some(NormUncertainty::Free) | None => None,
         };
+        let yield_parameters =
+            if background.norm_uncertainty.is_none() && background.control.is_none() {
+                Vec::new()
+            } else {
+                let parameter = self.yield_factor(factor_name, width);
+                if let Some(control) = background.control {
+                    self.constraints.push(Constraint::ControlRegion {
+                        parameter,
+                        events_per_live_day: control.ratio * background.events_per_day,
+                        exposure: exposure.clone(),
+                    });
+                }
+                vec![parameter]
+            };
         let shape = shape_from_spec(&background.shape, self.range);
         let shape_parameters = if background.float_shape {
             let names = shape.parameter_names();
@@ -141,6 +152,7 @@ impl Builder {
             name: background.name.clone(),
             is_signal: false,
             events_per_live_day: background.events_per_day,
+            exposure,
             shape,
             yield_parameters,
             shape_parameters,

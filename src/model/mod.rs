@@ -4,16 +4,18 @@
 //! components) sharing one parameter vector. Parameter 0 is always the signal
 //! strength mu. Each component contributes
 //!
-//!   nu_j = (product of its yield parameters) x events_per_live_day x live_days x f_j(shape parameters)
+//!   nu_j = (product of its yield parameters) x events_per_live_day x E(live_days) x f_j(shape parameters)
 //!
-//! to bin j of its channel, where f_j is the shape's exact bin fraction. Constraint
+//! to bin j of its channel, where f_j is the shape's exact bin fraction and
+//! E the component's exposure (its live days weighted by the schedule's
+//! factors on it; E(L) = L when no period scales it). Constraint
 //! terms tie nuisance parameters to auxiliary measurements (global observables).
 
 mod build;
 mod schedule;
 
 pub use build::{bin_edges, fraction_inside, shape_from_spec};
-pub use schedule::LiveTime;
+pub use schedule::{Exposure, LiveTime};
 
 use crate::shapes::Shape;
 
@@ -44,10 +46,20 @@ pub struct Component {
     pub is_signal: bool,
     /// Expected events per live day over the channel's range at unit yield parameters.
     pub events_per_live_day: f64,
+    /// Its exposure as a function of live days, from the schedule.
+    pub exposure: Exposure,
     pub shape: Box<dyn Shape>,
     /// Parameters whose product multiplies the yield (mu and a signal factor, or a background factor).
     pub yield_parameters: Vec<usize>,
     pub shape_parameters: ShapeParameters,
+}
+
+impl Component {
+    /// Expected events after `live_days` at unit yield parameters:
+    /// events_per_live_day x E(live_days).
+    pub fn events(&self, live_days: f64) -> f64 {
+        self.events_per_live_day * self.exposure.at(live_days)
+    }
 }
 
 /// A binned observable with its components.
@@ -65,13 +77,15 @@ pub struct Channel {
 pub enum Constraint {
     /// Gaussian auxiliary measurement g ~ N(theta, width): -ln L = (theta - g)^2 / (2 width^2).
     Gaussian { parameter: usize, width: f64 },
-    /// Signal-free control-region count m ~ Poisson(theta x events_per_live_day x live days),
-    /// where events_per_live_day is the ratio times the background's nominal rate:
+    /// Signal-free control-region count m ~ Poisson(theta x events_per_live_day x E(live days)),
+    /// where events_per_live_day is the ratio times the background's nominal
+    /// rate and E the background's exposure (the schedule scales both alike):
     /// the on/off measurement of Li and Ma, Astrophys. J. 272 (1983) 317, and of
     /// Cowan et al., Eur. Phys. J. C 71 (2011) 1554, sec. 4.
     ControlRegion {
         parameter: usize,
         events_per_live_day: f64,
+        exposure: Exposure,
     },
 }
 
@@ -86,12 +100,13 @@ impl Constraint {
 
     /// The global observable's expected value at parameter value `theta_p` after `live_days`.
     pub fn expected_global_observable(&self, theta_p: f64, live_days: f64) -> f64 {
-        match *self {
+        match self {
             Constraint::Gaussian { .. } => theta_p,
             Constraint::ControlRegion {
                 events_per_live_day,
+                exposure,
                 ..
-            } => theta_p * events_per_live_day * live_days,
+            } => theta_p * events_per_live_day * exposure.at(live_days),
         }
     }
 }
@@ -111,8 +126,21 @@ impl Model {
         self.parameters.iter().map(|p| p.nominal).collect()
     }
 
-    /// Expected events per live day at nominal parameters, split into (signal, background).
+    /// Expected events per live day at nominal parameters outside any
+    /// period, split into (signal, background).
     pub fn nominal_rates(&self) -> (f64, f64) {
+        self.nominal_split(|component| component.events_per_live_day)
+    }
+
+    /// Expected events after `live_days` at nominal parameters, each
+    /// component through its exposure, split into (signal, background).
+    pub fn nominal_events(&self, live_days: f64) -> (f64, f64) {
+        self.nominal_split(|component| component.events(live_days))
+    }
+
+    /// The sums over signal and over background components of `events`, each
+    /// times the component's nominal yield factors.
+    fn nominal_split(&self, events: impl Fn(&Component) -> f64) -> (f64, f64) {
         let nominal = self.nominal_parameters();
         let mut signal = 0.0;
         let mut background = 0.0;
@@ -122,7 +150,7 @@ impl Model {
                 .iter()
                 .map(|&p| nominal[p])
                 .product();
-            let rate = factor * component.events_per_live_day;
+            let rate = factor * events(component);
             if component.is_signal {
                 signal += rate;
             } else {

@@ -1,43 +1,96 @@
-//! Live time: calendar days to live days through the data-taking schedule.
+//! Live time: calendar days to live days through the data-taking schedule,
+//! and each component's exposure as a function of live days.
 
 use crate::calendar::CalendarDate;
-use crate::scenario::Schedule;
+use crate::scenario::{Period, Schedule};
 
 /// Converts calendar days into live days.
 ///
 /// Live days at calendar day T = live_fraction x integral over [0, T] of the rate
-/// scale, which is `rate_scale` during each of the leading periods and 1 after
-/// them, and 0 during each break. A break from date F to date G (both
-/// included) covers calendar days [F - start, G - start + 1), day 0 being the
-/// start date.
+/// scale, which is `rate_scale` during each period and 1 after them (or the
+/// last period's to the end of the run when it has no `days`), and 0 during
+/// each break. A break from date F to date G (both included) covers calendar
+/// days [F - start, G - start + 1), day 0 being the start date.
+///
+/// Live days measure the detector's time taking data; a period's factors on
+/// the signal or on single backgrounds do not change them, but each
+/// component's [`Exposure`].
 #[derive(Debug, Clone, PartialEq)]
 pub struct LiveTime {
     /// The date of calendar day 0, when the schedule gives one.
     start: Option<CalendarDate>,
     live_fraction: f64,
-    /// (length in calendar days, rate scale) of consecutive stretches from
-    /// day 0, in order: the periods split where breaks cut them, then the
-    /// breaks after the periods; the rate scale is 1 after the last.
-    periods: Vec<(f64, f64)>,
+    /// Consecutive stretches from day 0, in order: the periods split where
+    /// breaks cut them, then the breaks after the periods; the rate scale is
+    /// 1 after the last. Trailing stretches that change nothing are dropped,
+    /// so a schedule of neutral periods is the same as none.
+    stretches: Vec<Stretch>,
+}
+
+/// A stretch of calendar days at one rate scale, with the schedule period it
+/// belongs to (none for a break after the periods).
+#[derive(Debug, Clone, PartialEq)]
+struct Stretch {
+    days: f64,
+    rate_scale: f64,
+    period: Option<Period>,
+}
+
+/// A component's exposure E (its rate-weighted live days) after L live days:
+/// E(L) = live_fraction x integral over [0, T(L)] of rate_scale x factor dt,
+/// where factor is the component's own factor of each period (1 outside
+/// them). Piecewise linear and non-decreasing in L, and E(L) = L exactly when
+/// every factor of the component is 1.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct Exposure {
+    /// (live days, factor) of consecutive stretches of live time; factor 1
+    /// after the last. Empty for a component no period scales.
+    segments: Vec<(f64, f64)>,
+}
+
+impl Exposure {
+    /// The exposure after `live_days` live days.
+    pub fn at(&self, live_days: f64) -> f64 {
+        if self.segments.is_empty() {
+            return live_days;
+        }
+        let mut remaining = live_days;
+        let mut exposure = 0.0;
+        for &(length, factor) in &self.segments {
+            let inside = remaining.min(length);
+            exposure += inside * factor;
+            remaining -= inside;
+            if remaining <= 0.0 {
+                return exposure;
+            }
+        }
+        exposure + remaining
+    }
 }
 
 impl LiveTime {
     pub fn from_schedule(schedule: &Schedule) -> LiveTime {
         let breaks = break_days(schedule);
-        let mut periods = Vec::new();
+        let mut stretches = Vec::new();
         let mut begin = 0.0;
         for period in &schedule.periods {
-            split_by_breaks(begin, period.days, period.rate_scale, &breaks, &mut periods);
-            begin += period.days;
+            let days = period.days.unwrap_or(f64::INFINITY);
+            split_by_breaks(begin, days, Some(period), &breaks, &mut stretches);
+            begin += days;
         }
         let last_break_end = breaks.last().map_or(begin, |&(_, end)| end);
         if last_break_end > begin {
-            split_by_breaks(begin, last_break_end - begin, 1.0, &breaks, &mut periods);
+            split_by_breaks(begin, last_break_end - begin, None, &breaks, &mut stretches);
+        }
+        while stretches.last().is_some_and(|stretch: &Stretch| {
+            stretch.rate_scale == 1.0 && stretch.period.as_ref().is_none_or(Period::is_neutral)
+        }) {
+            stretches.pop();
         }
         LiveTime {
             start: schedule.start_date(),
             live_fraction: schedule.live_fraction,
-            periods,
+            stretches,
         }
     }
 
@@ -50,9 +103,9 @@ impl LiveTime {
     pub fn live_days(&self, days: f64) -> f64 {
         let mut remaining = days;
         let mut scaled_days = 0.0;
-        for &(length, scale) in &self.periods {
-            let inside = remaining.min(length);
-            scaled_days += inside * scale;
+        for stretch in &self.stretches {
+            let inside = remaining.min(stretch.days);
+            scaled_days += inside * stretch.rate_scale;
             remaining -= inside;
             if remaining <= 0.0 {
                 return self.live_fraction * scaled_days;
@@ -71,19 +124,51 @@ impl LiveTime {
     pub fn calendar_days(&self, live_days: f64) -> f64 {
         let mut remaining = live_days / self.live_fraction;
         let mut start = 0.0;
-        for &(length, scale) in &self.periods {
-            let accrued = length * scale;
+        for stretch in &self.stretches {
+            let accrued = stretch.days * stretch.rate_scale;
             if remaining <= accrued {
                 return if remaining > 0.0 {
-                    start + remaining / scale
+                    start + remaining / stretch.rate_scale
                 } else {
                     start
                 };
             }
             remaining -= accrued;
-            start += length;
+            start += stretch.days;
         }
         start + remaining
+    }
+
+    /// The exposure of a component whose factor in each period is
+    /// `factor(period)`: stretches without live time are left out (no
+    /// component accrues anything there), trailing factors of 1 dropped.
+    pub fn exposure(&self, factor: impl Fn(&Period) -> f64) -> Exposure {
+        let mut segments: Vec<(f64, f64)> = self
+            .stretches
+            .iter()
+            .filter(|stretch| stretch.rate_scale > 0.0)
+            .map(|stretch| {
+                (
+                    self.live_fraction * stretch.days * stretch.rate_scale,
+                    stretch.period.as_ref().map_or(1.0, &factor),
+                )
+            })
+            .collect();
+        while segments.last().is_some_and(|&(_, factor)| factor == 1.0) {
+            segments.pop();
+        }
+        Exposure { segments }
+    }
+
+    /// The stretches of the schedule as (first calendar day, last calendar
+    /// day, rate scale, period), for timelines and figures; the last may end
+    /// at infinity.
+    pub fn stretches(&self) -> impl Iterator<Item = (f64, f64, f64, Option<&Period>)> {
+        self.stretches.iter().scan(0.0, |begin, stretch| {
+            let from = *begin;
+            *begin += stretch.days;
+            Some((from, *begin, stretch.rate_scale, stretch.period.as_ref()))
+        })
     }
 }
 
@@ -107,16 +192,23 @@ fn break_days(schedule: &Schedule) -> Vec<(f64, f64)> {
     days
 }
 
-/// Appends the stretch [begin, begin + length) at `scale` to `periods`, with
-/// the parts inside `breaks` at scale 0. A stretch no break touches is
-/// appended as it is, so a schedule without breaks keeps its exact lengths.
+/// Appends the stretch [begin, begin + length) of `period` (none for the
+/// time after the periods, at rate 1) to `stretches`, with the parts inside
+/// `breaks` at rate 0. A stretch no break touches is appended as it is, so a
+/// schedule without breaks keeps its exact lengths.
 fn split_by_breaks(
     begin: f64,
     length: f64,
-    scale: f64,
+    period: Option<&Period>,
     breaks: &[(f64, f64)],
-    periods: &mut Vec<(f64, f64)>,
+    stretches: &mut Vec<Stretch>,
 ) {
+    let rate_scale = period.map_or(1.0, |period| period.rate_scale);
+    let stretch = |days: f64, rate_scale: f64| Stretch {
+        days,
+        rate_scale,
+        period: period.cloned(),
+    };
     let end = begin + length;
     let mut at = begin;
     for &(from, to) in breaks
@@ -124,16 +216,16 @@ fn split_by_breaks(
         .filter(|&&(from, to)| from < end && to > begin)
     {
         if from > at {
-            periods.push((from - at, scale));
+            stretches.push(stretch(from - at, rate_scale));
         }
         let pause_end = to.min(end);
-        periods.push((pause_end - from.max(at), 0.0));
+        stretches.push(stretch(pause_end - from.max(at), 0.0));
         at = pause_end;
     }
     if at == begin {
-        periods.push((length, scale));
+        stretches.push(stretch(length, rate_scale));
     } else if end > at {
-        periods.push((end - at, scale));
+        stretches.push(stretch(end - at, rate_scale));
     }
 }
 
@@ -147,7 +239,7 @@ mod tests {
             live_fraction,
             periods: periods
                 .iter()
-                .map(|&(days, rate_scale)| Period { days, rate_scale })
+                .map(|&(days, rate_scale)| Period::uniform(days, rate_scale))
                 .collect(),
             ..Schedule::default()
         })
@@ -159,7 +251,7 @@ mod tests {
             live_fraction: 1.0,
             periods: periods
                 .iter()
-                .map(|&(days, rate_scale)| Period { days, rate_scale })
+                .map(|&(days, rate_scale)| Period::uniform(days, rate_scale))
                 .collect(),
             start: Some(start.to_string()),
             breaks: breaks
@@ -277,5 +369,88 @@ mod tests {
         let late = schedule(1.0, &[(10.0, 0.0)]);
         assert_eq!(late.calendar_days(0.0), 0.0);
         assert!((late.calendar_days(1.0) - 11.0).abs() < 1e-12);
+    }
+
+    /// A schedule of `periods` given as YAML flow text, e.g.
+    /// `[{days: 10, background_scale: {flat: 0.5}}]`.
+    fn from_periods(live_fraction: f64, periods: &str) -> LiveTime {
+        LiveTime::from_schedule(&Schedule {
+            live_fraction,
+            periods: serde_yaml::from_str(periods).expect("periods"),
+            ..Schedule::default()
+        })
+    }
+
+    #[test]
+    fn a_background_halved_from_day_t_on_has_a_hand_counted_exposure() {
+        // Hand count (a day of data per calendar day at its factors; common
+        // practice): live fraction 0.8, full rates for 120 days, then the
+        // background named `continuum` at half rate to the end of the run.
+        // At day 200: live days 0.8 x 200 = 160; continuum exposure
+        // 0.8 x (120 + 0.5 x 80) = 128; the signal and other backgrounds 160.
+        let live = from_periods(0.8, "[{days: 120}, {background_scale: {continuum: 0.5}}]");
+        let continuum = live.exposure(|period| period.background_factor("continuum"));
+        let other = live.exposure(|period| period.background_factor("radon"));
+        let signal = live.exposure(|period| period.signal_scale);
+        let live_days = live.live_days(200.0);
+        assert!((live_days - 160.0).abs() < 1e-12);
+        assert!((continuum.at(live_days) - 128.0).abs() < 1e-12);
+        assert_eq!(other.at(live_days), live_days);
+        assert_eq!(signal.at(live_days), live_days);
+        // Before day 120 nothing differs.
+        assert_eq!(continuum.at(live.live_days(50.0)), live.live_days(50.0));
+    }
+
+    #[test]
+    fn a_period_in_the_middle_of_the_run_scales_only_its_days() {
+        // Full rate to day 30, then 20 days at rate 0.5 with the signal
+        // efficiency at 0.4 of nominal, then full rate again (invented):
+        // by day 80 the live days are 30 + 0.5 x 20 + 30 = 70 and the signal
+        // exposure 30 + 0.4 x 0.5 x 20 + 30 = 64.
+        let live = from_periods(
+            1.0,
+            "[{days: 30}, {days: 20, rate_scale: 0.5, signal_scale: 0.4}]",
+        );
+        let signal = live.exposure(|period| period.signal_scale);
+        assert!((live.live_days(80.0) - 70.0).abs() < 1e-12);
+        assert!((signal.at(live.live_days(80.0)) - 64.0).abs() < 1e-12);
+        // Day 40: 35 live days, signal exposure 30 + 0.4 x 5 = 32.
+        assert!((signal.at(live.live_days(40.0)) - 32.0).abs() < 1e-12);
+        assert!((live.calendar_days(70.0) - 80.0).abs() < 1e-12);
+    }
+
+    #[test]
+    fn factors_inside_a_break_accrue_nothing() {
+        // Start 2027-03-01, the background doubled for 10 days, a break on
+        // days [3, 5): its exposure by day 12 is 2 x (3 + 5) + 2 = 18, the
+        // live time 3 + 5 + 2 = 10.
+        let live = LiveTime::from_schedule(&Schedule {
+            live_fraction: 1.0,
+            periods: serde_yaml::from_str("[{days: 10, background_scale: {b: 2}}]").unwrap(),
+            start: Some("2027-03-01".to_string()),
+            breaks: vec![Break {
+                from: "2027-03-04".to_string(),
+                to: "2027-03-05".to_string(),
+            }],
+        });
+        let background = live.exposure(|period| period.background_factor("b"));
+        assert!((live.live_days(12.0) - 10.0).abs() < 1e-12);
+        assert!((background.at(live.live_days(12.0)) - 18.0).abs() < 1e-12);
+    }
+
+    #[test]
+    fn neutral_periods_are_no_schedule_at_all() {
+        // Periods whose factors are all 1 give the very same live time and
+        // exposures, bit for bit, as no periods.
+        let neutral = from_periods(
+            0.7,
+            "[{days: 30.3, rate_scale: 1, signal_scale: 1, background_scale: {b: 1}}, {days: 0.1}]",
+        );
+        assert_eq!(neutral, schedule(0.7, &[]));
+        let exposure = neutral.exposure(|period| period.background_factor("b"));
+        for days in [0.3, 30.3, 30.4, 1e5 / 3.0] {
+            let live_days = neutral.live_days(days);
+            assert_eq!(exposure.at(live_days).to_bits(), live_days.to_bits());
+        }
     }
 }

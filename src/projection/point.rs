@@ -20,8 +20,6 @@ pub const BAND_QUANTILES: [f64; 4] = [0.02275, 0.158655, 0.841345, 0.97725];
 pub(super) struct PointRunner<'a, 'l, 'm> {
     likelihood: &'l Likelihood<'m>,
     settings: &'a ProjectionSettings,
-    /// Expected (signal, background) events per live day.
-    rates: (f64, f64),
 }
 
 impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
@@ -29,7 +27,6 @@ impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
         PointRunner {
             likelihood,
             settings,
-            rates: likelihood.model().nominal_rates(),
         }
     }
 
@@ -126,11 +123,12 @@ impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
                 asimov: probability_to_reach(z_asimov, target),
             })
             .collect();
+        let (signal, background) = self.likelihood.model().nominal_events(live_days);
         ExposurePoint {
             days,
             live_days,
-            signal: self.rates.0 * live_days,
-            background: self.rates.1 * live_days,
+            signal,
+            background,
             z_asimov,
             z_asimov_band: significance_band(z_asimov),
             z_median: sorted.as_ref().map(|z| quantile(z, 0.5)),

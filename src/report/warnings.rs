@@ -11,16 +11,6 @@ use crate::warning::{FAILED_FRACTION_WARNING, Warning};
 /// One line, without the "warning: " prefix the caller adds.
 pub fn warning_text(warning: &Warning) -> String {
     match *warning {
-        Warning::SignalPeakOutsideRange {
-            centre_key,
-            centre,
-            range: [low, high],
-        } => format!(
-            "signal.shape.{centre_key}: the signal peak at {} lies outside the range [{}, {}]; only its tail is fitted",
-            show(centre),
-            show(low),
-            show(high)
-        ),
         Warning::NothingToFloat { background } => format!(
             "backgrounds[{background}].float_shape: this shape has no parameters to float; the setting has no effect"
         ),
@@ -102,15 +92,6 @@ mod tests {
 
     #[test]
     fn scenario_warnings_name_the_field() {
-        let outside = Warning::SignalPeakOutsideRange {
-            centre_key: "gaussian.mean",
-            centre: 120.0,
-            range: [0.0, 100.0],
-        };
-        assert_eq!(
-            warning_text(&outside),
-            "signal.shape.gaussian.mean: the signal peak at 120 lies outside the range [0, 100]; only its tail is fitted"
-        );
         assert!(
             warning_text(&Warning::NothingToFloat { background: 1 })
                 .starts_with("backgrounds[1].float_shape: ")

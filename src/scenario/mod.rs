@@ -17,6 +17,7 @@ use crate::calendar::CalendarDate;
 use crate::shapes::{ParameterValue, Placement, Shape, ShapeError, ShapeKind};
 use crate::warning::Warning;
 use serde::Deserialize;
+use std::collections::BTreeMap;
 use std::io::Read;
 use std::path::Path;
 
@@ -116,8 +117,9 @@ impl ShapeSpec {
     }
 }
 
-/// When data are taken: a live fraction, optional reduced-rate periods at the
-/// start, and optionally the date of the first day and planned breaks.
+/// When data are taken: a live fraction, optional periods with their own
+/// rates anywhere in the run, and optionally the date of the first day and
+/// planned breaks.
 #[derive(Debug, Clone, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct Schedule {
@@ -149,12 +151,50 @@ fn one() -> f64 {
     1.0
 }
 
-/// A calendar period during which all rates are scaled by `rate_scale`.
-#[derive(Debug, Clone, Deserialize)]
+/// A stretch of calendar days with its own rates: every rate is multiplied by
+/// `rate_scale` (the detector's live time accrues at that rate), and on top of
+/// it the signal by `signal_scale` (an efficiency change) and each background
+/// named in `background_scale` by its factor (shielding added, a source
+/// removed). Periods follow one another from day 0; after the last one every
+/// factor is 1, unless the last one has no `days` and lasts to the end of the run.
+#[derive(Debug, Clone, PartialEq, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct Period {
-    pub days: f64,
+    /// Length in calendar days; absent only on the last period.
+    #[serde(default)]
+    pub days: Option<f64>,
+    #[serde(default = "one")]
     pub rate_scale: f64,
+    #[serde(default = "one")]
+    pub signal_scale: f64,
+    /// Factors on backgrounds by name; a background not named keeps factor 1.
+    #[serde(default)]
+    pub background_scale: BTreeMap<String, f64>,
+}
+
+impl Period {
+    /// A period of `days` calendar days with every rate scaled by `rate_scale`.
+    pub fn uniform(days: f64, rate_scale: f64) -> Period {
+        Period {
+            days: Some(days),
+            rate_scale,
+            signal_scale: 1.0,
+            background_scale: BTreeMap::new(),
+        }
+    }
+
+    /// The factor on the background named `name` (1 when not named).
+    pub fn background_factor(&self, name: &str) -> f64 {
+        self.background_scale.get(name).copied().unwrap_or(1.0)
+    }
+
+    /// True when the period changes no rate (every factor 1), so it is the
+    /// same as no period at all.
+    pub fn is_neutral(&self) -> bool {
+        self.rate_scale == 1.0
+            && self.signal_scale == 1.0
+            && self.background_scale.values().all(|&factor| factor == 1.0)
+    }
 }
 
 /// A planned break in data-taking from `from` to `to`, both days included.

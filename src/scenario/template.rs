@@ -96,12 +96,18 @@ backgrounds:
 schedule:
   # Optional, default 1. Fraction of calendar time spent recording data, in (0, 1].
   live_fraction: 0.85
-  # Optional, default none. Consecutive periods at the start of the run during which
-  # ALL rates (signal and backgrounds) are multiplied by rate_scale (0 or more);
-  # `days` is the length of each period in calendar days. Nominal rates after the last.
+  # Optional, default none. Consecutive periods from day 0, anywhere in the run;
+  # `days` is each period's length in calendar days. In a period ALL rates (signal
+  # and backgrounds) are multiplied by rate_scale (default 1; it sets the live
+  # time), the signal alone also by signal_scale (default 1, e.g. an efficiency
+  # change) and each background named in background_scale by its factor (the
+  # others keep 1). All factors are 0 or more. Nominal rates after the last
+  # period, unless the last has no `days`: it then lasts to the end of the run.
   periods:
     - {days: 14, rate_scale: 0.3}    # e.g. commissioning
     - {days: 30, rate_scale: 0.7}    # e.g. reduced intensity
+    - {days: 76}                     # nominal rates until day 120
+    - {background_scale: {smooth continuum: 0.5}}   # e.g. shielding from day 120 on
   # Optional. ISO 8601 date of day 0: every day in the outputs then also shows
   # its date. Breaks (they need start) are date ranges without data, both ends
   # included; live days skip them.

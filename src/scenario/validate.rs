@@ -40,34 +40,41 @@ pub(super) fn validate(scenario: &Scenario) -> Checked {
     validate_signal(&scenario.signal, range)?;
     validate_backgrounds(&scenario.backgrounds, range)?;
     refuse_free_background_in_one_bin(scenario)?;
-    validate_schedule(&scenario.schedule)?;
+    validate_schedule(&scenario.schedule, &scenario.backgrounds)?;
     validate_plan(&scenario.plan)
 }
 
 /// Remarks about a valid scenario that are probably, but not surely, mistakes.
 pub(super) fn warnings(scenario: &Scenario) -> Vec<Warning> {
-    let mut remarks: Vec<Warning> = signal_peak_outside_range(scenario).into_iter().collect();
-    remarks.extend(flat_shapes_floated(
-        &scenario.backgrounds,
-        scenario.observable.range,
-    ));
+    let mut remarks: Vec<Warning> =
+        flat_shapes_floated(&scenario.backgrounds, scenario.observable.range).collect();
     remarks.extend(first_day_without_exposure(scenario));
     remarks
 }
 
-/// A peaked signal ([`Shape::peak`](crate::shapes::Shape::peak)) whose maximum lies outside the range.
-fn signal_peak_outside_range(scenario: &Scenario) -> Option<Warning> {
-    let range = scenario.observable.range;
+/// A peaked signal ([`Shape::peak`](crate::shapes::Shape::peak)) whose
+/// maximum lies outside the range: only a tail would be fitted, and the days
+/// to a target would describe a search for something else than the peak.
+fn refuse_signal_peak_outside_range(shape: &ShapeSpec, range: Range) -> Checked {
     let fixed = Placement {
-        range,
+        range: [range.low, range.high],
         floated: false,
     };
-    let peak = scenario.signal.shape.build(fixed).ok()?.peak()?;
-    (!(range[0]..=range[1]).contains(&peak.centre)).then_some(Warning::SignalPeakOutsideRange {
-        centre_key: peak.centre_key,
-        centre: peak.centre,
-        range,
-    })
+    let Some(peak) = shape.build(fixed).ok().and_then(|shape| shape.peak()) else {
+        return Ok(());
+    };
+    if (range.low..=range.high).contains(&peak.centre) {
+        return Ok(());
+    }
+    Err(ScenarioError::invalid(
+        format!("signal.shape.{}", peak.centre_key),
+        format!(
+            "the signal peak must lie inside observable.range [{}, {}], got {}; only its tail would be fitted",
+            show(range.low),
+            show(range.high),
+            show(peak.centre)
+        ),
+    ))
 }
 
 /// `float_shape: true` on a shape with no parameters (flat, or a polynomial
@@ -102,7 +109,7 @@ fn first_day_without_exposure(scenario: &Scenario) -> Option<Warning> {
         .periods
         .iter()
         .take_while(|period| period.rate_scale == 0.0)
-        .map(|period| period.days)
+        .filter_map(|period| period.days)
         .sum();
     let first_day = scenario.plan.days.first;
     (first_day <= days_without_data).then_some(Warning::FirstDayWithoutData {
@@ -176,6 +183,7 @@ fn validate_bin_width(bin_width: f64, range: Range) -> Checked {
 fn validate_signal(signal: &Signal, range: Range) -> Checked {
     require_positive("signal.events_per_day", signal.events_per_day)?;
     validate_shape("signal", &signal.shape, range, false)?;
+    refuse_signal_peak_outside_range(&signal.shape, range)?;
     if let Some(relative) = signal.yield_uncertainty {
         require_relative_uncertainty("signal.yield_uncertainty", relative)?;
         refuse_wide_signal_yield_uncertainty(relative)?;
@@ -313,7 +321,7 @@ fn validate_shape(owner: &str, shape: &ShapeSpec, range: Range, floated: bool) -
     }
 }
 
-fn validate_schedule(schedule: &Schedule) -> Checked {
+fn validate_schedule(schedule: &Schedule, backgrounds: &[Background]) -> Checked {
     let live_fraction = schedule.live_fraction;
     if !(live_fraction > 0.0 && live_fraction <= 1.0) {
         return Err(ScenarioError::invalid(
@@ -321,20 +329,57 @@ fn validate_schedule(schedule: &Schedule) -> Checked {
             format!("must be a fraction in (0, 1], got {}", show(live_fraction)),
         ));
     }
+    let last = schedule.periods.len().saturating_sub(1);
     for (index, period) in schedule.periods.iter().enumerate() {
-        require_positive(&format!("schedule.periods[{index}].days"), period.days)?;
-        let field = format!("schedule.periods[{index}].rate_scale");
-        if !(period.rate_scale.is_finite() && period.rate_scale >= 0.0) {
-            return Err(ScenarioError::invalid(
-                field,
-                format!(
-                    "must be a non-negative finite number, got {}",
-                    show(period.rate_scale)
-                ),
-            ));
+        let field = |key: &str| format!("schedule.periods[{index}].{key}");
+        match period.days {
+            Some(days) => require_positive(&field("days"), days)?,
+            None if index != last => {
+                return Err(ScenarioError::invalid(
+                    field("days"),
+                    "is required on every period but the last (a last period without days lasts to the end of the run)",
+                ));
+            }
+            None if period.rate_scale == 0.0 => {
+                return Err(ScenarioError::invalid(
+                    field("rate_scale"),
+                    "a last period without days lasts to the end of the run and must take data; give it days or a rate_scale above 0, got 0",
+                ));
+            }
+            None => {}
+        }
+        require_factor(&field("rate_scale"), period.rate_scale)?;
+        require_factor(&field("signal_scale"), period.signal_scale)?;
+        for (name, &factor) in &period.background_scale {
+            let key = field(&format!("background_scale.{name}"));
+            if !backgrounds
+                .iter()
+                .any(|background| &background.name == name)
+            {
+                let names: Vec<&str> = backgrounds.iter().map(|b| b.name.as_str()).collect();
+                return Err(ScenarioError::invalid(
+                    key,
+                    format!(
+                        "no background is named `{name}`; the backgrounds are {}",
+                        names.join(", ")
+                    ),
+                ));
+            }
+            require_factor(&key, factor)?;
         }
     }
     validate_dates(schedule)
+}
+
+/// A rate factor of a period: finite and not negative.
+fn require_factor(field: &str, factor: f64) -> Checked {
+    if factor.is_finite() && factor >= 0.0 {
+        return Ok(());
+    }
+    Err(ScenarioError::invalid(
+        field,
+        format!("must be a non-negative finite number, got {}", show(factor)),
+    ))
 }
 
 /// An ISO 8601 calendar date that exists, or an error naming `field`.
@@ -798,6 +843,48 @@ plan:
         accepted(&with("rate_scale: 0.5", "rate_scale: 0"));
     }
 
+    #[test]
+    fn period_factors_name_a_background_and_stay_non_negative() {
+        let periods = |text: &str| with("periods: [{days: 20, rate_scale: 0.5}]", text);
+        let halved = accepted(&periods(
+            "periods: [{days: 20, rate_scale: 0.5}, {days: 100}, {background_scale: {continuum: 0.5}, signal_scale: 0.9}]",
+        ));
+        assert_eq!(
+            halved.schedule.periods[2].background_factor("continuum"),
+            0.5
+        );
+        assert_eq!(halved.schedule.periods[2].background_factor("sloped"), 1.0);
+        let (field, message) = rejection(&periods(
+            "periods: [{days: 20, background_scale: {shielding: 0.5}}]",
+        ));
+        assert_eq!(field, "schedule.periods[0].background_scale.shielding");
+        assert!(message.contains("continuum, sloped"), "{message}");
+        assert_eq!(
+            rejected_field(&periods("periods: [{days: 20, signal_scale: -1}]")),
+            "schedule.periods[0].signal_scale"
+        );
+        assert_eq!(
+            rejected_field(&periods(
+                "periods: [{days: 20, background_scale: {sloped: .nan}}]"
+            )),
+            "schedule.periods[0].background_scale.sloped"
+        );
+    }
+
+    #[test]
+    fn only_the_last_period_may_last_to_the_end_of_the_run() {
+        let periods = |text: &str| with("periods: [{days: 20, rate_scale: 0.5}]", text);
+        assert_eq!(
+            rejected_field(&periods("periods: [{rate_scale: 0.5}, {days: 10}]")),
+            "schedule.periods[0].days"
+        );
+        assert_eq!(
+            rejected_field(&periods("periods: [{days: 10}, {rate_scale: 0}]")),
+            "schedule.periods[1].rate_scale"
+        );
+        accepted(&periods("periods: [{days: 10}, {rate_scale: 0.5}]"));
+    }
+
     /// `BASE` with `schedule.start` and the given `breaks` list.
     fn with_dates(start: &str, breaks: &str) -> String {
         with(
@@ -1081,17 +1168,19 @@ plan:
     }
 
     #[test]
-    fn peak_outside_the_range_is_a_warning_not_an_error() {
-        let scenario = accepted(&with("mean: 50.0", "mean: 120.0"));
-        let warnings = scenario.warnings();
-        assert_eq!(warnings.len(), 1, "{warnings:?}");
-        assert_eq!(
-            warnings[0],
-            Warning::SignalPeakOutsideRange {
-                centre_key: "gaussian.mean",
-                centre: 120.0,
-                range: [0.0, 100.0]
-            }
+    fn peak_outside_the_range_is_an_error_naming_the_centre() {
+        let text = with("mean: 50.0", "mean: 120.0");
+        assert_eq!(rejected_field(&text), "signal.shape.gaussian.mean");
+        let error = Scenario::from_yaml(&text).unwrap_err().to_string();
+        assert!(
+            error.contains("inside observable.range [0, 100], got 120"),
+            "{error}"
+        );
+        // On the edge the peak is inside, and nothing is said.
+        assert!(
+            accepted(&with("mean: 50.0", "mean: 100.0"))
+                .warnings()
+                .is_empty()
         );
     }
 
