@@ -229,6 +229,21 @@ impl<'m> Likelihood<'m> {
         }
     }
 
+    /// Moves the signal: the bin fractions of every signal term in `work`
+    /// become those of its shape at `shape_parameters` (in the shape's
+    /// parameter order), so every later evaluation and fit with `work` sees
+    /// the signal there; the model itself is unchanged. Used to scan the
+    /// signal position with one workspace (signal shapes never float).
+    pub fn place_signal(&self, shape_parameters: &[f64], work: &mut Workspace) {
+        for (term, fractions) in self.terms.iter().zip(&mut work.fractions) {
+            if term.component.is_signal && term.floating.is_none() {
+                term.shape
+                    .bin_fractions(shape_parameters, term.edges, fractions);
+                raise_underflow(fractions);
+            }
+        }
+    }
+
     /// Recomputes the fractions of floating shapes (and their gradients when
     /// asked), unless they are already at these shape parameters: every fit
     /// starts at the same nominal shape.
