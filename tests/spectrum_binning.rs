@@ -254,6 +254,7 @@ fn binning_json_follows_its_schema_and_recommendation() {
             "bin_widths",
             "days",
             "recommended_bin_width",
+            "window_background",
             "windows"
         ]
     );

@@ -2,11 +2,12 @@
 //!
 //! Schema: `{days, bin_widths: [{width, z_asimov}], windows: [{low, high,
 //! signal_fraction, z_asimov}], recommended_bin_width, best_window: {low,
-//! high, signal_fraction, z_asimov}}`, widths and edges in the unit of the
+//! high, signal_fraction, z_asimov}, window_background: {method,
+//! sideband_backgrounds: [name]}}`, widths and edges in the unit of the
 //! observable, significances in σ.
 
 use super::BINNING_JSON;
-use crate::binning::{BinWidthPoint, BinningScan, WindowPoint};
+use crate::binning::{BinWidthPoint, BinningScan, WINDOW_BACKGROUND_METHOD, WindowPoint};
 use crate::report::ReportError;
 use crate::report::kit::encode::json_bytes;
 use serde::Serialize;
@@ -18,6 +19,14 @@ struct BinningJson<'s> {
     windows: &'s [WindowPoint],
     recommended_bin_width: f64,
     best_window: WindowPoint,
+    window_background: WindowBackground<'s>,
+}
+
+/// How the windows' background is known.
+#[derive(Serialize)]
+struct WindowBackground<'s> {
+    method: &'static str,
+    sideband_backgrounds: &'s [String],
 }
 
 /// Pretty-printed JSON of the scan, ending with a newline.
@@ -28,6 +37,10 @@ pub(super) fn render(scan: &BinningScan) -> Result<Vec<u8>, ReportError> {
         windows: &scan.windows,
         recommended_bin_width: scan.recommended_bin_width,
         best_window: scan.best_window,
+        window_background: WindowBackground {
+            method: WINDOW_BACKGROUND_METHOD,
+            sideband_backgrounds: &scan.sideband_backgrounds,
+        },
     };
     json_bytes(BINNING_JSON, &document)
 }
@@ -57,7 +70,8 @@ mod tests {
                 "bin_widths",
                 "windows",
                 "recommended_bin_width",
-                "best_window"
+                "best_window",
+                "window_background"
             ]
         );
         assert_eq!(json["recommended_bin_width"], scan.recommended_bin_width);

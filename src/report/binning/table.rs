@@ -3,7 +3,9 @@
 //! best one.
 
 use super::window_digits;
-use crate::binning::{BinningScan, RECOMMENDATION_TOLERANCE, WINDOW_STEPS_PER_SIGNAL_WIDTH};
+use crate::binning::{
+    BinningScan, RECOMMENDATION_TOLERANCE, WINDOW_BACKGROUND_METHOD, WINDOW_STEPS_PER_SIGNAL_WIDTH,
+};
 use crate::report::kit::format::{aligned, exposure_label};
 
 /// Windows listed in the table: one every this many steps of the scan.
@@ -49,6 +51,7 @@ pub fn binning_table(scan: &BinningScan) -> String {
         "Counting window centred on {} {unit}: Asimov significance of the count\n",
         scan.peak.centre
     ));
+    text.push_str(&window_background_line(scan));
     let mut rows = vec![vec![
         format!("window [{unit}]"),
         "signal fraction".to_string(),
@@ -75,4 +78,15 @@ pub fn binning_table(scan: &BinningScan) -> String {
         best.z_asimov
     ));
     text
+}
+
+/// One line on how the windows' background is known.
+fn window_background_line(scan: &BinningScan) -> String {
+    if scan.sideband_backgrounds.is_empty() {
+        return "Background known exactly: no sideband measurement\n".to_string();
+    }
+    format!(
+        "Backgrounds not known exactly ({}): {WINDOW_BACKGROUND_METHOD}\n",
+        scan.sideband_backgrounds.join(", ")
+    )
 }
