@@ -1,6 +1,7 @@
 //! The text of `runcast check`: a valid scenario's rates, S/B at the peak,
 //! and the asymptotic days to each target and to exclusion.
 
+use super::timeline::timeline;
 use crate::model::{Model, fraction_inside, shape_from_spec};
 use crate::projection::Projection;
 use crate::scenario::{Scenario, ShapeSpec};
@@ -18,6 +19,7 @@ pub fn check_summary(
     let mut text = format!("{}: valid\n  {}\n", path.display(), scenario.title);
     rates(&mut text, scenario, model);
     let last_day = projection.points.last().map_or(0.0, |point| point.days);
+    timeline(&mut text, scenario, &model.live_time, last_day);
     text.push_str("  asymptotic days to target:\n");
     for days in &projection.days_to_target {
         let answer = match (days.asimov_days, days.saturation_z) {
