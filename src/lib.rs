@@ -30,4 +30,5 @@ pub mod report;
 pub mod scenario;
 pub mod shapes;
 pub mod spectrum;
+pub mod upcrossings;
 pub mod warning;
