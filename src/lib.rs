@@ -26,6 +26,7 @@ pub mod message;
 pub mod model;
 pub mod numeric;
 pub mod projection;
+pub mod reach;
 pub mod report;
 pub mod scenario;
 pub mod shapes;

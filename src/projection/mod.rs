@@ -12,6 +12,7 @@ pub use crossing::{first_crossing, quantile};
 pub use ensembles::{
     CalibrationCount, CalibrationRequest, LimitRequest, PointRequest, PointToys, RunToys, ToySource,
 };
+pub use point::BAND_QUANTILES;
 pub use result::{
     Calibration, DaysToExclusion, DaysToTarget, ExposurePoint, Projection, TargetProbability,
 };
