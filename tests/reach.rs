@@ -66,7 +66,7 @@ fn counts(scenario: &Scenario, position: f64, rate: f64, live_days: f64) -> (Vec
 
 /// The root of an increasing function on (0, infinity) by bisection in log x.
 fn root(level: f64, f: impl Fn(f64) -> f64) -> f64 {
-    let (mut low, mut high) = (1e-6, 1e6);
+    let (mut low, mut high): (f64, f64) = (1e-6, 1e6);
     for _ in 0..200 {
         let middle = (low * high).sqrt();
         if f(middle) < level {
