@@ -34,6 +34,12 @@ pub enum Warning {
     /// `backgrounds[background].float_shape` is set on a shape without
     /// parameters (flat, or a one-term polynomial): it has no effect.
     NothingToFloat { background: usize },
+    /// A warning about channel `channel` of a `channels` list, whose dotted
+    /// paths lie inside `channels[channel]`.
+    InChannel {
+        channel: usize,
+        warning: Box<Warning>,
+    },
     /// The grid starts on `first_day`, within the first `days_without_data`
     /// days, when the schedule scales every rate to 0.
     FirstDayWithoutData {

@@ -3,18 +3,20 @@
 use super::{
     Channel, Component, Constraint, LiveTime, Model, Parameter, SIGNAL_STRENGTH, ShapeParameters,
 };
-use crate::scenario::{Background, NormUncertainty, Scenario, ShapeSpec, Signal};
+use crate::scenario::{self, Background, NormUncertainty, Scenario, ShapeSpec, Signal};
 use crate::shapes;
 
 impl Model {
-    /// The single-channel model of a scenario: mu, an optional constrained signal
-    /// yield factor, one factor per background whose normalisation is uncertain,
-    /// and the parameters of every background shape marked `float_shape`.
+    /// The model of a scenario: mu, common to all channels, then per channel
+    /// an optional constrained signal yield factor, one factor per background
+    /// whose normalisation is uncertain, and the parameters of every
+    /// background shape marked `float_shape`.
     pub fn from_scenario(scenario: &Scenario) -> Model {
         let mut builder = Builder {
             parameters: Vec::new(),
             constraints: Vec::new(),
-            range: scenario.observable.range,
+            range: scenario.observable().range,
+            prefix: String::new(),
         };
         builder.parameters.push(Parameter {
             name: "signal_strength".into(),
@@ -24,23 +26,23 @@ impl Model {
         });
         debug_assert_eq!(builder.parameters.len() - 1, SIGNAL_STRENGTH);
 
-        let mut components = vec![builder.signal_component(&scenario.signal)];
-        components.extend(
-            scenario
-                .backgrounds
-                .iter()
-                .map(|b| builder.background_component(b)),
-        );
-
-        let observable = &scenario.observable;
+        let several = scenario.channels.len() > 1;
+        let channels = scenario
+            .channels
+            .iter()
+            .map(|channel| {
+                builder.range = channel.observable.range;
+                builder.prefix = if several {
+                    format!("{}.", channel.name)
+                } else {
+                    String::new()
+                };
+                builder.channel(channel)
+            })
+            .collect();
         Model {
             parameters: builder.parameters,
-            channels: vec![Channel {
-                name: observable.name.clone(),
-                unit: observable.unit.clone(),
-                edges: bin_edges(observable.range, observable.bin_width),
-                components,
-            }],
+            channels,
             constraints: builder.constraints,
             live_time: LiveTime::from_schedule(&scenario.schedule),
         }
@@ -64,14 +66,34 @@ pub fn bin_edges(range: [f64; 2], width: f64) -> Vec<f64> {
 struct Builder {
     parameters: Vec<Parameter>,
     constraints: Vec<Constraint>,
-    /// The observable's range, on which every shape is normalised.
+    /// The channel's range, on which every shape is normalised.
     range: [f64; 2],
+    /// Put before every parameter name: the channel's name when there are several.
+    prefix: String,
 }
 
 impl Builder {
+    /// One channel's components (signal first), their parameters and constraints.
+    fn channel(&mut self, channel: &scenario::Channel) -> Channel {
+        let mut components = vec![self.signal_component(&channel.signal)];
+        components.extend(
+            channel
+                .backgrounds
+                .iter()
+                .map(|b| self.background_component(b)),
+        );
+        let observable = &channel.observable;
+        Channel {
+            name: channel.name.clone(),
+            unit: observable.unit.clone(),
+            edges: bin_edges(observable.range, observable.bin_width),
+            components,
+        }
+    }
+
     fn add_parameter(&mut self, name: String, nominal: f64, lower: f64) -> usize {
         self.parameters.push(Parameter {
-            name,
+            name: format!("{}{name}", self.prefix),
             nominal,
             lower,
             upper: f64::INFINITY,

@@ -227,8 +227,8 @@ impl SignalScan {
 impl Scenario {
     /// The scan of the signal position, when `signal.scan` is given.
     pub fn signal_scan(&self) -> Option<SignalScan> {
-        let scan = self.signal.scan.as_ref()?;
-        let checked = SignalScan::new(scan, &self.signal.shape, self.observable.range);
+        let scan = self.signal().scan.as_ref()?;
+        let checked = SignalScan::new(scan, &self.signal().shape, self.observable().range);
         Some(checked.expect("validation refuses a scan that is not valid"))
     }
 
@@ -237,7 +237,7 @@ impl Scenario {
     /// [`Model::from_scenario`](crate::model::Model::from_scenario).
     pub fn with_signal_at(&self, scan: &SignalScan, position: f64, width: f64) -> Scenario {
         let mut moved = self.clone();
-        moved.signal.shape = scan.shape_at(position, width);
+        moved.channel_mut().signal.shape = scan.shape_at(position, width);
         moved
     }
 }
@@ -319,8 +319,8 @@ plan:
         assert!((scan.width_at(90.0) - 3.5).abs() < 1e-12);
         assert_eq!(scan.shape_parameters_at(50.0), vec![50.0, 2.5]);
         let moved = scenario.with_signal_at(&scan, 30.0, 2.0);
-        assert_eq!(moved.signal.shape, scan.shape_at(30.0, 2.0));
-        assert_eq!(moved.backgrounds.len(), scenario.backgrounds.len());
+        assert_eq!(moved.signal().shape, scan.shape_at(30.0, 2.0));
+        assert_eq!(moved.backgrounds().len(), scenario.backgrounds().len());
     }
 
     #[test]

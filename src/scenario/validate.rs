@@ -9,8 +9,8 @@ use super::limits::{
     MAX_TOYS_PER_POINT,
 };
 use super::{
-    Background, DaysGrid, NormUncertainty, Observable, Plan, Scenario, ScenarioError, Schedule,
-    ShapeSpec, Signal, SignalScan,
+    Background, Channel, ChannelSyntax, DaysGrid, NormUncertainty, Observable, Plan, Scenario,
+    ScenarioError, Schedule, ShapeSpec, Signal, SignalScan,
 };
 use crate::calendar::CalendarDate;
 use crate::message::{not_finite, not_positive, show, show_fraction, show_rounded};
@@ -36,33 +36,85 @@ struct Range {
 /// Rejects values that parse but make no physical sense, naming the first such field.
 pub(super) fn validate(scenario: &Scenario) -> Checked {
     require_text("title", &scenario.title)?;
-    let range = validate_observable(&scenario.observable)?;
-    validate_signal(&scenario.signal, range)?;
-    validate_backgrounds(&scenario.backgrounds, range)?;
-    refuse_free_background_in_one_bin(scenario)?;
+    validate_channel_names(scenario)?;
+    for (index, channel) in scenario.channels.iter().enumerate() {
+        validate_channel(channel).map_err(|error| error.within(&channel_path(scenario, index)))?;
+    }
     validate_schedule(&scenario.schedule)?;
     validate_plan(&scenario.plan)
 }
 
+/// The dotted path of channel `index`'s fields: none for a single channel
+/// written at the top level, `channels[index].` in a list.
+fn channel_path(scenario: &Scenario, index: usize) -> String {
+    match scenario.channel_syntax {
+        ChannelSyntax::Single => String::new(),
+        ChannelSyntax::List => format!("channels[{index}]."),
+    }
+}
+
+/// Each listed channel needs a name of its own.
+fn validate_channel_names(scenario: &Scenario) -> Checked {
+    if scenario.channel_syntax == ChannelSyntax::Single {
+        return Ok(());
+    }
+    for (index, channel) in scenario.channels.iter().enumerate() {
+        let field = format!("channels[{index}].name");
+        require_text(&field, &channel.name)?;
+        if let Some(first) = scenario.channels[..index]
+            .iter()
+            .position(|earlier| earlier.name.trim() == channel.name.trim())
+        {
+            return Err(ScenarioError::invalid(
+                field,
+                format!(
+                    "each channel needs its own name, got {:?} again (as in channels[{first}].name)",
+                    channel.name
+                ),
+            ));
+        }
+    }
+    Ok(())
+}
+
+/// One channel's observable, signal and backgrounds, with paths inside the channel.
+fn validate_channel(channel: &Channel) -> Checked {
+    let range = validate_observable(&channel.observable)?;
+    validate_signal(&channel.signal, range)?;
+    validate_backgrounds(&channel.backgrounds, range)?;
+    refuse_free_background_in_one_bin(channel)
+}
+
 /// Remarks about a valid scenario that are probably, but not surely, mistakes.
 pub(super) fn warnings(scenario: &Scenario) -> Vec<Warning> {
-    let mut remarks: Vec<Warning> = signal_peak_outside_range(scenario).into_iter().collect();
-    remarks.extend(flat_shapes_floated(
-        &scenario.backgrounds,
-        scenario.observable.range,
-    ));
+    let mut remarks = Vec::new();
+    for (index, channel) in scenario.channels.iter().enumerate() {
+        let in_channel = signal_peak_outside_range(channel)
+            .into_iter()
+            .chain(flat_shapes_floated(
+                &channel.backgrounds,
+                channel.observable.range,
+            ));
+        remarks.extend(in_channel.map(|warning| match scenario.channel_syntax {
+            ChannelSyntax::Single => warning,
+            ChannelSyntax::List => Warning::InChannel {
+                channel: index,
+                warning: Box::new(warning),
+            },
+        }));
+    }
     remarks.extend(first_day_without_exposure(scenario));
     remarks
 }
 
 /// A peaked signal ([`Shape::peak`](crate::shapes::Shape::peak)) whose maximum lies outside the range.
-fn signal_peak_outside_range(scenario: &Scenario) -> Option<Warning> {
-    let range = scenario.observable.range;
+fn signal_peak_outside_range(channel: &Channel) -> Option<Warning> {
+    let range = channel.observable.range;
     let fixed = Placement {
         range,
         floated: false,
     };
-    let peak = scenario.signal.shape.build(fixed).ok()?.peak()?;
+    let peak = channel.signal.shape.build(fixed).ok()?.peak()?;
     (!(range[0]..=range[1]).contains(&peak.centre)).then_some(Warning::SignalPeakOutsideRange {
         centre_key: peak.centre_key,
         centre: peak.centre,
@@ -277,12 +329,12 @@ fn refuse_indistinguishable_backgrounds(backgrounds: &[Background]) -> Checked {
 /// normalisation is free can take any excess over the rest, so the signal
 /// strength is not determined and there is no sensitivity at any exposure
 /// (its profile likelihood is flat in mu; common practice).
-fn refuse_free_background_in_one_bin(scenario: &Scenario) -> Checked {
-    let [low, high] = scenario.observable.range;
-    if ((high - low) / scenario.observable.bin_width).round() != 1.0 {
+fn refuse_free_background_in_one_bin(channel: &Channel) -> Checked {
+    let [low, high] = channel.observable.range;
+    if ((high - low) / channel.observable.bin_width).round() != 1.0 {
         return Ok(());
     }
-    let free = scenario
+    let free = channel
         .backgrounds
         .iter()
         .position(|b| b.norm_uncertainty == Some(NormUncertainty::Free));
@@ -1165,16 +1217,16 @@ plan:
         let scenario = accepted(BASE);
         use crate::scenario::NormUncertainty;
         assert_eq!(
-            scenario.backgrounds[0].norm_uncertainty,
+            scenario.backgrounds()[0].norm_uncertainty,
             Some(NormUncertainty::Relative(0.05))
         );
         assert_eq!(
-            scenario.backgrounds[1].norm_uncertainty,
+            scenario.backgrounds()[1].norm_uncertainty,
             Some(NormUncertainty::Free)
         );
         let integer = accepted(&with("norm_uncertainty: 0.05", "norm_uncertainty: 1"));
         assert_eq!(
-            integer.backgrounds[0].norm_uncertainty,
+            integer.backgrounds()[0].norm_uncertainty,
             Some(NormUncertainty::Relative(1.0))
         );
     }
