@@ -8,10 +8,12 @@ mod deserialize;
 mod error;
 mod file;
 pub mod limits;
+mod scan;
 mod template;
 mod validate;
 
 pub use error::ScenarioError;
+pub use scan::{MIN_SCAN_POSITIONS, Scan, SignalScan};
 pub use template::TEMPLATE;
 
 use crate::calendar::CalendarDate;
@@ -89,6 +91,10 @@ pub struct Signal {
     /// Names of shared uncertainties whose factors multiply the signal yield.
     #[serde(default)]
     pub shared: Vec<String>,
+    /// The positions a search for a peak of unknown position tests; the
+    /// shape's own position stays the one of the local projection.
+    #[serde(default)]
+    pub scan: Option<Scan>,
 }
 
 /// One background component.
