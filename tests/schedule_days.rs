@@ -218,6 +218,8 @@ fn demo_with_one_grid_point_agrees_with_asimov(periods: &[Period], day: f64) -> 
         targets: vec![3.0],
         cl: Some(0.95),
         calibration_toys: 0,
+        scan: None,
+        look_elsewhere_toys: 0,
     };
     let projection = project(&model, &settings, &|_| {}).expect("projection");
     let point = &projection.points[0];
@@ -389,5 +391,7 @@ fn settings(days: &[f64]) -> ProjectionSettings {
         targets: vec![3.0],
         cl: Some(0.95),
         calibration_toys: 0,
+        scan: None,
+        look_elsewhere_toys: 0,
     }
 }

@@ -102,7 +102,7 @@ mod tests {
         // (2027-03-11..15, both included): 12 + 5 = 17 live days by day 40,
         // still 17 by day 45, and 17 + 27.5 = 44.5 by day 100.
         let mut scenario = example::invented_peak();
-        let name = scenario.backgrounds[0].name.clone();
+        let name = scenario.backgrounds()[0].name.clone();
         scenario.schedule = serde_yaml::from_str(&format!(
             "{{live_fraction: 0.5, start: 2027-01-30, breaks: [{{from: 2027-03-11, to: 2027-03-15}}],\n\
               periods: [{{days: 10, rate_scale: 0.4}}, {{days: 20}}, {{background_scale: {{{name}: 0.5}}}}]}}"
@@ -114,7 +114,9 @@ mod tests {
         let expected = [
             "day 0 (2027-01-30) to day 10 (2027-02-09): all rates x0.4; 2 live days by its end",
             "day 10 (2027-02-09) to day 30 (2027-03-01): nominal rates; 12 live days by its end",
-            &format!("day 30 (2027-03-01) to day 40 (2027-03-11): {name} x0.5; 17 live days by its end"),
+            &format!(
+                "day 30 (2027-03-01) to day 40 (2027-03-11): {name} x0.5; 17 live days by its end"
+            ),
             "day 40 (2027-03-11) to day 45 (2027-03-16): break, no data; 17 live days by its end",
             &format!("day 45 (2027-03-16) on, to the end of the run: {name} x0.5"),
             "live days at the end of the grid (day 100 (2027-05-10)): 44.5",
