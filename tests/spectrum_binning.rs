@@ -125,9 +125,15 @@ fn several_exposures_share_one_figure_and_one_table() {
             "background",
             "signal_plus_background",
             "error_low",
-            "error_high"
+            "error_high",
+            "fitted",
+            "fitted_signal_strength",
+            "local_z"
         ]
     );
+    // Each exposure's pseudo-dataset is fitted: its fitted signal strength
+    // and local significance are in the figure's panel titles.
+    assert!(svg.contains("fit: μ̂ = ") && svg.contains("local Z = "));
     // 200 bins of 0.5 MeV over [10, 110] for each exposure.
     assert_eq!(rows.len(), 1 + 2 * 200);
     for (days, live_days) in [("30", 16.0), ("365", 284.0)] {

@@ -24,6 +24,8 @@ pub struct DiscoveryTest<'l, 'm> {
     fitter: Fitter<'l, 'm>,
     nominal: Vec<f64>,
     null_parameters: Vec<f64>,
+    /// The parameters of the last free fit (mu floating).
+    free_parameters: Vec<f64>,
 }
 
 /// The outcome of the two fits behind one q0.
@@ -39,8 +41,15 @@ impl<'l, 'm> DiscoveryTest<'l, 'm> {
         DiscoveryTest {
             fitter: Fitter::new(likelihood),
             null_parameters: nominal.clone(),
+            free_parameters: nominal.clone(),
             nominal,
         }
+    }
+
+    /// The parameters of the free fit (mu floating) of the last successful
+    /// [`DiscoveryTest::fit`].
+    pub fn free_parameters(&self) -> &[f64] {
+        &self.free_parameters
     }
 
     /// The fitter, for fits beyond the discovery pair.
@@ -59,6 +68,8 @@ impl<'l, 'm> DiscoveryTest<'l, 'm> {
         let first_free = self.fitter.minimise(live_days, data, None, &self.nominal);
         let free_fit = first_free.map(|nll| (nll, self.fitter.parameters()[SIGNAL_STRENGTH]));
         if free_fit.is_ok() {
+            self.free_parameters
+                .copy_from_slice(self.fitter.parameters());
             self.fitter
                 .conditional_start(SIGNAL_STRENGTH, 0.0, &mut self.null_parameters);
         } else {
@@ -75,6 +86,8 @@ impl<'l, 'm> DiscoveryTest<'l, 'm> {
                 let nll = self
                     .fitter
                     .minimise(live_days, data, None, &self.null_parameters)?;
+                self.free_parameters
+                    .copy_from_slice(self.fitter.parameters());
                 (nll, self.fitter.parameters()[SIGNAL_STRENGTH])
             }
         };

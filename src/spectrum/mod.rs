@@ -3,14 +3,17 @@
 //!
 //! For each exposure one pseudo-dataset is drawn at nominal parameters
 //! (mu = 1), with the expected background (mu = 0) and signal + background per
-//! bin and a one-standard-deviation Poisson error bar on every count.
+//! bin and a one-standard-deviation Poisson error bar on every count, and
+//! fitted as an analysis of those data would be: the discovery fit gives the
+//! fitted signal strength, the local significance sqrt(q0) and the expected
+//! counts at the fitted parameters.
 
 mod interval;
 
 pub use interval::{EXACT_INTERVAL_BELOW, error_bar, garwood_interval, one_sigma_confidence};
 
 use crate::ensemble::{Generator, toy_stream};
-use crate::likelihood::Likelihood;
+use crate::likelihood::{Dataset, DiscoveryTest, Likelihood};
 use crate::model::{Constraint, Model, SIGNAL_STRENGTH};
 use crate::scenario::Scenario;
 
@@ -59,6 +62,20 @@ pub struct ExposureSpectrum {
     /// Live days accumulated by then (schedule applied).
     pub live_days: f64,
     pub bins: Vec<SpectrumBin>,
+    /// The fit of the pseudo-dataset; None when a fit failed.
+    pub fit: Option<SpectrumFit>,
+}
+
+/// What the discovery fit reports for one pseudo-dataset.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SpectrumFit {
+    /// The fitted signal strength mu-hat (0 or more).
+    pub signal_strength: f64,
+    /// The local significance sqrt(q0) (Cowan et al., Eur. Phys. J. C 71
+    /// (2011) 1554, eq. 12).
+    pub local_z: f64,
+    /// Expected counts per bin at the free fit's parameters.
+    pub expected: Vec<f64>,
 }
 
 impl ExposureSpectrum {
@@ -162,6 +179,7 @@ fn exposure_spectrum(likelihood: &Likelihood, days: f64, seed: u64) -> ExposureS
 
     let signal_plus_background = expected(likelihood, &nominal, live_days);
     let background = expected(likelihood, &background_only, live_days);
+    let fit = fit_pseudo_data(likelihood, live_days, &data);
     let edges = &model.channels[0].edges;
     let bins = edges
         .windows(2)
@@ -188,7 +206,23 @@ fn exposure_spectrum(likelihood: &Likelihood, days: f64, seed: u64) -> ExposureS
         days,
         live_days,
         bins,
+        fit,
     }
+}
+
+/// The discovery fit of one pseudo-dataset, with the expected counts of the
+/// first channel at the free fit; None when a fit fails.
+fn fit_pseudo_data(likelihood: &Likelihood, live_days: f64, data: &Dataset) -> Option<SpectrumFit> {
+    let mut test = DiscoveryTest::new(likelihood);
+    let fit = test.fit(live_days, data).ok()?;
+    let bins = likelihood.model().channels[0].edges.len() - 1;
+    let mut fitted = expected(likelihood, test.free_parameters(), live_days);
+    fitted.truncate(bins);
+    Some(SpectrumFit {
+        signal_strength: fit.fitted_mu,
+        local_z: fit.q0.sqrt(),
+        expected: fitted,
+    })
 }
 
 /// The largest mean a pseudo-dataset at nominal parameters (mu = 1) draws
@@ -231,6 +265,44 @@ mod tests {
              plan: {days: {first: 1, last: 10, points: 2, spacing: log}, toys: 1, seed: 1, targets: [3]}\n",
         )
         .unwrap()
+    }
+
+    /// One counting bin with a known background: the fit of n counts has the
+    /// closed forms mu-hat = (n - b)/s and q0 = 2 (n ln(n/b) - (n - b)) for
+    /// n > b (Cowan et al., EPJC 71 (2011) 1554, eqs. 12 and 97 with the data
+    /// n in place of s + b), and fits the count exactly. The fits converge to
+    /// far better than 1e-6.
+    #[test]
+    fn each_pseudo_dataset_is_fitted_as_an_analysis_would() {
+        let counting = Scenario::from_yaml(
+            "title: one bin\n\
+             observable: {name: x, unit: a.u., range: [0.0, 1.0], bin_width: 1.0}\n\
+             signal: {events_per_day: 20.0, shape: {flat: {}}}\n\
+             backgrounds:\n  - {name: flat, events_per_day: 100.0, shape: {flat: {}}}\n\
+             plan: {days: {first: 1, last: 10, points: 2, spacing: log}, toys: 1, seed: 1, targets: [3]}\n",
+        )
+        .unwrap();
+        for days in [3.0, 30.0] {
+            let spectrum = pseudo_data_spectrum(&counting, &[days], 11);
+            let exposure = &spectrum.exposures[0];
+            let n = exposure.bins[0].counts as f64;
+            let (s, b) = (20.0 * days, 100.0 * days);
+            assert!(n > b, "the test needs an excess: {n} counts over {b}");
+            let fit = exposure.fit.as_ref().expect("the fit converges");
+            let mu = (n - b) / s;
+            let z = (2.0 * (n * (n / b).ln() - (n - b))).sqrt();
+            assert!(
+                (fit.signal_strength - mu).abs() < 1e-6 * mu,
+                "{} vs {mu}",
+                fit.signal_strength
+            );
+            assert!((fit.local_z - z).abs() < 1e-6 * z, "{} vs {z}", fit.local_z);
+            assert!(
+                (fit.expected[0] - n).abs() < 1e-6 * n,
+                "{:?} vs {n}",
+                fit.expected
+            );
+        }
     }
 
     /// Expected counts: rate x live days x bin fraction; a flat background of 40

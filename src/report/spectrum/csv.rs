@@ -1,9 +1,13 @@
 //! `spectrum-<D>d.csv`: one row per bin and exposure.
 //!
 //! Columns: `days, live_days, low, high, counts, background,
-//! signal_plus_background, error_low, error_high`. `background` and
+//! signal_plus_background, error_low, error_high, fitted,
+//! fitted_signal_strength, local_z`. `background` and
 //! `signal_plus_background` are expected counts; `error_low` and `error_high`
-//! are the lengths of the error bar below and above `counts`. Numbers are
+//! are the lengths of the error bar below and above `counts`; `fitted` is the
+//! expected count at the fit of the pseudo-dataset, whose fitted signal
+//! strength and local significance sqrt(q0) fill the last two columns (all
+//! three empty when the fit failed). Numbers are
 //! shortest round-trip decimals, as in `projection.csv`, so the same spectrum
 //! always gives the same bytes.
 
@@ -15,7 +19,7 @@ use crate::spectrum::Spectrum;
 /// Name used in rendering errors.
 const FILE: &str = "spectrum CSV";
 
-const COLUMNS: [&str; 9] = [
+const COLUMNS: [&str; 12] = [
     "days",
     "live_days",
     "low",
@@ -25,12 +29,17 @@ const COLUMNS: [&str; 9] = [
     "signal_plus_background",
     "error_low",
     "error_high",
+    "fitted",
+    "fitted_signal_strength",
+    "local_z",
 ];
 
 /// The CSV table of the spectra, exposures in order.
 pub(super) fn render(spectrum: &Spectrum) -> Result<Vec<u8>, ReportError> {
     let rows = spectrum.exposures.iter().flat_map(|exposure| {
-        exposure.bins.iter().map(move |bin| {
+        exposure.bins.iter().enumerate().map(move |(index, bin)| {
+            let fit = exposure.fit.as_ref();
+            let cell = |value: Option<f64>| value.map_or_else(String::new, number);
             [
                 number(exposure.days),
                 number(exposure.live_days),
@@ -41,6 +50,9 @@ pub(super) fn render(spectrum: &Spectrum) -> Result<Vec<u8>, ReportError> {
                 number(bin.signal_plus_background),
                 number(bin.error_low),
                 number(bin.error_high),
+                cell(fit.map(|fit| fit.expected[index])),
+                cell(fit.map(|fit| fit.signal_strength)),
+                cell(fit.map(|fit| fit.local_z)),
             ]
         })
     });
@@ -50,7 +62,7 @@ pub(super) fn render(spectrum: &Spectrum) -> Result<Vec<u8>, ReportError> {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::spectrum::{ExposureSpectrum, SpectrumBin};
+    use crate::spectrum::{ExposureSpectrum, SpectrumBin, SpectrumFit};
 
     #[test]
     fn rows_follow_the_documented_columns() {
@@ -72,13 +84,18 @@ mod tests {
                     error_low: 0.0,
                     error_high: 1.8410216450092636,
                 }],
+                fit: Some(SpectrumFit {
+                    signal_strength: 0.5,
+                    local_z: 0.25,
+                    expected: vec![0.375],
+                }),
             }],
         };
         let text = String::from_utf8(render(&spectrum).unwrap()).unwrap();
         assert_eq!(
             text,
-            "days,live_days,low,high,counts,background,signal_plus_background,error_low,error_high\n\
-             10,9.5,0,2,0,0.25,0.5,0,1.8410216450092636\n"
+            "days,live_days,low,high,counts,background,signal_plus_background,error_low,error_high,fitted,fitted_signal_strength,local_z\n\
+             10,9.5,0,2,0,0.25,0.5,0,1.8410216450092636,0.375,0.5,0.25\n"
         );
     }
 }

@@ -12,7 +12,9 @@ use crate::report::kit::figure::{self, Canvas, Chart, DrawError, Frame};
 use crate::report::kit::format::{exposure_label, number};
 use crate::report::kit::legend::{Line, Sample};
 use crate::report::kit::marks;
-use crate::report::kit::palette::{INK, INK_TEAL, PALE_LAVENDER, SLATE, VERMILION, text_style};
+use crate::report::kit::palette::{
+    DASH, INK, INK_TEAL, PALE_LAVENDER, SLATE, VERMILION, text_style,
+};
 use crate::spectrum::{EXACT_INTERVAL_BELOW, ExposureSpectrum, Spectrum, SpectrumBin};
 use plotters::coord::types::RangedCoordf64;
 use plotters::prelude::*;
@@ -81,8 +83,15 @@ fn draw_panel(
     let (_, height) = panel.dim_in_pixel();
     let split = (f64::from(height) * COUNTS_SHARE).round() as i32;
     let (upper, lower) = panel.split_vertically(split);
+    let fit = match &exposure.fit {
+        Some(fit) => format!(
+            "fit: μ̂ = {:.2}, local Z = {:.2}σ",
+            fit.signal_strength, fit.local_z
+        ),
+        None => "the fit failed".to_string(),
+    };
     let caption = format!(
-        "{}: {} events",
+        "{}: {} events; {fit}",
         exposure_label(exposure.days, exposure.live_days),
         exposure.total_counts()
     );
@@ -104,6 +113,12 @@ fn draw_counts(
         * bins
             .iter()
             .map(|bin| (bin.counts as f64 + bin.error_high).max(bin.signal_plus_background))
+            .chain(
+                exposure
+                    .fit
+                    .iter()
+                    .flat_map(|fit| fit.expected.iter().copied()),
+            )
             .fold(0.0, f64::max);
     let frame = Frame {
         caption: Some((caption, 19)),
@@ -142,6 +157,19 @@ fn draw_counts(
         Line::Solid(VERMILION.stroke_width(2)),
         Some("Expected signal + background".to_string()),
     )?;
+    if let Some(fit) = &exposure.fit {
+        let fitted = bins
+            .iter()
+            .zip(&fit.expected)
+            .flat_map(|(bin, &count)| [(bin.low, count), (bin.high, count)])
+            .collect();
+        marks::draw_line(
+            &mut chart,
+            fitted,
+            Line::Dashed(INK.stroke_width(2), DASH),
+            Some("Fit to the pseudo-data (μ̂ free)".to_string()),
+        )?;
+    }
     let points = bins.iter().map(|bin| {
         let count = bin.counts as f64;
         DataPoint {
