@@ -2,15 +2,18 @@
 //! value per command, so every override (`--toys`, `--seed`, ...) and every
 //! limit on the command line is applied in one place.
 
-use crate::cli::{BinningArgs, FigureArgs, PlanArgs, ProjectArgs, SlurmArgs, SpectrumArgs};
+use crate::cli::{
+    BinningArgs, FigureArgs, PlanArgs, ProjectArgs, ReachArgs, SlurmArgs, SpectrumArgs,
+};
 use crate::error::Error;
 use runcast::message::show;
 use runcast::model::{LiveTime, Model};
 use runcast::projection::{ProjectionSettings, ShardSpec};
+use runcast::reach::ReachSettings;
 use runcast::report::{DPI_RANGE, FigureFormats};
 use runcast::scenario::limits::{
-    MAX_EXPECTED_COUNT_PER_BIN, MAX_SPECTRUM_EXPOSURES, MAX_THREADS, MAX_TOYS_IN_TOTAL,
-    MAX_TOYS_PER_POINT,
+    MAX_EXPECTED_COUNT_PER_BIN, MAX_REACH_EXPOSURES, MAX_SPECTRUM_EXPOSURES, MAX_THREADS,
+    MAX_TOYS_IN_TOTAL, MAX_TOYS_PER_POINT,
 };
 use runcast::scenario::{Scenario, ScenarioError};
 use runcast::spectrum::largest_expected_count;
@@ -412,6 +415,70 @@ impl SpectrumOptions {
         Ok(SpectrumOptions {
             days: args.days.clone(),
             seed: loaded.seed(args.seed),
+            out: loaded.output_directory(args.out.as_deref()),
+            formats: figure_formats(&args.figures)?,
+            loaded,
+        })
+    }
+}
+
+/// `runcast reach`, resolved.
+pub struct ReachOptions {
+    pub loaded: Loaded,
+    pub settings: ReachSettings,
+    pub threads: Option<usize>,
+    pub quiet: bool,
+    pub out: PathBuf,
+    pub formats: FigureFormats,
+}
+
+impl ReachOptions {
+    /// The exposures checked as for `spectrum` (live time, none repeated, at
+    /// most [`MAX_REACH_EXPOSURES`]); the toys bounded per position and in
+    /// total over positions and exposures.
+    pub fn resolve(args: &ReachArgs) -> Result<ReachOptions, Error> {
+        if args.days.len() > MAX_REACH_EXPOSURES {
+            return Err(Error::Usage(format!(
+                "--days: at most {MAX_REACH_EXPOSURES} exposures fit in one reach figure, got {}",
+                args.days.len()
+            )));
+        }
+        if args.toys > MAX_TOYS_PER_POINT {
+            return Err(Error::Usage(format!(
+                "--toys {}: at most {MAX_TOYS_PER_POINT} pseudo-experiments per position are allowed",
+                args.toys
+            )));
+        }
+        let loaded = Loaded::load(&args.scenario)?;
+        for (index, &days) in args.days.iter().enumerate() {
+            loaded.live_days(days)?;
+            if args.days[..index].contains(&days) {
+                return Err(Error::Usage(format!(
+                    "--days {}: given more than once",
+                    show(days)
+                )));
+            }
+        }
+        let positions = loaded.scenario.signal_scan().map_or(0, |scan| scan.len());
+        let total = args.toys as u64 * positions as u64 * args.days.len() as u64;
+        if total > MAX_TOYS_IN_TOTAL {
+            return Err(Error::Usage(format!(
+                "--toys {}: {total} pseudo-experiments over {positions} positions and {} exposures, more than the {MAX_TOYS_IN_TOTAL} allowed",
+                args.toys,
+                args.days.len()
+            )));
+        }
+        let plan = &loaded.scenario.plan;
+        Ok(ReachOptions {
+            settings: ReachSettings {
+                days: args.days.clone(),
+                cl: plan.cl,
+                targets: plan.targets.clone(),
+                toys: args.toys,
+                seed: loaded.seed(args.seed),
+            },
+            threads: check_threads(args.threads)?,
+            quiet: args.quiet,
             out: loaded.output_directory(args.out.as_deref()),
             formats: figure_formats(&args.figures)?,
             loaded,

@@ -13,6 +13,7 @@ pub use ensembles::{
     CalibrationCount, CalibrationRequest, LimitRequest, LookElsewhereCount, LookElsewhereRequest,
     PointRequest, PointToys, RunToys, ToySource,
 };
+pub use point::BAND_QUANTILES;
 pub use result::{
     Calibration, DaysToExclusion, DaysToTarget, ExposurePoint, GlobalDays, GlobalSignificance,
     LookElsewhere, Projection, ScanSummary, TargetProbability,

@@ -28,6 +28,9 @@ pub fn warning_text(warning: &Warning) -> String {
             channel,
             ref warning,
         } => format!("channels[{channel}].{}", warning_text(warning)),
+        Warning::UnusedSharedUncertainty { ref name } => format!(
+            "shared_uncertainties.{name}: no signal or background names it in its shared list; it has no effect"
+        ),
         Warning::FirstDayWithoutData {
             first_day,
             days_without_data,

@@ -21,6 +21,7 @@ use crate::shapes::{ParameterValue, Placement, Shape, ShapeError, ShapeKind};
 use crate::warning::Warning;
 use file::ScenarioFile;
 use serde::Deserialize;
+use std::collections::BTreeMap;
 use std::io::Read;
 use std::path::Path;
 
@@ -37,6 +38,9 @@ pub struct Scenario {
     pub channels: Vec<Channel>,
     /// How the channels were written, which sets the dotted paths of errors.
     pub channel_syntax: ChannelSyntax,
+    /// Relative widths of yield factors N(1, width) shared by every signal or
+    /// background that names them in its `shared` list, in any channel.
+    pub shared_uncertainties: BTreeMap<String, f64>,
     pub schedule: Schedule,
     pub plan: Plan,
 }
@@ -84,6 +88,9 @@ pub struct Signal {
     /// Relative width of a Gaussian constraint N(1, width) on a factor on the signal yield.
     #[serde(default)]
     pub yield_uncertainty: Option<f64>,
+    /// Names of shared uncertainties whose factors multiply the signal yield.
+    #[serde(default)]
+    pub shared: Vec<String>,
     /// The positions a search for a peak of unknown position tests; the
     /// shape's own position stays the one of the local projection.
     #[serde(default)]
@@ -108,6 +115,9 @@ pub struct Background {
     /// A signal-free control region that measures this background's normalisation.
     #[serde(default)]
     pub control: Option<ControlRegion>,
+    /// Names of shared uncertainties whose factors multiply this yield.
+    #[serde(default)]
+    pub shared: Vec<String>,
 }
 
 /// An auxiliary, signal-free count of `ratio` times a background's expected
