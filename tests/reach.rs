@@ -47,7 +47,7 @@ fn counts(scenario: &Scenario, position: f64, rate: f64, live_days: f64) -> (Vec
     let scan = scenario.signal_scan().unwrap();
     let moved = scenario.with_signal_at(&scan, position, scan.width_at(position));
     let mut moved_rate = moved.clone();
-    moved_rate.signal.events_per_day = rate;
+    moved_rate.channel_mut().signal.events_per_day = rate;
     let model = Model::from_scenario(&moved_rate);
     let likelihood = Likelihood::new(&model);
     let mut work = likelihood.workspace();
@@ -146,14 +146,14 @@ fn own_position_agrees_with_the_projection() {
     let model = Model::from_scenario(&scenario);
     let likelihood = Likelihood::new(&model);
     let limit = asymptotic_limits(&likelihood, exposure.live_days, 0.05).unwrap();
-    let expected = limit.median * scenario.signal.events_per_day;
+    let expected = limit.median * scenario.signal().events_per_day;
     let computed = own.limit_rate_asimov.unwrap();
     assert!(
         (computed / expected - 1.0).abs() < 1e-9,
         "{computed} vs {expected}"
     );
     let mut at_rate = scenario.clone();
-    at_rate.signal.events_per_day = own.discovery_rate_local[0].unwrap();
+    at_rate.channel_mut().signal.events_per_day = own.discovery_rate_local[0].unwrap();
     let model = Model::from_scenario(&at_rate);
     let likelihood = Likelihood::new(&model);
     let z = AsimovSignificance::new(&likelihood)

@@ -171,7 +171,7 @@ pub fn reach(
                         settings,
                         live_days,
                         exposure_index: index,
-                        rate: scenario.signal.events_per_day,
+                        rate: scenario.signal().events_per_day,
                     };
                     let result = runner.reach(position, width, &global_local_targets, progress);
                     progress(1);
@@ -193,16 +193,17 @@ pub fn reach(
         seed: settings.seed,
         cl: settings.cl,
         targets: settings.targets.clone(),
-        signal_rate: scenario.signal.events_per_day,
+        signal_rate: scenario.signal().events_per_day,
         signal_position: scan_centre(scenario),
-        unit: scenario.observable.unit.clone(),
+        unit: scenario.observable().unit.clone(),
         exposures,
     })
 }
 
 /// The scenario's own signal position (its peak's centre).
 fn scan_centre(scenario: &Scenario) -> f64 {
-    let shape = crate::model::shape_from_spec(&scenario.signal.shape, scenario.observable.range);
+    let shape =
+        crate::model::shape_from_spec(&scenario.signal().shape, scenario.observable().range);
     shape.peak().map_or(f64::NAN, |peak| peak.centre)
 }
 
