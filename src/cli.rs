@@ -166,6 +166,10 @@ pub struct PlanArgs {
     /// Calibrate the discovery p-value with N background-only pseudo-experiments per point.
     #[arg(long, value_name = "N")]
     pub calibrate: Option<usize>,
+    /// Background-only pseudo-experiments per exposure point fitted at every
+    /// position of signal.scan, for the look-elsewhere effect (default 500).
+    #[arg(long, value_name = "N")]
+    pub lee_toys: Option<usize>,
 }
 
 #[derive(Debug, Args)]

@@ -25,6 +25,11 @@ use std::path::{Path, PathBuf};
 /// 1 - Phi(1) = 0.1587 for the calibration to reach even 1 sigma.
 pub const MIN_CALIBRATION_TOYS: usize = 7;
 
+/// Background-only scan pseudo-experiments per point when the scenario has a
+/// `signal.scan` and `--lee-toys` is not given: a few hundred scans measure
+/// the mean upcrossings of the reference level to a few percent.
+pub const DEFAULT_LOOK_ELSEWHERE_TOYS: usize = 500;
+
 /// A validated scenario read from `path`.
 pub struct Loaded {
     pub path: PathBuf,
@@ -100,6 +105,7 @@ struct PlanOverrides {
     asimov_only: bool,
     no_limits: bool,
     calibrate: Option<usize>,
+    lee_toys: Option<usize>,
     /// The shards the projection is split into (0 or 1: not split); the
     /// limits on calibration toys and on all toys then hold per shard, since
     /// a shard holds only its own toys and merging keeps calibration counts.
@@ -114,6 +120,7 @@ impl PlanOverrides {
             asimov_only: args.asimov_only,
             no_limits: args.no_limits,
             calibrate: args.calibrate,
+            lee_toys: args.lee_toys,
             shards,
         }
     }
@@ -149,13 +156,18 @@ fn projection_settings(
             Normal::standard().sf(1.0)
         )));
     }
+    let scan = scenario.signal_scan();
+    if scan.is_none() && overrides.lee_toys.is_some() {
+        return Err(Error::Usage(
+            "--lee-toys: the scenario has no signal.scan, so there is no look-elsewhere effect to estimate".into(),
+        ));
+    }
     let largest_shard = overrides.largest_shard();
-    let calibration_share = overrides
-        .calibrate
-        .map(|toys| largest_shard.toys(toys).len());
+    let share = |toys: Option<usize>| toys.map(|toys| largest_shard.toys(toys).len());
     for (flag, toys) in [
         ("--toys", overrides.toys),
-        ("--calibrate", calibration_share),
+        ("--calibrate", share(overrides.calibrate)),
+        ("--lee-toys", share(overrides.lee_toys)),
     ] {
         if let Some(toys) = toys.filter(|&toys| toys > MAX_TOYS_PER_POINT) {
             return Err(Error::Usage(format!(
@@ -176,10 +188,17 @@ fn projection_settings(
         targets: scenario.plan.targets.clone(),
         cl: (!overrides.no_limits).then_some(scenario.plan.cl),
         calibration_toys: overrides.calibrate.unwrap_or(0),
+        look_elsewhere_toys: match &scan {
+            Some(_) if !overrides.asimov_only => {
+                overrides.lee_toys.unwrap_or(DEFAULT_LOOK_ELSEWHERE_TOYS)
+            }
+            _ => 0,
+        },
+        scan,
     };
     if settings.total_toys_in(largest_shard) > MAX_TOYS_IN_TOTAL {
         return Err(Error::Usage(format!(
-            "--toys/--calibrate: {} pseudo-experiments at each of {} points make {}, more than the {MAX_TOYS_IN_TOTAL} allowed in one projection{}",
+            "--toys/--calibrate/--lee-toys: {} pseudo-experiments at each of {} points make {}, more than the {MAX_TOYS_IN_TOTAL} allowed in one projection{}",
             settings.toys_per_point(),
             settings.days.len(),
             settings.total_toys(),
