@@ -22,7 +22,7 @@ use crate::model::{Model, SIGNAL_STRENGTH};
 use crate::numeric::{Crossing, solve_increasing};
 use crate::projection::{BAND_QUANTILES, quantile};
 use crate::scenario::{Scenario, SignalScan};
-use crate::upcrossings::{ScanGeometry, UpcrossingError, scan_geometry, scan_path};
+use crate::upcrossings::{ScanGeometry, UpcrossingError, scan_geometry_of};
 use rayon::prelude::*;
 use std::fmt;
 
@@ -209,14 +209,8 @@ pub fn geometry_at(
     scan: &SignalScan,
     live_days: f64,
 ) -> Result<ScanGeometry, ReachError> {
-    let geometry_error = |failure| ReachError::Geometry { live_days, failure };
-    let signal = model.channels[0]
-        .components
-        .iter()
-        .find(|component| component.is_signal)
-        .expect("every model has a signal");
-    let path = scan_path(scan, signal.shape.as_ref()).map_err(geometry_error)?;
-    scan_geometry(&Likelihood::new(model), &path, live_days).map_err(geometry_error)
+    scan_geometry_of(&Likelihood::new(model), scan, live_days)
+        .map_err(|failure| ReachError::Geometry { live_days, failure })
 }
 
 /// Everything at one position and exposure.

@@ -122,6 +122,23 @@ pub fn scan_path<'a>(
     })
 }
 
+/// The geometry of the scan `scan` of the model's signal at `live_days`.
+pub fn scan_geometry_of(
+    likelihood: &Likelihood,
+    scan: &SignalScan,
+    live_days: f64,
+) -> Result<ScanGeometry, UpcrossingError> {
+    let signal = likelihood
+        .model()
+        .channels
+        .iter()
+        .flat_map(|channel| &channel.components)
+        .find(|component| component.is_signal)
+        .expect("every model has a signal");
+    let path = scan_path(scan, signal.shape.as_ref())?;
+    scan_geometry(likelihood, &path, live_days)
+}
+
 /// The geometry of `path` at `live_days`: the integral of sqrt(lambda2) by
 /// adaptive Gauss-Legendre quadrature, starting from panels of about one
 /// width (module docs).
