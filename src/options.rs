@@ -9,8 +9,8 @@ use runcast::model::{LiveTime, Model};
 use runcast::projection::{ProjectionSettings, ShardSpec};
 use runcast::report::{DPI_RANGE, FigureFormats};
 use runcast::scenario::limits::{
-    MAX_EXPECTED_COUNT_PER_BIN, MAX_SPECTRUM_EXPOSURES, MAX_THREADS, MAX_TOYS_IN_TOTAL,
-    MAX_TOYS_PER_POINT,
+    MAX_AT_DAYS, MAX_EXPECTED_COUNT_PER_BIN, MAX_SPECTRUM_EXPOSURES, MAX_THREADS,
+    MAX_TOYS_IN_TOTAL, MAX_TOYS_PER_POINT,
 };
 use runcast::scenario::{Scenario, ScenarioError};
 use runcast::spectrum::largest_expected_count;
@@ -97,6 +97,8 @@ struct PlanOverrides {
     asimov_only: bool,
     no_limits: bool,
     calibrate: Option<usize>,
+    /// `--at` days, as given.
+    at: Vec<f64>,
     /// The shards the projection is split into (0 or 1: not split); the
     /// limits on calibration toys and on all toys then hold per shard, since
     /// a shard holds only its own toys and merging keeps calibration counts.
@@ -111,6 +113,7 @@ impl PlanOverrides {
             asimov_only: args.asimov_only,
             no_limits: args.no_limits,
             calibrate: args.calibrate,
+            at: args.at.clone(),
             shards,
         }
     }
@@ -168,6 +171,7 @@ fn projection_settings(
     let settings = ProjectionSettings {
         title: scenario.title.clone(),
         days: scenario.plan.days.days(),
+        at_days: at_days(&overrides.at)?,
         toys,
         seed: loaded.seed(overrides.seed),
         targets: scenario.plan.targets.clone(),
@@ -178,7 +182,7 @@ fn projection_settings(
         return Err(Error::Usage(format!(
             "--toys/--calibrate: {} pseudo-experiments at each of {} points make {}, more than the {MAX_TOYS_IN_TOTAL} allowed in one projection{}",
             settings.toys_per_point(),
-            settings.days.len(),
+            settings.days.len() + settings.at_days.len(),
             settings.total_toys(),
             if largest_shard.count > 1 {
                 " or shard"
@@ -190,27 +194,66 @@ fn projection_settings(
     Ok(settings)
 }
 
+/// The `--at` days in increasing order: each finite and above 0, none
+/// repeated, at most [`MAX_AT_DAYS`].
+fn at_days(days: &[f64]) -> Result<Vec<f64>, Error> {
+    if days.len() > MAX_AT_DAYS {
+        return Err(Error::Usage(format!(
+            "--at: at most {MAX_AT_DAYS} days are allowed, got {}",
+            days.len()
+        )));
+    }
+    let mut sorted = days.to_vec();
+    if let Some(&bad) = sorted.iter().find(|&&day| !(day.is_finite() && day > 0.0)) {
+        return Err(Error::Usage(format!(
+            "--at {}: expected calendar days above 0",
+            show(bad)
+        )));
+    }
+    sorted.sort_by(f64::total_cmp);
+    if let Some(pair) = sorted.windows(2).find(|pair| pair[0] == pair[1]) {
+        return Err(Error::Usage(format!(
+            "--at {}: given more than once",
+            show(pair[0])
+        )));
+    }
+    Ok(sorted)
+}
+
 /// Pseudo-experiments draw whole counts: refuses a grid whose last day
 /// expects more than [`MAX_EXPECTED_COUNT_PER_BIN`] events in a bin or a
-/// control region, naming `plan.days.last` (a scenario error, not a usage one).
+/// control region, naming `plan.days.last` (a scenario error, not a usage
+/// one), and likewise the last `--at` day (a usage error).
 fn check_countable(
     loaded: &Loaded,
     model: &Model,
     settings: &ProjectionSettings,
 ) -> Result<(), Error> {
+    let too_many = |day: f64| {
+        let largest = largest_expected_count(model, model.live_time.live_days(day));
+        (largest > MAX_EXPECTED_COUNT_PER_BIN).then(|| {
+            format!(
+                "{} days expect {largest:e} events in a bin, more than the {MAX_EXPECTED_COUNT_PER_BIN:e} a pseudo-experiment can draw exactly",
+                show(day)
+            )
+        })
+    };
     let last_day = settings.days.last().copied().unwrap_or_default();
-    let largest = largest_expected_count(model, model.live_time.live_days(last_day));
-    if largest > MAX_EXPECTED_COUNT_PER_BIN {
+    if let Some(message) = too_many(last_day) {
         return Err(Error::Scenario {
             path: loaded.path.clone(),
             source: ScenarioError::invalid(
                 "plan.days.last",
-                format!(
-                    "{} days expect {largest:e} events in a bin, more than the {MAX_EXPECTED_COUNT_PER_BIN:e} a pseudo-experiment can draw exactly; shorten the grid or use --asimov-only",
-                    show(last_day)
-                ),
+                format!("{message}; shorten the grid or use --asimov-only"),
             ),
         });
+    }
+    let last_at = settings.at_days.last().copied().unwrap_or_default();
+    if let Some(message) = too_many(last_at) {
+        return Err(Error::Usage(format!(
+            "--at {}: {message}; ask for an earlier day or use --asimov-only",
+            show(last_at)
+        )));
     }
     Ok(())
 }

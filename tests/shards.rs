@@ -40,6 +40,7 @@ fn settings(scenario: &Scenario, seed: u64, calibration_toys: usize) -> Projecti
     ProjectionSettings {
         title: scenario.title.clone(),
         days: scenario.plan.days.days(),
+        at_days: Vec::new(),
         toys: TOYS,
         seed,
         targets: scenario.plan.targets.clone(),
@@ -67,8 +68,13 @@ fn merged_shards_give_the_unsharded_bytes_on_every_demo() {
     let scratch = Scratch::new("merge-every-demo");
     for name in DEMOS {
         let (scenario, text) = demo(name);
-        for calibration_toys in [0, CALIBRATION_TOYS] {
-            let settings = settings(&scenario, 11, calibration_toys);
+        // Without and with calibration toys and `--at` days (their own
+        // points, run after the grid's).
+        for (calibration_toys, at_days) in [(0, vec![]), (CALIBRATION_TOYS, vec![45.5, 200.0])] {
+            let settings = ProjectionSettings {
+                at_days,
+                ..settings(&scenario, 11, calibration_toys)
+            };
             let model = Model::from_scenario(&scenario);
             let unsharded = rendered(&project(&model, &settings, &|_| {}).expect("projects"));
             let run = ShardRun::new(name.into(), text.clone(), settings);

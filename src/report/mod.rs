@@ -36,8 +36,8 @@ pub use compare::{
 pub use convert::{DEFAULT_DPI, DPI_RANGE, FigureFormat, FigureFormats};
 pub use error::ReportError;
 pub use projection::{
-    LIMITS_SVG, PROBABILITY_SVG, PROJECTION_CSV, PROJECTION_FILES, PROJECTION_JSON, PROJECTION_SVG,
-    render_all, summary,
+    AT_CSV, LIMITS_SVG, PROBABILITY_SVG, PROJECTION_CSV, PROJECTION_FILES, PROJECTION_JSON,
+    PROJECTION_SVG, render_all, summary,
 };
 pub use spectrum::{render_spectrum, spectrum_summary};
 pub use warnings::warning_text;

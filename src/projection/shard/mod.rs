@@ -7,8 +7,9 @@
 //! merging needs and nothing else:
 //!
 //! - a header: the runcast version, the scenario text and its SHA-256, the
-//!   projection settings (seed, toys, limits, calibration, grid), K and N;
-//! - per grid point with live time, the shard's part of each ensemble: the
+//!   projection settings (seed, toys, limits, calibration, grid, `--at`
+//!   days), K and N;
+//! - per grid point with live time, then per `--at` day with live time, the shard's part of each ensemble: the
 //!   failed fits and the converged values (8 bytes a toy, in toy order) of
 //!   the discovery and limit ensembles, whose quantiles need every value,
 //!   and three counts for the calibration, whose p-value needs only how
@@ -38,7 +39,7 @@ use std::ops::Range;
 use std::str::FromStr;
 
 /// The first bytes of every shard file, with the format number.
-const MAGIC: &[u8; 16] = b"runcast-shard 1\n";
+const MAGIC: &[u8; 16] = b"runcast-shard 2\n";
 /// The extension of shard files; `merge` reads every file of a directory with it.
 pub const SHARD_EXTENSION: &str = "runcast-shard";
 /// Bytes of the SHA-256 checksum at the end of a shard file.
@@ -128,6 +129,7 @@ impl ShardRun {
         out.text(&self.scenario_text);
         out.text(&settings.title);
         out.floats(&settings.days);
+        out.floats(&settings.at_days);
         out.count(settings.toys);
         out.u64(settings.seed);
         out.floats(&settings.targets);
@@ -143,6 +145,7 @@ impl ShardRun {
         let scenario_text = input.text()?;
         let title = input.text()?;
         let days = input.floats()?;
+        let at_days = input.floats()?;
         let toys = input.count()?;
         let seed = input.u64()?;
         let targets = input.floats()?;
@@ -156,6 +159,7 @@ impl ShardRun {
             settings: ProjectionSettings {
                 title,
                 days,
+                at_days,
                 toys,
                 seed,
                 targets,
@@ -223,6 +227,13 @@ impl ShardRun {
             )
         })
         .or_else(|| named("limits (CL)", format!("{:?}", a.cl), format!("{:?}", b.cl)))
+        .or_else(|| {
+            named(
+                "--at",
+                format!("{:?}", a.at_days),
+                format!("{:?}", b.at_days),
+            )
+        })
         .or_else(|| (self != other).then(|| "projection settings".to_string()))
     }
 }

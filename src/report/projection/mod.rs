@@ -1,10 +1,12 @@
 //! The projection's files: `significance.rs` (`projection.svg`, significance
 //! against days), `probability.rs` (`probability.svg`, probability of reaching
 //! each target), `limits.rs` (`limits.svg`, expected upper limit on the
-//! signal strength), `csv.rs`, `json.rs`, and `summary.rs` for the terminal.
+//! signal strength), `csv.rs` (`projection.csv`, `at.csv`), `json.rs`, and
+//! `summary.rs` for the terminal (with `at_summary.rs`, the `--at` days).
 //! `check.rs` holds what they may assume about a projection, `ensembles.rs`
 //! how each ensemble of pseudo-experiments is named and counted.
 
+mod at_summary;
 mod check;
 mod csv;
 pub(super) mod ensembles;
@@ -32,14 +34,17 @@ pub const PROBABILITY_SVG: &str = "probability.svg";
 pub const LIMITS_SVG: &str = "limits.svg";
 /// File name of the per-exposure table.
 pub const PROJECTION_CSV: &str = "projection.csv";
+/// File name of the table of the `--at` days (only with `--at`).
+pub const AT_CSV: &str = "at.csv";
 /// File name of the whole projection as JSON.
 pub const PROJECTION_JSON: &str = "projection.json";
 /// Every file `render_all` can give: the output set of `runcast project`.
-pub const PROJECTION_FILES: [&str; 5] = [
+pub const PROJECTION_FILES: [&str; 6] = [
     PROJECTION_SVG,
     PROBABILITY_SVG,
     LIMITS_SVG,
     PROJECTION_CSV,
+    AT_CSV,
     PROJECTION_JSON,
 ];
 
@@ -63,6 +68,7 @@ pub fn render_all(projection: &Projection) -> Result<Vec<Report>, ReportError> {
             .cl
             .map(|_| output(LIMITS_SVG, Kind::Figure, limits::render)),
         Some(output(PROJECTION_CSV, Kind::Table, csv::render)),
+        (!projection.at.is_empty()).then(|| output(AT_CSV, Kind::Table, csv::render_at)),
         Some(output(PROJECTION_JSON, Kind::Document, json::render)),
     ];
     let outputs: Vec<&dyn Render> = outputs
@@ -150,7 +156,7 @@ mod tests {
 
     #[test]
     fn the_output_set_names_every_file_render_all_can_give() {
-        let reports = render_all(&example::with_limits()).unwrap();
+        let reports = render_all(&example::with_at_day()).unwrap();
         let names: Vec<&str> = reports.iter().map(|report| report.name.as_str()).collect();
         assert_eq!(names, PROJECTION_FILES);
     }

@@ -47,6 +47,7 @@ pub fn summary(projection: &Projection) -> String {
     if let Some(cl) = projection.cl {
         text.push_str(&exclusion_line(projection, cl, last_day));
     }
+    text.push_str(&super::at_summary::at_days_text(projection));
     if let Some(table) = calibration_table(projection) {
         text.push('\n');
         text.push_str(&table);
