@@ -222,7 +222,7 @@ fn at_days(days: &[f64]) -> Result<Vec<f64>, Error> {
 
 /// Pseudo-experiments draw whole counts: refuses a grid whose last day
 /// expects more than [`MAX_EXPECTED_COUNT_PER_BIN`] events in a bin or a
-/// control region, naming `plan.days.last` (a scenario error, not a usage
+/// control region, naming the last day of `plan.days` (a scenario error, not a usage
 /// one), and likewise the last `--at` day (a usage error).
 fn check_countable(
     loaded: &Loaded,
@@ -243,7 +243,7 @@ fn check_countable(
         return Err(Error::Scenario {
             path: loaded.path.clone(),
             source: ScenarioError::invalid(
-                "plan.days.last",
+                &loaded.scenario.plan.days.last_field(),
                 format!("{message}; shorten the grid or use --asimov-only"),
             ),
         });
