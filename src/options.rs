@@ -243,7 +243,7 @@ fn check_countable(
         return Err(Error::Scenario {
             path: loaded.path.clone(),
             source: ScenarioError::invalid(
-                &loaded.scenario.plan.days.last_field(),
+                loaded.scenario.plan.days.last_field(),
                 format!("{message}; shorten the grid or use --asimov-only"),
             ),
         });
