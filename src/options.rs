@@ -7,6 +7,7 @@ use crate::error::Error;
 use runcast::message::show;
 use runcast::model::{LiveTime, Model};
 use runcast::projection::{ProjectionSettings, ShardSpec};
+use runcast::provenance::{Provenance, ScenarioFile, projection_options};
 use runcast::report::{DPI_RANGE, FigureFormats};
 use runcast::scenario::limits::{
     MAX_AT_DAYS, MAX_EXPECTED_COUNT_PER_BIN, MAX_SPECTRUM_EXPOSURES, MAX_THREADS,
@@ -14,6 +15,7 @@ use runcast::scenario::limits::{
 };
 use runcast::scenario::{Scenario, ScenarioError};
 use runcast::spectrum::largest_expected_count;
+use serde_json::{Map, json};
 use statrs::distribution::{ContinuousCDF, Normal};
 use std::path::{Path, PathBuf};
 
@@ -51,6 +53,11 @@ impl Loaded {
             || "scenario".into(),
             |name| name.to_string_lossy().into_owned(),
         )
+    }
+
+    /// The scenario file as provenance records it: its name and SHA-256.
+    pub fn scenario_file(&self) -> ScenarioFile {
+        ScenarioFile::new(&self.file_name(), &self.text)
     }
 
     /// `out`, or `output/<scenario file stem>`.
@@ -297,6 +304,11 @@ pub struct ProjectOptions {
 }
 
 impl ProjectOptions {
+    /// What made this projection's outputs.
+    pub fn provenance(&self) -> Provenance {
+        Provenance::of_projection(self.loaded.scenario_file(), &self.settings)
+    }
+
     pub fn resolve(args: &ProjectArgs) -> Result<ProjectOptions, Error> {
         let threads = check_threads(args.threads)?;
         let formats = figure_formats(&args.figures)?;
@@ -320,6 +332,26 @@ impl ProjectOptions {
             settings,
         })
     }
+}
+
+/// What made a comparison: every plan's scenario, and per plan the options
+/// of its projection, in the order of the plans.
+pub fn comparison_provenance(plans: &[ProjectOptions]) -> Provenance {
+    let mut options = Map::new();
+    options.insert(
+        "plans".into(),
+        plans
+            .iter()
+            .map(|plan| serde_json::Value::Object(projection_options(&plan.settings)))
+            .collect(),
+    );
+    Provenance::new(
+        plans
+            .iter()
+            .map(|plan| plan.loaded.scenario_file())
+            .collect(),
+        options,
+    )
 }
 
 /// `runcast slurm`, resolved: the projection every shard runs, and the
@@ -416,6 +448,14 @@ pub struct SpectrumOptions {
 }
 
 impl SpectrumOptions {
+    /// What made these spectra: the scenario, the seed and the days.
+    pub fn provenance(&self) -> Provenance {
+        let mut options = Map::new();
+        options.insert("seed".into(), json!(self.seed));
+        options.insert("days".into(), json!(self.days));
+        Provenance::new(vec![self.loaded.scenario_file()], options)
+    }
+
     pub fn resolve(args: &SpectrumArgs) -> Result<SpectrumOptions, Error> {
         if args.days.len() > MAX_SPECTRUM_EXPOSURES {
             return Err(Error::Usage(format!(
@@ -452,6 +492,13 @@ pub struct BinningOptions {
 }
 
 impl BinningOptions {
+    /// What made this scan: the scenario and the day.
+    pub fn provenance(&self) -> Provenance {
+        let mut options = Map::new();
+        options.insert("days".into(), json!(self.days));
+        Provenance::new(vec![self.loaded.scenario_file()], options)
+    }
+
     pub fn resolve(args: &BinningArgs) -> Result<BinningOptions, Error> {
         let loaded = Loaded::load(&args.scenario)?;
         loaded.live_days(args.days)?;

@@ -12,6 +12,7 @@ use runcast::model::Model;
 use runcast::projection::{
     ProjectionSettings, ShardError, ShardRun, ShardSpec, merge_shards, project, run_shard,
 };
+use runcast::provenance::{Provenance, ScenarioFile};
 use runcast::report::{Report, render_all};
 use runcast::scenario::Scenario;
 use std::fs;
@@ -59,8 +60,8 @@ fn run_shards(scenario: &Scenario, run: &ShardRun, count: usize, directory: &Pat
         .collect()
 }
 
-fn rendered(projection: &runcast::projection::Projection) -> Vec<Report> {
-    render_all(projection).expect("renders")
+fn rendered(projection: &runcast::projection::Projection, provenance: &Provenance) -> Vec<Report> {
+    render_all(projection, provenance).expect("renders")
 }
 
 #[test]
@@ -76,7 +77,12 @@ fn merged_shards_give_the_unsharded_bytes_on_every_demo() {
                 ..settings(&scenario, 11, calibration_toys)
             };
             let model = Model::from_scenario(&scenario);
-            let unsharded = rendered(&project(&model, &settings, &|_| {}).expect("projects"));
+            // The provenance `runcast project` records: file name, SHA-256, options.
+            let provenance = Provenance::of_projection(ScenarioFile::new(name, &text), &settings);
+            let unsharded = rendered(
+                &project(&model, &settings, &|_| {}).expect("projects"),
+                &provenance,
+            );
             let run = ShardRun::new(name.into(), text.clone(), settings);
             for count in [1, 2, 3, 7] {
                 let directory = scratch
@@ -85,7 +91,8 @@ fn merged_shards_give_the_unsharded_bytes_on_every_demo() {
                 run_shards(&scenario, &run, count, &directory);
                 let (merged_run, merged) = merge_shards(&directory).expect("merges");
                 assert_eq!(merged_run, run);
-                let merged = rendered(&merged);
+                assert_eq!(merged_run.provenance(), provenance);
+                let merged = rendered(&merged, &merged_run.provenance());
                 assert_eq!(merged.len(), unsharded.len());
                 for (merged, unsharded) in merged.iter().zip(&unsharded) {
                     assert_eq!(merged.name, unsharded.name);

@@ -32,6 +32,7 @@ pub use merge::merge_shards;
 pub use write::run_shard;
 
 use super::ProjectionSettings;
+use crate::provenance::{Provenance, ScenarioFile};
 use encoding::{Decoder, Encoder, hex};
 use sha2::{Digest, Sha256};
 use std::fmt;
@@ -113,6 +114,14 @@ impl ShardRun {
             scenario_text,
             settings,
         }
+    }
+
+    /// What made the merged outputs: the provenance of the unsharded run.
+    pub fn provenance(&self) -> Provenance {
+        Provenance::of_projection(
+            ScenarioFile::new(&self.scenario_name, &self.scenario_text),
+            &self.settings,
+        )
     }
 
     /// SHA-256 of the scenario file's bytes.

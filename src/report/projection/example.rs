@@ -380,3 +380,14 @@ pub(crate) fn with_at_day() -> Projection {
     )];
     projection
 }
+
+/// The provenance of an invented run, for rendering in tests.
+pub(crate) fn provenance() -> crate::provenance::Provenance {
+    crate::provenance::Provenance::new(
+        vec![crate::provenance::ScenarioFile::new(
+            "invented.yaml",
+            "invented",
+        )],
+        serde_json::Map::new(),
+    )
+}

@@ -442,7 +442,11 @@ warning: systematic uncertainties make Z_A saturate at 4.50σ however long the r
         calibration.z_toys = None;
         calibration.tail_reach_z = Calibration::tail_reach(1);
         let days = grid_day(projection.points[3].days, None);
-        crate::report::render_all(&projection).unwrap();
+        crate::report::render_all(
+            &projection,
+            &crate::report::projection::example::provenance(),
+        )
+        .unwrap();
         let text = summary(&projection);
         assert!(
             text.contains("note: at one point only 1 background-only pseudo-experiments converged"),
