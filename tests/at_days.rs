@@ -31,6 +31,8 @@ fn settings(days: &[f64], at_days: &[f64], toys: usize) -> ProjectionSettings {
         targets: vec![3.0, 5.0],
         cl: Some(0.95),
         calibration_toys: 0,
+        scan: None,
+        look_elsewhere_toys: 0,
     }
 }
 

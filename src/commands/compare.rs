@@ -65,6 +65,7 @@ fn project_args(args: &CompareArgs, plan: &Path) -> ProjectArgs {
             no_limits: args.no_limits,
             calibrate: None,
             at: Vec::new(),
+            lee_toys: None,
         },
         out: None,
         figures: args.figures.clone(),

@@ -3,18 +3,23 @@
 use super::{
     Channel, Component, Constraint, LiveTime, Model, Parameter, SIGNAL_STRENGTH, ShapeParameters,
 };
-use crate::scenario::{Background, NormUncertainty, Scenario, ShapeSpec, Signal};
+use crate::scenario::{self, Background, NormUncertainty, Scenario, ShapeSpec, Signal};
 use crate::shapes;
+use std::collections::{BTreeMap, BTreeSet};
 
 impl Model {
-    /// The single-channel model of a scenario: mu, an optional constrained signal
-    /// yield factor, one factor per background whose normalisation is uncertain,
-    /// and the parameters of every background shape marked `float_shape`.
+    /// The model of a scenario: mu, common to all channels, one factor per
+    /// shared uncertainty that some yield names (in name order), then per channel
+    /// an optional constrained signal yield factor, one factor per background
+    /// whose normalisation is uncertain, and the parameters of every
+    /// background shape marked `float_shape`.
     pub fn from_scenario(scenario: &Scenario) -> Model {
         let mut builder = Builder {
             parameters: Vec::new(),
             constraints: Vec::new(),
-            range: scenario.observable.range,
+            range: scenario.observable().range,
+            prefix: String::new(),
+            shared: BTreeMap::new(),
         };
         builder.parameters.push(Parameter {
             name: "signal_strength".into(),
@@ -23,24 +28,25 @@ impl Model {
             upper: f64::INFINITY,
         });
         debug_assert_eq!(builder.parameters.len() - 1, SIGNAL_STRENGTH);
+        builder.shared_factors(scenario);
 
-        let mut components = vec![builder.signal_component(&scenario.signal)];
-        components.extend(
-            scenario
-                .backgrounds
-                .iter()
-                .map(|b| builder.background_component(b)),
-        );
-
-        let observable = &scenario.observable;
+        let several = scenario.channels.len() > 1;
+        let channels = scenario
+            .channels
+            .iter()
+            .map(|channel| {
+                builder.range = channel.observable.range;
+                builder.prefix = if several {
+                    format!("{}.", channel.name)
+                } else {
+                    String::new()
+                };
+                builder.channel(channel)
+            })
+            .collect();
         Model {
             parameters: builder.parameters,
-            channels: vec![Channel {
-                name: observable.name.clone(),
-                unit: observable.unit.clone(),
-                edges: bin_edges(observable.range, observable.bin_width),
-                components,
-            }],
+            channels,
             constraints: builder.constraints,
             live_time: LiveTime::from_schedule(&scenario.schedule),
         }
@@ -64,14 +70,57 @@ pub fn bin_edges(range: [f64; 2], width: f64) -> Vec<f64> {
 struct Builder {
     parameters: Vec<Parameter>,
     constraints: Vec<Constraint>,
-    /// The observable's range, on which every shape is normalised.
+    /// The channel's range, on which every shape is normalised.
     range: [f64; 2],
+    /// Put before every parameter name: the channel's name when there are several.
+    prefix: String,
+    /// The parameter of each shared uncertainty in use, by name.
+    shared: BTreeMap<String, usize>,
 }
 
 impl Builder {
+    /// One factor N(1, width) per shared uncertainty that a signal or
+    /// background names; an unused one (a warning) adds nothing to the fits.
+    fn shared_factors(&mut self, scenario: &Scenario) {
+        let names = scenario.channels.iter().flat_map(|channel| {
+            let backgrounds = channel.backgrounds.iter().flat_map(|b| &b.shared);
+            channel.signal.shared.iter().chain(backgrounds)
+        });
+        let used: BTreeSet<&String> = names.collect();
+        for (name, &width) in &scenario.shared_uncertainties {
+            if used.contains(name) {
+                let parameter = self.yield_factor(format!("shared.{name}"), Some(width));
+                self.shared.insert(name.clone(), parameter);
+            }
+        }
+    }
+
+    /// The parameters of the shared uncertainties a yield names.
+    fn shared_parameters<'a>(&'a self, names: &'a [String]) -> impl Iterator<Item = usize> + 'a {
+        names.iter().map(|name| self.shared[name])
+    }
+
+    /// One channel's components (signal first), their parameters and constraints.
+    fn channel(&mut self, channel: &scenario::Channel) -> Channel {
+        let mut components = vec![self.signal_component(&channel.signal)];
+        components.extend(
+            channel
+                .backgrounds
+                .iter()
+                .map(|b| self.background_component(b)),
+        );
+        let observable = &channel.observable;
+        Channel {
+            name: channel.name.clone(),
+            unit: observable.unit.clone(),
+            edges: bin_edges(observable.range, observable.bin_width),
+            components,
+        }
+    }
+
     fn add_parameter(&mut self, name: String, nominal: f64, lower: f64) -> usize {
         self.parameters.push(Parameter {
-            name,
+            name: format!("{}{name}", self.prefix),
             nominal,
             lower,
             upper: f64::INFINITY,
@@ -94,6 +143,7 @@ impl Builder {
         if let Some(width) = signal.yield_uncertainty {
             yield_parameters.push(self.yield_factor("signal.yield_factor".into(), Some(width)));
         }
+        yield_parameters.extend(self.shared_parameters(&signal.shared));
         let shape = shape_from_spec(&signal.shape, self.range);
         Component {
             name: "signal".into(),
@@ -107,7 +157,7 @@ impl Builder {
 
     fn background_component(&mut self, background: &Background) -> Component {
         let factor_name = format!("{}.norm_factor", background.name);
-        let yield_parameters = match (background.norm_uncertainty, background.control) {
+        let mut yield_parameters = match (background.norm_uncertainty, background.control) {
             (_, Some(control)) => {
                 let parameter = self.yield_factor(factor_name, None);
                 self.constraints.push(Constraint::ControlRegion {
@@ -122,6 +172,7 @@ impl Builder {
             }
             (Some(NormUncertainty::Free), None) => vec![self.yield_factor(factor_name, None)],
         };
+        yield_parameters.extend(self.shared_parameters(&background.shared));
         let shape = shape_from_spec(&background.shape, self.range);
         let shape_parameters = if background.float_shape {
             let names = shape.parameter_names();

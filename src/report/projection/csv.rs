@@ -12,7 +12,11 @@
 //! limit_asimov_q97_7` (asymptotic, the -2, -1, +1, +2 σ limits standing at
 //! those quantiles), `limit_failed_fits`; then the q0 calibration,
 //! `calibration_converged_toys, calibration_failed_fits, calibration_exceeding,
-//! q0_asimov, p_asymptotic, p_toys, z_asymptotic, z_toys, tail_reach_z`. An
+//! q0_asimov, p_asymptotic, p_toys, z_asymptotic, z_toys, tail_reach_z`;
+//! with a scan of the signal position (only then), the look-elsewhere
+//! columns `z_global_asimov, z_global_median, reference_level,
+//! mean_upcrossings, mean_upcrossings_error, look_elsewhere_toys,
+//! look_elsewhere_failed_fits, direct_global_p, trials_factor`. An
 //! empty cell means no value (an Asimov-only run has no toy columns filled, a
 //! run without limits or calibration none of theirs). Numbers are
 //! written as the shortest decimal that reads back to the same f64
@@ -27,7 +31,9 @@
 //! the same ten columns of `limit_events_...`.
 
 use super::{AT_CSV, PROJECTION_CSV};
-use crate::projection::{AtDay, Calibration, EventLimits, ExposurePoint, Projection};
+use crate::projection::{
+    AtDay, Calibration, EventLimits, ExposurePoint, GlobalSignificance, Projection,
+};
 use crate::report::ReportError;
 use crate::report::kit::dates::date_cell;
 use crate::report::kit::encode::csv_bytes;
@@ -72,6 +78,20 @@ const CALIBRATION_COLUMNS: [&str; 9] = [
     "tail_reach_z",
 ];
 
+/// The look-elsewhere columns at the end, with a scan only, in the order of
+/// [`global_cells`].
+const GLOBAL_COLUMNS: [&str; 9] = [
+    "z_global_asimov",
+    "z_global_median",
+    "reference_level",
+    "mean_upcrossings",
+    "mean_upcrossings_error",
+    "look_elsewhere_toys",
+    "look_elsewhere_failed_fits",
+    "direct_global_p",
+    "trials_factor",
+];
+
 /// The suffixes of the columns of limits in one unit, in the order of [`event_limit_cells`].
 const EVENT_LIMIT_SUFFIXES: [&str; 10] = [
     "median",
@@ -90,18 +110,18 @@ const EVENT_LIMIT_SUFFIXES: [&str; 10] = [
 pub(super) fn render(projection: &Projection) -> Result<Vec<u8>, ReportError> {
     let (columns, rows) = dated(
         projection,
-        header(&projection.targets),
+        point_columns(projection),
         projection
             .points
             .iter()
-            .map(|point| (point.days, row(point))),
+            .map(|point| (point.days, point_row(projection, point))),
     );
     csv_bytes(PROJECTION_CSV, columns, rows)
 }
 
 /// The CSV table of the `--at` days.
 pub(super) fn render_at(projection: &Projection) -> Result<Vec<u8>, ReportError> {
-    let mut columns = header(&projection.targets);
+    let mut columns = point_columns(projection);
     columns.push("signal_per_live_day".to_string());
     for unit in ["limit_events_per_live_day", "limit_events"] {
         columns.extend(
@@ -113,7 +133,10 @@ pub(super) fn render_at(projection: &Projection) -> Result<Vec<u8>, ReportError>
     let (columns, rows) = dated(
         projection,
         columns,
-        projection.at.iter().map(|at| (at.point.days, at_row(at))),
+        projection
+            .at
+            .iter()
+            .map(|at| (at.point.days, at_row(projection, at))),
     );
     csv_bytes(AT_CSV, columns, rows)
 }
@@ -137,9 +160,27 @@ fn dated(
     (columns, rows)
 }
 
+/// The columns of one point: [`header`], then with a scan [`GLOBAL_COLUMNS`].
+fn point_columns(projection: &Projection) -> Vec<String> {
+    let mut columns = header(&projection.targets);
+    if projection.scan.is_some() {
+        columns.extend(GLOBAL_COLUMNS.iter().map(|name| name.to_string()));
+    }
+    columns
+}
+
+/// The cells of one point, in the order of [`point_columns`].
+fn point_row(projection: &Projection, point: &ExposurePoint) -> Vec<String> {
+    let mut cells = row(point);
+    if projection.scan.is_some() {
+        cells.extend(global_cells(point.global.as_ref()));
+    }
+    cells
+}
+
 /// One row of `at.csv`.
-fn at_row(at: &AtDay) -> Vec<String> {
-    let mut cells = row(&at.point);
+fn at_row(projection: &Projection, at: &AtDay) -> Vec<String> {
+    let mut cells = point_row(projection, &at.point);
     cells.push(number(at.signal_per_live_day));
     cells.extend(event_limit_cells(&at.limit_events_per_live_day));
     cells.extend(event_limit_cells(&at.limit_events));
@@ -235,6 +276,26 @@ fn calibration_cells(calibration: Option<&Calibration>) -> [String; 9] {
         optional(calibration.z_toys),
         optional(calibration.tail_reach_z),
     ]
+}
+
+/// The look-elsewhere cells of one point; empty where nothing was measured.
+fn global_cells(global: Option<&GlobalSignificance>) -> [String; 9] {
+    let Some(global) = global else {
+        return Default::default();
+    };
+    let mut cells: [String; 9] = Default::default();
+    cells[0] = optional(global.z_global_asimov);
+    cells[1] = optional(global.z_global_median);
+    if let Some(measured) = &global.look_elsewhere {
+        cells[2] = number(measured.reference_level);
+        cells[3] = optional(measured.mean_upcrossings);
+        cells[4] = optional(measured.mean_upcrossings_error);
+        cells[5] = measured.toys.to_string();
+        cells[6] = measured.failed_fits.to_string();
+        cells[7] = optional(measured.direct_global_p);
+        cells[8] = optional(measured.trials_factor);
+    }
+    cells
 }
 
 #[cfg(test)]
