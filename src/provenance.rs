@@ -53,7 +53,8 @@ impl Provenance {
 
     /// A projection of `scenario`: its seed, pseudo-experiments per point
     /// (0 for Asimov only), calibration toys, the confidence level of the
-    /// limits (null without limits) and the `--at` days. The grid and the
+    /// limits (null without limits), the `--at` days and, with a position
+    /// scan, the background-only scan toys per point. The grid and the
     /// targets are the scenario's, which its SHA-256 pins.
     pub fn of_projection(scenario: ScenarioFile, settings: &ProjectionSettings) -> Provenance {
         Provenance::new(vec![scenario], projection_options(settings))
@@ -73,6 +74,12 @@ pub fn projection_options(settings: &ProjectionSettings) -> Map<String, Value> {
     options.insert("calibration_toys".into(), json!(settings.calibration_toys));
     options.insert("cl".into(), json!(settings.cl));
     options.insert("at_days".into(), json!(settings.at_days));
+    if settings.scan.is_some() {
+        options.insert(
+            "look_elsewhere_toys".into(),
+            json!(settings.look_elsewhere_toys),
+        );
+    }
     options
 }
 
