@@ -122,6 +122,12 @@ pub struct BenchArgs {
     /// Internal: run one memory measurement POINTS:TOYS and print the peak in bytes.
     #[arg(long, hide = true, value_name = "POINTS:TOYS")]
     pub memory_probe: Option<String>,
+    /// Run only the look-elsewhere rows: background-only scans over 100 signal positions.
+    #[arg(long)]
+    pub scan: bool,
+    /// Internal: run one scan memory measurement POSITIONS:TOYS and print the peak in bytes.
+    #[arg(long, hide = true, value_name = "POSITIONS:TOYS")]
+    pub scan_memory_probe: Option<String>,
 }
 
 #[derive(Debug, Args)]

@@ -7,8 +7,8 @@ mod common;
 
 use runcast::asymptotic::p_value;
 use runcast::ensemble::{
-    EnsemblePlan, Family, Generator, PositionScan, ScanToy, background_only_q0_ensemble,
-    look_elsewhere_ensemble, run_ensemble,
+    EnsemblePlan, Family, Generator, PositionScan, ScanPlacements, ScanToy,
+    background_only_q0_ensemble, look_elsewhere_ensemble, run_ensemble,
 };
 use runcast::likelihood::Likelihood;
 use runcast::look_elsewhere::{REFERENCE_LEVEL, global_p_value, global_significance};
@@ -152,11 +152,12 @@ fn a_single_position_gives_the_local_answer() {
     let mut background_only = model.nominal_parameters();
     background_only[0] = 0.0;
     let generator = Generator::new(&likelihood, &background_only, LIVE_DAYS);
+    let placements = ScanPlacements::new(&likelihood, &scan);
     let scanned = run_ensemble(
         &generator,
         Family::Calibration.stream_index(3),
         &plan,
-        || PositionScan::new(&likelihood, &scan),
+        || PositionScan::new(&likelihood, &placements),
         |positions, data| {
             let mut q0 = Vec::new();
             positions.scan(LIVE_DAYS, data, |q| q0.push(q)).ok()?;
