@@ -174,9 +174,11 @@ impl ScanSummary {
 }
 
 /// Significances at one point after the look-elsewhere effect, by the global
-/// p-value of Gross and Vitells (Eur. Phys. J. C 70 (2010) 525) with N(u0)
-/// from `look_elsewhere`; each None where it was not measured (no live time,
-/// no look-elsewhere or discovery toys, no converged scan).
+/// p-value of Gross and Vitells (Eur. Phys. J. C 70 (2010) 525): for Z_A
+/// with the asymptotic N(u0) of the Asimov geometry (the toys' N(u0) where
+/// that geometry is degenerate), for the toy median with the toys' N(u0);
+/// each None where it was not measured (no live time, no discovery toys, no
+/// converged scan).
 #[derive(Debug, Clone, Serialize)]
 pub struct GlobalSignificance {
     /// The global significance of the Asimov local Z_A.
@@ -186,7 +188,9 @@ pub struct GlobalSignificance {
     pub look_elsewhere: Option<LookElsewhere>,
 }
 
-/// What the background-only scans at one point measured.
+/// What the background-only scans at one point measured, and N(u0) from the
+/// Asimov geometry beside it; with a scan and live time always present (the
+/// toy values None and `toys` 0 without scans).
 #[derive(Debug, Clone, Serialize)]
 pub struct LookElsewhere {
     /// The level u0 of q0 whose upcrossings are counted.
@@ -203,8 +207,13 @@ pub struct LookElsewhere {
     /// Fraction of the scans whose largest q0 reaches the Asimov local q0;
     /// None when none does (the toys do not resolve it).
     pub direct_global_p: Option<f64>,
-    /// p_global / p_local at the Asimov local significance; None without N(u0).
+    /// p_global / p_local at the Asimov local significance, with the
+    /// asymptotic N(u0) (the toys' without it); None without either.
     pub trials_factor: Option<f64>,
+    /// N(u0) from the Asimov geometry of the scan (`upcrossings`), without
+    /// toys; None where that geometry is degenerate (the nuisance parameters
+    /// absorb the signal at some position).
+    pub mean_upcrossings_asimov: Option<f64>,
 }
 
 /// The p-value of the median expected q0 (the Asimov q0), asymptotically and

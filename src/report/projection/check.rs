@@ -168,6 +168,10 @@ fn check_global(index: usize, global: &GlobalSignificance) -> Result<(), ReportE
         )?;
         optional_finite(field("direct_global_p"), measured.direct_global_p)?;
         optional_finite(field("trials_factor"), measured.trials_factor)?;
+        optional_finite(
+            field("mean_upcrossings_asimov"),
+            measured.mean_upcrossings_asimov,
+        )?;
     }
     Ok(())
 }

@@ -16,7 +16,8 @@
 //! with a scan of the signal position (only then), the look-elsewhere
 //! columns `z_global_asimov, z_global_median, reference_level,
 //! mean_upcrossings, mean_upcrossings_error, look_elsewhere_toys,
-//! look_elsewhere_failed_fits, direct_global_p, trials_factor`. An
+//! look_elsewhere_failed_fits, direct_global_p, trials_factor,
+//! mean_upcrossings_asimov`. An
 //! empty cell means no value (an Asimov-only run has no toy columns filled, a
 //! run without limits or calibration none of theirs). Numbers are
 //! written as the shortest decimal that reads back to the same f64
@@ -80,7 +81,7 @@ const CALIBRATION_COLUMNS: [&str; 9] = [
 
 /// The look-elsewhere columns at the end, with a scan only, in the order of
 /// [`global_cells`].
-const GLOBAL_COLUMNS: [&str; 9] = [
+const GLOBAL_COLUMNS: [&str; 10] = [
     "z_global_asimov",
     "z_global_median",
     "reference_level",
@@ -90,6 +91,7 @@ const GLOBAL_COLUMNS: [&str; 9] = [
     "look_elsewhere_failed_fits",
     "direct_global_p",
     "trials_factor",
+    "mean_upcrossings_asimov",
 ];
 
 /// The suffixes of the columns of limits in one unit, in the order of [`event_limit_cells`].
@@ -279,11 +281,11 @@ fn calibration_cells(calibration: Option<&Calibration>) -> [String; 9] {
 }
 
 /// The look-elsewhere cells of one point; empty where nothing was measured.
-fn global_cells(global: Option<&GlobalSignificance>) -> [String; 9] {
+fn global_cells(global: Option<&GlobalSignificance>) -> [String; 10] {
     let Some(global) = global else {
         return Default::default();
     };
-    let mut cells: [String; 9] = Default::default();
+    let mut cells: [String; 10] = Default::default();
     cells[0] = optional(global.z_global_asimov);
     cells[1] = optional(global.z_global_median);
     if let Some(measured) = &global.look_elsewhere {
@@ -294,6 +296,7 @@ fn global_cells(global: Option<&GlobalSignificance>) -> [String; 9] {
         cells[6] = measured.failed_fits.to_string();
         cells[7] = optional(measured.direct_global_p);
         cells[8] = optional(measured.trials_factor);
+        cells[9] = optional(measured.mean_upcrossings_asimov);
     }
     cells
 }
