@@ -80,6 +80,9 @@ pub fn percent_label(cl: f64) -> String {
     format!("{}%", (cl * 1e4).round() / 100.0)
 }
 
+/// The rounding of days in `check` and the summaries, stated where they print days.
+pub const DAYS_ROUNDING: &str = "Days are rounded up (to the next tenth of a day below 10 days, to the next whole day from there on); projection.csv and .json keep full precision.";
+
 /// Calendar days, rounded up so the value is reached by then: to a tenth of a
 /// day below 10 days ("3.1 d"), to whole days from there on ("142 d").
 pub fn days_label(days: f64) -> String {

@@ -15,7 +15,7 @@ pub(super) fn at_days_text(projection: &Projection) -> String {
         return String::new();
     }
     let mut text = String::from(
-        "\nAt the days asked for (--at), each computed at that day with its own pseudo-experiments:\n",
+        "\nAt the days asked for (--at), each computed at that day, not read off the grid:\n",
     );
     for at in &projection.at {
         text.push_str(&at_day_text(projection, at));

@@ -8,8 +8,13 @@ use crate::calendar::CalendarDate;
 use crate::message::show;
 use crate::projection::{Calibration, DaysToTarget, LookElsewhere, Projection};
 use crate::report::kit::dates::{dated_days_label, with_date};
-use crate::report::kit::format::{aligned, fit_percent, percent_label, target_label};
+use crate::report::kit::format::{
+    DAYS_ROUNDING, aligned, fit_percent, percent_label, target_label,
+};
 use crate::report::warning_text;
+
+/// What the toy columns mean, and which to quote.
+const TOY_COLUMNS: &str = "toy median: the day the median pseudo-experiment reaches the target; 50% of toys: the day half of them have (the same question read from P(Z ≥ target), differing only by interpolation) — quote the toy median.\n";
 
 const COLUMNS: [&str; 5] = [
     "target",
@@ -55,6 +60,11 @@ pub fn summary(projection: &Projection) -> String {
     }));
     text.push_str("Calendar days to reach each target\n");
     text.push_str(&aligned(&rows));
+    if projection.toys > 0 {
+        text.push_str(TOY_COLUMNS);
+    }
+    text.push_str(DAYS_ROUNDING);
+    text.push('\n');
     if let Some(line) = scan_line(projection) {
         text.push_str(&line);
     }
@@ -376,6 +386,8 @@ Calendar days to reach each target
 target   Asimov   toy median   50% of toys   90% of toys
 3σ       42 d     44 d         45 d          98 d
 5σ       never    never        never         never
+toy median: the day the median pseudo-experiment reaches the target; 50% of toys: the day half of them have (the same question read from P(Z ≥ target), differing only by interpolation) — quote the toy median.
+Days are rounded up (to the next tenth of a day below 10 days, to the next whole day from there on); projection.csv and .json keep full precision.
 
 Failed fits: 2 of 400 pseudo-experiments (0.50%), excluded from the quantiles.
 warning: more than 0.1% of fits failed at 1 of 2 exposure points (worst: 2 of 200 at 100 d, 1.00%); the quantiles there may be biased.
@@ -422,14 +434,13 @@ warning: systematic uncertainties make Z_A saturate at 4.50σ however long the r
         // Invented limits: median 1.96 σ_μ with σ_μ = sqrt(8d + (0.02·8d)²)/(1.6d)
         // reaches 1 at d = 12.48 (13 d); the toy median, 2% higher, at 13.01 d (14 d).
         let text = summary(&example::with_limits());
-        assert!(
-            text.contains(
-                "5σ       117 d    123 d        123 d         256 d\n\
+        let expected = format!(
+            "5σ       117 d    123 d        123 d         256 d\n\
+             {TOY_COLUMNS}{DAYS_ROUNDING}\n\
              Days until the nominal signal is excluded at 95% CL (median expected CLs limit): \
              Asimov 13 d, toy median 14 d\n"
-            ),
-            "{text}"
         );
+        assert!(text.contains(&expected), "{text}");
     }
 
     #[test]
