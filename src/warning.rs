@@ -42,6 +42,9 @@ pub enum Warning {
         channel: usize,
         warning: Box<Warning>,
     },
+    /// `shared_uncertainties.<name>` is declared but no yield names it in
+    /// its `shared` list: it has no effect.
+    UnusedSharedUncertainty { name: String },
     /// The grid starts on `first_day`, within the first `days_without_data`
     /// days, when the schedule scales every rate to 0.
     FirstDayWithoutData {

@@ -77,7 +77,11 @@ fn reach_writes_its_files_with_the_schema() {
     let json: Value = serde_json::from_slice(&fs::read(out.join("reach.json")).unwrap()).unwrap();
     let keys =
         |value: &Value| -> Vec<String> { value.as_object().unwrap().keys().cloned().collect() };
-    assert_eq!(keys(&json), ["title", "seed", "cl", "targets", "exposures"]);
+    assert_eq!(
+        keys(&json),
+        ["provenance", "title", "seed", "cl", "targets", "exposures"]
+    );
+    assert_eq!(json["provenance"]["options"]["seed"], json["seed"]);
     let exposure = &json["exposures"][0];
     assert_eq!(
         keys(exposure),
@@ -117,7 +121,9 @@ fn reach_writes_its_files_with_the_schema() {
         2
     );
     let csv = fs::read_to_string(out.join("reach.csv")).unwrap();
-    assert_eq!(csv.lines().count(), 1 + 2 * 21);
+    // The provenance comment, the header, two rows per position.
+    assert!(csv.starts_with("# provenance: {"));
+    assert_eq!(csv.lines().count(), 2 + 2 * 21);
     let again = scratch.path.join("again");
     run("2", &again);
     for name in ["reach.csv", "reach.json", "reach.svg"] {

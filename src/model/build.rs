@@ -5,9 +5,11 @@ use super::{
 };
 use crate::scenario::{self, Background, NormUncertainty, Scenario, ShapeSpec, Signal};
 use crate::shapes;
+use std::collections::{BTreeMap, BTreeSet};
 
 impl Model {
-    /// The model of a scenario: mu, common to all channels, then per channel
+    /// The model of a scenario: mu, common to all channels, one factor per
+    /// shared uncertainty that some yield names (in name order), then per channel
     /// an optional constrained signal yield factor, one factor per background
     /// whose normalisation is uncertain, and the parameters of every
     /// background shape marked `float_shape`.
@@ -17,6 +19,7 @@ impl Model {
             constraints: Vec::new(),
             range: scenario.observable().range,
             prefix: String::new(),
+            shared: BTreeMap::new(),
         };
         builder.parameters.push(Parameter {
             name: "signal_strength".into(),
@@ -25,6 +28,7 @@ impl Model {
             upper: f64::INFINITY,
         });
         debug_assert_eq!(builder.parameters.len() - 1, SIGNAL_STRENGTH);
+        builder.shared_factors(scenario);
 
         let several = scenario.channels.len() > 1;
         let channels = scenario
@@ -70,9 +74,32 @@ struct Builder {
     range: [f64; 2],
     /// Put before every parameter name: the channel's name when there are several.
     prefix: String,
+    /// The parameter of each shared uncertainty in use, by name.
+    shared: BTreeMap<String, usize>,
 }
 
 impl Builder {
+    /// One factor N(1, width) per shared uncertainty that a signal or
+    /// background names; an unused one (a warning) adds nothing to the fits.
+    fn shared_factors(&mut self, scenario: &Scenario) {
+        let names = scenario.channels.iter().flat_map(|channel| {
+            let backgrounds = channel.backgrounds.iter().flat_map(|b| &b.shared);
+            channel.signal.shared.iter().chain(backgrounds)
+        });
+        let used: BTreeSet<&String> = names.collect();
+        for (name, &width) in &scenario.shared_uncertainties {
+            if used.contains(name) {
+                let parameter = self.yield_factor(format!("shared.{name}"), Some(width));
+                self.shared.insert(name.clone(), parameter);
+            }
+        }
+    }
+
+    /// The parameters of the shared uncertainties a yield names.
+    fn shared_parameters<'a>(&'a self, names: &'a [String]) -> impl Iterator<Item = usize> + 'a {
+        names.iter().map(|name| self.shared[name])
+    }
+
     /// One channel's components (signal first), their parameters and constraints.
     fn channel(&mut self, channel: &scenario::Channel) -> Channel {
         let mut components = vec![self.signal_component(&channel.signal)];
@@ -116,6 +143,7 @@ impl Builder {
         if let Some(width) = signal.yield_uncertainty {
             yield_parameters.push(self.yield_factor("signal.yield_factor".into(), Some(width)));
         }
+        yield_parameters.extend(self.shared_parameters(&signal.shared));
         let shape = shape_from_spec(&signal.shape, self.range);
         Component {
             name: "signal".into(),
@@ -129,7 +157,7 @@ impl Builder {
 
     fn background_component(&mut self, background: &Background) -> Component {
         let factor_name = format!("{}.norm_factor", background.name);
-        let yield_parameters = match (background.norm_uncertainty, background.control) {
+        let mut yield_parameters = match (background.norm_uncertainty, background.control) {
             (_, Some(control)) => {
                 let parameter = self.yield_factor(factor_name, None);
                 self.constraints.push(Constraint::ControlRegion {
@@ -144,6 +172,7 @@ impl Builder {
             }
             (Some(NormUncertainty::Free), None) => vec![self.yield_factor(factor_name, None)],
         };
+        yield_parameters.extend(self.shared_parameters(&background.shared));
         let shape = shape_from_spec(&background.shape, self.range);
         let shape_parameters = if background.float_shape {
             let names = shape.parameter_names();

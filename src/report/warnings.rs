@@ -28,11 +28,14 @@ pub fn warning_text(warning: &Warning) -> String {
             channel,
             ref warning,
         } => format!("channels[{channel}].{}", warning_text(warning)),
+        Warning::UnusedSharedUncertainty { ref name } => format!(
+            "shared_uncertainties.{name}: no signal or background names it in its shared list; it has no effect"
+        ),
         Warning::FirstDayWithoutData {
             first_day,
             days_without_data,
         } => format!(
-            "plan.days.first: day {} falls within the first {} days, when schedule.periods scale all rates to 0; grid points there have no data",
+            "plan.days: the first day, {}, falls within the first {} days, when schedule.periods scale all rates to 0; grid points there have no data",
             show(first_day),
             show(days_without_data)
         ),

@@ -5,6 +5,7 @@
 use super::{Background, Channel, ChannelSyntax, Observable, Plan, Scenario, Schedule, Signal};
 use crate::scenario::ScenarioError;
 use serde::Deserialize;
+use std::collections::BTreeMap;
 
 /// A scenario file as written, before its channels are gathered.
 #[derive(Debug, Deserialize)]
@@ -19,6 +20,8 @@ pub(super) struct ScenarioFile {
     backgrounds: Option<Vec<Background>>,
     #[serde(default)]
     channels: Option<Vec<Channel>>,
+    #[serde(default)]
+    shared_uncertainties: BTreeMap<String, f64>,
     #[serde(default)]
     schedule: Schedule,
     plan: Plan,
@@ -35,6 +38,7 @@ impl ScenarioFile {
             signal,
             backgrounds,
             channels,
+            shared_uncertainties,
             schedule,
             plan,
         } = self;
@@ -88,6 +92,7 @@ impl ScenarioFile {
             title,
             channels,
             channel_syntax,
+            shared_uncertainties,
             schedule,
             plan,
         })

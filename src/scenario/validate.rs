@@ -10,12 +10,13 @@ use super::limits::{
 };
 use super::{
     Background, Channel, ChannelSyntax, DaysGrid, NormUncertainty, Observable, Plan, Scenario,
-    ScenarioError, Schedule, ShapeSpec, Signal, SignalScan,
+    ScenarioError, Schedule, ShapeSpec, Signal, SignalScan, SpacedDays,
 };
 use crate::calendar::CalendarDate;
 use crate::message::{not_finite, not_positive, show, show_fraction, show_rounded};
 use crate::shapes::{Placement, ShapeError};
 use crate::warning::Warning;
+use std::collections::BTreeMap;
 
 /// Ensembles a default `project` run draws at each point: discovery and limits.
 const ENSEMBLES_PER_POINT: u64 = 2;
@@ -36,9 +37,11 @@ struct Range {
 /// Rejects values that parse but make no physical sense, naming the first such field.
 pub(super) fn validate(scenario: &Scenario) -> Checked {
     require_text("title", &scenario.title)?;
+    validate_shared_uncertainties(scenario)?;
     validate_channel_names(scenario)?;
     for (index, channel) in scenario.channels.iter().enumerate() {
-        validate_channel(channel).map_err(|error| error.within(&channel_path(scenario, index)))?;
+        validate_channel(channel, &scenario.shared_uncertainties)
+            .map_err(|error| error.within(&channel_path(scenario, index)))?;
     }
     refuse_scan_in_several_channels(scenario)?;
     validate_schedule(&scenario.schedule)?;
@@ -101,12 +104,67 @@ fn validate_channel_names(scenario: &Scenario) -> Checked {
     Ok(())
 }
 
-/// One channel's observable, signal and backgrounds, with paths inside the channel.
-fn validate_channel(channel: &Channel) -> Checked {
+/// One channel's observable, signal and backgrounds, with paths inside the
+/// channel; every `shared` name must be one of `declared`.
+fn validate_channel(channel: &Channel, declared: &BTreeMap<String, f64>) -> Checked {
     let range = validate_observable(&channel.observable)?;
     validate_signal(&channel.signal, range)?;
     validate_backgrounds(&channel.backgrounds, range)?;
-    refuse_free_background_in_one_bin(channel)
+    refuse_free_background_in_one_bin(channel)?;
+    validate_shared_names("signal.shared", &channel.signal.shared, declared)?;
+    for (index, background) in channel.backgrounds.iter().enumerate() {
+        let field = format!("backgrounds[{index}].shared");
+        validate_shared_names(&field, &background.shared, declared)?;
+    }
+    Ok(())
+}
+
+/// Each shared uncertainty has a name and a relative width; one that a
+/// signal names is bounded as a signal yield uncertainty is.
+fn validate_shared_uncertainties(scenario: &Scenario) -> Checked {
+    for (name, &width) in &scenario.shared_uncertainties {
+        let field = format!("shared_uncertainties.{name}");
+        require_plain_text(&field, name)?;
+        require_relative_uncertainty(&field, width)?;
+        let on_a_signal = scenario
+            .channels
+            .iter()
+            .any(|channel| channel.signal.shared.contains(name));
+        if on_a_signal {
+            refuse_wide_signal_yield_uncertainty(&field, width)?;
+        }
+    }
+    Ok(())
+}
+
+/// A yield's `shared` list: declared names, each at most once.
+fn validate_shared_names(
+    field: &str,
+    names: &[String],
+    declared: &BTreeMap<String, f64>,
+) -> Checked {
+    for (index, name) in names.iter().enumerate() {
+        let entry = format!("{field}[{index}]");
+        if !declared.contains_key(name) {
+            let known: Vec<&str> = declared.keys().map(String::as_str).collect();
+            let known = if known.is_empty() {
+                "none is declared in shared_uncertainties".to_string()
+            } else {
+                format!("declared in shared_uncertainties: {}", known.join(", "))
+            };
+            return Err(ScenarioError::invalid(
+                entry,
+                format!("unknown shared uncertainty {name:?}; {known}"),
+            ));
+        }
+        if names[..index].contains(name) {
+            return Err(ScenarioError::invalid(
+                entry,
+                format!("{name:?} is named twice; each shared factor multiplies a yield once"),
+            ));
+        }
+    }
+    Ok(())
 }
 
 /// Remarks about a valid scenario that are probably, but not surely, mistakes.
@@ -127,8 +185,24 @@ pub(super) fn warnings(scenario: &Scenario) -> Vec<Warning> {
             },
         }));
     }
+    remarks.extend(unused_shared_uncertainties(scenario));
     remarks.extend(first_day_without_exposure(scenario));
     remarks
+}
+
+/// Declared shared uncertainties that no signal or background names.
+fn unused_shared_uncertainties(scenario: &Scenario) -> impl Iterator<Item = Warning> + '_ {
+    let used = |name: &String| {
+        scenario.channels.iter().any(|channel| {
+            channel.signal.shared.contains(name)
+                || channel.backgrounds.iter().any(|b| b.shared.contains(name))
+        })
+    };
+    scenario
+        .shared_uncertainties
+        .keys()
+        .filter(move |name| !used(name))
+        .map(|name| Warning::UnusedSharedUncertainty { name: name.clone() })
 }
 
 /// A peaked signal ([`Shape::peak`](crate::shapes::Shape::peak)) whose maximum lies outside the range.
@@ -180,7 +254,7 @@ fn first_day_without_exposure(scenario: &Scenario) -> Option<Warning> {
         .take_while(|period| period.rate_scale == 0.0)
         .map(|period| period.days)
         .sum();
-    let first_day = scenario.plan.days.first;
+    let first_day = scenario.plan.days.first();
     (first_day <= days_without_data).then_some(Warning::FirstDayWithoutData {
         first_day,
         days_without_data,
@@ -257,7 +331,7 @@ fn validate_signal(signal: &Signal, range: Range) -> Checked {
     }
     if let Some(relative) = signal.yield_uncertainty {
         require_relative_uncertainty("signal.yield_uncertainty", relative)?;
-        refuse_wide_signal_yield_uncertainty(relative)?;
+        refuse_wide_signal_yield_uncertainty("signal.yield_uncertainty", relative)?;
     }
     Ok(())
 }
@@ -267,10 +341,10 @@ fn validate_signal(signal: &Signal, range: Range) -> Checked {
 /// the fit holds the factor at 0 and q0 = 0 whatever the data. Above δ = 1/3
 /// that is more than Φ(−3) = 1.35e-3 of them (PDG statistics review), enough
 /// to bias the toy quantiles, so such a width is refused.
-fn refuse_wide_signal_yield_uncertainty(relative: f64) -> Checked {
+fn refuse_wide_signal_yield_uncertainty(field: &str, relative: f64) -> Checked {
     if relative > 1.0 / 3.0 {
         return Err(ScenarioError::invalid(
-            "signal.yield_uncertainty",
+            field,
             format!(
                 "a Gaussian yield uncertainty above 1/3 puts more than 0.13% of the auxiliary \
                  measurements below zero, where the yield factor is unphysical; use at most 0.333, got {}",
@@ -518,14 +592,15 @@ fn validate_toys(plan: &Plan) -> Checked {
         ));
     }
     let total = (plan.toys as u64)
-        .saturating_mul(plan.days.points as u64)
+        .saturating_mul(plan.days.points() as u64)
         .saturating_mul(ENSEMBLES_PER_POINT);
     if total > MAX_TOYS_IN_TOTAL {
         return Err(ScenarioError::invalid(
             field,
             format!(
                 "{} pseudo-experiments at each of {} points, for discovery and for limits, make {total}, more than the {MAX_TOYS_IN_TOTAL} allowed in one projection",
-                plan.toys, plan.days.points
+                plan.toys,
+                plan.days.points()
             ),
         ));
     }
@@ -567,8 +642,48 @@ fn validate_targets(targets: &[f64]) -> Checked {
 }
 
 /// Calendar days must be positive (zero days is no exposure, and log spacing
-/// needs a positive start), increasing, and the grid must have distinct points.
+/// needs a positive start), increasing, and the grid must have distinct
+/// points, at most [`MAX_GRID_POINTS`].
 fn validate_days_grid(days: &DaysGrid) -> Checked {
+    match days {
+        DaysGrid::Spaced(grid) => validate_spaced_days(grid),
+        DaysGrid::List(days) => validate_days_list(days),
+    }
+}
+
+/// A list of one to [`MAX_GRID_POINTS`] days, each above 0 and after the one before.
+fn validate_days_list(days: &[f64]) -> Checked {
+    if days.is_empty() {
+        return Err(ScenarioError::invalid(
+            "plan.days",
+            "must hold at least one calendar day, got []",
+        ));
+    }
+    if days.len() > MAX_GRID_POINTS {
+        return Err(ScenarioError::invalid(
+            "plan.days",
+            format!("must be at most {MAX_GRID_POINTS} days, got {}", days.len()),
+        ));
+    }
+    for (index, &day) in days.iter().enumerate() {
+        let field = format!("plan.days[{index}]");
+        require_positive(&field, day)?;
+        if index > 0 && day <= days[index - 1] {
+            return Err(ScenarioError::invalid(
+                &field,
+                format!(
+                    "must be after plan.days[{}] ({}), got {}",
+                    index - 1,
+                    show(days[index - 1]),
+                    show(day)
+                ),
+            ));
+        }
+    }
+    Ok(())
+}
+
+fn validate_spaced_days(days: &SpacedDays) -> Checked {
     require_positive("plan.days.first", days.first)?;
     require_finite("plan.days.last", days.last)?;
     if days.last < days.first {
@@ -1000,6 +1115,34 @@ plan:
     }
 
     #[test]
+    fn days_may_be_a_list_of_increasing_calendar_days() {
+        const GRID: &str = "{first: 1, last: 365, points: 24, spacing: log}";
+        let list = accepted(&with(GRID, "[30, 91, 182.5, 365]"));
+        assert_eq!(list.plan.days.days(), vec![30.0, 91.0, 182.5, 365.0]);
+        assert_eq!(list.plan.days.last_field(), "plan.days[3]");
+        for (to, field) in [
+            ("[]", "plan.days"),
+            ("[0, 30]", "plan.days[0]"),
+            ("[30, 91, 91]", "plan.days[2]"),
+            ("[30, 20]", "plan.days[1]"),
+            ("[30, .inf]", "plan.days[1]"),
+        ] {
+            assert_eq!(rejected_field(&with(GRID, to)), field, "{to}");
+        }
+        // Another form: both accepted forms are shown, not a type name.
+        let error = Scenario::from_yaml(&with(GRID, "30"))
+            .unwrap_err()
+            .to_string();
+        assert!(
+            error.contains("plan.days")
+                && error.contains("[30, 91, 182, 365]")
+                && error.contains("{first, last, points, spacing}")
+                && !error.contains("DaysGrid"),
+            "{error}"
+        );
+    }
+
+    #[test]
     fn targets_must_be_present_and_positive() {
         assert_eq!(
             rejected_field(&with("targets: [3, 5]", "targets: []")),
@@ -1149,6 +1292,59 @@ plan:
         let (field, message) = rejection(&twin);
         assert_eq!(field, "backgrounds[1].name");
         assert!(message.contains("backgrounds[0].name"), "{message}");
+    }
+
+    /// `BASE` with `shared_uncertainties` declared and `shared` lists on the
+    /// signal and the first background.
+    fn with_shared(declared: &str, on_signal: &str, on_background: &str) -> String {
+        let text = with(
+            "title: Test scenario\n",
+            &format!("title: Test scenario\nshared_uncertainties: {declared}\n"),
+        );
+        text.replacen(
+            "  yield_uncertainty: 0.1\n",
+            &format!("  yield_uncertainty: 0.1\n  shared: {on_signal}\n"),
+            1,
+        )
+        .replacen(
+            "    norm_uncertainty: 0.05\n",
+            &format!("    norm_uncertainty: 0.05\n    shared: {on_background}\n"),
+            1,
+        )
+    }
+
+    #[test]
+    fn shared_uncertainties_must_be_declared_once_and_valid() {
+        let valid = with_shared("{efficiency: 0.1, scale: 0.03}", "[efficiency]", "[scale]");
+        assert!(accepted(&valid).warnings().is_empty());
+        let (field, message) = rejection(&with_shared("{scale: 0.03}", "[]", "[scale, energy]"));
+        assert_eq!(field, "backgrounds[0].shared[1]");
+        assert!(
+            message.contains("\"energy\"") && message.contains("scale"),
+            "{message}"
+        );
+        let (field, message) = rejection(&with_shared("{}", "[efficiency]", "[]"));
+        assert_eq!(field, "signal.shared[0]");
+        assert!(message.contains("none is declared"), "{message}");
+        let twice = with_shared("{scale: 0.03}", "[]", "[scale, scale]");
+        assert_eq!(rejected_field(&twice), "backgrounds[0].shared[1]");
+        let negative = with_shared("{scale: -0.03}", "[]", "[scale]");
+        assert_eq!(rejected_field(&negative), "shared_uncertainties.scale");
+        // Above 1/3 only on a signal (see refuse_wide_signal_yield_uncertainty).
+        let wide = with_shared("{scale: 0.5}", "[scale]", "[]");
+        assert_eq!(rejected_field(&wide), "shared_uncertainties.scale");
+        accepted(&with_shared("{scale: 0.5}", "[]", "[scale]"));
+    }
+
+    #[test]
+    fn an_unused_shared_uncertainty_is_a_warning() {
+        let text = with_shared("{scale: 0.03, spare: 0.2}", "[]", "[scale]");
+        assert_eq!(
+            accepted(&text).warnings(),
+            [Warning::UnusedSharedUncertainty {
+                name: "spare".into()
+            }]
+        );
     }
 
     #[test]

@@ -61,6 +61,7 @@ pub fn summary(projection: &Projection) -> String {
     if let Some(cl) = projection.cl {
         text.push_str(&exclusion_line(projection, cl, last_day));
     }
+    text.push_str(&super::at_summary::at_days_text(projection));
     if let Some(table) = calibration_table(projection) {
         text.push('\n');
         text.push_str(&table);
@@ -535,7 +536,11 @@ warning: systematic uncertainties make Z_A saturate at 4.50σ however long the r
         calibration.z_toys = None;
         calibration.tail_reach_z = Calibration::tail_reach(1);
         let days = grid_day(projection.points[3].days, None);
-        crate::report::render_all(&projection).unwrap();
+        crate::report::render_all(
+            &projection,
+            &crate::report::projection::example::provenance(),
+        )
+        .unwrap();
         let text = summary(&projection);
         assert!(
             text.contains("note: at one point only 1 background-only pseudo-experiments converged"),
