@@ -7,6 +7,7 @@
 mod deserialize;
 mod error;
 pub mod limits;
+mod rows_file;
 mod template;
 mod validate;
 
@@ -101,12 +102,18 @@ pub enum NormUncertainty {
 ///
 /// Written in YAML as a one-key mapping, e.g. `{gaussian: {mean: 67.0, sigma: 0.8}}`
 /// or `{flat: {}}`; the key and the parameter names come from the registry, and
-/// validation checks the values with the kind's own constructor.
+/// validation checks the values with the kind's own constructor. A kind read
+/// from rows may name a file instead, `{table: {file: continuum.csv}}`,
+/// whose rows loading turns into the values.
 #[derive(Debug, Clone, PartialEq)]
 pub struct ShapeSpec {
     pub kind: &'static ShapeKind,
-    /// One value per parameter of `kind`, in its order.
+    /// One value per parameter of `kind`, in its order (read from `file` when
+    /// one is named).
     pub values: Vec<ParameterValue>,
+    /// The file of rows the values come from, as written (relative to the
+    /// scenario file's folder).
+    pub file: Option<String>,
 }
 
 impl ShapeSpec {
@@ -222,9 +229,10 @@ pub enum Spacing {
 
 impl Scenario {
     /// Reads, parses and validates a scenario file of at most
-    /// [`limits::MAX_SCENARIO_BYTES`]; no more than that is ever read.
+    /// [`limits::MAX_SCENARIO_BYTES`]; no more than that is ever read. Shape
+    /// files it names are read from the file's folder.
     pub fn load(path: &Path) -> Result<Scenario, ScenarioError> {
-        Scenario::from_yaml(&Scenario::read_text(path)?)
+        Scenario::from_file_text(&Scenario::read_text(path)?, path)
     }
 
     /// The text of a scenario file, refused above [`limits::MAX_SCENARIO_BYTES`].
@@ -250,8 +258,20 @@ impl Scenario {
     }
 
     /// Parses and validates scenario text; brackets nested deeper than
-    /// [`limits::MAX_NESTING_DEPTH`] are refused before parsing.
+    /// [`limits::MAX_NESTING_DEPTH`] are refused before parsing. A shape that
+    /// names a file is refused: without the scenario's path it cannot be found.
     pub fn from_yaml(text: &str) -> Result<Scenario, ScenarioError> {
+        Scenario::parse(text, None)
+    }
+
+    /// Parses and validates the text of the scenario file at `path`, reading
+    /// the shape files it names from the file's folder.
+    pub fn from_file_text(text: &str, path: &Path) -> Result<Scenario, ScenarioError> {
+        let directory = path.parent().unwrap_or(Path::new(""));
+        Scenario::parse(text, Some(directory))
+    }
+
+    fn parse(text: &str, directory: Option<&Path>) -> Result<Scenario, ScenarioError> {
         let (depth, line) = limits::bracket_depth(text);
         if depth > limits::MAX_NESTING_DEPTH {
             return Err(ScenarioError::Parse {
@@ -263,9 +283,26 @@ impl Scenario {
                 column: None,
             });
         }
-        let scenario: Scenario = serde_yaml::from_str(text).map_err(ScenarioError::from_yaml)?;
+        let mut scenario: Scenario =
+            serde_yaml::from_str(text).map_err(ScenarioError::from_yaml)?;
+        for (owner, shape) in scenario.shapes_mut() {
+            let field = format!("{owner}.shape.{}.file", shape.kind.key);
+            rows_file::resolve(shape, directory, &field)?;
+        }
         validate::validate(&scenario)?;
         Ok(scenario)
+    }
+
+    /// Every shape of the scenario, with the dotted path of its owner
+    /// (`signal`, `backgrounds[1]`).
+    fn shapes_mut(&mut self) -> impl Iterator<Item = (String, &mut ShapeSpec)> {
+        let signal = std::iter::once(("signal".to_string(), &mut self.signal.shape));
+        let backgrounds = self
+            .backgrounds
+            .iter_mut()
+            .enumerate()
+            .map(|(index, background)| (format!("backgrounds[{index}]"), &mut background.shape));
+        signal.chain(backgrounds)
     }
 
     /// Non-fatal remarks about a valid scenario (e.g. a signal peak outside the range).

@@ -294,7 +294,8 @@ fn refuse_free_background_in_one_bin(scenario: &Scenario) -> Checked {
 
 /// Checks one shape with its kind's constructor; `owner` is the dotted path
 /// of the signal or background holding it. A wrong value is named by its path
-/// inside `shape`, a shape that cannot float by `float_shape`.
+/// inside `shape` (or by the file it was read from), a shape that cannot
+/// float by `float_shape`.
 fn validate_shape(owner: &str, shape: &ShapeSpec, range: Range, floated: bool) -> Checked {
     let placement = Placement {
         range: [range.low, range.high],
@@ -302,10 +303,16 @@ fn validate_shape(owner: &str, shape: &ShapeSpec, range: Range, floated: bool) -
     };
     match shape.build(placement) {
         Ok(_) => Ok(()),
-        Err(ShapeError::Value { field, message }) => Err(ScenarioError::invalid(
-            format!("{owner}.shape.{field}"),
-            message,
-        )),
+        Err(ShapeError::Value { field, message }) => match &shape.file {
+            Some(file) => Err(ScenarioError::invalid(
+                format!("{owner}.shape.{}.file", shape.kind.key),
+                format!("{file}: {message}"),
+            )),
+            None => Err(ScenarioError::invalid(
+                format!("{owner}.shape.{field}"),
+                message,
+            )),
+        },
         Err(ShapeError::CannotFloat { message }) => Err(ScenarioError::invalid(
             format!("{owner}.float_shape"),
             message,
