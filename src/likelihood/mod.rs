@@ -32,6 +32,7 @@ struct Term<'m> {
     /// First bin of the term's channel in the concatenated bin vector.
     offset: usize,
     bins: usize,
+    is_signal: bool,
     events_per_live_day: f64,
     yield_parameters: &'m [usize],
     shape: &'m dyn crate::shapes::Shape,
@@ -114,6 +115,7 @@ impl<'m> Likelihood<'m> {
                 terms.push(Term {
                     offset,
                     bins,
+                    is_signal: component.is_signal,
                     events_per_live_day: component.events_per_live_day,
                     yield_parameters: &component.yield_parameters,
                     shape: component.shape.as_ref(),
@@ -226,6 +228,21 @@ impl<'m> Likelihood<'m> {
                 .iter()
                 .map(|c| c.expected_global_observable(theta[c.parameter()], live_days))
                 .collect(),
+        }
+    }
+
+    /// Moves the signal: the bin fractions of every signal term in `work`
+    /// become those of its shape at `shape_parameters` (in the shape's
+    /// parameter order), so every later evaluation and fit with `work` sees
+    /// the signal there; the model itself is unchanged. Used to scan the
+    /// signal position with one workspace (signal shapes never float).
+    pub fn place_signal(&self, shape_parameters: &[f64], work: &mut Workspace) {
+        for (term, fractions) in self.terms.iter().zip(&mut work.fractions) {
+            if term.is_signal && term.floating.is_none() {
+                term.shape
+                    .bin_fractions(shape_parameters, term.edges, fractions);
+                raise_underflow(fractions);
+            }
         }
     }
 

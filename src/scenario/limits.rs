@@ -47,6 +47,10 @@ pub const MAX_TARGETS: usize = 16;
 /// target grow with its square.
 pub const MAX_TARGET_SIGMA: f64 = 100.0;
 
+/// Most positions of `signal.scan`: every background-only scan
+/// pseudo-experiment fits the signal at each of them.
+pub const MAX_SCAN_POSITIONS: usize = 100_000;
+
 /// Most worker threads (`--threads`).
 pub const MAX_THREADS: usize = 1024;
 

@@ -8,10 +8,12 @@ mod deserialize;
 mod error;
 pub mod limits;
 mod rows_file;
+mod scan;
 mod template;
 mod validate;
 
 pub use error::ScenarioError;
+pub use scan::{MIN_SCAN_POSITIONS, Scan, SignalScan};
 pub use template::TEMPLATE;
 
 use crate::calendar::CalendarDate;
@@ -58,6 +60,10 @@ pub struct Signal {
     /// Relative width of a Gaussian constraint N(1, width) on a factor on the signal yield.
     #[serde(default)]
     pub yield_uncertainty: Option<f64>,
+    /// The positions a search for a peak of unknown position tests; the
+    /// shape's own position stays the one of the local projection.
+    #[serde(default)]
+    pub scan: Option<Scan>,
 }
 
 /// One background component.

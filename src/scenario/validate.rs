@@ -10,7 +10,7 @@ use super::limits::{
 };
 use super::{
     Background, DaysGrid, NormUncertainty, Observable, Plan, Scenario, ScenarioError, Schedule,
-    ShapeSpec, Signal,
+    ShapeSpec, Signal, SignalScan,
 };
 use crate::calendar::CalendarDate;
 use crate::message::{not_finite, not_positive, show, show_fraction, show_rounded};
@@ -176,6 +176,9 @@ fn validate_bin_width(bin_width: f64, range: Range) -> Checked {
 fn validate_signal(signal: &Signal, range: Range) -> Checked {
     require_positive("signal.events_per_day", signal.events_per_day)?;
     validate_shape("signal", &signal.shape, range, false)?;
+    if let Some(scan) = &signal.scan {
+        SignalScan::new(scan, &signal.shape, [range.low, range.high])?;
+    }
     if let Some(relative) = signal.yield_uncertainty {
         require_relative_uncertainty("signal.yield_uncertainty", relative)?;
         refuse_wide_signal_yield_uncertainty(relative)?;
@@ -570,14 +573,14 @@ fn require_plain_text(field: &str, text: &str) -> Checked {
     Ok(())
 }
 
-fn require_finite(field: &str, value: f64) -> Checked {
+pub(super) fn require_finite(field: &str, value: f64) -> Checked {
     match not_finite(value) {
         Some(message) => Err(ScenarioError::invalid(field, message)),
         None => Ok(()),
     }
 }
 
-fn require_positive(field: &str, value: f64) -> Checked {
+pub(super) fn require_positive(field: &str, value: f64) -> Checked {
     match not_positive(value) {
         Some(message) => Err(ScenarioError::invalid(field, message)),
         None => Ok(()),
