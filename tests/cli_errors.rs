@@ -803,3 +803,53 @@ fn bad_tables_are_named_by_file_row_and_column() {
     ];
     assert_rejected_beside("bad-tables-are-named", &cases);
 }
+
+#[test]
+fn bad_signal_shape_uncertainties_are_named() {
+    let signal_with = |extra: &str| {
+        edited(
+            "  events_per_day: 2.0\n",
+            &format!("  events_per_day: 2.0\n{extra}"),
+        )
+    };
+    let cases: [(&str, String, &[&str]); 6] = [
+        (
+            "negative position uncertainty",
+            signal_with("  position_uncertainty: -0.5\n"),
+            &["signal.position_uncertainty: ", "-0.5"],
+        ),
+        (
+            "NaN width uncertainty",
+            signal_with("  width_uncertainty: .nan\n"),
+            &["signal.width_uncertainty: ", "NaN"],
+        ),
+        (
+            // Φ(−3) = 0.13% below zero width (PDG statistics review).
+            "width uncertainty above 1/3",
+            signal_with("  width_uncertainty: 0.5\n"),
+            &["signal.width_uncertainty: ", "at most 0.333"],
+        ),
+        (
+            "position uncertainty beyond the peak width",
+            signal_with("  position_uncertainty: 2.5\n"),
+            &["signal.position_uncertainty: ", "signal.scan", "2.5"],
+        ),
+        (
+            "position uncertainty on a shape without a position",
+            signal_with("  position_uncertainty: 0.5\n").replace(
+                "{gaussian: {mean: 50.0, sigma: 2.0}}",
+                "{exponential: {slope: -0.01}}",
+            ),
+            &[
+                "signal.position_uncertainty: ",
+                "this signal's shape is exponential",
+            ],
+        ),
+        (
+            "width uncertainty beside a scan",
+            signal_with("  width_uncertainty: 0.1\n  scan: {from: 30.0, to: 70.0}\n"),
+            &["signal.width_uncertainty: ", "signal.scan"],
+        ),
+    ];
+    assert_rejected("bad-signal-shape-uncertainties-are-named", &cases);
+}

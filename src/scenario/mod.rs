@@ -60,6 +60,16 @@ pub struct Signal {
     /// Relative width of a Gaussian constraint N(1, width) on a factor on the signal yield.
     #[serde(default)]
     pub yield_uncertainty: Option<f64>,
+    /// Uncertainty on the peak position, in the observable's unit (an
+    /// energy-scale uncertainty): the position is fitted with a Gaussian
+    /// constraint of this width. Absent or 0: known exactly.
+    #[serde(default)]
+    pub position_uncertainty: Option<f64>,
+    /// Relative uncertainty on the peak width (a Gaussian's sigma, a
+    /// Breit-Wigner's width: the resolution): the width is fitted with a
+    /// Gaussian constraint of this fraction of it. Absent or 0: known exactly.
+    #[serde(default)]
+    pub width_uncertainty: Option<f64>,
     /// The positions a search for a peak of unknown position tests; the
     /// shape's own position stays the one of the local projection.
     #[serde(default)]

@@ -44,6 +44,18 @@ pub struct Scan {
 /// position parameter, index of the width parameter).
 const SCANNABLE: &[(&str, usize, usize)] = &[("gaussian", 0, 1), ("breit_wigner", 0, 1)];
 
+impl ShapeSpec {
+    /// For a peak whose position and width are parameters (gaussian,
+    /// breit_wigner): (index of the position parameter, index of the width
+    /// parameter); None for other shapes.
+    pub fn peak_parameters(&self) -> Option<(usize, usize)> {
+        SCANNABLE
+            .iter()
+            .find(|(key, _, _)| *key == self.kind.key)
+            .map(|&(_, position, width)| (position, width))
+    }
+}
+
 /// A checked scan: the positions and the width at each of them.
 ///
 /// Position i is `from + i step`, i = 0 .. positions - 1; the width grows
@@ -70,9 +82,7 @@ impl SignalScan {
         shape: &ShapeSpec,
         range: [f64; 2],
     ) -> Result<SignalScan, ScenarioError> {
-        let Some(&(_, position_parameter, width_parameter)) =
-            SCANNABLE.iter().find(|(key, _, _)| *key == shape.kind.key)
-        else {
+        let Some((position_parameter, width_parameter)) = shape.peak_parameters() else {
             return Err(ScenarioError::invalid(
                 "signal.scan",
                 format!(
