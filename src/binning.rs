@@ -122,9 +122,9 @@ impl std::error::Error for BinningError {}
 /// Scans bin widths and counting windows of `scenario` after `days` calendar
 /// days, which must give some live time.
 pub fn scan_binning(scenario: &Scenario, days: f64) -> Result<BinningScan, BinningError> {
-    let observable = &scenario.observable;
+    let observable = scenario.observable();
     let live_days = LiveTime::from_schedule(&scenario.schedule).live_days(days);
-    let peak = signal_peak(&scenario.signal.shape, observable.range);
+    let peak = signal_peak(&scenario.signal().shape, observable.range);
     let [low, high] = observable.range;
     let scale = peak.centre.abs().max(high - low);
     if peak.width / (WINDOW_STEPS_PER_SIGNAL_WIDTH as f64) < SMALLEST_RELATIVE_STEP * scale {
@@ -250,7 +250,7 @@ pub fn shape_fit_significance(
     live_days: f64,
 ) -> Result<f64, FitFailure> {
     let mut rebinned = scenario.clone();
-    rebinned.observable.bin_width = bin_width;
+    rebinned.channel_mut().observable.bin_width = bin_width;
     asimov_significance(&rebinned, live_days)
 }
 
@@ -272,15 +272,15 @@ pub fn window_significance(
     high: f64,
     live_days: f64,
 ) -> Result<WindowPoint, FitFailure> {
-    let range = scenario.observable.range;
+    let range = scenario.observable().range;
     let inside = |spec: &ShapeSpec| fraction_inside(spec, range, low, high);
     let mut window = scenario.clone();
-    window.observable.range = [low, high];
-    window.observable.bin_width = high - low;
-    let signal_fraction = inside(&scenario.signal.shape);
-    window.signal.events_per_day *= signal_fraction;
+    window.channel_mut().observable.range = [low, high];
+    window.channel_mut().observable.bin_width = high - low;
+    let signal_fraction = inside(&scenario.signal().shape);
+    window.channel_mut().signal.events_per_day *= signal_fraction;
     let mut unmeasured_background = false;
-    for background in &mut window.backgrounds {
+    for background in &mut window.channel_mut().backgrounds {
         let fraction = inside(&background.shape);
         let sideband_events = background.events_per_day * (1.0 - fraction) * live_days;
         background.events_per_day *= fraction;

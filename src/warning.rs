@@ -19,6 +19,8 @@ pub enum Ensemble {
     Limits,
     /// Background-only toys calibrating the p-value of q0.
     Calibration,
+    /// Background-only toys fitted at every scanned signal position.
+    LookElsewhere,
 }
 
 #[derive(Debug, Clone, PartialEq)]
@@ -34,6 +36,15 @@ pub enum Warning {
     /// `backgrounds[background].float_shape` is set on a shape without
     /// parameters (flat, or a one-term polynomial): it has no effect.
     NothingToFloat { background: usize },
+    /// A warning about channel `channel` of a `channels` list, whose dotted
+    /// paths lie inside `channels[channel]`.
+    InChannel {
+        channel: usize,
+        warning: Box<Warning>,
+    },
+    /// `shared_uncertainties.<name>` is declared but no yield names it in
+    /// its `shared` list: it has no effect.
+    UnusedSharedUncertainty { name: String },
     /// The grid starts on `first_day`, within the first `days_without_data`
     /// days, when the schedule scales every rate to 0.
     FirstDayWithoutData {

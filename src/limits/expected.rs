@@ -130,7 +130,8 @@ struct CountingWindow {
 
 impl CountingWindow {
     /// The counting window of `model`, or None when the model has several bins,
-    /// a control region, or a parameter without a Gaussian constraint.
+    /// a control region, a parameter without a Gaussian constraint, or a
+    /// factor shared between yields or a yield with several factors.
     fn of(model: &Model, live_days: f64) -> Option<CountingWindow> {
         let [channel] = model.channels.as_slice() else {
             return None;
@@ -139,8 +140,26 @@ impl CountingWindow {
             .constraints
             .iter()
             .all(|c| matches!(c, Constraint::Gaussian { .. }));
+        let one_factor_each = channel.components.iter().all(|component| {
+            component
+                .yield_parameters
+                .iter()
+                .filter(|&&p| p != SIGNAL_STRENGTH)
+                .count()
+                <= 1
+        });
+        let factors_apart = (1..model.parameters.len()).all(|parameter| {
+            channel
+                .components
+                .iter()
+                .filter(|component| component.yield_parameters.contains(&parameter))
+                .count()
+                <= 1
+        });
         if channel.edges.len() != 2
             || !all_gaussian
+            || !one_factor_each
+            || !factors_apart
             || model.parameters.len() != 1 + model.constraints.len()
         {
             return None;

@@ -3,19 +3,24 @@
 use super::{
     Channel, Component, Constraint, LiveTime, Model, Parameter, SIGNAL_STRENGTH, ShapeParameters,
 };
-use crate::scenario::{Background, NormUncertainty, Scenario, ShapeSpec, Signal};
+use crate::scenario::{self, Background, NormUncertainty, Scenario, ShapeSpec, Signal};
 use crate::shapes::{self, Shape};
+use std::collections::{BTreeMap, BTreeSet};
 
 impl Model {
-    /// The single-channel model of a scenario: mu, an optional constrained signal
-    /// yield factor, one factor per background whose normalisation is uncertain,
-    /// the parameters of every background shape marked `float_shape`, and the
-    /// signal's position and width where they are uncertain.
+    /// The model of a scenario: mu, common to all channels, one factor per
+    /// shared uncertainty that some yield names (in name order), then per channel
+    /// an optional constrained signal yield factor, one factor per background
+    /// whose normalisation is uncertain, the parameters of every background
+    /// shape marked `float_shape`, and the signal's position and width where
+    /// they are uncertain.
     pub fn from_scenario(scenario: &Scenario) -> Model {
         let mut builder = Builder {
             parameters: Vec::new(),
             constraints: Vec::new(),
-            range: scenario.observable.range,
+            range: scenario.observable().range,
+            prefix: String::new(),
+            shared: BTreeMap::new(),
         };
         builder.parameters.push(Parameter {
             name: "signal_strength".into(),
@@ -24,28 +29,25 @@ impl Model {
             upper: f64::INFINITY,
         });
         debug_assert_eq!(builder.parameters.len() - 1, SIGNAL_STRENGTH);
+        builder.shared_factors(scenario);
 
-        let mut components = vec![builder.signal_component(&scenario.signal)];
-        components.extend(
-            scenario
-                .backgrounds
-                .iter()
-                .map(|b| builder.background_component(b)),
-        );
-        // Last, so that every other parameter and global observable keeps
-        // its place (and its random numbers) with or without them.
-        components[0].shape_parameters =
-            builder.signal_shape_parameters(&scenario.signal, components[0].shape.as_ref());
-
-        let observable = &scenario.observable;
+        let several = scenario.channels.len() > 1;
+        let channels = scenario
+            .channels
+            .iter()
+            .map(|channel| {
+                builder.range = channel.observable.range;
+                builder.prefix = if several {
+                    format!("{}.", channel.name)
+                } else {
+                    String::new()
+                };
+                builder.channel(channel)
+            })
+            .collect();
         Model {
             parameters: builder.parameters,
-            channels: vec![Channel {
-                name: observable.name.clone(),
-                unit: observable.unit.clone(),
-                edges: bin_edges(observable.range, observable.bin_width),
-                components,
-            }],
+            channels,
             constraints: builder.constraints,
             live_time: LiveTime::from_schedule(&scenario.schedule),
         }
@@ -69,14 +71,62 @@ pub fn bin_edges(range: [f64; 2], width: f64) -> Vec<f64> {
 struct Builder {
     parameters: Vec<Parameter>,
     constraints: Vec<Constraint>,
-    /// The observable's range, on which every shape is normalised.
+    /// The channel's range, on which every shape is normalised.
     range: [f64; 2],
+    /// Put before every parameter name: the channel's name when there are several.
+    prefix: String,
+    /// The parameter of each shared uncertainty in use, by name.
+    shared: BTreeMap<String, usize>,
 }
 
 impl Builder {
+    /// One factor N(1, width) per shared uncertainty that a signal or
+    /// background names; an unused one (a warning) adds nothing to the fits.
+    fn shared_factors(&mut self, scenario: &Scenario) {
+        let names = scenario.channels.iter().flat_map(|channel| {
+            let backgrounds = channel.backgrounds.iter().flat_map(|b| &b.shared);
+            channel.signal.shared.iter().chain(backgrounds)
+        });
+        let used: BTreeSet<&String> = names.collect();
+        for (name, &width) in &scenario.shared_uncertainties {
+            if used.contains(name) {
+                let parameter = self.yield_factor(format!("shared.{name}"), Some(width));
+                self.shared.insert(name.clone(), parameter);
+            }
+        }
+    }
+
+    /// The parameters of the shared uncertainties a yield names.
+    fn shared_parameters<'a>(&'a self, names: &'a [String]) -> impl Iterator<Item = usize> + 'a {
+        names.iter().map(|name| self.shared[name])
+    }
+
+    /// One channel's components (signal first), their parameters and constraints.
+    fn channel(&mut self, channel: &scenario::Channel) -> Channel {
+        let mut components = vec![self.signal_component(&channel.signal)];
+        components.extend(
+            channel
+                .backgrounds
+                .iter()
+                .map(|b| self.background_component(b)),
+        );
+        // Last in the channel, so that in a single channel every other
+        // parameter and global observable keeps its place (and its random
+        // numbers) with or without them.
+        components[0].shape_parameters =
+            self.signal_shape_parameters(&channel.signal, components[0].shape.as_ref());
+        let observable = &channel.observable;
+        Channel {
+            name: channel.name.clone(),
+            unit: observable.unit.clone(),
+            edges: bin_edges(observable.range, observable.bin_width),
+            components,
+        }
+    }
+
     fn add_parameter(&mut self, name: String, nominal: f64, lower: f64) -> usize {
         self.parameters.push(Parameter {
-            name,
+            name: format!("{}{name}", self.prefix),
             nominal,
             lower,
             upper: f64::INFINITY,
@@ -99,6 +149,7 @@ impl Builder {
         if let Some(width) = signal.yield_uncertainty {
             yield_parameters.push(self.yield_factor("signal.yield_factor".into(), Some(width)));
         }
+        yield_parameters.extend(self.shared_parameters(&signal.shared));
         let shape = shape_from_spec(&signal.shape, self.range);
         Component {
             name: "signal".into(),
@@ -117,7 +168,8 @@ impl Builder {
     fn signal_shape_parameters(&mut self, signal: &Signal, shape: &dyn Shape) -> ShapeParameters {
         let values = shape.nominal_parameters();
         let mut parameters = vec![None; values.len()];
-        if let Some((position, width)) = signal.shape.peak_parameters() {
+        if let Some(peak) = shape.movable_peak() {
+            let (position, width) = (peak.position, peak.width);
             let uncertain = |uncertainty: Option<f64>| uncertainty.filter(|&value| value > 0.0);
             if let Some(sigma) = uncertain(signal.position_uncertainty) {
                 parameters[position] = Some(self.constrained_parameter(
@@ -153,7 +205,7 @@ impl Builder {
 
     fn background_component(&mut self, background: &Background) -> Component {
         let factor_name = format!("{}.norm_factor", background.name);
-        let yield_parameters = match (background.norm_uncertainty, background.control) {
+        let mut yield_parameters = match (background.norm_uncertainty, background.control) {
             (_, Some(control)) => {
                 let parameter = self.yield_factor(factor_name, None);
                 self.constraints.push(Constraint::ControlRegion {
@@ -168,6 +220,7 @@ impl Builder {
             }
             (Some(NormUncertainty::Free), None) => vec![self.yield_factor(factor_name, None)],
         };
+        yield_parameters.extend(self.shared_parameters(&background.shared));
         let shape = shape_from_spec(&background.shape, self.range);
         let shape_parameters = if background.float_shape {
             let names = shape.parameter_names();

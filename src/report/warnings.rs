@@ -24,6 +24,13 @@ pub fn warning_text(warning: &Warning) -> String {
         Warning::NothingToFloat { background } => format!(
             "backgrounds[{background}].float_shape: this shape has no parameters to float; the setting has no effect"
         ),
+        Warning::InChannel {
+            channel,
+            ref warning,
+        } => format!("channels[{channel}].{}", warning_text(warning)),
+        Warning::UnusedSharedUncertainty { ref name } => format!(
+            "shared_uncertainties.{name}: no signal or background names it in its shared list; it has no effect"
+        ),
         Warning::FirstDayWithoutData {
             first_day,
             days_without_data,

@@ -46,6 +46,18 @@ impl ScenarioError {
         }
     }
 
+    /// The error with `path` (e.g. `channels[1].`) put before the field it
+    /// names, for a check made inside one part of the scenario.
+    pub fn within(self, path: &str) -> ScenarioError {
+        match self {
+            ScenarioError::Invalid { field, message } => ScenarioError::Invalid {
+                field: format!("{path}{field}"),
+                message,
+            },
+            other => other,
+        }
+    }
+
     /// A [`ScenarioError::Invalid`] for `field`.
     pub fn invalid(field: impl Into<String>, message: impl Into<String>) -> ScenarioError {
         ScenarioError::Invalid {

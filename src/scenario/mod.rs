@@ -6,6 +6,7 @@
 
 mod deserialize;
 mod error;
+mod file;
 pub mod limits;
 mod rows_file;
 mod scan;
@@ -19,23 +20,62 @@ pub use template::TEMPLATE;
 use crate::calendar::CalendarDate;
 use crate::shapes::{ParameterValue, Placement, Shape, ShapeError, ShapeKind};
 use crate::warning::Warning;
+use file::ScenarioFile;
 use serde::Deserialize;
+use std::collections::BTreeMap;
 use std::io::Read;
 use std::path::Path;
 
-/// A whole search scenario: one observable, one signal, one or more backgrounds,
+/// A whole search scenario: one or more channels sharing one signal strength,
 /// the data-taking schedule and the projection plan.
-#[derive(Debug, Clone, Deserialize)]
-#[serde(deny_unknown_fields)]
+///
+/// Read from a [`ScenarioFile`]: either one channel written at the top level
+/// (`observable`, `signal`, `backgrounds`) or a `channels` list.
+#[derive(Debug, Clone)]
 pub struct Scenario {
     /// Used in plot titles and the summary.
     pub title: String,
+    /// The searched spectra, in file order; never empty.
+    pub channels: Vec<Channel>,
+    /// How the channels were written, which sets the dotted paths of errors.
+    pub channel_syntax: ChannelSyntax,
+    /// Relative widths of yield factors N(1, width) shared by every signal or
+    /// background that names them in its `shared` list, in any channel.
+    pub shared_uncertainties: BTreeMap<String, f64>,
+    pub schedule: Schedule,
+    pub plan: Plan,
+}
+
+/// One searched spectrum: a binned observable with its signal and backgrounds.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Channel {
+    /// The channel's own name; a single channel written at the top level is
+    /// named after its observable.
+    pub name: String,
     pub observable: Observable,
     pub signal: Signal,
     pub backgrounds: Vec<Background>,
-    #[serde(default)]
-    pub schedule: Schedule,
-    pub plan: Plan,
+}
+
+/// How a scenario file writes its channels.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum ChannelSyntax {
+    /// One channel at the top level: `observable`, `signal`, `backgrounds`.
+    Single,
+    /// A `channels` list, each entry with its `name`.
+    List,
+}
+
+impl ChannelSyntax {
+    /// The dotted path of channel `index`'s fields: none for a single
+    /// channel written at the top level, `channels[index].` in a list.
+    pub(super) fn path(self, index: usize) -> String {
+        match self {
+            ChannelSyntax::Single => String::new(),
+            ChannelSyntax::List => format!("channels[{index}]."),
+        }
+    }
 }
 
 /// The binned observable (mass, energy, ...) on which the search is made.
@@ -70,6 +110,9 @@ pub struct Signal {
     /// Gaussian constraint of this fraction of it. Absent or 0: known exactly.
     #[serde(default)]
     pub width_uncertainty: Option<f64>,
+    /// Names of shared uncertainties whose factors multiply the signal yield.
+    #[serde(default)]
+    pub shared: Vec<String>,
     /// The positions a search for a peak of unknown position tests; the
     /// shape's own position stays the one of the local projection.
     #[serde(default)]
@@ -94,6 +137,9 @@ pub struct Background {
     /// A signal-free control region that measures this background's normalisation.
     #[serde(default)]
     pub control: Option<ControlRegion>,
+    /// Names of shared uncertainties whose factors multiply this yield.
+    #[serde(default)]
+    pub shared: Vec<String>,
 }
 
 /// An auxiliary, signal-free count of `ratio` times a background's expected
@@ -299,26 +345,60 @@ impl Scenario {
                 column: None,
             });
         }
-        let mut scenario: Scenario =
-            serde_yaml::from_str(text).map_err(ScenarioError::from_yaml)?;
-        for (owner, shape) in scenario.shapes_mut() {
-            let field = format!("{owner}.shape.{}.file", shape.kind.key);
-            rows_file::resolve(shape, directory, &field)?;
-        }
+        let file: ScenarioFile = serde_yaml::from_str(text).map_err(ScenarioError::from_yaml)?;
+        let mut scenario = file.into_scenario()?;
+        scenario.read_shape_files(directory)?;
         validate::validate(&scenario)?;
         Ok(scenario)
     }
 
-    /// Every shape of the scenario, with the dotted path of its owner
-    /// (`signal`, `backgrounds[1]`).
-    fn shapes_mut(&mut self) -> impl Iterator<Item = (String, &mut ShapeSpec)> {
-        let signal = std::iter::once(("signal".to_string(), &mut self.signal.shape));
-        let backgrounds = self
-            .backgrounds
-            .iter_mut()
-            .enumerate()
-            .map(|(index, background)| (format!("backgrounds[{index}]"), &mut background.shape));
-        signal.chain(backgrounds)
+    /// Reads the rows of every shape that names a file, from `directory`
+    /// (the scenario file's folder).
+    fn read_shape_files(&mut self, directory: Option<&Path>) -> Result<(), ScenarioError> {
+        let syntax = self.channel_syntax;
+        for (index, channel) in self.channels.iter_mut().enumerate() {
+            let path = syntax.path(index);
+            let signal = std::iter::once(("signal".to_string(), &mut channel.signal.shape));
+            let backgrounds =
+                channel
+                    .backgrounds
+                    .iter_mut()
+                    .enumerate()
+                    .map(|(index, background)| {
+                        (format!("backgrounds[{index}]"), &mut background.shape)
+                    });
+            for (owner, shape) in signal.chain(backgrounds) {
+                let field = format!("{path}{owner}.shape.{}.file", shape.kind.key);
+                rows_file::resolve(shape, directory, &field)?;
+            }
+        }
+        Ok(())
+    }
+
+    /// The first channel: the only one of a single-channel scenario. For code
+    /// that handles one channel (see [`Scenario::with_only_channel`]).
+    pub fn channel(&self) -> &Channel {
+        &self.channels[0]
+    }
+
+    /// The first channel's observable.
+    pub fn observable(&self) -> &Observable {
+        &self.channel().observable
+    }
+
+    /// The first channel's signal.
+    pub fn signal(&self) -> &Signal {
+        &self.channel().signal
+    }
+
+    /// The first channel's backgrounds.
+    pub fn backgrounds(&self) -> &[Background] {
+        &self.channel().backgrounds
+    }
+
+    /// The first channel, to change it in a copy of the scenario.
+    pub fn channel_mut(&mut self) -> &mut Channel {
+        &mut self.channels[0]
     }
 
     /// Non-fatal remarks about a valid scenario (e.g. a signal peak outside the range).
@@ -401,10 +481,10 @@ mod tests {
     #[test]
     fn counting_window_demo_saturates_between_three_and_five_sigma() {
         let scenario = load_demo("counting_window.yaml");
-        let [low, high] = scenario.observable.range;
-        assert_eq!(scenario.observable.bin_width, high - low, "one bin");
-        let signal = scenario.signal.events_per_day;
-        let background = &scenario.backgrounds[0];
+        let [low, high] = scenario.observable().range;
+        assert_eq!(scenario.observable().bin_width, high - low, "one bin");
+        let signal = scenario.signal().events_per_day;
+        let background = &scenario.backgrounds()[0];
         let Some(NormUncertainty::Relative(delta)) = background.norm_uncertainty else {
             panic!("the demo needs a constrained background normalisation");
         };
@@ -418,8 +498,8 @@ mod tests {
     fn counting_window_demo_reaches_three_sigma_within_its_grid() {
         let scenario = load_demo("counting_window.yaml");
         let live_days = scenario.plan.days.last * scenario.schedule.live_fraction;
-        let s = scenario.signal.events_per_day * live_days;
-        let background = &scenario.backgrounds[0];
+        let s = scenario.signal().events_per_day * live_days;
+        let background = &scenario.backgrounds()[0];
         let b = background.events_per_day * live_days;
         let Some(NormUncertainty::Relative(delta)) = background.norm_uncertainty else {
             panic!("the demo needs a constrained background normalisation");

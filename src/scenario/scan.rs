@@ -44,18 +44,6 @@ pub struct Scan {
 /// position parameter, index of the width parameter).
 const SCANNABLE: &[(&str, usize, usize)] = &[("gaussian", 0, 1), ("breit_wigner", 0, 1)];
 
-impl ShapeSpec {
-    /// For a peak whose position and width are parameters (gaussian,
-    /// breit_wigner): (index of the position parameter, index of the width
-    /// parameter); None for other shapes.
-    pub fn peak_parameters(&self) -> Option<(usize, usize)> {
-        SCANNABLE
-            .iter()
-            .find(|(key, _, _)| *key == self.kind.key)
-            .map(|&(_, position, width)| (position, width))
-    }
-}
-
 /// A checked scan: the positions and the width at each of them.
 ///
 /// Position i is `from + i step`, i = 0 .. positions - 1; the width grows
@@ -82,7 +70,9 @@ impl SignalScan {
         shape: &ShapeSpec,
         range: [f64; 2],
     ) -> Result<SignalScan, ScenarioError> {
-        let Some((position_parameter, width_parameter)) = shape.peak_parameters() else {
+        let Some(&(_, position_parameter, width_parameter)) =
+            SCANNABLE.iter().find(|(key, _, _)| *key == shape.kind.key)
+        else {
             return Err(ScenarioError::invalid(
                 "signal.scan",
                 format!(
@@ -237,8 +227,8 @@ impl SignalScan {
 impl Scenario {
     /// The scan of the signal position, when `signal.scan` is given.
     pub fn signal_scan(&self) -> Option<SignalScan> {
-        let scan = self.signal.scan.as_ref()?;
-        let checked = SignalScan::new(scan, &self.signal.shape, self.observable.range);
+        let scan = self.signal().scan.as_ref()?;
+        let checked = SignalScan::new(scan, &self.signal().shape, self.observable().range);
         Some(checked.expect("validation refuses a scan that is not valid"))
     }
 
@@ -247,7 +237,7 @@ impl Scenario {
     /// [`Model::from_scenario`](crate::model::Model::from_scenario).
     pub fn with_signal_at(&self, scan: &SignalScan, position: f64, width: f64) -> Scenario {
         let mut moved = self.clone();
-        moved.signal.shape = scan.shape_at(position, width);
+        moved.channel_mut().signal.shape = scan.shape_at(position, width);
         moved
     }
 }
@@ -329,8 +319,8 @@ plan:
         assert!((scan.width_at(90.0) - 3.5).abs() < 1e-12);
         assert_eq!(scan.shape_parameters_at(50.0), vec![50.0, 2.5]);
         let moved = scenario.with_signal_at(&scan, 30.0, 2.0);
-        assert_eq!(moved.signal.shape, scan.shape_at(30.0, 2.0));
-        assert_eq!(moved.backgrounds.len(), scenario.backgrounds.len());
+        assert_eq!(moved.signal().shape, scan.shape_at(30.0, 2.0));
+        assert_eq!(moved.backgrounds().len(), scenario.backgrounds().len());
     }
 
     #[test]
@@ -400,5 +390,34 @@ plan:
             Scenario::from_yaml(&with("to: 90.0, step: 0.5", "to: 20.0, step: 0.000100001"))
                 .unwrap();
         assert_eq!(at_limit.signal_scan().unwrap().len(), 100_000);
+    }
+}
+
+#[cfg(test)]
+mod channel_tests {
+    use super::super::{Scenario, ScenarioError};
+
+    /// Two channels, the second with a scan: refused at its path.
+    #[test]
+    fn a_scan_in_a_scenario_of_several_channels_is_refused() {
+        let channel = |name: &str, scan: &str| {
+            format!(
+                "  - name: {name}\n    observable: {{name: energy, unit: keV, range: [0.0, 100.0], bin_width: 0.5}}\n    \
+                 signal:\n      events_per_day: 2.0\n      shape: {{gaussian: {{mean: 50.0, sigma: 1.5}}}}\n{scan}    \
+                 backgrounds:\n      - {{name: flat, events_per_day: 40, shape: {{flat: {{}}}}}}\n"
+            )
+        };
+        let text = format!(
+            "title: Two channels\nchannels:\n{}{}plan:\n  days: {{first: 1, last: 100, points: 4, spacing: log}}\n  \
+             toys: 10\n  seed: 1\n  targets: [3]\n",
+            channel("a", ""),
+            channel("b", "      scan: {from: 10.0, to: 90.0, step: 0.5}\n")
+        );
+        match Scenario::from_yaml(&text) {
+            Err(ScenarioError::Invalid { field, .. }) => {
+                assert_eq!(field, "channels[1].signal.scan")
+            }
+            other => panic!("expected an Invalid error, got {other:?}"),
+        }
     }
 }

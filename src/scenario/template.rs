@@ -138,18 +138,18 @@ mod tests {
     #[test]
     fn template_shows_every_optional_key_and_each_kind_of_normalisation() {
         let scenario = Scenario::from_yaml(&TEMPLATE).unwrap_or_else(|error| panic!("{error}"));
-        assert!(scenario.signal.yield_uncertainty.is_some());
-        assert!(scenario.backgrounds.iter().any(|b| b.float_shape));
+        assert!(scenario.signal().yield_uncertainty.is_some());
+        assert!(scenario.backgrounds().iter().any(|b| b.float_shape));
         let norms: Vec<_> = scenario
-            .backgrounds
+            .backgrounds()
             .iter()
             .map(|b| b.norm_uncertainty)
             .collect();
         assert!(norms.contains(&Some(NormUncertainty::Free)));
-        assert!(scenario.backgrounds.iter().any(|b| b.control.is_some()));
+        assert!(scenario.backgrounds().iter().any(|b| b.control.is_some()));
         assert!(scenario.schedule.live_fraction < 1.0);
         assert!(!scenario.schedule.periods.is_empty());
-        assert_eq!(scenario.signal.shape.kind.key, "gaussian");
+        assert_eq!(scenario.signal().shape.kind.key, "gaussian");
     }
 
     /// Each registered shape is listed with its example, explanations

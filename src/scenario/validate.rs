@@ -9,13 +9,14 @@ use super::limits::{
     MAX_TOYS_PER_POINT,
 };
 use super::{
-    Background, DaysGrid, NormUncertainty, Observable, Plan, Scenario, ScenarioError, Schedule,
-    ShapeSpec, Signal, SignalScan,
+    Background, Channel, ChannelSyntax, DaysGrid, NormUncertainty, Observable, Plan, Scenario,
+    ScenarioError, Schedule, ShapeSpec, Signal, SignalScan,
 };
 use crate::calendar::CalendarDate;
 use crate::message::{not_finite, not_positive, show, show_fraction, show_rounded};
 use crate::shapes::{Placement, ShapeError};
 use crate::warning::Warning;
+use std::collections::BTreeMap;
 
 /// Ensembles a default `project` run draws at each point: discovery and limits.
 const ENSEMBLES_PER_POINT: u64 = 2;
@@ -36,33 +37,179 @@ struct Range {
 /// Rejects values that parse but make no physical sense, naming the first such field.
 pub(super) fn validate(scenario: &Scenario) -> Checked {
     require_text("title", &scenario.title)?;
-    let range = validate_observable(&scenario.observable)?;
-    validate_signal(&scenario.signal, range)?;
-    validate_backgrounds(&scenario.backgrounds, range)?;
-    refuse_free_background_in_one_bin(scenario)?;
+    validate_shared_uncertainties(scenario)?;
+    validate_channel_names(scenario)?;
+    for (index, channel) in scenario.channels.iter().enumerate() {
+        validate_channel(channel, &scenario.shared_uncertainties)
+            .map_err(|error| error.within(&channel_path(scenario, index)))?;
+    }
+    refuse_scan_in_several_channels(scenario)?;
     validate_schedule(&scenario.schedule)?;
     validate_plan(&scenario.plan)
 }
 
+/// A scan moves the signal of one channel: with several channels, which
+/// signals move together (and whether their scans agree) is not defined yet,
+/// so a scan there is refused at the first channel declaring one.
+fn refuse_scan_in_several_channels(scenario: &Scenario) -> Checked {
+    if scenario.channels.len() < 2 {
+        return Ok(());
+    }
+    match scenario
+        .channels
+        .iter()
+        .position(|channel| channel.signal.scan.is_some())
+    {
+        Some(index) => Err(ScenarioError::invalid(
+            format!("{}signal.scan", channel_path(scenario, index)),
+            format!(
+                "a scan of the signal position needs a single-channel scenario, this one has {} channels",
+                scenario.channels.len()
+            ),
+        )),
+        None => Ok(()),
+    }
+}
+
+/// The dotted path of channel `index`'s fields: none for a single channel
+/// written at the top level, `channels[index].` in a list.
+fn channel_path(scenario: &Scenario, index: usize) -> String {
+    scenario.channel_syntax.path(index)
+}
+
+/// Each listed channel needs a name of its own.
+fn validate_channel_names(scenario: &Scenario) -> Checked {
+    if scenario.channel_syntax == ChannelSyntax::Single {
+        return Ok(());
+    }
+    for (index, channel) in scenario.channels.iter().enumerate() {
+        let field = format!("channels[{index}].name");
+        require_text(&field, &channel.name)?;
+        if let Some(first) = scenario.channels[..index]
+            .iter()
+            .position(|earlier| earlier.name.trim() == channel.name.trim())
+        {
+            return Err(ScenarioError::invalid(
+                field,
+                format!(
+                    "each channel needs its own name, got {:?} again (as in channels[{first}].name)",
+                    channel.name
+                ),
+            ));
+        }
+    }
+    Ok(())
+}
+
+/// One channel's observable, signal and backgrounds, with paths inside the
+/// channel; every `shared` name must be one of `declared`.
+fn validate_channel(channel: &Channel, declared: &BTreeMap<String, f64>) -> Checked {
+    let range = validate_observable(&channel.observable)?;
+    validate_signal(&channel.signal, range)?;
+    validate_backgrounds(&channel.backgrounds, range)?;
+    refuse_free_background_in_one_bin(channel)?;
+    validate_shared_names("signal.shared", &channel.signal.shared, declared)?;
+    for (index, background) in channel.backgrounds.iter().enumerate() {
+        let field = format!("backgrounds[{index}].shared");
+        validate_shared_names(&field, &background.shared, declared)?;
+    }
+    Ok(())
+}
+
+/// Each shared uncertainty has a name and a relative width; one that a
+/// signal names is bounded as a signal yield uncertainty is.
+fn validate_shared_uncertainties(scenario: &Scenario) -> Checked {
+    for (name, &width) in &scenario.shared_uncertainties {
+        let field = format!("shared_uncertainties.{name}");
+        require_plain_text(&field, name)?;
+        require_relative_uncertainty(&field, width)?;
+        let on_a_signal = scenario
+            .channels
+            .iter()
+            .any(|channel| channel.signal.shared.contains(name));
+        if on_a_signal {
+            refuse_wide_signal_yield_uncertainty(&field, width)?;
+        }
+    }
+    Ok(())
+}
+
+/// A yield's `shared` list: declared names, each at most once.
+fn validate_shared_names(
+    field: &str,
+    names: &[String],
+    declared: &BTreeMap<String, f64>,
+) -> Checked {
+    for (index, name) in names.iter().enumerate() {
+        let entry = format!("{field}[{index}]");
+        if !declared.contains_key(name) {
+            let known: Vec<&str> = declared.keys().map(String::as_str).collect();
+            let known = if known.is_empty() {
+                "none is declared in shared_uncertainties".to_string()
+            } else {
+                format!("declared in shared_uncertainties: {}", known.join(", "))
+            };
+            return Err(ScenarioError::invalid(
+                entry,
+                format!("unknown shared uncertainty {name:?}; {known}"),
+            ));
+        }
+        if names[..index].contains(name) {
+            return Err(ScenarioError::invalid(
+                entry,
+                format!("{name:?} is named twice; each shared factor multiplies a yield once"),
+            ));
+        }
+    }
+    Ok(())
+}
+
 /// Remarks about a valid scenario that are probably, but not surely, mistakes.
 pub(super) fn warnings(scenario: &Scenario) -> Vec<Warning> {
-    let mut remarks: Vec<Warning> = signal_peak_outside_range(scenario).into_iter().collect();
-    remarks.extend(flat_shapes_floated(
-        &scenario.backgrounds,
-        scenario.observable.range,
-    ));
+    let mut remarks = Vec::new();
+    for (index, channel) in scenario.channels.iter().enumerate() {
+        let in_channel = signal_peak_outside_range(channel)
+            .into_iter()
+            .chain(flat_shapes_floated(
+                &channel.backgrounds,
+                channel.observable.range,
+            ));
+        remarks.extend(in_channel.map(|warning| match scenario.channel_syntax {
+            ChannelSyntax::Single => warning,
+            ChannelSyntax::List => Warning::InChannel {
+                channel: index,
+                warning: Box::new(warning),
+            },
+        }));
+    }
+    remarks.extend(unused_shared_uncertainties(scenario));
     remarks.extend(first_day_without_exposure(scenario));
     remarks
 }
 
+/// Declared shared uncertainties that no signal or background names.
+fn unused_shared_uncertainties(scenario: &Scenario) -> impl Iterator<Item = Warning> + '_ {
+    let used = |name: &String| {
+        scenario.channels.iter().any(|channel| {
+            channel.signal.shared.contains(name)
+                || channel.backgrounds.iter().any(|b| b.shared.contains(name))
+        })
+    };
+    scenario
+        .shared_uncertainties
+        .keys()
+        .filter(move |name| !used(name))
+        .map(|name| Warning::UnusedSharedUncertainty { name: name.clone() })
+}
+
 /// A peaked signal ([`Shape::peak`](crate::shapes::Shape::peak)) whose maximum lies outside the range.
-fn signal_peak_outside_range(scenario: &Scenario) -> Option<Warning> {
-    let range = scenario.observable.range;
+fn signal_peak_outside_range(channel: &Channel) -> Option<Warning> {
+    let range = channel.observable.range;
     let fixed = Placement {
         range,
         floated: false,
     };
-    let peak = scenario.signal.shape.build(fixed).ok()?.peak()?;
+    let peak = channel.signal.shape.build(fixed).ok()?.peak()?;
     (!(range[0]..=range[1]).contains(&peak.centre)).then_some(Warning::SignalPeakOutsideRange {
         centre_key: peak.centre_key,
         centre: peak.centre,
@@ -181,7 +328,7 @@ fn validate_signal(signal: &Signal, range: Range) -> Checked {
     }
     if let Some(relative) = signal.yield_uncertainty {
         require_relative_uncertainty("signal.yield_uncertainty", relative)?;
-        refuse_wide_signal_yield_uncertainty(relative)?;
+        refuse_wide_signal_yield_uncertainty("signal.yield_uncertainty", relative)?;
     }
     validate_shape_uncertainties(signal, range)
 }
@@ -255,7 +402,16 @@ fn validate_shape_uncertainties(signal: &Signal, range: Range) -> Checked {
         if value == 0.0 {
             continue;
         }
-        let Some((position, _)) = signal.shape.peak_parameters() else {
+        let fixed = Placement {
+            range: [range.low, range.high],
+            floated: false,
+        };
+        let movable = signal
+            .shape
+            .build(fixed)
+            .ok()
+            .and_then(|shape| shape.movable_peak());
+        let Some(position) = movable.map(|peak| peak.position) else {
             return Err(ScenarioError::invalid(
                 field,
                 format!(
@@ -308,10 +464,10 @@ fn validate_shape_uncertainties(signal: &Signal, range: Range) -> Checked {
 /// the fit holds the factor at 0 and q0 = 0 whatever the data. Above δ = 1/3
 /// that is more than Φ(−3) = 1.35e-3 of them (PDG statistics review), enough
 /// to bias the toy quantiles, so such a width is refused.
-fn refuse_wide_signal_yield_uncertainty(relative: f64) -> Checked {
+fn refuse_wide_signal_yield_uncertainty(field: &str, relative: f64) -> Checked {
     if relative > 1.0 / 3.0 {
         return Err(ScenarioError::invalid(
-            "signal.yield_uncertainty",
+            field,
             format!(
                 "a Gaussian yield uncertainty above 1/3 puts more than 0.13% of the auxiliary \
                  measurements below zero, where the yield factor is unphysical; use at most 0.333, got {}",
@@ -394,12 +550,12 @@ fn refuse_indistinguishable_backgrounds(backgrounds: &[Background]) -> Checked {
 /// normalisation is free can take any excess over the rest, so the signal
 /// strength is not determined and there is no sensitivity at any exposure
 /// (its profile likelihood is flat in mu; common practice).
-fn refuse_free_background_in_one_bin(scenario: &Scenario) -> Checked {
-    let [low, high] = scenario.observable.range;
-    if ((high - low) / scenario.observable.bin_width).round() != 1.0 {
+fn refuse_free_background_in_one_bin(channel: &Channel) -> Checked {
+    let [low, high] = channel.observable.range;
+    if ((high - low) / channel.observable.bin_width).round() != 1.0 {
         return Ok(());
     }
-    let free = scenario
+    let free = channel
         .backgrounds
         .iter()
         .position(|b| b.norm_uncertainty == Some(NormUncertainty::Free));
@@ -1199,6 +1355,59 @@ plan:
         assert!(message.contains("backgrounds[0].name"), "{message}");
     }
 
+    /// `BASE` with `shared_uncertainties` declared and `shared` lists on the
+    /// signal and the first background.
+    fn with_shared(declared: &str, on_signal: &str, on_background: &str) -> String {
+        let text = with(
+            "title: Test scenario\n",
+            &format!("title: Test scenario\nshared_uncertainties: {declared}\n"),
+        );
+        text.replacen(
+            "  yield_uncertainty: 0.1\n",
+            &format!("  yield_uncertainty: 0.1\n  shared: {on_signal}\n"),
+            1,
+        )
+        .replacen(
+            "    norm_uncertainty: 0.05\n",
+            &format!("    norm_uncertainty: 0.05\n    shared: {on_background}\n"),
+            1,
+        )
+    }
+
+    #[test]
+    fn shared_uncertainties_must_be_declared_once_and_valid() {
+        let valid = with_shared("{efficiency: 0.1, scale: 0.03}", "[efficiency]", "[scale]");
+        assert!(accepted(&valid).warnings().is_empty());
+        let (field, message) = rejection(&with_shared("{scale: 0.03}", "[]", "[scale, energy]"));
+        assert_eq!(field, "backgrounds[0].shared[1]");
+        assert!(
+            message.contains("\"energy\"") && message.contains("scale"),
+            "{message}"
+        );
+        let (field, message) = rejection(&with_shared("{}", "[efficiency]", "[]"));
+        assert_eq!(field, "signal.shared[0]");
+        assert!(message.contains("none is declared"), "{message}");
+        let twice = with_shared("{scale: 0.03}", "[]", "[scale, scale]");
+        assert_eq!(rejected_field(&twice), "backgrounds[0].shared[1]");
+        let negative = with_shared("{scale: -0.03}", "[]", "[scale]");
+        assert_eq!(rejected_field(&negative), "shared_uncertainties.scale");
+        // Above 1/3 only on a signal (see refuse_wide_signal_yield_uncertainty).
+        let wide = with_shared("{scale: 0.5}", "[scale]", "[]");
+        assert_eq!(rejected_field(&wide), "shared_uncertainties.scale");
+        accepted(&with_shared("{scale: 0.5}", "[]", "[scale]"));
+    }
+
+    #[test]
+    fn an_unused_shared_uncertainty_is_a_warning() {
+        let text = with_shared("{scale: 0.03, spare: 0.2}", "[]", "[scale]");
+        assert_eq!(
+            accepted(&text).warnings(),
+            [Warning::UnusedSharedUncertainty {
+                name: "spare".into()
+            }]
+        );
+    }
+
     #[test]
     fn title_must_not_be_empty() {
         assert_eq!(
@@ -1289,16 +1498,16 @@ plan:
         let scenario = accepted(BASE);
         use crate::scenario::NormUncertainty;
         assert_eq!(
-            scenario.backgrounds[0].norm_uncertainty,
+            scenario.backgrounds()[0].norm_uncertainty,
             Some(NormUncertainty::Relative(0.05))
         );
         assert_eq!(
-            scenario.backgrounds[1].norm_uncertainty,
+            scenario.backgrounds()[1].norm_uncertainty,
             Some(NormUncertainty::Free)
         );
         let integer = accepted(&with("norm_uncertainty: 0.05", "norm_uncertainty: 1"));
         assert_eq!(
-            integer.backgrounds[0].norm_uncertainty,
+            integer.backgrounds()[0].norm_uncertainty,
             Some(NormUncertainty::Relative(1.0))
         );
     }

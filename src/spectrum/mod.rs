@@ -140,9 +140,9 @@ pub fn pseudo_data_spectrum(scenario: &Scenario, days: &[f64], seed: u64) -> Spe
         .collect();
     Spectrum {
         title: scenario.title.clone(),
-        observable: scenario.observable.name.clone(),
-        unit: scenario.observable.unit.clone(),
-        bin_width: scenario.observable.bin_width,
+        observable: scenario.observable().name.clone(),
+        unit: scenario.observable().unit.clone(),
+        bin_width: scenario.observable().bin_width,
         seed,
         exposures,
     }

@@ -44,9 +44,9 @@ pub fn check_summary(
 /// Rates per live day, and S, B and S/B within the peak window.
 fn rates(text: &mut String, scenario: &Scenario, model: &Model) {
     let (signal, background) = model.nominal_rates();
-    let observable = &scenario.observable;
+    let observable = scenario.observable();
     let _ = writeln!(text, "  signal: {signal:.6} events per live day");
-    for b in &scenario.backgrounds {
+    for b in scenario.backgrounds() {
         let _ = writeln!(
             text,
             "  background {}: {:.6} events per live day",
@@ -57,15 +57,15 @@ fn rates(text: &mut String, scenario: &Scenario, model: &Model) {
         text,
         "  background total: {background:.6} events per live day"
     );
-    let Some((low, high)) = peak_window(&scenario.signal.shape, observable.range) else {
+    let Some((low, high)) = peak_window(&scenario.signal().shape, observable.range) else {
         text.push_str("  the signal peak ±2 widths lies outside the range: no S/B at the peak\n");
         return;
     };
     let in_window =
         |spec: &ShapeSpec, rate: f64| rate * fraction_inside(spec, observable.range, low, high);
-    let signal_in = in_window(&scenario.signal.shape, signal);
+    let signal_in = in_window(&scenario.signal().shape, signal);
     let background_in: f64 = scenario
-        .backgrounds
+        .backgrounds()
         .iter()
         .map(|b| in_window(&b.shape, b.events_per_day))
         .sum();

@@ -34,6 +34,7 @@ pub(crate) fn tiny() -> Projection {
         targets: vec![3.0, 5.0],
         cl: None,
         calibration_toys: 0,
+        scan: None,
         days_to_exclusion: DaysToExclusion::default(),
         points: vec![
             ExposurePoint {
@@ -64,6 +65,7 @@ pub(crate) fn tiny() -> Projection {
                 limit_asimov_band: None,
                 limit_failed_fits: 0,
                 calibration: None,
+                global: None,
             },
             ExposurePoint {
                 days: 100.0,
@@ -93,6 +95,7 @@ pub(crate) fn tiny() -> Projection {
                 limit_asimov_band: None,
                 limit_failed_fits: 0,
                 calibration: None,
+                global: None,
             },
         ],
         days_to_target: vec![
@@ -103,6 +106,7 @@ pub(crate) fn tiny() -> Projection {
                 p50_days: Some(44.25),
                 p90_days: Some(98.0),
                 saturation_z: Some(4.5),
+                global: None,
             },
             DaysToTarget {
                 target: 5.0,
@@ -111,6 +115,7 @@ pub(crate) fn tiny() -> Projection {
                 p50_days: None,
                 p90_days: None,
                 saturation_z: Some(4.5),
+                global: None,
             },
         ],
     }
@@ -225,6 +230,7 @@ impl InventedSearch {
             limit_asimov_band: None,
             limit_failed_fits: 0,
             calibration: (self.calibration_toys > 0).then(|| self.calibration(z_asimov)),
+            global: None,
         };
         if let Some(cl) = self.cl {
             self.add_limits(&mut point, 1.0 - cl, toys);
@@ -287,6 +293,7 @@ impl InventedSearch {
                     p90_days: Self::days_to(|days| 0.98 * self.z_asimov(days) - 1.2816, target)
                         .filter(|_| with_toys),
                     saturation_z,
+                    global: None,
                 }
             })
             .collect();
@@ -303,6 +310,7 @@ impl InventedSearch {
             days_to_exclusion: self.days_to_exclusion(with_toys),
             cl: self.cl,
             calibration_toys: self.calibration_toys,
+            scan: None,
         }
     }
 
