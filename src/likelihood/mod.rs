@@ -256,7 +256,8 @@ impl<'m> Likelihood<'m> {
     /// become those of its shape at `shape_parameters` (in the shape's
     /// parameter order), so every later evaluation and fit with `work` sees
     /// the signal there; the model itself is unchanged. Used to scan the
-    /// signal position with one workspace (signal shapes never float).
+    /// signal position with one workspace (validation refuses a scan beside
+    /// a floated signal position or width, so a scanned signal never floats).
     pub fn place_signal(&self, shape_parameters: &[f64], work: &mut Workspace) {
         for (term, fractions) in self.terms.iter().zip(&mut work.fractions) {
             if term.is_signal && term.floating.is_none() {
