@@ -166,6 +166,12 @@ pub struct PlanArgs {
     /// Calibrate the discovery p-value with N background-only pseudo-experiments per point.
     #[arg(long, value_name = "N")]
     pub calibrate: Option<usize>,
+    /// Also compute everything at calendar day D exactly (its own point and
+    /// pseudo-experiments, not read off the grid): significance, P(Z >= each
+    /// target), expected limits in signal events per live day and over the
+    /// run; repeatable.
+    #[arg(long, value_name = "D", allow_negative_numbers = true)]
+    pub at: Vec<f64>,
     /// Background-only pseudo-experiments per exposure point fitted at every
     /// position of signal.scan, for the look-elsewhere effect (default 500).
     #[arg(long, value_name = "N")]
