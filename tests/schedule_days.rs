@@ -213,6 +213,7 @@ fn demo_with_one_grid_point_agrees_with_asimov(periods: &[Period], day: f64) -> 
     let settings = ProjectionSettings {
         title: scenario.title.clone(),
         days: vec![day],
+        at_days: Vec::new(),
         toys: TOYS,
         seed: scenario.plan.seed,
         targets: vec![3.0],
@@ -386,6 +387,7 @@ fn settings(days: &[f64]) -> ProjectionSettings {
     ProjectionSettings {
         title: "schedule".to_string(),
         days: days.to_vec(),
+        at_days: Vec::new(),
         toys: TOYS,
         seed: 20261202,
         targets: vec![3.0],

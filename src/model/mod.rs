@@ -31,12 +31,18 @@ pub struct Parameter {
     pub upper: f64,
 }
 
-/// How a component's shape parameters enter: fixed at scenario values, or floated.
+/// How a component's shape parameters enter: fixed at scenario values, or
+/// some or all of them floated.
 #[derive(Debug, Clone, PartialEq)]
 pub enum ShapeParameters {
     Fixed(Vec<f64>),
-    /// Indices into the parameter vector, in the shape's parameter order.
-    Floating(Vec<usize>),
+    /// In the shape's parameter order: `parameters[k]` is the index of
+    /// parameter k in the parameter vector, or None where it is held at
+    /// `values[k]`. A scale-free shape floats all of its parameters.
+    Floating {
+        values: Vec<f64>,
+        parameters: Vec<Option<usize>>,
+    },
 }
 
 /// One signal or background contribution to a channel.

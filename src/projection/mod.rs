@@ -15,8 +15,8 @@ pub use ensembles::{
 };
 pub use point::BAND_QUANTILES;
 pub use result::{
-    Calibration, DaysToExclusion, DaysToTarget, ExposurePoint, GlobalDays, GlobalSignificance,
-    LookElsewhere, Projection, ScanSummary, TargetProbability,
+    AtDay, Calibration, DaysToExclusion, DaysToTarget, EventLimits, ExposurePoint, GlobalDays,
+    GlobalSignificance, LookElsewhere, Projection, ScanSummary, TargetProbability,
 };
 pub use shard::{ShardError, ShardRun, ShardSpec, merge_shards, run_shard};
 
@@ -32,6 +32,9 @@ pub struct ProjectionSettings {
     pub title: String,
     /// Calendar days of the grid, increasing.
     pub days: Vec<f64>,
+    /// Calendar days asked for with `--at`, increasing, none repeated: each
+    /// a point of its own (its own pseudo-experiments), never interpolated.
+    pub at_days: Vec<f64>,
     /// Pseudo-experiments per point and hypothesis; 0 for an Asimov-only projection.
     pub toys: usize,
     pub seed: u64,
@@ -48,7 +51,7 @@ pub struct ProjectionSettings {
 }
 
 impl ProjectionSettings {
-    /// Pseudo-experiments run at each grid point.
+    /// Pseudo-experiments run at each grid point and `--at` day.
     pub fn toys_per_point(&self) -> usize {
         self.toys * (1 + usize::from(self.cl.is_some()))
             + self.calibration_toys
@@ -67,7 +70,7 @@ impl ProjectionSettings {
         let look_elsewhere_toys = shard.toys(self.look_elsewhere_toys).len();
         let per_point =
             toys * (1 + usize::from(self.cl.is_some())) + calibration_toys + look_elsewhere_toys;
-        (per_point * self.days.len()) as u64
+        (per_point * (self.days.len() + self.at_days.len())) as u64
     }
 }
 
@@ -120,7 +123,7 @@ pub fn project_from<S: ToySource>(
 ) -> Result<Projection, S::Error> {
     let likelihood = Likelihood::new(model);
     let mut asimov = AsimovSignificance::new(&likelihood);
-    let points = points(&likelihood, &mut asimov, settings, source)?;
+    let (points, at_points) = points(&likelihood, &mut asimov, settings, source)?;
     let days_to_target = days::days_to_targets(
         model,
         &mut asimov,
@@ -141,6 +144,10 @@ pub fn project_from<S: ToySource>(
         targets: settings.targets.clone(),
         cl: settings.cl,
         calibration_toys: settings.calibration_toys,
+        at: at_points
+            .into_iter()
+            .map(|point| AtDay::new(point, model.nominal_rates().0))
+            .collect(),
         scan: settings
             .scan
             .as_ref()
@@ -151,18 +158,30 @@ pub fn project_from<S: ToySource>(
     })
 }
 
-/// The exposure point at every grid day, in grid order.
+/// The first exposure index of the `--at` days: the point at `--at` day j
+/// (in increasing order) keys its random streams with `AT_EXPOSURE_INDEX + j`,
+/// far above any grid index ([`MAX_GRID_POINTS`](crate::scenario::limits::MAX_GRID_POINTS)),
+/// so asking for a day changes no number of the grid, and the grid changes
+/// no number of that day.
+pub const AT_EXPOSURE_INDEX: usize = 1 << 31;
+
+/// The exposure point at every grid day, in grid order, then at every
+/// `--at` day, in increasing order: the order in which pseudo-experiments
+/// run, are written to shards and are merged.
 fn points<S: ToySource>(
     likelihood: &Likelihood,
     asimov: &mut AsimovSignificance,
     settings: &ProjectionSettings,
     source: &mut S,
-) -> Result<Vec<ExposurePoint>, S::Error> {
+) -> Result<(Vec<ExposurePoint>, Vec<ExposurePoint>), S::Error> {
     let runner = point::PointRunner::new(likelihood, settings);
-    settings
-        .days
-        .iter()
-        .enumerate()
-        .map(|(index, &days)| runner.point(asimov, index, days, source))
-        .collect()
+    let mut run = |first_index: usize, days: &[f64]| {
+        days.iter()
+            .enumerate()
+            .map(|(index, &days)| runner.point(asimov, first_index + index, days, source))
+            .collect::<Result<Vec<_>, _>>()
+    };
+    let grid = run(0, &settings.days)?;
+    let at = run(AT_EXPOSURE_INDEX, &settings.at_days)?;
+    Ok((grid, at))
 }

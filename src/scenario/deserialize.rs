@@ -1,12 +1,13 @@
 //! The YAML spellings of values that serde's derived forms cannot express:
-//! a normalisation uncertainty that is a number or the word `free`, and a shape
+//! a normalisation uncertainty that is a number or the word `free`, the
+//! days of the plan as a list or a spaced grid, and a shape
 //! written as a one-key mapping such as `{gaussian: {mean: 67.0, sigma: 0.8}}`,
 //! whose keys come from the shape registry of the model.
 
-use super::{NormUncertainty, ShapeSpec};
+use super::{DaysGrid, NormUncertainty, ShapeSpec, SpacedDays};
 use crate::shapes::{ParameterValue, SHAPE_KINDS, ShapeKind};
 use serde::Deserialize;
-use serde::de::{self, DeserializeSeed, MapAccess, Unexpected, Visitor};
+use serde::de::{self, DeserializeSeed, MapAccess, SeqAccess, Unexpected, Visitor};
 use std::fmt;
 
 /// Reads a number as [`NormUncertainty::Relative`] and the word `free` as
@@ -45,6 +46,42 @@ impl Visitor<'_> for NormUncertaintyVisitor {
         } else {
             Err(E::invalid_value(Unexpected::Str(value), &self))
         }
+    }
+}
+
+/// Reads `plan.days`: a list of calendar days, or a mapping read as
+/// [`SpacedDays`] (its unknown or missing keys named at their position). Any
+/// other form is refused with both forms shown.
+impl<'de> Deserialize<'de> for DaysGrid {
+    fn deserialize<D: de::Deserializer<'de>>(deserializer: D) -> Result<Self, D::Error> {
+        deserializer.deserialize_any(DaysGridVisitor)
+    }
+}
+
+struct DaysGridVisitor;
+
+impl<'de> Visitor<'de> for DaysGridVisitor {
+    type Value = DaysGrid;
+
+    fn expecting(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(
+            "a list of calendar days, e.g. [30, 91, 182, 365], or a grid {first, last, points, spacing}, e.g. {first: 1, last: 365, points: 24, spacing: log}",
+        )
+    }
+
+    fn visit_seq<A: SeqAccess<'de>>(self, mut seq: A) -> Result<DaysGrid, A::Error> {
+        let mut days = Vec::new();
+        while let Some(day) = seq.next_element::<f64>()? {
+            days.push(day);
+            if days.len() > super::limits::MAX_GRID_POINTS {
+                return Err(de::Error::invalid_length(days.len(), &self));
+            }
+        }
+        Ok(DaysGrid::List(days))
+    }
+
+    fn visit_map<A: MapAccess<'de>>(self, map: A) -> Result<DaysGrid, A::Error> {
+        SpacedDays::deserialize(de::value::MapAccessDeserializer::new(map)).map(DaysGrid::Spaced)
     }
 }
 
@@ -121,8 +158,8 @@ impl<'de> Visitor<'de> for ShapeVisitor {
             if shapes.iter().any(|shape| shape.kind == kind) {
                 return Err(de::Error::duplicate_field(kind.key));
             }
-            let values = map.next_value_seed(Parameters(kind))?;
-            shapes.push(ShapeSpec { kind, values });
+            let (values, file) = map.next_value_seed(Parameters(kind))?;
+            shapes.push(ShapeSpec { kind, values, file });
         }
         match shapes.len() {
             1 => Ok(shapes.remove(0)),
@@ -138,11 +175,17 @@ impl<'de> Visitor<'de> for ShapeVisitor {
     }
 }
 
-/// The parameters mapping of one shape kind, read into its values in order.
+/// The key that names a file of rows in place of the parameters, for a kind
+/// that can be read from one ([`ShapeKind::rows`]).
+const FILE_KEY: &str = "file";
+
+/// The parameters mapping of one shape kind, read into its values in order,
+/// or (for a kind read from rows) a `file` key alone, whose rows scenario
+/// loading reads later.
 struct Parameters(&'static ShapeKind);
 
 impl<'de> DeserializeSeed<'de> for Parameters {
-    type Value = Vec<ParameterValue>;
+    type Value = (Vec<ParameterValue>, Option<String>);
 
     fn deserialize<D: de::Deserializer<'de>>(
         self,
@@ -153,7 +196,7 @@ impl<'de> DeserializeSeed<'de> for Parameters {
 }
 
 impl<'de> Visitor<'de> for Parameters {
-    type Value = Vec<ParameterValue>;
+    type Value = (Vec<ParameterValue>, Option<String>);
 
     fn expecting(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         write!(
@@ -166,8 +209,19 @@ impl<'de> Visitor<'de> for Parameters {
     fn visit_map<A: MapAccess<'de>>(self, mut map: A) -> Result<Self::Value, A::Error> {
         let parameters = self.0.parameters;
         let mut values: Vec<Option<ParameterValue>> = vec![None; parameters.len()];
-        let names: Vec<&'static str> = parameters.iter().map(|p| p.name).collect();
+        let mut file: Option<String> = None;
+        let mut names: Vec<&'static str> = parameters.iter().map(|p| p.name).collect();
+        if self.0.rows.is_some() {
+            names.push(FILE_KEY);
+        }
         while let Some(index) = map.next_key_seed(KnownKey(&names))? {
+            if index == parameters.len() {
+                if file.is_some() {
+                    return Err(de::Error::duplicate_field(FILE_KEY));
+                }
+                file = Some(map.next_value()?);
+                continue;
+            }
             if values[index].is_some() {
                 return Err(de::Error::duplicate_field(parameters[index].name));
             }
@@ -177,12 +231,29 @@ impl<'de> Visitor<'de> for Parameters {
                 ParameterValue::Number(map.next_value()?)
             });
         }
-        values
+        if file.is_some() {
+            return match values.iter().any(Option::is_some) {
+                true => Err(de::Error::custom(format!(
+                    "{} takes either `{FILE_KEY}` or {}, not both",
+                    self.0.key,
+                    quoted(parameters.iter().map(|p| p.name))
+                ))),
+                false => Ok((Vec::new(), file)),
+            };
+        }
+        let values = values
             .into_iter()
             .zip(parameters)
             .map(|(value, parameter)| value.ok_or_else(|| de::Error::missing_field(parameter.name)))
-            .collect()
+            .collect::<Result<_, _>>()?;
+        Ok((values, None))
     }
+}
+
+/// Names in backquotes joined by "and", e.g. "`edges` and `values`".
+fn quoted<'a>(names: impl Iterator<Item = &'a str>) -> String {
+    let quoted: Vec<String> = names.map(|name| format!("`{name}`")).collect();
+    quoted.join(" and ")
 }
 
 #[cfg(test)]

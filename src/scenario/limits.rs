@@ -8,6 +8,14 @@
 /// Largest scenario file read, in bytes (1 MiB; the demos are about 1 kB).
 pub const MAX_SCENARIO_BYTES: u64 = 1 << 20;
 
+/// Largest file of rows a shape reads (`{table: {file: ...}}`), in bytes
+/// (32 MiB: a million rows of three numbers of a dozen digits).
+pub const MAX_ROWS_FILE_BYTES: u64 = 32 << 20;
+
+/// Most rows of a table read from a file (inline ones are bounded by the
+/// scenario's size): the bin fractions sweep them once, when the model is built.
+pub const MAX_TABLE_ROWS: usize = 1_000_000;
+
 /// Deepest nesting of YAML brackets (`[` and `{`) in a scenario file; the
 /// format needs three levels, and the parser's time grows with the square of
 /// the depth.
@@ -23,6 +31,9 @@ pub const MAX_BINS: usize = 100_000;
 
 /// Most points of the days grid (each holds its quantiles and limits).
 pub const MAX_GRID_POINTS: usize = 10_000;
+
+/// Most days asked for with `--at` (each is a point with its own pseudo-experiments).
+pub const MAX_AT_DAYS: usize = 64;
 
 /// Most pseudo-experiments of one kind at one grid point (`plan.toys`,
 /// `--toys`, `--calibrate`); an ensemble holds one number per toy.

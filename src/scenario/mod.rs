@@ -8,6 +8,7 @@ mod deserialize;
 mod error;
 mod file;
 pub mod limits;
+mod rows_file;
 mod scan;
 mod template;
 mod validate;
@@ -66,6 +67,17 @@ pub enum ChannelSyntax {
     List,
 }
 
+impl ChannelSyntax {
+    /// The dotted path of channel `index`'s fields: none for a single
+    /// channel written at the top level, `channels[index].` in a list.
+    pub(super) fn path(self, index: usize) -> String {
+        match self {
+            ChannelSyntax::Single => String::new(),
+            ChannelSyntax::List => format!("channels[{index}]."),
+        }
+    }
+}
+
 /// The binned observable (mass, energy, ...) on which the search is made.
 #[derive(Debug, Clone, Deserialize)]
 #[serde(deny_unknown_fields)]
@@ -88,6 +100,16 @@ pub struct Signal {
     /// Relative width of a Gaussian constraint N(1, width) on a factor on the signal yield.
     #[serde(default)]
     pub yield_uncertainty: Option<f64>,
+    /// Uncertainty on the peak position, in the observable's unit (an
+    /// energy-scale uncertainty): the position is fitted with a Gaussian
+    /// constraint of this width. Absent or 0: known exactly.
+    #[serde(default)]
+    pub position_uncertainty: Option<f64>,
+    /// Relative uncertainty on the peak width (a Gaussian's sigma, a
+    /// Breit-Wigner's width: the resolution): the width is fitted with a
+    /// Gaussian constraint of this fraction of it. Absent or 0: known exactly.
+    #[serde(default)]
+    pub width_uncertainty: Option<f64>,
     /// Names of shared uncertainties whose factors multiply the signal yield.
     #[serde(default)]
     pub shared: Vec<String>,
@@ -142,12 +164,18 @@ pub enum NormUncertainty {
 ///
 /// Written in YAML as a one-key mapping, e.g. `{gaussian: {mean: 67.0, sigma: 0.8}}`
 /// or `{flat: {}}`; the key and the parameter names come from the registry, and
-/// validation checks the values with the kind's own constructor.
+/// validation checks the values with the kind's own constructor. A kind read
+/// from rows may name a file instead, `{table: {file: continuum.csv}}`,
+/// whose rows loading turns into the values.
 #[derive(Debug, Clone, PartialEq)]
 pub struct ShapeSpec {
     pub kind: &'static ShapeKind,
-    /// One value per parameter of `kind`, in its order.
+    /// One value per parameter of `kind`, in its order (read from `file` when
+    /// one is named).
     pub values: Vec<ParameterValue>,
+    /// The file of rows the values come from, as written (relative to the
+    /// scenario file's folder).
+    pub file: Option<String>,
 }
 
 impl ShapeSpec {
@@ -283,10 +311,20 @@ fn default_confidence_level() -> f64 {
     0.95
 }
 
-/// The grid of calendar days at which the projection is evaluated.
-#[derive(Debug, Clone, Deserialize)]
+/// The calendar days at which the projection is evaluated: a spaced grid
+/// `{first, last, points, spacing}` or an explicit list `[30, 91, 182, 365]`
+/// (read by `deserialize.rs`, whose error for another form shows both).
+#[derive(Debug, Clone, PartialEq)]
+pub enum DaysGrid {
+    Spaced(SpacedDays),
+    /// Calendar days as written, increasing (checked by validation).
+    List(Vec<f64>),
+}
+
+/// `points` days from `first` to `last`, evenly spaced in the day or in its logarithm.
+#[derive(Debug, Clone, PartialEq, Deserialize)]
 #[serde(deny_unknown_fields)]
-pub struct DaysGrid {
+pub struct SpacedDays {
     pub first: f64,
     pub last: f64,
     pub points: usize,
@@ -302,9 +340,10 @@ pub enum Spacing {
 
 impl Scenario {
     /// Reads, parses and validates a scenario file of at most
-    /// [`limits::MAX_SCENARIO_BYTES`]; no more than that is ever read.
+    /// [`limits::MAX_SCENARIO_BYTES`]; no more than that is ever read. Shape
+    /// files it names are read from the file's folder.
     pub fn load(path: &Path) -> Result<Scenario, ScenarioError> {
-        Scenario::from_yaml(&Scenario::read_text(path)?)
+        Scenario::from_file_text(&Scenario::read_text(path)?, path)
     }
 
     /// The text of a scenario file, refused above [`limits::MAX_SCENARIO_BYTES`].
@@ -330,8 +369,20 @@ impl Scenario {
     }
 
     /// Parses and validates scenario text; brackets nested deeper than
-    /// [`limits::MAX_NESTING_DEPTH`] are refused before parsing.
+    /// [`limits::MAX_NESTING_DEPTH`] are refused before parsing. A shape that
+    /// names a file is refused: without the scenario's path it cannot be found.
     pub fn from_yaml(text: &str) -> Result<Scenario, ScenarioError> {
+        Scenario::parse(text, None)
+    }
+
+    /// Parses and validates the text of the scenario file at `path`, reading
+    /// the shape files it names from the file's folder.
+    pub fn from_file_text(text: &str, path: &Path) -> Result<Scenario, ScenarioError> {
+        let directory = path.parent().unwrap_or(Path::new(""));
+        Scenario::parse(text, Some(directory))
+    }
+
+    fn parse(text: &str, directory: Option<&Path>) -> Result<Scenario, ScenarioError> {
         let (depth, line) = limits::bracket_depth(text);
         if depth > limits::MAX_NESTING_DEPTH {
             return Err(ScenarioError::Parse {
@@ -344,9 +395,33 @@ impl Scenario {
             });
         }
         let file: ScenarioFile = serde_yaml::from_str(text).map_err(ScenarioError::from_yaml)?;
-        let scenario = file.into_scenario()?;
+        let mut scenario = file.into_scenario()?;
+        scenario.read_shape_files(directory)?;
         validate::validate(&scenario)?;
         Ok(scenario)
+    }
+
+    /// Reads the rows of every shape that names a file, from `directory`
+    /// (the scenario file's folder).
+    fn read_shape_files(&mut self, directory: Option<&Path>) -> Result<(), ScenarioError> {
+        let syntax = self.channel_syntax;
+        for (index, channel) in self.channels.iter_mut().enumerate() {
+            let path = syntax.path(index);
+            let signal = std::iter::once(("signal".to_string(), &mut channel.signal.shape));
+            let backgrounds =
+                channel
+                    .backgrounds
+                    .iter_mut()
+                    .enumerate()
+                    .map(|(index, background)| {
+                        (format!("backgrounds[{index}]"), &mut background.shape)
+                    });
+            for (owner, shape) in signal.chain(backgrounds) {
+                let field = format!("{path}{owner}.shape.{}.file", shape.kind.key);
+                rows_file::resolve(shape, directory, &field)?;
+            }
+        }
+        Ok(())
     }
 
     /// The first channel: the only one of a single-channel scenario. For code
@@ -382,8 +457,44 @@ impl Scenario {
 }
 
 impl DaysGrid {
-    /// The calendar days of the grid, in increasing order.
+    /// The calendar days, in increasing order: a list as written; a spaced
+    /// grid's day i of n as first + (i/(n-1))(last - first) (linear) or
+    /// first (last/first)^(i/(n-1)) (log), each computed once from these
+    /// formulae and reported as is, never rounded.
     pub fn days(&self) -> Vec<f64> {
+        match self {
+            DaysGrid::List(days) => days.clone(),
+            DaysGrid::Spaced(grid) => grid.days(),
+        }
+    }
+
+    /// The first day (0 for an empty list, which validation refuses).
+    pub fn first(&self) -> f64 {
+        match self {
+            DaysGrid::List(days) => days.first().copied().unwrap_or_default(),
+            DaysGrid::Spaced(grid) => grid.first,
+        }
+    }
+
+    /// How many days.
+    pub fn points(&self) -> usize {
+        match self {
+            DaysGrid::List(days) => days.len(),
+            DaysGrid::Spaced(grid) => grid.points,
+        }
+    }
+
+    /// The field holding the last day, for messages: `plan.days.last` or `plan.days[n-1]`.
+    pub fn last_field(&self) -> String {
+        match self {
+            DaysGrid::List(days) => format!("plan.days[{}]", days.len().saturating_sub(1)),
+            DaysGrid::Spaced(_) => "plan.days.last".to_string(),
+        }
+    }
+}
+
+impl SpacedDays {
+    fn days(&self) -> Vec<f64> {
         if self.points == 1 {
             return vec![self.first];
         }
@@ -471,7 +582,8 @@ mod tests {
     #[test]
     fn counting_window_demo_reaches_three_sigma_within_its_grid() {
         let scenario = load_demo("counting_window.yaml");
-        let live_days = scenario.plan.days.last * scenario.schedule.live_fraction;
+        let last_day = *scenario.plan.days.days().last().unwrap();
+        let live_days = last_day * scenario.schedule.live_fraction;
         let s = scenario.signal().events_per_day * live_days;
         let background = &scenario.backgrounds()[0];
         let b = background.events_per_day * live_days;
@@ -504,12 +616,12 @@ mod tests {
 
     #[test]
     fn log_grid_runs_from_first_to_last_evenly_in_ratio() {
-        let grid = DaysGrid {
+        let grid = DaysGrid::Spaced(SpacedDays {
             first: 1.0,
             last: 100.0,
             points: 3,
             spacing: Spacing::Log,
-        };
+        });
         let days = grid.days();
         assert_eq!(days.len(), 3);
         assert!((days[1] - 10.0).abs() < 1e-12 && (days[2] - 100.0).abs() < 1e-12);

@@ -10,7 +10,7 @@ use super::limits::{
 };
 use super::{
     Background, Channel, ChannelSyntax, DaysGrid, NormUncertainty, Observable, Plan, Scenario,
-    ScenarioError, Schedule, ShapeSpec, Signal, SignalScan,
+    ScenarioError, Schedule, ShapeSpec, Signal, SignalScan, SpacedDays,
 };
 use crate::calendar::CalendarDate;
 use crate::message::{not_finite, not_positive, show, show_fraction, show_rounded};
@@ -74,10 +74,7 @@ fn refuse_scan_in_several_channels(scenario: &Scenario) -> Checked {
 /// The dotted path of channel `index`'s fields: none for a single channel
 /// written at the top level, `channels[index].` in a list.
 fn channel_path(scenario: &Scenario, index: usize) -> String {
-    match scenario.channel_syntax {
-        ChannelSyntax::Single => String::new(),
-        ChannelSyntax::List => format!("channels[{index}]."),
-    }
+    scenario.channel_syntax.path(index)
 }
 
 /// Each listed channel needs a name of its own.
@@ -259,7 +256,7 @@ fn first_day_without_exposure(scenario: &Scenario) -> Option<Warning> {
         .take_while(|period| period.rate_scale == 0.0)
         .filter_map(|period| period.days)
         .sum();
-    let first_day = scenario.plan.days.first;
+    let first_day = scenario.plan.days.first();
     (first_day <= days_without_data).then_some(Warning::FirstDayWithoutData {
         first_day,
         days_without_data,
@@ -338,6 +335,132 @@ fn validate_signal(signal: &Signal, range: Range) -> Checked {
     if let Some(relative) = signal.yield_uncertainty {
         require_relative_uncertainty("signal.yield_uncertainty", relative)?;
         refuse_wide_signal_yield_uncertainty("signal.yield_uncertainty", relative)?;
+    }
+    validate_shape_uncertainties(signal, range)
+}
+
+/// Widest relative width uncertainty: its auxiliary measurement, drawn from
+/// N(w, δ w), falls at or below zero width in Φ(−1/δ) of the
+/// pseudo-experiments, 1.35e-3 at δ = 1/3 (PDG statistics review).
+const MAX_WIDTH_UNCERTAINTY: f64 = 1.0 / 3.0;
+
+/// Auxiliary measurements of the position fall within this many standard
+/// deviations of the peak in all but 0.27% of pseudo-experiments (Φ(−3) on
+/// each side; PDG statistics review); that far the range must reach.
+const POSITION_REACH_SIGMAS: f64 = 3.0;
+
+/// A position known no better than the peak is wide is a search over
+/// positions: the fitted position then moves between separate minima of the
+/// likelihood (each a fluctuation the peak could sit on), the fits stop
+/// converging, and the look-elsewhere effect dominates; `signal.scan` is
+/// made for that. So the uncertainty may be at most the width (a Gaussian's
+/// sigma, half a Breit-Wigner's full width).
+fn refuse_position_uncertainty_beyond_width(signal: &Signal, range: Range, value: f64) -> Checked {
+    let fixed = Placement {
+        range: [range.low, range.high],
+        floated: false,
+    };
+    let Some(peak) = signal
+        .shape
+        .build(fixed)
+        .ok()
+        .and_then(|shape| shape.peak())
+    else {
+        return Ok(());
+    };
+    if value > peak.width {
+        return Err(ScenarioError::invalid(
+            "signal.position_uncertainty",
+            format!(
+                "must be at most the peak's width {} (a Gaussian's sigma, half a Breit-Wigner's width): a position known worse than that is a search over positions, for signal.scan; got {}",
+                show(peak.width),
+                show(value)
+            ),
+        ));
+    }
+    Ok(())
+}
+
+/// `signal.position_uncertainty` and `signal.width_uncertainty`: finite, not
+/// negative (0 as absent), only for a peak with a position and a width and
+/// without a scan (which tests every position itself); the position
+/// uncertainty at most the peak's width, and the position must
+/// stay inside the range within [`POSITION_REACH_SIGMAS`] of its
+/// uncertainty, since the signal is normalised on the range and would keep
+/// its whole yield beyond it; the width uncertainty at most
+/// [`MAX_WIDTH_UNCERTAINTY`].
+fn validate_shape_uncertainties(signal: &Signal, range: Range) -> Checked {
+    let fields = [
+        ("signal.position_uncertainty", signal.position_uncertainty),
+        ("signal.width_uncertainty", signal.width_uncertainty),
+    ];
+    for (field, value) in fields {
+        let Some(value) = value else { continue };
+        if !(value.is_finite() && value >= 0.0) {
+            return Err(ScenarioError::invalid(
+                field,
+                format!(
+                    "must be a non-negative finite number (0 = known exactly), got {}",
+                    show(value)
+                ),
+            ));
+        }
+        if value == 0.0 {
+            continue;
+        }
+        let fixed = Placement {
+            range: [range.low, range.high],
+            floated: false,
+        };
+        let movable = signal
+            .shape
+            .build(fixed)
+            .ok()
+            .and_then(|shape| shape.movable_peak());
+        let Some(position) = movable.map(|peak| peak.position) else {
+            return Err(ScenarioError::invalid(
+                field,
+                format!(
+                    "applies to gaussian and breit_wigner signals (a peak with a position and a width); this signal's shape is {}",
+                    signal.shape.kind.key
+                ),
+            ));
+        };
+        if signal.scan.is_some() {
+            return Err(ScenarioError::invalid(
+                field,
+                "signal.scan tests every position with a fixed shape; remove the scan or this uncertainty",
+            ));
+        }
+        if field == "signal.width_uncertainty" && value > MAX_WIDTH_UNCERTAINTY {
+            return Err(ScenarioError::invalid(
+                field,
+                format!(
+                    "above 1/3 more than 0.13% of the auxiliary measurements of the width fall at or below zero; use at most 0.333, got {}",
+                    show(value)
+                ),
+            ));
+        }
+        if field == "signal.position_uncertainty" {
+            refuse_position_uncertainty_beyond_width(signal, range, value)?;
+            let centre = signal.shape.values[position].number();
+            let reach = POSITION_REACH_SIGMAS * value;
+            if centre - reach < range.low || centre + reach > range.high {
+                return Err(ScenarioError::invalid(
+                    field,
+                    format!(
+                        "the position {} ± 3 × {} leaves the range [{}, {}]; the signal is normalised on the range, so a shifted peak would keep its whole yield there: use at most {}",
+                        show(centre),
+                        show(value),
+                        show(range.low),
+                        show(range.high),
+                        show_rounded(
+                            (centre - range.low).min(range.high - centre) / POSITION_REACH_SIGMAS
+                        )
+                    ),
+                ));
+            }
+        }
     }
     Ok(())
 }
@@ -453,7 +576,8 @@ fn refuse_free_background_in_one_bin(channel: &Channel) -> Checked {
 
 /// Checks one shape with its kind's constructor; `owner` is the dotted path
 /// of the signal or background holding it. A wrong value is named by its path
-/// inside `shape`, a shape that cannot float by `float_shape`.
+/// inside `shape` (or by the file it was read from), a shape that cannot
+/// float by `float_shape`.
 fn validate_shape(owner: &str, shape: &ShapeSpec, range: Range, floated: bool) -> Checked {
     let placement = Placement {
         range: [range.low, range.high],
@@ -461,10 +585,16 @@ fn validate_shape(owner: &str, shape: &ShapeSpec, range: Range, floated: bool) -
     };
     match shape.build(placement) {
         Ok(_) => Ok(()),
-        Err(ShapeError::Value { field, message }) => Err(ScenarioError::invalid(
-            format!("{owner}.shape.{field}"),
-            message,
-        )),
+        Err(ShapeError::Value { field, message }) => match &shape.file {
+            Some(file) => Err(ScenarioError::invalid(
+                format!("{owner}.shape.{}.file", shape.kind.key),
+                format!("{file}: {message}"),
+            )),
+            None => Err(ScenarioError::invalid(
+                format!("{owner}.shape.{field}"),
+                message,
+            )),
+        },
         Err(ShapeError::CannotFloat { message }) => Err(ScenarioError::invalid(
             format!("{owner}.float_shape"),
             message,
@@ -644,14 +774,15 @@ fn validate_toys(plan: &Plan) -> Checked {
         ));
     }
     let total = (plan.toys as u64)
-        .saturating_mul(plan.days.points as u64)
+        .saturating_mul(plan.days.points() as u64)
         .saturating_mul(ENSEMBLES_PER_POINT);
     if total > MAX_TOYS_IN_TOTAL {
         return Err(ScenarioError::invalid(
             field,
             format!(
                 "{} pseudo-experiments at each of {} points, for discovery and for limits, make {total}, more than the {MAX_TOYS_IN_TOTAL} allowed in one projection",
-                plan.toys, plan.days.points
+                plan.toys,
+                plan.days.points()
             ),
         ));
     }
@@ -693,8 +824,48 @@ fn validate_targets(targets: &[f64]) -> Checked {
 }
 
 /// Calendar days must be positive (zero days is no exposure, and log spacing
-/// needs a positive start), increasing, and the grid must have distinct points.
+/// needs a positive start), increasing, and the grid must have distinct
+/// points, at most [`MAX_GRID_POINTS`].
 fn validate_days_grid(days: &DaysGrid) -> Checked {
+    match days {
+        DaysGrid::Spaced(grid) => validate_spaced_days(grid),
+        DaysGrid::List(days) => validate_days_list(days),
+    }
+}
+
+/// A list of one to [`MAX_GRID_POINTS`] days, each above 0 and after the one before.
+fn validate_days_list(days: &[f64]) -> Checked {
+    if days.is_empty() {
+        return Err(ScenarioError::invalid(
+            "plan.days",
+            "must hold at least one calendar day, got []",
+        ));
+    }
+    if days.len() > MAX_GRID_POINTS {
+        return Err(ScenarioError::invalid(
+            "plan.days",
+            format!("must be at most {MAX_GRID_POINTS} days, got {}", days.len()),
+        ));
+    }
+    for (index, &day) in days.iter().enumerate() {
+        let field = format!("plan.days[{index}]");
+        require_positive(&field, day)?;
+        if index > 0 && day <= days[index - 1] {
+            return Err(ScenarioError::invalid(
+                &field,
+                format!(
+                    "must be after plan.days[{}] ({}), got {}",
+                    index - 1,
+                    show(days[index - 1]),
+                    show(day)
+                ),
+            ));
+        }
+    }
+    Ok(())
+}
+
+fn validate_spaced_days(days: &SpacedDays) -> Checked {
     require_positive("plan.days.first", days.first)?;
     require_finite("plan.days.last", days.last)?;
     if days.last < days.first {
@@ -1165,6 +1336,34 @@ plan:
             "first: 30, last: 30, points: 1",
         ));
         assert_eq!(single_day.plan.days.days(), vec![30.0]);
+    }
+
+    #[test]
+    fn days_may_be_a_list_of_increasing_calendar_days() {
+        const GRID: &str = "{first: 1, last: 365, points: 24, spacing: log}";
+        let list = accepted(&with(GRID, "[30, 91, 182.5, 365]"));
+        assert_eq!(list.plan.days.days(), vec![30.0, 91.0, 182.5, 365.0]);
+        assert_eq!(list.plan.days.last_field(), "plan.days[3]");
+        for (to, field) in [
+            ("[]", "plan.days"),
+            ("[0, 30]", "plan.days[0]"),
+            ("[30, 91, 91]", "plan.days[2]"),
+            ("[30, 20]", "plan.days[1]"),
+            ("[30, .inf]", "plan.days[1]"),
+        ] {
+            assert_eq!(rejected_field(&with(GRID, to)), field, "{to}");
+        }
+        // Another form: both accepted forms are shown, not a type name.
+        let error = Scenario::from_yaml(&with(GRID, "30"))
+            .unwrap_err()
+            .to_string();
+        assert!(
+            error.contains("plan.days")
+                && error.contains("[30, 91, 182, 365]")
+                && error.contains("{first, last, points, spacing}")
+                && !error.contains("DaysGrid"),
+            "{error}"
+        );
     }
 
     #[test]
