@@ -73,6 +73,12 @@ pub fn projection_options(settings: &ProjectionSettings) -> Map<String, Value> {
     options.insert("calibration_toys".into(), json!(settings.calibration_toys));
     options.insert("cl".into(), json!(settings.cl));
     options.insert("at_days".into(), json!(settings.at_days));
+    if settings.scan.is_some() {
+        options.insert(
+            "look_elsewhere_toys".into(),
+            json!(settings.look_elsewhere_toys),
+        );
+    }
     options
 }
 
