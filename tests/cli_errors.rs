@@ -876,3 +876,69 @@ fn bad_signal_shape_uncertainties_are_named() {
     ];
     assert_rejected("bad-signal-shape-uncertainties-are-named", &cases);
 }
+
+/// `BASE` with `signal.scan` set to `scan`.
+fn with_scan(scan: &str) -> String {
+    edited(
+        "  shape: {gaussian: {mean: 50.0, sigma: 2.0}}\n",
+        &format!("  shape: {{gaussian: {{mean: 50.0, sigma: 2.0}}}}\n  scan: {scan}\n"),
+    )
+}
+
+#[test]
+fn bad_scans_are_named_and_write_nothing() {
+    assert_rejected(
+        "bad-scans",
+        &[
+            (
+                "from above to",
+                with_scan("{from: 60.0, to: 40.0}"),
+                &["signal.scan", "from must be below to"],
+            ),
+            (
+                "outside the range",
+                with_scan("{from: 10.0, to: 120.0}"),
+                &["signal.scan.to", "inside the observable range"],
+            ),
+            (
+                "zero step",
+                with_scan("{from: 10.0, to: 90.0, step: 0}"),
+                &["signal.scan.step"],
+            ),
+            (
+                "too many positions",
+                with_scan("{from: 10.0, to: 90.0, step: 0.0001}"),
+                &["signal.scan.step", "100000 allowed"],
+            ),
+            (
+                "two positions",
+                with_scan("{from: 10.0, to: 90.0, step: 60}"),
+                &["signal.scan.step", "fewer than the 3 needed"],
+            ),
+            (
+                "not a peak",
+                with_scan("{from: 10.0, to: 90.0}").replace(
+                    "{gaussian: {mean: 50.0, sigma: 2.0}}",
+                    "{exponential: {slope: -0.1}}",
+                ),
+                &["signal.scan", "gaussian and breit_wigner"],
+            ),
+        ],
+    );
+}
+
+#[test]
+fn lee_toys_without_a_scan_is_a_usage_error() {
+    let scratch = Scratch::new("lee-toys-without-scan");
+    fs::write(scratch.path.join(SCENARIO), BASE).unwrap();
+    let before = scratch.entries();
+    let output = scratch.run(&["project", SCENARIO, "--out", "out", "--lee-toys", "50"]);
+    assert_eq!(output.status.code(), Some(2));
+    let problem = misbehaviour(
+        &scratch,
+        &output,
+        &["--lee-toys", "no signal.scan"],
+        &before,
+    );
+    assert_eq!(problem, None);
+}

@@ -409,15 +409,31 @@ fn mutated_demos_end_in_a_located_error_or_finite_outputs() {
                         &["project", "scenario.yaml", "--asimov-only", "--out", "out"],
                     ];
                     if index % WITH_TOYS_EVERY == 0 {
-                        runs.push(&[
-                            "project",
-                            "scenario.yaml",
-                            "--toys",
-                            "3",
-                            "--quiet",
-                            "--out",
-                            "out",
-                        ]);
+                        // A scan's background-only scans are few too (--lee-toys
+                        // is refused without a scan).
+                        runs.push(if text.contains("scan:") {
+                            &[
+                                "project",
+                                "scenario.yaml",
+                                "--toys",
+                                "3",
+                                "--lee-toys",
+                                "3",
+                                "--quiet",
+                                "--out",
+                                "out",
+                            ]
+                        } else {
+                            &[
+                                "project",
+                                "scenario.yaml",
+                                "--toys",
+                                "3",
+                                "--quiet",
+                                "--out",
+                                "out",
+                            ]
+                        });
                         runs.push(&["binning", "scenario.yaml", "--days", "30", "--out", "out"]);
                         runs.push(&["spectrum", "scenario.yaml", "--days", "30", "--out", "out"]);
                     }
