@@ -13,13 +13,15 @@ pub use ensembles::{
     CalibrationCount, CalibrationRequest, LimitRequest, PointRequest, PointToys, RunToys, ToySource,
 };
 pub use result::{
-    Calibration, DaysToExclusion, DaysToTarget, ExposurePoint, Projection, TargetProbability,
+    Calibration, ChannelPoint, DaysToExclusion, DaysToTarget, ExposurePoint, Projection,
+    TargetProbability,
 };
 pub use shard::{ShardError, ShardRun, ShardSpec, merge_shards, run_shard};
 
 use crate::asymptotic::AsimovSignificance;
 use crate::likelihood::{FitFailure, Likelihood};
 use crate::model::Model;
+use point::ChannelAlone;
 use std::fmt;
 
 /// What to project.
@@ -106,7 +108,11 @@ pub fn project_from<S: ToySource>(
 ) -> Result<Projection, S::Error> {
     let likelihood = Likelihood::new(model);
     let mut asimov = AsimovSignificance::new(&likelihood);
-    let points = points(&likelihood, &mut asimov, settings, source)?;
+    let channel_models = channels_alone(model);
+    let channel_likelihoods: Vec<Likelihood> = channel_models.iter().map(Likelihood::new).collect();
+    let mut channels: Vec<ChannelAlone> =
+        channel_likelihoods.iter().map(ChannelAlone::new).collect();
+    let points = points(&likelihood, &mut asimov, &mut channels, settings, source)?;
     let days_to_target = days::days_to_targets(
         model,
         &mut asimov,
@@ -132,10 +138,21 @@ pub fn project_from<S: ToySource>(
     })
 }
 
+/// The model of each channel alone when there are several; none for one.
+fn channels_alone(model: &Model) -> Vec<Model> {
+    match model.channels.len() {
+        1 => Vec::new(),
+        channels => (0..channels)
+            .map(|index| model.channel_alone(index))
+            .collect(),
+    }
+}
+
 /// The exposure point at every grid day, in grid order.
 fn points<S: ToySource>(
     likelihood: &Likelihood,
     asimov: &mut AsimovSignificance,
+    channels: &mut [ChannelAlone],
     settings: &ProjectionSettings,
     source: &mut S,
 ) -> Result<Vec<ExposurePoint>, S::Error> {
@@ -144,6 +161,6 @@ fn points<S: ToySource>(
         .days
         .iter()
         .enumerate()
-        .map(|(index, &days)| runner.point(asimov, index, days, source))
+        .map(|(index, &days)| runner.point(asimov, channels, index, days, source))
         .collect()
 }

@@ -17,7 +17,8 @@ const LIMIT: &str = "a finite upper limit on the signal strength above 0";
 /// - every number finite (targets, counts, significances, probabilities, days,
 ///   calibrations), the confidence level between 0 and 1;
 /// - every expected limit on μ finite and above zero (absent limits are fine);
-/// - every point carries one probability per target, in the order of `targets`.
+/// - every point carries one probability per target, in the order of `targets`;
+/// - every point lists the same channels as the first.
 pub(in crate::report) fn check_projection(projection: &Projection) -> Result<(), ReportError> {
     if projection.points.is_empty() {
         return Err(invalid(
@@ -54,6 +55,27 @@ pub(in crate::report) fn check_projection(projection: &Projection) -> Result<(),
     optional_finite(field("median_days"), exclusion.median_days)
 }
 
+/// Point `index` lists the channels of the first point, in its order, each
+/// with finite numbers (the CSV names its columns after the first point).
+fn check_channels(projection: &Projection, index: usize) -> Result<(), ReportError> {
+    let channels = &projection.points[index].channels;
+    let names = projection.points[0].channels.iter().map(|c| &c.name);
+    if !channels.iter().map(|c| &c.name).eq(names) {
+        return Err(invalid(
+            format!("points[{index}].channels"),
+            format!("{} channels", channels.len()),
+            "the channels of points[0], in its order",
+        ));
+    }
+    for (position, channel) in channels.iter().enumerate() {
+        let field = |name: &str| format!("points[{index}].channels[{position}].{name}");
+        finite(field("signal"), channel.signal)?;
+        finite(field("background"), channel.background)?;
+        finite(field("z_asimov"), channel.z_asimov)?;
+    }
+    Ok(())
+}
+
 fn check_points(projection: &Projection) -> Result<(), ReportError> {
     let mut previous_days = 0.0;
     for (index, point) in projection.points.iter().enumerate() {
@@ -71,6 +93,7 @@ fn check_points(projection: &Projection) -> Result<(), ReportError> {
         finite(field("signal"), point.signal)?;
         finite(field("background"), point.background)?;
         finite(field("z_asimov"), point.z_asimov)?;
+        check_channels(projection, index)?;
         for (quantile, &z) in point.z_asimov_band.iter().enumerate() {
             finite(format!("points[{index}].z_asimov_band[{quantile}]"), z)?;
         }

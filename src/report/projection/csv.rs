@@ -12,7 +12,8 @@
 //! limit_asimov_q97_7` (asymptotic, the -2, -1, +1, +2 σ limits standing at
 //! those quantiles), `limit_failed_fits`; then the q0 calibration,
 //! `calibration_converged_toys, calibration_failed_fits, calibration_exceeding,
-//! q0_asimov, p_asymptotic, p_toys, z_asymptotic, z_toys, tail_reach_z`. An
+//! q0_asimov, p_asymptotic, p_toys, z_asymptotic, z_toys, tail_reach_z`; with
+//! several channels, last, `z_asimov_<channel>`: each channel's own Z_A. An
 //! empty cell means no value (an Asimov-only run has no toy columns filled, a
 //! run without limits or calibration none of theirs). Numbers are
 //! written as the shortest decimal that reads back to the same f64
@@ -68,6 +69,7 @@ const CALIBRATION_COLUMNS: [&str; 9] = [
 /// The CSV table of the projection.
 pub(super) fn render(projection: &Projection) -> Result<Vec<u8>, ReportError> {
     let mut columns = header(&projection.targets);
+    columns.extend(channel_columns(projection));
     let mut rows: Vec<Vec<String>> = projection.points.iter().map(row).collect();
     if let Some(start) = projection.start {
         columns.insert(1, "date".to_string());
@@ -107,6 +109,18 @@ fn header(targets: &[f64]) -> Vec<String> {
     columns
 }
 
+/// `z_asimov_<channel>` for each channel of a scenario with several (every
+/// point lists the same channels); none for a single channel.
+fn channel_columns(projection: &Projection) -> Vec<String> {
+    projection.points.first().map_or_else(Vec::new, |point| {
+        point
+            .channels
+            .iter()
+            .map(|channel| format!("z_asimov_{}", channel.name))
+            .collect()
+    })
+}
+
 /// One row; the probabilities are in the order of the targets (checked upstream).
 fn row(point: &ExposurePoint) -> Vec<String> {
     let mut cells = vec![
@@ -126,6 +140,12 @@ fn row(point: &ExposurePoint) -> Vec<String> {
     cells.push(point.failed_fits.to_string());
     cells.extend(limit_cells(point));
     cells.extend(calibration_cells(point.calibration.as_ref()));
+    cells.extend(
+        point
+            .channels
+            .iter()
+            .map(|channel| number(channel.z_asimov)),
+    );
     cells
 }
 

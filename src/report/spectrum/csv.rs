@@ -1,6 +1,6 @@
 //! `spectrum-<D>d.csv`: one row per bin and exposure.
 //!
-//! Columns: `days, live_days, low, high, counts, background,
+//! Columns (after `channel`, each row's channel, when there are several): `days, live_days, low, high, counts, background,
 //! signal_plus_background, error_low, error_high`. `background` and
 //! `signal_plus_background` are expected counts; `error_low` and `error_high`
 //! are the lengths of the error bar below and above `counts`. Numbers are
@@ -27,38 +27,50 @@ const COLUMNS: [&str; 9] = [
     "error_high",
 ];
 
-/// The CSV table of the spectra, exposures in order.
+/// The CSV table of the spectra, exposures in order, each exposure's channels
+/// in order; with several channels a first column `channel` names each row's.
 pub(super) fn render(spectrum: &Spectrum) -> Result<Vec<u8>, ReportError> {
+    let named = spectrum.channels.len() > 1;
     let rows = spectrum.exposures.iter().flat_map(|exposure| {
-        exposure.bins.iter().map(move |bin| {
-            [
-                number(exposure.days),
-                number(exposure.live_days),
-                number(bin.low),
-                number(bin.high),
-                bin.counts.to_string(),
-                number(bin.background),
-                number(bin.signal_plus_background),
-                number(bin.error_low),
-                number(bin.error_high),
-            ]
+        spectrum.channels.iter().flat_map(move |channel| {
+            channel.bins_of(exposure).iter().map(move |bin| {
+                let name = named.then(|| channel.name.clone());
+                name.into_iter()
+                    .chain([
+                        number(exposure.days),
+                        number(exposure.live_days),
+                        number(bin.low),
+                        number(bin.high),
+                        bin.counts.to_string(),
+                        number(bin.background),
+                        number(bin.signal_plus_background),
+                        number(bin.error_low),
+                        number(bin.error_high),
+                    ])
+                    .collect::<Vec<String>>()
+            })
         })
     });
-    csv_bytes(FILE, COLUMNS, rows)
+    let columns = named.then_some("channel").into_iter().chain(COLUMNS);
+    csv_bytes(FILE, columns, rows)
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::spectrum::{ExposureSpectrum, SpectrumBin};
+    use crate::spectrum::{ExposureSpectrum, SpectrumBin, SpectrumChannel};
 
     #[test]
     fn rows_follow_the_documented_columns() {
         let spectrum = Spectrum {
             title: "t".into(),
-            observable: "x".into(),
-            unit: "keV".into(),
-            bin_width: 2.0,
+            channels: vec![SpectrumChannel {
+                name: "x".into(),
+                observable: "x".into(),
+                unit: "keV".into(),
+                bin_width: 2.0,
+                bins: 0..1,
+            }],
             seed: 1,
             exposures: vec![ExposureSpectrum {
                 days: 10.0,
