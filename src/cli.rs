@@ -65,6 +65,14 @@ pub enum Command {
     /// (or --out); with --days repeated, one figure with the exposures side by side,
     /// named spectrum-<D1>d-<D2>d.svg. Same seed and days, same pseudo-data.
     Spectrum(SpectrumArgs),
+    /// The reach over signal.scan: expected limits and discovery rates against the position.
+    ///
+    /// For every scan position and each --days: the expected CLs limit on the
+    /// signal rate (events per live day; Asimov median and bands, and with
+    /// --toys the pseudo-experiment median and bands) and the rates for which
+    /// the median local and global significance reach each target. Writes
+    /// reach.svg, reach.csv and reach.json to output/<scenario file stem>/ (or --out).
+    Reach(ReachArgs),
     /// Scan the bin width of the shape fit and a counting window around the signal peak.
     ///
     /// Prints the Asimov significance of each, recommends a bin width (the coarsest
@@ -158,6 +166,10 @@ pub struct PlanArgs {
     /// Calibrate the discovery p-value with N background-only pseudo-experiments per point.
     #[arg(long, value_name = "N")]
     pub calibrate: Option<usize>,
+    /// Background-only pseudo-experiments per exposure point fitted at every
+    /// position of signal.scan, for the look-elsewhere effect (default 500).
+    #[arg(long, value_name = "N")]
+    pub lee_toys: Option<usize>,
 }
 
 #[derive(Debug, Args)]
@@ -236,6 +248,32 @@ pub struct SpectrumArgs {
     pub out: Option<PathBuf>,
     #[command(flatten)]
     pub figures: FigureArgs,
+}
+
+#[derive(Debug, Args)]
+pub struct ReachArgs {
+    /// The scenario file (YAML), with signal.scan.
+    pub scenario: PathBuf,
+    /// Calendar days of data-taking; repeat for several exposures.
+    #[arg(long, value_name = "D", required = true, allow_negative_numbers = true)]
+    pub days: Vec<f64>,
+    /// Background-only pseudo-experiments per position and exposure for toy limits (default 0: Asimov only).
+    #[arg(long, value_name = "N", default_value_t = 0)]
+    pub toys: usize,
+    /// Seed of the pseudo-experiments (overrides plan.seed).
+    #[arg(long, value_name = "S")]
+    pub seed: Option<u64>,
+    /// Output directory (default: output/<scenario file stem>).
+    #[arg(long, value_name = "DIR")]
+    pub out: Option<PathBuf>,
+    #[command(flatten)]
+    pub figures: FigureArgs,
+    /// Worker threads (default: all cores); results do not depend on it.
+    #[arg(long, value_name = "N")]
+    pub threads: Option<usize>,
+    /// No progress bar.
+    #[arg(long)]
+    pub quiet: bool,
 }
 
 #[derive(Debug, Args)]

@@ -6,6 +6,9 @@
 //! depend on the number of threads or on the order in which toys run.
 
 mod poisson;
+mod scan;
+
+pub use scan::{PositionScan, ScanToy, UpcrossingCount, look_elsewhere_ensemble};
 
 use crate::likelihood::{Dataset, DiscoveryTest, Likelihood};
 use crate::model::Constraint;
@@ -118,10 +121,10 @@ impl Generator {
 
 /// The values measured on an ensemble at one exposure, with the fits that failed.
 #[derive(Debug, Clone, PartialEq)]
-pub struct EnsembleOutcome {
-    /// The measured value (a significance, an upper limit, a q0) of each
-    /// pseudo-experiment whose fits converged, in toy order.
-    pub values: Vec<f64>,
+pub struct EnsembleOutcome<T = f64> {
+    /// The measured value (a significance, an upper limit, a q0, a scan's
+    /// summary) of each pseudo-experiment whose fits converged, in toy order.
+    pub values: Vec<T>,
     /// Pseudo-experiments whose fits failed after all retries.
     pub failed_fits: usize,
 }
@@ -146,6 +149,9 @@ pub enum Family {
     Exclusion,
     /// Generated at mu = 0, for the calibration of q0.
     Calibration,
+    /// Generated at mu = 0 and fitted at every scanned signal position, for
+    /// the look-elsewhere effect.
+    LookElsewhere,
 }
 
 impl Family {
@@ -155,8 +161,26 @@ impl Family {
             Family::Discovery => 0,
             Family::Exclusion => 1,
             Family::Calibration => 2,
+            Family::LookElsewhere => 3,
         };
         (family << 32) | exposure_index as u64
+    }
+}
+
+/// What one pseudo-experiment measures, with a value that marks a failed fit
+/// while the ensemble is filled in place.
+pub trait ToyValue: Copy + Send + Sync {
+    /// The placeholder of a pseudo-experiment whose fits failed.
+    const FAILED: Self;
+
+    fn is_failed(&self) -> bool;
+}
+
+impl ToyValue for f64 {
+    const FAILED: f64 = f64::NAN;
+
+    fn is_failed(&self) -> bool {
+        self.is_nan()
     }
 }
 
@@ -168,18 +192,18 @@ const CHUNK: usize = 256;
 /// (with per-thread state made by `state`) to each; None counts as a failed fit.
 ///
 /// Each worker keeps one state and one dataset for all its toys, and the values
-/// are written straight into their place in one vector (a failed toy as NaN
-/// until the failures are counted and removed), so the memory is that of the
-/// results alone, eight bytes a toy.
-pub fn run_ensemble<S>(
+/// are written straight into their place in one vector (a failed toy as
+/// [`ToyValue::FAILED`] until the failures are counted and removed), so the
+/// memory is that of the results alone, eight bytes a toy for a number.
+pub fn run_ensemble<S, T: ToyValue>(
     generator: &Generator,
     stream_index: u64,
     plan: &EnsemblePlan,
     state: impl Fn() -> S + Sync + Send,
-    measure: impl Fn(&mut S, &Dataset) -> Option<f64> + Sync + Send,
-) -> EnsembleOutcome {
+    measure: impl Fn(&mut S, &Dataset) -> Option<T> + Sync + Send,
+) -> EnsembleOutcome<T> {
     let first_toy = plan.toys.start;
-    let mut values = vec![f64::NAN; plan.toys.len()];
+    let mut values = vec![T::FAILED; plan.toys.len()];
     values.par_chunks_mut(CHUNK).enumerate().for_each_init(
         || (state(), generator.empty_dataset()),
         |(state, data), (chunk, results)| {
@@ -187,12 +211,12 @@ pub fn run_ensemble<S>(
                 let mut rng =
                     toy_stream(plan.seed, stream_index, first_toy + chunk * CHUNK + offset);
                 generator.draw(&mut rng, data);
-                *value = measure(state, data).unwrap_or(f64::NAN);
+                *value = measure(state, data).unwrap_or(T::FAILED);
             }
             (plan.progress)(results.len() as u64);
         },
     );
-    values.retain(|value| !value.is_nan());
+    values.retain(|value| !value.is_failed());
     EnsembleOutcome {
         failed_fits: plan.toys.len() - values.len(),
         values,

@@ -3,6 +3,7 @@
 use runcast::benchmark::BenchmarkError;
 use runcast::binning::BinningError;
 use runcast::projection::{ProjectionError, ShardError};
+use runcast::reach::ReachError;
 use runcast::report::ReportError;
 use runcast::scenario::ScenarioError;
 use std::fmt;
@@ -16,6 +17,11 @@ pub enum Error {
         source: ScenarioError,
     },
     Projection(ProjectionError),
+    /// The reach could not be computed (no scan, a failed asymptotic fit).
+    Reach {
+        path: PathBuf,
+        source: ReachError,
+    },
     /// A shard could not be written, or shards not merged.
     Shard(ShardError),
     /// sbatch could not be run or refused a script.
@@ -48,6 +54,7 @@ impl fmt::Display for Error {
             } => write!(f, "{source}"),
             Error::Scenario { path, source } => write!(f, "{}: {source}", path.display()),
             Error::Projection(source) => write!(f, "{source}"),
+            Error::Reach { path, source } => write!(f, "{}: {source}", path.display()),
             Error::Shard(source) => write!(f, "{source}"),
             Error::Slurm(message) => f.write_str(message),
             Error::Binning(source) => write!(f, "{source}"),

@@ -6,7 +6,8 @@
 //! -> likelihood (negative log-likelihood, fits, test statistics)
 //! -> ensemble (seeded pseudo-experiments) -> projection (exposure scan, days to target)
 //! -> report (SVG, CSV, JSON, terminal summary).
-//! `asymptotic` holds the Asimov answers the projection cross-checks against;
+//! `asymptotic` holds the Asimov answers the projection cross-checks against,
+//! `look_elsewhere` the global p-values of a scan over signal positions;
 //! `spectrum` draws pseudo-data spectra and `binning` scans bin widths and
 //! counting windows, both for planning beside the projection;
 //! `warning` types what may be wrong with a scenario or results;
@@ -22,12 +23,15 @@ pub mod calendar;
 pub mod ensemble;
 pub mod likelihood;
 pub mod limits;
+pub mod look_elsewhere;
 pub mod message;
 pub mod model;
 pub mod numeric;
 pub mod projection;
+pub mod reach;
 pub mod report;
 pub mod scenario;
 pub mod shapes;
 pub mod spectrum;
+pub mod upcrossings;
 pub mod warning;

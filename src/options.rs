@@ -2,15 +2,18 @@
 //! value per command, so every override (`--toys`, `--seed`, ...) and every
 //! limit on the command line is applied in one place.
 
-use crate::cli::{BinningArgs, FigureArgs, PlanArgs, ProjectArgs, SlurmArgs, SpectrumArgs};
+use crate::cli::{
+    BinningArgs, FigureArgs, PlanArgs, ProjectArgs, ReachArgs, SlurmArgs, SpectrumArgs,
+};
 use crate::error::Error;
 use runcast::message::show;
 use runcast::model::{LiveTime, Model};
 use runcast::projection::{ProjectionSettings, ShardSpec};
+use runcast::reach::ReachSettings;
 use runcast::report::{DPI_RANGE, FigureFormats};
 use runcast::scenario::limits::{
-    MAX_EXPECTED_COUNT_PER_BIN, MAX_SPECTRUM_EXPOSURES, MAX_THREADS, MAX_TOYS_IN_TOTAL,
-    MAX_TOYS_PER_POINT,
+    MAX_EXPECTED_COUNT_PER_BIN, MAX_REACH_EXPOSURES, MAX_SPECTRUM_EXPOSURES, MAX_THREADS,
+    MAX_TOYS_IN_TOTAL, MAX_TOYS_PER_POINT,
 };
 use runcast::scenario::{Scenario, ScenarioError};
 use runcast::spectrum::largest_expected_count;
@@ -21,6 +24,11 @@ use std::path::{Path, PathBuf};
 /// resolve one-sided p-values down to 1/N, which must fall below
 /// 1 - Phi(1) = 0.1587 for the calibration to reach even 1 sigma.
 pub const MIN_CALIBRATION_TOYS: usize = 7;
+
+/// Background-only scan pseudo-experiments per point when the scenario has a
+/// `signal.scan` and `--lee-toys` is not given: a few hundred scans measure
+/// the mean upcrossings of the reference level to a few percent.
+pub const DEFAULT_LOOK_ELSEWHERE_TOYS: usize = 500;
 
 /// A validated scenario read from `path`.
 pub struct Loaded {
@@ -97,6 +105,7 @@ struct PlanOverrides {
     asimov_only: bool,
     no_limits: bool,
     calibrate: Option<usize>,
+    lee_toys: Option<usize>,
     /// The shards the projection is split into (0 or 1: not split); the
     /// limits on calibration toys and on all toys then hold per shard, since
     /// a shard holds only its own toys and merging keeps calibration counts.
@@ -111,6 +120,7 @@ impl PlanOverrides {
             asimov_only: args.asimov_only,
             no_limits: args.no_limits,
             calibrate: args.calibrate,
+            lee_toys: args.lee_toys,
             shards,
         }
     }
@@ -146,13 +156,18 @@ fn projection_settings(
             Normal::standard().sf(1.0)
         )));
     }
+    let scan = scenario.signal_scan();
+    if scan.is_none() && overrides.lee_toys.is_some() {
+        return Err(Error::Usage(
+            "--lee-toys: the scenario has no signal.scan, so there is no look-elsewhere effect to estimate".into(),
+        ));
+    }
     let largest_shard = overrides.largest_shard();
-    let calibration_share = overrides
-        .calibrate
-        .map(|toys| largest_shard.toys(toys).len());
+    let share = |toys: Option<usize>| toys.map(|toys| largest_shard.toys(toys).len());
     for (flag, toys) in [
         ("--toys", overrides.toys),
-        ("--calibrate", calibration_share),
+        ("--calibrate", share(overrides.calibrate)),
+        ("--lee-toys", share(overrides.lee_toys)),
     ] {
         if let Some(toys) = toys.filter(|&toys| toys > MAX_TOYS_PER_POINT) {
             return Err(Error::Usage(format!(
@@ -173,10 +188,17 @@ fn projection_settings(
         targets: scenario.plan.targets.clone(),
         cl: (!overrides.no_limits).then_some(scenario.plan.cl),
         calibration_toys: overrides.calibrate.unwrap_or(0),
+        look_elsewhere_toys: match &scan {
+            Some(_) if !overrides.asimov_only => {
+                overrides.lee_toys.unwrap_or(DEFAULT_LOOK_ELSEWHERE_TOYS)
+            }
+            _ => 0,
+        },
+        scan,
     };
     if settings.total_toys_in(largest_shard) > MAX_TOYS_IN_TOTAL {
         return Err(Error::Usage(format!(
-            "--toys/--calibrate: {} pseudo-experiments at each of {} points make {}, more than the {MAX_TOYS_IN_TOTAL} allowed in one projection{}",
+            "--toys/--calibrate/--lee-toys: {} pseudo-experiments at each of {} points make {}, more than the {MAX_TOYS_IN_TOTAL} allowed in one projection{}",
             settings.toys_per_point(),
             settings.days.len(),
             settings.total_toys(),
@@ -393,6 +415,70 @@ impl SpectrumOptions {
         Ok(SpectrumOptions {
             days: args.days.clone(),
             seed: loaded.seed(args.seed),
+            out: loaded.output_directory(args.out.as_deref()),
+            formats: figure_formats(&args.figures)?,
+            loaded,
+        })
+    }
+}
+
+/// `runcast reach`, resolved.
+pub struct ReachOptions {
+    pub loaded: Loaded,
+    pub settings: ReachSettings,
+    pub threads: Option<usize>,
+    pub quiet: bool,
+    pub out: PathBuf,
+    pub formats: FigureFormats,
+}
+
+impl ReachOptions {
+    /// The exposures checked as for `spectrum` (live time, none repeated, at
+    /// most [`MAX_REACH_EXPOSURES`]); the toys bounded per position and in
+    /// total over positions and exposures.
+    pub fn resolve(args: &ReachArgs) -> Result<ReachOptions, Error> {
+        if args.days.len() > MAX_REACH_EXPOSURES {
+            return Err(Error::Usage(format!(
+                "--days: at most {MAX_REACH_EXPOSURES} exposures fit in one reach figure, got {}",
+                args.days.len()
+            )));
+        }
+        if args.toys > MAX_TOYS_PER_POINT {
+            return Err(Error::Usage(format!(
+                "--toys {}: at most {MAX_TOYS_PER_POINT} pseudo-experiments per position are allowed",
+                args.toys
+            )));
+        }
+        let loaded = Loaded::load(&args.scenario)?;
+        for (index, &days) in args.days.iter().enumerate() {
+            loaded.live_days(days)?;
+            if args.days[..index].contains(&days) {
+                return Err(Error::Usage(format!(
+                    "--days {}: given more than once",
+                    show(days)
+                )));
+            }
+        }
+        let positions = loaded.scenario.signal_scan().map_or(0, |scan| scan.len());
+        let total = args.toys as u64 * positions as u64 * args.days.len() as u64;
+        if total > MAX_TOYS_IN_TOTAL {
+            return Err(Error::Usage(format!(
+                "--toys {}: {total} pseudo-experiments over {positions} positions and {} exposures, more than the {MAX_TOYS_IN_TOTAL} allowed",
+                args.toys,
+                args.days.len()
+            )));
+        }
+        let plan = &loaded.scenario.plan;
+        Ok(ReachOptions {
+            settings: ReachSettings {
+                days: args.days.clone(),
+                cl: plan.cl,
+                targets: plan.targets.clone(),
+                toys: args.toys,
+                seed: loaded.seed(args.seed),
+            },
+            threads: check_threads(args.threads)?,
+            quiet: args.quiet,
             out: loaded.output_directory(args.out.as_deref()),
             formats: figure_formats(&args.figures)?,
             loaded,

@@ -19,6 +19,8 @@ pub enum Ensemble {
     Limits,
     /// Background-only toys calibrating the p-value of q0.
     Calibration,
+    /// Background-only toys fitted at every scanned signal position.
+    LookElsewhere,
 }
 
 #[derive(Debug, Clone, PartialEq)]

@@ -41,6 +41,8 @@ fn run(model: &Model, days: &[f64]) -> Projection {
         targets: vec![3.0],
         cl: Some(0.95),
         calibration_toys: 0,
+        scan: None,
+        look_elsewhere_toys: 0,
     };
     project(model, &settings, &|_| {}).expect("projection")
 }
@@ -230,6 +232,8 @@ fn demo_with_one_grid_point_agrees_with_asimov(periods: &[Period], day: f64) -> 
         targets: vec![3.0],
         cl: Some(0.95),
         calibration_toys: 0,
+        scan: None,
+        look_elsewhere_toys: 0,
     };
     let projection = project(&model, &settings, &|_| {}).expect("projection");
     let point = &projection.points[0];

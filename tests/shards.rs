@@ -17,16 +17,19 @@ use runcast::scenario::Scenario;
 use std::fs;
 use std::path::{Path, PathBuf};
 
-const DEMOS: [&str; 4] = [
+const DEMOS: [&str; 5] = [
     "counting_window.yaml",
     "faint_line.yaml",
     "narrow_peak.yaml",
     "off_source_control.yaml",
+    "unknown_line.yaml",
 ];
 
 /// Few toys, so the suite stays fast; 12 and 30 are not multiples of 7.
 const TOYS: usize = 12;
 const CALIBRATION_TOYS: usize = 30;
+/// Background-only scans of the demo with a scan; 9 is not a multiple of 2 or 7.
+const LOOK_ELSEWHERE_TOYS: usize = 9;
 
 fn demo(name: &str) -> (Scenario, String) {
     let path = Path::new(env!("CARGO_MANIFEST_DIR"))
@@ -45,6 +48,12 @@ fn settings(scenario: &Scenario, seed: u64, calibration_toys: usize) -> Projecti
         targets: scenario.plan.targets.clone(),
         cl: Some(scenario.plan.cl),
         calibration_toys,
+        scan: scenario.signal_scan(),
+        look_elsewhere_toys: if scenario.signal_scan().is_some() {
+            LOOK_ELSEWHERE_TOYS
+        } else {
+            0
+        },
     }
 }
 

@@ -54,6 +54,8 @@ pub fn probe_in_process(points: usize, toys: usize) -> Result<u64, BenchmarkErro
         targets: scenario.plan.targets.clone(),
         cl: None,
         calibration_toys: 0,
+        scan: None,
+        look_elsewhere_toys: 0,
     };
     project(&model, &settings, &|_| {}).map_err(|failure| BenchmarkError::Child {
         command: format!("memory probe {points}:{toys}"),

@@ -64,6 +64,7 @@ fn project_args(args: &CompareArgs, plan: &Path) -> ProjectArgs {
             asimov_only: args.asimov_only,
             no_limits: args.no_limits,
             calibrate: None,
+            lee_toys: None,
         },
         out: None,
         figures: args.figures.clone(),

@@ -7,6 +7,7 @@ mod compare;
 mod merge;
 mod new;
 mod project;
+mod reach;
 mod slurm;
 mod spectrum;
 
@@ -22,6 +23,7 @@ pub fn run(cli: Cli) -> Result<(), Error> {
         Command::Project(args) => project::run(&args),
         Command::Check { scenario } => check::run(&scenario),
         Command::Spectrum(args) => spectrum::run(&args),
+        Command::Reach(args) => reach::run(&args),
         Command::Binning(args) => binning::run(&args),
         Command::Compare(args) => compare::run(&args),
         Command::New { file } => new::run(&file),

@@ -102,6 +102,9 @@ fn array_script(options: &SlurmOptions) -> String {
     if settings.calibration_toys > 0 {
         plan.push(format!("--calibrate {}", settings.calibration_toys));
     }
+    if settings.scan.is_some() && settings.toys > 0 {
+        plan.push(format!("--lee-toys {}", settings.look_elsewhere_toys));
+    }
     if settings.cl.is_none() {
         plan.push("--no-limits".into());
     }

@@ -12,6 +12,7 @@
 
 mod dataset;
 mod fit;
+mod information;
 mod linear;
 mod poisson;
 mod test_statistic;
@@ -19,6 +20,7 @@ mod upper_limit;
 
 pub use dataset::Dataset;
 pub use fit::{FitFailure, Fitter};
+pub use information::{MetricFailure, ProfiledMetric};
 pub use test_statistic::{DiscoveryFit, DiscoveryTest, q0_from_fits};
 pub use upper_limit::{UpperLimitTest, q_tilde_from_fits};
 

@@ -1,7 +1,9 @@
 //! Days to each target and to exclusion, from the grid and by root finding.
 
 use super::crossing::first_crossing;
-use super::{DaysToExclusion, DaysToTarget, ExposurePoint, ProjectionError};
+use super::{
+    DaysToExclusion, DaysToTarget, ExposurePoint, GlobalDays, GlobalSignificance, ProjectionError,
+};
 use crate::asymptotic::{AsimovSignificance, significance};
 use crate::likelihood::{FitFailure, Likelihood};
 use crate::limits::asymptotic_limits;
@@ -12,13 +14,16 @@ use crate::numeric::bisect_log;
 /// days, and the days where 50% and 90% of the `toys` pseudo-experiments per
 /// point reach the target (their fractions turned into significances, see
 /// [`fraction_as_significance_squared`], also linear in live days), each toy
-/// crossing mapped back to the first calendar day with that live time.
+/// crossing mapped back to the first calendar day with that live time. With
+/// a scan (`with_scan`), also the days where the global significances of Z_A
+/// and of the toy median reach the target, their squares linear in live days.
 pub(super) fn days_to_targets(
     model: &Model,
     asimov: &mut AsimovSignificance,
     points: &[ExposurePoint],
     targets: &[f64],
     toys: usize,
+    with_scan: bool,
 ) -> Result<Vec<DaysToTarget>, ProjectionError> {
     let last_live_days = points.last().map_or(1.0, |p| p.live_days).max(1e-9);
     let saturation_z = asimov
@@ -70,6 +75,16 @@ pub(super) fn days_to_targets(
                 p50_days: crossing(&reach, reached_by(0.5)),
                 p90_days: crossing(&reach, reached_by(0.9)),
                 saturation_z,
+                global: with_scan.then(|| GlobalDays {
+                    global_asimov_days: crossing(
+                        &global_series(points, |g| g.z_global_asimov),
+                        target * target,
+                    ),
+                    global_median_days: crossing(
+                        &global_series(points, |g| g.z_global_median),
+                        target * target,
+                    ),
+                }),
             })
         })
         .collect()
@@ -153,6 +168,20 @@ fn fraction_as_significance_squared(fraction: f64, target: f64, converged: usize
     let edge = 0.5 / converged.max(1) as f64;
     let z = target + significance(1.0 - fraction.clamp(edge, 1.0 - edge));
     z.max(0.0).powi(2)
+}
+
+/// The square of a global significance over the grid (0 before any live
+/// time); None when a point with live time lacks it.
+fn global_series(
+    points: &[ExposurePoint],
+    significance: impl Fn(&GlobalSignificance) -> Option<f64>,
+) -> Option<Vec<f64>> {
+    toy_series(points, |p| {
+        if p.live_days <= 0.0 {
+            return Some(0.0);
+        }
+        p.global.as_ref().and_then(&significance).map(|z| z * z)
+    })
 }
 
 /// A per-point toy quantity over the grid; None when any point lacks it.

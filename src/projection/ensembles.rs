@@ -4,10 +4,12 @@
 use super::ProjectionError;
 use super::shard::ShardSpec;
 use crate::ensemble::{
-    EnsembleOutcome, EnsemblePlan, background_only_q0_ensemble, discovery_ensemble,
+    EnsembleOutcome, EnsemblePlan, ScanToy, background_only_q0_ensemble, discovery_ensemble,
+    look_elsewhere_ensemble,
 };
 use crate::likelihood::Likelihood;
 use crate::limits::toy_limit_ensemble;
+use crate::scenario::SignalScan;
 
 /// The ensembles one grid point with live time needs.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -21,6 +23,9 @@ pub struct PointRequest {
     pub limits: Option<LimitRequest>,
     /// Background-only pseudo-experiments calibrating the Asimov q0, when asked.
     pub calibration: Option<CalibrationRequest>,
+    /// Background-only pseudo-experiments scanned over the signal positions,
+    /// with a scan and look-elsewhere toys.
+    pub look_elsewhere: Option<LookElsewhereRequest>,
 }
 
 /// Limit pseudo-experiments at one point: how many, at which CLs level, with
@@ -39,6 +44,16 @@ pub struct CalibrationRequest {
     pub q0_asimov: f64,
 }
 
+/// Look-elsewhere pseudo-experiments at one point: how many, the level
+/// whose upcrossings they count, and the Asimov q0 their largest q0 is
+/// compared with.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct LookElsewhereRequest {
+    pub toys: usize,
+    pub reference_level: f64,
+    pub q0_asimov: f64,
+}
+
 /// The outcomes of a point's ensembles (of a whole ensemble or of a shard's part).
 ///
 /// Discovery significances and limits are kept toy by toy, since quantiles
@@ -49,6 +64,55 @@ pub struct PointToys {
     pub discovery: Option<EnsembleOutcome>,
     pub limits: Option<EnsembleOutcome>,
     pub calibration: Option<CalibrationCount>,
+    pub look_elsewhere: Option<LookElsewhereCount>,
+}
+
+/// Background-only scans counted: exact sums, so shards add up to the
+/// unsharded counts and no scan is kept.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
+pub struct LookElsewhereCount {
+    /// Scans whose fits all converged.
+    pub converged: usize,
+    /// Sum over converged scans of their upcrossings of the reference level.
+    pub upcrossings: u64,
+    /// Sum of the squares of the upcrossings, for their standard error.
+    pub upcrossings_squared: u64,
+    /// Converged scans whose largest q0 is at or above the Asimov q0.
+    pub exceeding: usize,
+    pub failed_fits: usize,
+}
+
+impl LookElsewhereCount {
+    /// Counts the converged scans of `outcome` against `q0_asimov`.
+    pub fn of(outcome: &EnsembleOutcome<ScanToy>, q0_asimov: f64) -> LookElsewhereCount {
+        let upcrossings = outcome.values.iter().map(|toy| u64::from(toy.upcrossings));
+        LookElsewhereCount {
+            converged: outcome.values.len(),
+            upcrossings: upcrossings.clone().sum(),
+            upcrossings_squared: upcrossings.map(|n| n * n).sum(),
+            exceeding: outcome
+                .values
+                .iter()
+                .filter(|toy| toy.max_q0 >= q0_asimov)
+                .count(),
+            failed_fits: outcome.failed_fits,
+        }
+    }
+
+    /// Scans counted, converged or not.
+    pub fn toys(&self) -> usize {
+        self.converged + self.failed_fits
+    }
+
+    fn add(self, next: LookElsewhereCount) -> LookElsewhereCount {
+        LookElsewhereCount {
+            converged: self.converged + next.converged,
+            upcrossings: self.upcrossings + next.upcrossings,
+            upcrossings_squared: self.upcrossings_squared + next.upcrossings_squared,
+            exceeding: self.exceeding + next.exceeding,
+            failed_fits: self.failed_fits + next.failed_fits,
+        }
+    }
 }
 
 /// Background-only pseudo-experiments counted against the Asimov q0.
@@ -92,6 +156,10 @@ impl PointToys {
             }),
             (held, next) => held.or(next),
         };
+        self.look_elsewhere = match (self.look_elsewhere, next.look_elsewhere) {
+            (Some(held), Some(next)) => Some(held.add(next)),
+            (held, next) => held.or(next),
+        };
     }
 }
 
@@ -128,6 +196,8 @@ pub trait ToySource {
 pub struct RunToys<'a> {
     pub seed: u64,
     pub shard: ShardSpec,
+    /// The scan the look-elsewhere pseudo-experiments fit, when there is one.
+    pub scan: Option<&'a SignalScan>,
     pub progress: &'a (dyn Fn(u64) + Sync),
 }
 
@@ -173,10 +243,26 @@ impl ToySource for RunToys<'_> {
             let outcome = background_only_q0_ensemble(likelihood, live_days, index, &plan);
             CalibrationCount::of(&outcome, calibration.q0_asimov)
         });
+        let look_elsewhere = request
+            .look_elsewhere
+            .zip(self.scan)
+            .map(|(request, scan)| {
+                let plan = self.plan(request.toys);
+                let outcome = look_elsewhere_ensemble(
+                    likelihood,
+                    scan,
+                    live_days,
+                    index,
+                    &plan,
+                    request.reference_level,
+                );
+                LookElsewhereCount::of(&outcome, request.q0_asimov)
+            });
         Ok(PointToys {
             discovery,
             limits,
             calibration,
+            look_elsewhere,
         })
     }
 

@@ -10,17 +10,20 @@ mod warnings;
 
 pub use crossing::{first_crossing, quantile};
 pub use ensembles::{
-    CalibrationCount, CalibrationRequest, LimitRequest, PointRequest, PointToys, RunToys, ToySource,
+    CalibrationCount, CalibrationRequest, LimitRequest, LookElsewhereCount, LookElsewhereRequest,
+    PointRequest, PointToys, RunToys, ToySource,
 };
+pub use point::BAND_QUANTILES;
 pub use result::{
-    Calibration, ChannelPoint, DaysToExclusion, DaysToTarget, ExposurePoint, Projection,
-    TargetProbability,
+    Calibration, ChannelPoint, DaysToExclusion, DaysToTarget, ExposurePoint, GlobalDays,
+    GlobalSignificance, LookElsewhere, Projection, ScanSummary, TargetProbability,
 };
 pub use shard::{ShardError, ShardRun, ShardSpec, merge_shards, run_shard};
 
 use crate::asymptotic::AsimovSignificance;
 use crate::likelihood::{FitFailure, Likelihood};
 use crate::model::Model;
+use crate::scenario::SignalScan;
 use point::ChannelAlone;
 use std::fmt;
 
@@ -38,12 +41,19 @@ pub struct ProjectionSettings {
     pub cl: Option<f64>,
     /// Background-only pseudo-experiments per point calibrating q0; 0 for none.
     pub calibration_toys: usize,
+    /// The scan of the signal position (`signal.scan`), for the look-elsewhere effect.
+    pub scan: Option<SignalScan>,
+    /// Background-only pseudo-experiments per point fitted at every scan
+    /// position; 0 for none (always 0 without a scan).
+    pub look_elsewhere_toys: usize,
 }
 
 impl ProjectionSettings {
     /// Pseudo-experiments run at each grid point.
     pub fn toys_per_point(&self) -> usize {
-        self.toys * (1 + usize::from(self.cl.is_some())) + self.calibration_toys
+        self.toys * (1 + usize::from(self.cl.is_some()))
+            + self.calibration_toys
+            + self.look_elsewhere_toys
     }
 
     /// Every pseudo-experiment the projection will run, for progress reporting.
@@ -55,7 +65,9 @@ impl ProjectionSettings {
     pub fn total_toys_in(&self, shard: ShardSpec) -> u64 {
         let toys = shard.toys(self.toys).len();
         let calibration_toys = shard.toys(self.calibration_toys).len();
-        let per_point = toys * (1 + usize::from(self.cl.is_some())) + calibration_toys;
+        let look_elsewhere_toys = shard.toys(self.look_elsewhere_toys).len();
+        let per_point =
+            toys * (1 + usize::from(self.cl.is_some())) + calibration_toys + look_elsewhere_toys;
         (per_point * self.days.len()) as u64
     }
 }
@@ -93,6 +105,7 @@ pub fn project(
     let mut source = RunToys {
         seed: settings.seed,
         shard: ShardSpec::WHOLE,
+        scan: settings.scan.as_ref(),
         progress,
     };
     project_from(model, settings, &mut source)
@@ -119,6 +132,7 @@ pub fn project_from<S: ToySource>(
         &points,
         &settings.targets,
         settings.toys,
+        settings.scan.is_some(),
     )?;
     let days_to_exclusion = match settings.cl {
         Some(cl) => days::days_to_exclusion(&likelihood, &points, 1.0 - cl)?,
@@ -132,6 +146,10 @@ pub fn project_from<S: ToySource>(
         targets: settings.targets.clone(),
         cl: settings.cl,
         calibration_toys: settings.calibration_toys,
+        scan: settings
+            .scan
+            .as_ref()
+            .map(|scan| ScanSummary::of(scan, settings)),
         points,
         days_to_target,
         days_to_exclusion,

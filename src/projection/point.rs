@@ -2,11 +2,12 @@
 
 use super::crossing::quantile;
 use super::ensembles::{
-    CalibrationCount, CalibrationRequest, LimitRequest, PointRequest, ToySource,
+    CalibrationCount, CalibrationRequest, LimitRequest, LookElsewhereCount, LookElsewhereRequest,
+    PointRequest, ToySource,
 };
 use super::{
-    Calibration, ChannelPoint, ExposurePoint, ProjectionError, ProjectionSettings,
-    TargetProbability,
+    Calibration, ChannelPoint, ExposurePoint, GlobalSignificance, LookElsewhere, ProjectionError,
+    ProjectionSettings, TargetProbability,
 };
 use crate::asymptotic::{
     AsimovSignificance, p_value, probability_to_reach, significance, significance_band,
@@ -14,6 +15,9 @@ use crate::asymptotic::{
 use crate::ensemble::EnsembleOutcome;
 use crate::likelihood::{FitFailure, Likelihood};
 use crate::limits::{AsymptoticLimits, asymptotic_limits};
+use crate::look_elsewhere::{
+    REFERENCE_LEVEL, global_significance, mean_upcrossings, trials_factor,
+};
 
 /// The quantiles reported as bands: the normal-distribution probabilities of
 /// -2, -1, +1 and +2 sigma (common practice).
@@ -89,6 +93,7 @@ impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
                 source.skip(settings.toys);
             }
             source.skip(settings.calibration_toys);
+            source.skip(settings.look_elsewhere_toys);
             return Ok(self.without_exposure(days, channels));
         }
         let failed = |what| {
@@ -131,6 +136,12 @@ impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
                 toys: settings.calibration_toys,
                 q0_asimov: z_asimov * z_asimov,
             }),
+            look_elsewhere: (settings.scan.is_some() && settings.look_elsewhere_toys > 0)
+                .then_some(LookElsewhereRequest {
+                    toys: settings.look_elsewhere_toys,
+                    reference_level: REFERENCE_LEVEL,
+                    q0_asimov: z_asimov * z_asimov,
+                }),
         };
         let outcomes = source.toys(self.likelihood, &request)?;
         let mut point = self.discovery_point(days, live_days, z_asimov, outcomes.discovery);
@@ -139,6 +150,9 @@ impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
         point.calibration = outcomes
             .calibration
             .map(|count| calibration(count, z_asimov));
+        if settings.scan.is_some() {
+            point.global = Some(global(z_asimov, point.z_median, outcomes.look_elsewhere));
+        }
         Ok(point)
     }
 
@@ -154,6 +168,9 @@ impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
             .iter_mut()
             .map(|channel| channel.point(0.0).expect("no fit without live time"))
             .collect();
+        if self.settings.scan.is_some() {
+            point.global = Some(global(0.0, None, None));
+        }
         point
     }
 
@@ -196,7 +213,54 @@ impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
             limit_asimov_band: None,
             limit_failed_fits: 0,
             calibration: None,
+            global: None,
         }
+    }
+}
+
+/// The global significances of a point from its background-only scans:
+/// N(u0) = upcrossings per converged scan into the global p-value of Gross
+/// and Vitells (see [`crate::look_elsewhere`]), for Z_A and the toy median;
+/// the direct fraction of scans whose largest q0 reaches Z_A^2 beside it.
+/// Nothing is converted without a converged scan.
+fn global(
+    z_asimov: f64,
+    z_median: Option<f64>,
+    count: Option<LookElsewhereCount>,
+) -> GlobalSignificance {
+    let measured = count.map(|count| {
+        let (mean, error) = match count.converged {
+            0 => (None, None),
+            scans => {
+                let (mean, error) =
+                    mean_upcrossings(count.upcrossings, count.upcrossings_squared, scans);
+                (Some(mean), error)
+            }
+        };
+        LookElsewhere {
+            reference_level: REFERENCE_LEVEL,
+            mean_upcrossings: mean,
+            mean_upcrossings_error: error,
+            toys: count.converged,
+            failed_fits: count.failed_fits,
+            direct_global_p: (count.exceeding > 0)
+                .then(|| count.exceeding as f64 / count.converged as f64),
+            trials_factor: mean
+                .map(|mean| trials_factor(z_asimov, REFERENCE_LEVEL, mean))
+                .filter(|factor| factor.is_finite()),
+        }
+    });
+    let upcrossings = measured.as_ref().and_then(|m| m.mean_upcrossings);
+    // Beyond about 37 sigma both p-values underflow to 0: no global Z there.
+    let convert = |z: f64| {
+        upcrossings
+            .map(|n| global_significance(z, REFERENCE_LEVEL, n))
+            .filter(|z| z.is_finite())
+    };
+    GlobalSignificance {
+        z_global_asimov: convert(z_asimov),
+        z_global_median: z_median.and_then(convert),
+        look_elsewhere: measured,
     }
 }
 

@@ -26,6 +26,10 @@ pub struct Projection {
     /// Background-only pseudo-experiments requested per point for the q0
     /// calibration (0 = none); see `Calibration::converged_toys`.
     pub calibration_toys: usize,
+    /// The scan of the signal position (`signal.scan`); absent from the JSON
+    /// without one, and so are every global significance and day.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub scan: Option<ScanSummary>,
     pub points: Vec<ExposurePoint>,
     pub days_to_target: Vec<DaysToTarget>,
     pub days_to_exclusion: DaysToExclusion,
@@ -80,6 +84,68 @@ pub struct ExposurePoint {
     pub limit_failed_fits: usize,
     /// Toy calibration of the discovery p-value (with `--calibrate`).
     pub calibration: Option<Calibration>,
+    /// With a scan: the significances after the look-elsewhere effect.
+    #[serde(flatten)]
+    pub global: Option<GlobalSignificance>,
+}
+
+/// The scan of the signal position a projection accounts for.
+#[derive(Debug, Clone, Serialize)]
+pub struct ScanSummary {
+    /// Positions tested.
+    pub positions: usize,
+    pub from: f64,
+    pub to: f64,
+    pub step: f64,
+    /// Background-only scan pseudo-experiments requested per point (0 = none).
+    pub look_elsewhere_toys: usize,
+}
+
+impl ScanSummary {
+    pub fn of(scan: &crate::scenario::SignalScan, settings: &super::ProjectionSettings) -> Self {
+        let [from, to] = scan.interval();
+        ScanSummary {
+            positions: scan.len(),
+            from,
+            to,
+            step: scan.step(),
+            look_elsewhere_toys: settings.look_elsewhere_toys,
+        }
+    }
+}
+
+/// Significances at one point after the look-elsewhere effect, by the global
+/// p-value of Gross and Vitells (Eur. Phys. J. C 70 (2010) 525) with N(u0)
+/// from `look_elsewhere`; each None where it was not measured (no live time,
+/// no look-elsewhere or discovery toys, no converged scan).
+#[derive(Debug, Clone, Serialize)]
+pub struct GlobalSignificance {
+    /// The global significance of the Asimov local Z_A.
+    pub z_global_asimov: Option<f64>,
+    /// The global significance of the toy median local Z.
+    pub z_global_median: Option<f64>,
+    pub look_elsewhere: Option<LookElsewhere>,
+}
+
+/// What the background-only scans at one point measured.
+#[derive(Debug, Clone, Serialize)]
+pub struct LookElsewhere {
+    /// The level u0 of q0 whose upcrossings are counted.
+    pub reference_level: f64,
+    /// N(u0): upcrossings of u0 by q0(position) per converged scan; None
+    /// when no scan converged.
+    pub mean_upcrossings: Option<f64>,
+    /// Standard error of N(u0); None with fewer than two converged scans.
+    pub mean_upcrossings_error: Option<f64>,
+    /// Scans whose fits all converged.
+    pub toys: usize,
+    /// Scans with a failed fit at some position (left out of the counts).
+    pub failed_fits: usize,
+    /// Fraction of the scans whose largest q0 reaches the Asimov local q0;
+    /// None when none does (the toys do not resolve it).
+    pub direct_global_p: Option<f64>,
+    /// p_global / p_local at the Asimov local significance; None without N(u0).
+    pub trials_factor: Option<f64>,
 }
 
 /// One channel of a scenario with several, at one exposure point.
@@ -165,6 +231,19 @@ pub struct DaysToTarget {
     /// The Asimov significance as days grow without bound, when systematic
     /// uncertainties make it saturate; None when it grows without bound.
     pub saturation_z: Option<f64>,
+    /// With a scan: the days to the target in global significance.
+    #[serde(flatten)]
+    pub global: Option<GlobalDays>,
+}
+
+/// Calendar days until the global significance reaches a target (Z^2
+/// linear in live days between grid points, as for the toy median).
+#[derive(Debug, Clone, Serialize)]
+pub struct GlobalDays {
+    /// From the global significance of Z_A.
+    pub global_asimov_days: Option<f64>,
+    /// From the global significance of the toy median.
+    pub global_median_days: Option<f64>,
 }
 
 impl DaysToTarget {

@@ -21,6 +21,7 @@ impl Projection {
             (self.toys > 0).then_some(Ensemble::Discovery),
             (self.toys > 0 && self.cl.is_some()).then_some(Ensemble::Limits),
             (self.calibration_toys > 0).then_some(Ensemble::Calibration),
+            (self.look_elsewhere_toys() > 0).then_some(Ensemble::LookElsewhere),
         ]
         .into_iter()
         .flatten()
@@ -32,7 +33,15 @@ impl Projection {
         match ensemble {
             Ensemble::Discovery | Ensemble::Limits => self.toys,
             Ensemble::Calibration => self.calibration_toys,
+            Ensemble::LookElsewhere => self.look_elsewhere_toys(),
         }
+    }
+
+    /// Background-only scans requested per point; 0 without a scan.
+    pub fn look_elsewhere_toys(&self) -> usize {
+        self.scan
+            .as_ref()
+            .map_or(0, |scan| scan.look_elsewhere_toys)
     }
 
     /// Pseudo-experiments of `ensemble` run at `point`: the requested number
@@ -46,6 +55,10 @@ impl Projection {
                 Ensemble::Discovery => true,
                 Ensemble::Limits => self.cl.is_some() && point.limit_asimov.is_some(),
                 Ensemble::Calibration => point.calibration.is_some(),
+                Ensemble::LookElsewhere => point
+                    .global
+                    .as_ref()
+                    .is_some_and(|global| global.look_elsewhere.is_some()),
             };
         if ran { self.ensemble_toys(ensemble) } else { 0 }
     }
@@ -104,6 +117,11 @@ impl ExposurePoint {
                 .calibration
                 .as_ref()
                 .map_or(0, |calibration| calibration.failed_fits),
+            Ensemble::LookElsewhere => self
+                .global
+                .as_ref()
+                .and_then(|global| global.look_elsewhere.as_ref())
+                .map_or(0, |measured| measured.failed_fits),
         }
     }
 }

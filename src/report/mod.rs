@@ -23,6 +23,7 @@ mod error;
 mod interrupt;
 mod kit;
 mod projection;
+mod reach;
 mod spectrum;
 mod warnings;
 mod writer;
@@ -39,6 +40,7 @@ pub use projection::{
     LIMITS_SVG, PROBABILITY_SVG, PROJECTION_CSV, PROJECTION_FILES, PROJECTION_JSON, PROJECTION_SVG,
     render_all, summary,
 };
+pub use reach::{REACH_FILES, REACH_JSON, reach_summary, render_reach};
 pub use spectrum::{render_spectrum, spectrum_summary};
 pub use warnings::warning_text;
 pub use writer::{Written, write_all, write_new};

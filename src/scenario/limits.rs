@@ -49,6 +49,10 @@ pub const MAX_THREADS: usize = 1024;
 /// Most exposures in one `spectrum` figure (`--days` repeated).
 pub const MAX_SPECTRUM_EXPOSURES: usize = 8;
 
+/// Most exposures (`--days`) of one `runcast reach`: one set of curves each
+/// in one figure.
+pub const MAX_REACH_EXPOSURES: usize = 8;
+
 /// Largest expected count in one bin of a pseudo-dataset: 2^53, up to which
 /// every whole count is exact in a double, so a Poisson draw can be held and
 /// reported exactly.

@@ -392,3 +392,32 @@ plan:
         assert_eq!(at_limit.signal_scan().unwrap().len(), 100_000);
     }
 }
+
+#[cfg(test)]
+mod channel_tests {
+    use super::super::{Scenario, ScenarioError};
+
+    /// Two channels, the second with a scan: refused at its path.
+    #[test]
+    fn a_scan_in_a_scenario_of_several_channels_is_refused() {
+        let channel = |name: &str, scan: &str| {
+            format!(
+                "  - name: {name}\n    observable: {{name: energy, unit: keV, range: [0.0, 100.0], bin_width: 0.5}}\n    \
+                 signal:\n      events_per_day: 2.0\n      shape: {{gaussian: {{mean: 50.0, sigma: 1.5}}}}\n{scan}    \
+                 backgrounds:\n      - {{name: flat, events_per_day: 40, shape: {{flat: {{}}}}}}\n"
+            )
+        };
+        let text = format!(
+            "title: Two channels\nchannels:\n{}{}plan:\n  days: {{first: 1, last: 100, points: 4, spacing: log}}\n  \
+             toys: 10\n  seed: 1\n  targets: [3]\n",
+            channel("a", ""),
+            channel("b", "      scan: {from: 10.0, to: 90.0, step: 0.5}\n")
+        );
+        match Scenario::from_yaml(&text) {
+            Err(ScenarioError::Invalid { field, .. }) => {
+                assert_eq!(field, "channels[1].signal.scan")
+            }
+            other => panic!("expected an Invalid error, got {other:?}"),
+        }
+    }
+}

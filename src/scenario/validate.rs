@@ -43,8 +43,32 @@ pub(super) fn validate(scenario: &Scenario) -> Checked {
         validate_channel(channel, &scenario.shared_uncertainties)
             .map_err(|error| error.within(&channel_path(scenario, index)))?;
     }
+    refuse_scan_in_several_channels(scenario)?;
     validate_schedule(&scenario.schedule)?;
     validate_plan(&scenario.plan)
+}
+
+/// A scan moves the signal of one channel: with several channels, which
+/// signals move together (and whether their scans agree) is not defined yet,
+/// so a scan there is refused at the first channel declaring one.
+fn refuse_scan_in_several_channels(scenario: &Scenario) -> Checked {
+    if scenario.channels.len() < 2 {
+        return Ok(());
+    }
+    match scenario
+        .channels
+        .iter()
+        .position(|channel| channel.signal.scan.is_some())
+    {
+        Some(index) => Err(ScenarioError::invalid(
+            format!("{}signal.scan", channel_path(scenario, index)),
+            format!(
+                "a scan of the signal position needs a single-channel scenario, this one has {} channels",
+                scenario.channels.len()
+            ),
+        )),
+        None => Ok(()),
+    }
 }
 
 /// The dotted path of channel `index`'s fields: none for a single channel

@@ -1,8 +1,9 @@
 //! Non-relativistic Breit-Wigner (Cauchy) peak truncated to the range.
 
-use super::tails::{TailEdge, fill_masses, mass_between};
+use super::tails::{EdgeSlopes, TailEdge, fill_fractions_with_gradient, fill_masses, mass_between};
 use super::{
-    ParameterSyntax, Peak, Shape, ShapeKind, finite, mark_invalid, normalise_masses, positive,
+    MovablePeak, ParameterSyntax, Peak, Shape, ShapeKind, finite, mark_invalid, normalise_masses,
+    positive,
 };
 use std::f64::consts::FRAC_PI_2;
 
@@ -53,6 +54,14 @@ impl Shape for BreitWigner {
         })
     }
 
+    /// The mean moves the peak; the full width widens it.
+    fn movable_peak(&self) -> Option<MovablePeak> {
+        Some(MovablePeak {
+            position: 0,
+            width: 1,
+        })
+    }
+
     fn parameter_names(&self) -> Vec<String> {
         vec!["mean".to_string(), "width".to_string()]
     }
@@ -69,6 +78,32 @@ impl Shape for BreitWigner {
             }
             None => mark_invalid(fractions),
         }
+    }
+
+    /// Analytic derivatives: with F(x) = 1/2 + atan(u) / pi, u = (x - mean) / gamma
+    /// and gamma = width / 2, pi dF / d mean = -1 / (gamma (1 + u²)) and
+    /// pi dF / d width = -u / (2 gamma (1 + u²)) (differentiating the Cauchy
+    /// distribution function of Johnson, Kotz & Balakrishnan, ch. 16).
+    fn bin_fractions_with_gradient(
+        &self,
+        params: &[f64],
+        edges: &[f64],
+        fractions: &mut [f64],
+        gradient: &mut [f64],
+    ) {
+        let Some(frame) = Frame::new(params) else {
+            mark_invalid(fractions);
+            mark_invalid(gradient);
+            return;
+        };
+        fill_fractions_with_gradient(
+            edges,
+            fractions,
+            gradient,
+            HALF_MASS,
+            |x| frame.edge(x),
+            |u| frame.distribution_slopes(u),
+        );
     }
 
     /// Density 1 / (gamma (1 + u²) M) with M the mass of the range in units of
@@ -108,6 +143,22 @@ impl Frame {
 
     fn standardised(&self, x: f64) -> f64 {
         (x - self.mean) / self.half_width
+    }
+
+    /// pi dF / d mean and pi dF / d width at standardised position `u`; both
+    /// vanish as u grows without bound.
+    fn distribution_slopes(&self, u: f64) -> EdgeSlopes {
+        if u.is_infinite() {
+            return EdgeSlopes {
+                by_centre: 0.0,
+                by_width: 0.0,
+            };
+        }
+        let by_centre = -1.0 / (self.half_width * (1.0 + u * u));
+        EdgeSlopes {
+            by_centre,
+            by_width: 0.5 * u * by_centre,
+        }
     }
 
     /// Tail beyond |u|, times pi: atan(1 / |u|), which is pi/2 at the centre.

@@ -1,9 +1,9 @@
 //! Gaussian peak truncated to the range.
 
-use super::tails::{TailEdge, fill_masses, mass_between};
+use super::tails::{EdgeSlopes, TailEdge, fill_fractions_with_gradient, fill_masses, mass_between};
 use super::{
-    ParameterSyntax, Peak, Shape, ShapeKind, finite, mark_invalid, normalise_masses, positive,
-    range_of,
+    MovablePeak, ParameterSyntax, Peak, Shape, ShapeKind, finite, mark_invalid, normalise_masses,
+    positive, range_of,
 };
 use statrs::function::erf::erfc;
 use std::f64::consts::{PI, SQRT_2};
@@ -60,6 +60,14 @@ impl Shape for Gaussian {
         })
     }
 
+    /// The mean moves the peak; sigma is its width.
+    fn movable_peak(&self) -> Option<MovablePeak> {
+        Some(MovablePeak {
+            position: 0,
+            width: 1,
+        })
+    }
+
     fn parameter_names(&self) -> Vec<String> {
         vec!["mean".to_string(), "sigma".to_string()]
     }
@@ -90,38 +98,20 @@ impl Shape for Gaussian {
         fractions: &mut [f64],
         gradient: &mut [f64],
     ) {
-        let bins = fractions.len();
-        debug_assert_eq!(gradient.len(), 2 * bins);
         let (low, high) = range_of(edges);
         let Some(frame) = Frame::new(params, low, high) else {
             mark_invalid(fractions);
             mark_invalid(gradient);
             return;
         };
-        let (by_mean, by_sigma) = gradient.split_at_mut(bins);
-        let mut lower = frame.edge(edges[0]);
-        let mut lower_slopes = frame.distribution_slopes(lower.position);
-        for (((mass, d_mean), d_sigma), &x) in fractions
-            .iter_mut()
-            .zip(by_mean.iter_mut())
-            .zip(by_sigma.iter_mut())
-            .zip(&edges[1..])
-        {
-            let upper = frame.edge(x);
-            let upper_slopes = frame.distribution_slopes(upper.position);
-            *mass = mass_between(lower, upper, HALF_MASS);
-            *d_mean = upper_slopes.by_mean - lower_slopes.by_mean;
-            *d_sigma = upper_slopes.by_sigma - lower_slopes.by_sigma;
-            lower = upper;
-            lower_slopes = upper_slopes;
-        }
-        let Some(total) = normalise_masses(fractions) else {
-            mark_invalid(gradient);
-            return;
-        };
-        for mass_derivatives in gradient.chunks_exact_mut(bins) {
-            fraction_derivatives(fractions, total, mass_derivatives);
-        }
+        fill_fractions_with_gradient(
+            edges,
+            fractions,
+            gradient,
+            HALF_MASS,
+            |x| frame.edge(x),
+            |z| frame.distribution_slopes(z),
+        );
     }
 
     fn density(&self, params: &[f64], low: f64, high: f64, x: f64) -> f64 {
@@ -133,15 +123,6 @@ impl Shape for Gaussian {
         }
         let total = mass_between(frame.edge(low), frame.edge(high), HALF_MASS);
         frame.scaled_density(frame.standardised(x)) / (frame.sigma * total)
-    }
-}
-
-/// Turns derivatives of bin masses m_i into derivatives of fractions
-/// f_i = m_i / M, in place: f_i' = (m_i' - f_i M') / M with M' = sum of m_i'.
-fn fraction_derivatives(fractions: &[f64], total: f64, mass_derivatives: &mut [f64]) {
-    let total_derivative: f64 = mass_derivatives.iter().sum();
-    for (derivative, fraction) in mass_derivatives.iter_mut().zip(fractions) {
-        *derivative = (*derivative - fraction * total_derivative) / total;
     }
 }
 
@@ -158,13 +139,6 @@ struct Frame {
     /// exp(z0² / 2); only used where z / sqrt 2 < [`DIRECT_ERFC_LIMIT`], which
     /// implies z0 is small enough for it to be finite.
     direct_scale: f64,
-}
-
-/// Derivatives of the scaled distribution function at one edge.
-#[derive(Clone, Copy)]
-struct DistributionSlopes {
-    by_mean: f64,
-    by_sigma: f64,
 }
 
 impl Frame {
@@ -229,18 +203,18 @@ impl Frame {
 
     /// d Phi(z) / d mean = -phi(z) / sigma and d Phi(z) / d sigma = -z phi(z) / sigma,
     /// both scaled like the tails.
-    fn distribution_slopes(&self, z: f64) -> DistributionSlopes {
+    fn distribution_slopes(&self, z: f64) -> EdgeSlopes {
         let density = self.scaled_density(z);
         if density == 0.0 {
             // z may be infinite for a vanishing sigma; the slopes vanish with phi.
-            return DistributionSlopes {
-                by_mean: 0.0,
-                by_sigma: 0.0,
+            return EdgeSlopes {
+                by_centre: 0.0,
+                by_width: 0.0,
             };
         }
-        DistributionSlopes {
-            by_mean: -density / self.sigma,
-            by_sigma: -z * density / self.sigma,
+        EdgeSlopes {
+            by_centre: -density / self.sigma,
+            by_width: -z * density / self.sigma,
         }
     }
 }

@@ -205,6 +205,14 @@ pub trait Shape: std::fmt::Debug + Send + Sync {
         None
     }
 
+    /// For a peak a search may place anywhere in the range: which entries of
+    /// `params` are its position and its width, so that a scan over positions
+    /// moves it and differentiates it with [`Shape::bin_fractions_with_gradient`].
+    /// None for a continuum.
+    fn movable_peak(&self) -> Option<MovablePeak> {
+        None
+    }
+
     /// Whether the fractions depend only on the ratios of the parameters, so
     /// that multiplying all of them by one positive factor changes nothing.
     /// A fit then fixes that factor (see the likelihood's gauge term).
@@ -280,6 +288,13 @@ pub struct Peak {
     /// The scenario key of the centre inside the shape's mapping, e.g.
     /// `"gaussian.mean"`, for messages that name the field.
     pub centre_key: &'static str,
+}
+
+/// The parameters that place and widen a movable peak, as indices into `params`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct MovablePeak {
+    pub position: usize,
+    pub width: usize,
 }
 
 /// Shapes with at most this many parameters are differentiated without allocating.
@@ -386,6 +401,28 @@ fn central_difference(
 #[cfg(test)]
 mod registry_tests {
     use super::*;
+
+    /// The peaks a scan can move name their position and width parameters
+    /// (by definition of each density); continua have none.
+    #[test]
+    fn movable_peaks_are_the_peaked_shapes() {
+        let placement = Placement {
+            range: [0.0, 10.0],
+            floated: false,
+        };
+        for kind in SHAPE_KINDS {
+            let shape = kind.build(&values_of(kind, 1.0), placement).unwrap();
+            let names = shape.parameter_names();
+            match shape.movable_peak() {
+                Some(peak) => {
+                    assert_eq!(names[peak.position], "mean", "{}", kind.key);
+                    assert!(["sigma", "width"].contains(&names[peak.width].as_str()));
+                    assert!(shape.peak().is_some());
+                }
+                None => assert!(shape.peak().is_none(), "{}", kind.key),
+            }
+        }
+    }
 
     /// Values for every parameter of `kind`, each `number` (lists of two).
     fn values_of(kind: &ShapeKind, number: f64) -> Vec<ParameterValue> {

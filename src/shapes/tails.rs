@@ -54,6 +54,60 @@ pub(super) fn fill_masses(
     }
 }
 
+/// Derivatives of the distribution function F at one edge in a peak's two
+/// parameters, its centre and its width, in the units of the tails.
+#[derive(Debug, Clone, Copy)]
+pub(super) struct EdgeSlopes {
+    pub by_centre: f64,
+    pub by_width: f64,
+}
+
+/// Bin fractions and their derivatives in the centre (first row of
+/// `gradient`) and the width (second row) of a symmetric peak: bin masses m_i
+/// from [`mass_between`], their derivatives dF(upper) - dF(lower) from
+/// `slopes_at`, then fractions f_i = m_i / M with derivatives
+/// f_i' = (m_i' - f_i M') / M, M' the sum of the m_i' (quotient rule).
+/// Returns false, marking everything NaN, when the masses make no density.
+pub(super) fn fill_fractions_with_gradient(
+    edges: &[f64],
+    fractions: &mut [f64],
+    gradient: &mut [f64],
+    half_mass: f64,
+    edge_at: impl Fn(f64) -> TailEdge,
+    slopes_at: impl Fn(f64) -> EdgeSlopes,
+) -> bool {
+    let bins = fractions.len();
+    debug_assert_eq!(gradient.len(), 2 * bins);
+    let (by_centre, by_width) = gradient.split_at_mut(bins);
+    let mut lower = edge_at(edges[0]);
+    let mut lower_slopes = slopes_at(lower.position);
+    for (((mass, d_centre), d_width), &x) in fractions
+        .iter_mut()
+        .zip(by_centre.iter_mut())
+        .zip(by_width.iter_mut())
+        .zip(&edges[1..])
+    {
+        let upper = edge_at(x);
+        let upper_slopes = slopes_at(upper.position);
+        *mass = mass_between(lower, upper, half_mass);
+        *d_centre = upper_slopes.by_centre - lower_slopes.by_centre;
+        *d_width = upper_slopes.by_width - lower_slopes.by_width;
+        lower = upper;
+        lower_slopes = upper_slopes;
+    }
+    let Some(total) = super::normalise_masses(fractions) else {
+        super::mark_invalid(gradient);
+        return false;
+    };
+    for mass_derivatives in gradient.chunks_exact_mut(bins) {
+        let total_derivative: f64 = mass_derivatives.iter().sum();
+        for (derivative, fraction) in mass_derivatives.iter_mut().zip(&*fractions) {
+            *derivative = (*derivative - fraction * total_derivative) / total;
+        }
+    }
+    true
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -1,14 +1,16 @@
 //! The bytes of a shard file: fields, point sections, and the checksum.
 
 use crate::ensemble::EnsembleOutcome;
-use crate::projection::ensembles::{CalibrationCount, PointToys};
+use crate::projection::ensembles::{CalibrationCount, LookElsewhereCount, PointToys};
 use sha2::{Digest, Sha256};
 use std::fs::File;
 use std::io::{self, BufReader, Read, Seek, SeekFrom, Write};
 use std::path::Path;
 
 /// A point's section: each ensemble as a presence flag, then its failed fits
-/// and converged values, or (calibration) converged, exceeding and failed.
+/// and converged values, or (calibration) converged, exceeding and failed,
+/// or (look-elsewhere scans) converged, the sums of upcrossings and of
+/// their squares, exceeding and failed.
 pub(super) fn encode_point(toys: &PointToys, out: &mut Encoder) {
     for outcome in [&toys.discovery, &toys.limits] {
         out.flag(outcome.is_some());
@@ -20,6 +22,14 @@ pub(super) fn encode_point(toys: &PointToys, out: &mut Encoder) {
     out.flag(toys.calibration.is_some());
     if let Some(count) = toys.calibration {
         out.count(count.converged);
+        out.count(count.exceeding);
+        out.count(count.failed_fits);
+    }
+    out.flag(toys.look_elsewhere.is_some());
+    if let Some(count) = toys.look_elsewhere {
+        out.count(count.converged);
+        out.u64(count.upcrossings);
+        out.u64(count.upcrossings_squared);
         out.count(count.exceeding);
         out.count(count.failed_fits);
     }
@@ -37,10 +47,22 @@ pub(super) fn decode_point(input: &mut Decoder) -> Result<PointToys, String> {
     } else {
         None
     };
+    let look_elsewhere = if input.flag()? {
+        Some(LookElsewhereCount {
+            converged: input.count()?,
+            upcrossings: input.u64()?,
+            upcrossings_squared: input.u64()?,
+            exceeding: input.count()?,
+            failed_fits: input.count()?,
+        })
+    } else {
+        None
+    };
     Ok(PointToys {
         discovery,
         limits,
         calibration,
+        look_elsewhere,
     })
 }
 
@@ -225,6 +247,13 @@ mod tests {
             calibration: Some(CalibrationCount {
                 converged: 10,
                 exceeding: 3,
+                failed_fits: 1,
+            }),
+            look_elsewhere: Some(LookElsewhereCount {
+                converged: 40,
+                upcrossings: 170,
+                upcrossings_squared: 901,
+                exceeding: 2,
                 failed_fits: 1,
             }),
         };

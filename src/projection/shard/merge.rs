@@ -19,13 +19,14 @@ use std::path::{Path, PathBuf};
 pub fn merge_shards(directory: &Path) -> Result<(ShardRun, Projection), ShardError> {
     let mut shards = open_shards(directory)?;
     let first = &shards[0];
-    let run = first.run.clone();
+    let mut run = first.run.clone();
     let scenario =
         Scenario::from_yaml(&run.scenario_text).map_err(|source| ShardError::Scenario {
             path: first.path.clone(),
             source,
         })?;
     let model = Model::from_scenario(&scenario);
+    run.settings.scan = scenario.signal_scan();
     let projection =
         crate::projection::project_from(&model, &run.settings, &mut MergeSource(&mut shards))?;
     for shard in &shards {
@@ -184,11 +185,15 @@ impl ShardReader {
             request
                 .calibration
                 .map(|calibration| share(calibration.toys)),
+            request
+                .look_elsewhere
+                .map(|look_elsewhere| share(look_elsewhere.toys)),
         ];
         let found = [
             toys.discovery.as_ref().map(size),
             toys.limits.as_ref().map(size),
             toys.calibration.map(|count| count.toys()),
+            toys.look_elsewhere.map(|count| count.toys()),
         ];
         if expected != found {
             return Err(format!(

@@ -7,13 +7,16 @@
 //! merging needs and nothing else:
 //!
 //! - a header: the runcast version, the scenario text and its SHA-256, the
-//!   projection settings (seed, toys, limits, calibration, grid), K and N;
+//!   projection settings (seed, toys, limits, calibration, look-elsewhere
+//!   toys, grid), K and N;
 //! - per grid point with live time, the shard's part of each ensemble: the
 //!   failed fits and the converged values (8 bytes a toy, in toy order) of
 //!   the discovery and limit ensembles, whose quantiles need every value,
 //!   and three counts for the calibration, whose p-value needs only how
 //!   many toys reached the Asimov q0 (so 10⁸ calibration toys cost 24 bytes
-//!   a point);
+//!   a point); with a scan of the signal position, five exact counts for
+//!   the look-elsewhere scans (converged, sums of upcrossings and of their
+//!   squares, scans reaching the Asimov q0, failed), 40 bytes a point;
 //! - the SHA-256 of all the bytes before it.
 //!
 //! Merging reads the shards point by point, in the order of K, so that a
@@ -38,7 +41,7 @@ use std::ops::Range;
 use std::str::FromStr;
 
 /// The first bytes of every shard file, with the format number.
-const MAGIC: &[u8; 16] = b"runcast-shard 1\n";
+const MAGIC: &[u8; 16] = b"runcast-shard 2\n";
 /// The extension of shard files; `merge` reads every file of a directory with it.
 pub const SHARD_EXTENSION: &str = "runcast-shard";
 /// Bytes of the SHA-256 checksum at the end of a shard file.
@@ -134,6 +137,7 @@ impl ShardRun {
         out.flag(settings.cl.is_some());
         out.f64(settings.cl.unwrap_or_default());
         out.count(settings.calibration_toys);
+        out.count(settings.look_elsewhere_toys);
     }
 
     fn decode(input: &mut Decoder) -> Result<ShardRun, String> {
@@ -149,6 +153,7 @@ impl ShardRun {
         let with_limits = input.flag()?;
         let cl = input.f64()?;
         let calibration_toys = input.count()?;
+        let look_elsewhere_toys = input.count()?;
         let run = ShardRun {
             version,
             scenario_name,
@@ -161,6 +166,9 @@ impl ShardRun {
                 targets,
                 cl: with_limits.then_some(cl),
                 calibration_toys,
+                // Rebuilt from the scenario text when merging.
+                scan: None,
+                look_elsewhere_toys,
             },
         };
         if hash != run.scenario_hash() {
@@ -220,6 +228,13 @@ impl ShardRun {
                 "--calibrate",
                 a.calibration_toys.to_string(),
                 b.calibration_toys.to_string(),
+            )
+        })
+        .or_else(|| {
+            named(
+                "--lee-toys",
+                a.look_elsewhere_toys.to_string(),
+                b.look_elsewhere_toys.to_string(),
             )
         })
         .or_else(|| named("limits (CL)", format!("{:?}", a.cl), format!("{:?}", b.cl)))

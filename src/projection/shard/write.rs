@@ -36,6 +36,7 @@ pub fn run_shard(
         runner: RunToys {
             seed: run.settings.seed,
             shard,
+            scan: run.settings.scan.as_ref(),
             progress,
         },
         path: temporary.clone(),

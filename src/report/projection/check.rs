@@ -5,7 +5,7 @@
 //! CSV columns follow the order of `targets`. A projection breaking any of
 //! these is refused with the path of the offending value.
 
-use crate::projection::{Calibration, ExposurePoint, Projection};
+use crate::projection::{Calibration, ExposurePoint, GlobalSignificance, Projection};
 use crate::report::ReportError;
 
 const FINITE: &str = "a finite number";
@@ -39,6 +39,10 @@ pub(in crate::report) fn check_projection(projection: &Projection) -> Result<(),
         optional_finite(field("p50_days"), row.p50_days)?;
         optional_finite(field("p90_days"), row.p90_days)?;
         optional_finite(field("saturation_z"), row.saturation_z)?;
+        if let Some(global) = &row.global {
+            optional_finite(field("global_asimov_days"), global.global_asimov_days)?;
+            optional_finite(field("global_median_days"), global.global_median_days)?;
+        }
     }
     if let Some(cl) = projection.cl
         && !(cl > 0.0 && cl < 1.0)
@@ -131,6 +135,9 @@ fn check_points(projection: &Projection) -> Result<(), ReportError> {
         if let Some(calibration) = &point.calibration {
             check_calibration(index, calibration)?;
         }
+        if let Some(global) = &point.global {
+            check_global(index, global)?;
+        }
     }
     Ok(())
 }
@@ -158,6 +165,24 @@ fn check_calibration(index: usize, calibration: &Calibration) -> Result<(), Repo
     optional_finite(field("p_toys"), calibration.p_toys)?;
     optional_finite(field("z_toys"), calibration.z_toys)?;
     optional_finite(field("tail_reach_z"), calibration.tail_reach_z)
+}
+
+fn check_global(index: usize, global: &GlobalSignificance) -> Result<(), ReportError> {
+    let field = |name: &str| format!("points[{index}].{name}");
+    optional_finite(field("z_global_asimov"), global.z_global_asimov)?;
+    optional_finite(field("z_global_median"), global.z_global_median)?;
+    if let Some(measured) = &global.look_elsewhere {
+        let field = |name: &str| format!("points[{index}].look_elsewhere.{name}");
+        finite(field("reference_level"), measured.reference_level)?;
+        optional_finite(field("mean_upcrossings"), measured.mean_upcrossings)?;
+        optional_finite(
+            field("mean_upcrossings_error"),
+            measured.mean_upcrossings_error,
+        )?;
+        optional_finite(field("direct_global_p"), measured.direct_global_p)?;
+        optional_finite(field("trials_factor"), measured.trials_factor)?;
+    }
+    Ok(())
 }
 
 fn finite(field: String, value: f64) -> Result<(), ReportError> {

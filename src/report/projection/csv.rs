@@ -12,8 +12,12 @@
 //! limit_asimov_q97_7` (asymptotic, the -2, -1, +1, +2 σ limits standing at
 //! those quantiles), `limit_failed_fits`; then the q0 calibration,
 //! `calibration_converged_toys, calibration_failed_fits, calibration_exceeding,
-//! q0_asimov, p_asymptotic, p_toys, z_asymptotic, z_toys, tail_reach_z`; with
-//! several channels, last, `z_asimov_<channel>`: each channel's own Z_A. An
+//! q0_asimov, p_asymptotic, p_toys, z_asymptotic, z_toys, tail_reach_z`;
+//! with several channels (only then), `z_asimov_<channel>`: each channel's
+//! own Z_A; with a scan of the signal position (only then), the look-elsewhere
+//! columns `z_global_asimov, z_global_median, reference_level,
+//! mean_upcrossings, mean_upcrossings_error, look_elsewhere_toys,
+//! look_elsewhere_failed_fits, direct_global_p, trials_factor`. An
 //! empty cell means no value (an Asimov-only run has no toy columns filled, a
 //! run without limits or calibration none of theirs). Numbers are
 //! written as the shortest decimal that reads back to the same f64
@@ -21,7 +25,7 @@
 //! reproducible.
 
 use super::PROJECTION_CSV;
-use crate::projection::{Calibration, ExposurePoint, Projection};
+use crate::projection::{Calibration, ExposurePoint, GlobalSignificance, Projection};
 use crate::report::ReportError;
 use crate::report::kit::dates::date_cell;
 use crate::report::kit::encode::csv_bytes;
@@ -66,11 +70,31 @@ const CALIBRATION_COLUMNS: [&str; 9] = [
     "tail_reach_z",
 ];
 
+/// The look-elsewhere columns at the end, with a scan only, in the order of
+/// [`global_cells`].
+const GLOBAL_COLUMNS: [&str; 9] = [
+    "z_global_asimov",
+    "z_global_median",
+    "reference_level",
+    "mean_upcrossings",
+    "mean_upcrossings_error",
+    "look_elsewhere_toys",
+    "look_elsewhere_failed_fits",
+    "direct_global_p",
+    "trials_factor",
+];
+
 /// The CSV table of the projection.
 pub(super) fn render(projection: &Projection) -> Result<Vec<u8>, ReportError> {
     let mut columns = header(&projection.targets);
     columns.extend(channel_columns(projection));
     let mut rows: Vec<Vec<String>> = projection.points.iter().map(row).collect();
+    if projection.scan.is_some() {
+        columns.extend(GLOBAL_COLUMNS.iter().map(|name| name.to_string()));
+        for (cells, point) in rows.iter_mut().zip(&projection.points) {
+            cells.extend(global_cells(point.global.as_ref()));
+        }
+    }
     if let Some(start) = projection.start {
         columns.insert(1, "date".to_string());
         for (cells, point) in rows.iter_mut().zip(&projection.points) {
@@ -179,6 +203,26 @@ fn calibration_cells(calibration: Option<&Calibration>) -> [String; 9] {
         optional(calibration.z_toys),
         optional(calibration.tail_reach_z),
     ]
+}
+
+/// The look-elsewhere cells of one point; empty where nothing was measured.
+fn global_cells(global: Option<&GlobalSignificance>) -> [String; 9] {
+    let Some(global) = global else {
+        return Default::default();
+    };
+    let mut cells: [String; 9] = Default::default();
+    cells[0] = optional(global.z_global_asimov);
+    cells[1] = optional(global.z_global_median);
+    if let Some(measured) = &global.look_elsewhere {
+        cells[2] = number(measured.reference_level);
+        cells[3] = optional(measured.mean_upcrossings);
+        cells[4] = optional(measured.mean_upcrossings_error);
+        cells[5] = measured.toys.to_string();
+        cells[6] = measured.failed_fits.to_string();
+        cells[7] = optional(measured.direct_global_p);
+        cells[8] = optional(measured.trials_factor);
+    }
+    cells
 }
 
 #[cfg(test)]

@@ -32,6 +32,7 @@ impl Ensemble {
             warning::Ensemble::Discovery => Ensemble::discovery(),
             warning::Ensemble::Limits => Ensemble::limits(),
             warning::Ensemble::Calibration => Ensemble::calibration(),
+            warning::Ensemble::LookElsewhere => Ensemble::look_elsewhere(),
         }
     }
 
@@ -70,6 +71,19 @@ impl Ensemble {
             thrown: "background-only pseudo-experiments",
             fits: "calibration fits",
             results: "the toy p-values",
+            not_run: "no live time",
+        }
+    }
+
+    /// Background-only toys fitted at every scanned signal position.
+    pub fn look_elsewhere() -> Ensemble {
+        Ensemble {
+            kind: warning::Ensemble::LookElsewhere,
+            heading: "Failed fits (look-elsewhere scans)",
+            figure_heading: "Failed scan fits",
+            thrown: "background-only scans",
+            fits: "scan fits",
+            results: "the upcrossing counts",
             not_run: "no live time",
         }
     }

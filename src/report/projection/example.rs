@@ -34,6 +34,7 @@ pub(crate) fn tiny() -> Projection {
         targets: vec![3.0, 5.0],
         cl: None,
         calibration_toys: 0,
+        scan: None,
         days_to_exclusion: DaysToExclusion::default(),
         points: vec![
             ExposurePoint {
@@ -65,6 +66,7 @@ pub(crate) fn tiny() -> Projection {
                 limit_asimov_band: None,
                 limit_failed_fits: 0,
                 calibration: None,
+                global: None,
             },
             ExposurePoint {
                 days: 100.0,
@@ -95,6 +97,7 @@ pub(crate) fn tiny() -> Projection {
                 limit_asimov_band: None,
                 limit_failed_fits: 0,
                 calibration: None,
+                global: None,
             },
         ],
         days_to_target: vec![
@@ -105,6 +108,7 @@ pub(crate) fn tiny() -> Projection {
                 p50_days: Some(44.25),
                 p90_days: Some(98.0),
                 saturation_z: Some(4.5),
+                global: None,
             },
             DaysToTarget {
                 target: 5.0,
@@ -113,6 +117,7 @@ pub(crate) fn tiny() -> Projection {
                 p50_days: None,
                 p90_days: None,
                 saturation_z: Some(4.5),
+                global: None,
             },
         ],
     }
@@ -228,6 +233,7 @@ impl InventedSearch {
             limit_asimov_band: None,
             limit_failed_fits: 0,
             calibration: (self.calibration_toys > 0).then(|| self.calibration(z_asimov)),
+            global: None,
         };
         if let Some(cl) = self.cl {
             self.add_limits(&mut point, 1.0 - cl, toys);
@@ -290,6 +296,7 @@ impl InventedSearch {
                     p90_days: Self::days_to(|days| 0.98 * self.z_asimov(days) - 1.2816, target)
                         .filter(|_| with_toys),
                     saturation_z,
+                    global: None,
                 }
             })
             .collect();
@@ -306,6 +313,7 @@ impl InventedSearch {
             days_to_exclusion: self.days_to_exclusion(with_toys),
             cl: self.cl,
             calibration_toys: self.calibration_toys,
+            scan: None,
         }
     }
 

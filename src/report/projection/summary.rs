@@ -5,6 +5,7 @@
 
 use super::ensembles::Ensemble;
 use crate::calendar::CalendarDate;
+use crate::message::show;
 use crate::projection::{Calibration, DaysToTarget, Projection};
 use crate::report::kit::dates::{dated_days_label, with_date};
 use crate::report::kit::format::{aligned, fit_percent, percent_label, target_label};
@@ -30,20 +31,33 @@ pub fn summary(projection: &Projection) -> String {
     let mut text = format!("{}\n{}\n\n", projection.title, run_line(projection));
     let last_day = projection.points.last().map_or(0.0, |point| point.days);
     let start = projection.start;
-    let mut rows = vec![COLUMNS.map(str::to_string).to_vec()];
+    let mut header = COLUMNS.map(str::to_string).to_vec();
+    if projection.scan.is_some() {
+        header.extend(GLOBAL_COLUMNS.map(str::to_string));
+    }
+    let mut rows = vec![header];
     rows.extend(projection.days_to_target.iter().map(|row| {
         let cell = |days, available| days_cell(days, available, row, last_day, start);
         let with_toys = projection.toys > 0;
-        vec![
+        let mut cells = vec![
             target_label(row.target),
             cell(row.asimov_days, true),
             cell(row.median_days, with_toys),
             cell(row.p50_days, with_toys),
             cell(row.p90_days, with_toys),
-        ]
+        ];
+        if let Some(global) = &row.global {
+            let measured = projection.look_elsewhere_toys() > 0;
+            cells.push(cell(global.global_asimov_days, measured));
+            cells.push(cell(global.global_median_days, measured && with_toys));
+        }
+        cells
     }));
     text.push_str("Calendar days to reach each target\n");
     text.push_str(&aligned(&rows));
+    if let Some(line) = scan_line(projection) {
+        text.push_str(&line);
+    }
     if let Some(cl) = projection.cl {
         text.push_str(&exclusion_line(projection, cl, last_day));
     }
@@ -62,6 +76,49 @@ pub fn summary(projection: &Projection) -> String {
         text.push_str(&line);
     }
     text
+}
+
+/// The global columns beside the local ones, with a scan.
+const GLOBAL_COLUMNS: [&str; 2] = ["global Asimov", "global median"];
+
+/// With a scan, one line on what the global columns account for: "Look-
+/// elsewhere effect: 201 positions tested from 10 to 90 in steps of 0.4;
+/// 500 background-only scans per point, 5.30 ± 0.07 upcrossings of q0 = 1 per
+/// scan at the last point (global p-values of Gross and Vitells 2010)".
+fn scan_line(projection: &Projection) -> Option<String> {
+    let scan = projection.scan.as_ref()?;
+    let mut line = format!(
+        "Look-elsewhere effect: {} positions tested from {} to {} in steps of {}",
+        scan.positions,
+        show(scan.from),
+        show(scan.to),
+        show(scan.step)
+    );
+    let last = projection
+        .points
+        .last()
+        .and_then(|point| point.global.as_ref()?.look_elsewhere.as_ref());
+    match last {
+        Some(measured) => {
+            line.push_str(&format!(
+                "; {} background-only scans per point",
+                scan.look_elsewhere_toys
+            ));
+            if let Some(mean) = measured.mean_upcrossings {
+                let error = measured
+                    .mean_upcrossings_error
+                    .map_or_else(String::new, |error| format!(" ± {error:.2}"));
+                line.push_str(&format!(
+                    ", {mean:.2}{error} upcrossings of q0 = {} per scan at the last point \
+                     (global p-values of Gross and Vitells 2010)",
+                    show(measured.reference_level)
+                ));
+            }
+        }
+        None => line.push_str("; no background-only scans run, so no global days"),
+    }
+    line.push_str(".\n");
+    Some(line)
 }
 
 /// "Days until the nominal signal is excluded at 95% CL (median expected CLs

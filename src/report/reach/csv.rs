@@ -1,0 +1,69 @@
+//! `reach.csv`: one row per exposure and position, rates in signal events per
+//! live day, empty cells where not computed or unbounded.
+
+use super::REACH_CSV;
+use crate::reach::Reach;
+use crate::report::ReportError;
+use crate::report::kit::encode::csv_bytes;
+use crate::report::kit::format::{number, optional};
+
+/// The header: exposure, position, limits, failed toy fits, then the local
+/// and the global discovery rate of each target.
+fn header(reach: &Reach) -> Vec<String> {
+    let mut header: Vec<String> = [
+        "days",
+        "live_days",
+        "mean_upcrossings_asimov",
+        "position",
+        "width",
+        "limit_rate_asimov",
+        "limit_rate_asimov_m2",
+        "limit_rate_asimov_m1",
+        "limit_rate_asimov_p1",
+        "limit_rate_asimov_p2",
+        "limit_rate_median",
+        "limit_rate_m2",
+        "limit_rate_m1",
+        "limit_rate_p1",
+        "limit_rate_p2",
+        "limit_failed_fits",
+    ]
+    .map(String::from)
+    .to_vec();
+    for scope in ["local", "global"] {
+        for target in &reach.targets {
+            header.push(format!("discovery_rate_{scope}_{}sigma", number(*target)));
+        }
+    }
+    header
+}
+
+fn band_cells(band: Option<[f64; 4]>) -> [String; 4] {
+    match band {
+        Some(band) => band.map(number),
+        None => Default::default(),
+    }
+}
+
+pub(super) fn render(reach: &Reach) -> Result<Vec<u8>, ReportError> {
+    let rows = reach.exposures.iter().flat_map(|exposure| {
+        exposure.positions.iter().map(move |point| {
+            let mut row = vec![
+                number(exposure.days),
+                number(exposure.live_days),
+                number(exposure.mean_upcrossings_asimov),
+                number(point.position),
+                number(point.width),
+                optional(point.limit_rate_asimov),
+            ];
+            row.extend(band_cells(point.limit_rate_asimov_band));
+            row.push(optional(point.limit_rate_median));
+            row.extend(band_cells(point.limit_rate_band));
+            row.push(point.limit_failed_fits.to_string());
+            row.extend(point.discovery_rate_local.iter().map(|r| optional(*r)));
+            row.extend(point.discovery_rate_global.iter().map(|r| optional(*r)));
+            row
+        })
+    });
+    csv_bytes(REACH_CSV, header(reach), rows)
+}

@@ -1,0 +1,111 @@
+//! The stdout summary of `runcast reach`: per exposure, the best and worst
+//! expected limit over the scan and the rates for the highest target, local
+//! and global.
+
+use crate::reach::{ExposureReach, PositionReach, Reach};
+use crate::report::kit::format::{exposure_label, fit_percent, percent_label, target_label};
+
+/// Three significant digits, as rates are read.
+fn rate(value: f64) -> String {
+    format!("{value:.3e}")
+}
+
+/// The position with the lowest and the highest value of `value`, among
+/// positions where it is bounded.
+fn extremes(
+    positions: &[PositionReach],
+    value: impl Fn(&PositionReach) -> Option<f64>,
+) -> Option<((f64, f64), (f64, f64))> {
+    let mut bounded = positions
+        .iter()
+        .filter_map(|point| value(point).map(|v| (point.position, v)));
+    let first = bounded.next()?;
+    Some(bounded.fold((first, first), |(best, worst), point| {
+        (
+            if point.1 < best.1 { point } else { best },
+            if point.1 > worst.1 { point } else { worst },
+        )
+    }))
+}
+
+fn extremes_line(
+    label: &str,
+    unit: &str,
+    positions: &[PositionReach],
+    value: impl Fn(&PositionReach) -> Option<f64>,
+) -> String {
+    match extremes(positions, value) {
+        Some(((best_at, best), (worst_at, worst))) => format!(
+            "  {label}: best {} at {best_at} {unit}, worst {} at {worst_at} {unit}\n",
+            rate(best),
+            rate(worst)
+        ),
+        None => format!("  {label}: not reached at any position\n"),
+    }
+}
+
+fn exposure_summary(reach: &Reach, exposure: &ExposureReach) -> String {
+    let unit = &reach.unit;
+    let mut text = format!(
+        "{} — E N(q0 > {}) = {:.3} upcrossings (asymptotic)\n",
+        exposure_label(exposure.days, exposure.live_days),
+        exposure.reference_level,
+        exposure.mean_upcrossings_asimov
+    );
+    text += &extremes_line(
+        &format!("{} CL limit (Asimov)", percent_label(reach.cl)),
+        unit,
+        &exposure.positions,
+        |p| p.limit_rate_asimov,
+    );
+    if exposure
+        .positions
+        .iter()
+        .any(|p| p.limit_rate_median.is_some())
+    {
+        text += &extremes_line(
+            &format!("{} CL limit (toy median)", percent_label(reach.cl)),
+            unit,
+            &exposure.positions,
+            |p| p.limit_rate_median,
+        );
+    }
+    if let Some(last) = reach.targets.len().checked_sub(1) {
+        let target = target_label(reach.targets[last]);
+        text += &extremes_line(&format!("{target} local"), unit, &exposure.positions, |p| {
+            p.discovery_rate_local[last]
+        });
+        text += &extremes_line(
+            &format!(
+                "{target} global (local {:.2}σ)",
+                exposure.global_local_targets[last]
+            ),
+            unit,
+            &exposure.positions,
+            |p| p.discovery_rate_global[last],
+        );
+    }
+    text
+}
+
+/// The summary: what was scanned, then each exposure.
+pub fn reach_summary(reach: &Reach, toys: usize) -> String {
+    let positions = reach.exposures.first().map_or(0, |e| e.positions.len());
+    let mut text = format!(
+        "{}\nReach over {positions} positions, rates in signal events per live day (scenario: {})\n",
+        reach.title,
+        rate(reach.signal_rate)
+    );
+    for exposure in &reach.exposures {
+        text += &exposure_summary(reach, exposure);
+        let failed: usize = exposure.positions.iter().map(|p| p.limit_failed_fits).sum();
+        if toys > 0 {
+            text += &format!(
+                "  toy limit fits failed: {failed} of {} ({})\n",
+                toys * positions,
+                fit_percent(failed, toys * positions)
+            );
+        }
+    }
+    text
+}

@@ -1,0 +1,116 @@
+use super::*;
+use crate::model::Model;
+use crate::scenario::Scenario;
+
+/// A scanned Gaussian line of fixed sigma = 1 on a flat, known background
+/// over [0, 100] in bins of sigma / 20, with a million background events a
+/// day: far from the edges and with large counts.
+const FLAT: &str = "\
+title: Upcrossing test (invented numbers)
+observable: {name: energy, unit: keV, range: [0.0, 100.0], bin_width: 0.05}
+signal:
+  events_per_day: 50.0
+  shape: {gaussian: {mean: 50.0, sigma: 1.0}}
+  scan: {from: 30.0, to: 70.0, step: 0.2}
+backgrounds:
+  - {name: continuum, events_per_day: 1000000, shape: {flat: {}}}
+plan:
+  days: {first: 1, last: 100, points: 3, spacing: log}
+  toys: 10
+  seed: 1
+  targets: [3, 5]
+";
+
+fn geometry_of(model: &Model, scenario: &Scenario, live_days: f64) -> ScanGeometry {
+    let scan = scenario.signal_scan().unwrap();
+    let shape = model.channels[0].components[0].shape.as_ref();
+    let path = scan_path(&scan, shape).unwrap();
+    scan_geometry(&Likelihood::new(model), &path, live_days).unwrap()
+}
+
+/// For a Gaussian signal of width sigma on a flat background with large
+/// counts the correlation of Z is exp(-d²/(4 sigma²)), so lambda2 = 1/(2 sigma²)
+/// and E N(u0) = L / (2 pi sigma sqrt 2) exp(-u0/2) for q0 (Rice, Bell Syst.
+/// Tech. J. 23 (1944) 282; Gross and Vitells, Eur. Phys. J. C 70 (2010) 525).
+/// L = 40, sigma = 1, u0 = 1: 2.73035. Bins of sigma/20 widen the template
+/// by a relative (1/20)² / 24 = 1e-4, so 1e-3 relative holds.
+#[test]
+fn flat_background_matches_the_rice_closed_form() {
+    let scenario = Scenario::from_yaml(FLAT).unwrap();
+    let model = Model::from_scenario(&scenario);
+    let geometry = geometry_of(&model, &scenario, 30.0);
+    let (length, sigma, u0): (f64, f64, f64) = (40.0, 1.0, 1.0);
+    let expected = length / (2.0 * PI * sigma * 2f64.sqrt()) * (-u0 / 2.0).exp();
+    let computed = geometry.mean_upcrossings_of_q0(u0);
+    assert!(
+        (computed / expected - 1.0).abs() < 1e-3,
+        "{computed} vs {expected}"
+    );
+}
+
+/// A scan of a single position has no upcrossings, so the global p-value is
+/// the local one (Gross and Vitells 2010 with N = 0).
+#[test]
+fn one_position_has_no_upcrossings() {
+    let scenario = Scenario::from_yaml(FLAT).unwrap();
+    let model = Model::from_scenario(&scenario);
+    let scan = scenario.signal_scan().unwrap();
+    let path = PeakPath {
+        interval: [50.0, 50.0],
+        parameters_at: Box::new(|m| scan.shape_parameters_at(m)),
+        direction: vec![1.0, 0.0],
+        narrowest_width: 1.0,
+    };
+    let geometry = scan_geometry(&Likelihood::new(&model), &path, 30.0).unwrap();
+    assert_eq!(geometry.mean_upcrossings(0.0), 0.0);
+    for z in [1.0, 3.0, 5.0] {
+        let global = geometry.global_significance(z);
+        assert!((global - z).abs() < 1e-9, "{global} vs {z}");
+        assert!((geometry.local_significance_for(z) - z).abs() < 1e-9);
+    }
+}
+
+/// A falling continuum with a free normalisation and a floated slope, and a
+/// width growing along the scan, in two identical channels sharing those
+/// nuisance parameters: the stacked templates have the correlation of one
+/// channel, so the same upcrossings (Fisher information of independent
+/// channels adds: Cowan et al., Eur. Phys. J. C 71 (2011) 1554, sec. 3;
+/// elementary).
+#[test]
+fn two_identical_channels_give_the_same_upcrossings() {
+    let text = FLAT
+        .replace("step: 0.2}", "step: 0.2, width_at_to: 2.0}")
+        .replace(
+            "{name: continuum, events_per_day: 1000000, shape: {flat: {}}}",
+            "{name: continuum, events_per_day: 1000, shape: {exponential: {slope: -0.02}}, \
+             norm_uncertainty: free, float_shape: true}",
+        );
+    let scenario = Scenario::from_yaml(&text).unwrap();
+    let one = Model::from_scenario(&scenario);
+    let mut two = Model::from_scenario(&scenario);
+    two.channels
+        .extend(Model::from_scenario(&scenario).channels);
+    let single = geometry_of(&one, &scenario, 30.0).rice_length;
+    let stacked = geometry_of(&two, &scenario, 30.0).rice_length;
+    assert!(
+        (stacked / single - 1.0).abs() < 1e-9,
+        "{stacked} vs {single}"
+    );
+}
+
+/// The global p-value is the local one plus E N (Gross and Vitells 2010),
+/// and `local_significance_for` inverts `global_significance` (definition).
+#[test]
+fn global_significance_inverts() {
+    let scenario = Scenario::from_yaml(FLAT).unwrap();
+    let model = Model::from_scenario(&scenario);
+    let geometry = geometry_of(&model, &scenario, 30.0);
+    for global in [2.0, 3.0, 5.0] {
+        let local = geometry.local_significance_for(global);
+        assert!(local > global);
+        let back = geometry.global_significance(local);
+        assert!((back - global).abs() < 1e-9, "{back} vs {global}");
+        let expected = p_value(local) + geometry.mean_upcrossings(local);
+        assert!((geometry.global_p_value(local) / expected - 1.0).abs() < 1e-15);
+    }
+}

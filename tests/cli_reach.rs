@@ -1,0 +1,173 @@
+//! `runcast reach` through the binary: its three files and their schema,
+//! the same bytes for the same seed, usage errors and a scenario without a
+//! scan refused with nothing written.
+
+mod common;
+
+use common::Scratch;
+use serde_json::Value;
+use std::fs;
+use std::process::Command;
+
+const SCANNED: &str = "\
+title: cli reach test (invented numbers)
+observable: {name: energy, unit: keV, range: [0.0, 60.0], bin_width: 1.0}
+signal:
+  events_per_day: 1.0
+  shape: {gaussian: {mean: 30.0, sigma: 1.5}}
+  scan: {from: 10.0, to: 50.0, step: 2.0, width_at_to: 2.5}
+backgrounds:
+  - {name: continuum, events_per_day: 50, shape: {exponential: {slope: -0.02}}, norm_uncertainty: 0.1}
+plan:
+  days: {first: 1, last: 100, points: 3, spacing: log}
+  toys: 10
+  seed: 3
+  targets: [3, 5]
+";
+
+fn runcast(args: &[&str]) -> std::process::Output {
+    Command::new(env!("CARGO_BIN_EXE_runcast"))
+        .args(args)
+        .output()
+        .unwrap()
+}
+
+/// The three files and nothing else, the documented JSON keys, one CSV row
+/// per exposure and position, toy limits with `--toys`, and the same bytes
+/// for the same seed on 1 and 2 threads (the toys' streams do not depend on
+/// the threads).
+#[test]
+fn reach_writes_its_files_with_the_schema() {
+    let scratch = Scratch::new("reach");
+    let scenario = scratch.path.join("scan.yaml");
+    fs::write(&scenario, SCANNED).unwrap();
+    let out = scratch.path.join("out");
+    let run = |threads: &str, out: &std::path::Path| {
+        let output = runcast(&[
+            "reach",
+            scenario.to_str().unwrap(),
+            "--days",
+            "10",
+            "--days",
+            "100",
+            "--toys",
+            "40",
+            "--threads",
+            threads,
+            "--quiet",
+            "--out",
+            out.to_str().unwrap(),
+        ]);
+        assert!(
+            output.status.success(),
+            "{}",
+            String::from_utf8_lossy(&output.stderr)
+        );
+        String::from_utf8(output.stdout).unwrap()
+    };
+    let summary = run("1", &out);
+    assert!(summary.contains("Reach over 21 positions"), "{summary}");
+    let mut names: Vec<String> = fs::read_dir(&out)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().into_string().unwrap())
+        .collect();
+    names.sort();
+    assert_eq!(names, ["reach.csv", "reach.json", "reach.svg"]);
+    let json: Value = serde_json::from_slice(&fs::read(out.join("reach.json")).unwrap()).unwrap();
+    let keys =
+        |value: &Value| -> Vec<String> { value.as_object().unwrap().keys().cloned().collect() };
+    assert_eq!(keys(&json), ["title", "seed", "cl", "targets", "exposures"]);
+    let exposure = &json["exposures"][0];
+    assert_eq!(
+        keys(exposure),
+        ["days", "live_days", "look_elsewhere", "positions"]
+    );
+    assert_eq!(
+        keys(&exposure["look_elsewhere"]),
+        [
+            "reference_level",
+            "mean_upcrossings",
+            "mean_upcrossings_error",
+            "toys",
+            "direct_global_p",
+            "trials_factor",
+            "mean_upcrossings_asimov"
+        ]
+    );
+    let position = &exposure["positions"][0];
+    assert_eq!(
+        keys(position),
+        [
+            "position",
+            "width",
+            "limit_rate_asimov",
+            "limit_rate_asimov_band",
+            "limit_rate_median",
+            "limit_rate_band",
+            "discovery_rate_local",
+            "discovery_rate_global"
+        ]
+    );
+    assert_eq!(exposure["positions"].as_array().unwrap().len(), 21);
+    assert_eq!(position["width"], 1.5);
+    assert!(position["limit_rate_median"].is_number());
+    assert_eq!(
+        position["discovery_rate_global"].as_array().unwrap().len(),
+        2
+    );
+    let csv = fs::read_to_string(out.join("reach.csv")).unwrap();
+    assert_eq!(csv.lines().count(), 1 + 2 * 21);
+    let again = scratch.path.join("again");
+    run("2", &again);
+    for name in ["reach.csv", "reach.json", "reach.svg"] {
+        assert_eq!(
+            fs::read(out.join(name)).unwrap(),
+            fs::read(again.join(name)).unwrap(),
+            "{name}"
+        );
+    }
+}
+
+/// Bad `--days` are usage errors (exit 2); a scenario without `signal.scan`
+/// is refused naming the key (exit 1); nothing is written either way.
+#[test]
+fn bad_reach_requests_are_refused_with_nothing_written() {
+    let scratch = Scratch::new("reach-errors");
+    let scanned = scratch.path.join("scan.yaml");
+    fs::write(&scanned, SCANNED).unwrap();
+    let plain = scratch.path.join("plain.yaml");
+    let without_scan = SCANNED.replace(
+        "  scan: {from: 10.0, to: 50.0, step: 2.0, width_at_to: 2.5}\n",
+        "",
+    );
+    fs::write(&plain, without_scan).unwrap();
+    let out = scratch.path.join("out");
+    let out = out.to_str().unwrap();
+    for (args, code, needle) in [
+        (
+            vec![scanned.to_str().unwrap(), "--days", "0"],
+            2,
+            "--days 0",
+        ),
+        (
+            vec![scanned.to_str().unwrap(), "--days", "5", "--days", "5"],
+            2,
+            "more than once",
+        ),
+        (
+            vec![plain.to_str().unwrap(), "--days", "5"],
+            1,
+            "signal.scan",
+        ),
+    ] {
+        let mut full = vec!["reach"];
+        full.extend(args);
+        full.extend(["--out", out]);
+        let output = runcast(&full);
+        let stderr = String::from_utf8_lossy(&output.stderr);
+        assert_eq!(output.status.code(), Some(code), "{stderr}");
+        assert!(stderr.contains(needle), "{stderr}");
+        assert_eq!(stderr.lines().count(), 1, "{stderr}");
+        assert!(!std::path::Path::new(out).exists());
+    }
+}
