@@ -45,7 +45,7 @@ impl Loaded {
             source,
         };
         let text = Scenario::read_text(path).map_err(scenario_error)?;
-        let scenario = Scenario::from_yaml(&text).map_err(scenario_error)?;
+        let scenario = Scenario::from_file_text(&text, path).map_err(scenario_error)?;
         Ok(Loaded {
             path: path.to_path_buf(),
             scenario,

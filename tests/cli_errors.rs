@@ -105,10 +105,25 @@ fn misbehaviour(
 /// check SCENARIO` on each bad scenario, in a directory of its own named after
 /// `test`; reports every case that misbehaves.
 fn assert_rejected(test: &str, cases: &[(&str, String, &[&str])]) {
+    let with_no_files: Vec<_> = cases
+        .iter()
+        .map(|(description, yaml, expected)| (*description, yaml.clone(), "", *expected))
+        .collect();
+    assert_rejected_beside(test, &with_no_files);
+}
+
+/// As [`assert_rejected`], each scenario written beside a file `continuum.csv`
+/// holding the case's text (none when it is empty).
+fn assert_rejected_beside(test: &str, cases: &[(&str, String, &str, &[&str])]) {
     let scratch = Scratch::new(test);
     let mut failures = Vec::new();
-    for (description, yaml, expected) in cases {
+    for (description, yaml, csv, expected) in cases {
         fs::write(scratch.path.join(SCENARIO), yaml).expect("write scenario");
+        let table = scratch.path.join("continuum.csv");
+        match csv.is_empty() {
+            true => drop(fs::remove_file(&table)),
+            false => fs::write(&table, csv).expect("write table"),
+        }
         let before = scratch.entries();
         let commands: [&[&str]; 2] = [
             &[
@@ -691,4 +706,150 @@ fn a_closed_stdout_pipe_is_a_normal_end() {
         assert_eq!(output.status.code(), Some(0), "{args:?}: {stderr}");
         assert!(stderr.is_empty(), "{args:?}: {stderr}");
     }
+}
+
+/// A tabulated continuum over the range [0, 100] in place of the exponential,
+/// written as `shape` (inline or naming `continuum.csv`).
+fn with_table(shape: &str) -> String {
+    edited("{exponential: {slope: -0.02}}", shape)
+}
+
+#[test]
+fn bad_tables_are_named_by_file_row_and_column() {
+    let file = "{table: {file: continuum.csv}}";
+    let cases: [(&str, String, &str, &[&str]); 12] = [
+        (
+            "inline negative value",
+            with_table("{table: {edges: [0, 50, 100], values: [3, -1]}}"),
+            "",
+            &["backgrounds[0].shape.table.values[1]: ", "-1"],
+        ),
+        (
+            "inline edges not increasing",
+            with_table("{table: {edges: [0, 60, 50, 100], values: [1, 1, 1]}}"),
+            "",
+            &["backgrounds[0].shape.table.edges[2]: "],
+        ),
+        (
+            "both a file and values",
+            with_table("{table: {file: continuum.csv, edges: [0, 100], values: [1]}}"),
+            "low,high,value\n0,100,1\n",
+            &["line 9,", "either `file` or `edges` and `values`"],
+        ),
+        (
+            "negative value in the file",
+            with_table(file),
+            "low,high,value\n0,50,3\n50,100,-2\n",
+            &[
+                "backgrounds[0].shape.table.file: ",
+                "continuum.csv, row 2 (line 3), column `value`",
+                "-2",
+            ],
+        ),
+        (
+            "non-finite value in the file",
+            with_table(file),
+            "low,high,value\n0,50,NaN\n50,100,2\n",
+            &["continuum.csv, row 1 (line 2), column `value`", "NaN"],
+        ),
+        (
+            "rows overlapping",
+            with_table(file),
+            "low,high,value\n0,60,3\n50,100,2\n",
+            &["continuum.csv, row 2 (line 3), column `low`", "overlap"],
+        ),
+        (
+            "a gap between rows",
+            with_table(file),
+            "low,high,value\n0,40,3\n50,100,2\n",
+            &["continuum.csv, row 2 (line 3), column `low`", "gap"],
+        ),
+        (
+            "rows not covering the range",
+            with_table(file),
+            "low,high,value\n0,50,3\n50,90,2\n",
+            &["backgrounds[0].shape.table.file: continuum.csv: ", "cover"],
+        ),
+        (
+            "an all-zero table",
+            with_table(file),
+            "low,high,value\n0,50,0\n50,100,0\n",
+            &[
+                "backgrounds[0].shape.table.file: continuum.csv: ",
+                "every value there is 0",
+            ],
+        ),
+        (
+            "float_shape on a table",
+            with_table(file).replace("norm_uncertainty: 0.05", "float_shape: true"),
+            "low,high,value\n0,100,1\n",
+            &["backgrounds[0].float_shape: ", "table"],
+        ),
+        (
+            "a word for a number",
+            with_table(file),
+            "low,high,value\n0,50,3\n50,100,many\n",
+            &["continuum.csv, row 2 (line 3), column `value`: expected a number"],
+        ),
+        (
+            "a missing file",
+            with_table(file),
+            "",
+            &[
+                "backgrounds[0].shape.table.file: ",
+                "continuum.csv: cannot read the file",
+            ],
+        ),
+    ];
+    assert_rejected_beside("bad-tables-are-named", &cases);
+}
+
+#[test]
+fn bad_signal_shape_uncertainties_are_named() {
+    let signal_with = |extra: &str| {
+        edited(
+            "  events_per_day: 2.0\n",
+            &format!("  events_per_day: 2.0\n{extra}"),
+        )
+    };
+    let cases: [(&str, String, &[&str]); 6] = [
+        (
+            "negative position uncertainty",
+            signal_with("  position_uncertainty: -0.5\n"),
+            &["signal.position_uncertainty: ", "-0.5"],
+        ),
+        (
+            "NaN width uncertainty",
+            signal_with("  width_uncertainty: .nan\n"),
+            &["signal.width_uncertainty: ", "NaN"],
+        ),
+        (
+            // Φ(−3) = 0.13% below zero width (PDG statistics review).
+            "width uncertainty above 1/3",
+            signal_with("  width_uncertainty: 0.5\n"),
+            &["signal.width_uncertainty: ", "at most 0.333"],
+        ),
+        (
+            "position uncertainty beyond the peak width",
+            signal_with("  position_uncertainty: 2.5\n"),
+            &["signal.position_uncertainty: ", "signal.scan", "2.5"],
+        ),
+        (
+            "position uncertainty on a shape without a position",
+            signal_with("  position_uncertainty: 0.5\n").replace(
+                "{gaussian: {mean: 50.0, sigma: 2.0}}",
+                "{exponential: {slope: -0.01}}",
+            ),
+            &[
+                "signal.position_uncertainty: ",
+                "this signal's shape is exponential",
+            ],
+        ),
+        (
+            "width uncertainty beside a scan",
+            signal_with("  width_uncertainty: 0.1\n  scan: {from: 30.0, to: 70.0}\n"),
+            &["signal.width_uncertainty: ", "signal.scan"],
+        ),
+    ];
+    assert_rejected("bad-signal-shape-uncertainties-are-named", &cases);
 }

@@ -39,8 +39,11 @@ struct Term<'m> {
     yield_parameters: &'m [usize],
     shape: &'m dyn crate::shapes::Shape,
     edges: &'m [f64],
-    /// Shape parameter indices when floating; None when fixed.
-    floating: Option<&'m [usize]>,
+    /// When the shape floats, the index in the parameter vector of each of
+    /// its parameters (None for one held at its value in `fixed_parameters`);
+    /// None when the whole shape is fixed.
+    floating: Option<&'m [Option<usize>]>,
+    /// The shape's parameter values where they do not float.
     fixed_parameters: &'m [f64],
 }
 
@@ -55,7 +58,7 @@ pub struct Likelihood<'m> {
     columns: Vec<Range<usize>>,
     /// The parameters of each floating scale-free shape, whose common scale
     /// the gauge term fixes (see [`Likelihood::gauge_terms`]).
-    gauges: Vec<&'m [usize]>,
+    gauges: Vec<Vec<usize>>,
 }
 
 /// Per-thread scratch space: nothing in the fit loop allocates.
@@ -109,10 +112,16 @@ impl<'m> Likelihood<'m> {
             for component in &channel.components {
                 let (floating, fixed_parameters) = match &component.shape_parameters {
                     ShapeParameters::Fixed(values) => (None, values.as_slice()),
-                    // A shape without parameters has nothing to float: its
-                    // fractions are fixed, computed once per workspace.
-                    ShapeParameters::Floating(indices) if indices.is_empty() => (None, &[][..]),
-                    ShapeParameters::Floating(indices) => (Some(indices.as_slice()), &[][..]),
+                    // A shape without floated parameters has nothing to
+                    // float: its fractions are fixed, computed once per workspace.
+                    ShapeParameters::Floating { values, parameters }
+                        if parameters.iter().all(Option::is_none) =>
+                    {
+                        (None, values.as_slice())
+                    }
+                    ShapeParameters::Floating { values, parameters } => {
+                        (Some(parameters.as_slice()), values.as_slice())
+                    }
                 };
                 terms.push(Term {
                     offset,
@@ -135,6 +144,7 @@ impl<'m> Likelihood<'m> {
             .iter()
             .filter(|term| term.shape.scale_free())
             .filter_map(|term| term.floating)
+            .map(|parameters| floated(parameters).map(|(_, p)| p).collect())
             .collect();
         Likelihood {
             model,
@@ -182,7 +192,7 @@ impl<'m> Likelihood<'m> {
         let fractions_at = self
             .terms
             .iter()
-            .map(|term| vec![f64::NAN; term.floating.map_or(0, <[usize]>::len)])
+            .map(|term| vec![f64::NAN; term.floating.map_or(0, <[Option<usize>]>::len)])
             .collect();
         Workspace {
             fractions,
@@ -192,7 +202,7 @@ impl<'m> Likelihood<'m> {
             fractions_at,
             gradients_current: vec![false; self.terms.len()],
             expected: vec![0.0; self.bins],
-            shape_parameters: vec![0.0; parameters],
+            shape_parameters: vec![0.0; self.most_shape_parameters()],
             expected_gradient: vec![0.0; parameters * self.bins],
             weights: vec![0.0; self.bins],
             curvatures: vec![0.0; self.bins],
@@ -201,6 +211,15 @@ impl<'m> Likelihood<'m> {
             gradient: vec![0.0; parameters],
             hessian: vec![0.0; parameters * parameters],
         }
+    }
+
+    /// The largest number of parameters of a floating shape.
+    fn most_shape_parameters(&self) -> usize {
+        self.terms
+            .iter()
+            .filter_map(|term| term.floating.map(<[Option<usize>]>::len))
+            .max()
+            .unwrap_or(0)
     }
 
     /// Fills `work.expected` with the expected counts at `theta` after `live_days`.
@@ -257,8 +276,12 @@ impl<'m> Likelihood<'m> {
                 continue;
             };
             let parameters = &mut work.shape_parameters[..floating.len()];
-            for (value, &p) in parameters.iter_mut().zip(floating) {
-                *value = theta[p];
+            for ((value, p), &held) in parameters
+                .iter_mut()
+                .zip(floating)
+                .zip(term.fixed_parameters)
+            {
+                *value = p.map_or(held, |p| theta[p]);
             }
             let at = &mut work.fractions_at[index];
             if at.as_slice() == &*parameters && (work.gradients_current[index] || !with_gradient) {
@@ -446,11 +469,7 @@ impl<'m> Likelihood<'m> {
             }
             if let Some(floating) = term.floating {
                 let gradients = &work.fraction_gradients[index];
-                for (k, &s) in floating
-                    .iter()
-                    .enumerate()
-                    .filter(|(_, s)| !work.fixed[**s])
-                {
+                for (k, s) in floated(floating).filter(|&(_, s)| !work.fixed[s]) {
                     let row = &mut work.expected_gradient[s * bins..][range.clone()];
                     add_scaled(row, yield_, &gradients[k * term.bins..(k + 1) * term.bins]);
                 }
@@ -502,8 +521,8 @@ impl<'m> Likelihood<'m> {
                 let yield_ = term.yield_at(theta, live_days);
                 let curvatures = &work.fraction_curvatures[index];
                 let n = floating.len();
-                for (k, &a) in floating.iter().enumerate() {
-                    for (l, &b) in floating[..=k].iter().enumerate() {
+                for (k, a) in floated(floating) {
+                    for (l, b) in floated(&floating[..=k]) {
                         let curvature = &curvatures[(k * n + l) * term.bins..][..term.bins];
                         let value = yield_ * dot(weights, curvature);
                         add_lower(&mut work.hessian, parameters, a, b, value);
@@ -529,7 +548,7 @@ impl<'m> Likelihood<'m> {
                 }
             }
             if let Some(floating) = term.floating {
-                for (k, &s) in floating.iter().enumerate() {
+                for (k, s) in floated(floating) {
                     let df = &work.fraction_gradients[index][k * term.bins..(k + 1) * term.bins];
                     let weighted_gradient = dot(weights, df);
                     for &a in term.yield_parameters {
@@ -645,11 +664,20 @@ fn column_of(terms: &[Term], parameter: usize) -> Range<usize> {
         .iter()
         .filter(|term| {
             term.yield_parameters.contains(&parameter)
-                || term.floating.is_some_and(|p| p.contains(&parameter))
+                || term.floating.is_some_and(|p| p.contains(&Some(parameter)))
         })
         .map(|term| term.offset..term.offset + term.bins)
         .reduce(|a, b| a.start.min(b.start)..a.end.max(b.end))
         .unwrap_or(0..0)
+}
+
+/// The floated parameters of a shape: (index among the shape's parameters,
+/// index in the parameter vector).
+fn floated(parameters: &[Option<usize>]) -> impl Iterator<Item = (usize, usize)> + '_ {
+    parameters
+        .iter()
+        .enumerate()
+        .filter_map(|(k, p)| p.map(|p| (k, p)))
 }
 
 /// Mean of theta over `indices`.

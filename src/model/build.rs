@@ -4,7 +4,7 @@ use super::{
     Channel, Component, Constraint, LiveTime, Model, Parameter, SIGNAL_STRENGTH, ShapeParameters,
 };
 use crate::scenario::{self, Background, NormUncertainty, Scenario, ShapeSpec, Signal};
-use crate::shapes;
+use crate::shapes::{self, Shape};
 use std::collections::{BTreeMap, BTreeSet};
 use std::sync::Arc;
 
@@ -12,8 +12,9 @@ impl Model {
     /// The model of a scenario: mu, common to all channels, one factor per
     /// shared uncertainty that some yield names (in name order), then per channel
     /// an optional constrained signal yield factor, one factor per background
-    /// whose normalisation is uncertain, and the parameters of every
-    /// background shape marked `float_shape`.
+    /// whose normalisation is uncertain, the parameters of every background
+    /// shape marked `float_shape`, and the signal's position and width where
+    /// they are uncertain.
     pub fn from_scenario(scenario: &Scenario) -> Model {
         let mut builder = Builder {
             parameters: Vec::new(),
@@ -110,6 +111,11 @@ impl Builder {
                 .iter()
                 .map(|b| self.background_component(b)),
         );
+        // Last in the channel, so that in a single channel every other
+        // parameter and global observable keeps its place (and its random
+        // numbers) with or without them.
+        components[0].shape_parameters =
+            self.signal_shape_parameters(&channel.signal, components[0].shape.as_ref());
         let observable = &channel.observable;
         Channel {
             name: channel.name.clone(),
@@ -156,6 +162,48 @@ impl Builder {
         }
     }
 
+    /// The signal shape fixed, or with its position (a Gaussian constraint
+    /// of width `position_uncertainty`) and width (of width
+    /// `width_uncertainty` times the nominal width) fitted where their
+    /// uncertainties are above zero; the width held above its domain's edge.
+    fn signal_shape_parameters(&mut self, signal: &Signal, shape: &dyn Shape) -> ShapeParameters {
+        let values = shape.nominal_parameters();
+        let mut parameters = vec![None; values.len()];
+        if let Some(peak) = shape.movable_peak() {
+            let (position, width) = (peak.position, peak.width);
+            let uncertain = |uncertainty: Option<f64>| uncertainty.filter(|&value| value > 0.0);
+            if let Some(sigma) = uncertain(signal.position_uncertainty) {
+                parameters[position] = Some(self.constrained_parameter(
+                    "signal.position",
+                    values[position],
+                    f64::NEG_INFINITY,
+                    sigma,
+                ));
+            }
+            if let Some(relative) = uncertain(signal.width_uncertainty) {
+                parameters[width] = Some(self.constrained_parameter(
+                    "signal.width",
+                    values[width],
+                    shape.parameter_lower_bounds()[width],
+                    relative * values[width],
+                ));
+            }
+        }
+        match parameters.iter().all(Option::is_none) {
+            true => ShapeParameters::Fixed(values),
+            false => ShapeParameters::Floating { values, parameters },
+        }
+    }
+
+    /// A parameter of nominal value `nominal` fitted above `lower` with the
+    /// Gaussian constraint N(nominal, width) on its auxiliary measurement.
+    fn constrained_parameter(&mut self, name: &str, nominal: f64, lower: f64, width: f64) -> usize {
+        let parameter = self.add_parameter(name.into(), nominal, lower);
+        self.constraints
+            .push(Constraint::Gaussian { parameter, width });
+        parameter
+    }
+
     fn background_component(&mut self, background: &Background) -> Component {
         let factor_name = format!("{}.norm_factor", background.name);
         let mut yield_parameters = match (background.norm_uncertainty, background.control) {
@@ -177,15 +225,22 @@ impl Builder {
         let shape = shape_from_spec(&background.shape, self.range);
         let shape_parameters = if background.float_shape {
             let names = shape.parameter_names();
-            let indices = names
+            let parameters = names
                 .iter()
                 .zip(shape.nominal_parameters())
                 .zip(shape.parameter_lower_bounds())
                 .map(|((name, nominal), lower)| {
-                    self.add_parameter(format!("{}.{}", background.name, name), nominal, lower)
+                    Some(self.add_parameter(
+                        format!("{}.{}", background.name, name),
+                        nominal,
+                        lower,
+                    ))
                 })
                 .collect();
-            ShapeParameters::Floating(indices)
+            ShapeParameters::Floating {
+                values: shape.nominal_parameters(),
+                parameters,
+            }
         } else {
             ShapeParameters::Fixed(shape.nominal_parameters())
         };

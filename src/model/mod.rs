@@ -30,12 +30,18 @@ pub struct Parameter {
     pub upper: f64,
 }
 
-/// How a component's shape parameters enter: fixed at scenario values, or floated.
+/// How a component's shape parameters enter: fixed at scenario values, or
+/// some or all of them floated.
 #[derive(Debug, Clone, PartialEq)]
 pub enum ShapeParameters {
     Fixed(Vec<f64>),
-    /// Indices into the parameter vector, in the shape's parameter order.
-    Floating(Vec<usize>),
+    /// In the shape's parameter order: `parameters[k]` is the index of
+    /// parameter k in the parameter vector, or None where it is held at
+    /// `values[k]`. A scale-free shape floats all of its parameters.
+    Floating {
+        values: Vec<f64>,
+        parameters: Vec<Option<usize>>,
+    },
 }
 
 /// One signal or background contribution to a channel.
@@ -136,9 +142,10 @@ impl Model {
         used[SIGNAL_STRENGTH] = true;
         for component in &channel.components {
             let floating = match &component.shape_parameters {
-                ShapeParameters::Floating(indices) => indices.as_slice(),
+                ShapeParameters::Floating { parameters, .. } => parameters.as_slice(),
                 ShapeParameters::Fixed(_) => &[],
             };
+            let floating = floating.iter().flatten();
             for &parameter in component.yield_parameters.iter().chain(floating) {
                 used[parameter] = true;
             }
@@ -158,9 +165,10 @@ impl Model {
             .map(|component| Component {
                 yield_parameters: component.yield_parameters.iter().map(|&p| at(p)).collect(),
                 shape_parameters: match &component.shape_parameters {
-                    ShapeParameters::Floating(indices) => {
-                        ShapeParameters::Floating(indices.iter().map(|&p| at(p)).collect())
-                    }
+                    ShapeParameters::Floating { values, parameters } => ShapeParameters::Floating {
+                        values: values.clone(),
+                        parameters: parameters.iter().map(|p| p.map(at)).collect(),
+                    },
                     fixed => fixed.clone(),
                 },
                 ..component.clone()

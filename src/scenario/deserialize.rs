@@ -121,8 +121,8 @@ impl<'de> Visitor<'de> for ShapeVisitor {
             if shapes.iter().any(|shape| shape.kind == kind) {
                 return Err(de::Error::duplicate_field(kind.key));
             }
-            let values = map.next_value_seed(Parameters(kind))?;
-            shapes.push(ShapeSpec { kind, values });
+            let (values, file) = map.next_value_seed(Parameters(kind))?;
+            shapes.push(ShapeSpec { kind, values, file });
         }
         match shapes.len() {
             1 => Ok(shapes.remove(0)),
@@ -138,11 +138,17 @@ impl<'de> Visitor<'de> for ShapeVisitor {
     }
 }
 
-/// The parameters mapping of one shape kind, read into its values in order.
+/// The key that names a file of rows in place of the parameters, for a kind
+/// that can be read from one ([`ShapeKind::rows`]).
+const FILE_KEY: &str = "file";
+
+/// The parameters mapping of one shape kind, read into its values in order,
+/// or (for a kind read from rows) a `file` key alone, whose rows scenario
+/// loading reads later.
 struct Parameters(&'static ShapeKind);
 
 impl<'de> DeserializeSeed<'de> for Parameters {
-    type Value = Vec<ParameterValue>;
+    type Value = (Vec<ParameterValue>, Option<String>);
 
     fn deserialize<D: de::Deserializer<'de>>(
         self,
@@ -153,7 +159,7 @@ impl<'de> DeserializeSeed<'de> for Parameters {
 }
 
 impl<'de> Visitor<'de> for Parameters {
-    type Value = Vec<ParameterValue>;
+    type Value = (Vec<ParameterValue>, Option<String>);
 
     fn expecting(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         write!(
@@ -166,8 +172,19 @@ impl<'de> Visitor<'de> for Parameters {
     fn visit_map<A: MapAccess<'de>>(self, mut map: A) -> Result<Self::Value, A::Error> {
         let parameters = self.0.parameters;
         let mut values: Vec<Option<ParameterValue>> = vec![None; parameters.len()];
-        let names: Vec<&'static str> = parameters.iter().map(|p| p.name).collect();
+        let mut file: Option<String> = None;
+        let mut names: Vec<&'static str> = parameters.iter().map(|p| p.name).collect();
+        if self.0.rows.is_some() {
+            names.push(FILE_KEY);
+        }
         while let Some(index) = map.next_key_seed(KnownKey(&names))? {
+            if index == parameters.len() {
+                if file.is_some() {
+                    return Err(de::Error::duplicate_field(FILE_KEY));
+                }
+                file = Some(map.next_value()?);
+                continue;
+            }
             if values[index].is_some() {
                 return Err(de::Error::duplicate_field(parameters[index].name));
             }
@@ -177,12 +194,29 @@ impl<'de> Visitor<'de> for Parameters {
                 ParameterValue::Number(map.next_value()?)
             });
         }
-        values
+        if file.is_some() {
+            return match values.iter().any(Option::is_some) {
+                true => Err(de::Error::custom(format!(
+                    "{} takes either `{FILE_KEY}` or {}, not both",
+                    self.0.key,
+                    quoted(parameters.iter().map(|p| p.name))
+                ))),
+                false => Ok((Vec::new(), file)),
+            };
+        }
+        let values = values
             .into_iter()
             .zip(parameters)
             .map(|(value, parameter)| value.ok_or_else(|| de::Error::missing_field(parameter.name)))
-            .collect()
+            .collect::<Result<_, _>>()?;
+        Ok((values, None))
     }
+}
+
+/// Names in backquotes joined by "and", e.g. "`edges` and `values`".
+fn quoted<'a>(names: impl Iterator<Item = &'a str>) -> String {
+    let quoted: Vec<String> = names.map(|name| format!("`{name}`")).collect();
+    quoted.join(" and ")
 }
 
 #[cfg(test)]

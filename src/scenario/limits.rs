@@ -8,6 +8,14 @@
 /// Largest scenario file read, in bytes (1 MiB; the demos are about 1 kB).
 pub const MAX_SCENARIO_BYTES: u64 = 1 << 20;
 
+/// Largest file of rows a shape reads (`{table: {file: ...}}`), in bytes
+/// (32 MiB: a million rows of three numbers of a dozen digits).
+pub const MAX_ROWS_FILE_BYTES: u64 = 32 << 20;
+
+/// Most rows of a table read from a file (inline ones are bounded by the
+/// scenario's size): the bin fractions sweep them once, when the model is built.
+pub const MAX_TABLE_ROWS: usize = 1_000_000;
+
 /// Deepest nesting of YAML brackets (`[` and `{`) in a scenario file; the
 /// format needs three levels, and the parser's time grows with the square of
 /// the depth.

@@ -8,6 +8,7 @@ mod deserialize;
 mod error;
 mod file;
 pub mod limits;
+mod rows_file;
 mod scan;
 mod template;
 mod validate;
@@ -66,6 +67,17 @@ pub enum ChannelSyntax {
     List,
 }
 
+impl ChannelSyntax {
+    /// The dotted path of channel `index`'s fields: none for a single
+    /// channel written at the top level, `channels[index].` in a list.
+    pub(super) fn path(self, index: usize) -> String {
+        match self {
+            ChannelSyntax::Single => String::new(),
+            ChannelSyntax::List => format!("channels[{index}]."),
+        }
+    }
+}
+
 /// The binned observable (mass, energy, ...) on which the search is made.
 #[derive(Debug, Clone, Deserialize)]
 #[serde(deny_unknown_fields)]
@@ -88,6 +100,16 @@ pub struct Signal {
     /// Relative width of a Gaussian constraint N(1, width) on a factor on the signal yield.
     #[serde(default)]
     pub yield_uncertainty: Option<f64>,
+    /// Uncertainty on the peak position, in the observable's unit (an
+    /// energy-scale uncertainty): the position is fitted with a Gaussian
+    /// constraint of this width. Absent or 0: known exactly.
+    #[serde(default)]
+    pub position_uncertainty: Option<f64>,
+    /// Relative uncertainty on the peak width (a Gaussian's sigma, a
+    /// Breit-Wigner's width: the resolution): the width is fitted with a
+    /// Gaussian constraint of this fraction of it. Absent or 0: known exactly.
+    #[serde(default)]
+    pub width_uncertainty: Option<f64>,
     /// Names of shared uncertainties whose factors multiply the signal yield.
     #[serde(default)]
     pub shared: Vec<String>,
@@ -142,12 +164,18 @@ pub enum NormUncertainty {
 ///
 /// Written in YAML as a one-key mapping, e.g. `{gaussian: {mean: 67.0, sigma: 0.8}}`
 /// or `{flat: {}}`; the key and the parameter names come from the registry, and
-/// validation checks the values with the kind's own constructor.
+/// validation checks the values with the kind's own constructor. A kind read
+/// from rows may name a file instead, `{table: {file: continuum.csv}}`,
+/// whose rows loading turns into the values.
 #[derive(Debug, Clone, PartialEq)]
 pub struct ShapeSpec {
     pub kind: &'static ShapeKind,
-    /// One value per parameter of `kind`, in its order.
+    /// One value per parameter of `kind`, in its order (read from `file` when
+    /// one is named).
     pub values: Vec<ParameterValue>,
+    /// The file of rows the values come from, as written (relative to the
+    /// scenario file's folder).
+    pub file: Option<String>,
 }
 
 impl ShapeSpec {
@@ -263,9 +291,10 @@ pub enum Spacing {
 
 impl Scenario {
     /// Reads, parses and validates a scenario file of at most
-    /// [`limits::MAX_SCENARIO_BYTES`]; no more than that is ever read.
+    /// [`limits::MAX_SCENARIO_BYTES`]; no more than that is ever read. Shape
+    /// files it names are read from the file's folder.
     pub fn load(path: &Path) -> Result<Scenario, ScenarioError> {
-        Scenario::from_yaml(&Scenario::read_text(path)?)
+        Scenario::from_file_text(&Scenario::read_text(path)?, path)
     }
 
     /// The text of a scenario file, refused above [`limits::MAX_SCENARIO_BYTES`].
@@ -291,8 +320,20 @@ impl Scenario {
     }
 
     /// Parses and validates scenario text; brackets nested deeper than
-    /// [`limits::MAX_NESTING_DEPTH`] are refused before parsing.
+    /// [`limits::MAX_NESTING_DEPTH`] are refused before parsing. A shape that
+    /// names a file is refused: without the scenario's path it cannot be found.
     pub fn from_yaml(text: &str) -> Result<Scenario, ScenarioError> {
+        Scenario::parse(text, None)
+    }
+
+    /// Parses and validates the text of the scenario file at `path`, reading
+    /// the shape files it names from the file's folder.
+    pub fn from_file_text(text: &str, path: &Path) -> Result<Scenario, ScenarioError> {
+        let directory = path.parent().unwrap_or(Path::new(""));
+        Scenario::parse(text, Some(directory))
+    }
+
+    fn parse(text: &str, directory: Option<&Path>) -> Result<Scenario, ScenarioError> {
         let (depth, line) = limits::bracket_depth(text);
         if depth > limits::MAX_NESTING_DEPTH {
             return Err(ScenarioError::Parse {
@@ -305,9 +346,33 @@ impl Scenario {
             });
         }
         let file: ScenarioFile = serde_yaml::from_str(text).map_err(ScenarioError::from_yaml)?;
-        let scenario = file.into_scenario()?;
+        let mut scenario = file.into_scenario()?;
+        scenario.read_shape_files(directory)?;
         validate::validate(&scenario)?;
         Ok(scenario)
+    }
+
+    /// Reads the rows of every shape that names a file, from `directory`
+    /// (the scenario file's folder).
+    fn read_shape_files(&mut self, directory: Option<&Path>) -> Result<(), ScenarioError> {
+        let syntax = self.channel_syntax;
+        for (index, channel) in self.channels.iter_mut().enumerate() {
+            let path = syntax.path(index);
+            let signal = std::iter::once(("signal".to_string(), &mut channel.signal.shape));
+            let backgrounds =
+                channel
+                    .backgrounds
+                    .iter_mut()
+                    .enumerate()
+                    .map(|(index, background)| {
+                        (format!("backgrounds[{index}]"), &mut background.shape)
+                    });
+            for (owner, shape) in signal.chain(backgrounds) {
+                let field = format!("{path}{owner}.shape.{}.file", shape.kind.key);
+                rows_file::resolve(shape, directory, &field)?;
+            }
+        }
+        Ok(())
     }
 
     /// The first channel: the only one of a single-channel scenario. For code

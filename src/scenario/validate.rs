@@ -74,10 +74,7 @@ fn refuse_scan_in_several_channels(scenario: &Scenario) -> Checked {
 /// The dotted path of channel `index`'s fields: none for a single channel
 /// written at the top level, `channels[index].` in a list.
 fn channel_path(scenario: &Scenario, index: usize) -> String {
-    match scenario.channel_syntax {
-        ChannelSyntax::Single => String::new(),
-        ChannelSyntax::List => format!("channels[{index}]."),
-    }
+    scenario.channel_syntax.path(index)
 }
 
 /// Each listed channel needs a name of its own.
@@ -333,6 +330,132 @@ fn validate_signal(signal: &Signal, range: Range) -> Checked {
         require_relative_uncertainty("signal.yield_uncertainty", relative)?;
         refuse_wide_signal_yield_uncertainty("signal.yield_uncertainty", relative)?;
     }
+    validate_shape_uncertainties(signal, range)
+}
+
+/// Widest relative width uncertainty: its auxiliary measurement, drawn from
+/// N(w, δ w), falls at or below zero width in Φ(−1/δ) of the
+/// pseudo-experiments, 1.35e-3 at δ = 1/3 (PDG statistics review).
+const MAX_WIDTH_UNCERTAINTY: f64 = 1.0 / 3.0;
+
+/// Auxiliary measurements of the position fall within this many standard
+/// deviations of the peak in all but 0.27% of pseudo-experiments (Φ(−3) on
+/// each side; PDG statistics review); that far the range must reach.
+const POSITION_REACH_SIGMAS: f64 = 3.0;
+
+/// A position known no better than the peak is wide is a search over
+/// positions: the fitted position then moves between separate minima of the
+/// likelihood (each a fluctuation the peak could sit on), the fits stop
+/// converging, and the look-elsewhere effect dominates; `signal.scan` is
+/// made for that. So the uncertainty may be at most the width (a Gaussian's
+/// sigma, half a Breit-Wigner's full width).
+fn refuse_position_uncertainty_beyond_width(signal: &Signal, range: Range, value: f64) -> Checked {
+    let fixed = Placement {
+        range: [range.low, range.high],
+        floated: false,
+    };
+    let Some(peak) = signal
+        .shape
+        .build(fixed)
+        .ok()
+        .and_then(|shape| shape.peak())
+    else {
+        return Ok(());
+    };
+    if value > peak.width {
+        return Err(ScenarioError::invalid(
+            "signal.position_uncertainty",
+            format!(
+                "must be at most the peak's width {} (a Gaussian's sigma, half a Breit-Wigner's width): a position known worse than that is a search over positions, for signal.scan; got {}",
+                show(peak.width),
+                show(value)
+            ),
+        ));
+    }
+    Ok(())
+}
+
+/// `signal.position_uncertainty` and `signal.width_uncertainty`: finite, not
+/// negative (0 as absent), only for a peak with a position and a width and
+/// without a scan (which tests every position itself); the position
+/// uncertainty at most the peak's width, and the position must
+/// stay inside the range within [`POSITION_REACH_SIGMAS`] of its
+/// uncertainty, since the signal is normalised on the range and would keep
+/// its whole yield beyond it; the width uncertainty at most
+/// [`MAX_WIDTH_UNCERTAINTY`].
+fn validate_shape_uncertainties(signal: &Signal, range: Range) -> Checked {
+    let fields = [
+        ("signal.position_uncertainty", signal.position_uncertainty),
+        ("signal.width_uncertainty", signal.width_uncertainty),
+    ];
+    for (field, value) in fields {
+        let Some(value) = value else { continue };
+        if !(value.is_finite() && value >= 0.0) {
+            return Err(ScenarioError::invalid(
+                field,
+                format!(
+                    "must be a non-negative finite number (0 = known exactly), got {}",
+                    show(value)
+                ),
+            ));
+        }
+        if value == 0.0 {
+            continue;
+        }
+        let fixed = Placement {
+            range: [range.low, range.high],
+            floated: false,
+        };
+        let movable = signal
+            .shape
+            .build(fixed)
+            .ok()
+            .and_then(|shape| shape.movable_peak());
+        let Some(position) = movable.map(|peak| peak.position) else {
+            return Err(ScenarioError::invalid(
+                field,
+                format!(
+                    "applies to gaussian and breit_wigner signals (a peak with a position and a width); this signal's shape is {}",
+                    signal.shape.kind.key
+                ),
+            ));
+        };
+        if signal.scan.is_some() {
+            return Err(ScenarioError::invalid(
+                field,
+                "signal.scan tests every position with a fixed shape; remove the scan or this uncertainty",
+            ));
+        }
+        if field == "signal.width_uncertainty" && value > MAX_WIDTH_UNCERTAINTY {
+            return Err(ScenarioError::invalid(
+                field,
+                format!(
+                    "above 1/3 more than 0.13% of the auxiliary measurements of the width fall at or below zero; use at most 0.333, got {}",
+                    show(value)
+                ),
+            ));
+        }
+        if field == "signal.position_uncertainty" {
+            refuse_position_uncertainty_beyond_width(signal, range, value)?;
+            let centre = signal.shape.values[position].number();
+            let reach = POSITION_REACH_SIGMAS * value;
+            if centre - reach < range.low || centre + reach > range.high {
+                return Err(ScenarioError::invalid(
+                    field,
+                    format!(
+                        "the position {} ± 3 × {} leaves the range [{}, {}]; the signal is normalised on the range, so a shifted peak would keep its whole yield there: use at most {}",
+                        show(centre),
+                        show(value),
+                        show(range.low),
+                        show(range.high),
+                        show_rounded(
+                            (centre - range.low).min(range.high - centre) / POSITION_REACH_SIGMAS
+                        )
+                    ),
+                ));
+            }
+        }
+    }
     Ok(())
 }
 
@@ -447,7 +570,8 @@ fn refuse_free_background_in_one_bin(channel: &Channel) -> Checked {
 
 /// Checks one shape with its kind's constructor; `owner` is the dotted path
 /// of the signal or background holding it. A wrong value is named by its path
-/// inside `shape`, a shape that cannot float by `float_shape`.
+/// inside `shape` (or by the file it was read from), a shape that cannot
+/// float by `float_shape`.
 fn validate_shape(owner: &str, shape: &ShapeSpec, range: Range, floated: bool) -> Checked {
     let placement = Placement {
         range: [range.low, range.high],
@@ -455,10 +579,16 @@ fn validate_shape(owner: &str, shape: &ShapeSpec, range: Range, floated: bool) -
     };
     match shape.build(placement) {
         Ok(_) => Ok(()),
-        Err(ShapeError::Value { field, message }) => Err(ScenarioError::invalid(
-            format!("{owner}.shape.{field}"),
-            message,
-        )),
+        Err(ShapeError::Value { field, message }) => match &shape.file {
+            Some(file) => Err(ScenarioError::invalid(
+                format!("{owner}.shape.{}.file", shape.kind.key),
+                format!("{file}: {message}"),
+            )),
+            None => Err(ScenarioError::invalid(
+                format!("{owner}.shape.{field}"),
+                message,
+            )),
+        },
         Err(ShapeError::CannotFloat { message }) => Err(ScenarioError::invalid(
             format!("{owner}.float_shape"),
             message,

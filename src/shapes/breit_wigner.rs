@@ -36,6 +36,7 @@ pub(super) const KIND: ShapeKind = ShapeKind {
         let width = positive("breit_wigner.width", values[1].number())?;
         Ok(Box::new(BreitWigner::new(mean, width)))
     },
+    rows: None,
 };
 
 impl BreitWigner {

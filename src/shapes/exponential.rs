@@ -47,6 +47,7 @@ pub(super) const KIND: ShapeKind = ShapeKind {
         let slope = finite("exponential.slope", values[0].number())?;
         Ok(Box::new(Exponential::new(slope)))
     },
+    rows: None,
 };
 
 impl Exponential {

@@ -14,6 +14,7 @@ pub(super) const KIND: ShapeKind = ShapeKind {
     example: "{flat: {}}",
     explanation: &["uniform on the range"],
     build: |_, _| Ok(Box::new(Flat)),
+    rows: None,
 };
 
 impl Shape for Flat {

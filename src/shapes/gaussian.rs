@@ -43,6 +43,7 @@ pub(super) const KIND: ShapeKind = ShapeKind {
         let sigma = positive("gaussian.sigma", values[1].number())?;
         Ok(Box::new(Gaussian::new(mean, sigma)))
     },
+    rows: None,
 };
 
 impl Gaussian {

@@ -35,6 +35,7 @@ register_shapes! {
     exponential,
     polynomial,
     flat,
+    table,
 }
 
 /// A shape as a scenario names it: the key of its one-key mapping, its
@@ -52,6 +53,31 @@ pub struct ShapeKind {
     /// The shape for these values (in the order of `parameters`), or which
     /// value is wrong and why.
     pub build: fn(&[ParameterValue], Placement) -> Built,
+    /// For a shape that may also be read from a file of rows
+    /// (`{key: {file: PATH}}`): its columns and how rows become its values.
+    pub rows: Option<RowForm>,
+}
+
+/// How a shape's values are read from rows of numbers (a file the scenario
+/// reads; the shapes read no files).
+pub struct RowForm {
+    /// The names of the columns, in order, as the file's header line gives them.
+    pub columns: &'static [&'static str],
+    /// The parameter values (in the order of `parameters`) of the rows, each
+    /// with one number per column; or the first wrong row and column.
+    pub values: fn(&[Vec<f64>]) -> FromRows,
+}
+
+/// A shape's parameter values read from rows, or the first wrong entry.
+pub type FromRows = Result<Vec<ParameterValue>, RowError>;
+
+/// A wrong entry in rows of numbers: its row (0-based, header not counted),
+/// column, and what is wrong.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RowError {
+    pub row: usize,
+    pub column: &'static str,
+    pub message: String,
 }
 
 /// A shape built from a scenario's values, or why they make none.
@@ -407,7 +433,7 @@ mod registry_tests {
     #[test]
     fn movable_peaks_are_the_peaked_shapes() {
         let placement = Placement {
-            range: [0.0, 10.0],
+            range: [1.0, 3.0],
             floated: false,
         };
         for kind in SHAPE_KINDS {
@@ -424,12 +450,21 @@ mod registry_tests {
         }
     }
 
-    /// Values for every parameter of `kind`, each `number` (lists of two).
+    /// Values for every parameter of `kind`: `number`, the first list
+    /// `[number, number + 2]` and later lists `[number]` (a table's two edges
+    /// and its one value; a polynomial's two coefficients).
     fn values_of(kind: &ShapeKind, number: f64) -> Vec<ParameterValue> {
+        let mut lists = 0;
         kind.parameters
             .iter()
             .map(|p| match p.list {
-                true => ParameterValue::List(vec![number, number]),
+                true => {
+                    lists += 1;
+                    match lists {
+                        1 => ParameterValue::List(vec![number, number + 2.0]),
+                        _ => ParameterValue::List(vec![number]),
+                    }
+                }
                 false => ParameterValue::Number(number),
             })
             .collect()

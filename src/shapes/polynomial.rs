@@ -71,6 +71,7 @@ pub(super) const KIND: ShapeKind = ShapeKind {
         "must not be negative anywhere on the range",
     ],
     build: build_from_scenario,
+    rows: None,
 };
 
 const FIELD: &str = "polynomial.coefficients";

@@ -1,0 +1,143 @@
+//! Shapes read from files of rows (`shape: {table: {file: continuum.csv}}`):
+//! the file found beside the scenario, read up to a bounded size as CSV with
+//! a header line naming the kind's columns, and turned into the shape's
+//! values by its kind ([`RowForm`]). Errors name the file, row and column.
+
+use super::limits::{MAX_ROWS_FILE_BYTES, MAX_TABLE_ROWS};
+use super::{ScenarioError, ShapeSpec};
+use crate::shapes::{RowError, RowForm};
+use std::io::Read;
+use std::path::Path;
+
+/// Fills the values of `shape` from its `file`, found relative to
+/// `directory` (the scenario file's folder); `field` is the dotted path of
+/// the `file` key, e.g. `backgrounds[0].shape.table.file`. Without a
+/// directory (a scenario given as text alone) a file cannot be found.
+pub(super) fn resolve(
+    shape: &mut ShapeSpec,
+    directory: Option<&Path>,
+    field: &str,
+) -> Result<(), ScenarioError> {
+    let (Some(written), Some(form)) = (shape.file.as_deref(), shape.kind.rows.as_ref()) else {
+        return Ok(());
+    };
+    let Some(directory) = directory else {
+        return Err(ScenarioError::invalid(
+            field,
+            format!(
+                "`{written}` is found relative to the scenario file, but this scenario was \
+                 given as text alone; load it from its file"
+            ),
+        ));
+    };
+    let path = directory.join(written);
+    let text = read_bounded(&path).map_err(|message| {
+        ScenarioError::invalid(field, format!("{}: {message}", path.display()))
+    })?;
+    let rows = parse_rows(&text, form)
+        .map_err(|located| ScenarioError::invalid(field, format!("{written}, {located}")))?;
+    let values = (form.values)(&rows).map_err(|error| {
+        ScenarioError::invalid(field, format!("{written}, {}", located(&error)))
+    })?;
+    shape.values = values;
+    Ok(())
+}
+
+/// "row 3 (line 4), column `high`: ..." for a row counted from 1 below the header.
+fn located(error: &RowError) -> String {
+    format!(
+        "row {} (line {}), column `{}`: {}",
+        error.row + 1,
+        error.row + 2,
+        error.column,
+        error.message
+    )
+}
+
+/// The text of `path`, refused above [`MAX_ROWS_FILE_BYTES`] (no more is read).
+fn read_bounded(path: &Path) -> Result<String, String> {
+    let mut text = String::new();
+    std::fs::File::open(path)
+        .and_then(|file| file.take(MAX_ROWS_FILE_BYTES + 1).read_to_string(&mut text))
+        .map_err(|error| format!("cannot read the file: {error}"))?;
+    if text.len() as u64 > MAX_ROWS_FILE_BYTES {
+        return Err(format!(
+            "the file is larger than the {MAX_ROWS_FILE_BYTES} bytes allowed"
+        ));
+    }
+    Ok(text)
+}
+
+/// The rows of CSV `text`: a header naming exactly `form.columns` in order,
+/// then at most [`MAX_TABLE_ROWS`] rows of one number per column.
+fn parse_rows(text: &str, form: &RowForm) -> Result<Vec<Vec<f64>>, String> {
+    let mut reader = csv::ReaderBuilder::new()
+        .has_headers(true)
+        .trim(csv::Trim::All)
+        .from_reader(text.as_bytes());
+    let expected = form.columns.join(",");
+    let header = reader
+        .headers()
+        .map_err(|error| format!("line 1: {error}"))?;
+    if !header.iter().eq(form.columns.iter().copied()) {
+        return Err(format!(
+            "line 1: the header must be `{expected}`, got `{}`",
+            header.iter().collect::<Vec<_>>().join(",")
+        ));
+    }
+    let mut rows = Vec::new();
+    for (index, record) in reader.records().enumerate() {
+        let position = format!("row {} (line {})", index + 1, index + 2);
+        if index == MAX_TABLE_ROWS {
+            return Err(format!(
+                "{position}: a table has at most {MAX_TABLE_ROWS} rows"
+            ));
+        }
+        let record = record.map_err(|error| format!("{position}: {error}"))?;
+        let row = form
+            .columns
+            .iter()
+            .zip(record.iter())
+            .map(|(column, cell)| {
+                cell.parse::<f64>().map_err(|_| {
+                    format!("{position}, column `{column}`: expected a number, got `{cell}`")
+                })
+            })
+            .collect::<Result<Vec<f64>, String>>()?;
+        rows.push(row);
+    }
+    if rows.is_empty() {
+        return Err(format!("no rows below the header `{expected}`"));
+    }
+    Ok(rows)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::shapes::ShapeKind;
+
+    fn form() -> &'static RowForm {
+        ShapeKind::find("table").unwrap().rows.as_ref().unwrap()
+    }
+
+    #[test]
+    fn rows_are_read_below_their_header() {
+        let rows = parse_rows("low,high,value\n0,1,2.5\n 1 , 3 , 0\n", form()).unwrap();
+        assert_eq!(rows, vec![vec![0.0, 1.0, 2.5], vec![1.0, 3.0, 0.0]]);
+    }
+
+    #[test]
+    fn wrong_files_name_the_line_and_column() {
+        let error = |text: &str| parse_rows(text, form()).unwrap_err();
+        assert!(error("lo,high,value\n0,1,2\n").starts_with("line 1: the header must be"));
+        let word = error("low,high,value\n0,1,2\n1,2,many\n");
+        assert!(
+            word.starts_with("row 2 (line 3), column `value`: expected a number, got `many`"),
+            "{word}"
+        );
+        let short = error("low,high,value\n0,1\n");
+        assert!(short.starts_with("row 1 (line 2): "), "{short}");
+        assert!(error("low,high,value\n").starts_with("no rows"));
+    }
+}
