@@ -294,3 +294,49 @@ fn an_unused_shared_uncertainty_is_a_warning() {
         "{stderr}"
     );
 }
+
+/// Two channels sharded and merged: the files of the unsharded run, byte for
+/// byte (exact equality is the claim of `merge`, so no tolerance).
+#[test]
+fn two_channels_merged_from_shards_equal_the_unsharded_run() {
+    let listed = listed_single();
+    let start = listed.find("  - name: energy").unwrap();
+    let end = listed.find("plan:").unwrap();
+    let second = listed[start..end].replacen("name: energy", "name: second", 1);
+    let two = format!("{}{second}{}", &listed[..end], &listed[end..]);
+    let (scratch, single) = run_on(
+        "two-channel-shards",
+        &two,
+        &["project", "scenario.yaml", "--out", "single", "--quiet"],
+    );
+    assert!(single.status.success(), "{single:?}");
+    for shard in ["1/2", "2/2"] {
+        let output = scratch.run(&[
+            "project",
+            "scenario.yaml",
+            "--shard",
+            shard,
+            "--out",
+            "sharded",
+            "--quiet",
+        ]);
+        assert!(output.status.success(), "{output:?}");
+    }
+    let merged = scratch.run(&["merge", "sharded"]);
+    assert!(merged.status.success(), "{merged:?}");
+    let single_files = files(&scratch.path.join("single"));
+    let json = &single_files
+        .iter()
+        .find(|(name, _)| name == "projection.json")
+        .unwrap()
+        .1;
+    assert!(String::from_utf8_lossy(json).contains("\"name\": \"second\""));
+    let merged_files = files(&scratch.path.join("sharded"));
+    for (name, bytes) in &single_files {
+        let other = merged_files.iter().find(|(other, _)| other == name);
+        assert!(
+            other.is_some_and(|(_, merged)| merged == bytes),
+            "{name} differs"
+        );
+    }
+}
