@@ -122,6 +122,12 @@ pub struct BenchArgs {
     /// Internal: run one memory measurement POINTS:TOYS and print the peak in bytes.
     #[arg(long, hide = true, value_name = "POINTS:TOYS")]
     pub memory_probe: Option<String>,
+    /// Run only the look-elsewhere rows: background-only scans over 100 signal positions.
+    #[arg(long)]
+    pub scan: bool,
+    /// Internal: run one scan memory measurement POSITIONS:TOYS and print the peak in bytes.
+    #[arg(long, hide = true, value_name = "POSITIONS:TOYS")]
+    pub scan_memory_probe: Option<String>,
 }
 
 #[derive(Debug, Args)]
@@ -166,6 +172,12 @@ pub struct PlanArgs {
     /// Calibrate the discovery p-value with N background-only pseudo-experiments per point.
     #[arg(long, value_name = "N")]
     pub calibrate: Option<usize>,
+    /// Also compute everything at calendar day D exactly (its own point and
+    /// pseudo-experiments, not read off the grid): significance, P(Z >= each
+    /// target), expected limits in signal events per live day and over the
+    /// run; repeatable.
+    #[arg(long, value_name = "D", allow_negative_numbers = true)]
+    pub at: Vec<f64>,
     /// Background-only pseudo-experiments per exposure point fitted at every
     /// position of signal.scan, for the look-elsewhere effect (default 500).
     #[arg(long, value_name = "N")]

@@ -8,7 +8,7 @@
 mod poisson;
 mod scan;
 
-pub use scan::{PositionScan, ScanToy, UpcrossingCount, look_elsewhere_ensemble};
+pub use scan::{PositionScan, ScanPlacements, ScanToy, UpcrossingCount, look_elsewhere_ensemble};
 
 use crate::likelihood::{Dataset, DiscoveryTest, Likelihood};
 use crate::model::Constraint;

@@ -10,6 +10,7 @@
 //! `look_elsewhere` the global p-values of a scan over signal positions;
 //! `spectrum` draws pseudo-data spectra and `binning` scans bin widths and
 //! counting windows, both for planning beside the projection;
+//! `provenance` records what made each output file;
 //! `warning` types what may be wrong with a scenario or results;
 //! `message` words the numbers in error messages; `benchmark` measures the
 //! engine. The command-line front end lives with the binary (`src/main.rs` and
@@ -28,6 +29,7 @@ pub mod message;
 pub mod model;
 pub mod numeric;
 pub mod projection;
+pub mod provenance;
 pub mod reach;
 pub mod report;
 pub mod scenario;

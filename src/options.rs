@@ -9,14 +9,16 @@ use crate::error::Error;
 use runcast::message::show;
 use runcast::model::{LiveTime, Model};
 use runcast::projection::{ProjectionSettings, ShardSpec};
+use runcast::provenance::{Provenance, ScenarioFile, projection_options};
 use runcast::reach::ReachSettings;
 use runcast::report::{DPI_RANGE, FigureFormats};
 use runcast::scenario::limits::{
-    MAX_EXPECTED_COUNT_PER_BIN, MAX_REACH_EXPOSURES, MAX_SPECTRUM_EXPOSURES, MAX_THREADS,
-    MAX_TOYS_IN_TOTAL, MAX_TOYS_PER_POINT,
+    MAX_AT_DAYS, MAX_EXPECTED_COUNT_PER_BIN, MAX_REACH_EXPOSURES, MAX_SPECTRUM_EXPOSURES,
+    MAX_THREADS, MAX_TOYS_IN_TOTAL, MAX_TOYS_PER_POINT,
 };
 use runcast::scenario::{Scenario, ScenarioError};
 use runcast::spectrum::largest_expected_count;
+use serde_json::{Map, json};
 use statrs::distribution::{ContinuousCDF, Normal};
 use std::path::{Path, PathBuf};
 
@@ -59,6 +61,11 @@ impl Loaded {
             || "scenario".into(),
             |name| name.to_string_lossy().into_owned(),
         )
+    }
+
+    /// The scenario file as provenance records it: its name and SHA-256.
+    pub fn scenario_file(&self) -> ScenarioFile {
+        ScenarioFile::new(&self.file_name(), &self.text)
     }
 
     /// `out`, or `output/<scenario file stem>`.
@@ -105,6 +112,8 @@ struct PlanOverrides {
     asimov_only: bool,
     no_limits: bool,
     calibrate: Option<usize>,
+    /// `--at` days, as given.
+    at: Vec<f64>,
     lee_toys: Option<usize>,
     /// The shards the projection is split into (0 or 1: not split); the
     /// limits on calibration toys and on all toys then hold per shard, since
@@ -120,6 +129,7 @@ impl PlanOverrides {
             asimov_only: args.asimov_only,
             no_limits: args.no_limits,
             calibrate: args.calibrate,
+            at: args.at.clone(),
             lee_toys: args.lee_toys,
             shards,
         }
@@ -183,6 +193,7 @@ fn projection_settings(
     let settings = ProjectionSettings {
         title: scenario.title.clone(),
         days: scenario.plan.days.days(),
+        at_days: at_days(&overrides.at)?,
         toys,
         seed: loaded.seed(overrides.seed),
         targets: scenario.plan.targets.clone(),
@@ -200,7 +211,7 @@ fn projection_settings(
         return Err(Error::Usage(format!(
             "--toys/--calibrate/--lee-toys: {} pseudo-experiments at each of {} points make {}, more than the {MAX_TOYS_IN_TOTAL} allowed in one projection{}",
             settings.toys_per_point(),
-            settings.days.len(),
+            settings.days.len() + settings.at_days.len(),
             settings.total_toys(),
             if largest_shard.count > 1 {
                 " or shard"
@@ -212,27 +223,66 @@ fn projection_settings(
     Ok(settings)
 }
 
+/// The `--at` days in increasing order: each finite and above 0, none
+/// repeated, at most [`MAX_AT_DAYS`].
+fn at_days(days: &[f64]) -> Result<Vec<f64>, Error> {
+    if days.len() > MAX_AT_DAYS {
+        return Err(Error::Usage(format!(
+            "--at: at most {MAX_AT_DAYS} days are allowed, got {}",
+            days.len()
+        )));
+    }
+    let mut sorted = days.to_vec();
+    if let Some(&bad) = sorted.iter().find(|&&day| !(day.is_finite() && day > 0.0)) {
+        return Err(Error::Usage(format!(
+            "--at {}: expected calendar days above 0",
+            show(bad)
+        )));
+    }
+    sorted.sort_by(f64::total_cmp);
+    if let Some(pair) = sorted.windows(2).find(|pair| pair[0] == pair[1]) {
+        return Err(Error::Usage(format!(
+            "--at {}: given more than once",
+            show(pair[0])
+        )));
+    }
+    Ok(sorted)
+}
+
 /// Pseudo-experiments draw whole counts: refuses a grid whose last day
 /// expects more than [`MAX_EXPECTED_COUNT_PER_BIN`] events in a bin or a
-/// control region, naming `plan.days.last` (a scenario error, not a usage one).
+/// control region, naming the last day of `plan.days` (a scenario error, not a usage
+/// one), and likewise the last `--at` day (a usage error).
 fn check_countable(
     loaded: &Loaded,
     model: &Model,
     settings: &ProjectionSettings,
 ) -> Result<(), Error> {
+    let too_many = |day: f64| {
+        let largest = largest_expected_count(model, model.live_time.live_days(day));
+        (largest > MAX_EXPECTED_COUNT_PER_BIN).then(|| {
+            format!(
+                "{} days expect {largest:e} events in a bin, more than the {MAX_EXPECTED_COUNT_PER_BIN:e} a pseudo-experiment can draw exactly",
+                show(day)
+            )
+        })
+    };
     let last_day = settings.days.last().copied().unwrap_or_default();
-    let largest = largest_expected_count(model, model.live_time.live_days(last_day));
-    if largest > MAX_EXPECTED_COUNT_PER_BIN {
+    if let Some(message) = too_many(last_day) {
         return Err(Error::Scenario {
             path: loaded.path.clone(),
             source: ScenarioError::invalid(
-                "plan.days.last",
-                format!(
-                    "{} days expect {largest:e} events in a bin, more than the {MAX_EXPECTED_COUNT_PER_BIN:e} a pseudo-experiment can draw exactly; shorten the grid or use --asimov-only",
-                    show(last_day)
-                ),
+                loaded.scenario.plan.days.last_field(),
+                format!("{message}; shorten the grid or use --asimov-only"),
             ),
         });
+    }
+    let last_at = settings.at_days.last().copied().unwrap_or_default();
+    if let Some(message) = too_many(last_at) {
+        return Err(Error::Usage(format!(
+            "--at {}: {message}; ask for an earlier day or use --asimov-only",
+            show(last_at)
+        )));
     }
     Ok(())
 }
@@ -276,6 +326,11 @@ pub struct ProjectOptions {
 }
 
 impl ProjectOptions {
+    /// What made this projection's outputs.
+    pub fn provenance(&self) -> Provenance {
+        Provenance::of_projection(self.loaded.scenario_file(), &self.settings)
+    }
+
     pub fn resolve(args: &ProjectArgs) -> Result<ProjectOptions, Error> {
         let threads = check_threads(args.threads)?;
         let formats = figure_formats(&args.figures)?;
@@ -299,6 +354,26 @@ impl ProjectOptions {
             settings,
         })
     }
+}
+
+/// What made a comparison: every plan's scenario, and per plan the options
+/// of its projection, in the order of the plans.
+pub fn comparison_provenance(plans: &[ProjectOptions]) -> Provenance {
+    let mut options = Map::new();
+    options.insert(
+        "plans".into(),
+        plans
+            .iter()
+            .map(|plan| serde_json::Value::Object(projection_options(&plan.settings)))
+            .collect(),
+    );
+    Provenance::new(
+        plans
+            .iter()
+            .map(|plan| plan.loaded.scenario_file())
+            .collect(),
+        options,
+    )
 }
 
 /// `runcast slurm`, resolved: the projection every shard runs, and the
@@ -395,6 +470,14 @@ pub struct SpectrumOptions {
 }
 
 impl SpectrumOptions {
+    /// What made these spectra: the scenario, the seed and the days.
+    pub fn provenance(&self) -> Provenance {
+        let mut options = Map::new();
+        options.insert("seed".into(), json!(self.seed));
+        options.insert("days".into(), json!(self.days));
+        Provenance::new(vec![self.loaded.scenario_file()], options)
+    }
+
     pub fn resolve(args: &SpectrumArgs) -> Result<SpectrumOptions, Error> {
         if args.days.len() > MAX_SPECTRUM_EXPOSURES {
             return Err(Error::Usage(format!(
@@ -433,6 +516,17 @@ pub struct ReachOptions {
 }
 
 impl ReachOptions {
+    /// What made this reach: the scenario, the days, the limit toys, the
+    /// seed and the confidence level.
+    pub fn provenance(&self) -> Provenance {
+        let settings = &self.settings;
+        let mut options = Map::new();
+        options.insert("seed".into(), json!(settings.seed));
+        options.insert("toys".into(), json!(settings.toys));
+        options.insert("cl".into(), json!(settings.cl));
+        options.insert("days".into(), json!(settings.days));
+        Provenance::new(vec![self.loaded.scenario_file()], options)
+    }
     /// The exposures checked as for `spectrum` (live time, none repeated, at
     /// most [`MAX_REACH_EXPOSURES`]); the toys bounded per position and in
     /// total over positions and exposures.
@@ -497,6 +591,13 @@ pub struct BinningOptions {
 }
 
 impl BinningOptions {
+    /// What made this scan: the scenario and the day.
+    pub fn provenance(&self) -> Provenance {
+        let mut options = Map::new();
+        options.insert("days".into(), json!(self.days));
+        Provenance::new(vec![self.loaded.scenario_file()], options)
+    }
+
     pub fn resolve(args: &BinningArgs) -> Result<BinningOptions, Error> {
         let loaded = Loaded::load(&args.scenario)?;
         loaded.live_days(args.days)?;

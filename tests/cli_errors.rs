@@ -368,10 +368,22 @@ fn bad_command_line_values_are_named() {
     let scratch = Scratch::new("command-line");
     fs::write(scratch.path.join(SCENARIO), BASE).unwrap();
     let before = scratch.entries();
-    let cases: [(&[&str], &[&str]); 6] = [
+    let cases: [(&[&str], &[&str]); 9] = [
         (
             &["project", SCENARIO, "--out", "out", "--toys", "0"],
             &["--toys"],
+        ),
+        (
+            &["project", SCENARIO, "--out", "out", "--at", "0"],
+            &["--at 0", "above 0"],
+        ),
+        (
+            &["project", SCENARIO, "--out", "out", "--at", "inf"],
+            &["--at inf", "above 0"],
+        ),
+        (
+            &["project", SCENARIO, "--at", "30", "--at", "9", "--at", "30"],
+            &["--at 30", "more than once"],
         ),
         (
             &["project", SCENARIO, "--out", "out", "--toys", "abc"],
@@ -544,6 +556,11 @@ fn command_line_requests_beyond_the_limits_are_named() {
     for day in &many_days {
         spectrum_nine.extend(["--days", day.as_str()]);
     }
+    let at_days: Vec<String> = (1..=65).map(|day| day.to_string()).collect();
+    let mut many_at = project(&["--asimov-only"]);
+    for day in &at_days {
+        many_at.extend(["--at", day.as_str()]);
+    }
     let cases: Vec<(Vec<&str>, &[&str])> = vec![
         (
             project(&["--toys", "18446744073709551615"]),
@@ -562,6 +579,12 @@ fn command_line_requests_beyond_the_limits_are_named() {
             &["--threads 10000", "1024"],
         ),
         (spectrum_nine, &["--days", "at most 8 exposures"]),
+        (many_at, &["--at", "at most 64 days"]),
+        (
+            // 40 events per live day over 20 bins for 1e18 days, with toys.
+            project(&["--toys", "3", "--at", "1e18"]),
+            &["--at 1e18", "9.007199254740992e15"],
+        ),
         (
             // 40 events per live day in 20 bins for 1e300 days.
             vec!["spectrum", SCENARIO, "--out", "out", "--days", "1e300"],

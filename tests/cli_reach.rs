@@ -1,6 +1,7 @@
 //! `runcast reach` through the binary: its three files and their schema,
 //! the same bytes for the same seed, usage errors and a scenario without a
-//! scan refused with nothing written.
+//! scan refused with nothing written; and `project --asimov-only` keeping the
+//! global significance from the asymptotic upcrossings.
 
 mod common;
 
@@ -76,7 +77,11 @@ fn reach_writes_its_files_with_the_schema() {
     let json: Value = serde_json::from_slice(&fs::read(out.join("reach.json")).unwrap()).unwrap();
     let keys =
         |value: &Value| -> Vec<String> { value.as_object().unwrap().keys().cloned().collect() };
-    assert_eq!(keys(&json), ["title", "seed", "cl", "targets", "exposures"]);
+    assert_eq!(
+        keys(&json),
+        ["provenance", "title", "seed", "cl", "targets", "exposures"]
+    );
+    assert_eq!(json["provenance"]["options"]["seed"], json["seed"]);
     let exposure = &json["exposures"][0];
     assert_eq!(
         keys(exposure),
@@ -116,7 +121,9 @@ fn reach_writes_its_files_with_the_schema() {
         2
     );
     let csv = fs::read_to_string(out.join("reach.csv")).unwrap();
-    assert_eq!(csv.lines().count(), 1 + 2 * 21);
+    // The provenance comment, the header, two rows per position.
+    assert!(csv.starts_with("# provenance: {"));
+    assert_eq!(csv.lines().count(), 2 + 2 * 21);
     let again = scratch.path.join("again");
     run("2", &again);
     for name in ["reach.csv", "reach.json", "reach.svg"] {
@@ -169,5 +176,62 @@ fn bad_reach_requests_are_refused_with_nothing_written() {
         assert!(stderr.contains(needle), "{stderr}");
         assert_eq!(stderr.lines().count(), 1, "{stderr}");
         assert!(!std::path::Path::new(out).exists());
+    }
+}
+
+/// `project --asimov-only` on a scanned scenario keeps the global results,
+/// from the asymptotic upcrossings: at every point with live time
+/// z_global_asimov = Phi^-1(1 - p_global) with p_global = p_local(Z_A²) +
+/// N(1) exp(-(Z_A² - 1)/2) (Gross and Vitells, Eur. Phys. J. C 70 (2010)
+/// 525; Phi from statrs, reference library), and global days to each target
+/// no earlier than the local ones.
+#[test]
+fn asimov_only_projection_keeps_the_asymptotic_global_significance() {
+    use statrs::distribution::{ContinuousCDF, Normal};
+    let scratch = Scratch::new("project-asymptotic-global");
+    let scenario = scratch.path.join("scan.yaml");
+    fs::write(&scenario, SCANNED).unwrap();
+    let out = scratch.path.join("out");
+    let output = runcast(&[
+        "project",
+        scenario.to_str().unwrap(),
+        "--asimov-only",
+        "--quiet",
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert!(
+        output.status.success(),
+        "{}",
+        String::from_utf8_lossy(&output.stderr)
+    );
+    let summary = String::from_utf8(output.stdout).unwrap();
+    assert!(
+        summary.contains("asymptotic (used for the global Asimov columns)"),
+        "{summary}"
+    );
+    let json: Value =
+        serde_json::from_slice(&fs::read(out.join("projection.json")).unwrap()).unwrap();
+    let normal = Normal::standard();
+    for point in json["points"].as_array().unwrap() {
+        let z = point["z_asimov"].as_f64().unwrap();
+        let measured = &point["look_elsewhere"];
+        assert_eq!(measured["toys"], 0);
+        assert!(measured["mean_upcrossings"].is_null());
+        let n = measured["mean_upcrossings_asimov"].as_f64().unwrap();
+        assert!(n > 0.0);
+        let p = (normal.sf(z) + n * (-(z * z - 1.0) / 2.0).exp()).min(1.0);
+        let expected = (-normal.inverse_cdf(p)).max(0.0);
+        let global = point["z_global_asimov"].as_f64().unwrap();
+        assert!((global - expected).abs() < 1e-9, "{global} vs {expected}");
+    }
+    for target in json["days_to_target"].as_array().unwrap() {
+        let (Some(local), Some(global)) = (
+            target["asimov_days"].as_f64(),
+            target["global_asimov_days"].as_f64(),
+        ) else {
+            continue;
+        };
+        assert!(global >= local, "{target}");
     }
 }

@@ -12,7 +12,18 @@ use std::process::Output;
 
 const DEMO: &str = "narrow_peak.yaml";
 /// Few toys; 13 and 29 are not multiples of 3.
-const PLAN: [&str; 6] = ["--toys", "13", "--calibrate", "29", "--seed", "8"];
+const PLAN: [&str; 10] = [
+    "--toys",
+    "13",
+    "--calibrate",
+    "29",
+    "--seed",
+    "8",
+    "--at",
+    "45.5",
+    "--at",
+    "20",
+];
 
 fn setup(label: &str) -> Scratch {
     let scratch = Scratch::new(label);
@@ -73,7 +84,9 @@ fn merged_shards_write_the_unsharded_files() {
     assert!(shards.iter().all(|name| name.ends_with(".runcast-shard")));
 
     let merged_stdout = succeeded(scratch.run(&["merge", "sharded"]));
-    for name in sorted_names(&scratch.path.join("single")) {
+    let names = sorted_names(&scratch.path.join("single"));
+    assert!(names.contains(&"at.csv".to_string()), "{names:?}");
+    for name in names {
         let single = fs::read(scratch.path.join("single").join(&name)).unwrap();
         let merged = fs::read(scratch.path.join("sharded").join(&name)).unwrap();
         assert!(single == merged, "{name} differs");
@@ -157,7 +170,7 @@ fn slurm_writes_both_scripts_once_and_prints_how_to_submit() {
         "#SBATCH --cpus-per-task=2\n",
         "--shard \"$SLURM_ARRAY_TASK_ID/5\"",
         "--threads \"${SLURM_CPUS_PER_TASK:-1}\"",
-        "--seed 8 --toys 13 --calibrate 29",
+        "--seed 8 --toys 13 --calibrate 29 --at 20 --at 45.5\n",
         env!("CARGO_BIN_EXE_runcast"),
     ] {
         assert!(array.contains(expected), "{expected} not in\n{array}");

@@ -64,7 +64,7 @@ const SHAPES: [&str; 7] = [
 ];
 
 /// Keys of `projection.json` that may hold null (see `src/projection/result.rs`).
-const NULLABLE: [&str; 16] = [
+const NULLABLE: [&str; 25] = [
     "cl",
     "z_median",
     "z_band",
@@ -81,6 +81,15 @@ const NULLABLE: [&str; 16] = [
     "p50_days",
     "p90_days",
     "saturation_z",
+    "z_global_asimov",
+    "z_global_median",
+    "look_elsewhere",
+    "global_asimov_days",
+    "global_median_days",
+    "mean_upcrossings",
+    "mean_upcrossings_error",
+    "direct_global_p",
+    "trials_factor",
 ];
 
 /// SplitMix64 (Steele, Lea and Flood, OOPSLA 2014): a small seeded generator.

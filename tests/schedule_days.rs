@@ -36,6 +36,7 @@ fn run(model: &Model, days: &[f64]) -> Projection {
     let settings = ProjectionSettings {
         title: "schedule".to_string(),
         days: days.to_vec(),
+        at_days: Vec::new(),
         toys: TOYS,
         seed: 20261202,
         targets: vec![3.0],
@@ -227,6 +228,7 @@ fn demo_with_one_grid_point_agrees_with_asimov(periods: &[Period], day: f64) -> 
     let settings = ProjectionSettings {
         title: scenario.title.clone(),
         days: vec![day],
+        at_days: Vec::new(),
         toys: TOYS,
         seed: scenario.plan.seed,
         targets: vec![3.0],

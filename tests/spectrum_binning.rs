@@ -54,10 +54,12 @@ fn fails_writing_nothing(arguments: &[&str], out: &Path, expected: &str) {
     assert!(!out.exists(), "{arguments:?} wrote {}", out.display());
 }
 
+/// The rows of a CSV file, without its provenance comment line.
 fn csv_rows(path: &Path) -> Vec<Vec<String>> {
     fs::read_to_string(path)
         .unwrap()
         .lines()
+        .filter(|line| !line.starts_with('#'))
         .map(|line| line.split(',').map(str::to_string).collect())
         .collect()
 }
@@ -253,11 +255,17 @@ fn binning_json_follows_its_schema_and_recommendation() {
             "best_window",
             "bin_widths",
             "days",
+            "provenance",
             "recommended_bin_width",
             "windows"
         ]
     );
     assert_eq!(json["days"], 100.0);
+    assert_eq!(json["provenance"]["options"]["days"], 100.0);
+    assert_eq!(
+        json["provenance"]["scenarios"][0]["file"],
+        "narrow_peak.yaml"
+    );
 
     let number = |value: &serde_json::Value| value.as_f64().unwrap();
     let widths: Vec<(f64, f64)> = json["bin_widths"]

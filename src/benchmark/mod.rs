@@ -4,15 +4,20 @@
 //! of every bin (and of the global observable), the fit with mu free, the fit
 //! with mu = 0 and q0. The benchmark times toys on one and on two threads,
 //! times the draws alone, measures peak memory in child processes, times an
-//! Asimov-only projection as a whole process, and (in a full run) a
-//! background-only ensemble of ten million toys.
+//! Asimov-only projection as a whole process, (in a full run) a
+//! background-only ensemble of ten million toys, and the background-only
+//! scans of the look-elsewhere effect (`scan.rs`), alone with `--scan`.
 
 mod memory;
 pub mod models;
+mod scan;
 mod table;
 
 pub use memory::{MemoryProbe, PROBE_FLAG, parse_probe, peak_resident_bytes, probe_in_process};
-pub use table::render;
+pub use scan::{
+    SCAN_PROBE_FLAG, ScanBenchmark, ScanMemoryProbe, parse_scan_probe, probe_scan_in_process,
+};
+pub use table::{render, render_scan};
 
 use crate::ensemble::{
     EnsemblePlan, Generator, background_only_q0_ensemble, discovery_ensemble, toy_stream,
@@ -171,6 +176,13 @@ pub struct BenchmarkReport {
     pub memory: Vec<MemoryProbe>,
     /// Background-only ensemble of the 200-bin model on two threads, with its failed fits.
     pub background_only: Option<(Timing, usize)>,
+    /// Background-only scans over the signal positions (look-elsewhere effect).
+    pub scan: ScanBenchmark,
+}
+
+/// Runs only the look-elsewhere rows (`runcast bench --scan`).
+pub fn run_scan(length: Length, step: &dyn Fn(&str)) -> Result<ScanBenchmark, BenchmarkError> {
+    scan::run_scan(length, &pool(2)?, step)
 }
 
 /// Runs the benchmark, telling `step` what it is about to measure. Each
@@ -216,6 +228,7 @@ pub fn run(length: Length, step: &dyn Fn(&str)) -> Result<BenchmarkReport, Bench
         }
         None => None,
     };
+    let scan = scan::run_scan(length, &two, step)?;
     Ok(BenchmarkReport {
         length,
         models: results,
@@ -223,6 +236,7 @@ pub fn run(length: Length, step: &dyn Fn(&str)) -> Result<BenchmarkReport, Bench
         asimov_process_seconds,
         memory,
         background_only,
+        scan,
     })
 }
 

@@ -1,6 +1,6 @@
 //! The benchmark report as a plain-text table.
 
-use super::{BenchmarkReport, Length, ModelResult};
+use super::{BenchmarkReport, Length, ModelResult, ScanBenchmark};
 use std::fmt::Write;
 
 /// The report, ready to print.
@@ -91,6 +91,37 @@ pub fn render(report: &BenchmarkReport) -> String {
             timing.per_second()
         );
     }
+    text.push('\n');
+    text.push_str(&render_scan(&report.scan));
+    text
+}
+
+/// The look-elsewhere rows: the scan rate and the peak memory of scans.
+pub fn render_scan(scan: &ScanBenchmark) -> String {
+    let mut text = String::new();
+    let timing = scan.two_threads;
+    let fits = timing.toys * (scan.positions + 1);
+    let _ = writeln!(
+        text,
+        "background-only scans (look-elsewhere), 200 bins, {} positions, 2 threads: \
+         {} toys in {:.2} s, {:.0} toys/s ({:.0} fits/s), failed fits {}",
+        scan.positions,
+        timing.toys,
+        timing.seconds,
+        timing.per_second(),
+        fits as f64 / timing.seconds,
+        scan.failed_fits
+    );
+    let _ = writeln!(text, "peak resident memory of scans (child process):");
+    for probe in &scan.memory {
+        let _ = writeln!(
+            text,
+            "  {:>5} positions x {:>6} toys: {:>7.1} MB",
+            probe.positions,
+            probe.toys,
+            probe.peak_bytes as f64 / 1e6
+        );
+    }
     text
 }
 
@@ -119,7 +150,7 @@ fn model_row(model: &ModelResult) -> String {
 
 #[cfg(test)]
 mod tests {
-    use super::super::{MemoryProbe, Timing};
+    use super::super::{MemoryProbe, ScanMemoryProbe, Timing};
     use super::*;
 
     #[test]
@@ -143,6 +174,16 @@ mod tests {
                 peak_bytes: 12_500_000,
             }],
             background_only: None,
+            scan: ScanBenchmark {
+                positions: 100,
+                two_threads: timing(1000, 0.4),
+                failed_fits: 0,
+                memory: vec![ScanMemoryProbe {
+                    positions: 1000,
+                    toys: 100,
+                    peak_bytes: 7_200_000,
+                }],
+            },
         };
         let text = render(&report);
         // 1000 toys in 0.02 s is 50000/s; in 0.01 s 100000/s, a factor 2.00;
@@ -162,5 +203,14 @@ mod tests {
             model_row(&two_channels)
         );
         assert!(text.contains("12.5 MB"), "{text}");
+        // 1000 scans in 0.4 s: 2500/s, each 101 fits, 252500 fits/s.
+        assert!(
+            text.contains("1000 toys in 0.40 s, 2500 toys/s (252500 fits/s)"),
+            "{text}"
+        );
+        assert!(
+            text.contains(" 1000 positions x    100 toys:     7.2 MB"),
+            "{text}"
+        );
     }
 }

@@ -5,7 +5,7 @@ use super::print_warnings;
 use super::project::{self, removed_lines};
 use crate::cli::{CompareArgs, PlanArgs, ProjectArgs};
 use crate::error::Error;
-use crate::options::{Loaded, ProjectOptions, figure_formats};
+use crate::options::{Loaded, ProjectOptions, comparison_provenance, figure_formats};
 use crate::stdout;
 use runcast::report::{self, ComparedPlan, Comparison};
 use std::path::{Path, PathBuf};
@@ -47,7 +47,7 @@ pub fn run(args: &CompareArgs) -> Result<(), Error> {
         });
     }
     let comparison = Comparison { plans };
-    let reports = report::render_comparison(&comparison)?;
+    let reports = report::render_comparison(&comparison, &comparison_provenance(&options))?;
     let written = report::write_all(&out, reports, &report::COMPARE_FILES, &formats)?;
     stdout::print(&report::comparison_table(&comparison))?;
     stdout::print(&format!("wrote {}\n", out.display()))?;
@@ -64,6 +64,7 @@ fn project_args(args: &CompareArgs, plan: &Path) -> ProjectArgs {
             asimov_only: args.asimov_only,
             no_limits: args.no_limits,
             calibrate: None,
+            at: Vec::new(),
             lee_toys: None,
         },
         out: None,

@@ -15,7 +15,7 @@ use std::path::Path;
 pub fn run(directory: &Path, figures: &FigureArgs) -> Result<(), Error> {
     let formats = figure_formats(figures)?;
     let (run, projection) = merge_shards(directory)?;
-    let reports = report::render_all(&projection)?;
+    let reports = report::render_all(&projection, &run.provenance())?;
     let written = report::write_all(directory, reports, &report::PROJECTION_FILES, &formats)?;
     stdout::print(&format!(
         "merged the shards of {} (seed {})\n",

@@ -17,7 +17,7 @@ pub fn run(args: &ProjectArgs) -> Result<(), Error> {
         return run_shard(&options, shard);
     }
     let projection = projection(&options)?;
-    let reports = report::render_all(&projection)?;
+    let reports = report::render_all(&projection, &options.provenance())?;
     let written = report::write_all(
         &options.out,
         reports,

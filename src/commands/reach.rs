@@ -30,7 +30,7 @@ pub fn run(args: &ReachArgs) -> Result<(), Error> {
         path: options.loaded.path.clone(),
         source,
     })?;
-    let reports = report::render_reach(&reach)?;
+    let reports = report::render_reach(&reach, &options.provenance())?;
     let written = report::write_all(
         &options.out,
         reports,

@@ -108,6 +108,8 @@ fn array_script(options: &SlurmOptions) -> String {
     if settings.cl.is_none() {
         plan.push("--no-limits".into());
     }
+    // Display of an f64 is the shortest decimal that reads back to it.
+    plan.extend(settings.at_days.iter().map(|day| format!("--at {day}")));
     text.push_str(&format!(
         "\n# Task K runs shard K of {tasks}; rerunning a task writes the same shard file.\n\
          exec {runcast} project {scenario} \\\n    --shard \"$SLURM_ARRAY_TASK_ID/{tasks}\" \

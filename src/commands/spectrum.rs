@@ -23,7 +23,7 @@ pub fn run(args: &SpectrumArgs) -> Result<(), Error> {
             )));
         }
     }
-    let reports = report::render_spectrum(&spectrum)?;
+    let reports = report::render_spectrum(&spectrum, &options.provenance())?;
     // Other spectra in the directory are other exposures: nothing is stale.
     let written = report::write_all(&options.out, reports, &[], &options.formats)?;
     stdout::print(&report::spectrum_summary(&spectrum))?;

@@ -72,36 +72,93 @@ impl UpcrossingCount {
     }
 }
 
-/// Fits datasets with the signal at every position of a scan, with one
-/// fitter whose workspace the signal is moved in
-/// ([`Likelihood::place_signal`]).
+/// Most numbers of a table of signal bin fractions (positions x bins) kept
+/// for a scan: 2^22, 32 MiB. Beyond it each fit computes its placement.
+const MAX_TABLE_ENTRIES: usize = 1 << 22;
+
+/// Where the signal sits at each position of a scan, made once per
+/// ensemble and shared by its workers: the signal's bin fractions at every
+/// position (a table of positions x bins, at most [`MAX_TABLE_ENTRIES`]),
+/// or, for larger scans, the shape parameters from which each fit computes
+/// them. Both give the same fractions bit for bit.
 #[derive(Debug)]
-pub struct PositionScan<'l, 'm> {
+pub enum ScanPlacements {
+    Table { fractions: Vec<f64>, row: usize },
+    Parameters { values: Vec<f64>, row: usize },
+}
+
+impl ScanPlacements {
+    pub fn new(likelihood: &Likelihood, scan: &SignalScan) -> ScanPlacements {
+        let parameters: Vec<Vec<f64>> = scan
+            .positions()
+            .map(|position| scan.shape_parameters_at(position))
+            .collect();
+        let bins = likelihood.signal_bins();
+        if bins * scan.len() <= MAX_TABLE_ENTRIES {
+            let mut fractions = vec![0.0; bins * scan.len()];
+            for (row, placement) in fractions.chunks_exact_mut(bins).zip(&parameters) {
+                likelihood.signal_fractions(placement, row);
+            }
+            ScanPlacements::Table {
+                fractions,
+                row: bins,
+            }
+        } else {
+            ScanPlacements::Parameters {
+                row: parameters.first().map_or(0, Vec::len),
+                values: parameters.concat(),
+            }
+        }
+    }
+
+    /// Moves the signal in the fitter's workspace to each position in turn,
+    /// calling `fit` there.
+    fn for_each<E>(
+        &self,
+        likelihood: &Likelihood,
+        fitter: &mut Fitter,
+        mut fit: impl FnMut(&mut Fitter) -> Result<(), E>,
+    ) -> Result<(), E> {
+        let (values, row, table) = match self {
+            ScanPlacements::Table { fractions, row } => (fractions, *row, true),
+            ScanPlacements::Parameters { values, row } => (values, *row, false),
+        };
+        for placement in values.chunks_exact(row) {
+            if table {
+                likelihood.set_signal_fractions(placement, fitter.workspace());
+            } else {
+                likelihood.place_signal(placement, fitter.workspace());
+            }
+            fit(fitter)?;
+        }
+        Ok(())
+    }
+}
+
+/// Fits datasets with the signal at every position of a scan, with one
+/// fitter whose workspace the signal is moved in.
+#[derive(Debug)]
+pub struct PositionScan<'l, 'm, 'p> {
     likelihood: &'l Likelihood<'m>,
     fitter: Fitter<'l, 'm>,
-    /// The signal shape's parameters at each position, one row per position.
-    placements: Vec<f64>,
-    parameters_per_position: usize,
+    placements: &'p ScanPlacements,
     /// Nominal parameters with mu = 0: the start of the background-only fit.
     background_only: Vec<f64>,
     null_parameters: Vec<f64>,
     start: Vec<f64>,
 }
 
-impl<'l, 'm> PositionScan<'l, 'm> {
-    pub fn new(likelihood: &'l Likelihood<'m>, scan: &SignalScan) -> PositionScan<'l, 'm> {
-        let rows: Vec<Vec<f64>> = scan
-            .positions()
-            .map(|position| scan.shape_parameters_at(position))
-            .collect();
-        let parameters_per_position = rows.first().map_or(0, Vec::len);
+impl<'l, 'm, 'p> PositionScan<'l, 'm, 'p> {
+    pub fn new(
+        likelihood: &'l Likelihood<'m>,
+        placements: &'p ScanPlacements,
+    ) -> PositionScan<'l, 'm, 'p> {
         let mut background_only = likelihood.model().nominal_parameters();
         background_only[SIGNAL_STRENGTH] = 0.0;
         PositionScan {
             likelihood,
             fitter: Fitter::new(likelihood),
-            placements: rows.concat(),
-            parameters_per_position,
+            placements,
             null_parameters: background_only.clone(),
             start: background_only.clone(),
             background_only,
@@ -129,20 +186,18 @@ impl<'l, 'm> PositionScan<'l, 'm> {
         self.null_parameters
             .copy_from_slice(self.fitter.parameters());
         self.start.copy_from_slice(&self.null_parameters);
-        for placement in self.placements.chunks_exact(self.parameters_per_position) {
-            self.likelihood
-                .place_signal(placement, self.fitter.workspace());
-            let mut free_nll = self.fitter.minimise(live_days, data, None, &self.start)?;
-            if free_nll > null_nll {
-                free_nll = self
-                    .fitter
-                    .minimise(live_days, data, None, &self.null_parameters)?;
-            }
-            let fitted_mu = self.fitter.parameters()[SIGNAL_STRENGTH];
-            visit(q0_from_fits(null_nll, free_nll, fitted_mu));
-            self.start.copy_from_slice(self.fitter.parameters());
-        }
-        Ok(())
+        let (start, null_parameters) = (&mut self.start, &self.null_parameters);
+        self.placements
+            .for_each(self.likelihood, &mut self.fitter, |fitter| {
+                let mut free_nll = fitter.minimise(live_days, data, None, start)?;
+                if free_nll > null_nll {
+                    free_nll = fitter.minimise(live_days, data, None, null_parameters)?;
+                }
+                let fitted_mu = fitter.parameters()[SIGNAL_STRENGTH];
+                visit(q0_from_fits(null_nll, free_nll, fitted_mu));
+                start.copy_from_slice(fitter.parameters());
+                Ok(())
+            })
     }
 }
 
@@ -161,11 +216,12 @@ pub fn look_elsewhere_ensemble(
     let mut background_only = likelihood.model().nominal_parameters();
     background_only[SIGNAL_STRENGTH] = 0.0;
     let generator = Generator::new(likelihood, &background_only, live_days);
+    let placements = ScanPlacements::new(likelihood, scan);
     run_ensemble(
         &generator,
         Family::LookElsewhere.stream_index(exposure_index),
         plan,
-        || PositionScan::new(likelihood, scan),
+        || PositionScan::new(likelihood, &placements),
         |positions, data| {
             let mut count = UpcrossingCount::new(reference_level);
             positions

@@ -267,6 +267,45 @@ impl<'m> Likelihood<'m> {
         }
     }
 
+    /// Bins of all signal terms together: the length of a row of
+    /// [`Likelihood::signal_fractions`].
+    pub fn signal_bins(&self) -> usize {
+        self.terms
+            .iter()
+            .filter(|term| term.is_signal && term.floating.is_none())
+            .map(|term| term.bins)
+            .sum()
+    }
+
+    /// The bin fractions [`Likelihood::place_signal`] would give the signal
+    /// terms at `shape_parameters`, written into `row` (term after term), so
+    /// that they can be computed once and set many times.
+    pub fn signal_fractions(&self, shape_parameters: &[f64], row: &mut [f64]) {
+        let mut offset = 0;
+        for term in &self.terms {
+            if term.is_signal && term.floating.is_none() {
+                let fractions = &mut row[offset..offset + term.bins];
+                term.shape
+                    .bin_fractions(shape_parameters, term.edges, fractions);
+                raise_underflow(fractions);
+                offset += term.bins;
+            }
+        }
+    }
+
+    /// Sets the signal terms' fractions in `work` to a row made by
+    /// [`Likelihood::signal_fractions`]: the same as `place_signal` at its
+    /// parameters, bit for bit.
+    pub fn set_signal_fractions(&self, row: &[f64], work: &mut Workspace) {
+        let mut offset = 0;
+        for (term, fractions) in self.terms.iter().zip(&mut work.fractions) {
+            if term.is_signal && term.floating.is_none() {
+                fractions.copy_from_slice(&row[offset..offset + term.bins]);
+                offset += term.bins;
+            }
+        }
+    }
+
     /// Recomputes the fractions of floating shapes (and their gradients when
     /// asked), unless they are already at these shape parameters: every fit
     /// starts at the same nominal shape.

@@ -15,8 +15,8 @@ pub use ensembles::{
 };
 pub use point::BAND_QUANTILES;
 pub use result::{
-    Calibration, ChannelPoint, DaysToExclusion, DaysToTarget, ExposurePoint, GlobalDays,
-    GlobalSignificance, LookElsewhere, Projection, ScanSummary, TargetProbability,
+    AtDay, Calibration, ChannelPoint, DaysToExclusion, DaysToTarget, EventLimits, ExposurePoint,
+    GlobalDays, GlobalSignificance, LookElsewhere, Projection, ScanSummary, TargetProbability,
 };
 pub use shard::{ShardError, ShardRun, ShardSpec, merge_shards, run_shard};
 
@@ -33,6 +33,9 @@ pub struct ProjectionSettings {
     pub title: String,
     /// Calendar days of the grid, increasing.
     pub days: Vec<f64>,
+    /// Calendar days asked for with `--at`, increasing, none repeated: each
+    /// a point of its own (its own pseudo-experiments), never interpolated.
+    pub at_days: Vec<f64>,
     /// Pseudo-experiments per point and hypothesis; 0 for an Asimov-only projection.
     pub toys: usize,
     pub seed: u64,
@@ -49,7 +52,7 @@ pub struct ProjectionSettings {
 }
 
 impl ProjectionSettings {
-    /// Pseudo-experiments run at each grid point.
+    /// Pseudo-experiments run at each grid point and `--at` day.
     pub fn toys_per_point(&self) -> usize {
         self.toys * (1 + usize::from(self.cl.is_some()))
             + self.calibration_toys
@@ -68,7 +71,7 @@ impl ProjectionSettings {
         let look_elsewhere_toys = shard.toys(self.look_elsewhere_toys).len();
         let per_point =
             toys * (1 + usize::from(self.cl.is_some())) + calibration_toys + look_elsewhere_toys;
-        (per_point * self.days.len()) as u64
+        (per_point * (self.days.len() + self.at_days.len())) as u64
     }
 }
 
@@ -125,7 +128,7 @@ pub fn project_from<S: ToySource>(
     let channel_likelihoods: Vec<Likelihood> = channel_models.iter().map(Likelihood::new).collect();
     let mut channels: Vec<ChannelAlone> =
         channel_likelihoods.iter().map(ChannelAlone::new).collect();
-    let points = points(&likelihood, &mut asimov, &mut channels, settings, source)?;
+    let (points, at_points) = points(&likelihood, &mut asimov, &mut channels, settings, source)?;
     let days_to_target = days::days_to_targets(
         model,
         &mut asimov,
@@ -146,6 +149,10 @@ pub fn project_from<S: ToySource>(
         targets: settings.targets.clone(),
         cl: settings.cl,
         calibration_toys: settings.calibration_toys,
+        at: at_points
+            .into_iter()
+            .map(|point| AtDay::new(point, model.nominal_rates().0))
+            .collect(),
         scan: settings
             .scan
             .as_ref()
@@ -166,19 +173,31 @@ fn channels_alone(model: &Model) -> Vec<Model> {
     }
 }
 
-/// The exposure point at every grid day, in grid order.
+/// The first exposure index of the `--at` days: the point at `--at` day j
+/// (in increasing order) keys its random streams with `AT_EXPOSURE_INDEX + j`,
+/// far above any grid index ([`MAX_GRID_POINTS`](crate::scenario::limits::MAX_GRID_POINTS)),
+/// so asking for a day changes no number of the grid, and the grid changes
+/// no number of that day.
+pub const AT_EXPOSURE_INDEX: usize = 1 << 31;
+
+/// The exposure point at every grid day, in grid order, then at every
+/// `--at` day, in increasing order: the order in which pseudo-experiments
+/// run, are written to shards and are merged.
 fn points<S: ToySource>(
     likelihood: &Likelihood,
     asimov: &mut AsimovSignificance,
     channels: &mut [ChannelAlone],
     settings: &ProjectionSettings,
     source: &mut S,
-) -> Result<Vec<ExposurePoint>, S::Error> {
+) -> Result<(Vec<ExposurePoint>, Vec<ExposurePoint>), S::Error> {
     let runner = point::PointRunner::new(likelihood, settings);
-    settings
-        .days
-        .iter()
-        .enumerate()
-        .map(|(index, &days)| runner.point(asimov, channels, index, days, source))
-        .collect()
+    let mut run = |first_index: usize, days: &[f64]| {
+        days.iter()
+            .enumerate()
+            .map(|(index, &days)| runner.point(asimov, channels, first_index + index, days, source))
+            .collect::<Result<Vec<_>, _>>()
+    };
+    let grid = run(0, &settings.days)?;
+    let at = run(AT_EXPOSURE_INDEX, &settings.at_days)?;
+    Ok((grid, at))
 }

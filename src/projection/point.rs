@@ -18,6 +18,7 @@ use crate::limits::{AsymptoticLimits, asymptotic_limits};
 use crate::look_elsewhere::{
     REFERENCE_LEVEL, global_significance, mean_upcrossings, trials_factor,
 };
+use crate::upcrossings::scan_geometry_of;
 
 /// The quantiles reported as bands: the normal-distribution probabilities of
 /// -2, -1, +1 and +2 sigma (common practice).
@@ -150,8 +151,17 @@ impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
         point.calibration = outcomes
             .calibration
             .map(|count| calibration(count, z_asimov));
-        if settings.scan.is_some() {
-            point.global = Some(global(z_asimov, point.z_median, outcomes.look_elsewhere));
+        if let Some(scan) = &settings.scan {
+            // A degenerate geometry leaves N(u0) to the toys (see `GlobalSignificance`).
+            let asymptotic = scan_geometry_of(self.likelihood, scan, live_days)
+                .ok()
+                .map(|geometry| geometry.reference_upcrossings());
+            point.global = Some(global(
+                z_asimov,
+                point.z_median,
+                outcomes.look_elsewhere,
+                asymptotic,
+            ));
         }
         Ok(point)
     }
@@ -169,7 +179,7 @@ impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
             .map(|channel| channel.point(0.0).expect("no fit without live time"))
             .collect();
         if self.settings.scan.is_some() {
-            point.global = Some(global(0.0, None, None));
+            point.global = Some(global(0.0, None, None, None));
         }
         point
     }
@@ -218,48 +228,51 @@ impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
     }
 }
 
-/// The global significances of a point from its background-only scans:
-/// N(u0) = upcrossings per converged scan into the global p-value of Gross
-/// and Vitells (see [`crate::look_elsewhere`]), for Z_A and the toy median;
-/// the direct fraction of scans whose largest q0 reaches Z_A^2 beside it.
-/// Nothing is converted without a converged scan.
+/// The global significances of a point: N(u0) from the Asimov geometry
+/// (`asymptotic`) and from the background-only scans (upcrossings per
+/// converged scan), each into the global p-value of Gross and Vitells (see
+/// [`crate::look_elsewhere`]): Z_A with the asymptotic N (the toys' where the
+/// geometry gave none), the toy median with the toys' N; the direct fraction
+/// of scans whose largest q0 reaches Z_A^2 beside them.
 fn global(
     z_asimov: f64,
     z_median: Option<f64>,
     count: Option<LookElsewhereCount>,
+    asymptotic: Option<f64>,
 ) -> GlobalSignificance {
-    let measured = count.map(|count| {
-        let (mean, error) = match count.converged {
-            0 => (None, None),
-            scans => {
-                let (mean, error) =
-                    mean_upcrossings(count.upcrossings, count.upcrossings_squared, scans);
-                (Some(mean), error)
-            }
-        };
-        LookElsewhere {
-            reference_level: REFERENCE_LEVEL,
-            mean_upcrossings: mean,
-            mean_upcrossings_error: error,
-            toys: count.converged,
-            failed_fits: count.failed_fits,
-            direct_global_p: (count.exceeding > 0)
-                .then(|| count.exceeding as f64 / count.converged as f64),
-            trials_factor: mean
-                .map(|mean| trials_factor(z_asimov, REFERENCE_LEVEL, mean))
-                .filter(|factor| factor.is_finite()),
-        }
+    let toy_upcrossings = count.as_ref().and_then(|count| match count.converged {
+        0 => None,
+        scans => Some(mean_upcrossings(
+            count.upcrossings,
+            count.upcrossings_squared,
+            scans,
+        )),
     });
-    let upcrossings = measured.as_ref().and_then(|m| m.mean_upcrossings);
+    let toy_mean = toy_upcrossings.map(|(mean, _)| mean);
+    let asimov_upcrossings = asymptotic.or(toy_mean);
+    let measured = (count.is_some() || asymptotic.is_some()).then(|| LookElsewhere {
+        reference_level: REFERENCE_LEVEL,
+        mean_upcrossings: toy_mean,
+        mean_upcrossings_error: toy_upcrossings.and_then(|(_, error)| error),
+        toys: count.map_or(0, |count| count.converged),
+        failed_fits: count.map_or(0, |count| count.failed_fits),
+        direct_global_p: count
+            .filter(|count| count.exceeding > 0)
+            .map(|count| count.exceeding as f64 / count.converged as f64),
+        trials_factor: asimov_upcrossings
+            .map(|mean| trials_factor(z_asimov, REFERENCE_LEVEL, mean))
+            .filter(|factor| factor.is_finite()),
+        mean_upcrossings_asimov: asymptotic,
+    });
     // Beyond about 37 sigma both p-values underflow to 0: no global Z there.
-    let convert = |z: f64| {
+    let convert = |z: f64, upcrossings: Option<f64>| {
         upcrossings
             .map(|n| global_significance(z, REFERENCE_LEVEL, n))
             .filter(|z| z.is_finite())
     };
     GlobalSignificance {
-        z_global_asimov: convert(z_asimov),
-        z_global_median: z_median.and_then(convert),
+        z_global_asimov: convert(z_asimov, asimov_upcrossings),
+        z_global_median: z_median.and_then(|z| convert(z, toy_mean)),
         look_elsewhere: measured,
     }
 }

@@ -33,6 +33,69 @@ pub struct Projection {
     pub points: Vec<ExposurePoint>,
     pub days_to_target: Vec<DaysToTarget>,
     pub days_to_exclusion: DaysToExclusion,
+    /// The days asked for with `--at`, each computed there (empty without).
+    pub at: Vec<AtDay>,
+}
+
+/// Everything known at one day asked for with `--at`: the exposure point
+/// computed at that day with its own pseudo-experiments, and its expected
+/// limits as signal rates and counts beside the limits on mu (the ratio to
+/// the nominal signal).
+#[derive(Debug, Clone, Serialize)]
+pub struct AtDay {
+    #[serde(flatten)]
+    pub point: ExposurePoint,
+    /// Expected signal events per live day at the nominal signal strength
+    /// (mu = 1), over the whole range: a limit on mu times this is a limit
+    /// on the signal rate.
+    pub signal_per_live_day: f64,
+    /// The expected limits in signal events per live day: mu_up × `signal_per_live_day`.
+    pub limit_events_per_live_day: EventLimits,
+    /// The expected limits in signal events over the run up to this day:
+    /// mu_up × `signal` (the nominal signal expected in the live days).
+    pub limit_events: EventLimits,
+}
+
+impl AtDay {
+    /// The point at an `--at` day, with `signal_per_live_day` nominal signal
+    /// events per live day.
+    pub fn new(point: ExposurePoint, signal_per_live_day: f64) -> AtDay {
+        AtDay {
+            limit_events_per_live_day: EventLimits::scaled(&point, signal_per_live_day),
+            limit_events: EventLimits::scaled(&point, point.signal),
+            point,
+            signal_per_live_day,
+        }
+    }
+}
+
+/// Expected upper limits of one point in another unit than mu: the limit
+/// is proportional to the signal yield, so each is mu_up times the yield
+/// of the nominal signal in that unit.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct EventLimits {
+    /// From the median of the pseudo-experiment limits.
+    pub median: Option<f64>,
+    /// Quantiles 2.3%, 15.9%, 84.1%, 97.7% of the pseudo-experiment limits.
+    pub band: Option<[f64; 4]>,
+    /// From the asymptotic formulae.
+    pub asimov: Option<f64>,
+    /// The asymptotic limits at -2, -1, +1, +2 sigma.
+    pub asimov_band: Option<[f64; 4]>,
+}
+
+impl EventLimits {
+    /// The limits on mu of `point` times `nominal`, the nominal signal in the new unit.
+    pub fn scaled(point: &ExposurePoint, nominal: f64) -> EventLimits {
+        let value = |mu: Option<f64>| mu.map(|mu| mu * nominal);
+        let band = |band: Option<[f64; 4]>| band.map(|band| band.map(|mu| mu * nominal));
+        EventLimits {
+            median: value(point.limit_median),
+            band: band(point.limit_band),
+            asimov: value(point.limit_asimov),
+            asimov_band: band(point.limit_asimov_band),
+        }
+    }
 }
 
 /// Everything known at one calendar day of the grid.
@@ -115,9 +178,11 @@ impl ScanSummary {
 }
 
 /// Significances at one point after the look-elsewhere effect, by the global
-/// p-value of Gross and Vitells (Eur. Phys. J. C 70 (2010) 525) with N(u0)
-/// from `look_elsewhere`; each None where it was not measured (no live time,
-/// no look-elsewhere or discovery toys, no converged scan).
+/// p-value of Gross and Vitells (Eur. Phys. J. C 70 (2010) 525): for Z_A
+/// with the asymptotic N(u0) of the Asimov geometry (the toys' N(u0) where
+/// that geometry is degenerate), for the toy median with the toys' N(u0);
+/// each None where it was not measured (no live time, no discovery toys, no
+/// converged scan).
 #[derive(Debug, Clone, Serialize)]
 pub struct GlobalSignificance {
     /// The global significance of the Asimov local Z_A.
@@ -127,7 +192,9 @@ pub struct GlobalSignificance {
     pub look_elsewhere: Option<LookElsewhere>,
 }
 
-/// What the background-only scans at one point measured.
+/// What the background-only scans at one point measured, and N(u0) from the
+/// Asimov geometry beside it; with a scan and live time always present (the
+/// toy values None and `toys` 0 without scans).
 #[derive(Debug, Clone, Serialize)]
 pub struct LookElsewhere {
     /// The level u0 of q0 whose upcrossings are counted.
@@ -144,8 +211,13 @@ pub struct LookElsewhere {
     /// Fraction of the scans whose largest q0 reaches the Asimov local q0;
     /// None when none does (the toys do not resolve it).
     pub direct_global_p: Option<f64>,
-    /// p_global / p_local at the Asimov local significance; None without N(u0).
+    /// p_global / p_local at the Asimov local significance, with the
+    /// asymptotic N(u0) (the toys' without it); None without either.
     pub trials_factor: Option<f64>,
+    /// N(u0) from the Asimov geometry of the scan (`upcrossings`), without
+    /// toys; None where that geometry is degenerate (the nuisance parameters
+    /// absorb the signal at some position).
+    pub mean_upcrossings_asimov: Option<f64>,
 }
 
 /// One channel of a scenario with several, at one exposure point.

@@ -17,11 +17,12 @@
 use crate::ensemble::{EnsembleOutcome, EnsemblePlan};
 use crate::likelihood::{DiscoveryTest, FitFailure, Likelihood};
 use crate::limits::{asymptotic_limits, toy_limit_ensemble};
+use crate::look_elsewhere::REFERENCE_LEVEL;
 use crate::model::{Model, SIGNAL_STRENGTH};
 use crate::numeric::{Crossing, solve_increasing};
 use crate::projection::{BAND_QUANTILES, quantile};
 use crate::scenario::{Scenario, SignalScan};
-use crate::upcrossings::{ScanGeometry, UpcrossingError, scan_geometry, scan_path};
+use crate::upcrossings::{ScanGeometry, UpcrossingError, scan_geometry_of};
 use rayon::prelude::*;
 use std::fmt;
 
@@ -86,11 +87,6 @@ pub struct PositionReach {
     /// The rate where the median global significance reaches each target.
     pub discovery_rate_global: Vec<Option<f64>>,
 }
-
-/// The level of q0 at which the mean number of upcrossings is reported: 1,
-/// low enough that many upcrossings happen, as Gross and Vitells (2010)
-/// advise for the reference level.
-pub const REFERENCE_LEVEL: f64 = 1.0;
 
 /// An asymptotic fit or the scan geometry failed: the reach cannot be trusted.
 #[derive(Debug, Clone, PartialEq)]
@@ -181,7 +177,7 @@ pub fn reach(
             Ok(ExposureReach {
                 days,
                 live_days,
-                mean_upcrossings_asimov: geometry.mean_upcrossings_of_q0(REFERENCE_LEVEL),
+                mean_upcrossings_asimov: geometry.reference_upcrossings(),
                 reference_level: REFERENCE_LEVEL,
                 global_local_targets,
                 positions,
@@ -213,14 +209,8 @@ pub fn geometry_at(
     scan: &SignalScan,
     live_days: f64,
 ) -> Result<ScanGeometry, ReachError> {
-    let geometry_error = |failure| ReachError::Geometry { live_days, failure };
-    let signal = model.channels[0]
-        .components
-        .iter()
-        .find(|component| component.is_signal)
-        .expect("every model has a signal");
-    let path = scan_path(scan, signal.shape.as_ref()).map_err(geometry_error)?;
-    scan_geometry(&Likelihood::new(model), &path, live_days).map_err(geometry_error)
+    scan_geometry_of(&Likelihood::new(model), scan, live_days)
+        .map_err(|failure| ReachError::Geometry { live_days, failure })
 }
 
 /// Everything at one position and exposure.

@@ -37,13 +37,15 @@ pub use compare::{
 pub use convert::{DEFAULT_DPI, DPI_RANGE, FigureFormat, FigureFormats};
 pub use error::ReportError;
 pub use projection::{
-    LIMITS_SVG, PROBABILITY_SVG, PROJECTION_CSV, PROJECTION_FILES, PROJECTION_JSON, PROJECTION_SVG,
-    render_all, summary,
+    AT_CSV, LIMITS_SVG, PROBABILITY_SVG, PROJECTION_CSV, PROJECTION_FILES, PROJECTION_JSON,
+    PROJECTION_SVG, render_all, summary,
 };
 pub use reach::{REACH_FILES, REACH_JSON, reach_summary, render_reach};
 pub use spectrum::{render_spectrum, spectrum_summary};
 pub use warnings::warning_text;
 pub use writer::{Written, write_all, write_new};
+
+use crate::provenance::Provenance;
 
 /// What an output file holds. Figures are marked so that the writer can turn
 /// every figure into another format in one place.
@@ -113,15 +115,20 @@ pub struct Report {
     pub bytes: Vec<u8>,
 }
 
-/// The one render path: every output in order, rendered in memory.
-pub fn render(outputs: &[&dyn Render]) -> Result<Vec<Report>, ReportError> {
+/// The one render path: every output in order, rendered in memory, each
+/// table and document stamped with `provenance` (`kit::encode::stamped`).
+pub fn render(
+    outputs: &[&dyn Render],
+    provenance: &Provenance,
+) -> Result<Vec<Report>, ReportError> {
     outputs
         .iter()
         .map(|output| {
+            let kind = output.kind();
             Ok(Report {
                 name: output.name(),
-                kind: output.kind(),
-                bytes: output.bytes()?,
+                kind,
+                bytes: kit::encode::stamped(kind, output.bytes()?, provenance),
             })
         })
         .collect()
@@ -142,18 +149,24 @@ mod tests {
         })
     }
 
+    fn provenance() -> Provenance {
+        Provenance::new(Vec::new(), serde_json::Map::new())
+    }
+
     #[test]
     fn outputs_render_in_order_with_their_kind() {
         let product = 7;
         let figure = Output::new("a.svg", Kind::Figure, &product, twice);
         let table = Output::new("b.csv", Kind::Table, &product, twice);
-        let reports = render(&[&figure, &table]).unwrap();
+        let reports = render(&[&figure, &table], &provenance()).unwrap();
         let summary: Vec<(&str, Kind)> = reports
             .iter()
             .map(|report| (report.name.as_str(), report.kind))
             .collect();
         assert_eq!(summary, [("a.svg", Kind::Figure), ("b.csv", Kind::Table)]);
         assert_eq!(reports[0].bytes, [7, 7]);
+        let comment = format!("# provenance: {}\n", provenance().compact());
+        assert_eq!(reports[1].bytes, [comment.as_bytes(), &[7, 7]].concat());
     }
 
     #[test]
@@ -161,7 +174,7 @@ mod tests {
         let product = 7;
         let figure = Output::new("a.svg", Kind::Figure, &product, twice);
         let table = Output::new("b.csv", Kind::Table, &product, failing);
-        let error = render(&[&figure, &table]).unwrap_err();
+        let error = render(&[&figure, &table], &provenance()).unwrap_err();
         assert_eq!(error.to_string(), "cannot render b.csv: no rows");
     }
 }

@@ -35,7 +35,7 @@ pub fn warning_text(warning: &Warning) -> String {
             first_day,
             days_without_data,
         } => format!(
-            "plan.days.first: day {} falls within the first {} days, when schedule.periods scale all rates to 0; grid points there have no data",
+            "plan.days: the first day, {}, falls within the first {} days, when schedule.periods scale all rates to 0; grid points there have no data",
             show(first_day),
             show(days_without_data)
         ),

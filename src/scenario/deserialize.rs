@@ -1,12 +1,13 @@
 //! The YAML spellings of values that serde's derived forms cannot express:
-//! a normalisation uncertainty that is a number or the word `free`, and a shape
+//! a normalisation uncertainty that is a number or the word `free`, the
+//! days of the plan as a list or a spaced grid, and a shape
 //! written as a one-key mapping such as `{gaussian: {mean: 67.0, sigma: 0.8}}`,
 //! whose keys come from the shape registry of the model.
 
-use super::{NormUncertainty, ShapeSpec};
+use super::{DaysGrid, NormUncertainty, ShapeSpec, SpacedDays};
 use crate::shapes::{ParameterValue, SHAPE_KINDS, ShapeKind};
 use serde::Deserialize;
-use serde::de::{self, DeserializeSeed, MapAccess, Unexpected, Visitor};
+use serde::de::{self, DeserializeSeed, MapAccess, SeqAccess, Unexpected, Visitor};
 use std::fmt;
 
 /// Reads a number as [`NormUncertainty::Relative`] and the word `free` as
@@ -45,6 +46,42 @@ impl Visitor<'_> for NormUncertaintyVisitor {
         } else {
             Err(E::invalid_value(Unexpected::Str(value), &self))
         }
+    }
+}
+
+/// Reads `plan.days`: a list of calendar days, or a mapping read as
+/// [`SpacedDays`] (its unknown or missing keys named at their position). Any
+/// other form is refused with both forms shown.
+impl<'de> Deserialize<'de> for DaysGrid {
+    fn deserialize<D: de::Deserializer<'de>>(deserializer: D) -> Result<Self, D::Error> {
+        deserializer.deserialize_any(DaysGridVisitor)
+    }
+}
+
+struct DaysGridVisitor;
+
+impl<'de> Visitor<'de> for DaysGridVisitor {
+    type Value = DaysGrid;
+
+    fn expecting(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(
+            "a list of calendar days, e.g. [30, 91, 182, 365], or a grid {first, last, points, spacing}, e.g. {first: 1, last: 365, points: 24, spacing: log}",
+        )
+    }
+
+    fn visit_seq<A: SeqAccess<'de>>(self, mut seq: A) -> Result<DaysGrid, A::Error> {
+        let mut days = Vec::new();
+        while let Some(day) = seq.next_element::<f64>()? {
+            days.push(day);
+            if days.len() > super::limits::MAX_GRID_POINTS {
+                return Err(de::Error::invalid_length(days.len(), &self));
+            }
+        }
+        Ok(DaysGrid::List(days))
+    }
+
+    fn visit_map<A: MapAccess<'de>>(self, map: A) -> Result<DaysGrid, A::Error> {
+        SpacedDays::deserialize(de::value::MapAccessDeserializer::new(map)).map(DaysGrid::Spaced)
     }
 }
 

@@ -32,6 +32,9 @@ pub const MAX_BINS: usize = 100_000;
 /// Most points of the days grid (each holds its quantiles and limits).
 pub const MAX_GRID_POINTS: usize = 10_000;
 
+/// Most days asked for with `--at` (each is a point with its own pseudo-experiments).
+pub const MAX_AT_DAYS: usize = 64;
+
 /// Most pseudo-experiments of one kind at one grid point (`plan.toys`,
 /// `--toys`, `--calibrate`); an ensemble holds one number per toy.
 pub const MAX_TOYS_PER_POINT: usize = 10_000_000;

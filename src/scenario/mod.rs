@@ -272,10 +272,20 @@ fn default_confidence_level() -> f64 {
     0.95
 }
 
-/// The grid of calendar days at which the projection is evaluated.
-#[derive(Debug, Clone, Deserialize)]
+/// The calendar days at which the projection is evaluated: a spaced grid
+/// `{first, last, points, spacing}` or an explicit list `[30, 91, 182, 365]`
+/// (read by `deserialize.rs`, whose error for another form shows both).
+#[derive(Debug, Clone, PartialEq)]
+pub enum DaysGrid {
+    Spaced(SpacedDays),
+    /// Calendar days as written, increasing (checked by validation).
+    List(Vec<f64>),
+}
+
+/// `points` days from `first` to `last`, evenly spaced in the day or in its logarithm.
+#[derive(Debug, Clone, PartialEq, Deserialize)]
 #[serde(deny_unknown_fields)]
-pub struct DaysGrid {
+pub struct SpacedDays {
     pub first: f64,
     pub last: f64,
     pub points: usize,
@@ -417,8 +427,44 @@ impl Scenario {
 }
 
 impl DaysGrid {
-    /// The calendar days of the grid, in increasing order.
+    /// The calendar days, in increasing order: a list as written; a spaced
+    /// grid's day i of n as first + (i/(n-1))(last - first) (linear) or
+    /// first (last/first)^(i/(n-1)) (log), each computed once from these
+    /// formulae and reported as is, never rounded.
     pub fn days(&self) -> Vec<f64> {
+        match self {
+            DaysGrid::List(days) => days.clone(),
+            DaysGrid::Spaced(grid) => grid.days(),
+        }
+    }
+
+    /// The first day (0 for an empty list, which validation refuses).
+    pub fn first(&self) -> f64 {
+        match self {
+            DaysGrid::List(days) => days.first().copied().unwrap_or_default(),
+            DaysGrid::Spaced(grid) => grid.first,
+        }
+    }
+
+    /// How many days.
+    pub fn points(&self) -> usize {
+        match self {
+            DaysGrid::List(days) => days.len(),
+            DaysGrid::Spaced(grid) => grid.points,
+        }
+    }
+
+    /// The field holding the last day, for messages: `plan.days.last` or `plan.days[n-1]`.
+    pub fn last_field(&self) -> String {
+        match self {
+            DaysGrid::List(days) => format!("plan.days[{}]", days.len().saturating_sub(1)),
+            DaysGrid::Spaced(_) => "plan.days.last".to_string(),
+        }
+    }
+}
+
+impl SpacedDays {
+    fn days(&self) -> Vec<f64> {
         if self.points == 1 {
             return vec![self.first];
         }
@@ -506,7 +552,8 @@ mod tests {
     #[test]
     fn counting_window_demo_reaches_three_sigma_within_its_grid() {
         let scenario = load_demo("counting_window.yaml");
-        let live_days = scenario.plan.days.last * scenario.schedule.live_fraction;
+        let last_day = *scenario.plan.days.days().last().unwrap();
+        let live_days = last_day * scenario.schedule.live_fraction;
         let s = scenario.signal().events_per_day * live_days;
         let background = &scenario.backgrounds()[0];
         let b = background.events_per_day * live_days;
@@ -539,12 +586,12 @@ mod tests {
 
     #[test]
     fn log_grid_runs_from_first_to_last_evenly_in_ratio() {
-        let grid = DaysGrid {
+        let grid = DaysGrid::Spaced(SpacedDays {
             first: 1.0,
             last: 100.0,
             points: 3,
             spacing: Spacing::Log,
-        };
+        });
         let days = grid.days();
         assert_eq!(days.len(), 3);
         assert!((days[1] - 10.0).abs() < 1e-12 && (days[2] - 100.0).abs() < 1e-12);

@@ -168,12 +168,27 @@ impl SignalScan {
         })
     }
 
+    /// The scan reduced to the one position `position`, with the width
+    /// there: a search that knows where its signal sits, whose global
+    /// p-value is its local one.
+    pub fn single_position(&self, position: f64) -> SignalScan {
+        let width = self.width_at(position);
+        SignalScan {
+            from: position,
+            to: position,
+            width_at_from: width,
+            width_at_to: width,
+            positions: 1,
+            ..self.clone()
+        }
+    }
+
     /// The number of positions tested.
     pub fn len(&self) -> usize {
         self.positions
     }
 
-    /// Always false: a checked scan has at least [`MIN_SCAN_POSITIONS`].
+    /// Always false: a scan has at least one position.
     pub fn is_empty(&self) -> bool {
         self.positions == 0
     }
@@ -201,6 +216,9 @@ impl SignalScan {
     /// The width at `position`: linear from the shape's own width at `from`
     /// to `width_at_to` at `to`.
     pub fn width_at(&self, position: f64) -> f64 {
+        if self.positions == 1 {
+            return self.width_at_from;
+        }
         let t = (position - self.from) / (self.to - self.from);
         self.width_at_from + t * (self.width_at_to - self.width_at_from)
     }

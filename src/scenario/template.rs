@@ -111,7 +111,8 @@ schedule:
 # What to project.
 plan:
   # Calendar days at which the projection is evaluated: `points` days from
-  # `first` (above 0) to `last`, with `spacing` log (even in ratio) or linear.
+  # `first` (above 0) to `last`, with `spacing` log (even in ratio) or linear,
+  # or a list of days, e.g. `days: [30, 91, 182, 365]`.
   days: {first: 1, last: 365, points: 24, spacing: log}
   # Pseudo-experiments generated at each day of the grid.
   toys: 2000

@@ -10,7 +10,7 @@ use super::limits::{
 };
 use super::{
     Background, Channel, ChannelSyntax, DaysGrid, NormUncertainty, Observable, Plan, Scenario,
-    ScenarioError, Schedule, ShapeSpec, Signal, SignalScan,
+    ScenarioError, Schedule, ShapeSpec, Signal, SignalScan, SpacedDays,
 };
 use crate::calendar::CalendarDate;
 use crate::message::{not_finite, not_positive, show, show_fraction, show_rounded};
@@ -251,7 +251,7 @@ fn first_day_without_exposure(scenario: &Scenario) -> Option<Warning> {
         .take_while(|period| period.rate_scale == 0.0)
         .map(|period| period.days)
         .sum();
-    let first_day = scenario.plan.days.first;
+    let first_day = scenario.plan.days.first();
     (first_day <= days_without_data).then_some(Warning::FirstDayWithoutData {
         first_day,
         days_without_data,
@@ -722,14 +722,15 @@ fn validate_toys(plan: &Plan) -> Checked {
         ));
     }
     let total = (plan.toys as u64)
-        .saturating_mul(plan.days.points as u64)
+        .saturating_mul(plan.days.points() as u64)
         .saturating_mul(ENSEMBLES_PER_POINT);
     if total > MAX_TOYS_IN_TOTAL {
         return Err(ScenarioError::invalid(
             field,
             format!(
                 "{} pseudo-experiments at each of {} points, for discovery and for limits, make {total}, more than the {MAX_TOYS_IN_TOTAL} allowed in one projection",
-                plan.toys, plan.days.points
+                plan.toys,
+                plan.days.points()
             ),
         ));
     }
@@ -771,8 +772,48 @@ fn validate_targets(targets: &[f64]) -> Checked {
 }
 
 /// Calendar days must be positive (zero days is no exposure, and log spacing
-/// needs a positive start), increasing, and the grid must have distinct points.
+/// needs a positive start), increasing, and the grid must have distinct
+/// points, at most [`MAX_GRID_POINTS`].
 fn validate_days_grid(days: &DaysGrid) -> Checked {
+    match days {
+        DaysGrid::Spaced(grid) => validate_spaced_days(grid),
+        DaysGrid::List(days) => validate_days_list(days),
+    }
+}
+
+/// A list of one to [`MAX_GRID_POINTS`] days, each above 0 and after the one before.
+fn validate_days_list(days: &[f64]) -> Checked {
+    if days.is_empty() {
+        return Err(ScenarioError::invalid(
+            "plan.days",
+            "must hold at least one calendar day, got []",
+        ));
+    }
+    if days.len() > MAX_GRID_POINTS {
+        return Err(ScenarioError::invalid(
+            "plan.days",
+            format!("must be at most {MAX_GRID_POINTS} days, got {}", days.len()),
+        ));
+    }
+    for (index, &day) in days.iter().enumerate() {
+        let field = format!("plan.days[{index}]");
+        require_positive(&field, day)?;
+        if index > 0 && day <= days[index - 1] {
+            return Err(ScenarioError::invalid(
+                &field,
+                format!(
+                    "must be after plan.days[{}] ({}), got {}",
+                    index - 1,
+                    show(days[index - 1]),
+                    show(day)
+                ),
+            ));
+        }
+    }
+    Ok(())
+}
+
+fn validate_spaced_days(days: &SpacedDays) -> Checked {
     require_positive("plan.days.first", days.first)?;
     require_finite("plan.days.last", days.last)?;
     if days.last < days.first {
@@ -1201,6 +1242,34 @@ plan:
             "first: 30, last: 30, points: 1",
         ));
         assert_eq!(single_day.plan.days.days(), vec![30.0]);
+    }
+
+    #[test]
+    fn days_may_be_a_list_of_increasing_calendar_days() {
+        const GRID: &str = "{first: 1, last: 365, points: 24, spacing: log}";
+        let list = accepted(&with(GRID, "[30, 91, 182.5, 365]"));
+        assert_eq!(list.plan.days.days(), vec![30.0, 91.0, 182.5, 365.0]);
+        assert_eq!(list.plan.days.last_field(), "plan.days[3]");
+        for (to, field) in [
+            ("[]", "plan.days"),
+            ("[0, 30]", "plan.days[0]"),
+            ("[30, 91, 91]", "plan.days[2]"),
+            ("[30, 20]", "plan.days[1]"),
+            ("[30, .inf]", "plan.days[1]"),
+        ] {
+            assert_eq!(rejected_field(&with(GRID, to)), field, "{to}");
+        }
+        // Another form: both accepted forms are shown, not a type name.
+        let error = Scenario::from_yaml(&with(GRID, "30"))
+            .unwrap_err()
+            .to_string();
+        assert!(
+            error.contains("plan.days")
+                && error.contains("[30, 91, 182, 365]")
+                && error.contains("{first, last, points, spacing}")
+                && !error.contains("DaysGrid"),
+            "{error}"
+        );
     }
 
     #[test]

@@ -23,14 +23,16 @@
 //! the squared derivative of the unit vector. For q0 = Z² (one-sided) an
 //! upcrossing of a level u by q0 is one of sqrt(u) by Z, and the global
 //! p-value of a local q0 = q is p_global ≈ p_local(q) + E N(sqrt q) (Gross
-//! and Vitells, Eur. Phys. J. C 70 (2010) 525, with N taken at q itself).
+//! and Vitells, Eur. Phys. J. C 70 (2010) 525, with N taken at q itself),
+//! which is the formula of `look_elsewhere` with N(u0) = E N(sqrt u0), since
+//! E N(sqrt q) = E N(sqrt u0) exp(-(q - u0)/2).
 //! Channels stack: the template runs over the bins of every channel, so their
 //! information adds in the metric.
 
 mod quadrature;
 
-use crate::asymptotic::{p_value, significance};
 use crate::likelihood::{Likelihood, MetricFailure, ProfiledMetric};
+use crate::look_elsewhere::{REFERENCE_LEVEL, global_p_value, global_significance};
 use crate::model::SIGNAL_STRENGTH;
 use crate::scenario::SignalScan;
 use std::f64::consts::PI;
@@ -120,6 +122,23 @@ pub fn scan_path<'a>(
     })
 }
 
+/// The geometry of the scan `scan` of the model's signal at `live_days`.
+pub fn scan_geometry_of(
+    likelihood: &Likelihood,
+    scan: &SignalScan,
+    live_days: f64,
+) -> Result<ScanGeometry, UpcrossingError> {
+    let signal = likelihood
+        .model()
+        .channels
+        .iter()
+        .flat_map(|channel| &channel.components)
+        .find(|component| component.is_signal)
+        .expect("every model has a signal");
+    let path = scan_path(scan, signal.shape.as_ref())?;
+    scan_geometry(likelihood, &path, live_days)
+}
+
 /// The geometry of `path` at `live_days`: the integral of sqrt(lambda2) by
 /// adaptive Gauss-Legendre quadrature, starting from panels of about one
 /// width (module docs).
@@ -179,21 +198,30 @@ impl ScanGeometry {
         self.mean_upcrossings(u.max(0.0).sqrt())
     }
 
-    /// p_global = p_local + E N(Z_local), at most 1 (Gross and Vitells 2010).
-    pub fn global_p_value(&self, local_z: f64) -> f64 {
-        (p_value(local_z) + self.mean_upcrossings(local_z)).min(1.0)
+    /// The global significance of a local one, with the upcrossings of the
+    /// reference level from this geometry (`look_elsewhere`).
+    pub fn global_significance(&self, local_z: f64) -> f64 {
+        global_significance(local_z, REFERENCE_LEVEL, self.reference_upcrossings())
     }
 
-    /// The global significance Phi^-1(1 - p_global) of a local one, floored at 0.
-    pub fn global_significance(&self, local_z: f64) -> f64 {
-        significance(self.global_p_value(local_z)).max(0.0)
+    /// E N at `look_elsewhere::REFERENCE_LEVEL`.
+    pub fn reference_upcrossings(&self) -> f64 {
+        self.mean_upcrossings_of_q0(REFERENCE_LEVEL)
+    }
+
+    fn global_p_value(&self, local_z: f64) -> f64 {
+        global_p_value(
+            local_z * local_z,
+            REFERENCE_LEVEL,
+            self.reference_upcrossings(),
+        )
     }
 
     /// The local significance whose global significance is `global_z`: the
     /// root of p_local(z) + E N(z) = p(global_z), decreasing in z, by
     /// bisection to 1e-12.
     pub fn local_significance_for(&self, global_z: f64) -> f64 {
-        let target = p_value(global_z);
+        let target = crate::asymptotic::p_value(global_z);
         let mut low = global_z;
         let mut high = global_z + 1.0;
         while self.global_p_value(high) > target {

@@ -8,8 +8,9 @@
 //!
 //! - a header: the runcast version, the scenario text and its SHA-256, the
 //!   projection settings (seed, toys, limits, calibration, look-elsewhere
-//!   toys, grid), K and N;
-//! - per grid point with live time, the shard's part of each ensemble: the
+//!   toys, grid, `--at` days), K and N;
+//! - per grid point with live time, then per `--at` day with live time, the
+//!   shard's part of each ensemble: the
 //!   failed fits and the converged values (8 bytes a toy, in toy order) of
 //!   the discovery and limit ensembles, whose quantiles need every value,
 //!   and three counts for the calibration, whose p-value needs only how
@@ -34,6 +35,7 @@ pub use merge::merge_shards;
 pub use write::run_shard;
 
 use super::ProjectionSettings;
+use crate::provenance::{Provenance, ScenarioFile};
 use encoding::{Decoder, Encoder, hex};
 use sha2::{Digest, Sha256};
 use std::fmt;
@@ -41,7 +43,7 @@ use std::ops::Range;
 use std::str::FromStr;
 
 /// The first bytes of every shard file, with the format number.
-const MAGIC: &[u8; 16] = b"runcast-shard 2\n";
+const MAGIC: &[u8; 16] = b"runcast-shard 3\n";
 /// The extension of shard files; `merge` reads every file of a directory with it.
 pub const SHARD_EXTENSION: &str = "runcast-shard";
 /// Bytes of the SHA-256 checksum at the end of a shard file.
@@ -117,6 +119,14 @@ impl ShardRun {
         }
     }
 
+    /// What made the merged outputs: the provenance of the unsharded run.
+    pub fn provenance(&self) -> Provenance {
+        Provenance::of_projection(
+            ScenarioFile::new(&self.scenario_name, &self.scenario_text),
+            &self.settings,
+        )
+    }
+
     /// SHA-256 of the scenario file's bytes.
     pub fn scenario_hash(&self) -> [u8; 32] {
         Sha256::digest(self.scenario_text.as_bytes()).into()
@@ -131,6 +141,7 @@ impl ShardRun {
         out.text(&self.scenario_text);
         out.text(&settings.title);
         out.floats(&settings.days);
+        out.floats(&settings.at_days);
         out.count(settings.toys);
         out.u64(settings.seed);
         out.floats(&settings.targets);
@@ -147,6 +158,7 @@ impl ShardRun {
         let scenario_text = input.text()?;
         let title = input.text()?;
         let days = input.floats()?;
+        let at_days = input.floats()?;
         let toys = input.count()?;
         let seed = input.u64()?;
         let targets = input.floats()?;
@@ -161,6 +173,7 @@ impl ShardRun {
             settings: ProjectionSettings {
                 title,
                 days,
+                at_days,
                 toys,
                 seed,
                 targets,
@@ -238,6 +251,13 @@ impl ShardRun {
             )
         })
         .or_else(|| named("limits (CL)", format!("{:?}", a.cl), format!("{:?}", b.cl)))
+        .or_else(|| {
+            named(
+                "--at",
+                format!("{:?}", a.at_days),
+                format!("{:?}", b.at_days),
+            )
+        })
         .or_else(|| (self != other).then(|| "projection settings".to_string()))
     }
 }

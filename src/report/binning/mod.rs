@@ -9,6 +9,7 @@ pub use table::binning_table;
 
 use super::{Kind, Output, Report, ReportError, render};
 use crate::binning::{BinningScan, WINDOW_STEPS_PER_SIGNAL_WIDTH};
+use crate::provenance::Provenance;
 
 /// File name of the binning plot.
 pub const BINNING_SVG: &str = "binning.svg";
@@ -18,11 +19,17 @@ pub const BINNING_JSON: &str = "binning.json";
 pub const BINNING_FILES: [&str; 2] = [BINNING_SVG, BINNING_JSON];
 
 /// Renders the binning scan in memory: `binning.svg`, `binning.json`.
-pub fn render_binning(scan: &BinningScan) -> Result<Vec<Report>, ReportError> {
-    render(&[
-        &Output::new(BINNING_SVG, Kind::Figure, scan, figure::render),
-        &Output::new(BINNING_JSON, Kind::Document, scan, json::render),
-    ])
+pub fn render_binning(
+    scan: &BinningScan,
+    provenance: &Provenance,
+) -> Result<Vec<Report>, ReportError> {
+    render(
+        &[
+            &Output::new(BINNING_SVG, Kind::Figure, scan, figure::render),
+            &Output::new(BINNING_JSON, Kind::Document, scan, json::render),
+        ],
+        provenance,
+    )
 }
 
 /// Decimals that resolve one step of the window scan, for window edges.

@@ -3,6 +3,7 @@
 
 use crate::model::{Model, fraction_inside, shape_from_spec};
 use crate::projection::Projection;
+use crate::report::kit::format::{DAYS_ROUNDING, days_label, percent_label, rounded};
 use crate::scenario::{Channel, Scenario, ShapeSpec};
 use std::fmt::Write;
 use std::path::Path;
@@ -18,26 +19,31 @@ pub fn check_summary(
     let mut text = format!("{}: valid\n  {}\n", path.display(), scenario.title);
     rates(&mut text, scenario, model);
     let last_day = projection.points.last().map_or(0.0, |point| point.days);
-    text.push_str("  asymptotic days to target:\n");
+    let beyond = || format!("not within the grid (beyond {} d)", rounded(last_day));
+    text.push_str("  asymptotic calendar days to target:\n");
     for days in &projection.days_to_target {
         let answer = match (days.asimov_days, days.saturation_z) {
-            (Some(days), _) => format!("{days:.1} days"),
+            (Some(days), _) => days_label(days),
             (None, Some(limit)) if limit < days.target => {
-                format!("never: systematic uncertainties cap Z at {limit:.2} sigma")
+                format!(
+                    "never: systematic uncertainties cap Z at {} sigma",
+                    rounded(limit)
+                )
             }
-            (None, _) => format!("not within the grid (beyond {last_day} days)"),
+            (None, _) => beyond(),
         };
         let _ = writeln!(text, "    {} sigma: {answer}", days.target);
     }
-    let exclusion = match projection.days_to_exclusion.asimov_days {
-        Some(days) => format!("{days:.1} days"),
-        None => format!("not within the grid (beyond {last_day} days)"),
-    };
+    let exclusion = projection
+        .days_to_exclusion
+        .asimov_days
+        .map_or_else(beyond, days_label);
     let _ = writeln!(
         text,
-        "  asymptotic days until the signal is excluded at {}% CL (median expected CLs limit): {exclusion}",
-        scenario.plan.cl * 100.0
+        "  asymptotic days until the signal is excluded at {} CL (median expected CLs limit): {exclusion}",
+        percent_label(scenario.plan.cl)
     );
+    let _ = writeln!(text, "  {DAYS_ROUNDING}");
     text
 }
 
@@ -57,8 +63,10 @@ fn rates(text: &mut String, scenario: &Scenario, model: &Model) {
         let (signal, background) = model.nominal_rates();
         let _ = writeln!(
             text,
-            "  all channels: signal {signal:.6}, background {background:.6} events per live day, S/B = {:.6}",
-            signal / background
+            "  all channels: signal {}, background {} events per live day, S/B = {}",
+            rounded(signal),
+            rounded(background),
+            rounded(signal / background)
         );
         return;
     };
@@ -70,17 +78,23 @@ fn rates(text: &mut String, scenario: &Scenario, model: &Model) {
 fn channel_rates(text: &mut String, channel: &Channel, rates: (f64, f64), indent: &str) {
     let (signal, background) = rates;
     let observable = &channel.observable;
-    let _ = writeln!(text, "{indent}signal: {signal:.6} events per live day");
+    let _ = writeln!(
+        text,
+        "{indent}signal: {} events per live day",
+        rounded(signal)
+    );
     for b in &channel.backgrounds {
         let _ = writeln!(
             text,
-            "{indent}background {}: {:.6} events per live day",
-            b.name, b.events_per_day
+            "{indent}background {}: {} events per live day",
+            b.name,
+            rounded(b.events_per_day)
         );
     }
     let _ = writeln!(
         text,
-        "{indent}background total: {background:.6} events per live day"
+        "{indent}background total: {} events per live day",
+        rounded(background)
     );
     let Some((low, high)) = peak_window(&channel.signal.shape, observable.range) else {
         let _ = writeln!(
@@ -99,9 +113,13 @@ fn channel_rates(text: &mut String, channel: &Channel, rates: (f64, f64), indent
         .sum();
     let _ = writeln!(
         text,
-        "{indent}within [{low:.6}, {high:.6}] {}: S = {signal_in:.6}, B = {background_in:.6} per live day, S/B = {:.6}",
+        "{indent}within [{}, {}] {}: S = {}, B = {} per live day, S/B = {}",
+        rounded(low),
+        rounded(high),
         observable.unit,
-        signal_in / background_in
+        rounded(signal_in),
+        rounded(background_in),
+        rounded(signal_in / background_in)
     );
 }
 

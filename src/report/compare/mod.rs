@@ -17,6 +17,7 @@ pub use table::comparison_table;
 use super::projection::check_projection;
 use super::{Kind, Output, Render, Report, ReportError, render};
 use crate::projection::Projection;
+use crate::provenance::Provenance;
 use crate::report::kit::palette::SERIES_COLOURS;
 use plotters::style::RGBColor;
 use std::ops::Range;
@@ -71,7 +72,10 @@ impl Comparison {
 /// `compare.csv`, `compare.json`. Each projection is checked as for
 /// `runcast project`, and the plans must share targets, confidence level and
 /// the use of pseudo-experiments.
-pub fn render_comparison(comparison: &Comparison) -> Result<Vec<Report>, ReportError> {
+pub fn render_comparison(
+    comparison: &Comparison,
+    provenance: &Provenance,
+) -> Result<Vec<Report>, ReportError> {
     check_comparison(comparison)?;
     type Renderer = fn(&Comparison) -> Result<Vec<u8>, ReportError>;
     let output = |name: &str, kind, render: Renderer| Output::new(name, kind, comparison, render);
@@ -94,7 +98,7 @@ pub fn render_comparison(comparison: &Comparison) -> Result<Vec<Report>, ReportE
         .flatten()
         .map(|output| output as &dyn Render)
         .collect();
-    render(&outputs)
+    render(&outputs, provenance)
 }
 
 fn check_comparison(comparison: &Comparison) -> Result<(), ReportError> {
@@ -201,7 +205,7 @@ pub(crate) mod tests {
     #[test]
     fn every_file_renders_in_order() {
         for toys in [false, true] {
-            let reports = render_comparison(&two_plans(toys)).unwrap();
+            let reports = render_comparison(&two_plans(toys), &example::provenance()).unwrap();
             let names: Vec<&str> = reports.iter().map(|report| report.name.as_str()).collect();
             assert_eq!(names, COMPARE_FILES);
             for report in &reports {
@@ -214,7 +218,9 @@ pub(crate) mod tests {
     fn plans_with_other_targets_are_refused() {
         let mut comparison = two_plans(false);
         comparison.plans[1].projection.targets = vec![2.0];
-        let error = render_comparison(&comparison).unwrap_err().to_string();
+        let error = render_comparison(&comparison, &example::provenance())
+            .unwrap_err()
+            .to_string();
         assert!(error.contains("plans[1].targets"), "{error}");
     }
 }

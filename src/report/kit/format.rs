@@ -13,6 +13,49 @@ pub fn number(value: f64) -> String {
     }
 }
 
+/// Significant digits of the rounded numbers of summaries ([`rounded`]).
+pub const SIGNIFICANT_DIGITS: usize = 3;
+
+/// `value` to [`SIGNIFICANT_DIGITS`] significant digits for a person to read
+/// and paste, without trailing zeros ("36", "0.421", "1.25e-7"); integer
+/// digits are never dropped ("12346" for 12345.6), exponent form outside
+/// [1e-4, 1e15) as in [`number`]. Tables keep full precision with [`number`].
+pub fn rounded(value: f64) -> String {
+    let magnitude = value.abs();
+    if value == 0.0 || !value.is_finite() {
+        return value.to_string();
+    }
+    if !(1e-4..1e15).contains(&magnitude) {
+        let text = format!("{value:.*e}", SIGNIFICANT_DIGITS - 1);
+        let (mantissa, exponent) = text.split_once('e').unwrap_or((&text, "0"));
+        return format!("{}e{exponent}", trim_zeros(mantissa));
+    }
+    let integer_digits = magnitude.log10().floor() as i64 + 1;
+    let decimals = (SIGNIFICANT_DIGITS as i64 - integer_digits).max(0) as usize;
+    trim_zeros(&format!("{value:.decimals$}"))
+}
+
+/// A decimal without trailing zeros after its point, nor a bare point.
+fn trim_zeros(text: &str) -> String {
+    if text.contains('.') {
+        text.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        text.to_string()
+    }
+}
+
+/// A probability for a person: three decimals, "<0.001" and ">0.999" for
+/// values that would round to 0 or 1 without being 0 or 1.
+pub fn probability_label(p: f64) -> String {
+    match p {
+        0.0 => "0".to_string(),
+        1.0 => "1".to_string(),
+        p if p < 0.001 => "<0.001".to_string(),
+        p if p > 0.999 => ">0.999".to_string(),
+        p => trim_zeros(&format!("{p:.3}")),
+    }
+}
+
 /// [`number`], or an empty cell for no value.
 pub fn optional(value: Option<f64>) -> String {
     value.map(number).unwrap_or_default()
@@ -36,6 +79,9 @@ pub fn target_label(target: f64) -> String {
 pub fn percent_label(cl: f64) -> String {
     format!("{}%", (cl * 1e4).round() / 100.0)
 }
+
+/// The rounding of days in `check` and the summaries, stated where they print days.
+pub const DAYS_ROUNDING: &str = "Days are rounded up (to the next tenth of a day below 10 days, to the next whole day from there on); projection.csv and .json keep full precision.";
 
 /// Calendar days, rounded up so the value is reached by then: to a tenth of a
 /// day below 10 days ("3.1 d"), to whole days from there on ("142 d").
@@ -104,6 +150,23 @@ mod tests {
             assert_eq!(number(value).parse::<f64>().unwrap(), value);
         }
         assert_eq!(optional(None), "");
+    }
+
+    #[test]
+    fn rounded_numbers_keep_three_significant_digits() {
+        assert_eq!(rounded(36.0), "36");
+        assert_eq!(rounded(36.000000001), "36");
+        assert_eq!(rounded(0.42137), "0.421");
+        assert_eq!(rounded(1.96), "1.96");
+        assert_eq!(rounded(12345.6), "12346");
+        assert_eq!(rounded(-2.5004), "-2.5");
+        assert_eq!(rounded(1.2549e-7), "1.25e-7");
+        assert_eq!(rounded(0.0), "0");
+        assert_eq!(probability_label(0.3141), "0.314");
+        assert_eq!(probability_label(0.5), "0.5");
+        assert_eq!(probability_label(0.9996), ">0.999");
+        assert_eq!(probability_label(0.0004), "<0.001");
+        assert_eq!(probability_label(1.0), "1");
     }
 
     #[test]

@@ -185,10 +185,44 @@ where
 pub fn mark_crossing<X, Y>(
     chart: &mut Chart<'_, '_, X, Y>,
     canvas: &Canvas,
+    point: (f64, f64),
+    curve: (RGBColor, Stroke),
+    label: &str,
+    shift: i32,
+) -> Result<(), DrawError>
+where
+    X: Ranged<ValueType = f64>,
+    Y: Ranged<ValueType = f64>,
+{
+    mark_crossing_on(chart, canvas, point, curve, label, shift, false)
+}
+
+/// As [`mark_crossing`], but the label goes right of the marker, or left of
+/// it when it would leave the plot on the right: below a rising curve's
+/// crossing, where the curve has already passed.
+pub fn mark_crossing_right<X, Y>(
+    chart: &mut Chart<'_, '_, X, Y>,
+    canvas: &Canvas,
+    point: (f64, f64),
+    curve: (RGBColor, Stroke),
+    label: &str,
+    shift: i32,
+) -> Result<(), DrawError>
+where
+    X: Ranged<ValueType = f64>,
+    Y: Ranged<ValueType = f64>,
+{
+    mark_crossing_on(chart, canvas, point, curve, label, shift, true)
+}
+
+fn mark_crossing_on<X, Y>(
+    chart: &mut Chart<'_, '_, X, Y>,
+    canvas: &Canvas,
     (x, value): (f64, f64),
     (colour, stroke): (RGBColor, Stroke),
     label: &str,
     shift: i32,
+    right_first: bool,
 ) -> Result<(), DrawError>
 where
     X: Ranged<ValueType = f64>,
@@ -200,14 +234,17 @@ where
         Stroke::Dashed => Circle::new((x, value), 7, colour.stroke_width(2)),
     };
     chart.draw_series(std::iter::once(marker))?;
-    let plot_left = chart.plotting_area().get_pixel_range().0.start;
+    let plot = chart.plotting_area().get_pixel_range().0;
     let (pixel_x, pixel_y) = chart.backend_coord(&(x, value));
     let (width, _) = canvas.estimate_text_size(label, &text_style(LABEL_SIZE))?;
     let width = i32::try_from(width).unwrap_or(i32::MAX);
-    let (horizontal, left) = if pixel_x - GAP - width >= plot_left {
-        (HPos::Right, pixel_x - GAP)
-    } else {
+    let fits_left = pixel_x - GAP - width >= plot.start;
+    let fits_right = pixel_x.saturating_add(GAP).saturating_add(width) <= plot.end;
+    let go_right = if right_first { fits_right } else { !fits_left };
+    let (horizontal, left) = if go_right {
         (HPos::Left, pixel_x + GAP)
+    } else {
+        (HPos::Right, pixel_x - GAP)
     };
     draw_text(
         canvas,

@@ -13,6 +13,10 @@ pub const INK_TEAL: RGBColor = RGBColor(0x0b, 0x4f, 0x6c);
 pub const VERMILION: RGBColor = RGBColor(0xd9, 0x4f, 0x2b);
 /// Central band (about ±1σ of the toys): soft lavender.
 pub const LAVENDER: RGBColor = RGBColor(0xb9, 0xb3, 0xdc);
+/// Global significance of the toy median (look-elsewhere effect): violet.
+pub const VIOLET: RGBColor = RGBColor(0x6a, 0x3d, 0x9a);
+/// Global significance of Z_A (look-elsewhere effect): plum.
+pub const PLUM: RGBColor = RGBColor(0xa8, 0x32, 0x6e);
 /// Outer band (about ±2σ of the toys): pale lavender-grey.
 pub const PALE_LAVENDER: RGBColor = RGBColor(0xe6, 0xe3, 0xf3);
 /// Reference lines (targets, probability levels): slate grey.
@@ -24,8 +28,8 @@ pub const INK: RGBColor = RGBColor(0x22, 0x26, 0x2e);
 pub const SERIES_COLOURS: [RGBColor; 6] = [
     INK_TEAL,
     VERMILION,
-    RGBColor(0x6a, 0x3d, 0x9a), // violet
-    RGBColor(0xa8, 0x32, 0x6e), // plum
+    VIOLET,
+    PLUM,
     RGBColor(0x3a, 0x6e, 0xa5), // cornflower slate
     RGBColor(0x8c, 0x5a, 0x2b), // umber
 ];

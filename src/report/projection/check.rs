@@ -13,7 +13,8 @@ const FINITE: &str = "a finite number";
 const LIMIT: &str = "a finite upper limit on the signal strength above 0";
 
 /// Checks the invariants the renderers rely on:
-/// - at least one exposure point, with calendar days finite, above zero and increasing;
+/// - at least one exposure point, with calendar days finite, above zero and
+///   increasing, and so for the `--at` days;
 /// - every number finite (targets, counts, significances, probabilities, days,
 ///   calibrations), the confidence level between 0 and 1;
 /// - every expected limit on μ finite and above zero (absent limits are fine);
@@ -30,7 +31,23 @@ pub(in crate::report) fn check_projection(projection: &Projection) -> Result<(),
     for (index, &target) in projection.targets.iter().enumerate() {
         finite(format!("targets[{index}]"), target)?;
     }
-    check_points(projection)?;
+    let channel_names: Vec<String> = projection.points[0]
+        .channels
+        .iter()
+        .map(|channel| channel.name.clone())
+        .collect();
+    check_points(
+        "points",
+        projection.points.iter(),
+        &projection.targets,
+        &channel_names,
+    )?;
+    check_points(
+        "at",
+        projection.at.iter().map(|at| &at.point),
+        &projection.targets,
+        &channel_names,
+    )?;
     for (index, row) in projection.days_to_target.iter().enumerate() {
         let field = |name: &str| format!("days_to_target[{index}].{name}");
         finite(field("target"), row.target)?;
@@ -59,20 +76,19 @@ pub(in crate::report) fn check_projection(projection: &Projection) -> Result<(),
     optional_finite(field("median_days"), exclusion.median_days)
 }
 
-/// Point `index` lists the channels of the first point, in its order, each
-/// with finite numbers (the CSV names its columns after the first point).
-fn check_channels(projection: &Projection, index: usize) -> Result<(), ReportError> {
-    let channels = &projection.points[index].channels;
-    let names = projection.points[0].channels.iter().map(|c| &c.name);
-    if !channels.iter().map(|c| &c.name).eq(names) {
+/// `point`, at dotted path `at`, lists the channels `names` (those of the
+/// first grid point, after which the CSV names its columns), in order, each
+/// with finite numbers.
+fn check_channels(at: &str, point: &ExposurePoint, names: &[String]) -> Result<(), ReportError> {
+    if !point.channels.iter().map(|c| &c.name).eq(names.iter()) {
         return Err(invalid(
-            format!("points[{index}].channels"),
-            format!("{} channels", channels.len()),
+            format!("{at}.channels"),
+            format!("{} channels", point.channels.len()),
             "the channels of points[0], in its order",
         ));
     }
-    for (position, channel) in channels.iter().enumerate() {
-        let field = |name: &str| format!("points[{index}].channels[{position}].{name}");
+    for (position, channel) in point.channels.iter().enumerate() {
+        let field = |name: &str| format!("{at}.channels[{position}].{name}");
         finite(field("signal"), channel.signal)?;
         finite(field("background"), channel.background)?;
         finite(field("z_asimov"), channel.z_asimov)?;
@@ -80,10 +96,16 @@ fn check_channels(projection: &Projection, index: usize) -> Result<(), ReportErr
     Ok(())
 }
 
-fn check_points(projection: &Projection) -> Result<(), ReportError> {
+/// The points of the list `list` (`points`, the grid, or `at`, the `--at` days).
+fn check_points<'a>(
+    list: &str,
+    points: impl Iterator<Item = &'a ExposurePoint>,
+    targets: &[f64],
+    channel_names: &[String],
+) -> Result<(), ReportError> {
     let mut previous_days = 0.0;
-    for (index, point) in projection.points.iter().enumerate() {
-        let field = |name: &str| format!("points[{index}].{name}");
+    for (index, point) in points.enumerate() {
+        let field = |name: &str| format!("{list}[{index}].{name}");
         finite(field("days"), point.days)?;
         if point.days <= previous_days {
             return Err(invalid(
@@ -97,30 +119,25 @@ fn check_points(projection: &Projection) -> Result<(), ReportError> {
         finite(field("signal"), point.signal)?;
         finite(field("background"), point.background)?;
         finite(field("z_asimov"), point.z_asimov)?;
-        check_channels(projection, index)?;
+        check_channels(&format!("{list}[{index}]"), point, channel_names)?;
         for (quantile, &z) in point.z_asimov_band.iter().enumerate() {
-            finite(format!("points[{index}].z_asimov_band[{quantile}]"), z)?;
+            finite(field(&format!("z_asimov_band[{quantile}]")), z)?;
         }
         optional_finite(field("z_median"), point.z_median)?;
         if let Some(band) = point.z_band {
             for (quantile, &z) in band.iter().enumerate() {
-                finite(format!("points[{index}].z_band[{quantile}]"), z)?;
+                finite(field(&format!("z_band[{quantile}]")), z)?;
             }
         }
-        if point.probability.len() != projection.targets.len() {
+        if point.probability.len() != targets.len() {
             return Err(invalid(
                 field("probability"),
                 format!("{} entries", point.probability.len()),
                 "one entry per target",
             ));
         }
-        for (slot, (probability, &target)) in point
-            .probability
-            .iter()
-            .zip(&projection.targets)
-            .enumerate()
-        {
-            let field = |name: &str| format!("points[{index}].probability[{slot}].{name}");
+        for (slot, (probability, &target)) in point.probability.iter().zip(targets).enumerate() {
+            let field = |name: &str| format!("{list}[{index}].probability[{slot}].{name}");
             if probability.target != target {
                 return Err(invalid(
                     field("target"),
@@ -131,9 +148,9 @@ fn check_points(projection: &Projection) -> Result<(), ReportError> {
             optional_finite(field("toys"), probability.toys)?;
             finite(field("asimov"), probability.asimov)?;
         }
-        check_limits(index, point)?;
+        check_limits(&field, point)?;
         if let Some(calibration) = &point.calibration {
-            check_calibration(index, calibration)?;
+            check_calibration(&field, calibration)?;
         }
         if let Some(global) = &point.global {
             check_global(index, global)?;
@@ -142,8 +159,8 @@ fn check_points(projection: &Projection) -> Result<(), ReportError> {
     Ok(())
 }
 
-fn check_limits(index: usize, point: &ExposurePoint) -> Result<(), ReportError> {
-    let field = |name: &str| format!("points[{index}].{name}");
+/// The limits of a point whose fields `field` names.
+fn check_limits(field: &dyn Fn(&str) -> String, point: &ExposurePoint) -> Result<(), ReportError> {
     optional_limit(field("limit_median"), point.limit_median)?;
     optional_limit(field("limit_asimov"), point.limit_asimov)?;
     for (name, band) in [
@@ -157,8 +174,12 @@ fn check_limits(index: usize, point: &ExposurePoint) -> Result<(), ReportError> 
     Ok(())
 }
 
-fn check_calibration(index: usize, calibration: &Calibration) -> Result<(), ReportError> {
-    let field = |name: &str| format!("points[{index}].calibration.{name}");
+/// The calibration of a point whose fields `point_field` names.
+fn check_calibration(
+    point_field: &dyn Fn(&str) -> String,
+    calibration: &Calibration,
+) -> Result<(), ReportError> {
+    let field = |name: &str| point_field(&format!("calibration.{name}"));
     finite(field("q0_asimov"), calibration.q0_asimov)?;
     finite(field("p_asymptotic"), calibration.p_asymptotic)?;
     finite(field("z_asymptotic"), calibration.z_asymptotic)?;
@@ -181,6 +202,10 @@ fn check_global(index: usize, global: &GlobalSignificance) -> Result<(), ReportE
         )?;
         optional_finite(field("direct_global_p"), measured.direct_global_p)?;
         optional_finite(field("trials_factor"), measured.trials_factor)?;
+        optional_finite(
+            field("mean_upcrossings_asimov"),
+            measured.mean_upcrossings_asimov,
+        )?;
     }
     Ok(())
 }

@@ -17,15 +17,25 @@
 //! own Z_A; with a scan of the signal position (only then), the look-elsewhere
 //! columns `z_global_asimov, z_global_median, reference_level,
 //! mean_upcrossings, mean_upcrossings_error, look_elsewhere_toys,
-//! look_elsewhere_failed_fits, direct_global_p, trials_factor`. An
+//! look_elsewhere_failed_fits, direct_global_p, trials_factor,
+//! mean_upcrossings_asimov`. An
 //! empty cell means no value (an Asimov-only run has no toy columns filled, a
 //! run without limits or calibration none of theirs). Numbers are
 //! written as the shortest decimal that reads back to the same f64
 //! (`kit::format::number`), so the file is lossless and byte-for-byte
 //! reproducible.
+//!
+//! `at.csv` (only with `--at`): one row per `--at` day, the same columns,
+//! then `signal_per_live_day` (nominal signal events per live day), and the
+//! expected limits as signal events per live day and over the run:
+//! `limit_events_per_live_day_median, _q02_3, _q15_9, _q84_1, _q97_7,
+//! _asimov, _asimov_q02_3, _asimov_q15_9, _asimov_q84_1, _asimov_q97_7`, and
+//! the same ten columns of `limit_events_...`.
 
-use super::PROJECTION_CSV;
-use crate::projection::{Calibration, ExposurePoint, GlobalSignificance, Projection};
+use super::{AT_CSV, PROJECTION_CSV};
+use crate::projection::{
+    AtDay, Calibration, EventLimits, ExposurePoint, GlobalSignificance, Projection,
+};
 use crate::report::ReportError;
 use crate::report::kit::dates::date_cell;
 use crate::report::kit::encode::csv_bytes;
@@ -72,7 +82,7 @@ const CALIBRATION_COLUMNS: [&str; 9] = [
 
 /// The look-elsewhere columns at the end, with a scan only, in the order of
 /// [`global_cells`].
-const GLOBAL_COLUMNS: [&str; 9] = [
+const GLOBAL_COLUMNS: [&str; 10] = [
     "z_global_asimov",
     "z_global_median",
     "reference_level",
@@ -82,26 +92,112 @@ const GLOBAL_COLUMNS: [&str; 9] = [
     "look_elsewhere_failed_fits",
     "direct_global_p",
     "trials_factor",
+    "mean_upcrossings_asimov",
+];
+
+/// The suffixes of the columns of limits in one unit, in the order of [`event_limit_cells`].
+const EVENT_LIMIT_SUFFIXES: [&str; 10] = [
+    "median",
+    "q02_3",
+    "q15_9",
+    "q84_1",
+    "q97_7",
+    "asimov",
+    "asimov_q02_3",
+    "asimov_q15_9",
+    "asimov_q84_1",
+    "asimov_q97_7",
 ];
 
 /// The CSV table of the projection.
 pub(super) fn render(projection: &Projection) -> Result<Vec<u8>, ReportError> {
+    let (columns, rows) = dated(
+        projection,
+        point_columns(projection),
+        projection
+            .points
+            .iter()
+            .map(|point| (point.days, point_row(projection, point))),
+    );
+    csv_bytes(PROJECTION_CSV, columns, rows)
+}
+
+/// The CSV table of the `--at` days.
+pub(super) fn render_at(projection: &Projection) -> Result<Vec<u8>, ReportError> {
+    let mut columns = point_columns(projection);
+    columns.push("signal_per_live_day".to_string());
+    for unit in ["limit_events_per_live_day", "limit_events"] {
+        columns.extend(
+            EVENT_LIMIT_SUFFIXES
+                .iter()
+                .map(|suffix| format!("{unit}_{suffix}")),
+        );
+    }
+    let (columns, rows) = dated(
+        projection,
+        columns,
+        projection
+            .at
+            .iter()
+            .map(|at| (at.point.days, at_row(projection, at))),
+    );
+    csv_bytes(AT_CSV, columns, rows)
+}
+
+/// The table with a `date` column after `days` when the schedule has a start.
+fn dated(
+    projection: &Projection,
+    mut columns: Vec<String>,
+    rows: impl Iterator<Item = (f64, Vec<String>)>,
+) -> (Vec<String>, Vec<Vec<String>>) {
+    let Some(start) = projection.start else {
+        return (columns, rows.map(|(_, cells)| cells).collect());
+    };
+    columns.insert(1, "date".to_string());
+    let rows = rows
+        .map(|(days, mut cells)| {
+            cells.insert(1, date_cell(Some(days), start));
+            cells
+        })
+        .collect();
+    (columns, rows)
+}
+
+/// The columns of one point: [`header`], then with several channels each
+/// channel's Z_A, then with a scan [`GLOBAL_COLUMNS`].
+fn point_columns(projection: &Projection) -> Vec<String> {
     let mut columns = header(&projection.targets);
     columns.extend(channel_columns(projection));
-    let mut rows: Vec<Vec<String>> = projection.points.iter().map(row).collect();
     if projection.scan.is_some() {
         columns.extend(GLOBAL_COLUMNS.iter().map(|name| name.to_string()));
-        for (cells, point) in rows.iter_mut().zip(&projection.points) {
-            cells.extend(global_cells(point.global.as_ref()));
-        }
     }
-    if let Some(start) = projection.start {
-        columns.insert(1, "date".to_string());
-        for (cells, point) in rows.iter_mut().zip(&projection.points) {
-            cells.insert(1, date_cell(Some(point.days), start));
-        }
+    columns
+}
+
+/// The cells of one point, in the order of [`point_columns`].
+fn point_row(projection: &Projection, point: &ExposurePoint) -> Vec<String> {
+    let mut cells = row(point);
+    if projection.scan.is_some() {
+        cells.extend(global_cells(point.global.as_ref()));
     }
-    csv_bytes(PROJECTION_CSV, columns, rows)
+    cells
+}
+
+/// One row of `at.csv`.
+fn at_row(projection: &Projection, at: &AtDay) -> Vec<String> {
+    let mut cells = point_row(projection, &at.point);
+    cells.push(number(at.signal_per_live_day));
+    cells.extend(event_limit_cells(&at.limit_events_per_live_day));
+    cells.extend(event_limit_cells(&at.limit_events));
+    cells
+}
+
+fn event_limit_cells(limits: &EventLimits) -> Vec<String> {
+    let mut cells = vec![optional(limits.median)];
+    cells.extend(band_cells(limits.band));
+    cells.push(optional(limits.asimov));
+    cells.extend(band_cells(limits.asimov_band));
+    cells
 }
 
 fn header(targets: &[f64]) -> Vec<String> {
@@ -206,11 +302,11 @@ fn calibration_cells(calibration: Option<&Calibration>) -> [String; 9] {
 }
 
 /// The look-elsewhere cells of one point; empty where nothing was measured.
-fn global_cells(global: Option<&GlobalSignificance>) -> [String; 9] {
+fn global_cells(global: Option<&GlobalSignificance>) -> [String; 10] {
     let Some(global) = global else {
         return Default::default();
     };
-    let mut cells: [String; 9] = Default::default();
+    let mut cells: [String; 10] = Default::default();
     cells[0] = optional(global.z_global_asimov);
     cells[1] = optional(global.z_global_median);
     if let Some(measured) = &global.look_elsewhere {
@@ -221,6 +317,7 @@ fn global_cells(global: Option<&GlobalSignificance>) -> [String; 9] {
         cells[6] = measured.failed_fits.to_string();
         cells[7] = optional(measured.direct_global_p);
         cells[8] = optional(measured.trials_factor);
+        cells[9] = optional(measured.mean_upcrossings_asimov);
     }
     cells
 }
@@ -296,6 +393,38 @@ mod tests {
         assert_eq!(cell(&table, "calibration_exceeding", last), "0");
         assert_eq!(cell(&table, "p_toys", last), "");
         assert_eq!(cell(&table, "z_toys", last), "");
+    }
+
+    #[test]
+    fn at_rows_carry_the_limits_in_events_exactly() {
+        let projection = example::with_at_day();
+        let bytes = render_at(&projection).unwrap();
+        let table: Vec<Vec<String>> = ::csv::ReaderBuilder::new()
+            .has_headers(false)
+            .from_reader(bytes.as_slice())
+            .records()
+            .map(|record| record.unwrap().iter().map(str::to_string).collect())
+            .collect();
+        assert_eq!(table.len(), 2);
+        let at = &projection.at[0];
+        let value = |column: &str| cell(&table, column, 0).parse::<f64>().unwrap();
+        assert_eq!(value("days"), at.point.days);
+        assert_eq!(value("signal_per_live_day"), 2.5);
+        assert_eq!(
+            value("limit_events_per_live_day_median"),
+            at.limit_events_per_live_day.median.unwrap()
+        );
+        assert_eq!(
+            value("limit_events_asimov_q97_7"),
+            at.limit_events.asimov_band.unwrap()[3]
+        );
+        // The limit over the run is the limit on mu times the nominal signal
+        // of the live days (a limit on mu is one on the yield).
+        assert_eq!(
+            value("limit_events_asimov"),
+            at.point.limit_asimov.unwrap() * at.point.signal
+        );
+        assert_eq!(table[0].len(), header(&projection.targets).len() + 21);
     }
 
     #[test]

@@ -36,6 +36,7 @@ pub(crate) fn tiny() -> Projection {
         calibration_toys: 0,
         scan: None,
         days_to_exclusion: DaysToExclusion::default(),
+        at: Vec::new(),
         points: vec![
             ExposurePoint {
                 days: 10.0,
@@ -305,6 +306,7 @@ impl InventedSearch {
             start: None,
             seed: 20240611,
             toys,
+            at: Vec::new(),
             points: Self::grid()
                 .map(|days| self.point(days, &targets, with_toys))
                 .collect(),
@@ -377,4 +379,26 @@ pub(crate) fn asimov_only_with_limits() -> Projection {
         calibration_toys: 0,
     }
     .projection("Invented search, Asimov only, 5% background uncertainty", 0)
+}
+
+/// [`with_limits`] with its third grid day also asked for with `--at`, at a
+/// nominal signal of 2.5 events per live day.
+pub(crate) fn with_at_day() -> Projection {
+    let mut projection = with_limits();
+    projection.at = vec![crate::projection::AtDay::new(
+        projection.points[2].clone(),
+        2.5,
+    )];
+    projection
+}
+
+/// The provenance of an invented run, for rendering in tests.
+pub(crate) fn provenance() -> crate::provenance::Provenance {
+    crate::provenance::Provenance::new(
+        vec![crate::provenance::ScenarioFile::new(
+            "invented.yaml",
+            "invented",
+        )],
+        serde_json::Map::new(),
+    )
 }

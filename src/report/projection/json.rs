@@ -74,7 +74,8 @@ mod tests {
                 {"target": 5.0, "asimov_days": null, "median_days": null,
                  "p50_days": null, "p90_days": null, "saturation_z": 4.5}
             ],
-            "days_to_exclusion": {"asimov_days": null, "median_days": null}
+            "days_to_exclusion": {"asimov_days": null, "median_days": null},
+            "at": []
         });
         assert_eq!(parsed(&example::tiny()), expected);
     }

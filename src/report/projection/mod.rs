@@ -1,10 +1,12 @@
 //! The projection's files: `significance.rs` (`projection.svg`, significance
 //! against days), `probability.rs` (`probability.svg`, probability of reaching
 //! each target), `limits.rs` (`limits.svg`, expected upper limit on the
-//! signal strength), `csv.rs`, `json.rs`, and `summary.rs` for the terminal.
+//! signal strength), `csv.rs` (`projection.csv`, `at.csv`), `json.rs`, and
+//! `summary.rs` for the terminal (with `at_summary.rs`, the `--at` days).
 //! `check.rs` holds what they may assume about a projection, `ensembles.rs`
 //! how each ensemble of pseudo-experiments is named and counted.
 
+mod at_summary;
 mod check;
 mod csv;
 pub(super) mod ensembles;
@@ -22,6 +24,7 @@ pub use summary::summary;
 
 use super::{Kind, Output, Render, Report, ReportError, render};
 use crate::projection::{ExposurePoint, Projection};
+use crate::provenance::Provenance;
 use std::ops::Range;
 
 /// File name of the significance-against-days plot.
@@ -32,14 +35,17 @@ pub const PROBABILITY_SVG: &str = "probability.svg";
 pub const LIMITS_SVG: &str = "limits.svg";
 /// File name of the per-exposure table.
 pub const PROJECTION_CSV: &str = "projection.csv";
+/// File name of the table of the `--at` days (only with `--at`).
+pub const AT_CSV: &str = "at.csv";
 /// File name of the whole projection as JSON.
 pub const PROJECTION_JSON: &str = "projection.json";
 /// Every file `render_all` can give: the output set of `runcast project`.
-pub const PROJECTION_FILES: [&str; 5] = [
+pub const PROJECTION_FILES: [&str; 6] = [
     PROJECTION_SVG,
     PROBABILITY_SVG,
     LIMITS_SVG,
     PROJECTION_CSV,
+    AT_CSV,
     PROJECTION_JSON,
 ];
 
@@ -52,7 +58,10 @@ pub const PROJECTION_FILES: [&str; 5] = [
 /// zero, limits above zero, one probability per target in the order of
 /// `targets`), so no renderer sees a value it cannot show. The same
 /// projection always gives byte-identical files.
-pub fn render_all(projection: &Projection) -> Result<Vec<Report>, ReportError> {
+pub fn render_all(
+    projection: &Projection,
+    provenance: &Provenance,
+) -> Result<Vec<Report>, ReportError> {
     check::check_projection(projection)?;
     type Renderer = fn(&Projection) -> Result<Vec<u8>, ReportError>;
     let output = |name: &str, kind, render: Renderer| Output::new(name, kind, projection, render);
@@ -63,6 +72,7 @@ pub fn render_all(projection: &Projection) -> Result<Vec<Report>, ReportError> {
             .cl
             .map(|_| output(LIMITS_SVG, Kind::Figure, limits::render)),
         Some(output(PROJECTION_CSV, Kind::Table, csv::render)),
+        (!projection.at.is_empty()).then(|| output(AT_CSV, Kind::Table, csv::render_at)),
         Some(output(PROJECTION_JSON, Kind::Document, json::render)),
     ];
     let outputs: Vec<&dyn Render> = outputs
@@ -70,7 +80,7 @@ pub fn render_all(projection: &Projection) -> Result<Vec<Report>, ReportError> {
         .flatten()
         .map(|output| output as &dyn Render)
         .collect();
-    render(&outputs)
+    render(&outputs, provenance)
 }
 
 /// The day range of the x axis: the grid itself, or a factor of two either
@@ -90,7 +100,7 @@ mod tests {
 
     #[test]
     fn renders_the_four_files_in_order() {
-        let reports = render_all(&example::with_toys()).unwrap();
+        let reports = render_all(&example::with_toys(), &example::provenance()).unwrap();
         let names: Vec<(&str, Kind)> = reports
             .iter()
             .map(|report| (report.name.as_str(), report.kind))
@@ -115,8 +125,8 @@ mod tests {
             example::with_limits(),
             example::asimov_only_with_limits(),
         ] {
-            let first = render_all(&projection).unwrap();
-            let second = render_all(&projection).unwrap();
+            let first = render_all(&projection, &example::provenance()).unwrap();
+            let second = render_all(&projection, &example::provenance()).unwrap();
             assert_eq!(first, second);
         }
     }
@@ -125,7 +135,7 @@ mod tests {
     fn a_nan_is_refused_before_anything_is_rendered() {
         let mut projection = example::with_toys();
         projection.points[1].z_median = Some(f64::NAN);
-        let error = render_all(&projection).unwrap_err();
+        let error = render_all(&projection, &example::provenance()).unwrap_err();
         assert_eq!(
             error.to_string(),
             "cannot report the projection: points[1].z_median is NaN, expected a finite number"
@@ -134,7 +144,7 @@ mod tests {
 
     #[test]
     fn limits_add_their_plot_after_the_probability_plot() {
-        let reports = render_all(&example::with_limits()).unwrap();
+        let reports = render_all(&example::with_limits(), &example::provenance()).unwrap();
         let names: Vec<&str> = reports.iter().map(|report| report.name.as_str()).collect();
         assert_eq!(
             names,
@@ -150,7 +160,7 @@ mod tests {
 
     #[test]
     fn the_output_set_names_every_file_render_all_can_give() {
-        let reports = render_all(&example::with_limits()).unwrap();
+        let reports = render_all(&example::with_at_day(), &example::provenance()).unwrap();
         let names: Vec<&str> = reports.iter().map(|report| report.name.as_str()).collect();
         assert_eq!(names, PROJECTION_FILES);
     }
@@ -159,7 +169,7 @@ mod tests {
     fn every_figure_is_well_formed_xml_whatever_the_title() {
         let mut projection = example::with_limits();
         projection.title = "A <b>\u{1}\u{1b}[31m & \"title\"\u{FFFE}".to_string();
-        let reports = render_all(&projection).unwrap();
+        let reports = render_all(&projection, &example::provenance()).unwrap();
         let figures: Vec<&Report> = reports
             .iter()
             .filter(|report| report.kind == Kind::Figure)

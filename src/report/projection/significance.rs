@@ -5,8 +5,11 @@
 //! Asimov curve dashed. Asimov-only: the Asimov curve with asymptotic bands
 //! Z_A ± 1 and Z_A ± 2 floored at 0, since √q0 is approximately normal with
 //! unit width about Z_A and q0 is set to 0 when the fitted signal is negative
-//! (Cowan et al., EPJC 71 (2011) 1554). Each target is a horizontal line,
-//! with a marker and a label where each curve reaches it. With several
+//! (Cowan et al., EPJC 71 (2011) 1554). With a scan of the signal position,
+//! the global significances beside them (the toy median's solid, Z_A's
+//! dashed, in their own colours): the local ones after the look-elsewhere
+//! effect. Each target is a horizontal line, with a marker and a label where
+//! each curve reaches it (global labels below the line). With several
 //! channels, each channel's own Asimov curve, thin, beside the combined one.
 
 use super::ensembles::Ensemble;
@@ -19,7 +22,9 @@ use crate::report::kit::figure::{self, Canvas, Chart, DrawError, Frame, SIZE};
 use crate::report::kit::format::target_label;
 use crate::report::kit::legend::Line;
 use crate::report::kit::marks::{self, BandPoint, Stroke};
-use crate::report::kit::palette::{DASH, INK_TEAL, LABEL_SIZE, SERIES_COLOURS, VERMILION};
+use crate::report::kit::palette::{
+    DASH, INK_TEAL, LABEL_SIZE, PLUM, SERIES_COLOURS, VERMILION, VIOLET,
+};
 use plotters::coord::types::RangedCoordf64;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, VPos};
@@ -87,8 +92,10 @@ fn draw(canvas: &Canvas, projection: &Projection) -> Result<(), DrawError> {
         label,
     )?;
     draw_channels(&mut chart, projection)?;
+    draw_global(&mut chart, projection)?;
     draw_saturation(&mut chart, canvas, projection, ceiling)?;
     draw_days_to_target(&mut chart, canvas, projection)?;
+    draw_global_days_to_target(&mut chart, canvas, projection)?;
     marks::draw_legend_at(&mut chart, SeriesLabelPosition::UpperLeft)?;
     match footnote {
         Some(text) => marks::draw_footnote(canvas, &text),
@@ -176,6 +183,63 @@ fn draw_days_to_target(
                 dated_days_label(days, projection.start)
             );
             marks::mark_crossing(chart, canvas, (days, row.target), curve, &label, -raise)?;
+        }
+    }
+    Ok(())
+}
+
+/// With a scan: the global significances of the toy median and of Z_A,
+/// where measured.
+fn draw_global<'a, 'b: 'a>(
+    chart: &mut SignificanceChart<'a, 'b>,
+    projection: &Projection,
+) -> Result<(), DrawError> {
+    let Some(scan) = &projection.scan else {
+        return Ok(());
+    };
+    let series = |value: fn(&crate::projection::GlobalSignificance) -> Option<f64>| {
+        projection
+            .points
+            .iter()
+            .filter_map(|point| Some((point.days, value(point.global.as_ref()?)?)))
+            .collect::<Vec<_>>()
+    };
+    let median = series(|global| global.z_global_median);
+    if median.len() > 1 {
+        let label = format!("Global, toy median ({} positions)", scan.positions);
+        marks::draw_curve(chart, median, VIOLET, Stroke::Solid, label)?;
+    }
+    let asimov = series(|global| global.z_global_asimov);
+    if asimov.len() > 1 {
+        let label = format!("Global Z_A ({} positions)", scan.positions);
+        marks::draw_curve(chart, asimov, PLUM, Stroke::Dashed, label)?;
+    }
+    Ok(())
+}
+
+/// Markers where the global curves reach each target, labelled "5σ global:
+/// 37 d" below the target line and right of the marker, the median's one row
+/// below the Asimov one.
+fn draw_global_days_to_target(
+    chart: &mut SignificanceChart,
+    canvas: &Canvas,
+    projection: &Projection,
+) -> Result<(), DrawError> {
+    const ROW: i32 = 18;
+    for row in &projection.days_to_target {
+        let Some(global) = &row.global else { continue };
+        let crossings = [
+            (global.global_median_days, (VIOLET, Stroke::Solid), 2 * ROW),
+            (global.global_asimov_days, (PLUM, Stroke::Dashed), ROW),
+        ];
+        for (days, curve, lower) in crossings {
+            let Some(days) = days else { continue };
+            let label = format!(
+                "{} global: {}",
+                target_label(row.target),
+                dated_days_label(days, projection.start)
+            );
+            marks::mark_crossing_right(chart, canvas, (days, row.target), curve, &label, lower)?;
         }
     }
     Ok(())

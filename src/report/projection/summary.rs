@@ -6,10 +6,15 @@
 use super::ensembles::Ensemble;
 use crate::calendar::CalendarDate;
 use crate::message::show;
-use crate::projection::{Calibration, DaysToTarget, Projection};
+use crate::projection::{Calibration, DaysToTarget, LookElsewhere, Projection};
 use crate::report::kit::dates::{dated_days_label, with_date};
-use crate::report::kit::format::{aligned, fit_percent, percent_label, target_label};
+use crate::report::kit::format::{
+    DAYS_ROUNDING, aligned, fit_percent, percent_label, target_label,
+};
 use crate::report::warning_text;
+
+/// What the toy columns mean, and which to quote.
+const TOY_COLUMNS: &str = "toy median: the day the median pseudo-experiment reaches the target; 50% of toys: the day half of them have (the same question read from P(Z ≥ target), differing only by interpolation) — quote the toy median.\n";
 
 const COLUMNS: [&str; 5] = [
     "target",
@@ -55,12 +60,18 @@ pub fn summary(projection: &Projection) -> String {
     }));
     text.push_str("Calendar days to reach each target\n");
     text.push_str(&aligned(&rows));
+    if projection.toys > 0 {
+        text.push_str(TOY_COLUMNS);
+    }
+    text.push_str(DAYS_ROUNDING);
+    text.push('\n');
     if let Some(line) = scan_line(projection) {
         text.push_str(&line);
     }
     if let Some(cl) = projection.cl {
         text.push_str(&exclusion_line(projection, cl, last_day));
     }
+    text.push_str(&super::at_summary::at_days_text(projection));
     if let Some(table) = calibration_table(projection) {
         text.push('\n');
         text.push_str(&table);
@@ -81,10 +92,17 @@ pub fn summary(projection: &Projection) -> String {
 /// The global columns beside the local ones, with a scan.
 const GLOBAL_COLUMNS: [&str; 2] = ["global Asimov", "global median"];
 
+/// Above this many standard errors between the toys' and the asymptotic
+/// N(u0) the summary warns: the large-sample geometry does not describe the
+/// scan (few counts, a scan step too coarse to see every upcrossing).
+const UPCROSSING_DISTANCE_WARNING: f64 = 3.0;
+
 /// With a scan, one line on what the global columns account for: "Look-
 /// elsewhere effect: 201 positions tested from 10 to 90 in steps of 0.4;
-/// 500 background-only scans per point, 5.30 ± 0.07 upcrossings of q0 = 1 per
-/// scan at the last point (global p-values of Gross and Vitells 2010)".
+/// upcrossings of q0 = 1 per scan at the last point: 5.21 asymptotic (used
+/// for the global Asimov columns), 5.30 ± 0.07 from 500 background-only scans
+/// per point (1.3 standard errors apart) (global p-values of Gross and
+/// Vitells 2010)", and a warning line when the two are far apart.
 fn scan_line(projection: &Projection) -> Option<String> {
     let scan = projection.scan.as_ref()?;
     let mut line = format!(
@@ -98,27 +116,57 @@ fn scan_line(projection: &Projection) -> Option<String> {
         .points
         .last()
         .and_then(|point| point.global.as_ref()?.look_elsewhere.as_ref());
-    match last {
-        Some(measured) => {
+    let Some(measured) = last else {
+        line.push_str("; no live time, so no global days.\n");
+        return Some(line);
+    };
+    line.push_str(&format!(
+        "; upcrossings of q0 = {} per scan at the last point: ",
+        show(measured.reference_level)
+    ));
+    let toys = measured.mean_upcrossings.map(|mean| {
+        let error = measured
+            .mean_upcrossings_error
+            .map_or_else(String::new, |error| format!(" ± {error:.2}"));
+        format!(
+            "{mean:.2}{error} from {} background-only scans per point",
+            scan.look_elsewhere_toys
+        )
+    });
+    match (measured.mean_upcrossings_asimov, toys) {
+        (Some(asymptotic), toys) => {
             line.push_str(&format!(
-                "; {} background-only scans per point",
-                scan.look_elsewhere_toys
+                "{asymptotic:.2} asymptotic (used for the global Asimov columns)"
             ));
-            if let Some(mean) = measured.mean_upcrossings {
-                let error = measured
-                    .mean_upcrossings_error
-                    .map_or_else(String::new, |error| format!(" ± {error:.2}"));
-                line.push_str(&format!(
-                    ", {mean:.2}{error} upcrossings of q0 = {} per scan at the last point \
-                     (global p-values of Gross and Vitells 2010)",
-                    show(measured.reference_level)
-                ));
+            if let Some(toys) = toys {
+                line.push_str(&format!(", {toys}"));
             }
         }
-        None => line.push_str("; no background-only scans run, so no global days"),
+        (None, Some(toys)) => line.push_str(&format!(
+            "{toys} (used for every global column; the asymptotic geometry is degenerate)"
+        )),
+        (None, None) => line.push_str("none measured, so no global days"),
     }
-    line.push_str(".\n");
+    let distance = upcrossing_distance(measured);
+    if let Some(distance) = distance {
+        line.push_str(&format!(" ({distance:.1} standard errors apart)"));
+    }
+    line.push_str(" (global p-values of Gross and Vitells 2010).\n");
+    if let Some(distance) = distance.filter(|d| *d > UPCROSSING_DISTANCE_WARNING) {
+        line.push_str(&format!(
+            "warning: the toys' and the asymptotic upcrossings differ by {distance:.1} standard errors \
+             (more than {UPCROSSING_DISTANCE_WARNING}): the large-sample geometry may not describe this scan.\n"
+        ));
+    }
     Some(line)
+}
+
+/// |N_toys - N_asymptotic| / standard error of N_toys, where both exist.
+fn upcrossing_distance(measured: &LookElsewhere) -> Option<f64> {
+    let toys = measured.mean_upcrossings?;
+    let error = measured.mean_upcrossings_error.filter(|e| *e > 0.0)?;
+    let asymptotic = measured.mean_upcrossings_asimov?;
+    Some((toys - asymptotic).abs() / error)
 }
 
 /// "Days until the nominal signal is excluded at 95% CL (median expected CLs
@@ -338,6 +386,8 @@ Calendar days to reach each target
 target   Asimov   toy median   50% of toys   90% of toys
 3σ       42 d     44 d         45 d          98 d
 5σ       never    never        never         never
+toy median: the day the median pseudo-experiment reaches the target; 50% of toys: the day half of them have (the same question read from P(Z ≥ target), differing only by interpolation) — quote the toy median.
+Days are rounded up (to the next tenth of a day below 10 days, to the next whole day from there on); projection.csv and .json keep full precision.
 
 Failed fits: 2 of 400 pseudo-experiments (0.50%), excluded from the quantiles.
 warning: more than 0.1% of fits failed at 1 of 2 exposure points (worst: 2 of 200 at 100 d, 1.00%); the quantiles there may be biased.
@@ -384,14 +434,13 @@ warning: systematic uncertainties make Z_A saturate at 4.50σ however long the r
         // Invented limits: median 1.96 σ_μ with σ_μ = sqrt(8d + (0.02·8d)²)/(1.6d)
         // reaches 1 at d = 12.48 (13 d); the toy median, 2% higher, at 13.01 d (14 d).
         let text = summary(&example::with_limits());
-        assert!(
-            text.contains(
-                "5σ       117 d    123 d        123 d         256 d\n\
+        let expected = format!(
+            "5σ       117 d    123 d        123 d         256 d\n\
+             {TOY_COLUMNS}{DAYS_ROUNDING}\n\
              Days until the nominal signal is excluded at 95% CL (median expected CLs limit): \
              Asimov 13 d, toy median 14 d\n"
-            ),
-            "{text}"
         );
+        assert!(text.contains(&expected), "{text}");
     }
 
     #[test]
@@ -498,7 +547,11 @@ warning: systematic uncertainties make Z_A saturate at 4.50σ however long the r
         calibration.z_toys = None;
         calibration.tail_reach_z = Calibration::tail_reach(1);
         let days = grid_day(projection.points[3].days, None);
-        crate::report::render_all(&projection).unwrap();
+        crate::report::render_all(
+            &projection,
+            &crate::report::projection::example::provenance(),
+        )
+        .unwrap();
         let text = summary(&projection);
         assert!(
             text.contains("note: at one point only 1 background-only pseudo-experiments converged"),

@@ -9,6 +9,7 @@ mod summary;
 pub use summary::reach_summary;
 
 use super::{Kind, Output, Report, ReportError, render};
+use crate::provenance::Provenance;
 use crate::reach::Reach;
 
 /// File name of the reach plot.
@@ -21,10 +22,13 @@ pub const REACH_JSON: &str = "reach.json";
 pub const REACH_FILES: [&str; 3] = [REACH_SVG, REACH_CSV, REACH_JSON];
 
 /// Renders the reach in memory: `reach.svg`, `reach.csv`, `reach.json`.
-pub fn render_reach(reach: &Reach) -> Result<Vec<Report>, ReportError> {
-    render(&[
-        &Output::new(REACH_SVG, Kind::Figure, reach, figure::render),
-        &Output::new(REACH_CSV, Kind::Table, reach, csv::render),
-        &Output::new(REACH_JSON, Kind::Document, reach, json::render),
-    ])
+pub fn render_reach(reach: &Reach, provenance: &Provenance) -> Result<Vec<Report>, ReportError> {
+    render(
+        &[
+            &Output::new(REACH_SVG, Kind::Figure, reach, figure::render),
+            &Output::new(REACH_CSV, Kind::Table, reach, csv::render),
+            &Output::new(REACH_JSON, Kind::Document, reach, json::render),
+        ],
+        provenance,
+    )
 }

@@ -5,9 +5,15 @@
 use crate::reach::{ExposureReach, PositionReach, Reach};
 use crate::report::kit::format::{exposure_label, fit_percent, percent_label, target_label};
 
-/// Three significant digits, as rates are read.
+/// Three significant digits, as rates are read: 0.0123, 1.89, 245; in
+/// exponent form outside [1e-3, 1e6).
 fn rate(value: f64) -> String {
-    format!("{value:.3e}")
+    let magnitude = value.abs();
+    if value == 0.0 || !(1e-3..1e6).contains(&magnitude) {
+        return format!("{value:.2e}");
+    }
+    let decimals = (2 - magnitude.log10().floor() as i32).max(0) as usize;
+    format!("{value:.decimals$}")
 }
 
 /// The position with the lowest and the highest value of `value`, among
@@ -108,4 +114,18 @@ pub fn reach_summary(reach: &Reach, toys: usize) -> String {
         }
     }
     text
+}
+
+#[cfg(test)]
+mod tests {
+    use super::rate;
+
+    /// Three significant digits (rounding half to even as Rust formats).
+    #[test]
+    fn rates_read_with_three_significant_digits() {
+        assert_eq!(rate(1.885), "1.89");
+        assert_eq!(rate(0.012345), "0.0123");
+        assert_eq!(rate(245.4), "245");
+        assert_eq!(rate(2.5e-5), "2.50e-5");
+    }
 }

@@ -1,0 +1,201 @@
+//! The look-elsewhere rows: background-only scan pseudo-experiments (one
+//! background-only fit and one signal fit per position each) on the 200-bin
+//! model, their rate on two threads, and the peak memory of scans over more
+//! positions and more toys, each in a child process.
+
+use super::memory::{current_program, peak_resident_bytes};
+use super::{BenchmarkError, Length, SEED, Timing, models};
+use crate::ensemble::{EnsemblePlan, look_elsewhere_ensemble};
+use crate::likelihood::Likelihood;
+use crate::look_elsewhere::REFERENCE_LEVEL;
+use crate::model::Model;
+use crate::scenario::Scenario;
+use std::process::Command;
+use std::time::Instant;
+
+/// The hidden flag of a child process measuring the memory of one scan ensemble.
+pub const SCAN_PROBE_FLAG: &str = "--scan-memory-probe";
+
+/// Positions of the measured scan.
+pub const POSITIONS: usize = 100;
+
+/// What the scan rows measured.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ScanBenchmark {
+    pub positions: usize,
+    /// Scan pseudo-experiments on two threads, the fastest run.
+    pub two_threads: Timing,
+    /// Scans with a failed fit.
+    pub failed_fits: usize,
+    /// Peak resident memory of one scan ensemble in a child process.
+    pub memory: Vec<ScanMemoryProbe>,
+}
+
+/// Peak resident memory of one ensemble of `toys` scans over `positions`.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct ScanMemoryProbe {
+    pub positions: usize,
+    pub toys: usize,
+    pub peak_bytes: u64,
+}
+
+impl Length {
+    /// Scan pseudo-experiments of the rate measurement.
+    fn scan_toys(self) -> usize {
+        match self {
+            Length::Quick => 1_000,
+            Length::Full => 10_000,
+        }
+    }
+
+    /// Scan pseudo-experiments of the smaller memory probes (the larger has ten times more).
+    fn scan_memory_toys(self) -> usize {
+        match self {
+            Length::Quick => 100,
+            Length::Full => 1_000,
+        }
+    }
+}
+
+/// The 200-bin benchmark model with its signal scanned over [10, 90] at
+/// `positions` evenly spaced positions.
+fn scan_scenario(positions: usize) -> Result<Scenario, BenchmarkError> {
+    let step = 80.0 / (positions - 1) as f64;
+    let text = models::scenario_text(200, 2).replace(
+        "shape: {gaussian: {mean: 50.0, sigma: 2.0}}}",
+        &format!(
+            "shape: {{gaussian: {{mean: 50.0, sigma: 2.0}}}}, scan: {{from: 10.0, to: 90.0, step: {step}}}}}"
+        ),
+    );
+    Ok(Scenario::from_yaml(&text)?)
+}
+
+/// Runs `toys` background-only scans over `positions` at the benchmark's
+/// exposure; returns their time and failed fits.
+fn time_scans(positions: usize, toys: usize) -> Result<(Timing, usize), BenchmarkError> {
+    let scenario = scan_scenario(positions)?;
+    let model = Model::from_scenario(&scenario);
+    let likelihood = Likelihood::new(&model);
+    let scan = scenario
+        .signal_scan()
+        .expect("the benchmark scenario scans");
+    let plan = EnsemblePlan {
+        toys: 0..toys,
+        seed: SEED,
+        progress: &|_| {},
+    };
+    let start = Instant::now();
+    let outcome = look_elsewhere_ensemble(
+        &likelihood,
+        &scan,
+        models::LIVE_DAYS,
+        0,
+        &plan,
+        REFERENCE_LEVEL,
+    );
+    let seconds = start.elapsed().as_secs_f64();
+    Ok((Timing { toys, seconds }, outcome.failed_fits))
+}
+
+/// The scan rows: the rate on `two` threads (the fastest of the length's
+/// repeats), then the peak memory of 100 positions x T toys, 1000 positions
+/// x T toys and 100 positions x 10 T toys, each in a child process.
+pub fn run_scan(
+    length: Length,
+    two: &rayon::ThreadPool,
+    step: &dyn Fn(&str),
+) -> Result<ScanBenchmark, BenchmarkError> {
+    let toys = length.scan_toys();
+    step(&format!(
+        "background-only scans: {toys} toys x {POSITIONS} positions on 2 threads"
+    ));
+    let mut fastest: Option<(Timing, usize)> = None;
+    for _ in 0..length.repeats() {
+        let run = two.install(|| time_scans(POSITIONS, toys))?;
+        if fastest.is_none_or(|(best, _)| run.0.seconds < best.seconds) {
+            fastest = Some(run);
+        }
+    }
+    let (two_threads, failed_fits) = fastest.expect("at least one run");
+    let per = length.scan_memory_toys();
+    let mut memory = Vec::new();
+    for (positions, toys) in [
+        (POSITIONS, per),
+        (10 * POSITIONS, per),
+        (POSITIONS, 10 * per),
+    ] {
+        step(&format!(
+            "peak memory: scans of {positions} positions x {toys} toys"
+        ));
+        memory.push(probe_in_child(positions, toys)?);
+    }
+    Ok(ScanBenchmark {
+        positions: POSITIONS,
+        two_threads,
+        failed_fits,
+        memory,
+    })
+}
+
+/// Runs, in this process, `toys` scans over `positions` and returns the peak
+/// resident memory afterwards: what a child started with [`SCAN_PROBE_FLAG`] does.
+pub fn probe_scan_in_process(positions: usize, toys: usize) -> Result<u64, BenchmarkError> {
+    time_scans(positions, toys)?;
+    peak_resident_bytes()
+}
+
+fn probe_in_child(positions: usize, toys: usize) -> Result<ScanMemoryProbe, BenchmarkError> {
+    let argument = format!("{positions}:{toys}");
+    let command = format!("runcast bench {SCAN_PROBE_FLAG} {argument}");
+    let output = Command::new(current_program()?)
+        .args(["bench", SCAN_PROBE_FLAG, &argument])
+        .output()
+        .map_err(|source| BenchmarkError::Io {
+            what: format!("start the scan memory probe {argument}"),
+            source,
+        })?;
+    let text = String::from_utf8_lossy(&output.stdout);
+    match text.trim().parse() {
+        Ok(peak_bytes) if output.status.success() => Ok(ScanMemoryProbe {
+            positions,
+            toys,
+            peak_bytes,
+        }),
+        _ => Err(BenchmarkError::Child {
+            command,
+            message: format!(
+                "expected a byte count, got {:?} ({})",
+                text.trim(),
+                String::from_utf8_lossy(&output.stderr).trim()
+            ),
+        }),
+    }
+}
+
+/// Parses the POSITIONS:TOYS argument of [`SCAN_PROBE_FLAG`]: at least the
+/// 3 positions of a scan.
+pub fn parse_scan_probe(argument: &str) -> Option<(usize, usize)> {
+    let (positions, toys) = argument.split_once(':')?;
+    let positions = positions.parse().ok().filter(|&p| p >= 3)?;
+    Some((positions, toys.parse().ok()?))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_benchmark_scan_has_the_positions_asked_for() {
+        for positions in [POSITIONS, 10 * POSITIONS] {
+            let scan = scan_scenario(positions).unwrap().signal_scan().unwrap();
+            assert_eq!(scan.len(), positions);
+        }
+    }
+
+    #[test]
+    fn parses_positions_and_toys() {
+        assert_eq!(parse_scan_probe("100:500"), Some((100, 500)));
+        assert_eq!(parse_scan_probe("2:500"), None);
+        assert_eq!(parse_scan_probe("100"), None);
+    }
+}

@@ -1,0 +1,109 @@
+//! Provenance: what made an output file, recorded in every JSON document and
+//! CSV table: the runcast version, each scenario file's name and SHA-256,
+//! and every option that changes a number. Nothing that differs between
+//! equivalent runs goes in (no output folder, path, clock, host or thread
+//! count), so the same inputs give the same bytes, and a sharded run merged
+//! gives the bytes of the unsharded one.
+
+use crate::projection::ProjectionSettings;
+use serde::Serialize;
+use serde_json::{Map, Value, json};
+use sha2::{Digest, Sha256};
+
+/// What made one set of outputs.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Provenance {
+    pub runcast_version: String,
+    /// The scenario files read, in the order given.
+    pub scenarios: Vec<ScenarioFile>,
+    /// Every option that changes a number, by name, in a fixed order.
+    pub options: Map<String, Value>,
+}
+
+/// One scenario file: its name (not its path, which may differ between
+/// equivalent runs) and the SHA-256 of its bytes (FIPS 180-4), in hex.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ScenarioFile {
+    pub file: String,
+    pub sha256: String,
+}
+
+impl ScenarioFile {
+    /// The file `name` with the text `text`.
+    pub fn new(name: &str, text: &str) -> ScenarioFile {
+        ScenarioFile {
+            file: name.to_string(),
+            sha256: Sha256::digest(text.as_bytes())
+                .iter()
+                .map(|byte| format!("{byte:02x}"))
+                .collect(),
+        }
+    }
+}
+
+impl Provenance {
+    /// This runcast version on `scenarios` with `options`.
+    pub fn new(scenarios: Vec<ScenarioFile>, options: Map<String, Value>) -> Provenance {
+        Provenance {
+            runcast_version: env!("CARGO_PKG_VERSION").to_string(),
+            scenarios,
+            options,
+        }
+    }
+
+    /// A projection of `scenario`: its seed, pseudo-experiments per point
+    /// (0 for Asimov only), calibration toys, the confidence level of the
+    /// limits (null without limits), the `--at` days and, with a position
+    /// scan, the background-only scan toys per point. The grid and the
+    /// targets are the scenario's, which its SHA-256 pins.
+    pub fn of_projection(scenario: ScenarioFile, settings: &ProjectionSettings) -> Provenance {
+        Provenance::new(vec![scenario], projection_options(settings))
+    }
+
+    /// The provenance as one line of compact JSON, for a CSV comment.
+    pub fn compact(&self) -> String {
+        serde_json::to_string(self).expect("provenance is plain JSON")
+    }
+}
+
+/// The options of one projection that change its numbers.
+pub fn projection_options(settings: &ProjectionSettings) -> Map<String, Value> {
+    let mut options = Map::new();
+    options.insert("seed".into(), json!(settings.seed));
+    options.insert("toys".into(), json!(settings.toys));
+    options.insert("calibration_toys".into(), json!(settings.calibration_toys));
+    options.insert("cl".into(), json!(settings.cl));
+    options.insert("at_days".into(), json!(settings.at_days));
+    if settings.scan.is_some() {
+        options.insert(
+            "look_elsewhere_toys".into(),
+            json!(settings.look_elsewhere_toys),
+        );
+    }
+    options
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_scenario_hash_is_sha256() {
+        // FIPS 180-2, appendix B.1: SHA-256("abc").
+        assert_eq!(
+            ScenarioFile::new("a.yaml", "abc").sha256,
+            "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad"
+        );
+    }
+
+    #[test]
+    fn compact_provenance_is_one_line_whatever_the_file_name() {
+        let provenance =
+            Provenance::new(vec![ScenarioFile::new("two\nlines.yaml", "x")], Map::new());
+        let line = provenance.compact();
+        assert!(!line.contains('\n'), "{line}");
+        let parsed: Value = serde_json::from_str(&line).unwrap();
+        assert_eq!(parsed["scenarios"][0]["file"], "two\nlines.yaml");
+        assert_eq!(parsed["runcast_version"], env!("CARGO_PKG_VERSION"));
+    }
+}
