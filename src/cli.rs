@@ -295,6 +295,9 @@ pub struct BinningArgs {
     /// Calendar days of data-taking at which to compare binnings.
     #[arg(long, value_name = "D", allow_negative_numbers = true)]
     pub days: f64,
+    /// The channel whose binning to scan; required when the scenario has several.
+    #[arg(long, value_name = "NAME")]
+    pub channel: Option<String>,
     /// Output directory (default: output/<scenario file stem>).
     #[arg(long, value_name = "DIR")]
     pub out: Option<PathBuf>,

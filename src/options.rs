@@ -583,6 +583,8 @@ impl ReachOptions {
 /// `runcast binning`, resolved.
 pub struct BinningOptions {
     pub loaded: Loaded,
+    /// The scenario of the one channel scanned (`--channel`).
+    pub channel: Scenario,
     pub days: f64,
     pub out: PathBuf,
     pub formats: FigureFormats,
@@ -600,12 +602,43 @@ impl BinningOptions {
         let loaded = Loaded::load(&args.scenario)?;
         loaded.live_days(args.days)?;
         Ok(BinningOptions {
+            channel: channel_alone(&loaded.scenario, args.channel.as_deref())?,
             days: args.days,
             out: loaded.output_directory(args.out.as_deref()),
             formats: figure_formats(&args.figures)?,
             loaded,
         })
     }
+}
+
+/// The scenario of the channel `--channel` names: any of a scenario's
+/// channels, and needed when it has several; the error lists the names.
+fn channel_alone(scenario: &Scenario, name: Option<&str>) -> Result<Scenario, Error> {
+    let names = || {
+        let names: Vec<&str> = scenario.channels.iter().map(|c| c.name.as_str()).collect();
+        names.join(", ")
+    };
+    let index = match name {
+        None if scenario.channels.len() == 1 => 0,
+        None => {
+            return Err(Error::Usage(format!(
+                "--channel: the scenario has {} channels; name one of: {}",
+                scenario.channels.len(),
+                names()
+            )));
+        }
+        Some(name) => scenario
+            .channels
+            .iter()
+            .position(|channel| channel.name == name)
+            .ok_or_else(|| {
+                Error::Usage(format!(
+                    "--channel {name}: no such channel; the scenario's channels are: {}",
+                    names()
+                ))
+            })?,
+    };
+    Ok(scenario.only_channel(index))
 }
 
 #[cfg(test)]

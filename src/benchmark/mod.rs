@@ -23,6 +23,7 @@ use crate::ensemble::{
     EnsemblePlan, Generator, background_only_q0_ensemble, discovery_ensemble, toy_stream,
 };
 use crate::likelihood::Likelihood;
+use crate::model::Model;
 use crate::scenario::ScenarioError;
 use rayon::prelude::*;
 use std::fmt;
@@ -152,7 +153,9 @@ impl Timing {
 /// Throughput on one model.
 #[derive(Debug, Clone, PartialEq)]
 pub struct ModelResult {
+    /// Bins of all channels together.
     pub bins: usize,
+    pub channels: usize,
     pub one_thread: Timing,
     pub two_threads: Timing,
     /// The draws of the same toys alone, on two threads.
@@ -190,25 +193,10 @@ pub fn run(length: Length, step: &dyn Fn(&str)) -> Result<BenchmarkReport, Bench
     let mut results = Vec::new();
     for bins in models::BIN_COUNTS {
         let model = models::model(bins)?;
-        let likelihood = Likelihood::new(&model);
-        let toys = length.toys(bins);
-        step(&format!("{bins} bins: {toys} toys on 1 and 2 threads"));
-        let mut fastest = Fastest::default();
-        // Interleaved, so that other work on the machine falls on all three alike.
-        for _ in 0..length.repeats() {
-            let (one_thread, failed_one) = one.install(|| time_toys(&likelihood, toys));
-            let (two_threads, failed_two) = two.install(|| time_toys(&likelihood, toys));
-            let draws_only = two.install(|| time_draws(&likelihood, toys));
-            fastest.keep(ModelResult {
-                bins,
-                one_thread,
-                two_threads,
-                draws_only,
-                failed_fits: failed_one + failed_two,
-            });
-        }
-        results.push(fastest.0.expect("at least one run"));
+        results.push(measure_model(&model, length, (&one, &two), step));
     }
+    let two_channels = models::two_channel_model()?;
+    results.push(measure_model(&two_channels, length, (&one, &two), step));
     let model = models::model(200)?;
     let likelihood = Likelihood::new(&model);
     let fewer = length.toys(200) / 5;
@@ -250,6 +238,39 @@ pub fn run(length: Length, step: &dyn Fn(&str)) -> Result<BenchmarkReport, Bench
         background_only,
         scan,
     })
+}
+
+/// Toys per second of `model` on one and two threads (`pools`), and its
+/// draws alone: the fastest of the length's repeats.
+fn measure_model(
+    model: &Model,
+    length: Length,
+    (one, two): (&rayon::ThreadPool, &rayon::ThreadPool),
+    step: &dyn Fn(&str),
+) -> ModelResult {
+    let likelihood = Likelihood::new(model);
+    let channels = model.channels.len();
+    let bins: usize = model.channels.iter().map(|c| c.edges.len() - 1).sum();
+    let toys = length.toys(bins);
+    step(&format!(
+        "{bins} bins in {channels} channel(s): {toys} toys on 1 and 2 threads"
+    ));
+    let mut fastest = Fastest::default();
+    // Interleaved, so that other work on the machine falls on all three alike.
+    for _ in 0..length.repeats() {
+        let (one_thread, failed_one) = one.install(|| time_toys(&likelihood, toys));
+        let (two_threads, failed_two) = two.install(|| time_toys(&likelihood, toys));
+        let draws_only = two.install(|| time_draws(&likelihood, toys));
+        fastest.keep(ModelResult {
+            bins,
+            channels,
+            one_thread,
+            two_threads,
+            draws_only,
+            failed_fits: failed_one + failed_two,
+        });
+    }
+    fastest.0.expect("at least one run")
 }
 
 /// The fastest of several runs of each measurement of one model (same toys

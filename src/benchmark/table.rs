@@ -14,7 +14,8 @@ pub fn render(report: &BenchmarkReport) -> String {
         text,
         "runcast bench ({run}): one toy = Poisson draw of every bin + fit with mu free \
          + fit with mu = 0 + q0\nmodels: Gaussian peak on an exponential continuum; mu, \
-         background factor (10% constraint) and slope fitted; {} live days\n\
+         background factor (10% constraint) and slope fitted; {} live days; 2x100: the same \
+         events in two channels, each with its own factor and slope, one 5% factor shared\n\
          rates: fastest of {} runs; toy/draw = cost of a full toy over its draw alone\n",
         super::models::LIVE_DAYS,
         report.length.repeats()
@@ -40,7 +41,7 @@ pub fn render(report: &BenchmarkReport) -> String {
         report
             .models
             .iter()
-            .find(|m| m.bins == 200)
+            .find(|m| m.bins == 200 && m.channels == 1)
             .map(|m| m.two_threads),
     );
     if let Some(all) = all {
@@ -129,9 +130,13 @@ fn model_row(model: &ModelResult) -> String {
     let two = model.two_threads.per_second();
     let draws = model.draws_only.per_second();
     let nanoseconds_per_bin = 1e9 / one / model.bins as f64;
+    let bins = match model.channels {
+        1 => model.bins.to_string(),
+        channels => format!("{channels}x{}", model.bins / channels),
+    };
     format!(
         "{:>5} {:>8} {:>12.0} {:>12.0} {:>8.2} {:>13.0} {:>10.1} {:>13.1} {:>7}\n",
-        model.bins,
+        bins,
         model.two_threads.toys,
         one,
         two,
@@ -155,6 +160,7 @@ mod tests {
             length: Length::Quick,
             models: vec![ModelResult {
                 bins: 200,
+                channels: 1,
                 one_thread: timing(1000, 0.02),
                 two_threads: timing(1000, 0.01),
                 draws_only: timing(1000, 0.001),
@@ -187,6 +193,15 @@ mod tests {
             "{text}"
         );
         assert!(text.contains("median 25.0 ms"), "{text}");
+        let two_channels = ModelResult {
+            channels: 2,
+            ..report.models[0].clone()
+        };
+        assert!(
+            model_row(&two_channels).starts_with("2x100     1000        50000"),
+            "{}",
+            model_row(&two_channels)
+        );
         assert!(text.contains("12.5 MB"), "{text}");
         // 1000 scans in 0.4 s: 2500/s, each 101 fits, 252500 fits/s.
         assert!(

@@ -11,7 +11,7 @@ use runcast::report;
 pub fn run(args: &BinningArgs) -> Result<(), Error> {
     let options = BinningOptions::resolve(args)?;
     print_warnings(&options.loaded);
-    let scan = scan_binning(&options.loaded.scenario, options.days)?;
+    let scan = scan_binning(&options.channel, options.days)?;
     let reports = report::render_binning(&scan, &options.provenance())?;
     let written = report::write_all(
         &options.out,

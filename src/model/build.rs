@@ -6,6 +6,7 @@ use super::{
 use crate::scenario::{self, Background, NormUncertainty, Scenario, ShapeSpec, Signal};
 use crate::shapes::{self, Shape};
 use std::collections::{BTreeMap, BTreeSet};
+use std::sync::Arc;
 
 impl Model {
     /// The model of a scenario: mu, common to all channels, one factor per
@@ -287,13 +288,14 @@ pub fn fraction_inside(spec: &ShapeSpec, range: [f64; 2], low: f64, high: f64) -
 
 /// The shape a validated scenario names, on the observable's `range`, built
 /// by its kind's constructor (validation has run the same constructor).
-pub fn shape_from_spec(spec: &ShapeSpec, range: [f64; 2]) -> Box<dyn shapes::Shape> {
+pub fn shape_from_spec(spec: &ShapeSpec, range: [f64; 2]) -> Arc<dyn shapes::Shape> {
     let fixed = shapes::Placement {
         range,
         floated: false,
     };
     spec.build(fixed)
         .expect("validation refuses shapes that are no density on the range")
+        .into()
 }
 
 #[cfg(test)]

@@ -18,6 +18,7 @@ pub use build::{bin_edges, fraction_inside, shape_from_spec};
 pub use schedule::{Exposure, LiveTime};
 
 use crate::shapes::Shape;
+use std::sync::Arc;
 
 /// Index of the signal strength mu in every parameter vector.
 pub const SIGNAL_STRENGTH: usize = 0;
@@ -46,7 +47,7 @@ pub enum ShapeParameters {
 }
 
 /// One signal or background contribution to a channel.
-#[derive(Debug)]
+#[derive(Debug, Clone)]
 pub struct Component {
     pub name: String,
     pub is_signal: bool,
@@ -54,7 +55,8 @@ pub struct Component {
     pub events_per_live_day: f64,
     /// Its exposure as a function of live days, from the schedule.
     pub exposure: Exposure,
-    pub shape: Box<dyn Shape>,
+    /// Shared, not copied, by the model of a channel alone ([`Model::channel_alone`]).
+    pub shape: Arc<dyn Shape>,
     /// Parameters whose product multiplies the yield (mu and a signal factor, or a background factor).
     pub yield_parameters: Vec<usize>,
     pub shape_parameters: ShapeParameters,
@@ -69,7 +71,7 @@ impl Component {
 }
 
 /// A binned observable with its components.
-#[derive(Debug)]
+#[derive(Debug, Clone)]
 pub struct Channel {
     pub name: String,
     pub unit: String,
@@ -104,6 +106,25 @@ impl Constraint {
         }
     }
 
+    /// The same constraint acting on parameter `parameter`.
+    fn on(&self, parameter: usize) -> Constraint {
+        match self {
+            Constraint::Gaussian { width, .. } => Constraint::Gaussian {
+                parameter,
+                width: *width,
+            },
+            Constraint::ControlRegion {
+                events_per_live_day,
+                exposure,
+                ..
+            } => Constraint::ControlRegion {
+                parameter,
+                events_per_live_day: *events_per_live_day,
+                exposure: exposure.clone(),
+            },
+        }
+    }
+
     /// The global observable's expected value at parameter value `theta_p` after `live_days`.
     pub fn expected_global_observable(&self, theta_p: f64, live_days: f64) -> f64 {
         match self {
@@ -130,6 +151,63 @@ impl Model {
     /// Nominal (generating) parameter values, mu = 1.
     pub fn nominal_parameters(&self) -> Vec<f64> {
         self.parameters.iter().map(|p| p.nominal).collect()
+    }
+
+    /// The model of channel `index` alone: its components, the parameters
+    /// they use (mu first, in their order) renumbered, and the constraints on
+    /// those. Its Asimov q0 is the channel's own, as if it were the only one.
+    pub fn channel_alone(&self, index: usize) -> Model {
+        let channel = &self.channels[index];
+        let mut used = vec![false; self.parameters.len()];
+        used[SIGNAL_STRENGTH] = true;
+        for component in &channel.components {
+            let floating = match &component.shape_parameters {
+                ShapeParameters::Floating { parameters, .. } => parameters.as_slice(),
+                ShapeParameters::Fixed(_) => &[],
+            };
+            let floating = floating.iter().flatten();
+            for &parameter in component.yield_parameters.iter().chain(floating) {
+                used[parameter] = true;
+            }
+        }
+        let mut renumbered = vec![None; used.len()];
+        let mut parameters = Vec::new();
+        for (old, parameter) in self.parameters.iter().enumerate() {
+            if used[old] {
+                renumbered[old] = Some(parameters.len());
+                parameters.push(parameter.clone());
+            }
+        }
+        let at = |parameter: usize| renumbered[parameter].expect("a parameter the channel uses");
+        let components = channel
+            .components
+            .iter()
+            .map(|component| Component {
+                yield_parameters: component.yield_parameters.iter().map(|&p| at(p)).collect(),
+                shape_parameters: match &component.shape_parameters {
+                    ShapeParameters::Floating { values, parameters } => ShapeParameters::Floating {
+                        values: values.clone(),
+                        parameters: parameters.iter().map(|p| p.map(at)).collect(),
+                    },
+                    fixed => fixed.clone(),
+                },
+                ..component.clone()
+            })
+            .collect();
+        let constraints = self
+            .constraints
+            .iter()
+            .filter_map(|constraint| renumbered[constraint.parameter()].map(|p| constraint.on(p)))
+            .collect();
+        Model {
+            parameters,
+            channels: vec![Channel {
+                components,
+                ..channel.clone()
+            }],
+            constraints,
+            live_time: self.live_time.clone(),
+        }
     }
 
     /// Expected events per live day at nominal parameters outside any

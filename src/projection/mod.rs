@@ -15,8 +15,8 @@ pub use ensembles::{
 };
 pub use point::BAND_QUANTILES;
 pub use result::{
-    AtDay, Calibration, DaysToExclusion, DaysToTarget, EventLimits, ExposurePoint, GlobalDays,
-    GlobalSignificance, LookElsewhere, Projection, ScanSummary, TargetProbability,
+    AtDay, Calibration, ChannelPoint, DaysToExclusion, DaysToTarget, EventLimits, ExposurePoint,
+    GlobalDays, GlobalSignificance, LookElsewhere, Projection, ScanSummary, TargetProbability,
 };
 pub use shard::{ShardError, ShardRun, ShardSpec, merge_shards, run_shard};
 
@@ -24,6 +24,7 @@ use crate::asymptotic::AsimovSignificance;
 use crate::likelihood::{FitFailure, Likelihood};
 use crate::model::Model;
 use crate::scenario::SignalScan;
+use point::ChannelAlone;
 use std::fmt;
 
 /// What to project.
@@ -123,7 +124,11 @@ pub fn project_from<S: ToySource>(
 ) -> Result<Projection, S::Error> {
     let likelihood = Likelihood::new(model);
     let mut asimov = AsimovSignificance::new(&likelihood);
-    let (points, at_points) = points(&likelihood, &mut asimov, settings, source)?;
+    let channel_models = channels_alone(model);
+    let channel_likelihoods: Vec<Likelihood> = channel_models.iter().map(Likelihood::new).collect();
+    let mut channels: Vec<ChannelAlone> =
+        channel_likelihoods.iter().map(ChannelAlone::new).collect();
+    let (points, at_points) = points(&likelihood, &mut asimov, &mut channels, settings, source)?;
     let days_to_target = days::days_to_targets(
         model,
         &mut asimov,
@@ -158,6 +163,16 @@ pub fn project_from<S: ToySource>(
     })
 }
 
+/// The model of each channel alone when there are several; none for one.
+fn channels_alone(model: &Model) -> Vec<Model> {
+    match model.channels.len() {
+        1 => Vec::new(),
+        channels => (0..channels)
+            .map(|index| model.channel_alone(index))
+            .collect(),
+    }
+}
+
 /// The first exposure index of the `--at` days: the point at `--at` day j
 /// (in increasing order) keys its random streams with `AT_EXPOSURE_INDEX + j`,
 /// far above any grid index ([`MAX_GRID_POINTS`](crate::scenario::limits::MAX_GRID_POINTS)),
@@ -171,6 +186,7 @@ pub const AT_EXPOSURE_INDEX: usize = 1 << 31;
 fn points<S: ToySource>(
     likelihood: &Likelihood,
     asimov: &mut AsimovSignificance,
+    channels: &mut [ChannelAlone],
     settings: &ProjectionSettings,
     source: &mut S,
 ) -> Result<(Vec<ExposurePoint>, Vec<ExposurePoint>), S::Error> {
@@ -178,7 +194,7 @@ fn points<S: ToySource>(
     let mut run = |first_index: usize, days: &[f64]| {
         days.iter()
             .enumerate()
-            .map(|(index, &days)| runner.point(asimov, first_index + index, days, source))
+            .map(|(index, &days)| runner.point(asimov, channels, first_index + index, days, source))
             .collect::<Result<Vec<_>, _>>()
     };
     let grid = run(0, &settings.days)?;

@@ -6,14 +6,14 @@ use super::ensembles::{
     PointRequest, ToySource,
 };
 use super::{
-    Calibration, ExposurePoint, GlobalSignificance, LookElsewhere, ProjectionError,
+    Calibration, ChannelPoint, ExposurePoint, GlobalSignificance, LookElsewhere, ProjectionError,
     ProjectionSettings, TargetProbability,
 };
 use crate::asymptotic::{
     AsimovSignificance, p_value, probability_to_reach, significance, significance_band,
 };
 use crate::ensemble::EnsembleOutcome;
-use crate::likelihood::Likelihood;
+use crate::likelihood::{FitFailure, Likelihood};
 use crate::limits::{AsymptoticLimits, asymptotic_limits};
 use crate::look_elsewhere::{
     REFERENCE_LEVEL, global_significance, mean_upcrossings, trials_factor,
@@ -23,6 +23,41 @@ use crate::upcrossings::scan_geometry_of;
 /// The quantiles reported as bands: the normal-distribution probabilities of
 /// -2, -1, +1 and +2 sigma (common practice).
 pub const BAND_QUANTILES: [f64; 4] = [0.02275, 0.158655, 0.841345, 0.97725];
+
+/// One channel of a model with several, alone: its own rates and Asimov fits.
+pub(super) struct ChannelAlone<'l, 'm> {
+    name: String,
+    /// Expected (signal, background) events per live day in the channel.
+    rates: (f64, f64),
+    asimov: AsimovSignificance<'l, 'm>,
+}
+
+impl<'l, 'm> ChannelAlone<'l, 'm> {
+    /// `likelihood` is that of the channel's model alone (`Model::channel_alone`).
+    pub fn new(likelihood: &'l Likelihood<'m>) -> Self {
+        let model = likelihood.model();
+        ChannelAlone {
+            name: model.channels[0].name.clone(),
+            rates: model.nominal_rates(),
+            asimov: AsimovSignificance::new(likelihood),
+        }
+    }
+
+    /// The channel after `live_days`; Z_A = 0 without live time.
+    fn point(&mut self, live_days: f64) -> Result<ChannelPoint, FitFailure> {
+        let z_asimov = if live_days > 0.0 {
+            self.asimov.at_live_days(live_days)?
+        } else {
+            0.0
+        };
+        Ok(ChannelPoint {
+            name: self.name.clone(),
+            signal: self.rates.0 * live_days,
+            background: self.rates.1 * live_days,
+            z_asimov,
+        })
+    }
+}
 
 /// Computes exposure points for one projection.
 pub(super) struct PointRunner<'a, 'l, 'm> {
@@ -43,6 +78,7 @@ impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
     pub fn point<S: ToySource>(
         &self,
         asimov: &mut AsimovSignificance,
+        channels: &mut [ChannelAlone],
         index: usize,
         days: f64,
         source: &mut S,
@@ -56,7 +92,7 @@ impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
             }
             source.skip(settings.calibration_toys);
             source.skip(settings.look_elsewhere_toys);
-            return Ok(self.without_exposure(days));
+            return Ok(self.without_exposure(days, channels));
         }
         let failed = |what| {
             move |failure| ProjectionError {
@@ -68,6 +104,11 @@ impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
         let z_asimov = asimov
             .at_live_days(live_days)
             .map_err(failed("Asimov discovery fit"))?;
+        let channel_points = channels
+            .iter_mut()
+            .map(|channel| channel.point(live_days))
+            .collect::<Result<Vec<_>, _>>()
+            .map_err(failed("Asimov discovery fit of one channel alone"))?;
         let toys = settings.toys;
         let limits = settings
             .cl
@@ -102,6 +143,7 @@ impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
         };
         let outcomes = source.toys(self.likelihood, &request)?;
         let mut point = self.discovery_point(days, live_days, z_asimov, outcomes.discovery);
+        point.channels = channel_points;
         add_limits(&mut point, limits, outcomes.limits);
         point.calibration = outcomes
             .calibration
@@ -122,13 +164,17 @@ impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
     }
 
     /// A grid day before any live time: nothing can be seen or excluded.
-    fn without_exposure(&self, days: f64) -> ExposurePoint {
+    fn without_exposure(&self, days: f64, channels: &mut [ChannelAlone]) -> ExposurePoint {
         let toys = self.settings.toys;
         let discovery = (toys > 0).then(|| EnsembleOutcome {
             values: vec![0.0; toys],
             failed_fits: 0,
         });
         let mut point = self.discovery_point(days, 0.0, 0.0, discovery);
+        point.channels = channels
+            .iter_mut()
+            .map(|channel| channel.point(0.0).expect("no fit without live time"))
+            .collect();
         if self.settings.scan.is_some() {
             point.global = Some(global(0.0, None, None, None));
         }
@@ -161,6 +207,7 @@ impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
             signal,
             background,
             z_asimov,
+            channels: Vec::new(),
             z_asimov_band: significance_band(z_asimov),
             z_median: sorted.as_ref().map(|z| quantile(z, 0.5)),
             z_band: sorted

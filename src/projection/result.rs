@@ -111,6 +111,10 @@ pub struct ExposurePoint {
     pub background: f64,
     /// Median expected discovery significance from the Asimov dataset.
     pub z_asimov: f64,
+    /// Each channel alone, in scenario order, when there are several; empty
+    /// (and absent from the JSON) for a single channel.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub channels: Vec<ChannelPoint>,
     /// Asymptotic band of the significance: Z_A - 2, Z_A - 1, Z_A + 1, Z_A + 2,
     /// floored at 0 (`asymptotic::significance_band`), standing at the
     /// quantiles of `z_band`.
@@ -214,6 +218,19 @@ pub struct LookElsewhere {
     /// toys; None where that geometry is degenerate (the nuisance parameters
     /// absorb the signal at some position).
     pub mean_upcrossings_asimov: Option<f64>,
+}
+
+/// One channel of a scenario with several, at one exposure point.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ChannelPoint {
+    pub name: String,
+    /// Expected signal events in this channel at nominal signal strength.
+    pub signal: f64,
+    /// Expected background events in this channel.
+    pub background: f64,
+    /// The channel's own Asimov significance, as if it were the only one
+    /// (its shared uncertainties constrained by their auxiliary measurements alone).
+    pub z_asimov: f64,
 }
 
 /// The p-value of the median expected q0 (the Asimov q0), asymptotically and

@@ -445,6 +445,15 @@ impl Scenario {
         &self.channel().backgrounds
     }
 
+    /// This scenario with channel `index` alone (schedule, plan and shared
+    /// uncertainties kept), for what handles one channel at a time.
+    pub fn only_channel(&self, index: usize) -> Scenario {
+        Scenario {
+            channels: vec![self.channels[index].clone()],
+            ..self.clone()
+        }
+    }
+
     /// The first channel, to change it in a copy of the scenario.
     pub fn channel_mut(&mut self) -> &mut Channel {
         &mut self.channels[0]

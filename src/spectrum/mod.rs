@@ -16,6 +16,7 @@ use crate::ensemble::{Generator, toy_stream};
 use crate::likelihood::{Dataset, DiscoveryTest, Likelihood};
 use crate::model::{Constraint, Model, SIGNAL_STRENGTH};
 use crate::scenario::Scenario;
+use std::ops::Range;
 
 /// Exposure index of the random streams of pseudo-data spectra, apart from the
 /// indices 0, 1, 2, ... of the projection grid. The toy index is the bit
@@ -97,13 +98,31 @@ impl ExposureSpectrum {
 #[derive(Debug, Clone, PartialEq)]
 pub struct Spectrum {
     pub title: String,
+    /// The scenario's channels, in order; their bins follow one another in
+    /// every exposure's `bins`.
+    pub channels: Vec<SpectrumChannel>,
+    pub seed: u64,
+    /// In the order the days were asked for.
+    pub exposures: Vec<ExposureSpectrum>,
+}
+
+/// One channel's observable and where its bins lie in each exposure.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SpectrumChannel {
+    pub name: String,
     /// Name and unit of the observable.
     pub observable: String,
     pub unit: String,
     pub bin_width: f64,
-    pub seed: u64,
-    /// In the order the days were asked for.
-    pub exposures: Vec<ExposureSpectrum>,
+    /// Its bins within [`ExposureSpectrum::bins`].
+    pub bins: Range<usize>,
+}
+
+impl SpectrumChannel {
+    /// This channel's bins of `exposure`.
+    pub fn bins_of<'e>(&self, exposure: &'e ExposureSpectrum) -> &'e [SpectrumBin] {
+        &exposure.bins[self.bins.clone()]
+    }
 }
 
 /// Longest file stem of a spectrum named after its days; longer stems fall
@@ -155,11 +174,26 @@ pub fn pseudo_data_spectrum(scenario: &Scenario, days: &[f64], seed: u64) -> Spe
         .iter()
         .map(|&days| exposure_spectrum(&likelihood, days, seed))
         .collect();
+    let mut first_bin = 0;
+    let channels = scenario
+        .channels
+        .iter()
+        .zip(&model.channels)
+        .map(|(channel, modelled)| {
+            let bins = first_bin..first_bin + modelled.edges.len() - 1;
+            first_bin = bins.end;
+            SpectrumChannel {
+                name: channel.name.clone(),
+                observable: channel.observable.name.clone(),
+                unit: channel.observable.unit.clone(),
+                bin_width: channel.observable.bin_width,
+                bins,
+            }
+        })
+        .collect();
     Spectrum {
         title: scenario.title.clone(),
-        observable: scenario.observable().name.clone(),
-        unit: scenario.observable().unit.clone(),
-        bin_width: scenario.observable().bin_width,
+        channels,
         seed,
         exposures,
     }
@@ -180,9 +214,11 @@ fn exposure_spectrum(likelihood: &Likelihood, days: f64, seed: u64) -> ExposureS
     let signal_plus_background = expected(likelihood, &nominal, live_days);
     let background = expected(likelihood, &background_only, live_days);
     let fit = fit_pseudo_data(likelihood, live_days, &data);
-    let edges = &model.channels[0].edges;
-    let bins = edges
-        .windows(2)
+    let bin_edges = model
+        .channels
+        .iter()
+        .flat_map(|channel| channel.edges.windows(2));
+    let bins = bin_edges
         .zip(&data.counts)
         .zip(background.iter().zip(&signal_plus_background))
         .map(
@@ -210,14 +246,12 @@ fn exposure_spectrum(likelihood: &Likelihood, days: f64, seed: u64) -> ExposureS
     }
 }
 
-/// The discovery fit of one pseudo-dataset, with the expected counts of the
-/// first channel at the free fit; None when a fit fails.
+/// The discovery fit of one pseudo-dataset, with the expected counts of
+/// every bin (all channels, in order) at the free fit; None when a fit fails.
 fn fit_pseudo_data(likelihood: &Likelihood, live_days: f64, data: &Dataset) -> Option<SpectrumFit> {
     let mut test = DiscoveryTest::new(likelihood);
     let fit = test.fit(live_days, data).ok()?;
-    let bins = likelihood.model().channels[0].edges.len() - 1;
-    let mut fitted = expected(likelihood, test.free_parameters(), live_days);
-    fitted.truncate(bins);
+    let fitted = expected(likelihood, test.free_parameters(), live_days);
     Some(SpectrumFit {
         signal_strength: fit.fitted_mu,
         local_z: fit.q0.sqrt(),

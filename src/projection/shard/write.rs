@@ -64,7 +64,7 @@ fn write_shard(
     writer.write(&header.bytes)?;
     let likelihood = Likelihood::new(model);
     let mut asimov = AsimovSignificance::new(&likelihood);
-    crate::projection::points(&likelihood, &mut asimov, &run.settings, writer)?;
+    crate::projection::points(&likelihood, &mut asimov, &mut [], &run.settings, writer)?;
     Ok(())
 }
 

@@ -5,7 +5,7 @@ use super::timeline::timeline;
 use crate::model::{Model, fraction_inside, shape_from_spec};
 use crate::projection::Projection;
 use crate::report::kit::format::{DAYS_ROUNDING, days_label, percent_label, rounded};
-use crate::scenario::{Scenario, ShapeSpec};
+use crate::scenario::{Channel, Scenario, ShapeSpec};
 use std::fmt::Write;
 use std::path::Path;
 
@@ -49,39 +49,73 @@ pub fn check_summary(
     text
 }
 
-/// Rates per live day, and S, B and S/B within the peak window.
+/// Each channel's rates (under a heading with its name when there are
+/// several), then with several channels the totals of all of them.
 fn rates(text: &mut String, scenario: &Scenario, model: &Model) {
-    let (signal, background) = model.nominal_rates();
-    let observable = scenario.observable();
-    let _ = writeln!(text, "  signal: {} events per live day", rounded(signal));
-    for b in scenario.backgrounds() {
+    let [channel] = scenario.channels.as_slice() else {
+        for (index, channel) in scenario.channels.iter().enumerate() {
+            let _ = writeln!(text, "  channel {}:", channel.name);
+            channel_rates(
+                text,
+                channel,
+                model.channel_alone(index).nominal_rates(),
+                "    ",
+            );
+        }
+        let (signal, background) = model.nominal_rates();
         let _ = writeln!(
             text,
-            "  background {}: {} events per live day",
+            "  all channels: signal {}, background {} events per live day, S/B = {}",
+            rounded(signal),
+            rounded(background),
+            rounded(signal / background)
+        );
+        return;
+    };
+    channel_rates(text, channel, model.nominal_rates(), "  ");
+}
+
+/// One channel's rates per live day (`rates`: signal and background of its
+/// model), and S, B and S/B within the peak window; each line after `indent`.
+fn channel_rates(text: &mut String, channel: &Channel, rates: (f64, f64), indent: &str) {
+    let (signal, background) = rates;
+    let observable = &channel.observable;
+    let _ = writeln!(
+        text,
+        "{indent}signal: {} events per live day",
+        rounded(signal)
+    );
+    for b in &channel.backgrounds {
+        let _ = writeln!(
+            text,
+            "{indent}background {}: {} events per live day",
             b.name,
             rounded(b.events_per_day)
         );
     }
     let _ = writeln!(
         text,
-        "  background total: {} events per live day",
+        "{indent}background total: {} events per live day",
         rounded(background)
     );
-    let Some((low, high)) = peak_window(&scenario.signal().shape, observable.range) else {
-        text.push_str("  the signal peak ±2 widths lies outside the range: no S/B at the peak\n");
+    let Some((low, high)) = peak_window(&channel.signal.shape, observable.range) else {
+        let _ = writeln!(
+            text,
+            "{indent}the signal peak ±2 widths lies outside the range: no S/B at the peak"
+        );
         return;
     };
     let in_window =
         |spec: &ShapeSpec, rate: f64| rate * fraction_inside(spec, observable.range, low, high);
-    let signal_in = in_window(&scenario.signal().shape, signal);
-    let background_in: f64 = scenario
-        .backgrounds()
+    let signal_in = in_window(&channel.signal.shape, signal);
+    let background_in: f64 = channel
+        .backgrounds
         .iter()
         .map(|b| in_window(&b.shape, b.events_per_day))
         .sum();
     let _ = writeln!(
         text,
-        "  within [{}, {}] {}: S = {}, B = {} per live day, S/B = {}",
+        "{indent}within [{}, {}] {}: S = {}, B = {} per live day, S/B = {}",
         rounded(low),
         rounded(high),
         observable.unit,

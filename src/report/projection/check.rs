@@ -18,7 +18,8 @@ const LIMIT: &str = "a finite upper limit on the signal strength above 0";
 /// - every number finite (targets, counts, significances, probabilities, days,
 ///   calibrations), the confidence level between 0 and 1;
 /// - every expected limit on μ finite and above zero (absent limits are fine);
-/// - every point carries one probability per target, in the order of `targets`.
+/// - every point carries one probability per target, in the order of `targets`;
+/// - every point lists the same channels as the first.
 pub(in crate::report) fn check_projection(projection: &Projection) -> Result<(), ReportError> {
     if projection.points.is_empty() {
         return Err(invalid(
@@ -30,11 +31,22 @@ pub(in crate::report) fn check_projection(projection: &Projection) -> Result<(),
     for (index, &target) in projection.targets.iter().enumerate() {
         finite(format!("targets[{index}]"), target)?;
     }
-    check_points("points", projection.points.iter(), &projection.targets)?;
+    let channel_names: Vec<String> = projection.points[0]
+        .channels
+        .iter()
+        .map(|channel| channel.name.clone())
+        .collect();
+    check_points(
+        "points",
+        projection.points.iter(),
+        &projection.targets,
+        &channel_names,
+    )?;
     check_points(
         "at",
         projection.at.iter().map(|at| &at.point),
         &projection.targets,
+        &channel_names,
     )?;
     for (index, row) in projection.days_to_target.iter().enumerate() {
         let field = |name: &str| format!("days_to_target[{index}].{name}");
@@ -64,11 +76,32 @@ pub(in crate::report) fn check_projection(projection: &Projection) -> Result<(),
     optional_finite(field("median_days"), exclusion.median_days)
 }
 
+/// `point`, at dotted path `at`, lists the channels `names` (those of the
+/// first grid point, after which the CSV names its columns), in order, each
+/// with finite numbers.
+fn check_channels(at: &str, point: &ExposurePoint, names: &[String]) -> Result<(), ReportError> {
+    if !point.channels.iter().map(|c| &c.name).eq(names.iter()) {
+        return Err(invalid(
+            format!("{at}.channels"),
+            format!("{} channels", point.channels.len()),
+            "the channels of points[0], in its order",
+        ));
+    }
+    for (position, channel) in point.channels.iter().enumerate() {
+        let field = |name: &str| format!("{at}.channels[{position}].{name}");
+        finite(field("signal"), channel.signal)?;
+        finite(field("background"), channel.background)?;
+        finite(field("z_asimov"), channel.z_asimov)?;
+    }
+    Ok(())
+}
+
 /// The points of the list `list` (`points`, the grid, or `at`, the `--at` days).
 fn check_points<'a>(
     list: &str,
     points: impl Iterator<Item = &'a ExposurePoint>,
     targets: &[f64],
+    channel_names: &[String],
 ) -> Result<(), ReportError> {
     let mut previous_days = 0.0;
     for (index, point) in points.enumerate() {
@@ -86,6 +119,7 @@ fn check_points<'a>(
         finite(field("signal"), point.signal)?;
         finite(field("background"), point.background)?;
         finite(field("z_asimov"), point.z_asimov)?;
+        check_channels(&format!("{list}[{index}]"), point, channel_names)?;
         for (quantile, &z) in point.z_asimov_band.iter().enumerate() {
             finite(field(&format!("z_asimov_band[{quantile}]")), z)?;
         }

@@ -13,7 +13,8 @@
 //! those quantiles), `limit_failed_fits`; then the q0 calibration,
 //! `calibration_converged_toys, calibration_failed_fits, calibration_exceeding,
 //! q0_asimov, p_asymptotic, p_toys, z_asymptotic, z_toys, tail_reach_z`;
-//! with a scan of the signal position (only then), the look-elsewhere
+//! with several channels (only then), `z_asimov_<channel>`: each channel's
+//! own Z_A; with a scan of the signal position (only then), the look-elsewhere
 //! columns `z_global_asimov, z_global_median, reference_level,
 //! mean_upcrossings, mean_upcrossings_error, look_elsewhere_toys,
 //! look_elsewhere_failed_fits, direct_global_p, trials_factor,
@@ -162,9 +163,11 @@ fn dated(
     (columns, rows)
 }
 
-/// The columns of one point: [`header`], then with a scan [`GLOBAL_COLUMNS`].
+/// The columns of one point: [`header`], then with several channels each
+/// channel's Z_A, then with a scan [`GLOBAL_COLUMNS`].
 fn point_columns(projection: &Projection) -> Vec<String> {
     let mut columns = header(&projection.targets);
+    columns.extend(channel_columns(projection));
     if projection.scan.is_some() {
         columns.extend(GLOBAL_COLUMNS.iter().map(|name| name.to_string()));
     }
@@ -226,6 +229,18 @@ fn header(targets: &[f64]) -> Vec<String> {
     columns
 }
 
+/// `z_asimov_<channel>` for each channel of a scenario with several (every
+/// point lists the same channels); none for a single channel.
+fn channel_columns(projection: &Projection) -> Vec<String> {
+    projection.points.first().map_or_else(Vec::new, |point| {
+        point
+            .channels
+            .iter()
+            .map(|channel| format!("z_asimov_{}", channel.name))
+            .collect()
+    })
+}
+
 /// One row; the probabilities are in the order of the targets (checked upstream).
 fn row(point: &ExposurePoint) -> Vec<String> {
     let mut cells = vec![
@@ -245,6 +260,12 @@ fn row(point: &ExposurePoint) -> Vec<String> {
     cells.push(point.failed_fits.to_string());
     cells.extend(limit_cells(point));
     cells.extend(calibration_cells(point.calibration.as_ref()));
+    cells.extend(
+        point
+            .channels
+            .iter()
+            .map(|channel| number(channel.z_asimov)),
+    );
     cells
 }
 

@@ -44,6 +44,7 @@ pub(crate) fn tiny() -> Projection {
                 signal: 16.0,
                 background: 80.0,
                 z_asimov: 1.75,
+                channels: Vec::new(),
                 z_asimov_band: [0.0, 0.75, 2.75, 3.75],
                 z_median: Some(1.625),
                 z_band: Some([0.125, 0.75, 2.5, 3.5]),
@@ -74,6 +75,7 @@ pub(crate) fn tiny() -> Projection {
                 signal: 160.0,
                 background: 800.0,
                 z_asimov: 3.875,
+                channels: Vec::new(),
                 z_asimov_band: [1.875, 2.875, 4.875, 5.875],
                 z_median: None,
                 z_band: None,
@@ -213,6 +215,7 @@ impl InventedSearch {
             signal: Self::SIGNAL_PER_LIVE_DAY * live_days,
             background: Self::BACKGROUND_PER_LIVE_DAY * live_days,
             z_asimov,
+            channels: Vec::new(),
             z_asimov_band: crate::asymptotic::significance_band(z_asimov),
             z_median: toys.then_some(z_median),
             z_band: toys.then(|| {

@@ -9,7 +9,8 @@
 //! the global significances beside them (the toy median's solid, Z_A's
 //! dashed, in their own colours): the local ones after the look-elsewhere
 //! effect. Each target is a horizontal line, with a marker and a label where
-//! each curve reaches it (global labels below the line).
+//! each curve reaches it (global labels below the line). With several
+//! channels, each channel's own Asimov curve, thin, beside the combined one.
 
 use super::ensembles::Ensemble;
 use super::{PROJECTION_SVG, day_range};
@@ -19,13 +20,25 @@ use crate::report::kit::axis::{Axis, LogAxis, days_axis, linear_axis};
 use crate::report::kit::dates::dated_days_label;
 use crate::report::kit::figure::{self, Canvas, Chart, DrawError, Frame, SIZE};
 use crate::report::kit::format::target_label;
+use crate::report::kit::legend::Line;
 use crate::report::kit::marks::{self, BandPoint, Stroke};
-use crate::report::kit::palette::{DASH, INK_TEAL, LABEL_SIZE, PLUM, VERMILION, VIOLET};
+use crate::report::kit::palette::{
+    DASH, INK_TEAL, LABEL_SIZE, PLUM, SERIES_COLOURS, VERMILION, VIOLET,
+};
 use plotters::coord::types::RangedCoordf64;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, VPos};
 
 type SignificanceChart<'a, 'b> = Chart<'a, 'b, LogAxis, RangedCoordf64>;
+
+/// Colours of the channels' own curves: the series colours after the two the
+/// toy median and the combined Asimov curve use.
+const CHANNEL_COLOURS: [RGBColor; 4] = [
+    SERIES_COLOURS[2],
+    SERIES_COLOURS[3],
+    SERIES_COLOURS[4],
+    SERIES_COLOURS[5],
+];
 
 /// The significance plot as SVG bytes.
 pub(super) fn render(projection: &Projection) -> Result<Vec<u8>, ReportError> {
@@ -78,6 +91,7 @@ fn draw(canvas: &Canvas, projection: &Projection) -> Result<(), DrawError> {
         Stroke::Dashed,
         label,
     )?;
+    draw_channels(&mut chart, projection)?;
     draw_global(&mut chart, projection)?;
     draw_saturation(&mut chart, canvas, projection, ceiling)?;
     draw_days_to_target(&mut chart, canvas, projection)?;
@@ -87,6 +101,31 @@ fn draw(canvas: &Canvas, projection: &Projection) -> Result<(), DrawError> {
         Some(text) => marks::draw_footnote(canvas, &text),
         None => Ok(()),
     }
+}
+
+/// With several channels, each channel's own Asimov curve, thin and dashed,
+/// labelled with its name in the legend; a combined Z_A is never below a
+/// channel's (the other channels only add deviance terms), so the axis needs
+/// no room for them.
+fn draw_channels<'a, 'b: 'a>(
+    chart: &mut SignificanceChart<'a, 'b>,
+    projection: &Projection,
+) -> Result<(), DrawError> {
+    let Some(first) = projection.points.first() else {
+        return Ok(());
+    };
+    for (index, channel) in first.channels.iter().enumerate() {
+        let curve = projection
+            .points
+            .iter()
+            .map(|point| (point.days, point.channels[index].z_asimov))
+            .collect();
+        let colour = CHANNEL_COLOURS[index % CHANNEL_COLOURS.len()];
+        let line = Line::Dashed(colour.stroke_width(1), DASH);
+        let label = format!("Asimov Z_A, {} alone", channel.name);
+        marks::draw_line(chart, curve, line, Some(label))?;
+    }
+    Ok(())
 }
 
 /// The toy quantiles where present.

@@ -1,6 +1,7 @@
 //! `spectrum-<D>d.csv`: one row per bin and exposure.
 //!
-//! Columns: `days, live_days, low, high, counts, background,
+//! Columns (after `channel`, each row's channel, when there are several):
+//! `days, live_days, low, high, counts, background,
 //! signal_plus_background, error_low, error_high, fitted,
 //! fitted_signal_strength, local_z`. `background` and
 //! `signal_plus_background` are expected counts; `error_low` and `error_high`
@@ -34,43 +35,56 @@ const COLUMNS: [&str; 12] = [
     "local_z",
 ];
 
-/// The CSV table of the spectra, exposures in order.
+/// The CSV table of the spectra, exposures in order, each exposure's channels
+/// in order; with several channels a first column `channel` names each row's.
 pub(super) fn render(spectrum: &Spectrum) -> Result<Vec<u8>, ReportError> {
+    let named = spectrum.channels.len() > 1;
     let rows = spectrum.exposures.iter().flat_map(|exposure| {
-        exposure.bins.iter().enumerate().map(move |(index, bin)| {
-            let fit = exposure.fit.as_ref();
-            let cell = |value: Option<f64>| value.map_or_else(String::new, number);
-            [
-                number(exposure.days),
-                number(exposure.live_days),
-                number(bin.low),
-                number(bin.high),
-                bin.counts.to_string(),
-                number(bin.background),
-                number(bin.signal_plus_background),
-                number(bin.error_low),
-                number(bin.error_high),
-                cell(fit.map(|fit| fit.expected[index])),
-                cell(fit.map(|fit| fit.signal_strength)),
-                cell(fit.map(|fit| fit.local_z)),
-            ]
+        spectrum.channels.iter().flat_map(move |channel| {
+            let first = channel.bins.start;
+            channel.bins_of(exposure).iter().enumerate().map(move |(index, bin)| {
+                let fit = exposure.fit.as_ref();
+                let cell = |value: Option<f64>| value.map_or_else(String::new, number);
+                let name = named.then(|| channel.name.clone());
+                name.into_iter()
+                    .chain([
+                        number(exposure.days),
+                        number(exposure.live_days),
+                        number(bin.low),
+                        number(bin.high),
+                        bin.counts.to_string(),
+                        number(bin.background),
+                        number(bin.signal_plus_background),
+                        number(bin.error_low),
+                        number(bin.error_high),
+                        cell(fit.map(|fit| fit.expected[first + index])),
+                        cell(fit.map(|fit| fit.signal_strength)),
+                        cell(fit.map(|fit| fit.local_z)),
+                    ])
+                    .collect::<Vec<String>>()
+            })
         })
     });
-    csv_bytes(FILE, COLUMNS, rows)
+    let columns = named.then_some("channel").into_iter().chain(COLUMNS);
+    csv_bytes(FILE, columns, rows)
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::spectrum::{ExposureSpectrum, SpectrumBin, SpectrumFit};
+    use crate::spectrum::{ExposureSpectrum, SpectrumBin, SpectrumChannel, SpectrumFit};
 
     #[test]
     fn rows_follow_the_documented_columns() {
         let spectrum = Spectrum {
             title: "t".into(),
-            observable: "x".into(),
-            unit: "keV".into(),
-            bin_width: 2.0,
+            channels: vec![SpectrumChannel {
+                name: "x".into(),
+                observable: "x".into(),
+                unit: "keV".into(),
+                bin_width: 2.0,
+                bins: 0..1,
+            }],
             seed: 1,
             exposures: vec![ExposureSpectrum {
                 days: 10.0,

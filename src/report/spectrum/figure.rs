@@ -1,4 +1,6 @@
-//! `spectrum-<D>d.svg`: pseudo-data spectra, one panel per exposure side by side.
+//! `spectrum-<D>d.svg`: pseudo-data spectra, one panel per exposure side by
+//! side, one row of panels per channel (each caption naming its channel when
+//! there are several).
 //!
 //! Each panel shows the pseudo-data counts per bin as points with their
 //! one-standard-deviation Poisson error bars, the expected background as a
@@ -15,7 +17,9 @@ use crate::report::kit::marks;
 use crate::report::kit::palette::{
     DASH, INK, INK_TEAL, PALE_LAVENDER, SLATE, VERMILION, text_style,
 };
-use crate::spectrum::{EXACT_INTERVAL_BELOW, ExposureSpectrum, Spectrum, SpectrumBin};
+use crate::spectrum::{
+    EXACT_INTERVAL_BELOW, ExposureSpectrum, Spectrum, SpectrumBin, SpectrumChannel,
+};
 use plotters::coord::types::RangedCoordf64;
 use plotters::prelude::*;
 use std::ops::Range;
@@ -41,23 +45,29 @@ const BAR_OPACITY: f64 = 0.6;
 
 type BinChart<'a, 'b> = Chart<'a, 'b, RangedCoordf64, RangedCoordf64>;
 
-/// The spectra as SVG bytes.
+/// The spectra as SVG bytes: a row of panels per channel.
 pub(super) fn render(spectrum: &Spectrum) -> Result<Vec<u8>, ReportError> {
     let panels = u32::try_from(spectrum.exposures.len()).unwrap_or(u32::MAX);
+    let rows = u32::try_from(spectrum.channels.len()).unwrap_or(u32::MAX);
     let width = if panels == 1 {
         SINGLE_WIDTH
     } else {
         PANEL_WIDTH.saturating_mul(panels)
     };
-    figure::svg_bytes(FILE, (width, HEIGHT), |canvas| draw(canvas, spectrum))
+    let height = HEIGHT.saturating_mul(rows);
+    figure::svg_bytes(FILE, (width, height), |canvas| draw(canvas, spectrum))
 }
 
 fn draw(canvas: &Canvas, spectrum: &Spectrum) -> Result<(), DrawError> {
     let body = canvas.titled(&spectrum.title, text_style(24))?;
-    let panels = body.split_evenly((1, spectrum.exposures.len()));
-    for (index, (panel, exposure)) in panels.iter().zip(&spectrum.exposures).enumerate() {
+    let columns = spectrum.exposures.len();
+    let panels = body.split_evenly((spectrum.channels.len(), columns));
+    let named = spectrum.channels.len() > 1;
+    for (index, panel) in panels.iter().enumerate() {
+        let channel = &spectrum.channels[index / columns];
+        let exposure = &spectrum.exposures[index % columns];
         // One legend, in the first panel, serves them all.
-        draw_panel(panel, spectrum, exposure, index == 0)?;
+        draw_panel(panel, channel, exposure, named, index == 0)?;
     }
     marks::draw_footnote_line(
         canvas,
@@ -74,15 +84,20 @@ fn draw(canvas: &Canvas, spectrum: &Spectrum) -> Result<(), DrawError> {
     )
 }
 
+/// One channel at one exposure; its caption starts with the channel's name
+/// when `named` (several channels).
 fn draw_panel(
     panel: &Canvas,
-    spectrum: &Spectrum,
+    channel: &SpectrumChannel,
     exposure: &ExposureSpectrum,
+    named: bool,
     with_legend: bool,
 ) -> Result<(), DrawError> {
     let (_, height) = panel.dim_in_pixel();
     let split = (f64::from(height) * COUNTS_SHARE).round() as i32;
     let (upper, lower) = panel.split_vertically(split);
+    let bins = channel.bins_of(exposure);
+    let counts: u64 = bins.iter().map(|bin| bin.counts).sum();
     let fit = match &exposure.fit {
         Some(fit) => format!(
             "fit: μ̂ = {:.2}, local Z = {:.2}σ",
@@ -90,35 +105,39 @@ fn draw_panel(
         ),
         None => "the fit failed".to_string(),
     };
-    let caption = format!(
-        "{}: {} events; {fit}",
-        exposure_label(exposure.days, exposure.live_days),
-        exposure.total_counts()
+    let fitted = exposure
+        .fit
+        .as_ref()
+        .map(|fit| &fit.expected[channel.bins.clone()]);
+    let exposure_caption = format!(
+        "{}: {counts} events; {fit}",
+        exposure_label(exposure.days, exposure.live_days)
     );
-    draw_counts(&upper, spectrum, exposure, &caption, with_legend)?;
-    draw_excess(&lower, spectrum, exposure)
+    let caption = if named {
+        format!("{}, {exposure_caption}", channel.name)
+    } else {
+        exposure_caption
+    };
+    draw_counts(&upper, channel, bins, fitted, &caption, with_legend)?;
+    draw_excess(&lower, channel, bins)
 }
 
 /// The counts: expected background filled, signal + background stepped,
-/// pseudo-data with error bars.
+/// pseudo-data with error bars, and the expected counts at the fit of the
+/// pseudo-data (`fitted`, one per bin) unless it failed.
 fn draw_counts(
     area: &Canvas,
-    spectrum: &Spectrum,
-    exposure: &ExposureSpectrum,
+    channel: &SpectrumChannel,
+    bins: &[SpectrumBin],
+    fitted: Option<&[f64]>,
     caption: &str,
     with_legend: bool,
 ) -> Result<(), DrawError> {
-    let bins = &exposure.bins;
     let ceiling = HEADROOM
         * bins
             .iter()
             .map(|bin| (bin.counts as f64 + bin.error_high).max(bin.signal_plus_background))
-            .chain(
-                exposure
-                    .fit
-                    .iter()
-                    .flat_map(|fit| fit.expected.iter().copied()),
-            )
+            .chain(fitted.into_iter().flatten().copied())
             .fold(0.0, f64::max);
     let frame = Frame {
         caption: Some((caption, 19)),
@@ -129,12 +148,12 @@ fn draw_counts(
     };
     // The observable is labelled on the excess chart below.
     let x = Axis {
-        coordinate: linear_axis(observable_range(exposure)),
+        coordinate: linear_axis(observable_range(bins)),
         description: None,
         format: &|_| String::new(),
         labels: Some(8),
     };
-    let per_bin = format!("Events / {} {}", number(spectrum.bin_width), spectrum.unit);
+    let per_bin = format!("Events / {} {}", number(channel.bin_width), channel.unit);
     let y = value_axis(0.0..ceiling, &per_bin);
     let mut chart = figure::chart(area, &frame, x, y)?;
 
@@ -157,10 +176,10 @@ fn draw_counts(
         Line::Solid(VERMILION.stroke_width(2)),
         Some("Expected signal + background".to_string()),
     )?;
-    if let Some(fit) = &exposure.fit {
+    if let Some(fitted) = fitted {
         let fitted = bins
             .iter()
-            .zip(&fit.expected)
+            .zip(fitted)
             .flat_map(|(bin, &count)| [(bin.low, count), (bin.high, count)])
             .collect();
         marks::draw_line(
@@ -189,10 +208,9 @@ fn draw_counts(
 /// scaled alike, and the expected signal excess (s + b − b)/√b.
 fn draw_excess(
     area: &Canvas,
-    spectrum: &Spectrum,
-    exposure: &ExposureSpectrum,
+    channel: &SpectrumChannel,
+    bins: &[SpectrumBin],
 ) -> Result<(), DrawError> {
-    let bins = &exposure.bins;
     let largest = bins
         .iter()
         .flat_map(|bin| [bin.pull(), bin.expected_pull()])
@@ -206,9 +224,9 @@ fn draw_excess(
         text_sizes: TEXT_SIZES,
         light_lines: (Some(1), Some(1)),
     };
-    let description = format!("{} [{}]", spectrum.observable, spectrum.unit);
+    let description = format!("{} [{}]", channel.observable, channel.unit);
     let x = Axis {
-        coordinate: linear_axis(observable_range(exposure)),
+        coordinate: linear_axis(observable_range(bins)),
         description: Some(&description),
         format: &axis_label,
         labels: Some(8),
@@ -304,8 +322,8 @@ fn centre(bin: &SpectrumBin) -> f64 {
     0.5 * (bin.low + bin.high)
 }
 
-fn observable_range(exposure: &ExposureSpectrum) -> Range<f64> {
-    exposure.bins[0].low..exposure.bins[exposure.bins.len() - 1].high
+fn observable_range(bins: &[SpectrumBin]) -> Range<f64> {
+    bins[0].low..bins[bins.len() - 1].high
 }
 
 #[cfg(test)]
@@ -349,8 +367,8 @@ mod tests {
     fn hostile_names_and_units_give_a_well_formed_svg() {
         let mut spectrum = spectrum(&[3.0]);
         spectrum.title = "t\u{2}<t>".to_string();
-        spectrum.observable = "m&\u{7}".to_string();
-        spectrum.unit = "\u{0}]]>".to_string();
+        spectrum.channels[0].observable = "m&\u{7}".to_string();
+        spectrum.channels[0].unit = "\u{0}]]>".to_string();
         let text = String::from_utf8(render(&spectrum).unwrap()).unwrap();
         crate::report::kit::figure::tests::assert_well_formed(&text);
         assert!(text.contains("m&amp;\u{FFFD} [\u{FFFD}]]&gt;]"));
