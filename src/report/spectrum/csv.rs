@@ -42,27 +42,31 @@ pub(super) fn render(spectrum: &Spectrum) -> Result<Vec<u8>, ReportError> {
     let rows = spectrum.exposures.iter().flat_map(|exposure| {
         spectrum.channels.iter().flat_map(move |channel| {
             let first = channel.bins.start;
-            channel.bins_of(exposure).iter().enumerate().map(move |(index, bin)| {
-                let fit = exposure.fit.as_ref();
-                let cell = |value: Option<f64>| value.map_or_else(String::new, number);
-                let name = named.then(|| channel.name.clone());
-                name.into_iter()
-                    .chain([
-                        number(exposure.days),
-                        number(exposure.live_days),
-                        number(bin.low),
-                        number(bin.high),
-                        bin.counts.to_string(),
-                        number(bin.background),
-                        number(bin.signal_plus_background),
-                        number(bin.error_low),
-                        number(bin.error_high),
-                        cell(fit.map(|fit| fit.expected[first + index])),
-                        cell(fit.map(|fit| fit.signal_strength)),
-                        cell(fit.map(|fit| fit.local_z)),
-                    ])
-                    .collect::<Vec<String>>()
-            })
+            channel
+                .bins_of(exposure)
+                .iter()
+                .enumerate()
+                .map(move |(index, bin)| {
+                    let fit = exposure.fit.as_ref();
+                    let cell = |value: Option<f64>| value.map_or_else(String::new, number);
+                    let name = named.then(|| channel.name.clone());
+                    name.into_iter()
+                        .chain([
+                            number(exposure.days),
+                            number(exposure.live_days),
+                            number(bin.low),
+                            number(bin.high),
+                            bin.counts.to_string(),
+                            number(bin.background),
+                            number(bin.signal_plus_background),
+                            number(bin.error_low),
+                            number(bin.error_high),
+                            cell(fit.map(|fit| fit.expected[first + index])),
+                            cell(fit.map(|fit| fit.signal_strength)),
+                            cell(fit.map(|fit| fit.local_z)),
+                        ])
+                        .collect::<Vec<String>>()
+                })
         })
     });
     let columns = named.then_some("channel").into_iter().chain(COLUMNS);
