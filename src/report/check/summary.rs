@@ -5,7 +5,7 @@ use super::timeline::timeline;
 use crate::model::{Model, fraction_inside, shape_from_spec};
 use crate::projection::Projection;
 use crate::report::kit::format::{DAYS_ROUNDING, days_label, percent_label, rounded};
-use crate::scenario::{Scenario, ShapeSpec};
+use crate::scenario::{RateUnit, Scenario, ShapeSpec};
 use std::fmt::Write;
 use std::path::Path;
 
@@ -49,17 +49,37 @@ pub fn check_summary(
     text
 }
 
+/// How a rate was written when not per live day, e.g. " (written per year
+/// of 365.25 live days)"; empty for a rate per live day.
+fn written_as(unit: RateUnit, scenario: &Scenario) -> String {
+    match (unit, scenario.channel().detector.or(scenario.detector)) {
+        (RateUnit::PerDay, _) => String::new(),
+        (RateUnit::PerKgDay, Some(detector)) => format!(
+            " (written {}, detector mass {} kg)",
+            unit.label(),
+            rounded(detector.mass_kg)
+        ),
+        (unit, _) => format!(" (written {})", unit.label()),
+    }
+}
+
 /// Rates per live day, and S, B and S/B within the peak window.
 fn rates(text: &mut String, scenario: &Scenario, model: &Model) {
     let (signal, background) = model.nominal_rates();
     let observable = scenario.observable();
-    let _ = writeln!(text, "  signal: {} events per live day", rounded(signal));
+    let _ = writeln!(
+        text,
+        "  signal: {} events per live day{}",
+        rounded(signal),
+        written_as(scenario.signal().rate_unit, scenario)
+    );
     for b in scenario.backgrounds() {
         let _ = writeln!(
             text,
-            "  background {}: {} events per live day",
+            "  background {}: {} events per live day{}",
             b.name,
-            rounded(b.events_per_day)
+            rounded(b.events_per_day),
+            written_as(b.rate_unit, scenario)
         );
     }
     let _ = writeln!(
