@@ -46,8 +46,7 @@ pub struct Scenario {
     /// background that names them in its `shared` list, in any channel.
     pub shared_uncertainties: BTreeMap<String, f64>,
     /// The top-level detector, whose mass turns rates per kg·day into rates
-    /// per day in every channel without its own, and limits per live day into
-    /// limits per kg·day.
+    /// per day in every channel without its own.
     pub detector: Option<Detector>,
     pub schedule: Schedule,
     pub plan: Plan,
