@@ -942,3 +942,41 @@ fn lee_toys_without_a_scan_is_a_usage_error() {
     );
     assert_eq!(problem, None);
 }
+
+#[test]
+fn bad_rate_units_and_detector_masses_are_named() {
+    let per_kg = edited("events_per_day: 2.0", "events_per_kg_day: 0.5");
+    let with_mass = |mass: &str| format!("detector: {{mass_kg: {mass}}}\n{per_kg}");
+    let cases: [(&str, String, &[&str]); 7] = [
+        (
+            "two rate keys",
+            edited(
+                "events_per_day: 2.0",
+                "events_per_day: 2.0\n  events_per_year: 730.5",
+            ),
+            &[
+                "signal.events_per_year: ",
+                "events_per_day is already given",
+            ],
+        ),
+        (
+            "no rate key",
+            edited("  events_per_day: 2.0\n", ""),
+            &["signal.events_per_day: ", "exactly one of"],
+        ),
+        (
+            "per kg·day without a mass",
+            per_kg.clone(),
+            &["signal.events_per_kg_day: ", "detector mass"],
+        ),
+        ("zero mass", with_mass("0"), &["detector.mass_kg: "]),
+        ("negative mass", with_mass("-2.5"), &["detector.mass_kg: "]),
+        ("infinite mass", with_mass(".inf"), &["detector.mass_kg: "]),
+        (
+            "negative rate per week",
+            edited("events_per_day: 10.0", "events_per_week: -70"),
+            &["backgrounds[1].events_per_week: "],
+        ),
+    ];
+    assert_rejected("bad-rate-units-and-detector-masses-are-named", &cases);
+}

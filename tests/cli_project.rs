@@ -669,6 +669,42 @@ fn check_prints_rates_and_asymptotic_days_from_equation_97() {
     }
 }
 
+/// The known-background window with its rates written per kg·day (with a
+/// 4 kg detector: 2.5 × 4 = 10) and per year (36525 / 365.25 = 100, the
+/// Julian year, common practice): `check` prints the same rates per live day
+/// and days (Cowan et al. 2011, eq. 97), and says how each rate was written.
+#[test]
+fn check_prints_rates_per_live_day_with_the_unit_they_were_written_in() {
+    let per_day = {
+        let scratch = Scratch::new("check-per-day");
+        let scenario = scratch.write("window.yaml", KNOWN_BACKGROUND_WINDOW);
+        scratch.run_ok(&["check", &scenario])
+    };
+    let text = format!(
+        "detector: {{mass_kg: 4}}\n{}",
+        KNOWN_BACKGROUND_WINDOW
+            .replacen("events_per_day: 10.0", "events_per_kg_day: 2.5", 1)
+            .replacen("events_per_day: 100.0", "events_per_year: 36525", 1)
+    );
+    let scratch = Scratch::new("check-units");
+    let scenario = scratch.write("window.yaml", &text);
+    let stdout = scratch.run_ok(&["check", &scenario]);
+    assert!(
+        stdout.contains("signal: 10 events per live day (written per kg·day, detector mass 4 kg)"),
+        "{stdout}"
+    );
+    assert!(
+        stdout.contains(
+            "background flat: 100 events per live day (written per year of 365.25 live days)"
+        ),
+        "{stdout}"
+    );
+    let without_units = stdout
+        .replace(" (written per kg·day, detector mass 4 kg)", "")
+        .replace(" (written per year of 365.25 live days)", "");
+    assert_eq!(without_units, per_day);
+}
+
 #[test]
 fn check_reports_signal_within_two_widths_of_the_peak() {
     let yaml = demo_yaml("narrow_peak.yaml");

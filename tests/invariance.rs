@@ -78,10 +78,7 @@ fn assert_same_outputs(scratch: &Scratch, first: &str, second: &str) {
     for name in names {
         let a = output_without_scenario_digest(scratch, first, &name);
         let b = output_without_scenario_digest(scratch, second, &name);
-        assert!(
-            a == b,
-            "{name:?} differs with float_shape on a shape without parameters"
-        );
+        assert!(a == b, "{name:?} differs between {first} and {second}");
     }
 }
 
@@ -132,4 +129,61 @@ fn float_shape_on_a_one_term_polynomial_changes_nothing() {
     project(&scratch, "plain", &plain, &args);
     project(&scratch, "floated", &floated, &args);
     assert_same_outputs(&scratch, "plain", "floated");
+}
+
+/// The counting-window demo with its two rate lines replaced.
+fn with_rates(signal: &str, background: &str) -> String {
+    let text = demo_text("counting_window.yaml");
+    let replaced = text
+        .replacen("  events_per_day: 4.0", &format!("  {signal}"), 1)
+        .replacen("    events_per_day: 100", &format!("    {background}"), 1);
+    assert_eq!(replaced.matches("events_per_").count(), 2);
+    assert!(!replaced.contains("events_per_day: 4.0"));
+    replaced
+}
+
+/// Runs both texts through `project` (with an `--at` day) and asserts their
+/// outputs and summaries are the same.
+fn assert_same_projection(name: &str, first: &str, second: &str) {
+    let scratch = Scratch::new(name);
+    let args = ["--toys", "200", "--at", "100"];
+    let stdout_first = project(&scratch, "first", first, &args);
+    let stdout_second = project(&scratch, "second", second, &args);
+    assert_same_outputs(&scratch, "first", "second");
+    assert_eq!(
+        stdout_first.replace("first/", ""),
+        stdout_second.replace("second/", "")
+    );
+}
+
+/// Rates per year are rates per day times 365.25 (the Julian year, common
+/// practice): 4 and 100 per day are 1461 and 36525 per year, and the
+/// division back is exact in floating point, so the outputs are identical.
+#[test]
+fn rates_per_year_give_the_outputs_of_rates_per_day() {
+    let per_day = demo_text("counting_window.yaml");
+    let per_year = with_rates("events_per_year: 1461", "events_per_year: 36525");
+    assert_same_projection("rates-per-year", &per_day, &per_year);
+}
+
+/// Rates per week are rates per day times 7 (common practice).
+#[test]
+fn rates_per_week_give_the_outputs_of_rates_per_day() {
+    let per_day = demo_text("counting_window.yaml");
+    let per_week = with_rates("events_per_week: 28", "events_per_week: 700");
+    assert_same_projection("rates-per-week", &per_day, &per_week);
+}
+
+/// Rates per kg·day with a detector of M = 8 kg are rates per day of
+/// rate × M: 0.5 and 12.5 per kg·day are the demo's 4 and 100 per day (both
+/// runs carry the same mass, so their limits per kg·day agree as well).
+#[test]
+fn rates_per_kg_day_give_the_outputs_of_rates_per_day_times_the_mass() {
+    let detector = "detector: {mass_kg: 8}\n";
+    let per_day = format!("{detector}{}", demo_text("counting_window.yaml"));
+    let per_kg_day = format!(
+        "{detector}{}",
+        with_rates("events_per_kg_day: 0.5", "events_per_kg_day: 12.5")
+    );
+    assert_same_projection("rates-per-kg-day", &per_day, &per_kg_day);
 }

@@ -2,7 +2,9 @@
 //! `channels` list. Both read into the same [`Scenario`], so a single channel
 //! and the same content as a one-entry list are one scenario.
 
-use super::{Background, Channel, ChannelSyntax, Observable, Plan, Scenario, Schedule, Signal};
+use super::{
+    Background, Channel, ChannelSyntax, Detector, Observable, Plan, Scenario, Schedule, Signal,
+};
 use crate::scenario::ScenarioError;
 use serde::Deserialize;
 use std::collections::BTreeMap;
@@ -23,6 +25,8 @@ pub(super) struct ScenarioFile {
     #[serde(default)]
     shared_uncertainties: BTreeMap<String, f64>,
     #[serde(default)]
+    detector: Option<Detector>,
+    #[serde(default)]
     schedule: Schedule,
     plan: Plan,
 }
@@ -39,6 +43,7 @@ impl ScenarioFile {
             backgrounds,
             channels,
             shared_uncertainties,
+            detector,
             schedule,
             plan,
         } = self;
@@ -63,6 +68,7 @@ impl ScenarioFile {
                 vec![Channel {
                     name: observable.name.clone(),
                     observable,
+                    detector: None,
                     signal,
                     backgrounds,
                 }],
@@ -88,11 +94,17 @@ impl ScenarioFile {
                 "at least one channel is needed, got an empty list",
             ));
         }
+        let detector = detector.map(|d| d.checked("")).transpose()?;
+        let mut channels = channels;
+        for (index, channel) in channels.iter_mut().enumerate() {
+            channel.convert_rates(&channel_syntax.path(index), detector)?;
+        }
         Ok(Scenario {
             title,
             channels,
             channel_syntax,
             shared_uncertainties,
+            detector,
             schedule,
             plan,
         })
@@ -214,5 +226,49 @@ plan:
                 warning: Box::new(Warning::NothingToFloat { background: 0 })
             }]
         );
+    }
+
+    /// `listed` with the rates of the channel at `index` written per kg·day
+    /// (the same numbers), and `detector`, if any, inside that entry.
+    fn per_kg_day_in(text: &str, index: usize, detector: Option<&str>) -> String {
+        let entry = text.match_indices("  - name: ").nth(index).unwrap().0;
+        let next = text[entry + 1..]
+            .find("  - name: ")
+            .map_or(text.len(), |at| entry + 1 + at);
+        let body = text[entry..next].replace("events_per_day", "events_per_kg_day");
+        let body = match detector {
+            Some(detector) => body.replacen('\n', &format!("\n    {detector}\n"), 1),
+            None => body,
+        };
+        format!("{}{body}{}", &text[..entry], &text[next..])
+    }
+
+    /// A channel's own detector mass scales its rates per kg·day (rate × M,
+    /// common practice) and is checked where it is written; a top-level mass
+    /// serves the channels without their own.
+    #[test]
+    fn a_channel_detector_converts_its_own_rates() {
+        let text = listed(&[("central", 50.0, false), ("outer", 40.0, false)]);
+        let scenario =
+            Scenario::from_yaml(&per_kg_day_in(&text, 1, Some("detector: {mass_kg: 2.5}")))
+                .unwrap();
+        assert_eq!(scenario.channels[0].signal.events_per_day, 2.0);
+        assert_eq!(scenario.channels[1].signal.events_per_day, 2.0 * 2.5);
+        assert_eq!(
+            scenario.channels[1].backgrounds[0].events_per_day,
+            40.0 * 2.5
+        );
+        let (field, _) = invalid(&per_kg_day_in(&text, 1, Some("detector: {mass_kg: -1}")));
+        assert_eq!(field, "channels[1].detector.mass_kg");
+        let shared = per_kg_day_in(&text, 0, None).replacen(
+            HEAD,
+            &format!("{HEAD}detector: {{mass_kg: 4}}\n"),
+            1,
+        );
+        let scenario = Scenario::from_yaml(&shared).unwrap();
+        assert_eq!(scenario.channels[0].signal.events_per_day, 2.0 * 4.0);
+        assert_eq!(scenario.channels[1].signal.events_per_day, 2.0);
+        let (field, _) = invalid(&shared.replacen("detector: {mass_kg: 4}\n", "", 1));
+        assert_eq!(field, "channels[0].signal.events_per_kg_day");
     }
 }

@@ -8,12 +8,14 @@ mod deserialize;
 mod error;
 mod file;
 pub mod limits;
+mod rate;
 mod rows_file;
 mod scan;
 mod template;
 mod validate;
 
 pub use error::ScenarioError;
+pub use rate::{DAYS_PER_WEEK, DAYS_PER_YEAR, Detector, RateUnit};
 pub use scan::{MIN_SCAN_POSITIONS, Scan, SignalScan};
 pub use template::TEMPLATE;
 
@@ -21,6 +23,7 @@ use crate::calendar::CalendarDate;
 use crate::shapes::{ParameterValue, Placement, Shape, ShapeError, ShapeKind};
 use crate::warning::Warning;
 use file::ScenarioFile;
+use rate::WrittenRate;
 use serde::Deserialize;
 use std::collections::BTreeMap;
 use std::io::Read;
@@ -42,6 +45,9 @@ pub struct Scenario {
     /// Relative widths of yield factors N(1, width) shared by every signal or
     /// background that names them in its `shared` list, in any channel.
     pub shared_uncertainties: BTreeMap<String, f64>,
+    /// The top-level detector, whose mass turns rates per kg·day into rates
+    /// per day in every channel without its own.
+    pub detector: Option<Detector>,
     pub schedule: Schedule,
     pub plan: Plan,
 }
@@ -54,6 +60,10 @@ pub struct Channel {
     /// named after its observable.
     pub name: String,
     pub observable: Observable,
+    /// The channel's own detector, whose mass turns its rates per kg·day
+    /// into rates per day; absent: the scenario's top-level one, if any.
+    #[serde(default)]
+    pub detector: Option<Detector>,
     pub signal: Signal,
     pub backgrounds: Vec<Background>,
 }
@@ -65,6 +75,28 @@ pub enum ChannelSyntax {
     Single,
     /// A `channels` list, each entry with its `name`.
     List,
+}
+
+impl Channel {
+    /// Sets every rate of the channel in events per live day from the rate
+    /// as written, with the channel's detector or else `shared` (the
+    /// top-level one); `path` is the channel's dotted path.
+    fn convert_rates(&mut self, path: &str, shared: Option<Detector>) -> Result<(), ScenarioError> {
+        let detector = match self.detector {
+            Some(own) => Some(own.checked(path)?),
+            None => shared,
+        };
+        let signal = &mut self.signal;
+        (signal.events_per_day, signal.rate_unit) = signal
+            .written_rate()
+            .per_day(&format!("{path}signal"), detector)?;
+        for (index, background) in self.backgrounds.iter_mut().enumerate() {
+            let owner = format!("{path}backgrounds[{index}]");
+            (background.events_per_day, background.rate_unit) =
+                background.written_rate().per_day(&owner, detector)?;
+        }
+        Ok(())
+    }
 }
 
 impl ChannelSyntax {
@@ -94,8 +126,22 @@ pub struct Observable {
 #[derive(Debug, Clone, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct Signal {
-    /// Expected signal events per live day over the whole range, after efficiency.
+    /// Expected signal events per live day over the whole range, after
+    /// efficiency: converted once from the rate as written when the scenario is read.
+    #[serde(skip)]
     pub events_per_day: f64,
+    /// The unit the rate was written in.
+    #[serde(skip)]
+    pub rate_unit: RateUnit,
+    /// The rate as written: exactly one of these four keys (see [`WrittenRate`]).
+    #[serde(default, rename = "events_per_day")]
+    written_per_day: Option<f64>,
+    #[serde(default, rename = "events_per_week")]
+    written_per_week: Option<f64>,
+    #[serde(default, rename = "events_per_year")]
+    written_per_year: Option<f64>,
+    #[serde(default, rename = "events_per_kg_day")]
+    written_per_kg_day: Option<f64>,
     pub shape: ShapeSpec,
     /// Relative width of a Gaussian constraint N(1, width) on a factor on the signal yield.
     #[serde(default)]
@@ -119,13 +165,39 @@ pub struct Signal {
     pub scan: Option<Scan>,
 }
 
+impl Signal {
+    /// The rate as written.
+    fn written_rate(&self) -> WrittenRate {
+        WrittenRate {
+            events_per_day: self.written_per_day,
+            events_per_week: self.written_per_week,
+            events_per_year: self.written_per_year,
+            events_per_kg_day: self.written_per_kg_day,
+        }
+    }
+}
+
 /// One background component.
 #[derive(Debug, Clone, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct Background {
     pub name: String,
-    /// Expected events per live day over the whole range.
+    /// Expected events per live day over the whole range: converted once
+    /// from the rate as written when the scenario is read.
+    #[serde(skip)]
     pub events_per_day: f64,
+    /// The unit the rate was written in.
+    #[serde(skip)]
+    pub rate_unit: RateUnit,
+    /// The rate as written: exactly one of these four keys (see [`WrittenRate`]).
+    #[serde(default, rename = "events_per_day")]
+    written_per_day: Option<f64>,
+    #[serde(default, rename = "events_per_week")]
+    written_per_week: Option<f64>,
+    #[serde(default, rename = "events_per_year")]
+    written_per_year: Option<f64>,
+    #[serde(default, rename = "events_per_kg_day")]
+    written_per_kg_day: Option<f64>,
     pub shape: ShapeSpec,
     /// How well the normalisation is known; absent means known exactly.
     #[serde(default)]
@@ -140,6 +212,18 @@ pub struct Background {
     /// Names of shared uncertainties whose factors multiply this yield.
     #[serde(default)]
     pub shared: Vec<String>,
+}
+
+impl Background {
+    /// The rate as written.
+    fn written_rate(&self) -> WrittenRate {
+        WrittenRate {
+            events_per_day: self.written_per_day,
+            events_per_week: self.written_per_week,
+            events_per_year: self.written_per_year,
+            events_per_kg_day: self.written_per_kg_day,
+        }
+    }
 }
 
 /// An auxiliary, signal-free count of `ratio` times a background's expected

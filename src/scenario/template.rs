@@ -58,6 +58,10 @@ observable: {name: reconstructed energy, unit: keV, range: [100.0, 300.0], bin_w
 # The signal searched for, at nominal signal strength (mu = 1).
 signal:
   # Expected signal events per live day inside the range, after all efficiencies.
+  # Instead of events_per_day, exactly one of: events_per_week (7 days),
+  # events_per_year (365.25 days), events_per_kg_day (needs a top-level
+  # `detector: {mass_kg: 10}`, or one in the channel). The same keys serve
+  # every background.
   events_per_day: 1.5
   # Density in the observable, normalised on the range. One of:
 "#;

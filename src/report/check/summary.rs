@@ -5,7 +5,7 @@ use super::timeline::timeline;
 use crate::model::{Model, fraction_inside, shape_from_spec};
 use crate::projection::Projection;
 use crate::report::kit::format::{DAYS_ROUNDING, days_label, percent_label, rounded};
-use crate::scenario::{Channel, Scenario, ShapeSpec};
+use crate::scenario::{Channel, RateUnit, Scenario, ShapeSpec};
 use std::fmt::Write;
 use std::path::Path;
 
@@ -49,6 +49,20 @@ pub fn check_summary(
     text
 }
 
+/// How a rate of `channel` was written when not per live day, e.g.
+/// " (written per year of 365.25 live days)"; empty for a rate per live day.
+fn written_as(unit: RateUnit, scenario: &Scenario, channel: &Channel) -> String {
+    match (unit, channel.detector.or(scenario.detector)) {
+        (RateUnit::PerDay, _) => String::new(),
+        (RateUnit::PerKgDay, Some(detector)) => format!(
+            " (written {}, detector mass {} kg)",
+            unit.label(),
+            rounded(detector.mass_kg)
+        ),
+        (unit, _) => format!(" (written {})", unit.label()),
+    }
+}
+
 /// Each channel's rates (under a heading with its name when there are
 /// several), then with several channels the totals of all of them.
 fn rates(text: &mut String, scenario: &Scenario, model: &Model) {
@@ -57,6 +71,7 @@ fn rates(text: &mut String, scenario: &Scenario, model: &Model) {
             let _ = writeln!(text, "  channel {}:", channel.name);
             channel_rates(
                 text,
+                scenario,
                 channel,
                 model.channel_alone(index).nominal_rates(),
                 "    ",
@@ -72,25 +87,33 @@ fn rates(text: &mut String, scenario: &Scenario, model: &Model) {
         );
         return;
     };
-    channel_rates(text, channel, model.nominal_rates(), "  ");
+    channel_rates(text, scenario, channel, model.nominal_rates(), "  ");
 }
 
 /// One channel's rates per live day (`rates`: signal and background of its
 /// model), and S, B and S/B within the peak window; each line after `indent`.
-fn channel_rates(text: &mut String, channel: &Channel, rates: (f64, f64), indent: &str) {
+fn channel_rates(
+    text: &mut String,
+    scenario: &Scenario,
+    channel: &Channel,
+    rates: (f64, f64),
+    indent: &str,
+) {
     let (signal, background) = rates;
     let observable = &channel.observable;
     let _ = writeln!(
         text,
-        "{indent}signal: {} events per live day",
-        rounded(signal)
+        "{indent}signal: {} events per live day{}",
+        rounded(signal),
+        written_as(channel.signal.rate_unit, scenario, channel)
     );
     for b in &channel.backgrounds {
         let _ = writeln!(
             text,
-            "{indent}background {}: {} events per live day",
+            "{indent}background {}: {} events per live day{}",
             b.name,
-            rounded(b.events_per_day)
+            rounded(b.events_per_day),
+            written_as(b.rate_unit, scenario, channel)
         );
     }
     let _ = writeln!(
