@@ -12,3 +12,4 @@ pub mod format;
 pub mod legend;
 pub mod marks;
 pub mod palette;
+pub mod schedule;
