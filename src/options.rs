@@ -193,6 +193,7 @@ fn projection_settings(
     let settings = ProjectionSettings {
         title: scenario.title.clone(),
         days: scenario.plan.days.days(),
+        day_spacing: scenario.plan.days.axis_spacing(),
         at_days: at_days(&overrides.at)?,
         toys,
         seed: loaded.seed(overrides.seed),

@@ -15,6 +15,7 @@ mod common;
 
 use runcast::model::Model;
 use runcast::projection::{AtDay, ExposurePoint, Projection, ProjectionSettings, project};
+use runcast::scenario::Spacing;
 use statrs::distribution::{ContinuousCDF, Normal};
 
 /// Signal and background events per live day (invented numbers).
@@ -25,6 +26,7 @@ fn settings(days: &[f64], at_days: &[f64], toys: usize) -> ProjectionSettings {
     ProjectionSettings {
         title: "at days".to_string(),
         days: days.to_vec(),
+        day_spacing: Spacing::Log,
         at_days: at_days.to_vec(),
         toys,
         seed: 20261202,

@@ -13,7 +13,7 @@ mod common;
 
 use runcast::model::Model;
 use runcast::projection::{Projection, ProjectionSettings, project};
-use runcast::scenario::Period;
+use runcast::scenario::{Period, Spacing};
 use statrs::distribution::{Continuous, ContinuousCDF, Normal};
 
 /// Signal and background events per live day (invented numbers).
@@ -213,6 +213,7 @@ fn demo_with_one_grid_point_agrees_with_asimov(periods: &[Period], day: f64) -> 
     let settings = ProjectionSettings {
         title: scenario.title.clone(),
         days: vec![day],
+        day_spacing: Spacing::Log,
         at_days: Vec::new(),
         toys: TOYS,
         seed: scenario.plan.seed,
@@ -387,6 +388,7 @@ fn settings(days: &[f64]) -> ProjectionSettings {
     ProjectionSettings {
         title: "schedule".to_string(),
         days: days.to_vec(),
+        day_spacing: Spacing::Log,
         at_days: Vec::new(),
         toys: TOYS,
         seed: 20261202,

@@ -44,6 +44,7 @@ fn settings(scenario: &Scenario, seed: u64, calibration_toys: usize) -> Projecti
     ProjectionSettings {
         title: scenario.title.clone(),
         days: scenario.plan.days.days(),
+        day_spacing: scenario.plan.days.axis_spacing(),
         at_days: Vec::new(),
         toys: TOYS,
         seed,

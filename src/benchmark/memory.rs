@@ -49,6 +49,7 @@ pub fn probe_in_process(points: usize, toys: usize) -> Result<u64, BenchmarkErro
     let settings = ProjectionSettings {
         title: scenario.title.clone(),
         days: scenario.plan.days.days(),
+        day_spacing: scenario.plan.days.axis_spacing(),
         at_days: Vec::new(),
         toys,
         seed: scenario.plan.seed,

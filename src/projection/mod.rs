@@ -16,14 +16,15 @@ pub use ensembles::{
 pub use point::BAND_QUANTILES;
 pub use result::{
     AtDay, Calibration, ChannelPoint, DaysToExclusion, DaysToTarget, EventLimits, ExposurePoint,
-    GlobalDays, GlobalSignificance, LookElsewhere, Projection, ScanSummary, TargetProbability,
+    GlobalDays, GlobalSignificance, LookElsewhere, Projection, RateStretch, ScanSummary,
+    TargetProbability,
 };
 pub use shard::{ShardError, ShardRun, ShardSpec, merge_shards, run_shard};
 
 use crate::asymptotic::AsimovSignificance;
 use crate::likelihood::{FitFailure, Likelihood};
 use crate::model::Model;
-use crate::scenario::SignalScan;
+use crate::scenario::{SignalScan, Spacing};
 use point::ChannelAlone;
 use std::fmt;
 
@@ -33,6 +34,8 @@ pub struct ProjectionSettings {
     pub title: String,
     /// Calendar days of the grid, increasing.
     pub days: Vec<f64>,
+    /// Spacing of the figures' day axis (`DaysGrid::axis_spacing`).
+    pub day_spacing: Spacing,
     /// Calendar days asked for with `--at`, increasing, none repeated: each
     /// a point of its own (its own pseudo-experiments), never interpolated.
     pub at_days: Vec<f64>,
@@ -144,6 +147,8 @@ pub fn project_from<S: ToySource>(
     Ok(Projection {
         title: settings.title.clone(),
         start: model.live_time.start(),
+        day_spacing: settings.day_spacing,
+        rate_stretches: RateStretch::of(&model.live_time),
         seed: settings.seed,
         toys: settings.toys,
         targets: settings.targets.clone(),

@@ -3,6 +3,8 @@
 //! Field names are the JSON schema of `projection.json`; `None` is written as null.
 
 use crate::calendar::CalendarDate;
+use crate::model::LiveTime;
+use crate::scenario::Spacing;
 use serde::Serialize;
 
 use crate::asymptotic::significance;
@@ -15,6 +17,15 @@ pub struct Projection {
     /// without one. With it the reports give a date beside each calendar day.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub start: Option<CalendarDate>,
+    /// Spacing of the figures' day axis; not part of the JSON (the scenario
+    /// it comes from is).
+    #[serde(skip)]
+    pub day_spacing: Spacing,
+    /// The schedule's stretches whose rates differ from the nominal ones,
+    /// for the figures to shade; not part of the JSON (the scenario it
+    /// comes from is).
+    #[serde(skip)]
+    pub rate_stretches: Vec<RateStretch>,
     pub seed: u64,
     /// Pseudo-experiments requested per exposure point (0 for an Asimov-only
     /// run); those whose fits converged are `toys` less `failed_fits`.
@@ -35,6 +46,60 @@ pub struct Projection {
     pub days_to_exclusion: DaysToExclusion,
     /// The days asked for with `--at`, each computed there (empty without).
     pub at: Vec<AtDay>,
+}
+
+/// Calendar days [from, to) of the schedule at rates other than nominal: the
+/// rate scale of all components, and the factors on the signal and on
+/// single backgrounds (by name) of the period it belongs to.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RateStretch {
+    pub from: f64,
+    /// May be infinite (the last period without `days`).
+    pub to: f64,
+    pub rate_scale: f64,
+    pub signal_scale: f64,
+    pub background_scale: Vec<(String, f64)>,
+}
+
+impl RateStretch {
+    /// The stretches of `live_time` where some rate or factor is not 1.
+    pub fn of(live_time: &LiveTime) -> Vec<RateStretch> {
+        live_time
+            .stretches()
+            .map(|(from, to, rate_scale, period)| RateStretch {
+                from,
+                to,
+                rate_scale,
+                signal_scale: period.map_or(1.0, |period| period.signal_scale),
+                background_scale: period
+                    .map(|period| {
+                        period
+                            .background_scale
+                            .iter()
+                            .filter(|&(_, &factor)| factor != 1.0)
+                            .map(|(name, &factor)| (name.clone(), factor))
+                            .collect()
+                    })
+                    .unwrap_or_default(),
+            })
+            .filter(|stretch| !stretch.is_nominal())
+            .collect()
+    }
+
+    /// True when every rate of the stretch is the nominal one.
+    fn is_nominal(&self) -> bool {
+        self.rate_scale == 1.0 && self.signal_scale == 1.0 && self.background_scale.is_empty()
+    }
+
+    /// True when some rate of the stretch is below its nominal value.
+    pub fn is_reduced(&self) -> bool {
+        self.rate_scale < 1.0
+            || self.signal_scale < 1.0
+            || self
+                .background_scale
+                .iter()
+                .any(|&(_, factor)| factor < 1.0)
+    }
 }
 
 /// Everything known at one day asked for with `--at`: the exposure point

@@ -577,6 +577,19 @@ impl DaysGrid {
         }
     }
 
+    /// The spacing of the figures' day axis: the grid's own for an evenly
+    /// spaced grid; for a list, logarithmic when its last day is more than
+    /// ten times its first, linear otherwise.
+    pub fn axis_spacing(&self) -> Spacing {
+        match self {
+            DaysGrid::Spaced(grid) => grid.spacing,
+            DaysGrid::List(days) => match (days.first(), days.last()) {
+                (Some(&first), Some(&last)) if last > 10.0 * first => Spacing::Log,
+                _ => Spacing::Linear,
+            },
+        }
+    }
+
     /// The field holding the last day, for messages: `plan.days.last` or `plan.days[n-1]`.
     pub fn last_field(&self) -> String {
         match self {
@@ -718,5 +731,22 @@ mod tests {
         let days = grid.days();
         assert_eq!(days.len(), 3);
         assert!((days[1] - 10.0).abs() < 1e-12 && (days[2] - 100.0).abs() < 1e-12);
+    }
+
+    #[test]
+    fn the_day_axis_follows_the_grid() {
+        let spaced = |spacing| {
+            DaysGrid::Spaced(SpacedDays {
+                first: 1.0,
+                last: 5.0,
+                points: 3,
+                spacing,
+            })
+        };
+        assert_eq!(spaced(Spacing::Log).axis_spacing(), Spacing::Log);
+        assert_eq!(spaced(Spacing::Linear).axis_spacing(), Spacing::Linear);
+        let list = |days: &[f64]| DaysGrid::List(days.to_vec()).axis_spacing();
+        assert_eq!(list(&[30.0, 91.0, 182.0, 300.0]), Spacing::Linear);
+        assert_eq!(list(&[30.0, 91.0, 182.0, 365.0]), Spacing::Log);
     }
 }

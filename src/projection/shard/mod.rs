@@ -36,6 +36,7 @@ pub use write::run_shard;
 
 use super::ProjectionSettings;
 use crate::provenance::{Provenance, ScenarioFile};
+use crate::scenario::Spacing;
 use encoding::{Decoder, Encoder, hex};
 use sha2::{Digest, Sha256};
 use std::fmt;
@@ -173,6 +174,8 @@ impl ShardRun {
             settings: ProjectionSettings {
                 title,
                 days,
+                // Rebuilt from the scenario text when merging.
+                day_spacing: Spacing::Log,
                 at_days,
                 toys,
                 seed,

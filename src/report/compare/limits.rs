@@ -13,6 +13,7 @@ use crate::report::kit::figure::{self, Canvas, DrawError, Frame, SIZE};
 use crate::report::kit::format::percent_label;
 use crate::report::kit::marks::{self, Stroke};
 use crate::report::kit::palette::{DOT, SLATE};
+use crate::report::kit::schedule;
 use plotters::chart::SeriesLabelPosition;
 
 /// The limit comparison as SVG bytes; only for plans with limits (`cl` set).
@@ -65,7 +66,9 @@ fn draw(canvas: &Canvas, comparison: &Comparison, cl: f64) -> Result<(), DrawErr
         labels: Some(12),
     };
     let frame = Frame::single("Run plans compared: expected limits", false);
-    let mut chart = figure::chart(canvas, &frame, days_axis(day_range(comparison)), y)?;
+    let x = days_axis(day_range(comparison), comparison.day_spacing());
+    let mut chart = figure::chart(canvas, &frame, x, y)?;
+    schedule::shade_reduced(&mut chart, canvas, comparison.shared_rate_stretches())?;
     marks::horizontal_line(&mut chart, 1.0, SLATE, DOT)?;
     const ROW: i32 = 18;
     let mut row = 0;

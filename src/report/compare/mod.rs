@@ -16,9 +16,10 @@ pub use table::comparison_table;
 
 use super::projection::check_projection;
 use super::{Kind, Output, Render, Report, ReportError, render};
-use crate::projection::Projection;
+use crate::projection::{Projection, RateStretch};
 use crate::provenance::Provenance;
 use crate::report::kit::palette::SERIES_COLOURS;
+use crate::scenario::Spacing;
 use plotters::style::RGBColor;
 use std::ops::Range;
 
@@ -64,6 +65,31 @@ impl Comparison {
 
     fn with_toys(&self) -> bool {
         self.first().toys > 0
+    }
+
+    /// The day axis of the figures: linear when every plan's grid asks for
+    /// one, logarithmic otherwise.
+    fn day_spacing(&self) -> Spacing {
+        let linear = self
+            .plans
+            .iter()
+            .all(|plan| plan.projection.day_spacing == Spacing::Linear);
+        if linear {
+            Spacing::Linear
+        } else {
+            Spacing::Log
+        }
+    }
+
+    /// The stretches at other than nominal rates when every plan has the
+    /// same schedule, and none otherwise (the figures shade one schedule).
+    fn shared_rate_stretches(&self) -> &[RateStretch] {
+        let stretches = &self.first().rate_stretches;
+        let shared = self
+            .plans
+            .iter()
+            .all(|plan| plan.projection.rate_stretches == *stretches);
+        if shared { stretches } else { &[] }
     }
 }
 
@@ -212,6 +238,40 @@ pub(crate) mod tests {
                 assert!(!report.bytes.is_empty());
             }
         }
+    }
+
+    fn shutdown(from: f64) -> RateStretch {
+        RateStretch {
+            from,
+            to: from + 20.0,
+            rate_scale: 0.0,
+            signal_scale: 1.0,
+            background_scale: Vec::new(),
+        }
+    }
+
+    #[test]
+    fn a_schedule_shared_by_every_plan_is_shaded_and_others_are_not() {
+        let mut comparison = two_plans(true);
+        for plan in &mut comparison.plans {
+            plan.projection.rate_stretches = vec![shutdown(100.0)];
+        }
+        let figure = |comparison: &Comparison| {
+            String::from_utf8(significance::render(comparison).unwrap()).unwrap()
+        };
+        assert!(figure(&comparison).contains("\nno data\n</text>"));
+        comparison.plans[1].projection.rate_stretches = vec![shutdown(200.0)];
+        assert!(!figure(&comparison).contains("\nno data\n</text>"));
+    }
+
+    #[test]
+    fn the_day_axis_is_linear_only_when_every_plan_asks_for_it() {
+        let mut comparison = two_plans(false);
+        assert_eq!(comparison.day_spacing(), Spacing::Log);
+        comparison.plans[0].projection.day_spacing = Spacing::Linear;
+        assert_eq!(comparison.day_spacing(), Spacing::Log);
+        comparison.plans[1].projection.day_spacing = Spacing::Linear;
+        assert_eq!(comparison.day_spacing(), Spacing::Linear);
     }
 
     #[test]

@@ -11,6 +11,7 @@ use crate::report::kit::axis::{Axis, days_axis, linear_axis};
 use crate::report::kit::figure::{self, Canvas, DrawError, Frame, SIZE};
 use crate::report::kit::format::target_label;
 use crate::report::kit::marks::{self, Stroke};
+use crate::report::kit::schedule;
 use plotters::chart::SeriesLabelPosition;
 
 /// The probability comparison as SVG bytes.
@@ -32,7 +33,9 @@ fn draw(canvas: &Canvas, comparison: &Comparison) -> Result<(), DrawError> {
         "Run plans compared: probability of reaching each target",
         false,
     );
-    let mut chart = figure::chart(canvas, &frame, days_axis(day_range(comparison)), y)?;
+    let x = days_axis(day_range(comparison), comparison.day_spacing());
+    let mut chart = figure::chart(canvas, &frame, x, y)?;
+    schedule::shade_reduced(&mut chart, canvas, comparison.shared_rate_stretches())?;
     for (level, label) in [(0.5, "50%"), (0.9, "90%")] {
         marks::reference_line(&mut chart, canvas, level, label)?;
     }

@@ -11,6 +11,7 @@ use crate::report::kit::dates::dated_days_label;
 use crate::report::kit::figure::{self, Canvas, DrawError, Frame, SIZE};
 use crate::report::kit::format::target_label;
 use crate::report::kit::marks::{self, Stroke};
+use crate::report::kit::schedule;
 use plotters::chart::SeriesLabelPosition;
 
 /// The significance comparison as SVG bytes.
@@ -27,7 +28,9 @@ fn draw(canvas: &Canvas, comparison: &Comparison) -> Result<(), DrawError> {
         labels: Some(12),
     };
     let frame = Frame::single("Run plans compared", false);
-    let mut chart = figure::chart(canvas, &frame, days_axis(day_range(comparison)), y)?;
+    let x = days_axis(day_range(comparison), comparison.day_spacing());
+    let mut chart = figure::chart(canvas, &frame, x, y)?;
+    schedule::shade_reduced(&mut chart, canvas, comparison.shared_rate_stretches())?;
     for &target in &comparison.first().targets {
         marks::reference_line(&mut chart, canvas, target, &target_label(target))?;
     }

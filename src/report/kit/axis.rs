@@ -4,7 +4,9 @@
 //! observable.
 
 use crate::numeric::times_power_of_ten;
+use crate::scenario::Spacing;
 use plotters::coord::combinators::WithKeyPoints;
+use plotters::coord::ranged1d::{DefaultFormatting, KeyPointHint};
 use plotters::coord::types::RangedCoordf64;
 use plotters::prelude::*;
 use std::ops::Range;
@@ -56,13 +58,55 @@ pub fn log_axis(range: Range<f64>) -> LogAxis {
         .with_light_points(minor)
 }
 
-/// Calendar days on a logarithmic axis, ticks labelled as written ("0.2",
-/// "5", "1000").
-pub fn days_axis(days: Range<f64>) -> Axis<'static, LogAxis> {
+/// The calendar-day axis of a figure: logarithmic or linear as the grid's
+/// [`Spacing`], so that every figure against days is drawn the same way.
+pub enum DaysCoordinate {
+    Log(LogAxis),
+    Linear(RangedCoordf64),
+}
+
+impl Ranged for DaysCoordinate {
+    type FormatOption = DefaultFormatting;
+    type ValueType = f64;
+
+    fn map(&self, value: &f64, limit: (i32, i32)) -> i32 {
+        match self {
+            DaysCoordinate::Log(axis) => axis.map(value, limit),
+            DaysCoordinate::Linear(axis) => axis.map(value, limit),
+        }
+    }
+
+    fn key_points<Hint: KeyPointHint>(&self, hint: Hint) -> Vec<f64> {
+        match self {
+            DaysCoordinate::Log(axis) => axis.key_points(hint),
+            DaysCoordinate::Linear(axis) => axis.key_points(hint),
+        }
+    }
+
+    fn range(&self) -> Range<f64> {
+        match self {
+            DaysCoordinate::Log(axis) => axis.range(),
+            DaysCoordinate::Linear(axis) => axis.range(),
+        }
+    }
+}
+
+/// Calendar days on an axis of `scale`, ticks labelled as written ("0.2",
+/// "5", "1000"): a logarithmic one with the ticks of [`log_ticks`], a linear
+/// one with evenly spaced round ticks.
+pub fn days_axis(days: Range<f64>, scale: Spacing) -> Axis<'static, DaysCoordinate> {
+    let coordinate = match scale {
+        Spacing::Log => DaysCoordinate::Log(log_axis(days)),
+        Spacing::Linear => DaysCoordinate::Linear(linear_axis(days)),
+    };
+    let format: &'static dyn Fn(&f64) -> String = match scale {
+        Spacing::Log => &tick_label_of,
+        Spacing::Linear => &axis_label,
+    };
     Axis {
-        coordinate: log_axis(days),
+        coordinate,
         description: Some("Calendar days"),
-        format: &tick_label_of,
+        format,
         labels: None,
     }
 }
@@ -152,6 +196,28 @@ mod tests {
         assert_eq!(one_two_five_span(0.3, 1.0), 0.2..1.0);
         assert_eq!(one_two_five_span(2.0, 4.9), 2.0..5.0);
         assert_eq!(one_two_five_span(0.0041, 5.2), 0.002..10.0);
+    }
+
+    #[test]
+    fn a_linear_day_axis_has_evenly_spaced_ticks() {
+        let axis = days_axis(1.0..1000.0, Spacing::Linear);
+        let ticks = axis.coordinate.key_points(10);
+        let labels: Vec<String> = ticks.iter().map(axis.format).collect();
+        assert_eq!(
+            labels,
+            [
+                "100", "200", "300", "400", "500", "600", "700", "800", "900", "1000"
+            ]
+        );
+        let pixels: Vec<i32> = ticks
+            .iter()
+            .map(|day| axis.coordinate.map(day, (0, 999)))
+            .collect();
+        let steps: Vec<i32> = pixels.windows(2).map(|pair| pair[1] - pair[0]).collect();
+        assert!(
+            steps.iter().all(|step| (step - steps[0]).abs() <= 1),
+            "{pixels:?}"
+        );
     }
 
     #[test]

@@ -240,7 +240,7 @@ pub(crate) mod tests {
             chart(
                 canvas,
                 &Frame::single(hostile, true),
-                days_axis(1.0..100.0),
+                days_axis(1.0..100.0, crate::scenario::Spacing::Log),
                 y,
             )?;
             draw_footnote(canvas, hostile)

@@ -1,6 +1,7 @@
 //! The kit every report is made with: figures over any x axis (`figure.rs`,
 //! `axis.rs`), what is drawn on them (`marks.rs`: curves, bands, reference
-//! lines, markers, legends, text; `legend.rs`: legend samples), the palette
+//! lines, markers, legends, text; `legend.rs`: legend samples; `schedule.rs`:
+//! stretches at reduced or zero rate shaded on figures against days), the palette
 //! (`palette.rs`), number formatting (`format.rs`), calendar dates beside
 //! days (`dates.rs`) and CSV and JSON encoding (`encode.rs`).
 
@@ -12,3 +13,4 @@ pub mod format;
 pub mod legend;
 pub mod marks;
 pub mod palette;
+pub mod schedule;

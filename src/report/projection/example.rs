@@ -8,26 +8,28 @@ use crate::limits::expected_limit_significance;
 use crate::projection::{
     Calibration, DaysToExclusion, DaysToTarget, ExposurePoint, Projection, TargetProbability,
 };
-use crate::scenario::Scenario;
+use crate::scenario::{Scenario, Spacing};
 
 /// An invented Gaussian peak on a flat background in 40 bins, the scenario
 /// behind the spectrum and binning report tests.
 pub(crate) fn invented_peak() -> Scenario {
-    Scenario::from_yaml(
-        "title: Invented peak\n\
-         observable: {name: mass, unit: MeV, range: [0.0, 20.0], bin_width: 0.5}\n\
-         signal: {events_per_day: 5.0, shape: {gaussian: {mean: 10.0, sigma: 1.0}}}\n\
-         backgrounds:\n  - {name: flat, events_per_day: 40.0, shape: {flat: {}}}\n\
-         plan: {days: {first: 1, last: 10, points: 2, spacing: log}, toys: 1, seed: 1, targets: [3]}\n",
-    )
-    .expect("the invented peak scenario is valid")
+    Scenario::from_yaml(INVENTED_PEAK).expect("the invented peak scenario is valid")
 }
+
+/// The text of [`invented_peak`], for tests that add to it.
+pub(crate) const INVENTED_PEAK: &str = "title: Invented peak\n\
+     observable: {name: mass, unit: MeV, range: [0.0, 20.0], bin_width: 0.5}\n\
+     signal: {events_per_day: 5.0, shape: {gaussian: {mean: 10.0, sigma: 1.0}}}\n\
+     backgrounds:\n  - {name: flat, events_per_day: 40.0, shape: {flat: {}}}\n\
+     plan: {days: {first: 1, last: 10, points: 2, spacing: log}, toys: 1, seed: 1, targets: [3]}\n";
 
 /// Two hand-written points and two targets. Point 1 carries no toy results and
 /// the 5σ target is never reached (Z saturates at 4.5σ), to exercise nulls.
 pub(crate) fn tiny() -> Projection {
     Projection {
         start: None,
+        day_spacing: Spacing::Log,
+        rate_stretches: Vec::new(),
         title: "Invented counting search".to_string(),
         seed: 7,
         toys: 200,
@@ -304,6 +306,8 @@ impl InventedSearch {
         Projection {
             title: title.to_string(),
             start: None,
+            day_spacing: Spacing::Log,
+            rate_stretches: Vec::new(),
             seed: 20240611,
             toys,
             at: Vec::new(),

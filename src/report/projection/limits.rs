@@ -16,16 +16,19 @@ use super::ensembles::Ensemble;
 use super::{LIMITS_SVG, day_range};
 use crate::projection::{ExposurePoint, Projection};
 use crate::report::ReportError;
-use crate::report::kit::axis::{Axis, LogAxis, days_axis, log_axis, one_two_five_span, tick_label};
+use crate::report::kit::axis::{
+    Axis, DaysCoordinate, LogAxis, days_axis, log_axis, one_two_five_span, tick_label,
+};
 use crate::report::kit::dates::dated_days_label;
 use crate::report::kit::figure::{self, Canvas, Chart, DrawError, Frame, SIZE};
 use crate::report::kit::format::percent_label;
 use crate::report::kit::marks::{self, BandPoint, Stroke};
 use crate::report::kit::palette::{DOT, INK_TEAL, LABEL_SIZE, SLATE, VERMILION};
+use crate::report::kit::schedule;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, VPos};
 
-type LimitChart<'a, 'b> = Chart<'a, 'b, LogAxis, LogAxis>;
+type LimitChart<'a, 'b> = Chart<'a, 'b, DaysCoordinate, LogAxis>;
 
 /// The limit plot at the confidence level of the projection as SVG bytes;
 /// only for a projection with limits (`cl` set).
@@ -63,7 +66,9 @@ fn draw(canvas: &Canvas, projection: &Projection, cl: f64) -> Result<(), DrawErr
     };
     let footnote = footnote(projection);
     let frame = Frame::single(&projection.title, footnote.is_some());
-    let mut chart = figure::chart(canvas, &frame, days_axis(day_range(points)), y)?;
+    let x = days_axis(day_range(points), projection.day_spacing);
+    let mut chart = figure::chart(canvas, &frame, x, y)?;
+    schedule::shade_reduced(&mut chart, canvas, &projection.rate_stretches)?;
     marks::draw_band(&mut chart, &band, band_labels)?;
     draw_nominal_signal(&mut chart, canvas, points)?;
     if median.len() > 1 {

@@ -12,6 +12,7 @@ use crate::report::kit::figure::{self, Canvas, DrawError, Frame, SIZE};
 use crate::report::kit::format::target_label;
 use crate::report::kit::marks::{self, Stroke};
 use crate::report::kit::palette::SERIES_COLOURS;
+use crate::report::kit::schedule;
 use plotters::chart::SeriesLabelPosition;
 
 /// The probability plot as SVG bytes.
@@ -29,7 +30,9 @@ fn draw(canvas: &Canvas, projection: &Projection) -> Result<(), DrawError> {
         labels: Some(12),
     };
     let frame = Frame::single(&projection.title, false);
-    let mut chart = figure::chart(canvas, &frame, days_axis(day_range(points)), y)?;
+    let x = days_axis(day_range(points), projection.day_spacing);
+    let mut chart = figure::chart(canvas, &frame, x, y)?;
+    schedule::shade_reduced(&mut chart, canvas, &projection.rate_stretches)?;
     for (level, label) in [(0.5, "50%"), (0.9, "90%")] {
         marks::reference_line(&mut chart, canvas, level, label)?;
     }

@@ -16,7 +16,7 @@ use super::ensembles::Ensemble;
 use super::{PROJECTION_SVG, day_range};
 use crate::projection::Projection;
 use crate::report::ReportError;
-use crate::report::kit::axis::{Axis, LogAxis, days_axis, linear_axis};
+use crate::report::kit::axis::{Axis, DaysCoordinate, days_axis, linear_axis};
 use crate::report::kit::dates::dated_days_label;
 use crate::report::kit::figure::{self, Canvas, Chart, DrawError, Frame, SIZE};
 use crate::report::kit::format::target_label;
@@ -25,11 +25,12 @@ use crate::report::kit::marks::{self, BandPoint, Stroke};
 use crate::report::kit::palette::{
     DASH, INK_TEAL, LABEL_SIZE, PLUM, SERIES_COLOURS, VERMILION, VIOLET,
 };
+use crate::report::kit::schedule;
 use plotters::coord::types::RangedCoordf64;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, VPos};
 
-type SignificanceChart<'a, 'b> = Chart<'a, 'b, LogAxis, RangedCoordf64>;
+type SignificanceChart<'a, 'b> = Chart<'a, 'b, DaysCoordinate, RangedCoordf64>;
 
 /// Colours of the channels' own curves: the series colours after the two the
 /// toy median and the combined Asimov curve use.
@@ -64,7 +65,9 @@ fn draw(canvas: &Canvas, projection: &Projection) -> Result<(), DrawError> {
         labels: Some(12),
     };
     let frame = Frame::single(&projection.title, footnote.is_some());
-    let mut chart = figure::chart(canvas, &frame, days_axis(day_range(points)), y)?;
+    let x = days_axis(day_range(points), projection.day_spacing);
+    let mut chart = figure::chart(canvas, &frame, x, y)?;
+    schedule::shade_reduced(&mut chart, canvas, &projection.rate_stretches)?;
     let band_labels = if with_toys {
         ["Toys, central 95.4%", "Toys, central 68.3%"]
     } else {
@@ -318,6 +321,59 @@ mod tests {
         assert!(text.contains("Z_A ± 1 (asymptotic)"));
         assert!(!text.contains("Toy median"));
         assert!(text.contains("Asimov only: bands are Z_A ± 1 and Z_A ± 2"));
+    }
+
+    /// The invented peak's stretches at other than nominal rates under
+    /// `schedule` (YAML flow mapping).
+    fn rate_stretches(schedule: &str) -> Vec<crate::projection::RateStretch> {
+        let text = example::INVENTED_PEAK.replace("plan:", &format!("schedule: {schedule}\nplan:"));
+        let scenario = crate::scenario::Scenario::from_yaml(&text).unwrap();
+        let model = crate::model::Model::from_scenario(&scenario);
+        crate::projection::RateStretch::of(&model.live_time)
+    }
+
+    #[test]
+    fn a_break_and_a_reduced_period_are_shaded_and_labelled() {
+        let mut projection = example::with_toys();
+        projection.rate_stretches = rate_stretches(
+            "{start: 2027-01-01, periods: [{days: 5, rate_scale: 0.3}], \
+             breaks: [{from: 2027-03-01, to: 2027-03-31}]}",
+        );
+        let text = svg(&projection);
+        assert!(text.contains("\nno data\n</text>"));
+        assert!(text.contains("\nrate ×0.3\n</text>"));
+        for (red, green, blue) in [(0xd5, 0xd9, 0xe0), (0xee, 0xf0, 0xf3)] {
+            let fill = "<rect x=";
+            let colour = format!("fill=\"#{red:02X}{green:02X}{blue:02X}\"");
+            let shaded = text
+                .lines()
+                .any(|line| line.starts_with(fill) && line.contains(&colour));
+            assert!(shaded, "no rectangle filled with {colour}");
+        }
+    }
+
+    #[test]
+    fn neutral_schedules_draw_the_same_figure_as_none() {
+        let neutral =
+            rate_stretches("{periods: [{days: 30, rate_scale: 1.0}, {signal_scale: 1.0}]}");
+        assert!(neutral.is_empty());
+        let raised = rate_stretches("{periods: [{days: 30, rate_scale: 1.5}]}");
+        let mut projection = example::with_toys();
+        let plain = svg(&projection);
+        projection.rate_stretches = raised;
+        assert_eq!(svg(&projection), plain, "a raised rate is shaded");
+    }
+
+    #[test]
+    fn a_linear_grid_gets_evenly_spaced_day_ticks() {
+        let mut projection = example::with_toys();
+        let log = svg(&projection);
+        projection.day_spacing = crate::scenario::Spacing::Linear;
+        let linear = svg(&projection);
+        // The example grid runs from 1 to 1000 days: a linear axis labels
+        // round days such as 400, which a logarithmic one never does.
+        assert!(linear.contains("\n400\n</text>") && !log.contains("\n400\n</text>"));
+        assert!(log.contains("\n20\n</text>") && !linear.contains("\n20\n</text>"));
     }
 
     #[test]
