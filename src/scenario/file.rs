@@ -95,6 +95,7 @@ impl ScenarioFile {
             shared_uncertainties,
             schedule,
             plan,
+            table_files: Vec::new(),
         })
     }
 }
