@@ -146,7 +146,7 @@ impl ShardRun {
         Sha256::digest(self.scenario_text.as_bytes()).into()
     }
 
-    /// The files of rows as `name: SHA-256` for messages.
+    /// Each file of rows as its name and SHA-256 in hex, for messages.
     fn table_hashes(&self) -> Vec<(String, String)> {
         self.table_files
             .iter()
@@ -307,8 +307,8 @@ impl ShardRun {
                 .find(|(known, _)| known == name)
                 .map(|(_, hash)| hash.clone())
         };
-        let names = mine.iter().chain(&theirs).map(|(name, _)| name.as_str());
-        names.into_iter().find_map(|name| {
+        let mut names = mine.iter().chain(&theirs).map(|(name, _)| name.as_str());
+        names.find_map(|name| {
             let (a, b) = (find(&mine, name), find(&theirs, name));
             let shown = |hash: Option<String>| hash.unwrap_or_else(|| "none".into());
             (a != b).then(|| {
