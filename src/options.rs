@@ -63,9 +63,10 @@ impl Loaded {
         )
     }
 
-    /// The scenario file as provenance records it: its name and SHA-256.
+    /// The scenario file as provenance records it: its name and SHA-256,
+    /// with those of the files of rows it names.
     pub fn scenario_file(&self) -> ScenarioFile {
-        ScenarioFile::new(&self.file_name(), &self.text)
+        ScenarioFile::new(&self.file_name(), &self.text).with_tables(&self.scenario.table_files)
     }
 
     /// `out`, or `output/<scenario file stem>`.

@@ -1,11 +1,12 @@
 //! Provenance: what made an output file, recorded in every JSON document and
-//! CSV table: the runcast version, each scenario file's name and SHA-256,
-//! and every option that changes a number. Nothing that differs between
+//! CSV table: the runcast version, each scenario file's name and SHA-256
+//! with those of the files of rows it names, and every option that changes a number. Nothing that differs between
 //! equivalent runs goes in (no output folder, path, clock, host or thread
 //! count), so the same inputs give the same bytes, and a sharded run merged
 //! gives the bytes of the unsharded one.
 
 use crate::projection::ProjectionSettings;
+use crate::scenario::TableFile;
 use serde::Serialize;
 use serde_json::{Map, Value, json};
 use sha2::{Digest, Sha256};
@@ -21,22 +22,55 @@ pub struct Provenance {
 }
 
 /// One scenario file: its name (not its path, which may differ between
-/// equivalent runs) and the SHA-256 of its bytes (FIPS 180-4), in hex.
+/// equivalent runs) and the SHA-256 of its bytes (FIPS 180-4), in hex, with
+/// the files of rows its shapes name (left out when there are none).
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ScenarioFile {
     pub file: String,
     pub sha256: String,
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub tables: Vec<FileHash>,
 }
 
-impl ScenarioFile {
+/// A file read for a scenario: its name as written and its SHA-256 in hex.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct FileHash {
+    pub file: String,
+    pub sha256: String,
+}
+
+impl FileHash {
     /// The file `name` with the text `text`.
-    pub fn new(name: &str, text: &str) -> ScenarioFile {
-        ScenarioFile {
+    pub fn new(name: &str, text: &str) -> FileHash {
+        FileHash {
             file: name.to_string(),
             sha256: Sha256::digest(text.as_bytes())
                 .iter()
                 .map(|byte| format!("{byte:02x}"))
                 .collect(),
+        }
+    }
+}
+
+impl ScenarioFile {
+    /// The file `name` with the text `text`, naming no other file.
+    pub fn new(name: &str, text: &str) -> ScenarioFile {
+        let FileHash { file, sha256 } = FileHash::new(name, text);
+        ScenarioFile {
+            file,
+            sha256,
+            tables: Vec::new(),
+        }
+    }
+
+    /// This file with the files of rows `tables` it names.
+    pub fn with_tables(self, tables: &[TableFile]) -> ScenarioFile {
+        ScenarioFile {
+            tables: tables
+                .iter()
+                .map(|table| FileHash::new(&table.name, &table.text))
+                .collect(),
+            ..self
         }
     }
 }

@@ -93,7 +93,7 @@ fn merged_shards_give_the_unsharded_bytes_on_every_demo() {
                 &project(&model, &settings, &|_| {}).expect("projects"),
                 &provenance,
             );
-            let run = ShardRun::new(name.into(), text.clone(), settings);
+            let run = ShardRun::new(name.into(), text.clone(), Vec::new(), settings);
             for count in [1, 2, 3, 7] {
                 let directory = scratch
                     .path
@@ -121,7 +121,12 @@ fn merged_shards_give_the_unsharded_bytes_on_every_demo() {
 fn a_rerun_shard_is_the_same_file() {
     let scratch = Scratch::new("rerun-shard");
     let (scenario, text) = demo("narrow_peak.yaml");
-    let run = ShardRun::new("narrow_peak.yaml".into(), text, settings(&scenario, 3, 30));
+    let run = ShardRun::new(
+        "narrow_peak.yaml".into(),
+        text,
+        Vec::new(),
+        settings(&scenario, 3, 30),
+    );
     let first = run_shards(&scenario, &run, 3, &scratch.path);
     let bytes: Vec<Vec<u8>> = first.iter().map(|path| fs::read(path).unwrap()).collect();
     let again = run_shards(&scenario, &run, 3, &scratch.path);
@@ -139,6 +144,7 @@ fn three_shards(directory: &Path, seed: u64) -> Vec<PathBuf> {
     let run = ShardRun::new(
         "narrow_peak.yaml".into(),
         text,
+        Vec::new(),
         settings(&scenario, seed, 30),
     );
     run_shards(&scenario, &run, 3, directory)
@@ -211,11 +217,21 @@ fn shards_of_another_scenario_or_options_are_refused() {
     ];
     for (index, (other_text, other_settings, named)) in variants.into_iter().enumerate() {
         let directory = scratch.path.join(index.to_string());
-        let run = ShardRun::new("narrow_peak.yaml".into(), text.clone(), base.clone());
+        let run = ShardRun::new(
+            "narrow_peak.yaml".into(),
+            text.clone(),
+            Vec::new(),
+            base.clone(),
+        );
         let shards = run_shards(&scenario, &run, 2, &directory);
         fs::remove_file(&shards[1]).unwrap();
         let other_scenario = Scenario::from_yaml(&other_text).unwrap();
-        let other = ShardRun::new("narrow_peak.yaml".into(), other_text, other_settings);
+        let other = ShardRun::new(
+            "narrow_peak.yaml".into(),
+            other_text,
+            Vec::new(),
+            other_settings,
+        );
         let model = Model::from_scenario(&other_scenario);
         run_shard(
             &model,

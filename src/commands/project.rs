@@ -49,6 +49,7 @@ fn run_shard(options: &ProjectOptions, shard: ShardSpec) -> Result<(), Error> {
     let run = ShardRun::new(
         loaded.file_name(),
         loaded.text.clone(),
+        loaded.scenario.table_files.clone(),
         options.settings.clone(),
     );
     let bar = toy_progress(options.settings.total_toys_in(shard), options.quiet);

@@ -107,6 +107,7 @@ impl ScenarioFile {
             detector,
             schedule,
             plan,
+            table_files: Vec::new(),
         })
     }
 }

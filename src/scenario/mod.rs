@@ -16,6 +16,7 @@ mod validate;
 
 pub use error::ScenarioError;
 pub use rate::{DAYS_PER_WEEK, DAYS_PER_YEAR, Detector, RateUnit};
+pub use rows_file::TableFile;
 pub use scan::{MIN_SCAN_POSITIONS, Scan, SignalScan};
 pub use template::TEMPLATE;
 
@@ -24,6 +25,7 @@ use crate::shapes::{ParameterValue, Placement, Shape, ShapeError, ShapeKind};
 use crate::warning::Warning;
 use file::ScenarioFile;
 use rate::WrittenRate;
+use rows_file::TableSource;
 use serde::Deserialize;
 use std::collections::BTreeMap;
 use std::io::Read;
@@ -50,6 +52,8 @@ pub struct Scenario {
     pub detector: Option<Detector>,
     pub schedule: Schedule,
     pub plan: Plan,
+    /// The files of rows the shapes name, each once, in the order first named.
+    pub table_files: Vec<TableFile>,
 }
 
 /// One searched spectrum: a binned observable with its signal and backgrounds.
@@ -456,17 +460,26 @@ impl Scenario {
     /// [`limits::MAX_NESTING_DEPTH`] are refused before parsing. A shape that
     /// names a file is refused: without the scenario's path it cannot be found.
     pub fn from_yaml(text: &str) -> Result<Scenario, ScenarioError> {
-        Scenario::parse(text, None)
+        Scenario::parse(text, TableSource::Nowhere)
     }
 
     /// Parses and validates the text of the scenario file at `path`, reading
     /// the shape files it names from the file's folder.
     pub fn from_file_text(text: &str, path: &Path) -> Result<Scenario, ScenarioError> {
         let directory = path.parent().unwrap_or(Path::new(""));
-        Scenario::parse(text, Some(directory))
+        Scenario::parse(text, TableSource::Directory(directory))
     }
 
-    fn parse(text: &str, directory: Option<&Path>) -> Result<Scenario, ScenarioError> {
+    /// Parses and validates scenario text whose shape files are among
+    /// `files` (those a shard carries), reading nothing from disk.
+    pub fn from_text_and_tables(
+        text: &str,
+        files: &[TableFile],
+    ) -> Result<Scenario, ScenarioError> {
+        Scenario::parse(text, TableSource::Carried(files))
+    }
+
+    fn parse(text: &str, tables: TableSource) -> Result<Scenario, ScenarioError> {
         let (depth, line) = limits::bracket_depth(text);
         if depth > limits::MAX_NESTING_DEPTH {
             return Err(ScenarioError::Parse {
@@ -480,14 +493,14 @@ impl Scenario {
         }
         let file: ScenarioFile = serde_yaml::from_str(text).map_err(ScenarioError::from_yaml)?;
         let mut scenario = file.into_scenario()?;
-        scenario.read_shape_files(directory)?;
+        scenario.read_shape_files(tables)?;
         validate::validate(&scenario)?;
         Ok(scenario)
     }
 
-    /// Reads the rows of every shape that names a file, from `directory`
-    /// (the scenario file's folder).
-    fn read_shape_files(&mut self, directory: Option<&Path>) -> Result<(), ScenarioError> {
+    /// Reads the rows of every shape that names a file, through `tables`,
+    /// and records each file read in [`Scenario::table_files`].
+    fn read_shape_files(&mut self, tables: TableSource) -> Result<(), ScenarioError> {
         let syntax = self.channel_syntax;
         for (index, channel) in self.channels.iter_mut().enumerate() {
             let path = syntax.path(index);
@@ -502,7 +515,12 @@ impl Scenario {
                     });
             for (owner, shape) in signal.chain(backgrounds) {
                 let field = format!("{path}{owner}.shape.{}.file", shape.kind.key);
-                rows_file::resolve(shape, directory, &field)?;
+                let read = rows_file::resolve(shape, tables, &field)?;
+                if let Some(read) = read
+                    .filter(|read| !self.table_files.iter().any(|known| known.name == read.name))
+                {
+                    self.table_files.push(read);
+                }
             }
         }
         Ok(())

@@ -2,6 +2,8 @@
 //! the file found beside the scenario, read up to a bounded size as CSV with
 //! a header line naming the kind's columns, and turned into the shape's
 //! values by its kind ([`RowForm`]). Errors name the file, row and column.
+//! A merge of shards finds the files among the contents the shards carry
+//! ([`TableSource::Carried`]) instead of on disk.
 
 use super::limits::{MAX_ROWS_FILE_BYTES, MAX_TABLE_ROWS};
 use super::{ScenarioError, ShapeSpec};
@@ -9,38 +11,70 @@ use crate::shapes::{RowError, RowForm};
 use std::io::Read;
 use std::path::Path;
 
-/// Fills the values of `shape` from its `file`, found relative to
-/// `directory` (the scenario file's folder); `field` is the dotted path of
-/// the `file` key, e.g. `backgrounds[0].shape.table.file`. Without a
-/// directory (a scenario given as text alone) a file cannot be found.
-pub(super) fn resolve(
-    shape: &mut ShapeSpec,
-    directory: Option<&Path>,
-    field: &str,
-) -> Result<(), ScenarioError> {
-    let (Some(written), Some(form)) = (shape.file.as_deref(), shape.kind.rows.as_ref()) else {
-        return Ok(());
-    };
-    let Some(directory) = directory else {
-        return Err(ScenarioError::invalid(
-            field,
-            format!(
+/// One file of rows read for a scenario: its name as the scenario writes it
+/// and its text, which shards carry and provenance hashes.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct TableFile {
+    pub name: String,
+    pub text: String,
+}
+
+/// Where the files of rows a scenario names are found.
+#[derive(Debug, Clone, Copy)]
+pub(super) enum TableSource<'a> {
+    /// A scenario given as text alone: no file can be found.
+    Nowhere,
+    /// The scenario file's folder.
+    Directory(&'a Path),
+    /// The files a shard carries, by name.
+    Carried(&'a [TableFile]),
+}
+
+impl TableSource<'_> {
+    /// The text of the file `written`, or why it cannot be had.
+    fn text(&self, written: &str) -> Result<String, String> {
+        match self {
+            TableSource::Nowhere => Err(format!(
                 "`{written}` is found relative to the scenario file, but this scenario was \
                  given as text alone; load it from its file"
-            ),
-        ));
+            )),
+            TableSource::Directory(directory) => {
+                let path = directory.join(written);
+                read_bounded(&path).map_err(|message| format!("{}: {message}", path.display()))
+            }
+            TableSource::Carried(files) => files
+                .iter()
+                .find(|file| file.name == written)
+                .map(|file| file.text.clone())
+                .ok_or_else(|| format!("`{written}` is not among the files the shards carry")),
+        }
+    }
+}
+
+/// Fills the values of `shape` from its `file`, found through `source`;
+/// `field` is the dotted path of the `file` key, e.g.
+/// `backgrounds[0].shape.table.file`. Returns the file read, if any.
+pub(super) fn resolve(
+    shape: &mut ShapeSpec,
+    source: TableSource,
+    field: &str,
+) -> Result<Option<TableFile>, ScenarioError> {
+    let (Some(written), Some(form)) = (shape.file.as_deref(), shape.kind.rows.as_ref()) else {
+        return Ok(None);
     };
-    let path = directory.join(written);
-    let text = read_bounded(&path).map_err(|message| {
-        ScenarioError::invalid(field, format!("{}: {message}", path.display()))
-    })?;
+    let text = source
+        .text(written)
+        .map_err(|message| ScenarioError::invalid(field, message))?;
     let rows = parse_rows(&text, form)
         .map_err(|located| ScenarioError::invalid(field, format!("{written}, {located}")))?;
     let values = (form.values)(&rows).map_err(|error| {
         ScenarioError::invalid(field, format!("{written}, {}", located(&error)))
     })?;
     shape.values = values;
-    Ok(())
+    Ok(Some(TableFile {
+        name: written.to_string(),
+        text,
+    }))
 }
 
 /// "row 3 (line 4), column `high`: ..." for a row counted from 1 below the header.

@@ -1,6 +1,6 @@
 //! Why a shard could not be written, or shards not merged.
 
-use super::{SHARD_EXTENSION, ShardSpec};
+use super::{MAGIC_PREFIX, SHARD_EXTENSION, ShardSpec};
 use crate::projection::ProjectionError;
 use crate::scenario::ScenarioError;
 use std::fmt;
@@ -14,6 +14,8 @@ pub enum ShardError {
     Io { path: PathBuf, source: io::Error },
     /// Not a shard file of this format.
     NotAShard { path: PathBuf },
+    /// A shard file of another format than this runcast writes.
+    OtherFormat { path: PathBuf, format: String },
     /// The file's bytes do not match its checksum.
     Corrupted { path: PathBuf },
     /// The checksum matches but the content does not make sense.
@@ -58,6 +60,13 @@ impl fmt::Display for ShardError {
                     path.display()
                 )
             }
+            ShardError::OtherFormat { path, format } => write!(
+                f,
+                "{}: a shard file of format {format}, but this runcast reads format {}; \
+                 rerun the shards with this runcast",
+                path.display(),
+                String::from_utf8_lossy(&super::MAGIC[MAGIC_PREFIX.len()..]).trim_end()
+            ),
             ShardError::Corrupted { path } => write!(
                 f,
                 "{}: truncated or corrupted (its checksum does not match); rerun this shard",

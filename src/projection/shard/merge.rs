@@ -1,7 +1,9 @@
 //! Merging: every shard of one run checked, then read point by point.
 
 use super::encoding::{Decoder, HashingWriter, decode_point};
-use super::{CHECKSUM_BYTES, MAGIC, SHARD_EXTENSION, ShardError, ShardRun, ShardSpec};
+use super::{
+    CHECKSUM_BYTES, MAGIC, MAGIC_PREFIX, SHARD_EXTENSION, ShardError, ShardRun, ShardSpec,
+};
 use crate::ensemble::EnsembleOutcome;
 use crate::likelihood::Likelihood;
 use crate::model::Model;
@@ -21,9 +23,11 @@ pub fn merge_shards(directory: &Path) -> Result<(ShardRun, Projection), ShardErr
     let first = &shards[0];
     let mut run = first.run.clone();
     let scenario =
-        Scenario::from_yaml(&run.scenario_text).map_err(|source| ShardError::Scenario {
-            path: first.path.clone(),
-            source,
+        Scenario::from_text_and_tables(&run.scenario_text, &run.table_files).map_err(|source| {
+            ShardError::Scenario {
+                path: first.path.clone(),
+                source,
+            }
         })?;
     let model = Model::from_scenario(&scenario);
     run.settings.scan = scenario.signal_scan();
@@ -216,6 +220,25 @@ impl ShardReader {
     }
 }
 
+/// Why a file whose first bytes are not [`MAGIC`] is refused: a shard of
+/// another format (its number read from the first line), or no shard.
+fn other_format(path: &Path, magic: &[u8; 16]) -> ShardError {
+    let format = magic
+        .strip_prefix(MAGIC_PREFIX)
+        .and_then(|rest| rest.split(|&byte| byte == b'\n').next())
+        .and_then(|number| std::str::from_utf8(number).ok())
+        .filter(|number| !number.is_empty() && number.bytes().all(|byte| byte.is_ascii_digit()));
+    match format {
+        Some(format) => ShardError::OtherFormat {
+            path: path.to_path_buf(),
+            format: format.to_string(),
+        },
+        None => ShardError::NotAShard {
+            path: path.to_path_buf(),
+        },
+    }
+}
+
 /// Reads the whole file, compares the SHA-256 of all but its last 32 bytes
 /// with those bytes, and returns the length they cover.
 fn verify_checksum(path: &Path) -> Result<u64, ShardError> {
@@ -226,13 +249,13 @@ fn verify_checksum(path: &Path) -> Result<u64, ShardError> {
     let mut file = File::open(path).map_err(io_error)?;
     let length = file.metadata().map_err(io_error)?.len();
     let mut magic = [0u8; 16];
-    if length < MAGIC.len() as u64 + CHECKSUM_BYTES
-        || file.read_exact(&mut magic).is_err()
-        || &magic != MAGIC
-    {
+    if length < MAGIC.len() as u64 + CHECKSUM_BYTES || file.read_exact(&mut magic).is_err() {
         return Err(ShardError::NotAShard {
             path: path.to_path_buf(),
         });
+    }
+    if &magic != MAGIC {
+        return Err(other_format(path, &magic));
     }
     let body_length = length - CHECKSUM_BYTES;
     let mut hasher = HashingWriter::new(io::sink());

@@ -6,7 +6,8 @@
 //! shards together are those of the unsharded run. A shard file holds what
 //! merging needs and nothing else:
 //!
-//! - a header: the runcast version, the scenario text and its SHA-256, the
+//! - a header: the runcast version, the scenario text and its SHA-256, each
+//!   file of rows the scenario names (name, SHA-256, text), the
 //!   projection settings (seed, toys, limits, calibration, look-elsewhere
 //!   toys, grid, `--at` days), K and N;
 //! - per grid point with live time, then per `--at` day with live time, the
@@ -37,6 +38,7 @@ pub use write::run_shard;
 use super::ProjectionSettings;
 use crate::provenance::{Provenance, ScenarioFile};
 use crate::scenario::Spacing;
+use crate::scenario::TableFile;
 use encoding::{Decoder, Encoder, hex};
 use sha2::{Digest, Sha256};
 use std::fmt;
@@ -44,7 +46,9 @@ use std::ops::Range;
 use std::str::FromStr;
 
 /// The first bytes of every shard file, with the format number.
-const MAGIC: &[u8; 16] = b"runcast-shard 3\n";
+const MAGIC: &[u8; 16] = b"runcast-shard 4\n";
+/// The first bytes of a shard file of any format, before its number.
+const MAGIC_PREFIX: &[u8] = b"runcast-shard ";
 /// The extension of shard files; `merge` reads every file of a directory with it.
 pub const SHARD_EXTENSION: &str = "runcast-shard";
 /// Bytes of the SHA-256 checksum at the end of a shard file.
@@ -106,16 +110,25 @@ pub struct ShardRun {
     pub scenario_name: String,
     /// The scenario file's text, from which merging rebuilds the model.
     pub scenario_text: String,
+    /// The files of rows the scenario names, which merging reads from here.
+    pub table_files: Vec<TableFile>,
     pub settings: ProjectionSettings,
 }
 
 impl ShardRun {
-    /// A run of this runcast version on the scenario `text` read from `name`.
-    pub fn new(scenario_name: String, scenario_text: String, settings: ProjectionSettings) -> Self {
+    /// A run of this runcast version on the scenario `text` read from `name`,
+    /// whose shapes name the files of rows `table_files`.
+    pub fn new(
+        scenario_name: String,
+        scenario_text: String,
+        table_files: Vec<TableFile>,
+        settings: ProjectionSettings,
+    ) -> Self {
         ShardRun {
             version: env!("CARGO_PKG_VERSION").to_string(),
             scenario_name,
             scenario_text,
+            table_files,
             settings,
         }
     }
@@ -123,7 +136,8 @@ impl ShardRun {
     /// What made the merged outputs: the provenance of the unsharded run.
     pub fn provenance(&self) -> Provenance {
         Provenance::of_projection(
-            ScenarioFile::new(&self.scenario_name, &self.scenario_text),
+            ScenarioFile::new(&self.scenario_name, &self.scenario_text)
+                .with_tables(&self.table_files),
             &self.settings,
         )
     }
@@ -133,6 +147,19 @@ impl ShardRun {
         Sha256::digest(self.scenario_text.as_bytes()).into()
     }
 
+    /// Each file of rows as its name and SHA-256 in hex, for messages.
+    fn table_hashes(&self) -> Vec<(String, String)> {
+        self.table_files
+            .iter()
+            .map(|file| {
+                (
+                    file.name.clone(),
+                    hex(&Sha256::digest(file.text.as_bytes())),
+                )
+            })
+            .collect()
+    }
+
     /// The header bytes of this run (everything but K).
     fn encode(&self, out: &mut Encoder) {
         let settings = &self.settings;
@@ -140,6 +167,12 @@ impl ShardRun {
         out.text(&self.scenario_name);
         out.bytes(&self.scenario_hash());
         out.text(&self.scenario_text);
+        out.count(self.table_files.len());
+        for file in &self.table_files {
+            out.text(&file.name);
+            out.bytes(&Sha256::digest(file.text.as_bytes()));
+            out.text(&file.text);
+        }
         out.text(&settings.title);
         out.floats(&settings.days);
         out.floats(&settings.at_days);
@@ -157,6 +190,7 @@ impl ShardRun {
         let scenario_name = input.text()?;
         let hash = input.bytes()?;
         let scenario_text = input.text()?;
+        let table_files = decode_table_files(input)?;
         let title = input.text()?;
         let days = input.floats()?;
         let at_days = input.floats()?;
@@ -171,6 +205,7 @@ impl ShardRun {
             version,
             scenario_name,
             scenario_text,
+            table_files,
             settings: ProjectionSettings {
                 title,
                 days,
@@ -237,6 +272,7 @@ impl ShardRun {
                 other.scenario_name.clone(),
             )
         })
+        .or_else(|| self.table_difference(other))
         .or_else(|| named("seed", a.seed.to_string(), b.seed.to_string()))
         .or_else(|| named("--toys", a.toys.to_string(), b.toys.to_string()))
         .or_else(|| {
@@ -263,6 +299,48 @@ impl ShardRun {
         })
         .or_else(|| (self != other).then(|| "projection settings".to_string()))
     }
+
+    /// The first file of rows that `other` carries with other bytes, or
+    /// carries and this run does not (or the reverse), for messages.
+    fn table_difference(&self, other: &ShardRun) -> Option<String> {
+        let (mine, theirs) = (self.table_hashes(), other.table_hashes());
+        let find = |hashes: &[(String, String)], name: &str| {
+            hashes
+                .iter()
+                .find(|(known, _)| known == name)
+                .map(|(_, hash)| hash.clone())
+        };
+        let mut names = mine.iter().chain(&theirs).map(|(name, _)| name.as_str());
+        names.find_map(|name| {
+            let (a, b) = (find(&mine, name), find(&theirs, name));
+            let shown = |hash: Option<String>| hash.unwrap_or_else(|| "none".into());
+            (a != b).then(|| {
+                format!(
+                    "table file `{name}` (SHA-256) {} instead of {}",
+                    shown(b),
+                    shown(a)
+                )
+            })
+        })
+    }
+}
+
+/// The files of rows of a shard header, each checked against its SHA-256.
+fn decode_table_files(input: &mut Decoder) -> Result<Vec<TableFile>, String> {
+    let count = input.length(1)?;
+    (0..count)
+        .map(|_| {
+            let name = input.text()?;
+            let hash = input.bytes()?;
+            let text = input.text()?;
+            if hash != Sha256::digest(text.as_bytes()).as_slice() {
+                return Err(format!(
+                    "the table file `{name}` does not match its SHA-256"
+                ));
+            }
+            Ok(TableFile { name, text })
+        })
+        .collect()
 }
 
 #[cfg(test)]
