@@ -71,6 +71,17 @@ const AFTER_SHAPES: &str = r#"  shape: {gaussian: {mean: 180.0, sigma: 2.5}}
   # Optional; absent = signal yield known exactly. Relative uncertainty on the yield:
   # a Gaussian constraint N(1, 0.10) on a factor multiplying it (0.10 = 10 %).
   yield_uncertainty: 0.10
+  # Optional, gaussian or breit_wigner only: the energy scale and resolution known
+  # to an absolute position_uncertainty (observable units) and a relative
+  # width_uncertainty, each fitted with a Gaussian constraint.
+  # position_uncertainty: 0.5
+  # width_uncertainty: 0.1
+  # Optional, gaussian or breit_wigner only: the position is unknown and the
+  # search tests every position from `from` to `to` (step default: a fifth of
+  # the width; optional width_at_to: the width at `to`, growing linearly). Then
+  # `project` also gives the global significance after the look-elsewhere effect
+  # and `runcast reach` the reach over the positions.
+  # scan: {from: 120.0, to: 280.0, step: 0.5}
 
 # One or more background components; each needs a name not used by another.
 backgrounds:
