@@ -78,7 +78,7 @@ const MAX_TABLE_ENTRIES: usize = 1 << 22;
 
 /// Where the signal sits at each position of a scan, made once per
 /// ensemble and shared by its workers: the signal's bin fractions at every
-/// position (a table of positions x bins, at most [`MAX_TABLE_ENTRIES`]),
+/// position (a table of positions x bins, at most `MAX_TABLE_ENTRIES`),
 /// or, for larger scans, the shape parameters from which each fit computes
 /// them. Both give the same fractions bit for bit.
 #[derive(Debug)]

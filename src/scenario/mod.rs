@@ -34,7 +34,7 @@ use std::path::Path;
 /// A whole search scenario: one or more channels sharing one signal strength,
 /// the data-taking schedule and the projection plan.
 ///
-/// Read from a [`ScenarioFile`]: either one channel written at the top level
+/// Read from the file as written (`ScenarioFile`): either one channel written at the top level
 /// (`observable`, `signal`, `backgrounds`) or a `channels` list.
 #[derive(Debug, Clone)]
 pub struct Scenario {
@@ -527,7 +527,7 @@ impl Scenario {
     }
 
     /// The first channel: the only one of a single-channel scenario. For code
-    /// that handles one channel (see [`Scenario::with_only_channel`]).
+    /// that handles one channel.
     pub fn channel(&self) -> &Channel {
         &self.channels[0]
     }
