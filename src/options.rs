@@ -195,6 +195,7 @@ fn projection_settings(
         title: scenario.title.clone(),
         days: scenario.plan.days.days(),
         day_spacing: scenario.plan.days.axis_spacing(),
+        detector_mass_kg: scenario.detector_mass_kg(),
         at_days: at_days(&overrides.at)?,
         toys,
         seed: loaded.seed(overrides.seed),

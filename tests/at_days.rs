@@ -27,6 +27,7 @@ fn settings(days: &[f64], at_days: &[f64], toys: usize) -> ProjectionSettings {
         title: "at days".to_string(),
         days: days.to_vec(),
         day_spacing: Spacing::Log,
+        detector_mass_kg: None,
         at_days: at_days.to_vec(),
         toys,
         seed: 20261202,
@@ -95,7 +96,9 @@ fn an_at_day_matches_the_counting_window_closed_forms() {
         signal_per_live_day,
         limit_events_per_live_day,
         limit_events,
+        limit_events_per_kg_day,
     } = &projection.at[0];
+    assert_eq!(*limit_events_per_kg_day, None, "no detector mass");
     let (s, b) = (SIGNAL * days, BACKGROUND * days);
     // Cowan et al. 2011, eq. 97.
     let z = (2.0 * ((s + b) * (s / b).ln_1p() - s)).sqrt();
@@ -154,4 +157,42 @@ fn at_days_change_no_grid_number_and_the_grid_changes_none_of_theirs() {
     // Asimov numbers, other toys.
     assert_same_asimov(&with_at.at[0].point, &with_at.points[1]);
     assert_ne!(with_at.at[0].point.z_median, with_at.points[1].z_median);
+}
+
+/// With a detector of mass M the limit per kg·day is the limit per live day
+/// divided by M (a rate per kg·day times M is a rate per day: common
+/// practice in low-background searches), band and toys alike.
+#[test]
+fn a_detector_mass_gives_the_limits_per_kg_day() {
+    let model = window();
+    let mass = 4.5;
+    let mut with_mass = settings(&[1.0, 365.0], &[91.5], 200);
+    with_mass.detector_mass_kg = Some(mass);
+    let projection = project(&model, &with_mass, &|_| {}).expect("projection");
+    let at = &projection.at[0];
+    let per_day = at.limit_events_per_live_day;
+    let per_kg_day = at.limit_events_per_kg_day.expect("a mass was given");
+    let divided = |value: Option<f64>| value.map(|v| v / mass);
+    let each = |a: Option<f64>, b: Option<f64>| {
+        let (a, b) = (a.expect("a limit"), b.expect("a limit"));
+        assert!((a - b).abs() <= 1e-12 * b.abs(), "{a} {b}");
+    };
+    each(per_kg_day.median, divided(per_day.median));
+    each(per_kg_day.asimov, divided(per_day.asimov));
+    for quantile in 0..4 {
+        each(
+            per_kg_day.band.map(|band| band[quantile]),
+            divided(per_day.band.map(|band| band[quantile])),
+        );
+        each(
+            per_kg_day.asimov_band.map(|band| band[quantile]),
+            divided(per_day.asimov_band.map(|band| band[quantile])),
+        );
+    }
+    let without = run(&model, &[1.0, 365.0], &[91.5], 200);
+    assert_eq!(
+        format!("{:?}", without.at[0].point),
+        format!("{:?}", at.point),
+        "the mass changes no number"
+    );
 }

@@ -45,6 +45,7 @@ fn settings(scenario: &Scenario, seed: u64, calibration_toys: usize) -> Projecti
         title: scenario.title.clone(),
         days: scenario.plan.days.days(),
         day_spacing: scenario.plan.days.axis_spacing(),
+        detector_mass_kg: scenario.detector_mass_kg(),
         at_days: Vec::new(),
         toys: TOYS,
         seed,

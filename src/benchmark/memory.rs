@@ -50,6 +50,7 @@ pub fn probe_in_process(points: usize, toys: usize) -> Result<u64, BenchmarkErro
         title: scenario.title.clone(),
         days: scenario.plan.days.days(),
         day_spacing: scenario.plan.days.axis_spacing(),
+        detector_mass_kg: scenario.detector_mass_kg(),
         at_days: Vec::new(),
         toys,
         seed: scenario.plan.seed,

@@ -36,6 +36,9 @@ pub struct ProjectionSettings {
     pub days: Vec<f64>,
     /// Spacing of the figures' day axis (`DaysGrid::axis_spacing`).
     pub day_spacing: Spacing,
+    /// The detector mass in kg when every channel names the same one: the
+    /// `--at` limits are then also given per kg·day.
+    pub detector_mass_kg: Option<f64>,
     /// Calendar days asked for with `--at`, increasing, none repeated: each
     /// a point of its own (its own pseudo-experiments), never interpolated.
     pub at_days: Vec<f64>,
@@ -156,7 +159,7 @@ pub fn project_from<S: ToySource>(
         calibration_toys: settings.calibration_toys,
         at: at_points
             .into_iter()
-            .map(|point| AtDay::new(point, model.nominal_rates().0))
+            .map(|point| AtDay::new(point, model.nominal_rates().0, settings.detector_mass_kg))
             .collect(),
         scan: settings
             .scan

@@ -119,15 +119,21 @@ pub struct AtDay {
     /// The expected limits in signal events over the run up to this day:
     /// mu_up × `signal` (the nominal signal expected in the live days).
     pub limit_events: EventLimits,
+    /// With a detector mass M: the expected limits in signal events per
+    /// kg·day of exposure, mu_up × `signal_per_live_day` / M.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub limit_events_per_kg_day: Option<EventLimits>,
 }
 
 impl AtDay {
     /// The point at an `--at` day, with `signal_per_live_day` nominal signal
-    /// events per live day.
-    pub fn new(point: ExposurePoint, signal_per_live_day: f64) -> AtDay {
+    /// events per live day and, when given, a detector of `mass_kg`.
+    pub fn new(point: ExposurePoint, signal_per_live_day: f64, mass_kg: Option<f64>) -> AtDay {
         AtDay {
             limit_events_per_live_day: EventLimits::scaled(&point, signal_per_live_day),
             limit_events: EventLimits::scaled(&point, point.signal),
+            limit_events_per_kg_day: mass_kg
+                .map(|mass| EventLimits::scaled(&point, signal_per_live_day / mass)),
             point,
             signal_per_live_day,
         }

@@ -526,6 +526,18 @@ impl Scenario {
         Ok(())
     }
 
+    /// The detector mass in kg when every channel has the same one (its
+    /// own `detector` or the top-level one); None without a mass or when the
+    /// channels' masses differ, where one mass per kg·day would be ambiguous.
+    pub fn detector_mass_kg(&self) -> Option<f64> {
+        let mut masses = self
+            .channels
+            .iter()
+            .map(|channel| channel.detector.or(self.detector).map(|d| d.mass_kg));
+        let first = masses.next().flatten()?;
+        masses.all(|mass| mass == Some(first)).then_some(first)
+    }
+
     /// The first channel: the only one of a single-channel scenario. For code
     /// that handles one channel.
     pub fn channel(&self) -> &Channel {

@@ -209,8 +209,9 @@ impl ShardRun {
             settings: ProjectionSettings {
                 title,
                 days,
-                // Rebuilt from the scenario text when merging.
+                // Both rebuilt from the scenario text when merging.
                 day_spacing: Spacing::Log,
+                detector_mass_kg: None,
                 at_days,
                 toys,
                 seed,

@@ -88,11 +88,18 @@ fn limits_text(at: &AtDay, cl: f64, toys: bool) -> String {
         ]
         .to_vec(),
     ];
-    let units = [
+    let per_kg_day = at
+        .limit_events_per_kg_day
+        .as_ref()
+        .map(|limits| (limits, "signal events per kg·day"));
+    let units: Vec<_> = [
         (&mu, "× the nominal signal"),
         (&at.limit_events_per_live_day, "signal events per live day"),
         (&at.limit_events, "signal events over the run"),
-    ];
+    ]
+    .into_iter()
+    .chain(per_kg_day)
+    .collect();
     let toy_limits: Pick = |l| (l.median, l.band);
     let asimov_limits: Pick = |l| (l.asimov, l.asimov_band);
     let methods = if toys {
@@ -101,7 +108,7 @@ fn limits_text(at: &AtDay, cl: f64, toys: bool) -> String {
         vec![("Asimov", asimov_limits)]
     };
     for (method, pick) in methods {
-        for (limits, unit) in units {
+        for &(limits, unit) in &units {
             let (median, band) = pick(limits);
             let cell = |value: Option<f64>| value.map_or_else(|| "none".to_string(), rounded);
             let mut row = vec![format!("    {method}: {unit}"), cell(median)];

@@ -30,7 +30,8 @@
 //! expected limits as signal events per live day and over the run:
 //! `limit_events_per_live_day_median, _q02_3, _q15_9, _q84_1, _q97_7,
 //! _asimov, _asimov_q02_3, _asimov_q15_9, _asimov_q84_1, _asimov_q97_7`, and
-//! the same ten columns of `limit_events_...`.
+//! the same ten columns of `limit_events_...`; with a detector mass, ten
+//! more of `limit_events_per_kg_day_...`.
 
 use super::{AT_CSV, PROJECTION_CSV};
 use crate::projection::{
@@ -126,7 +127,11 @@ pub(super) fn render(projection: &Projection) -> Result<Vec<u8>, ReportError> {
 pub(super) fn render_at(projection: &Projection) -> Result<Vec<u8>, ReportError> {
     let mut columns = point_columns(projection);
     columns.push("signal_per_live_day".to_string());
-    for unit in ["limit_events_per_live_day", "limit_events"] {
+    let per_kg_day = with_mass(projection).then_some("limit_events_per_kg_day");
+    let units = ["limit_events_per_live_day", "limit_events"]
+        .into_iter()
+        .chain(per_kg_day);
+    for unit in units {
         columns.extend(
             EVENT_LIMIT_SUFFIXES
                 .iter()
@@ -183,12 +188,23 @@ fn point_row(projection: &Projection, point: &ExposurePoint) -> Vec<String> {
     cells
 }
 
+/// Whether the `--at` limits are also given per kg·day (a detector mass).
+fn with_mass(projection: &Projection) -> bool {
+    projection
+        .at
+        .iter()
+        .any(|at| at.limit_events_per_kg_day.is_some())
+}
+
 /// One row of `at.csv`.
 fn at_row(projection: &Projection, at: &AtDay) -> Vec<String> {
     let mut cells = point_row(projection, &at.point);
     cells.push(number(at.signal_per_live_day));
     cells.extend(event_limit_cells(&at.limit_events_per_live_day));
     cells.extend(event_limit_cells(&at.limit_events));
+    if let Some(limits) = &at.limit_events_per_kg_day {
+        cells.extend(event_limit_cells(limits));
+    }
     cells
 }
 

@@ -392,6 +392,7 @@ pub(crate) fn with_at_day() -> Projection {
     projection.at = vec![crate::projection::AtDay::new(
         projection.points[2].clone(),
         2.5,
+        None,
     )];
     projection
 }
