@@ -9,7 +9,7 @@ use super::limits::MAX_SCAN_POSITIONS;
 use super::validate::{require_finite, require_positive};
 use super::{Scenario, ScenarioError, ShapeSpec};
 use crate::message::show;
-use crate::shapes::ParameterValue;
+use crate::shapes::{MovablePeak, ParameterValue, Placement};
 use serde::Deserialize;
 
 /// Fewest positions of a scan: fewer than three cannot show an upcrossing
@@ -40,10 +40,6 @@ pub struct Scan {
     pub width_at_to: Option<f64>,
 }
 
-/// The shape kinds whose position can be scanned: (key, index of the
-/// position parameter, index of the width parameter).
-const SCANNABLE: &[(&str, usize, usize)] = &[("gaussian", 0, 1), ("breit_wigner", 0, 1)];
-
 /// A checked scan: the positions and the width at each of them.
 ///
 /// Position i is `from + i step`, i = 0 .. positions - 1; the width grows
@@ -70,8 +66,19 @@ impl SignalScan {
         shape: &ShapeSpec,
         range: [f64; 2],
     ) -> Result<SignalScan, ScenarioError> {
-        let Some(&(_, position_parameter, width_parameter)) =
-            SCANNABLE.iter().find(|(key, _, _)| *key == shape.kind.key)
+        // The shape names its movable peak (`Shape::movable_peak`); validation
+        // has built it on this range before.
+        let peak = shape
+            .build(Placement {
+                range,
+                floated: false,
+            })
+            .ok()
+            .and_then(|built| built.movable_peak());
+        let Some(MovablePeak {
+            position: position_parameter,
+            width: width_parameter,
+        }) = peak
         else {
             return Err(ScenarioError::invalid(
                 "signal.scan",
