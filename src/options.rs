@@ -103,6 +103,21 @@ impl Loaded {
         }
         Ok(live_days)
     }
+
+    /// A list of `--days`: each with live time by then ([`Loaded::live_days`]),
+    /// none given twice.
+    fn check_exposures(&self, days: &[f64]) -> Result<(), Error> {
+        for (index, &day) in days.iter().enumerate() {
+            self.live_days(day)?;
+            if days[..index].contains(&day) {
+                return Err(Error::Usage(format!(
+                    "--days {}: given more than once",
+                    show(day)
+                )));
+            }
+        }
+        Ok(())
+    }
 }
 
 /// What the command line changes in the scenario's plan.
@@ -489,15 +504,7 @@ impl SpectrumOptions {
             )));
         }
         let loaded = Loaded::load(&args.scenario)?;
-        for (index, &days) in args.days.iter().enumerate() {
-            loaded.live_days(days)?;
-            if args.days[..index].contains(&days) {
-                return Err(Error::Usage(format!(
-                    "--days {}: given more than once",
-                    show(days)
-                )));
-            }
-        }
+        loaded.check_exposures(&args.days)?;
         Ok(SpectrumOptions {
             days: args.days.clone(),
             seed: loaded.seed(args.seed),
@@ -547,15 +554,7 @@ impl ReachOptions {
             )));
         }
         let loaded = Loaded::load(&args.scenario)?;
-        for (index, &days) in args.days.iter().enumerate() {
-            loaded.live_days(days)?;
-            if args.days[..index].contains(&days) {
-                return Err(Error::Usage(format!(
-                    "--days {}: given more than once",
-                    show(days)
-                )));
-            }
-        }
+        loaded.check_exposures(&args.days)?;
         let positions = loaded.scenario.signal_scan().map_or(0, |scan| scan.len());
         let total = args.toys as u64 * positions as u64 * args.days.len() as u64;
         if total > MAX_TOYS_IN_TOTAL {
