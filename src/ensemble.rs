@@ -33,7 +33,9 @@ pub fn toy_stream(seed: u64, stream_index: u64, toy_index: usize) -> Pcg64 {
     Pcg64::new(state, stream)
 }
 
-fn splitmix64(value: u64) -> u64 {
+/// The splitmix64 mixing function (Steele, Lea and Flood, OOPSLA 2014):
+/// nearby inputs give unrelated outputs.
+pub fn splitmix64(value: u64) -> u64 {
     let mut z = value.wrapping_add(0x9E37_79B9_7F4A_7C15);
     z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
     z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);

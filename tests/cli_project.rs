@@ -129,6 +129,7 @@ fn assert_schema(json: &Value) {
             "points",
             "provenance",
             "seed",
+            "solving_points",
             "targets",
             "title",
             "toys"

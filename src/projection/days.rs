@@ -1,8 +1,11 @@
 //! Days to each target and to exclusion, from the grid and by root finding.
 
 use super::crossing::first_crossing;
+use super::point::PointParts;
+use super::refine::{DaySolver, ToyDay, ToyQuantity};
 use super::{
     DaysToExclusion, DaysToTarget, ExposurePoint, GlobalDays, GlobalSignificance, ProjectionError,
+    WithheldDay,
 };
 use crate::asymptotic::{AsimovSignificance, significance};
 use crate::likelihood::{FitFailure, Likelihood};
@@ -10,19 +13,20 @@ use crate::limits::asymptotic_limits;
 use crate::model::{LiveTime, Model};
 use crate::numeric::bisect_log;
 
-/// Days to each target: Z_A root-found, the toy median with Z^2 linear in live
-/// days, and the days where 50% and 90% of the `toys` pseudo-experiments per
-/// point reach the target (their fractions turned into significances, see
-/// [`fraction_as_significance_squared`], also linear in live days), each toy
-/// crossing mapped back to the first calendar day with that live time. With
-/// a scan (`with_scan`), also the days where the global significances of Z_A
-/// and of the toy median reach the target, their squares linear in live days.
+/// Days to each target: Z_A root-found, and the days where the toy median
+/// reaches it and where 50% and 90% of the pseudo-experiments do (their
+/// fractions turned into significances, see
+/// [`fraction_as_significance_squared`]), each solved by `solver` with extra
+/// ensembles inside the grid interval that brackets it. With a scan
+/// (`with_scan`), also the days where the global significances of Z_A
+/// (root-found, N(u0) from the Asimov geometry at each exposure) and of the
+/// toy median (solved as the other toy days) reach the target.
 pub(super) fn days_to_targets(
     model: &Model,
     asimov: &mut AsimovSignificance,
+    solver: &mut DaySolver,
     points: &[ExposurePoint],
     targets: &[f64],
-    toys: usize,
     with_scan: bool,
 ) -> Result<Vec<DaysToTarget>, ProjectionError> {
     let last_live_days = points.last().map_or(1.0, |p| p.live_days).max(1e-9);
@@ -35,69 +39,201 @@ pub(super) fn days_to_targets(
         })?;
     let days: Vec<f64> = points.iter().map(|p| p.days).collect();
     let z_asimov: Vec<f64> = points.iter().map(|p| p.z_asimov).collect();
-    targets
-        .iter()
-        .enumerate()
-        .map(|(index, &target)| {
-            let asimov_days = refine_crossing(&days, &z_asimov, target, |day| {
-                let live_days = model.live_time.live_days(day);
-                if live_days <= 0.0 {
-                    return Ok(0.0);
-                }
-                asimov
-                    .at_live_days(live_days)
-                    .map_err(|failure| ProjectionError {
-                        live_days,
-                        what: "Asimov discovery fit",
-                        failure,
-                    })
-            })?;
-            let z_squared = toy_series(points, |p| p.z_median.map(|z| z * z));
-            let reach = toy_series(points, |p| {
-                let converged = toys.saturating_sub(p.failed_fits);
-                p.probability[index]
-                    .toys
-                    .map(|fraction| fraction_as_significance_squared(fraction, target, converged))
-            });
-            let reached_by = |fraction: f64| {
-                let z = target + significance(1.0 - fraction);
-                z * z
+    let toys = solver.toys();
+    let discovery_converged = |p: &ExposurePoint| (toys.saturating_sub(p.failed_fits), toys);
+    let discovery = PointParts {
+        discovery: true,
+        ..PointParts::NONE
+    };
+    let mut rows = Vec::with_capacity(targets.len());
+    for (index, &target) in targets.iter().enumerate() {
+        let asimov_days = refine_crossing(&days, &z_asimov, target, |day| {
+            let live_days = model.live_time.live_days(day);
+            if live_days <= 0.0 {
+                return Ok(0.0);
+            }
+            asimov
+                .at_live_days(live_days)
+                .map_err(|failure| ProjectionError {
+                    live_days,
+                    what: "Asimov discovery fit",
+                    failure,
+                })
+        })?;
+        let median_squared = |p: &ExposurePoint| p.z_median.map(|z| z * z);
+        let fraction_squared = |p: &ExposurePoint| {
+            let (converged, _) = discovery_converged(p);
+            p.probability[index]
+                .toys
+                .map(|fraction| fraction_as_significance_squared(fraction, target, converged))
+        };
+        let reached_by = |fraction: f64| {
+            let z = target + significance(1.0 - fraction);
+            z * z
+        };
+        let mut withheld = Vec::new();
+        let mut solve =
+            |name: &'static str, level: f64, value: &dyn Fn(&ExposurePoint) -> Option<f64>| {
+                let quantity = ToyQuantity {
+                    parts: discovery,
+                    level,
+                    value,
+                    converged: &discovery_converged,
+                };
+                solver
+                    .solve(asimov, points, &quantity)
+                    .map(|day| day_or_withheld(name, day, &mut withheld))
             };
-            let crossing = |series: &Option<Vec<f64>>, level| {
-                series
-                    .as_ref()
-                    .and_then(|values| toy_crossing(&model.live_time, points, values, level))
-            };
-            Ok(DaysToTarget {
+        let median_days = solve("median_days", target * target, &median_squared)?;
+        let p50_days = solve("p50_days", reached_by(0.5), &fraction_squared)?;
+        let p90_days = solve("p90_days", reached_by(0.9), &fraction_squared)?;
+        let global = if with_scan {
+            Some(global_days(
+                model,
+                asimov,
+                solver,
+                points,
                 target,
-                asimov_days,
-                median_days: crossing(&z_squared, target * target),
-                p50_days: crossing(&reach, reached_by(0.5)),
-                p90_days: crossing(&reach, reached_by(0.9)),
-                saturation_z,
-                global: with_scan.then(|| GlobalDays {
-                    global_asimov_days: crossing(
-                        &global_series(points, |g| g.z_global_asimov),
-                        target * target,
-                    ),
-                    global_median_days: crossing(
-                        &global_series(points, |g| g.z_global_median),
-                        target * target,
-                    ),
-                }),
-            })
-        })
-        .collect()
+                &mut withheld,
+            )?)
+        } else {
+            None
+        };
+        rows.push(DaysToTarget {
+            target,
+            asimov_days,
+            median_days,
+            p50_days,
+            p90_days,
+            saturation_z,
+            global,
+            withheld,
+        });
+    }
+    Ok(rows)
+}
+
+/// The days where the global significance of Z_A and of the toy median
+/// reach `target`. The Asimov one is root-found with N(u0) from the Asimov
+/// geometry at each exposure; where that geometry is degenerate at some
+/// point, N(u0) comes from the background-only scans of the grid points and
+/// the day is interpolated between them (Z^2 linear in live days). The toy
+/// median one is solved with extra points, each with its own discovery
+/// pseudo-experiments and background-only scans.
+fn global_days(
+    model: &Model,
+    asimov: &mut AsimovSignificance,
+    solver: &mut DaySolver,
+    points: &[ExposurePoint],
+    target: f64,
+    withheld: &mut Vec<WithheldDay>,
+) -> Result<GlobalDays, ProjectionError> {
+    let level = target * target;
+    let geometry_everywhere = points.iter().filter(|p| p.live_days > 0.0).all(|p| {
+        p.global
+            .as_ref()
+            .and_then(|g| g.look_elsewhere.as_ref())
+            .is_some_and(|l| l.mean_upcrossings_asimov.is_some())
+    });
+    let z_global_asimov = |p: &ExposurePoint| {
+        p.global
+            .as_ref()
+            .and_then(|g| g.z_global_asimov)
+            .map_or(0.0, |z| z * z)
+    };
+    let global_asimov_days = if geometry_everywhere {
+        let days: Vec<f64> = points.iter().map(|p| p.days).collect();
+        let values: Vec<f64> = points.iter().map(z_global_asimov).collect();
+        let global_only = PointParts {
+            global: true,
+            ..PointParts::NONE
+        };
+        refine_crossing(&days, &values, level, |day| {
+            solver.point(asimov, day, global_only).map(z_global_asimov)
+        })?
+    } else {
+        let series = global_series(points, |g| g.z_global_asimov);
+        series.and_then(|values| toy_crossing(&model.live_time, points, &values, level))
+    };
+    let toys = solver.toys();
+    let converged = |p: &ExposurePoint| {
+        let discovery = (toys.saturating_sub(p.failed_fits), toys);
+        let scans = p
+            .global
+            .as_ref()
+            .and_then(|g| g.look_elsewhere.as_ref())
+            .map_or(discovery, |l| (l.toys, l.toys + l.failed_fits));
+        worse_converged(discovery, scans)
+    };
+    let value = |p: &ExposurePoint| {
+        if p.live_days <= 0.0 {
+            return Some(0.0);
+        }
+        p.global
+            .as_ref()
+            .and_then(|g| g.z_global_median)
+            .map(|z| z * z)
+    };
+    let quantity = ToyQuantity {
+        parts: PointParts {
+            discovery: true,
+            look_elsewhere: true,
+            global: true,
+            ..PointParts::NONE
+        },
+        level,
+        value: &value,
+        converged: &converged,
+    };
+    let day = solver.solve(asimov, points, &quantity)?;
+    Ok(GlobalDays {
+        global_asimov_days,
+        global_median_days: day_or_withheld("global_median_days", day, withheld),
+    })
+}
+
+/// Of two (converged, run) counts, the one with the smaller converged fraction.
+fn worse_converged(first: (usize, usize), second: (usize, usize)) -> (usize, usize) {
+    // converged1 / run1 <= converged2 / run2, without division.
+    if (first.0 as u128) * (second.1 as u128) <= (second.0 as u128) * (first.1 as u128) {
+        first
+    } else {
+        second
+    }
+}
+
+/// The number of a solved toy day; none for a day not within the grid or
+/// unavailable, and none with a note in `withheld` when too few fits converged.
+fn day_or_withheld(
+    name: &'static str,
+    day: ToyDay,
+    withheld: &mut Vec<WithheldDay>,
+) -> Option<f64> {
+    match day {
+        ToyDay::Day(days) => Some(days),
+        ToyDay::NotWithinGrid | ToyDay::Unavailable => None,
+        ToyDay::Withheld { converged, toys } => {
+            withheld.push(WithheldDay {
+                day: name,
+                converged,
+                toys,
+            });
+            None
+        }
+    }
 }
 
 /// Days until the median expected limit on mu falls to 1: asymptotically
-/// root-found, and from the toy medians with 1/limit^2 linear in live days
-/// (exact when statistics dominate, as the limit then falls as
-/// 1/sqrt(exposure); common practice), mapped back to the first calendar day
-/// with that live time. A point without a limit (no live time, or nothing
+/// root-found, and from the toy medians solved with extra ensembles of limit
+/// pseudo-experiments inside the bracketing grid interval, the median's
+/// 1/limit^2 interpolated linearly in live days in the final bracket (exact
+/// when statistics dominate, as the limit then falls as 1/sqrt(exposure);
+/// common practice). A point without a limit (no live time, or nothing
 /// excluded at any mu) counts as 1/limit^2 = 0.
 pub(super) fn days_to_exclusion(
     likelihood: &Likelihood,
+    asimov: &mut AsimovSignificance,
+    solver: &mut DaySolver,
     points: &[ExposurePoint],
     alpha: f64,
 ) -> Result<DaysToExclusion, ProjectionError> {
@@ -123,21 +259,34 @@ pub(super) fn days_to_exclusion(
             })?;
         Ok(1.0 / (limits.median * limits.median))
     })?;
+    let mut withheld = Vec::new();
     let with_toys = points.iter().any(|p| p.limit_median.is_some());
-    let toy_sensitivity: Option<Vec<f64>> = with_toys.then(|| {
-        points
-            .iter()
-            .map(|p| inverse_squared(p.limit_median))
-            .collect()
-    });
+    let median_days = if with_toys {
+        let toys = solver.toys();
+        let value = |p: &ExposurePoint| Some(inverse_squared(p.limit_median));
+        let converged = |p: &ExposurePoint| (toys.saturating_sub(p.limit_failed_fits), toys);
+        let quantity = ToyQuantity {
+            parts: PointParts {
+                limits: true,
+                ..PointParts::NONE
+            },
+            level: 1.0,
+            value: &value,
+            converged: &converged,
+        };
+        let day = solver.solve(asimov, points, &quantity)?;
+        day_or_withheld("median_days", day, &mut withheld)
+    } else {
+        None
+    };
     Ok(DaysToExclusion {
         asimov_days,
-        median_days: toy_sensitivity
-            .and_then(|values| toy_crossing(live_time, points, &values, 1.0)),
+        median_days,
+        withheld,
     })
 }
 
-/// The first calendar day where a toy quantity sampled at the grid points
+/// The first calendar day where a quantity sampled at the grid points
 /// reaches `level`, interpolated linearly in live days from 0 at no live time
 /// (points without live time are that origin) and mapped back through the
 /// schedule, so a crossing never falls where no live time accrues.

@@ -4,6 +4,7 @@ mod crossing;
 mod days;
 mod ensembles;
 mod point;
+mod refine;
 mod result;
 mod shard;
 mod warnings;
@@ -14,10 +15,11 @@ pub use ensembles::{
     PointRequest, PointToys, RunToys, ToySource,
 };
 pub use point::BAND_QUANTILES;
+pub use refine::{ABSOLUTE_PRECISION, MIN_CONVERGED_FRACTION, RELATIVE_PRECISION};
 pub use result::{
     AtDay, Calibration, ChannelPoint, DaysToExclusion, DaysToTarget, EventLimits, ExposurePoint,
     GlobalDays, GlobalSignificance, LookElsewhere, Projection, RateStretch, ScanSummary,
-    TargetProbability,
+    TargetProbability, WithheldDay,
 };
 pub use shard::{ShardError, ShardRun, ShardSpec, merge_shards, run_shard};
 
@@ -25,7 +27,8 @@ use crate::asymptotic::AsimovSignificance;
 use crate::likelihood::{FitFailure, Likelihood};
 use crate::model::Model;
 use crate::scenario::{SignalScan, Spacing};
-use point::ChannelAlone;
+use point::{ChannelAlone, PointParts};
+use refine::DaySolver;
 use std::fmt;
 
 /// What to project.
@@ -117,16 +120,18 @@ pub fn project(
         scan: settings.scan.as_ref(),
         progress,
     };
-    project_from(model, settings, &mut source)
+    project_from(model, settings, &mut source, progress)
 }
 
-/// The projection with its pseudo-experiments from `source`: run here
+/// The projection with the grid's pseudo-experiments from `source`: run here
 /// ([`project`]) or merged from shards ([`merge_shards`]), the same code
-/// from there on.
+/// from there on. The few ensembles that solve the toy days always run in
+/// this process (whole, from the run's seed), reporting to `progress`.
 pub fn project_from<S: ToySource>(
     model: &Model,
     settings: &ProjectionSettings,
     source: &mut S,
+    progress: &(dyn Fn(u64) + Sync),
 ) -> Result<Projection, S::Error> {
     let likelihood = Likelihood::new(model);
     let mut asimov = AsimovSignificance::new(&likelihood);
@@ -134,19 +139,24 @@ pub fn project_from<S: ToySource>(
     let channel_likelihoods: Vec<Likelihood> = channel_models.iter().map(Likelihood::new).collect();
     let mut channels: Vec<ChannelAlone> =
         channel_likelihoods.iter().map(ChannelAlone::new).collect();
-    let (points, at_points) = points(&likelihood, &mut asimov, &mut channels, settings, source)?;
+    let runner = point::PointRunner::new(&likelihood, settings);
+    let (points, at_points) = points(&runner, &mut asimov, &mut channels, settings, source)?;
+    let mut solver = DaySolver::new(&runner, progress);
     let days_to_target = days::days_to_targets(
         model,
         &mut asimov,
+        &mut solver,
         &points,
         &settings.targets,
-        settings.toys,
         settings.scan.is_some(),
     )?;
     let days_to_exclusion = match settings.cl {
-        Some(cl) => days::days_to_exclusion(&likelihood, &points, 1.0 - cl)?,
+        Some(cl) => {
+            days::days_to_exclusion(&likelihood, &mut asimov, &mut solver, &points, 1.0 - cl)?
+        }
         None => DaysToExclusion::default(),
     };
+    let solving_points = solver.points_with_toys();
     Ok(Projection {
         title: settings.title.clone(),
         start: model.live_time.start(),
@@ -168,6 +178,7 @@ pub fn project_from<S: ToySource>(
         points,
         days_to_target,
         days_to_exclusion,
+        solving_points,
     })
 }
 
@@ -192,17 +203,19 @@ pub const AT_EXPOSURE_INDEX: usize = 1 << 31;
 /// `--at` day, in increasing order: the order in which pseudo-experiments
 /// run, are written to shards and are merged.
 fn points<S: ToySource>(
-    likelihood: &Likelihood,
+    runner: &point::PointRunner,
     asimov: &mut AsimovSignificance,
     channels: &mut [ChannelAlone],
     settings: &ProjectionSettings,
     source: &mut S,
 ) -> Result<(Vec<ExposurePoint>, Vec<ExposurePoint>), S::Error> {
-    let runner = point::PointRunner::new(likelihood, settings);
     let mut run = |first_index: usize, days: &[f64]| {
         days.iter()
             .enumerate()
-            .map(|(index, &days)| runner.point(asimov, channels, first_index + index, days, source))
+            .map(|(index, &days)| {
+                let index = first_index + index;
+                runner.point(asimov, channels, index, days, PointParts::ALL, source)
+            })
             .collect::<Result<Vec<_>, _>>()
     };
     let grid = run(0, &settings.days)?;

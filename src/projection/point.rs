@@ -59,6 +59,41 @@ impl<'l, 'm> ChannelAlone<'l, 'm> {
     }
 }
 
+/// What a point computes beyond Z_A: its ensembles of pseudo-experiments
+/// (each of the size the settings ask for) and, with a scan, the global
+/// significances. A grid or `--at` point computes all the settings ask for
+/// ([`PointParts::ALL`]); a point added to solve a day only what that day
+/// needs.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub(super) struct PointParts {
+    pub discovery: bool,
+    /// The asymptotic limits and, with toys, the limit pseudo-experiments.
+    pub limits: bool,
+    pub calibration: bool,
+    pub look_elsewhere: bool,
+    /// The global significances of a scan (the Asimov geometry's N(u0)).
+    pub global: bool,
+}
+
+impl PointParts {
+    pub const ALL: PointParts = PointParts {
+        discovery: true,
+        limits: true,
+        calibration: true,
+        look_elsewhere: true,
+        global: true,
+    };
+
+    /// Z_A alone.
+    pub const NONE: PointParts = PointParts {
+        discovery: false,
+        limits: false,
+        calibration: false,
+        look_elsewhere: false,
+        global: false,
+    };
+}
+
 /// Computes exposure points for one projection.
 pub(super) struct PointRunner<'a, 'l, 'm> {
     likelihood: &'l Likelihood<'m>,
@@ -73,26 +108,37 @@ impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
         }
     }
 
-    /// The exposure point at calendar day `days`, grid index `index`, with
-    /// its pseudo-experiments from `source`.
+    pub fn settings(&self) -> &'a ProjectionSettings {
+        self.settings
+    }
+
+    pub fn likelihood(&self) -> &'l Likelihood<'m> {
+        self.likelihood
+    }
+
+    /// The exposure point at calendar day `days`, exposure index `index`
+    /// (which keys its random streams), computing `parts`, with its
+    /// pseudo-experiments from `source`.
     pub fn point<S: ToySource>(
         &self,
         asimov: &mut AsimovSignificance,
         channels: &mut [ChannelAlone],
         index: usize,
         days: f64,
+        parts: PointParts,
         source: &mut S,
     ) -> Result<ExposurePoint, S::Error> {
         let settings = self.settings;
         let live_days = self.likelihood.model().live_time.live_days(days);
+        let toys = |asked: bool, toys: usize| if asked { toys } else { 0 };
         if live_days <= 0.0 {
-            source.skip(settings.toys);
+            source.skip(toys(parts.discovery, settings.toys));
             if settings.cl.is_some() {
-                source.skip(settings.toys);
+                source.skip(toys(parts.limits, settings.toys));
             }
-            source.skip(settings.calibration_toys);
-            source.skip(settings.look_elsewhere_toys);
-            return Ok(self.without_exposure(days, channels));
+            source.skip(toys(parts.calibration, settings.calibration_toys));
+            source.skip(toys(parts.look_elsewhere, settings.look_elsewhere_toys));
+            return Ok(self.without_exposure(days, channels, parts));
         }
         let failed = |what| {
             move |failure| ProjectionError {
@@ -109,9 +155,10 @@ impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
             .map(|channel| channel.point(live_days))
             .collect::<Result<Vec<_>, _>>()
             .map_err(failed("Asimov discovery fit of one channel alone"))?;
-        let toys = settings.toys;
+        let limit_toys = toys(parts.limits, settings.toys);
         let limits = settings
             .cl
+            .filter(|_| parts.limits)
             .map(|cl| asymptotic_limits(self.likelihood, live_days, 1.0 - cl))
             .transpose()
             .map_err(failed("background-only Asimov fit for expected limits"))?;
@@ -119,27 +166,32 @@ impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
         // nothing can be excluded at this exposure, and its toys are skipped.
         let bounded = limits.filter(|limits| limits.median.is_finite());
         if limits.is_some() && bounded.is_none() {
-            source.skip(toys);
+            source.skip(limit_toys);
         }
+        let calibration_toys = toys(parts.calibration, settings.calibration_toys);
+        let look_elsewhere_toys = toys(parts.look_elsewhere, settings.look_elsewhere_toys);
         let request = PointRequest {
             index,
             live_days,
-            discovery_toys: toys,
-            limits: bounded.filter(|_| toys > 0).map(|limits| LimitRequest {
-                toys,
-                alpha: 1.0 - settings.cl.unwrap_or_default(),
-                sigma: limits.sigma,
-            }),
-            calibration: (settings.calibration_toys > 0).then_some(CalibrationRequest {
-                toys: settings.calibration_toys,
+            discovery_toys: toys(parts.discovery, settings.toys),
+            limits: bounded
+                .filter(|_| limit_toys > 0)
+                .map(|limits| LimitRequest {
+                    toys: limit_toys,
+                    alpha: 1.0 - settings.cl.unwrap_or_default(),
+                    sigma: limits.sigma,
+                }),
+            calibration: (calibration_toys > 0).then_some(CalibrationRequest {
+                toys: calibration_toys,
                 q0_asimov: z_asimov * z_asimov,
             }),
-            look_elsewhere: (settings.scan.is_some() && settings.look_elsewhere_toys > 0)
-                .then_some(LookElsewhereRequest {
-                    toys: settings.look_elsewhere_toys,
+            look_elsewhere: (settings.scan.is_some() && look_elsewhere_toys > 0).then_some(
+                LookElsewhereRequest {
+                    toys: look_elsewhere_toys,
                     reference_level: REFERENCE_LEVEL,
                     q0_asimov: z_asimov * z_asimov,
-                }),
+                },
+            ),
         };
         let outcomes = source.toys(self.likelihood, &request)?;
         let mut point = self.discovery_point(days, live_days, z_asimov, outcomes.discovery);
@@ -148,7 +200,7 @@ impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
         point.calibration = outcomes
             .calibration
             .map(|count| calibration(count, z_asimov));
-        if let Some(scan) = &settings.scan {
+        if let Some(scan) = settings.scan.as_ref().filter(|_| parts.global) {
             // A degenerate geometry leaves N(u0) to the toys (see `GlobalSignificance`).
             let asymptotic = scan_geometry_of(self.likelihood, scan, live_days)
                 .ok()
@@ -164,8 +216,17 @@ impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
     }
 
     /// A grid day before any live time: nothing can be seen or excluded.
-    fn without_exposure(&self, days: f64, channels: &mut [ChannelAlone]) -> ExposurePoint {
-        let toys = self.settings.toys;
+    fn without_exposure(
+        &self,
+        days: f64,
+        channels: &mut [ChannelAlone],
+        parts: PointParts,
+    ) -> ExposurePoint {
+        let toys = if parts.discovery {
+            self.settings.toys
+        } else {
+            0
+        };
         let discovery = (toys > 0).then(|| EnsembleOutcome {
             values: vec![0.0; toys],
             failed_fits: 0,
@@ -175,7 +236,7 @@ impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
             .iter_mut()
             .map(|channel| channel.point(0.0).expect("no fit without live time"))
             .collect();
-        if self.settings.scan.is_some() {
+        if self.settings.scan.is_some() && parts.global {
             point.global = Some(global(0.0, None, None, None));
         }
         point

@@ -44,6 +44,9 @@ pub struct Projection {
     pub points: Vec<ExposurePoint>,
     pub days_to_target: Vec<DaysToTarget>,
     pub days_to_exclusion: DaysToExclusion,
+    /// Exposure points run with pseudo-experiments beside the grid to solve
+    /// the toy days (each with its own streams, keyed by its live days).
+    pub solving_points: usize,
     /// The days asked for with `--at`, each computed there (empty without).
     pub at: Vec<AtDay>,
 }
@@ -343,8 +346,26 @@ impl Calibration {
 pub struct DaysToExclusion {
     /// From the asymptotic median limit (root-found).
     pub asimov_days: Option<f64>,
-    /// From the median of the pseudo-experiment limits (1/limit^2 linear in live days).
+    /// From the median of the pseudo-experiment limits, solved with extra
+    /// ensembles (1/limit^2 linear in live days inside the final bracket).
     pub median_days: Option<f64>,
+    /// The toy day left out because too few of its fits converged.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub withheld: Vec<WithheldDay>,
+}
+
+/// A toy day that the grid brackets but that is not given as a number:
+/// fewer than [`MIN_CONVERGED_FRACTION`](super::refine::MIN_CONVERGED_FRACTION)
+/// of the pseudo-experiments at a point it comes from converged, so the
+/// quantiles there describe the converged minority only.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct WithheldDay {
+    /// The key of the day left out (`median_days`, `p50_days`, ...).
+    pub day: &'static str,
+    /// Pseudo-experiments whose fits converged at that point...
+    pub converged: usize,
+    /// ...of those run there.
+    pub toys: usize,
 }
 
 /// P(Z >= target) at one exposure.
@@ -363,11 +384,13 @@ pub struct DaysToTarget {
     pub target: f64,
     /// Where the Asimov significance reaches the target (root-found).
     pub asimov_days: Option<f64>,
-    /// Where the toy median reaches the target (Z^2 linear in live days between grid points).
+    /// Where the toy median reaches the target, solved with extra ensembles
+    /// inside the bracketing grid interval (Z^2 linear in live days inside
+    /// the final bracket).
     pub median_days: Option<f64>,
     /// Where 50% of the pseudo-experiments reach the target (the fraction read
     /// as the median significance it stands for, whose square is interpolated
-    /// linearly in live days).
+    /// linearly in live days inside the final bracket), solved likewise.
     pub p50_days: Option<f64>,
     /// Where 90% of the pseudo-experiments reach the target.
     pub p90_days: Option<f64>,
@@ -377,10 +400,13 @@ pub struct DaysToTarget {
     /// With a scan: the days to the target in global significance.
     #[serde(flatten)]
     pub global: Option<GlobalDays>,
+    /// The toy days left out because too few of their fits converged.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub withheld: Vec<WithheldDay>,
 }
 
-/// Calendar days until the global significance reaches a target (Z^2
-/// linear in live days between grid points, as for the toy median).
+/// Calendar days until the global significance reaches a target: of Z_A
+/// root-found, of the toy median solved as the other toy days.
 #[derive(Debug, Clone, Serialize)]
 pub struct GlobalDays {
     /// From the global significance of Z_A.

@@ -33,8 +33,12 @@ pub fn merge_shards(directory: &Path) -> Result<(ShardRun, Projection), ShardErr
     run.settings.scan = scenario.signal_scan();
     run.settings.day_spacing = scenario.plan.days.axis_spacing();
     run.settings.detector_mass_kg = scenario.detector_mass_kg();
-    let projection =
-        crate::projection::project_from(&model, &run.settings, &mut MergeSource(&mut shards))?;
+    let projection = crate::projection::project_from(
+        &model,
+        &run.settings,
+        &mut MergeSource(&mut shards),
+        &|_| {},
+    )?;
     for shard in &shards {
         shard.expect_end()?;
     }

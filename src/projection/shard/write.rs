@@ -64,7 +64,8 @@ fn write_shard(
     writer.write(&header.bytes)?;
     let likelihood = Likelihood::new(model);
     let mut asimov = AsimovSignificance::new(&likelihood);
-    crate::projection::points(&likelihood, &mut asimov, &mut [], &run.settings, writer)?;
+    let runner = crate::projection::point::PointRunner::new(&likelihood, &run.settings);
+    crate::projection::points(&runner, &mut asimov, &mut [], &run.settings, writer)?;
     Ok(())
 }
 

@@ -4,7 +4,9 @@
 use super::timeline::timeline;
 use crate::model::{Model, fraction_inside, shape_from_spec};
 use crate::projection::Projection;
-use crate::report::kit::format::{DAYS_ROUNDING, days_label, percent_label, rounded};
+use crate::report::kit::format::{
+    DAYS_ROUNDING, days_label, not_within_grid, percent_label, rounded,
+};
 use crate::scenario::{Channel, RateUnit, Scenario, ShapeSpec};
 use std::fmt::Write;
 use std::path::Path;
@@ -21,7 +23,7 @@ pub fn check_summary(
     rates(&mut text, scenario, model);
     let last_day = projection.points.last().map_or(0.0, |point| point.days);
     timeline(&mut text, scenario, &model.live_time, last_day);
-    let beyond = || format!("not within the grid (beyond {} d)", rounded(last_day));
+    let beyond = || not_within_grid(&format!("{} d", rounded(last_day)));
     text.push_str("  asymptotic calendar days to target:\n");
     for days in &projection.days_to_target {
         let answer = match (days.asimov_days, days.saturation_z) {

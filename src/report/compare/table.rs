@@ -6,7 +6,7 @@
 use super::Comparison;
 use crate::calendar::CalendarDate;
 use crate::report::kit::dates::dated_days_label;
-use crate::report::kit::format::{aligned, percent_label, target_label};
+use crate::report::kit::format::{aligned, not_within_grid, percent_label, target_label};
 
 /// The comparison table, with the shared targets and confidence level above it.
 pub fn comparison_table(comparison: &Comparison) -> String {
@@ -29,12 +29,17 @@ pub fn comparison_table(comparison: &Comparison) -> String {
     for (index, plan) in comparison.plans.iter().enumerate() {
         let mut row = vec![plan.label.clone()];
         let start = plan.projection.start;
+        let last_day = plan
+            .projection
+            .points
+            .last()
+            .map_or(0.0, |point| point.days);
         for ((asimov, median), (first_asimov, first_median)) in
             days_of(comparison, index).into_iter().zip(&reference)
         {
-            row.push(days_cell(asimov, start));
+            row.push(days_cell(asimov, last_day, start));
             if with_toys {
-                row.push(days_cell(median, start));
+                row.push(days_cell(median, last_day, start));
             }
             let (days, first) = if with_toys {
                 (median, *first_median)
@@ -72,10 +77,11 @@ fn days_of(comparison: &Comparison, index: usize) -> Vec<(Option<f64>, Option<f6
     days
 }
 
-/// "58 d", with its date when the plan has a start ("58 d (2027-04-28)").
-fn days_cell(days: Option<f64>, start: Option<CalendarDate>) -> String {
+/// "58 d", with its date when the plan has a start ("58 d (2027-04-28)");
+/// past the plan's grid, ending at `last_day`, "not within the grid (last point 365 d)".
+fn days_cell(days: Option<f64>, last_day: f64, start: Option<CalendarDate>) -> String {
     days.map_or_else(
-        || "not reached".to_string(),
+        || not_within_grid(&dated_days_label(last_day, start)),
         |days| dated_days_label(days, start),
     )
 }

@@ -38,6 +38,7 @@ pub(crate) fn tiny() -> Projection {
         calibration_toys: 0,
         scan: None,
         days_to_exclusion: DaysToExclusion::default(),
+        solving_points: 6,
         at: Vec::new(),
         points: vec![
             ExposurePoint {
@@ -112,6 +113,7 @@ pub(crate) fn tiny() -> Projection {
                 p90_days: Some(98.0),
                 saturation_z: Some(4.5),
                 global: None,
+                withheld: Vec::new(),
             },
             DaysToTarget {
                 target: 5.0,
@@ -121,6 +123,7 @@ pub(crate) fn tiny() -> Projection {
                 p90_days: None,
                 saturation_z: Some(4.5),
                 global: None,
+                withheld: Vec::new(),
             },
         ],
     }
@@ -300,6 +303,7 @@ impl InventedSearch {
                         .filter(|_| with_toys),
                     saturation_z,
                     global: None,
+                    withheld: Vec::new(),
                 }
             })
             .collect();
@@ -317,6 +321,7 @@ impl InventedSearch {
             targets,
             days_to_target,
             days_to_exclusion: self.days_to_exclusion(with_toys),
+            solving_points: 0,
             cl: self.cl,
             calibration_toys: self.calibration_toys,
             scan: None,
@@ -334,6 +339,7 @@ impl InventedSearch {
         DaysToExclusion {
             asimov_days: Self::days_to(sensitivity(1.0), 1.0),
             median_days: Self::days_to(sensitivity(1.02), 1.0).filter(|_| with_toys),
+            withheld: Vec::new(),
         }
     }
 }

@@ -75,6 +75,7 @@ mod tests {
                  "p50_days": null, "p90_days": null, "saturation_z": 4.5}
             ],
             "days_to_exclusion": {"asimov_days": null, "median_days": null},
+            "solving_points": 6,
             "at": []
         });
         assert_eq!(parsed(&example::tiny()), expected);

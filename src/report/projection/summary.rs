@@ -6,10 +6,13 @@
 use super::ensembles::Ensemble;
 use crate::calendar::CalendarDate;
 use crate::message::show;
-use crate::projection::{Calibration, DaysToTarget, LookElsewhere, Projection};
+use crate::projection::{
+    ABSOLUTE_PRECISION, Calibration, DaysToTarget, LookElsewhere, MIN_CONVERGED_FRACTION,
+    Projection, RELATIVE_PRECISION, WithheldDay,
+};
 use crate::report::kit::dates::{dated_days_label, with_date};
 use crate::report::kit::format::{
-    DAYS_ROUNDING, aligned, fit_percent, percent_label, target_label,
+    self, DAYS_ROUNDING, aligned, fit_percent, percent_label, target_label,
 };
 use crate::report::warning_text;
 
@@ -28,8 +31,9 @@ const COLUMNS: [&str; 5] = [
 /// then the days until the nominal signal is excluded (when limits were
 /// computed), the calibration table (with `--calibrate`), failed-fit counts
 /// and warnings. Each cell is calendar days rounded up ("142 d", "3.1 d"),
-/// "never" when the saturation limit of Z_A lies below the target, `"beyond
-/// <last grid day> d"` when the target lies past the grid, and "—" for toy
+/// "never" when the saturation limit of Z_A lies below the target, "not
+/// within the grid (last point N d)" when the target lies past the grid,
+/// "withheld" where too few fits converged, and "—" for toy
 /// columns of an Asimov-only run. With a start date in the schedule every
 /// calendar day is followed by its date: "58 d (2027-04-28)".
 pub fn summary(projection: &Projection) -> String {
@@ -42,19 +46,33 @@ pub fn summary(projection: &Projection) -> String {
     }
     let mut rows = vec![header];
     rows.extend(projection.days_to_target.iter().map(|row| {
-        let cell = |days, available| days_cell(days, available, row, last_day, start);
+        let cell = |key, days, available| {
+            let withheld = row.withheld.iter().find(|withheld| withheld.day == key);
+            match withheld {
+                Some(withheld) => withheld_cell(withheld),
+                None => days_cell(days, available, row, last_day, start),
+            }
+        };
         let with_toys = projection.toys > 0;
         let mut cells = vec![
             target_label(row.target),
-            cell(row.asimov_days, true),
-            cell(row.median_days, with_toys),
-            cell(row.p50_days, with_toys),
-            cell(row.p90_days, with_toys),
+            cell("asimov_days", row.asimov_days, true),
+            cell("median_days", row.median_days, with_toys),
+            cell("p50_days", row.p50_days, with_toys),
+            cell("p90_days", row.p90_days, with_toys),
         ];
         if let Some(global) = &row.global {
             let measured = projection.look_elsewhere_toys() > 0;
-            cells.push(cell(global.global_asimov_days, measured));
-            cells.push(cell(global.global_median_days, measured && with_toys));
+            cells.push(cell(
+                "global_asimov_days",
+                global.global_asimov_days,
+                measured,
+            ));
+            cells.push(cell(
+                "global_median_days",
+                global.global_median_days,
+                measured && with_toys,
+            ));
         }
         cells
     }));
@@ -65,6 +83,7 @@ pub fn summary(projection: &Projection) -> String {
     }
     text.push_str(DAYS_ROUNDING);
     text.push('\n');
+    text.push_str(&solving_line(projection));
     if let Some(line) = scan_line(projection) {
         text.push_str(&line);
     }
@@ -87,6 +106,49 @@ pub fn summary(projection: &Projection) -> String {
         text.push_str(&line);
     }
     text
+}
+
+/// How the toy days were solved: "Toy days solved with 14 exposure points
+/// beside the grid, each with its own pseudo-experiments, to 0.5% of the day
+/// or 0.05 d", and why a withheld day has no number.
+fn solving_line(projection: &Projection) -> String {
+    if projection.toys == 0 {
+        return String::new();
+    }
+    let mut line = format!(
+        "Toy days solved with {} exposure point{} beside the grid, each with its own pseudo-experiments, \
+         to {} of the day or {} d.\n",
+        projection.solving_points,
+        if projection.solving_points == 1 {
+            ""
+        } else {
+            "s"
+        },
+        percent_label(RELATIVE_PRECISION),
+        show(ABSOLUTE_PRECISION)
+    );
+    let withheld = projection
+        .days_to_target
+        .iter()
+        .flat_map(|row| &row.withheld)
+        .chain(&projection.days_to_exclusion.withheld)
+        .next();
+    if withheld.is_some() {
+        line.push_str(&format!(
+            "withheld: fewer than {} of the fits converged at an exposure the day comes from, \
+             so the quantiles there describe the converged minority only; no day is given.\n",
+            percent_label(MIN_CONVERGED_FRACTION)
+        ));
+    }
+    line
+}
+
+/// A toy day left out: "withheld (62% converged)".
+fn withheld_cell(withheld: &WithheldDay) -> String {
+    format!(
+        "withheld ({} converged)",
+        fit_percent(withheld.converged, withheld.toys)
+    )
 }
 
 /// The global columns beside the local ones, with a scan.
@@ -173,20 +235,23 @@ fn upcrossing_distance(measured: &LookElsewhere) -> Option<f64> {
 /// limit): Asimov 32 d, toy median 33 d"; the toy part only with toys.
 fn exclusion_line(projection: &Projection, cl: f64, last_day: f64) -> String {
     let start = projection.start;
-    let cell = |days: Option<f64>| {
-        days.map_or_else(
-            || beyond(last_day, start),
-            |days| dated_days_label(days, start),
-        )
-    };
     let exclusion = &projection.days_to_exclusion;
+    let cell = |days: Option<f64>| match (days, exclusion.withheld.first()) {
+        (Some(days), _) => dated_days_label(days, start),
+        (None, Some(withheld)) => withheld_cell(withheld),
+        (None, None) => not_within_grid(last_day, start),
+    };
     let mut line = format!(
         "Days until the nominal signal is excluded at {} CL (median expected CLs limit): Asimov {}",
         percent_label(cl),
         cell(exclusion.asimov_days)
     );
     if projection.toys > 0 {
-        line.push_str(&format!(", toy median {}", cell(exclusion.median_days)));
+        let median = match exclusion.median_days {
+            None if exclusion.withheld.is_empty() => not_within_grid(last_day, start),
+            days => cell(days),
+        };
+        line.push_str(&format!(", toy median {median}"));
     }
     line.push('\n');
     line
@@ -225,13 +290,15 @@ fn days_cell(
         Some(days) => dated_days_label(days, start),
         None if !available => "—".to_string(),
         None if row.never_reached() => "never".to_string(),
-        None => beyond(last_day, start),
+        None => not_within_grid(last_day, start),
     }
 }
 
-/// A crossing past the last day of the grid: "beyond 365 d".
-fn beyond(last_day: f64, start: Option<CalendarDate>) -> String {
-    format!("beyond {}", grid_day(last_day, start))
+/// A crossing past the last day of the grid: "not within the grid (last
+/// point 365 d)"; the grid is for the figures, and the day is not guessed
+/// beyond it.
+fn not_within_grid(last_day: f64, start: Option<CalendarDate>) -> String {
+    format::not_within_grid(&grid_day(last_day, start))
 }
 
 /// A day of the grid as given, to two decimals at most ("1 d", "1.26 d").
@@ -388,6 +455,7 @@ target   Asimov   toy median   50% of toys   90% of toys
 5σ       never    never        never         never
 toy median: the day the median pseudo-experiment reaches the target; 50% of toys: the day half of them have (the same question read from P(Z ≥ target), differing only by interpolation) — quote the toy median.
 Days are rounded up (to the next tenth of a day below 10 days, to the next whole day from there on); projection.csv and .json keep full precision.
+Toy days solved with 6 exposure points beside the grid, each with its own pseudo-experiments, to 0.5% of the day or 0.05 d.
 
 Failed fits: 2 of 400 pseudo-experiments (0.50%), excluded from the quantiles.
 warning: more than 0.1% of fits failed at 1 of 2 exposure points (worst: 2 of 200 at 100 d, 1.00%); the quantiles there may be biased.
@@ -397,15 +465,36 @@ warning: systematic uncertainties make Z_A saturate at 4.50σ however long the r
     }
 
     #[test]
-    fn a_target_past_the_grid_is_beyond_the_last_day() {
+    fn a_target_past_the_grid_is_not_within_it() {
         let mut projection = example::tiny();
         projection.days_to_target[1].saturation_z = None;
         projection.days_to_target[0].saturation_z = None;
         let text = summary(&projection);
+        let beyond = "not within the grid (last point 100 d)";
         assert!(
-            text.contains("5σ       beyond 100 d   beyond 100 d   beyond 100 d   beyond 100 d\n")
+            text.contains(&format!(
+                "5σ       {beyond}   {beyond}   {beyond}   {beyond}\n"
+            )),
+            "{text}"
         );
         assert!(!text.contains("saturate"));
+    }
+
+    #[test]
+    fn a_day_from_too_few_converged_fits_is_withheld() {
+        let mut projection = example::tiny();
+        projection.days_to_target[0].median_days = None;
+        projection.days_to_target[0].withheld = vec![WithheldDay {
+            day: "median_days",
+            converged: 124,
+            toys: 200,
+        }];
+        let text = summary(&projection);
+        assert!(
+            text.contains("3σ       42 d     withheld (62.00% converged)   45 d"),
+            "{text}"
+        );
+        assert!(text.contains("withheld: fewer than 90% of the fits converged"));
     }
 
     #[test]
@@ -437,6 +526,8 @@ warning: systematic uncertainties make Z_A saturate at 4.50σ however long the r
         let expected = format!(
             "5σ       117 d    123 d        123 d         256 d\n\
              {TOY_COLUMNS}{DAYS_ROUNDING}\n\
+             Toy days solved with 0 exposure points beside the grid, each with its own \
+             pseudo-experiments, to 0.5% of the day or 0.05 d.\n\
              Days until the nominal signal is excluded at 95% CL (median expected CLs limit): \
              Asimov 13 d, toy median 14 d\n"
         );
@@ -456,12 +547,15 @@ warning: systematic uncertainties make Z_A saturate at 4.50σ however long the r
     }
 
     #[test]
-    fn exclusion_past_the_grid_is_beyond_the_last_day() {
+    fn exclusion_past_the_grid_is_not_within_it() {
         let mut projection = example::with_limits();
         projection.days_to_exclusion.asimov_days = None;
         projection.days_to_exclusion.median_days = None;
         let text = summary(&projection);
-        assert!(text.contains("limit): Asimov beyond 1000 d, toy median beyond 1000 d\n"));
+        assert!(text.contains(
+            "limit): Asimov not within the grid (last point 1000 d), \
+             toy median not within the grid (last point 1000 d)\n"
+        ));
     }
 
     #[test]
