@@ -4,6 +4,7 @@
 //! Date arithmetic (month lengths, leap years) is the `time` crate's.
 
 use std::fmt;
+use std::str::FromStr;
 
 use serde::{Serialize, Serializer};
 use time::Date;
@@ -62,6 +63,70 @@ impl Serialize for CalendarDate {
     }
 }
 
+/// Days in a year, for rates per year and durations in years: the Julian
+/// year of 365.25 days (common practice).
+pub const DAYS_PER_YEAR: f64 = 365.25;
+
+/// Days in a week.
+pub const DAYS_PER_WEEK: f64 = 7.0;
+
+/// A calendar day as written on the command line (`--days`, `--at`): a
+/// number of calendar days (`90`), a duration with its unit (`90d`, `26w`,
+/// `2y`, a year being [`DAYS_PER_YEAR`] days), or an ISO 8601 date
+/// (`2027-09-01`), which counts from the scenario's `schedule.start`.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum DayArgument {
+    Days(f64),
+    Date(CalendarDate),
+}
+
+/// What a day argument may look like, for its error messages.
+pub const DAY_ARGUMENT_FORMS: &str = "calendar days (90), a duration (90d, 26w, 2y; a year is 365.25 days) or an ISO date (2027-09-01)";
+
+impl FromStr for DayArgument {
+    type Err = String;
+
+    fn from_str(text: &str) -> Result<DayArgument, String> {
+        let text = text.trim();
+        if let Some(date) = CalendarDate::parse(text) {
+            return Ok(DayArgument::Date(date));
+        }
+        let (number, unit) = match text.char_indices().last() {
+            Some((at, 'd')) => (&text[..at], 1.0),
+            Some((at, 'w')) => (&text[..at], DAYS_PER_WEEK),
+            Some((at, 'y')) => (&text[..at], DAYS_PER_YEAR),
+            _ => (text, 1.0),
+        };
+        let is_number = !number.is_empty()
+            && number
+                .bytes()
+                .all(|b| b.is_ascii_digit() || matches!(b, b'.' | b'-' | b'+' | b'e' | b'E'));
+        match number.parse::<f64>() {
+            Ok(value) if is_number => Ok(DayArgument::Days(value * unit)),
+            _ => Err(format!("expected {DAY_ARGUMENT_FORMS}")),
+        }
+    }
+}
+
+impl DayArgument {
+    /// Calendar days since the start: a number as it is, a date as the whole
+    /// days from `start` to it (day N is reached on the date N days after the
+    /// start, see [`CalendarDate::after`]). A date needs a start and may not
+    /// come before it.
+    pub fn calendar_days(self, start: Option<CalendarDate>) -> Result<f64, String> {
+        match (self, start) {
+            (DayArgument::Days(days), _) => Ok(days),
+            (DayArgument::Date(date), None) => Err(format!(
+                "{date} is a date, and the scenario has no schedule.start to count from; give calendar days (90) or a duration (90d, 26w, 2y)"
+            )),
+            (DayArgument::Date(date), Some(start)) if date < start => {
+                Err(format!("{date} comes before schedule.start ({start})"))
+            }
+            (DayArgument::Date(date), Some(start)) => Ok(date.days_since(start) as f64),
+        }
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -104,5 +169,47 @@ mod tests {
         assert_eq!(start.after(0.0), Some(start));
         assert_eq!(start.after(-1.0), None);
         assert_eq!(start.after(f64::NAN), None);
+    }
+
+    #[test]
+    fn day_arguments_as_numbers_durations_and_dates() {
+        let days = |text: &str, start| {
+            text.parse::<DayArgument>()
+                .and_then(|day| day.calendar_days(start))
+        };
+        assert_eq!(days("90", None), Ok(90.0));
+        assert_eq!(days("90d", None), Ok(90.0));
+        assert_eq!(days("26w", None), Ok(182.0));
+        // A Julian year of 365.25 days (common practice): 2y = 730.5 d.
+        assert_eq!(days("2y", None), Ok(730.5));
+        assert_eq!(days("0.5y", None), Ok(182.625));
+        // 2027-03-01 to 2027-09-01: 30 + 31 + 30 + 31 + 31 + 31 = 184 days,
+        // counted by hand from the month lengths.
+        assert_eq!(days("2027-09-01", Some(date("2027-03-01"))), Ok(184.0));
+        // Across 29 February 2028: 2028-01-01 to 2028-03-01 is 31 + 29 = 60.
+        assert_eq!(days("2028-03-01", Some(date("2028-01-01"))), Ok(60.0));
+        assert!(
+            days("2027-09-01", None)
+                .unwrap_err()
+                .contains("no schedule.start")
+        );
+        assert!(
+            days("2027-01-01", Some(date("2027-03-01")))
+                .unwrap_err()
+                .contains("before schedule.start")
+        );
+        for wrong in [
+            "",
+            "d",
+            "2m",
+            "ten",
+            "1e",
+            "2027-02-30",
+            "nan",
+            "inf",
+            "3 d x",
+        ] {
+            assert!(wrong.parse::<DayArgument>().is_err(), "{wrong}");
+        }
     }
 }

@@ -8,6 +8,7 @@
 use crate::error::Error;
 use clap::error::ErrorKind;
 use clap::{Args, Parser, Subcommand};
+use runcast::calendar::DayArgument;
 use runcast::projection::ShardSpec;
 use runcast::report::{DEFAULT_DPI, DPI_RANGE, FigureFormat};
 use std::path::PathBuf;
@@ -175,9 +176,10 @@ pub struct PlanArgs {
     /// Also compute everything at calendar day D exactly (its own point and
     /// pseudo-experiments, not read off the grid): significance, P(Z >= each
     /// target), expected limits in signal events per live day and over the
-    /// run; repeatable.
+    /// run; repeatable. D is calendar days (90), a duration (90d, 26w, 2y; a
+    /// year is 365.25 days) or, with schedule.start, a date (2027-09-01).
     #[arg(long, value_name = "D", allow_negative_numbers = true)]
-    pub at: Vec<f64>,
+    pub at: Vec<DayArgument>,
     /// Background-only pseudo-experiments per exposure point fitted at every
     /// position of signal.scan, for the look-elsewhere effect (default 500).
     #[arg(long, value_name = "N")]
@@ -249,9 +251,10 @@ pub struct CompareArgs {
 pub struct SpectrumArgs {
     /// The scenario file (YAML).
     pub scenario: PathBuf,
-    /// Calendar days of data-taking; repeat for several exposures side by side.
+    /// Calendar days of data-taking (90, 90d, 26w, 2y or, with
+    /// schedule.start, a date 2027-09-01); repeat for several exposures side by side.
     #[arg(long, value_name = "D", required = true, allow_negative_numbers = true)]
-    pub days: Vec<f64>,
+    pub days: Vec<DayArgument>,
     /// Seed of the pseudo-data (overrides plan.seed); same seed, same spectrum.
     #[arg(long, value_name = "S")]
     pub seed: Option<u64>,
@@ -266,9 +269,10 @@ pub struct SpectrumArgs {
 pub struct ReachArgs {
     /// The scenario file (YAML), with signal.scan.
     pub scenario: PathBuf,
-    /// Calendar days of data-taking; repeat for several exposures.
+    /// Calendar days of data-taking (90, 90d, 26w, 2y or, with
+    /// schedule.start, a date 2027-09-01); repeat for several exposures.
     #[arg(long, value_name = "D", required = true, allow_negative_numbers = true)]
-    pub days: Vec<f64>,
+    pub days: Vec<DayArgument>,
     /// Background-only pseudo-experiments per position and exposure for toy limits (default 0: Asimov only).
     #[arg(long, value_name = "N", default_value_t = 0)]
     pub toys: usize,
@@ -292,9 +296,10 @@ pub struct ReachArgs {
 pub struct BinningArgs {
     /// The scenario file (YAML).
     pub scenario: PathBuf,
-    /// Calendar days of data-taking at which to compare binnings.
+    /// Calendar days of data-taking at which to compare binnings (90, 90d,
+    /// 26w, 2y or, with schedule.start, a date 2027-09-01).
     #[arg(long, value_name = "D", allow_negative_numbers = true)]
-    pub days: f64,
+    pub days: DayArgument,
     /// The channel whose binning to scan; required when the scenario has several.
     #[arg(long, value_name = "NAME")]
     pub channel: Option<String>,

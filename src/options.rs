@@ -6,6 +6,7 @@ use crate::cli::{
     BinningArgs, FigureArgs, PlanArgs, ProjectArgs, ReachArgs, SlurmArgs, SpectrumArgs,
 };
 use crate::error::Error;
+use runcast::calendar::DayArgument;
 use runcast::message::show;
 use runcast::model::{LiveTime, Model};
 use runcast::projection::{ProjectionSettings, ShardSpec};
@@ -85,6 +86,18 @@ impl Loaded {
         seed.unwrap_or(self.scenario.plan.seed)
     }
 
+    /// The calendar days of day arguments (numbers, durations, or dates
+    /// counted from `schedule.start`) given with `flag`.
+    fn calendar_days(&self, flag: &str, days: &[DayArgument]) -> Result<Vec<f64>, Error> {
+        let start = self.scenario.schedule.start_date();
+        days.iter()
+            .map(|day| {
+                day.calendar_days(start)
+                    .map_err(|message| Error::Usage(format!("{flag} {message}")))
+            })
+            .collect()
+    }
+
     /// The live days after `days` calendar days (`--days`): finite, above
     /// zero, and with some live time by then.
     fn live_days(&self, days: f64) -> Result<f64, Error> {
@@ -129,7 +142,7 @@ struct PlanOverrides {
     no_limits: bool,
     calibrate: Option<usize>,
     /// `--at` days, as given.
-    at: Vec<f64>,
+    at: Vec<DayArgument>,
     lee_toys: Option<usize>,
     /// The shards the projection is split into (0 or 1: not split); the
     /// limits on calibration toys and on all toys then hold per shard, since
@@ -211,7 +224,7 @@ fn projection_settings(
         days: scenario.plan.days.days(),
         day_spacing: scenario.plan.days.axis_spacing(),
         detector_mass_kg: scenario.detector_mass_kg(),
-        at_days: at_days(&overrides.at)?,
+        at_days: at_days(&loaded.calendar_days("--at", &overrides.at)?)?,
         toys,
         seed: loaded.seed(overrides.seed),
         targets: scenario.plan.targets.clone(),
@@ -504,9 +517,10 @@ impl SpectrumOptions {
             )));
         }
         let loaded = Loaded::load(&args.scenario)?;
-        loaded.check_exposures(&args.days)?;
+        let days = loaded.calendar_days("--days", &args.days)?;
+        loaded.check_exposures(&days)?;
         Ok(SpectrumOptions {
-            days: args.days.clone(),
+            days,
             seed: loaded.seed(args.seed),
             out: loaded.output_directory(args.out.as_deref()),
             formats: figure_formats(&args.figures)?,
@@ -554,7 +568,8 @@ impl ReachOptions {
             )));
         }
         let loaded = Loaded::load(&args.scenario)?;
-        loaded.check_exposures(&args.days)?;
+        let days = loaded.calendar_days("--days", &args.days)?;
+        loaded.check_exposures(&days)?;
         let positions = loaded.scenario.signal_scan().map_or(0, |scan| scan.len());
         let total = args.toys as u64 * positions as u64 * args.days.len() as u64;
         if total > MAX_TOYS_IN_TOTAL {
@@ -567,7 +582,7 @@ impl ReachOptions {
         let plan = &loaded.scenario.plan;
         Ok(ReachOptions {
             settings: ReachSettings {
-                days: args.days.clone(),
+                days,
                 cl: plan.cl,
                 targets: plan.targets.clone(),
                 toys: args.toys,
@@ -602,10 +617,11 @@ impl BinningOptions {
 
     pub fn resolve(args: &BinningArgs) -> Result<BinningOptions, Error> {
         let loaded = Loaded::load(&args.scenario)?;
-        loaded.live_days(args.days)?;
+        let days = loaded.calendar_days("--days", &[args.days])?[0];
+        loaded.live_days(days)?;
         Ok(BinningOptions {
             channel: channel_alone(&loaded.scenario, args.channel.as_deref())?,
-            days: args.days,
+            days,
             out: loaded.output_directory(args.out.as_deref()),
             formats: figure_formats(&args.figures)?,
             loaded,

@@ -379,7 +379,7 @@ fn bad_command_line_values_are_named() {
         ),
         (
             &["project", SCENARIO, "--out", "out", "--at", "inf"],
-            &["--at inf", "above 0"],
+            &["'inf' for '--at <D>'", "expected calendar days"],
         ),
         (
             &["project", SCENARIO, "--at", "30", "--at", "9", "--at", "30"],

@@ -7,12 +7,7 @@ use super::ScenarioError;
 use super::validate::require_positive;
 use serde::Deserialize;
 
-/// Days in a year for `events_per_year`: the Julian year of 365.25 days
-/// (common practice for rates quoted per year).
-pub const DAYS_PER_YEAR: f64 = 365.25;
-
-/// Days in a week for `events_per_week`.
-pub const DAYS_PER_WEEK: f64 = 7.0;
+pub use crate::calendar::{DAYS_PER_WEEK, DAYS_PER_YEAR};
 
 /// The detector whose mass turns rates per kg·day into rates per day.
 #[derive(Debug, Clone, Copy, PartialEq, Deserialize)]
