@@ -4,9 +4,8 @@
 use super::timeline::timeline;
 use crate::model::{Model, fraction_inside, shape_from_spec};
 use crate::projection::Projection;
-use crate::report::kit::format::{
-    DAYS_ROUNDING, days_label, not_within_grid, percent_label, rounded,
-};
+use crate::report::kit::format::{DAYS_ROUNDING, days_label, percent_label, rounded};
+use crate::report::kit::vocabulary::not_within_grid;
 use crate::scenario::{Channel, RateUnit, Scenario, ShapeSpec};
 use std::fmt::Write;
 use std::path::Path;

@@ -6,7 +6,8 @@
 use super::Comparison;
 use crate::calendar::CalendarDate;
 use crate::report::kit::dates::dated_days_label;
-use crate::report::kit::format::{aligned, not_within_grid, percent_label, target_label};
+use crate::report::kit::format::{aligned, percent_label, target_label};
+use crate::report::kit::vocabulary::not_within_grid;
 
 /// The comparison table, with the shared targets and confidence level above it.
 pub fn comparison_table(comparison: &Comparison) -> String {
@@ -47,7 +48,7 @@ pub fn comparison_table(comparison: &Comparison) -> String {
                 (asimov, *first_asimov)
             };
             row.push(if index == 0 {
-                "—".to_string()
+                REFERENCE.to_string()
             } else {
                 difference_cell(days, first)
             });
@@ -86,11 +87,17 @@ fn days_cell(days: Option<f64>, last_day: f64, start: Option<CalendarDate>) -> S
     )
 }
 
+/// The first plan's cell of a "vs first" column.
+const REFERENCE: &str = "reference";
+
+/// A difference to the first plan where one of the two days is not within its grid.
+const NO_DIFFERENCE: &str = "no difference (a day not within the grid)";
+
 /// The difference in whole days, signed ("-45 d", "+12 d").
 fn difference_cell(days: Option<f64>, first: Option<f64>) -> String {
     match (days, first) {
         (Some(days), Some(first)) => format!("{:+} d", (days - first).round()),
-        _ => "—".to_string(),
+        _ => NO_DIFFERENCE.to_string(),
     }
 }
 

@@ -80,14 +80,6 @@ pub fn percent_label(cl: f64) -> String {
     format!("{}%", (cl * 1e4).round() / 100.0)
 }
 
-/// A day past the last point of the grid, with that point's label ("365 d"):
-/// "not within the grid (last point 365 d)". The one wording of every command
-/// for a day the grid does not reach; the grid is for the figures, and no
-/// day is guessed beyond it.
-pub fn not_within_grid(last_point: &str) -> String {
-    format!("not within the grid (last point {last_point})")
-}
-
 /// The rounding of days in `check` and the summaries, stated where they print days.
 pub const DAYS_ROUNDING: &str = "Days are rounded up (to the next tenth of a day below 10 days, to the next whole day from there on); projection.csv and .json keep full precision.";
 

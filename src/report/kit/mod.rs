@@ -3,7 +3,8 @@
 //! lines, markers, legends, text; `legend.rs`: legend samples; `schedule.rs`:
 //! stretches at reduced or zero rate shaded on figures against days), the palette
 //! (`palette.rs`), number formatting (`format.rs`), calendar dates beside
-//! days (`dates.rs`) and CSV and JSON encoding (`encode.rs`).
+//! days (`dates.rs`), CSV and JSON encoding (`encode.rs`) and the words all
+//! outputs share (`vocabulary.rs`).
 
 pub mod axis;
 pub mod dates;
@@ -14,3 +15,4 @@ pub mod legend;
 pub mod marks;
 pub mod palette;
 pub mod schedule;
+pub mod vocabulary;

@@ -41,32 +41,18 @@ use crate::report::ReportError;
 use crate::report::kit::dates::date_cell;
 use crate::report::kit::encode::csv_bytes;
 use crate::report::kit::format::{number, optional};
+use crate::report::kit::vocabulary::band_columns;
 
-/// Names of the four toy quantile columns, in the order of `z_band`.
-const BAND_COLUMNS: [&str; 4] = ["z_q02_3", "z_q15_9", "z_q84_1", "z_q97_7"];
-
-/// Names of the asymptotic band columns, in the order of `z_asimov_band`.
-const ASIMOV_BAND_COLUMNS: [&str; 4] = [
-    "z_asimov_q02_3",
-    "z_asimov_q15_9",
-    "z_asimov_q84_1",
-    "z_asimov_q97_7",
-];
-
-/// The limit columns after `failed_fits`, in the order of [`limit_cells`].
-const LIMIT_COLUMNS: [&str; 11] = [
-    "limit_median",
-    "limit_q02_3",
-    "limit_q15_9",
-    "limit_q84_1",
-    "limit_q97_7",
-    "limit_asimov",
-    "limit_asimov_q02_3",
-    "limit_asimov_q15_9",
-    "limit_asimov_q84_1",
-    "limit_asimov_q97_7",
-    "limit_failed_fits",
-];
+/// The limit columns after `failed_fits`, in the order of [`limit_cells`]:
+/// the toy median and band, the asymptotic median and band, failed fits.
+fn limit_columns() -> Vec<String> {
+    let mut columns = vec!["limit_median".to_string()];
+    columns.extend(band_columns("limit"));
+    columns.push("limit_asimov".to_string());
+    columns.extend(band_columns("limit_asimov"));
+    columns.push("limit_failed_fits".to_string());
+    columns
+}
 
 /// The calibration columns at the end, in the order of [`calibration_cells`].
 const CALIBRATION_COLUMNS: [&str; 9] = [
@@ -96,19 +82,14 @@ const GLOBAL_COLUMNS: [&str; 10] = [
     "mean_upcrossings_asimov",
 ];
 
-/// The suffixes of the columns of limits in one unit, in the order of [`event_limit_cells`].
-const EVENT_LIMIT_SUFFIXES: [&str; 10] = [
-    "median",
-    "q02_3",
-    "q15_9",
-    "q84_1",
-    "q97_7",
-    "asimov",
-    "asimov_q02_3",
-    "asimov_q15_9",
-    "asimov_q84_1",
-    "asimov_q97_7",
-];
+/// The columns of limits in `unit`, in the order of [`event_limit_cells`].
+fn event_limit_columns(unit: &str) -> Vec<String> {
+    let mut columns = vec![format!("{unit}_median")];
+    columns.extend(band_columns(unit));
+    columns.push(format!("{unit}_asimov"));
+    columns.extend(band_columns(&format!("{unit}_asimov")));
+    columns
+}
 
 /// The CSV table of the projection.
 pub(super) fn render(projection: &Projection) -> Result<Vec<u8>, ReportError> {
@@ -132,11 +113,7 @@ pub(super) fn render_at(projection: &Projection) -> Result<Vec<u8>, ReportError>
         .into_iter()
         .chain(per_kg_day);
     for unit in units {
-        columns.extend(
-            EVENT_LIMIT_SUFFIXES
-                .iter()
-                .map(|suffix| format!("{unit}_{suffix}")),
-        );
+        columns.extend(event_limit_columns(unit));
     }
     let (columns, rows) = dated(
         projection,
@@ -225,23 +202,16 @@ fn header(targets: &[f64]) -> Vec<String> {
         "z_asimov",
         "z_median",
     ];
-    let mut columns: Vec<String> = leading
-        .iter()
-        .chain(&BAND_COLUMNS)
-        .chain(&ASIMOV_BAND_COLUMNS)
-        .map(|name| name.to_string())
-        .collect();
+    let mut columns: Vec<String> = leading.iter().map(|name| name.to_string()).collect();
+    columns.extend(band_columns("z"));
+    columns.extend(band_columns("z_asimov"));
     for target in targets {
         columns.push(format!("p_toys_{target}sigma"));
         columns.push(format!("p_asimov_{target}sigma"));
     }
     columns.push("failed_fits".to_string());
-    columns.extend(
-        LIMIT_COLUMNS
-            .iter()
-            .chain(&CALIBRATION_COLUMNS)
-            .map(|name| name.to_string()),
-    );
+    columns.extend(limit_columns());
+    columns.extend(CALIBRATION_COLUMNS.iter().map(|name| name.to_string()));
     columns
 }
 

@@ -12,8 +12,9 @@ use crate::projection::{
 };
 use crate::report::kit::dates::{dated_days_label, with_date};
 use crate::report::kit::format::{
-    self, DAYS_ROUNDING, aligned, fit_percent, percent_label, target_label,
+    DAYS_ROUNDING, aligned, fit_percent, percent_label, target_label,
 };
+use crate::report::kit::vocabulary::{self, NOT_COMPUTED};
 use crate::report::warning_text;
 
 /// What the toy columns mean, and which to quote.
@@ -288,7 +289,7 @@ fn days_cell(
 ) -> String {
     match days {
         Some(days) => dated_days_label(days, start),
-        None if !available => "—".to_string(),
+        None if !available => NOT_COMPUTED.to_string(),
         None if row.never_reached() => "never".to_string(),
         None => not_within_grid(last_day, start),
     }
@@ -298,7 +299,7 @@ fn days_cell(
 /// point 365 d)"; the grid is for the figures, and the day is not guessed
 /// beyond it.
 fn not_within_grid(last_day: f64, start: Option<CalendarDate>) -> String {
-    format::not_within_grid(&grid_day(last_day, start))
+    vocabulary::not_within_grid(&grid_day(last_day, start))
 }
 
 /// A day of the grid as given, to two decimals at most ("1 d", "1.26 d").
@@ -378,7 +379,7 @@ fn calibration_table(projection: &Projection) -> Option<String> {
                 format!("> {}", two_decimals(reach)),
                 format!("< {}", two_decimals(z - reach)),
             ),
-            (None, None) => ("—".to_string(), "—".to_string()),
+            (None, None) => (NOT_COMPUTED.to_string(), NOT_COMPUTED.to_string()),
         };
         vec![
             grid_day(*days, projection.start),

@@ -6,6 +6,7 @@ use crate::reach::Reach;
 use crate::report::ReportError;
 use crate::report::kit::encode::csv_bytes;
 use crate::report::kit::format::{number, optional};
+use crate::report::kit::vocabulary::band_columns;
 
 /// The header: exposure, position, limits, failed toy fits, then the local
 /// and the global discovery rate of each target.
@@ -17,19 +18,13 @@ fn header(reach: &Reach) -> Vec<String> {
         "position",
         "width",
         "limit_rate_asimov",
-        "limit_rate_asimov_m2",
-        "limit_rate_asimov_m1",
-        "limit_rate_asimov_p1",
-        "limit_rate_asimov_p2",
-        "limit_rate_median",
-        "limit_rate_m2",
-        "limit_rate_m1",
-        "limit_rate_p1",
-        "limit_rate_p2",
-        "limit_failed_fits",
     ]
     .map(String::from)
     .to_vec();
+    header.extend(band_columns("limit_rate_asimov"));
+    header.push("limit_rate_median".to_string());
+    header.extend(band_columns("limit_rate"));
+    header.push("limit_failed_fits".to_string());
     for scope in ["local", "global"] {
         for target in &reach.targets {
             header.push(format!("discovery_rate_{scope}_{}sigma", number(*target)));

@@ -3,8 +3,8 @@
 //! Schema: `{title, seed, cl, targets, exposures: [{days, live_days,
 //! look_elsewhere: {reference_level, mean_upcrossings, mean_upcrossings_error,
 //! toys, direct_global_p, trials_factor, mean_upcrossings_asimov}, positions:
-//! [{position, width, limit_rate_asimov, limit_rate_asimov_band: [m2, m1, p1,
-//! p2], limit_rate_median, limit_rate_band, discovery_rate_local: [one per
+//! [{position, width, limit_rate_asimov, limit_rate_asimov_band: [-2σ, -1σ, +1σ,
+//! +2σ], limit_rate_median, limit_rate_band, discovery_rate_local: [one per
 //! target], discovery_rate_global: [one per target]}]}]}`; rates in signal
 //! events per live day, null where not computed (the toy look-elsewhere
 //! values, which `reach` does not run; toy limits without `--toys`) or

@@ -2,8 +2,10 @@
 //! expected limit over the scan and the rates for the highest target, local
 //! and global.
 
+use crate::message::show;
 use crate::reach::{ExposureReach, PositionReach, Reach};
 use crate::report::kit::format::{exposure_label, fit_percent, percent_label, target_label};
+use crate::report::kit::vocabulary::upcrossings_name;
 
 /// Three significant digits, as rates are read: 0.0123, 1.89, 245; in
 /// exponent form outside [1e-3, 1e6).
@@ -53,9 +55,9 @@ fn extremes_line(
 fn exposure_summary(reach: &Reach, exposure: &ExposureReach) -> String {
     let unit = &reach.unit;
     let mut text = format!(
-        "{} — E N(q0 > {}) = {:.3} upcrossings (asymptotic)\n",
+        "{}: {} = {:.3} (asymptotic)\n",
         exposure_label(exposure.days, exposure.live_days),
-        exposure.reference_level,
+        upcrossings_name(&show(exposure.reference_level)),
         exposure.mean_upcrossings_asimov
     );
     text += &extremes_line(
