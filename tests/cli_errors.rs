@@ -437,7 +437,7 @@ fn a_signal_peak_outside_the_range_is_an_error() {
 
 #[test]
 fn requests_beyond_the_documented_limits_are_named() {
-    // The limits are listed in README ("Limits") and src/scenario/limits.rs.
+    // The limits are listed in docs/scenario.md ("Limits on the input") and src/scenario/limits.rs.
     let deep = format!(
         "{}\nextra: {}{}\n",
         BASE,

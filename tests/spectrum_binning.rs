@@ -346,7 +346,7 @@ fn both_commands_work_on_every_demo_scenario() {
 #[test]
 fn many_long_days_give_a_short_file_name() {
     // Eight days of six characters each would make a 72-byte stem; beyond 64
-    // bytes the name is `spectrum-<count>-exposures-<hash>` (README, Limits).
+    // bytes the name is `spectrum-<count>-exposures-<hash>` (docs/scenario.md, Limits on the input).
     let out = scratch("long-names");
     let scenario = demo("narrow_peak.yaml");
     let days: Vec<String> = (1..=8).map(|i| format!("{i}0.125")).collect();

@@ -20,9 +20,11 @@ pub(super) fn timeline(
     let day = |days: f64| with_date(format!("day {}", show(days)), days, start);
     let _ = writeln!(
         text,
-        "  timeline (live fraction {}; live days = live fraction x days x rate):",
+        "  timeline (live fraction {}; live days = live fraction x days x rate; \
+         a stretch from day A to day B holds day A and ends where day B begins):",
         show(scenario.schedule.live_fraction)
     );
+    let breaks = scenario.schedule.break_dates();
     let mut end_of_schedule = 0.0;
     for (from, to, rate_scale, period) in live_time.stretches() {
         let until = if to.is_finite() {
@@ -38,9 +40,15 @@ pub(super) fn timeline(
         } else {
             String::new()
         };
+        let as_written = start
+            .and_then(|start| start.after(from))
+            .and_then(|first| breaks.iter().find(|(from, _)| *from == first))
+            .map(|(from, to)| format!(" ({from} to {to} as written, both days included)"))
+            .filter(|_| rate_scale == 0.0)
+            .unwrap_or_default();
         let _ = writeln!(
             text,
-            "    {} {until}: {}{}{live_by_end}",
+            "    {} {until}: {}{as_written}{}{live_by_end}",
             day(from),
             factors(rate_scale, period),
             if live_by_end.is_empty() { "" } else { "; " },
@@ -117,7 +125,7 @@ mod tests {
             &format!(
                 "day 30 (2027-03-01) to day 40 (2027-03-11): {name} x0.5; 17 live days by its end"
             ),
-            "day 40 (2027-03-11) to day 45 (2027-03-16): break, no data; 17 live days by its end",
+            "day 40 (2027-03-11) to day 45 (2027-03-16): break, no data (2027-03-11 to 2027-03-15 as written, both days included); 17 live days by its end",
             &format!("day 45 (2027-03-16) on, to the end of the run: {name} x0.5"),
             "live days at the end of the grid (day 100 (2027-05-10)): 44.5",
         ];

@@ -162,7 +162,7 @@ const UPCROSSING_DISTANCE_WARNING: f64 = 3.0;
 
 /// With a scan, one line on what the global columns account for: "Look-
 /// elsewhere effect: 201 positions tested from 10 to 90 in steps of 0.4;
-/// upcrossings of q0 = 1 per scan at the last point: 5.21 asymptotic (used
+/// mean upcrossings of q0 = 1 per scan, N(u0), at the last point: 5.21 asymptotic (used
 /// for the global Asimov columns), 5.30 ± 0.07 from 500 background-only scans
 /// per point (1.3 standard errors apart) (global p-values of Gross and
 /// Vitells 2010)", and a warning line when the two are far apart.
@@ -184,8 +184,8 @@ fn scan_line(projection: &Projection) -> Option<String> {
         return Some(line);
     };
     line.push_str(&format!(
-        "; upcrossings of q0 = {} per scan at the last point: ",
-        show(measured.reference_level)
+        "; {} at the last point: ",
+        vocabulary::upcrossings_name(&show(measured.reference_level))
     ));
     let toys = measured.mean_upcrossings.map(|mean| {
         let error = measured
