@@ -547,6 +547,9 @@ fn command_line_requests_beyond_the_limits_are_named() {
         edited("first: 1, last: 100", "first: 1, last: 1e+18"),
     )
     .unwrap();
+    // One byte past the 1 MiB a scenario file may have.
+    let padding = "#".repeat(1_048_576 - BASE.len());
+    fs::write(scratch.path.join("long.yaml"), format!("{BASE}{padding}\n")).unwrap();
     let before = scratch.entries();
     let project = |extra: &'static [&'static str]| -> Vec<&'static str> {
         [&["project", SCENARIO, "--out", "out", "--quiet"], extra].concat()
@@ -590,7 +593,11 @@ fn command_line_requests_beyond_the_limits_are_named() {
             vec!["spectrum", SCENARIO, "--out", "out", "--days", "1e300"],
             &["--days 1e300", "9.007199254740992e15"],
         ),
-        (vec!["check", "/dev/zero"], &["/dev/zero", "1048576 bytes"]),
+        (vec!["check", "long.yaml"], &["long.yaml", "1048576 bytes"]),
+        (
+            vec!["check", "/dev/zero"],
+            &["/dev/zero", "a device, not a regular file"],
+        ),
         (
             // 40 events per live day over 20 bins for 1e18 days, with toys.
             vec!["project", "big.yaml", "--out", "out", "--toys", "3"],

@@ -9,6 +9,7 @@
 
 use super::limits::{MAX_ROWS_FILE_BYTES, MAX_TABLE_ROWS};
 use super::{ScenarioError, ShapeSpec};
+use crate::input_file::open_regular;
 use crate::message::show_text;
 use crate::shapes::{RowError, RowForm};
 use std::io::Read;
@@ -94,7 +95,7 @@ fn located(error: &RowError) -> String {
 /// The text of `path`, refused above [`MAX_ROWS_FILE_BYTES`] (no more is read).
 fn read_bounded(path: &Path) -> Result<String, String> {
     let mut text = String::new();
-    std::fs::File::open(path)
+    open_regular(path)
         .and_then(|file| file.take(MAX_ROWS_FILE_BYTES + 1).read_to_string(&mut text))
         .map_err(|error| format!("cannot read the file: {error}"))?;
     if text.len() as u64 > MAX_ROWS_FILE_BYTES {

@@ -5,13 +5,13 @@ use super::{
     CHECKSUM_BYTES, MAGIC, MAGIC_PREFIX, SHARD_EXTENSION, ShardError, ShardRun, ShardSpec,
 };
 use crate::ensemble::EnsembleOutcome;
+use crate::input_file::open_regular;
 use crate::likelihood::Likelihood;
 use crate::model::Model;
 use crate::projection::Projection;
 use crate::projection::ensembles::{PointRequest, PointToys, ToySource};
 use crate::scenario::Scenario;
 use sha2::Digest;
-use std::fs::File;
 use std::io::{self, BufReader, Read, Write};
 use std::path::{Path, PathBuf};
 
@@ -247,7 +247,7 @@ fn verify_checksum(path: &Path) -> Result<u64, ShardError> {
         path: path.to_path_buf(),
         source,
     };
-    let mut file = File::open(path).map_err(io_error)?;
+    let mut file = open_regular(path).map_err(io_error)?;
     let length = file.metadata().map_err(io_error)?.len();
     let mut magic = [0u8; 16];
     if length < MAGIC.len() as u64 + CHECKSUM_BYTES || file.read_exact(&mut magic).is_err() {
