@@ -40,7 +40,12 @@ pub fn parse() -> Result<Cli, Error> {
 /// pseudo-experiments with profile-likelihood fits at each exposure, cross-checks
 /// them with asymptotic (Asimov) formulae, and writes SVG projections, CSV and JSON.
 #[derive(Debug, Parser)]
-#[command(name = "runcast", version, about, long_about)]
+#[command(
+    name = "runcast",
+    version = concat!(env!("CARGO_PKG_VERSION"), " (build ", env!("RUNCAST_BUILD_ID"), ")"),
+    about,
+    long_about
+)]
 pub struct Cli {
     #[command(subcommand)]
     pub command: Command,
@@ -98,9 +103,10 @@ pub enum Command {
     Bench(BenchArgs),
     /// Merge the shards in DIR (runcast project --shard K/N) into the outputs of the unsharded run.
     ///
-    /// Checks that DIR holds all N shards of one run (same scenario, seed,
-    /// options and runcast version, each intact), then writes the same files,
-    /// byte for byte, as runcast project without --shard, into DIR.
+    /// Checks that DIR holds all N shards of one run (same scenario, seed and
+    /// options, each intact and written by this build of runcast, whose
+    /// identifier --version shows), then writes the same files, byte for
+    /// byte, as runcast project without --shard, into DIR.
     Merge {
         /// The directory holding the shard files.
         directory: PathBuf,

@@ -12,8 +12,8 @@
 //! counting windows, both for planning beside the projection;
 //! `provenance` records what made each output file;
 //! `warning` types what may be wrong with a scenario or results;
-//! `message` words the numbers in error messages; `benchmark` measures the
-//! engine. The command-line front end lives with the binary (`src/main.rs` and
+//! `message` words the numbers in error messages; `input_file` opens the
+//! files read (regular files only); `benchmark` measures the engine. The command-line front end lives with the binary (`src/main.rs` and
 //! its modules), so the engine does not depend on the argument parser or the
 //! progress bar.
 
@@ -22,6 +22,7 @@ pub mod benchmark;
 pub mod binning;
 pub mod calendar;
 pub mod ensemble;
+pub mod input_file;
 pub mod likelihood;
 pub mod limits;
 pub mod look_elsewhere;

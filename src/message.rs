@@ -1,5 +1,6 @@
-//! Numbers in error messages, shown as a user would write them, and the
-//! wording of the checks every stage makes on a single number.
+//! Numbers in error messages, shown as a user would write them, the
+//! wording of the checks every stage makes on a single number, and text
+//! read from files, shown short and escaped.
 
 /// Why `value` is no finite number, or None when it is one.
 pub fn not_finite(value: f64) -> Option<String> {
@@ -56,6 +57,30 @@ pub fn show_list(values: &[f64]) -> String {
     format!("[{}]", shown.join(", "))
 }
 
+/// The most characters of a file's text a message shows.
+pub const SHOWN_CHARACTERS: usize = 40;
+
+/// A piece of text read from a file (a cell of a table), as a message shows
+/// it: control and other non-printable characters escaped as Rust writes
+/// them (`\n`, `\u{1b}`), so nothing in it acts on a terminal, and cut
+/// after [`SHOWN_CHARACTERS`] characters with an ellipsis, so a message
+/// never carries much of a file a scenario happens to name.
+pub fn show_text(text: &str) -> String {
+    let mut shown = String::new();
+    for (index, character) in text.chars().enumerate() {
+        if index == SHOWN_CHARACTERS {
+            shown.push('…');
+            break;
+        }
+        match character {
+            // Quotes need no escape inside the backticks messages use.
+            '"' | '\'' => shown.push(character),
+            _ => shown.extend(character.escape_debug()),
+        }
+    }
+    shown
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -89,5 +114,20 @@ mod tests {
             Some("must be a positive finite number, got -3")
         );
         assert!(not_positive(f64::NAN).is_some());
+    }
+
+    #[test]
+    fn text_is_shown_escaped_and_cut_short() {
+        assert_eq!(show_text("1.5e3"), "1.5e3");
+        assert_eq!(show_text("a\tb\u{1b}[2J\"'"), "a\\tb\\u{1b}[2J\"'");
+        assert_eq!(show_text("\u{202e}x"), "\\u{202e}x");
+        let long = "x".repeat(100);
+        let shown = show_text(&long);
+        assert_eq!(shown.chars().count(), SHOWN_CHARACTERS + 1);
+        assert!(shown.ends_with('…'));
+        assert_eq!(
+            show_text(&long[..SHOWN_CHARACTERS]),
+            long[..SHOWN_CHARACTERS]
+        );
     }
 }

@@ -547,6 +547,9 @@ fn command_line_requests_beyond_the_limits_are_named() {
         edited("first: 1, last: 100", "first: 1, last: 1e+18"),
     )
     .unwrap();
+    // One byte past the 1 MiB a scenario file may have.
+    let padding = "#".repeat(1_048_576 - BASE.len());
+    fs::write(scratch.path.join("long.yaml"), format!("{BASE}{padding}\n")).unwrap();
     let before = scratch.entries();
     let project = |extra: &'static [&'static str]| -> Vec<&'static str> {
         [&["project", SCENARIO, "--out", "out", "--quiet"], extra].concat()
@@ -590,7 +593,11 @@ fn command_line_requests_beyond_the_limits_are_named() {
             vec!["spectrum", SCENARIO, "--out", "out", "--days", "1e300"],
             &["--days 1e300", "9.007199254740992e15"],
         ),
-        (vec!["check", "/dev/zero"], &["/dev/zero", "1048576 bytes"]),
+        (vec!["check", "long.yaml"], &["long.yaml", "1048576 bytes"]),
+        (
+            vec!["check", "/dev/zero"],
+            &["/dev/zero", "a device, not a regular file"],
+        ),
         (
             // 40 events per live day over 20 bins for 1e18 days, with toys.
             vec!["project", "big.yaml", "--out", "out", "--toys", "3"],
@@ -825,6 +832,54 @@ fn bad_tables_are_named_by_file_row_and_column() {
         ),
     ];
     assert_rejected_beside("bad-tables-are-named", &cases);
+}
+
+/// A scenario may name any file as a table, also one its user would not
+/// show: errors show no more of the file than the one cell at fault,
+/// escaped (a terminal escape sequence written out, not acted on) and cut
+/// to 40 characters with an ellipsis; a file that is no table of three
+/// columns, none of it.
+#[test]
+fn table_errors_show_no_more_of_a_file_than_the_cell_at_fault() {
+    let scratch = Scratch::new("table-file-contents");
+    fs::write(
+        scratch.path.join(SCENARIO),
+        with_table("{table: {file: continuum.csv}}"),
+    )
+    .unwrap();
+    let secret = "alice:hunter2:1000:1000:Alice:/home/alice:/bin/sh";
+    // 30 digits, a terminal escape clearing the screen, 30 letters: the
+    // first 40 characters end after six of the letters.
+    let long = format!("{}\u{1b}[2J{}", "9".repeat(30), "x".repeat(30));
+    let cases: [(&str, String, &[&str]); 3] = [
+        (
+            "a file that is no table",
+            format!("{secret}\n{secret}\n"),
+            &["continuum.csv, line 1: ", "got 1 column"],
+        ),
+        (
+            "a header cell",
+            format!("low,{long},value\n0,100,1\n"),
+            &["line 1, column 2: ", "\\u{1b}[2Jxxxxxx…` for `high`"],
+        ),
+        (
+            "a value cell",
+            format!("low,high,value\n0,100,{long}\n"),
+            &["row 1 (line 2), column `value`: ", "\\u{1b}[2Jxxxxxx…`"],
+        ),
+    ];
+    for (description, csv, expected) in cases {
+        fs::write(scratch.path.join("continuum.csv"), &csv).unwrap();
+        let before = scratch.entries();
+        let output = scratch.run(&["check", SCENARIO]);
+        if let Some(problem) = misbehaviour(&scratch, &output, expected, &before) {
+            panic!("{description}: {problem}");
+        }
+        let stderr = String::from_utf8_lossy(&output.stderr);
+        for shown in ["hunter2", "\u{1b}", "xxxxxxx"] {
+            assert!(!stderr.contains(shown), "{description}: {stderr}");
+        }
+    }
 }
 
 #[test]

@@ -1,6 +1,7 @@
 //! Tabulated shapes (`{table: ...}`) against closed forms: a table of an
-//! exponential's exact bin integrals is that exponential, and rows wider than
-//! the bins share their content in proportion to the overlap.
+//! exponential's exact bin integrals is that exponential, rows wider than
+//! the bins share their content in proportion to the overlap, and a table's
+//! scale changes nothing.
 
 mod common;
 
@@ -90,4 +91,51 @@ fn rows_twice_as_wide_as_the_bins_give_exact_fractions() {
     for (count, expected) in asimov.counts.iter().zip(&expected) {
         assert!((count - expected).abs() < 1e-12, "{:?}", asimov.counts);
     }
+}
+
+/// The Asimov projection of a scenario whose background is read from a
+/// table with rows [0, 1), [1, 2), [2, 4) holding `values`: `projection.csv`
+/// without its provenance line (which holds the table's SHA-256).
+fn asimov_projection_with_rows(label: &str, values: [&str; 3]) -> String {
+    let scratch = Scratch::new(label);
+    let csv = format!(
+        "low,high,value\n0,1,{}\n1,2,{}\n2,4,{}\n",
+        values[0], values[1], values[2]
+    );
+    fs::write(scratch.path.join("rows.csv"), csv).unwrap();
+    let yaml = "title: table scale test (invented numbers)\n\
+         observable: {name: x, unit: a.u., range: [0.0, 4.0], bin_width: 1.0}\n\
+         signal: {events_per_day: 2.0, shape: {flat: {}}}\n\
+         backgrounds:\n  - {name: b, events_per_day: 10.0, shape: {table: {file: rows.csv}}}\n\
+         plan: {days: {first: 1, last: 100, points: 3, spacing: log}, toys: 1, seed: 1, targets: [3]}\n";
+    fs::write(scratch.path.join("scenario.yaml"), yaml).unwrap();
+    let output = scratch.run(&[
+        "project",
+        "scenario.yaml",
+        "--asimov-only",
+        "--out",
+        "out",
+        "--quiet",
+    ]);
+    assert!(
+        output.status.success(),
+        "{values:?}: {}",
+        String::from_utf8_lossy(&output.stderr)
+    );
+    let csv = fs::read_to_string(scratch.path.join("out/projection.csv")).unwrap();
+    assert!(csv.starts_with("# provenance: "));
+    csv.split_once('\n').unwrap().1.to_string()
+}
+
+/// Table values are contents "at any scale": subnormal numbers (1e-320 is
+/// 2024 times the smallest f64, so 2e-320 and 4e-320 are exactly twice and
+/// four times it) and numbers near the largest f64 give the numbers of the
+/// same table at scale 1, digit for digit.
+#[test]
+fn tables_at_any_scale_give_the_numbers_of_scale_one() {
+    let one = asimov_projection_with_rows("table-scale-one", ["1", "2", "4"]);
+    let tiny = asimov_projection_with_rows("table-scale-tiny", ["1e-320", "2e-320", "4e-320"]);
+    assert_eq!(tiny, one);
+    let huge = asimov_projection_with_rows("table-scale-huge", ["4e307", "8e307", "1.6e308"]);
+    assert_eq!(huge, one);
 }

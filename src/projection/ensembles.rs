@@ -99,19 +99,30 @@ impl LookElsewhereCount {
         }
     }
 
-    /// Scans counted, converged or not.
-    pub fn toys(&self) -> usize {
-        self.converged + self.failed_fits
-    }
-
-    fn add(self, next: LookElsewhereCount) -> LookElsewhereCount {
-        LookElsewhereCount {
-            converged: self.converged + next.converged,
-            upcrossings: self.upcrossings + next.upcrossings,
-            upcrossings_squared: self.upcrossings_squared + next.upcrossings_squared,
-            exceeding: self.exceeding + next.exceeding,
-            failed_fits: self.failed_fits + next.failed_fits,
-        }
+    /// The counts of both parts; Err names the first that would overflow.
+    fn add(self, next: LookElsewhereCount) -> Result<LookElsewhereCount, &'static str> {
+        Ok(LookElsewhereCount {
+            converged: self
+                .converged
+                .checked_add(next.converged)
+                .ok_or("look_elsewhere.converged")?,
+            upcrossings: self
+                .upcrossings
+                .checked_add(next.upcrossings)
+                .ok_or("look_elsewhere.upcrossings")?,
+            upcrossings_squared: self
+                .upcrossings_squared
+                .checked_add(next.upcrossings_squared)
+                .ok_or("look_elsewhere.upcrossings_squared")?,
+            exceeding: self
+                .exceeding
+                .checked_add(next.exceeding)
+                .ok_or("look_elsewhere.exceeding")?,
+            failed_fits: self
+                .failed_fits
+                .checked_add(next.failed_fits)
+                .ok_or("look_elsewhere.failed_fits")?,
+        })
     }
 }
 
@@ -135,43 +146,63 @@ impl CalibrationCount {
         }
     }
 
-    /// Pseudo-experiments counted, converged or not.
-    pub fn toys(&self) -> usize {
-        self.converged + self.failed_fits
+    /// The counts of both parts; Err names the first that would overflow.
+    fn add(self, next: CalibrationCount) -> Result<CalibrationCount, &'static str> {
+        Ok(CalibrationCount {
+            converged: self
+                .converged
+                .checked_add(next.converged)
+                .ok_or("calibration.converged")?,
+            exceeding: self
+                .exceeding
+                .checked_add(next.exceeding)
+                .ok_or("calibration.exceeding")?,
+            failed_fits: self
+                .failed_fits
+                .checked_add(next.failed_fits)
+                .ok_or("calibration.failed_fits")?,
+        })
     }
 }
 
 impl PointToys {
     /// Appends the outcomes of the next part of the same ensembles (toy
     /// indices following those already held), so that parts appended in
-    /// order hold the whole ensembles' values in toy order.
-    pub fn append(&mut self, next: PointToys) {
-        append_outcome(&mut self.discovery, next.discovery);
-        append_outcome(&mut self.limits, next.limits);
+    /// order hold the whole ensembles' values in toy order. The counts are
+    /// added without wrapping: Err names the first that would overflow
+    /// (only parts whose counts were not checked against their totals can).
+    pub fn append(&mut self, next: PointToys) -> Result<(), &'static str> {
+        append_outcome(&mut self.discovery, next.discovery, "discovery.failed_fits")?;
+        append_outcome(&mut self.limits, next.limits, "limits.failed_fits")?;
         self.calibration = match (self.calibration, next.calibration) {
-            (Some(held), Some(next)) => Some(CalibrationCount {
-                converged: held.converged + next.converged,
-                exceeding: held.exceeding + next.exceeding,
-                failed_fits: held.failed_fits + next.failed_fits,
-            }),
+            (Some(held), Some(next)) => Some(held.add(next)?),
             (held, next) => held.or(next),
         };
         self.look_elsewhere = match (self.look_elsewhere, next.look_elsewhere) {
-            (Some(held), Some(next)) => Some(held.add(next)),
+            (Some(held), Some(next)) => Some(held.add(next)?),
             (held, next) => held.or(next),
         };
+        Ok(())
     }
 }
 
-fn append_outcome(held: &mut Option<EnsembleOutcome>, next: Option<EnsembleOutcome>) {
+fn append_outcome(
+    held: &mut Option<EnsembleOutcome>,
+    next: Option<EnsembleOutcome>,
+    failed_field: &'static str,
+) -> Result<(), &'static str> {
     match (held.as_mut(), next) {
         (Some(held), Some(next)) => {
+            held.failed_fits = held
+                .failed_fits
+                .checked_add(next.failed_fits)
+                .ok_or(failed_field)?;
             held.values.extend(next.values);
-            held.failed_fits += next.failed_fits;
         }
         (None, next) => *held = next,
         (Some(_), None) => {}
     }
+    Ok(())
 }
 
 /// Where a projection's pseudo-experiments come from: run in this process

@@ -441,7 +441,7 @@ impl Scenario {
             source,
         };
         let mut text = String::new();
-        std::fs::File::open(path)
+        crate::input_file::open_regular(path)
             .and_then(|file| {
                 file.take(limits::MAX_SCENARIO_BYTES + 1)
                     .read_to_string(&mut text)

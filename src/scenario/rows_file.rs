@@ -1,12 +1,16 @@
 //! Shapes read from files of rows (`shape: {table: {file: continuum.csv}}`):
 //! the file found beside the scenario, read up to a bounded size as CSV with
 //! a header line naming the kind's columns, and turned into the shape's
-//! values by its kind ([`RowForm`]). Errors name the file, row and column.
+//! values by its kind ([`RowForm`]). Errors name the file, row and column,
+//! and show of the file at most the one cell at fault, escaped and cut
+//! short ([`show_text`]): a scenario may name any file, `/etc/passwd` too.
 //! A merge of shards finds the files among the contents the shards carry
 //! ([`TableSource::Carried`]) instead of on disk.
 
 use super::limits::{MAX_ROWS_FILE_BYTES, MAX_TABLE_ROWS};
 use super::{ScenarioError, ShapeSpec};
+use crate::input_file::open_regular;
+use crate::message::show_text;
 use crate::shapes::{RowError, RowForm};
 use std::io::Read;
 use std::path::Path;
@@ -91,7 +95,7 @@ fn located(error: &RowError) -> String {
 /// The text of `path`, refused above [`MAX_ROWS_FILE_BYTES`] (no more is read).
 fn read_bounded(path: &Path) -> Result<String, String> {
     let mut text = String::new();
-    std::fs::File::open(path)
+    open_regular(path)
         .and_then(|file| file.take(MAX_ROWS_FILE_BYTES + 1).read_to_string(&mut text))
         .map_err(|error| format!("cannot read the file: {error}"))?;
     if text.len() as u64 > MAX_ROWS_FILE_BYTES {
@@ -113,10 +117,23 @@ fn parse_rows(text: &str, form: &RowForm) -> Result<Vec<Vec<f64>>, String> {
     let header = reader
         .headers()
         .map_err(|error| format!("line 1: {error}"))?;
-    if !header.iter().eq(form.columns.iter().copied()) {
+    if header.len() != form.columns.len() {
         return Err(format!(
-            "line 1: the header must be `{expected}`, got `{}`",
-            header.iter().collect::<Vec<_>>().join(",")
+            "line 1: the header must be `{expected}`, got {} column{}",
+            header.len(),
+            if header.len() == 1 { "" } else { "s" }
+        ));
+    }
+    if let Some((index, (cell, column))) = header
+        .iter()
+        .zip(form.columns)
+        .enumerate()
+        .find(|(_, (cell, column))| cell != *column)
+    {
+        return Err(format!(
+            "line 1, column {}: the header must be `{expected}`, got `{}` for `{column}`",
+            index + 1,
+            show_text(cell)
         ));
     }
     let mut rows = Vec::new();
@@ -134,7 +151,10 @@ fn parse_rows(text: &str, form: &RowForm) -> Result<Vec<Vec<f64>>, String> {
             .zip(record.iter())
             .map(|(column, cell)| {
                 cell.parse::<f64>().map_err(|_| {
-                    format!("{position}, column `{column}`: expected a number, got `{cell}`")
+                    format!(
+                        "{position}, column `{column}`: expected a number, got `{}`",
+                        show_text(cell)
+                    )
                 })
             })
             .collect::<Result<Vec<f64>, String>>()?;
@@ -164,7 +184,14 @@ mod tests {
     #[test]
     fn wrong_files_name_the_line_and_column() {
         let error = |text: &str| parse_rows(text, form()).unwrap_err();
-        assert!(error("lo,high,value\n0,1,2\n").starts_with("line 1: the header must be"));
+        assert_eq!(
+            error("lo,high,value\n0,1,2\n"),
+            "line 1, column 1: the header must be `low,high,value`, got `lo` for `low`"
+        );
+        assert_eq!(
+            error("root:x:0:0:root:/root:/bin/bash\n"),
+            "line 1: the header must be `low,high,value`, got 1 column"
+        );
         let word = error("low,high,value\n0,1,2\n1,2,many\n");
         assert!(
             word.starts_with("row 2 (line 3), column `value`: expected a number, got `many`"),

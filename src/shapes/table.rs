@@ -11,7 +11,11 @@ use crate::message::show;
 /// A bin's mass is exact for any bins, also when they do not line up with the
 /// rows: the share of row r inside `[x0, x1)` is
 /// `values[r] × overlap / (edges[r + 1] − edges[r])` (elementary), and the
-/// fractions are these masses over their sum on the range. No parameters.
+/// fractions are these masses over their sum on the range. The values are
+/// kept divided by the largest of them, so a table of any scale, subnormal
+/// numbers or numbers near the largest `f64`, gives the fractions of the
+/// same table at scale 1 (a sum of masses at most 1 per row never
+/// overflows, and its reciprocal never does either). No parameters.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Table {
     edges: Vec<f64>,
@@ -125,7 +129,8 @@ pub fn from_rows(rows: &[Vec<f64>]) -> FromRows {
 
 impl Table {
     /// A table of `values.len()` rows between increasing finite `edges`, each
-    /// value finite and non-negative; the error names the first wrong entry.
+    /// value finite and non-negative, kept divided by the largest value; the
+    /// error names the first wrong entry.
     pub fn new(edges: Vec<f64>, values: Vec<f64>) -> Result<Table, ShapeError> {
         let wrong = |field: String, message: String| ShapeError::Value { field, message };
         if edges.len() < 2 {
@@ -172,10 +177,18 @@ impl Table {
                 ));
             }
         }
+        let largest = values.iter().copied().fold(0.0, f64::max);
+        let values = if largest > 0.0 {
+            values.iter().map(|value| value / largest).collect()
+        } else {
+            values
+        };
         Ok(Table { edges, values })
     }
 
-    /// The rows must cover the observable's `range`, and hold some content inside it.
+    /// The rows must cover the observable's `range`, and hold some content
+    /// inside it: content that, beside the table's largest value, is not lost
+    /// below the smallest `f64`.
     fn check_range(&self, range: [f64; 2]) -> Result<(), ShapeError> {
         let (first, last) = (self.edges[0], self.edges[self.edges.len() - 1]);
         if first > range[0] || last < range[1] {
@@ -192,17 +205,14 @@ impl Table {
         }
         let mut mass = [0.0];
         self.fill_masses(&[range[0], range[1]], &mut mass);
-        let problem = if mass[0] == 0.0 {
-            "holds nothing inside the range: every value there is 0"
-        } else if !mass[0].is_finite() {
-            "adds up to more than the largest number inside the range; scale the values down"
-        } else {
+        if mass[0] > 0.0 {
             return Ok(());
-        };
+        }
         Err(ShapeError::Value {
             field: "table.values".into(),
             message: format!(
-                "the table {problem} (range [{}, {}])",
+                "the table holds nothing inside the range [{}, {}]: every value there is 0, \
+                 or too small beside the table's largest value to add up to more than 0",
                 show(range[0]),
                 show(range[1])
             ),
@@ -318,6 +328,25 @@ mod tests {
         assert_eq!(shape.density(&[], 1.0, 7.0, 8.0), 0.0);
     }
 
+    /// Dividing by the largest value first: the fractions of a table of
+    /// subnormal contents, or of contents near the largest `f64`, are those
+    /// of the table at scale 1 to the last bit (each scale a power of two
+    /// times the first, so the divisions are exact).
+    #[test]
+    fn the_scale_of_a_table_changes_no_fraction() {
+        let edges = [0.0, 1.0, 2.0, 4.0];
+        let bins = [0.0, 0.5, 1.5, 3.0, 4.0];
+        let fractions = |values: &[f64]| {
+            let mut fractions = [0.0; 4];
+            table(&edges, values).bin_fractions(&[], &bins, &mut fractions);
+            fractions
+        };
+        let one = fractions(&[1.0, 2.0, 4.0]);
+        assert_normalised(&one);
+        assert_eq!(fractions(&[1e-320, 2e-320, 4e-320]), one);
+        assert_eq!(fractions(&[4e307, 8e307, 1.6e308]), one);
+    }
+
     fn rejected(edges: &[f64], values: &[f64], range: [f64; 2], floated: bool) -> ShapeError {
         let values = [
             ParameterValue::List(edges.to_vec()),
@@ -350,6 +379,8 @@ mod tests {
         assert_eq!(field(&[0.5, 1.0, 2.0], &[1.0, 1.0]), "table.edges");
         assert_eq!(field(&[0.0, 1.0, 1.5], &[1.0, 1.0]), "table.edges");
         assert_eq!(field(&[0.0, 2.0, 3.0], &[0.0, 5.0]), "table.values");
+        // Content inside the range lost beside the largest value outside it.
+        assert_eq!(field(&[0.0, 2.0, 3.0], &[1e-320, 1e300]), "table.values");
         let floated = rejected(&[0.0, 2.0], &[1.0], range, true);
         assert!(matches!(floated, ShapeError::CannotFloat { .. }), "{floated:?}");
     }

@@ -1,6 +1,7 @@
 //! The bytes of a shard file: fields, point sections, and the checksum.
 
 use crate::ensemble::EnsembleOutcome;
+use crate::input_file::open_regular;
 use crate::projection::ensembles::{CalibrationCount, LookElsewhereCount, PointToys};
 use sha2::{Digest, Sha256};
 use std::fs::File;
@@ -159,7 +160,7 @@ pub(super) struct Decoder {
 impl Decoder {
     /// Reads the file at `path` from byte `start` up to byte `end`.
     pub(super) fn open(path: &Path, start: u64, end: u64) -> io::Result<Decoder> {
-        let mut file = File::open(path)?;
+        let mut file = open_regular(path)?;
         file.seek(SeekFrom::Start(start))?;
         Ok(Decoder {
             input: BufReader::new(file).take(end - start),

@@ -1,6 +1,6 @@
 //! Why a shard could not be written, or shards not merged.
 
-use super::{MAGIC_PREFIX, SHARD_EXTENSION, ShardSpec};
+use super::{BUILD, MAGIC_PREFIX, SHARD_EXTENSION, ShardSpec, VERSION};
 use crate::projection::ProjectionError;
 use crate::scenario::ScenarioError;
 use std::fmt;
@@ -20,6 +20,20 @@ pub enum ShardError {
     Corrupted { path: PathBuf },
     /// The checksum matches but the content does not make sense.
     Malformed { path: PathBuf, what: String },
+    /// A shard written by another build of runcast (or claiming to be).
+    OtherBuild {
+        path: PathBuf,
+        version: String,
+        build: String,
+    },
+    /// A setting or a point's field holding what no run of this runcast
+    /// writes: a count beyond its total, a value outside its domain.
+    Impossible {
+        path: PathBuf,
+        /// The setting, or the point and the field.
+        place: String,
+        problem: String,
+    },
     /// No shard files in the directory.
     NoShards { directory: PathBuf },
     /// A shard of another run.
@@ -34,10 +48,11 @@ pub enum ShardError {
         other: PathBuf,
         shard: ShardSpec,
     },
-    /// Shards missing from the set.
+    /// Shards missing from the set: the first few of them, and how many.
     Missing {
         directory: PathBuf,
-        missing: Vec<usize>,
+        first_missing: Vec<usize>,
+        missing: usize,
         count: usize,
     },
     /// The scenario stored in the shards is not valid for this runcast.
@@ -73,6 +88,26 @@ impl fmt::Display for ShardError {
                 path.display()
             ),
             ShardError::Malformed { path, what } => write!(f, "{}: {what}", path.display()),
+            ShardError::OtherBuild {
+                path,
+                version,
+                build,
+            } => write!(
+                f,
+                "{}: a shard of runcast {version} (build {build}), but this is runcast \
+                 {VERSION} (build {BUILD}); run the shards and the merge with one build",
+                path.display()
+            ),
+            ShardError::Impossible {
+                path,
+                place,
+                problem,
+            } => write!(
+                f,
+                "{}: {place}: {problem}; runcast never writes that, so the file was changed \
+                 or made elsewhere: rerun this shard",
+                path.display()
+            ),
             ShardError::NoShards { directory } => write!(
                 f,
                 "{}: no shard files (*.{SHARD_EXTENSION}) to merge",
@@ -96,15 +131,22 @@ impl fmt::Display for ShardError {
             ),
             ShardError::Missing {
                 directory,
+                first_missing,
                 missing,
                 count,
             } => {
-                let list: Vec<String> = missing.iter().map(|k| format!("{k}/{count}")).collect();
+                let mut list: Vec<String> = first_missing
+                    .iter()
+                    .map(|k| format!("{k}/{count}"))
+                    .collect();
+                if *missing > first_missing.len() {
+                    list.push(format!("and {} more", missing - first_missing.len()));
+                }
                 write!(
                     f,
                     "{}: missing shard{} {}; run them with --shard K/{count}",
                     directory.display(),
-                    if missing.len() == 1 { "" } else { "s" },
+                    if *missing == 1 { "" } else { "s" },
                     list.join(", ")
                 )
             }

@@ -1,22 +1,27 @@
 //! Merging: every shard of one run checked, then read point by point.
 
+use super::check::{check_point, check_settings, point_name};
 use super::encoding::{Decoder, HashingWriter, decode_point};
 use super::{
     CHECKSUM_BYTES, MAGIC, MAGIC_PREFIX, SHARD_EXTENSION, ShardError, ShardRun, ShardSpec,
 };
-use crate::ensemble::EnsembleOutcome;
+use crate::input_file::open_regular;
 use crate::likelihood::Likelihood;
 use crate::model::Model;
 use crate::projection::Projection;
 use crate::projection::ensembles::{PointRequest, PointToys, ToySource};
 use crate::scenario::Scenario;
 use sha2::Digest;
-use std::fs::File;
 use std::io::{self, BufReader, Read, Write};
 use std::path::{Path, PathBuf};
 
+/// The first missing shards named in an error; the rest are counted.
+const MISSING_NAMED: usize = 10;
+
 /// Merges the shards in `directory`: checks that they are all N shards of
-/// one run, unchanged, then runs the projection with their pseudo-experiments.
+/// one run, unchanged, written by this build, with settings that agree with
+/// their scenario and each point's counts and values possible
+/// (`check.rs`), then runs the projection with their pseudo-experiments.
 /// Returns the run (scenario, settings) and the projection.
 pub fn merge_shards(directory: &Path) -> Result<(ShardRun, Projection), ShardError> {
     let mut shards = open_shards(directory)?;
@@ -29,16 +34,26 @@ pub fn merge_shards(directory: &Path) -> Result<(ShardRun, Projection), ShardErr
                 source,
             }
         })?;
+    let count = first.shard.count;
+    let largest = ShardSpec {
+        index: count,
+        count,
+    };
+    check_settings(&run.settings, &scenario, largest)
+        .map_err(|impossible| impossible.in_file(&first.path))?;
     let model = Model::from_scenario(&scenario);
     run.settings.scan = scenario.signal_scan();
     run.settings.day_spacing = scenario.plan.days.axis_spacing();
     run.settings.detector_mass_kg = scenario.detector_mass_kg();
-    let projection = crate::projection::project_from(
-        &model,
-        &run.settings,
-        &mut MergeSource(&mut shards),
-        &|_| {},
-    )?;
+    let mut source = MergeSource {
+        shards: &mut shards,
+        max_upcrossings: run
+            .settings
+            .scan
+            .as_ref()
+            .map_or(0, |scan| scan.positions().len() as u64 / 2),
+    };
+    let projection = crate::projection::project_from(&model, &run.settings, &mut source, &|_| {})?;
     for shard in &shards {
         shard.expect_end()?;
     }
@@ -68,6 +83,13 @@ fn open_shards(directory: &Path) -> Result<Vec<ShardReader>, ShardError> {
             directory: directory.to_path_buf(),
         });
     };
+    if let Some(other) = shards.iter().find(|shard| !shard.run.of_this_build()) {
+        return Err(ShardError::OtherBuild {
+            path: other.path.clone(),
+            version: other.run.version.clone(),
+            build: other.run.build.clone(),
+        });
+    }
     for shard in &shards[1..] {
         let difference = first.run.difference(&shard.run).or_else(|| {
             (shard.shard.count != first.shard.count)
@@ -93,10 +115,23 @@ fn open_shards(directory: &Path) -> Result<Vec<ShardReader>, ShardError> {
     }
     let count = shards[0].shard.count;
     if shards.len() != count {
-        let present: Vec<usize> = shards.iter().map(|shard| shard.shard.index).collect();
+        // Sorted and distinct: the K not among them, in order, stopping
+        // after a few (N may be huge).
+        let mut present = shards.iter().map(|shard| shard.shard.index).peekable();
+        let first_missing = (1..=count)
+            .filter(|&k| {
+                let found = present.peek() == Some(&k);
+                if found {
+                    present.next();
+                }
+                !found
+            })
+            .take(MISSING_NAMED)
+            .collect();
         return Err(ShardError::Missing {
             directory: directory.to_path_buf(),
-            missing: (1..=count).filter(|k| !present.contains(k)).collect(),
+            first_missing,
+            missing: count - shards.len(),
             count,
         });
     }
@@ -104,15 +139,26 @@ fn open_shards(directory: &Path) -> Result<Vec<ShardReader>, ShardError> {
 }
 
 /// The pseudo-experiments of all shards, read point by point in the order of K.
-struct MergeSource<'a>(&'a mut [ShardReader]);
+struct MergeSource<'a> {
+    shards: &'a mut [ShardReader],
+    /// The most upcrossings one look-elsewhere scan can count.
+    max_upcrossings: u64,
+}
 
 impl ToySource for MergeSource<'_> {
     type Error = ShardError;
 
     fn toys(&mut self, _: &Likelihood, request: &PointRequest) -> Result<PointToys, ShardError> {
         let mut merged = PointToys::default();
-        for shard in self.0.iter_mut() {
-            merged.append(shard.point(request)?);
+        for shard in self.shards.iter_mut() {
+            let toys = shard.point(request, self.max_upcrossings)?;
+            merged
+                .append(toys)
+                .map_err(|field| ShardError::Impossible {
+                    path: shard.path.clone(),
+                    place: format!("{}, {field}", point_name(request)),
+                    problem: "the shards' counts add up past 2^64".into(),
+                })?;
         }
         Ok(merged)
     }
@@ -167,8 +213,13 @@ impl ShardReader {
         })
     }
 
-    /// The next point's section, checked against what the point asks for.
-    fn point(&mut self, request: &PointRequest) -> Result<PointToys, ShardError> {
+    /// The next point's section, checked against what the point asks for
+    /// ([`check_point`]) before any of it is used.
+    fn point(
+        &mut self,
+        request: &PointRequest,
+        max_upcrossings: u64,
+    ) -> Result<PointToys, ShardError> {
         let mut input =
             Decoder::open(&self.path, self.offset, self.body_length).map_err(|source| {
                 ShardError::Io {
@@ -176,41 +227,15 @@ impl ShardReader {
                     source,
                 }
             })?;
-        let toys =
-            decode_point(&mut input).and_then(|toys| self.check(&toys, request).map(|()| toys));
+        let toys = decode_point(&mut input);
         self.offset = self.body_length - input.remaining();
-        toys.map_err(|what| ShardError::Malformed {
+        let toys = toys.map_err(|what| ShardError::Malformed {
             path: self.path.clone(),
-            what: format!("grid point {}: {what}", request.index + 1),
-        })
-    }
-
-    /// The ensembles present are those requested, each with this shard's number of toys.
-    fn check(&self, toys: &PointToys, request: &PointRequest) -> Result<(), String> {
-        let share = |total: usize| self.shard.toys(total).len();
-        let size = |outcome: &EnsembleOutcome| outcome.values.len() + outcome.failed_fits;
-        let expected = [
-            (request.discovery_toys > 0).then(|| share(request.discovery_toys)),
-            request.limits.map(|limits| share(limits.toys)),
-            request
-                .calibration
-                .map(|calibration| share(calibration.toys)),
-            request
-                .look_elsewhere
-                .map(|look_elsewhere| share(look_elsewhere.toys)),
-        ];
-        let found = [
-            toys.discovery.as_ref().map(size),
-            toys.limits.as_ref().map(size),
-            toys.calibration.map(|count| count.toys()),
-            toys.look_elsewhere.map(|count| count.toys()),
-        ];
-        if expected != found {
-            return Err(format!(
-                "holds ensembles of {found:?} pseudo-experiments where {expected:?} were expected"
-            ));
-        }
-        Ok(())
+            what: format!("{}: {what}", point_name(request)),
+        })?;
+        check_point(&toys, request, self.shard, max_upcrossings)
+            .map_err(|impossible| impossible.in_file(&self.path))?;
+        Ok(toys)
     }
 
     /// Checks that every section has been read.
@@ -251,7 +276,7 @@ fn verify_checksum(path: &Path) -> Result<u64, ShardError> {
         path: path.to_path_buf(),
         source,
     };
-    let mut file = File::open(path).map_err(io_error)?;
+    let mut file = open_regular(path).map_err(io_error)?;
     let length = file.metadata().map_err(io_error)?.len();
     let mut magic = [0u8; 16];
     if length < MAGIC.len() as u64 + CHECKSUM_BYTES || file.read_exact(&mut magic).is_err() {

@@ -6,7 +6,8 @@
 //! shards together are those of the unsharded run. A shard file holds what
 //! merging needs and nothing else:
 //!
-//! - a header: the runcast version, the scenario text and its SHA-256, each
+//! - a header: the runcast version and build identifier (a SHA-256 of the
+//!   sources, made by `build.rs`), the scenario text and its SHA-256, each
 //!   file of rows the scenario names (name, SHA-256, text), the
 //!   projection settings (seed, toys, limits, calibration, look-elsewhere
 //!   toys, grid, `--at` days), K and N;
@@ -21,11 +22,15 @@
 //!   squares, scans reaching the Asimov q0, failed), 40 bytes a point;
 //! - the SHA-256 of all the bytes before it.
 //!
-//! Merging reads the shards point by point, in the order of K, so that a
-//! point's values are those of the unsharded run in the same order; it holds
-//! one point's ensembles at a time, as the unsharded run does, and from there
-//! runs the same code ([`super::project_from`]).
+//! Merging believes nothing a shard says before checking it: the build
+//! against its own, the settings against the scenario and the input limits,
+//! and every point's counts and values against what this runcast can write
+//! (`check.rs`). It reads the shards point by point, in the order of K, so
+//! that a point's values are those of the unsharded run in the same order;
+//! it holds one point's ensembles at a time, as the unsharded run does, and
+//! from there runs the same code ([`super::project_from`]).
 
+mod check;
 mod encoding;
 mod error;
 mod merge;
@@ -46,13 +51,17 @@ use std::ops::Range;
 use std::str::FromStr;
 
 /// The first bytes of every shard file, with the format number.
-const MAGIC: &[u8; 16] = b"runcast-shard 4\n";
+const MAGIC: &[u8; 16] = b"runcast-shard 5\n";
 /// The first bytes of a shard file of any format, before its number.
 const MAGIC_PREFIX: &[u8] = b"runcast-shard ";
 /// The extension of shard files; `merge` reads every file of a directory with it.
 pub const SHARD_EXTENSION: &str = "runcast-shard";
 /// Bytes of the SHA-256 checksum at the end of a shard file.
 const CHECKSUM_BYTES: u64 = 32;
+/// This runcast's version and build identifier (`build.rs`), written into
+/// every shard; `merge` reads only shards that carry both.
+const VERSION: &str = env!("CARGO_PKG_VERSION");
+const BUILD: &str = env!("RUNCAST_BUILD_ID");
 
 /// Shard K of N (1 <= K <= N).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -106,6 +115,9 @@ impl FromStr for ShardSpec {
 pub struct ShardRun {
     /// The version of runcast that ran the shard.
     pub version: String,
+    /// The build of runcast that ran the shard (`build.rs`): shards of two
+    /// builds may hold different numbers under the same version.
+    pub build: String,
     /// The scenario's file name, for messages and the summary.
     pub scenario_name: String,
     /// The scenario file's text, from which merging rebuilds the model.
@@ -116,7 +128,7 @@ pub struct ShardRun {
 }
 
 impl ShardRun {
-    /// A run of this runcast version on the scenario `text` read from `name`,
+    /// A run of this runcast build on the scenario `text` read from `name`,
     /// whose shapes name the files of rows `table_files`.
     pub fn new(
         scenario_name: String,
@@ -125,7 +137,8 @@ impl ShardRun {
         settings: ProjectionSettings,
     ) -> Self {
         ShardRun {
-            version: env!("CARGO_PKG_VERSION").to_string(),
+            version: VERSION.to_string(),
+            build: BUILD.to_string(),
             scenario_name,
             scenario_text,
             table_files,
@@ -164,6 +177,7 @@ impl ShardRun {
     fn encode(&self, out: &mut Encoder) {
         let settings = &self.settings;
         out.text(&self.version);
+        out.text(&self.build);
         out.text(&self.scenario_name);
         out.bytes(&self.scenario_hash());
         out.text(&self.scenario_text);
@@ -187,6 +201,7 @@ impl ShardRun {
 
     fn decode(input: &mut Decoder) -> Result<ShardRun, String> {
         let version = input.text()?;
+        let build = input.text()?;
         let scenario_name = input.text()?;
         let hash = input.bytes()?;
         let scenario_text = input.text()?;
@@ -203,6 +218,7 @@ impl ShardRun {
         let look_elsewhere_toys = input.count()?;
         let run = ShardRun {
             version,
+            build,
             scenario_name,
             scenario_text,
             table_files,
@@ -248,24 +264,23 @@ impl ShardRun {
         )
     }
 
-    /// The first field in which `other` differs from this run, for messages.
+    /// Whether this run's shards were written by this build of runcast.
+    fn of_this_build(&self) -> bool {
+        self.version == VERSION && self.build == BUILD
+    }
+
+    /// The first field in which `other` differs from this run, for messages
+    /// (both of this build, see [`ShardRun::of_this_build`]).
     fn difference(&self, other: &ShardRun) -> Option<String> {
         let (a, b) = (&self.settings, &other.settings);
         let named = |what: &str, mine: String, theirs: String| {
             (mine != theirs).then(|| format!("{what} {theirs} instead of {mine}"))
         };
         named(
-            "runcast version",
-            self.version.clone(),
-            other.version.clone(),
+            "scenario (SHA-256)",
+            hex(&self.scenario_hash()),
+            hex(&other.scenario_hash()),
         )
-        .or_else(|| {
-            named(
-                "scenario (SHA-256)",
-                hex(&self.scenario_hash()),
-                hex(&other.scenario_hash()),
-            )
-        })
         .or_else(|| {
             named(
                 "scenario file name",
