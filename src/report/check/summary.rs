@@ -26,6 +26,9 @@ pub fn check_summary(
     for days in &projection.days_to_target {
         let answer = match (days.asimov_days, days.saturation_z) {
             (Some(days), _) => days_label(days),
+            (None, _) if days.signal_unseen() => {
+                "never: Z_A stays 0, the signal is too small to change any fit".to_string()
+            }
             (None, Some(limit)) if limit < days.target => {
                 format!(
                     "never: systematic uncertainties cap Z at {} sigma",
