@@ -139,15 +139,20 @@ fn channel_rates(
         .iter()
         .map(|b| in_window(&b.shape, b.events_per_day))
         .sum();
+    // No background in the window leaves no ratio to print (it would read inf).
+    let ratio = if background_in > 0.0 {
+        format!("S/B = {}", rounded(signal_in / background_in))
+    } else {
+        "no background within ±2 widths of the peak, so no S/B".to_string()
+    };
     let _ = writeln!(
         text,
-        "{indent}within [{}, {}] {}: S = {}, B = {} per live day, S/B = {}",
+        "{indent}within [{}, {}] {}: S = {}, B = {} per live day, {ratio}",
         rounded(low),
         rounded(high),
         observable.unit,
         rounded(signal_in),
         rounded(background_in),
-        rounded(signal_in / background_in)
     );
 }
 
