@@ -180,17 +180,25 @@ fn a_huge_counting_signal_gives_the_closed_form_days_and_limits() {
 
 #[test]
 fn a_huge_peak_on_a_fitted_continuum_is_solved_below_the_first_grid_day() {
-    // The narrow-peak demo with 10^5 signal events per day, 125 times its
-    // background: Z_A is about 500 at the first grid day, so the targets
-    // and the exclusion fall within its first thousandth. Each root is
-    // checked where it was found, with `--at` (a point computed at that day):
-    // Z_A there is the target, and the median limit on mu is 1.
-    let scratch = Scratch::new("huge-peak");
+    // The narrow-peak demo with 10^5 and 10^11 signal events per day, 125
+    // and 1.25e11 times its background: Z_A is at least 500 at the first
+    // grid day, so the targets and the exclusion fall within its first
+    // thousandth. Each root is checked where it was found, with `--at` (a
+    // point computed at that day): Z_A there is the target, and the median
+    // limit on mu is 1.
+    for rate in ["1.0e5", "1.0e11"] {
+        huge_peak_is_solved_below_the_first_grid_day(rate);
+    }
+}
+
+/// The checks of the test above for one signal rate.
+fn huge_peak_is_solved_below_the_first_grid_day(rate: &str) {
+    let scratch = Scratch::new(&format!("huge-peak-{rate}"));
     edited_demo(
         &scratch,
         "narrow_peak.yaml",
         "events_per_day: 2.4 ",
-        "events_per_day: 1.0e5 ",
+        &format!("events_per_day: {rate} "),
     );
     let (summary, json) = project(&scratch, "grid", &[]);
     let first_day = number(&json["points"][0]["days"]);
@@ -245,7 +253,10 @@ fn a_huge_peak_on_a_fitted_continuum_is_solved_below_the_first_grid_day() {
     // half that in Z_A.
     for &(target, days) in &targets {
         let z = number(&at_day(days)["z_asimov"]);
-        assert!(close(z, target, 1e-6), "Z_A {z} at the {target}σ day");
+        assert!(
+            close(z, target, 1e-6),
+            "{rate}: Z_A {z} at the {target}σ day"
+        );
     }
     let limit = number(&at_day(exclusion)["limit_asimov"]);
     assert!(
