@@ -330,3 +330,55 @@ fn a_vanishing_line_in_a_position_scan_is_never_seen() {
     }
     assert!(summary.contains("3σ       never"), "{summary}");
 }
+
+#[test]
+fn a_huge_line_has_the_reach_of_an_ordinary_one() {
+    // The likelihood depends on the signal only through mu times its rate,
+    // so the rates that `reach` reports (limits and discovery rates in
+    // events per day) are the same whatever rate the scenario names: the
+    // scan demo's 4 per day and 10^10 per day give them to the precision
+    // of the root finding (1e-7).
+    let reach_of = |rate: &str| {
+        let scratch = Scratch::new(&format!("reach-{rate}"));
+        edited_demo(
+            &scratch,
+            "unknown_line.yaml",
+            "events_per_day: 4.0 ",
+            &format!("events_per_day: {rate} "),
+        );
+        run_ok(
+            &scratch,
+            &[
+                "reach",
+                "edited.yaml",
+                "--days",
+                "100",
+                "--out",
+                "out",
+                "--quiet",
+            ],
+        );
+        let bytes = fs::read(scratch.path.join("out/reach.json")).unwrap();
+        serde_json::from_slice::<Value>(&bytes).unwrap()["exposures"][0]["positions"].clone()
+    };
+    let ordinary = reach_of("4.0");
+    let huge = reach_of("1.0e10");
+    let numbers = |position: &Value| -> Vec<f64> {
+        let mut values = vec![number(&position["limit_rate_asimov"])];
+        for key in [
+            "limit_rate_asimov_band",
+            "discovery_rate_local",
+            "discovery_rate_global",
+        ] {
+            values.extend(position[key].as_array().unwrap().iter().map(number));
+        }
+        values
+    };
+    let positions = ordinary.as_array().unwrap();
+    assert_eq!(positions.len(), huge.as_array().unwrap().len());
+    for (ordinary, huge) in positions.iter().zip(huge.as_array().unwrap()) {
+        for (a, b) in numbers(ordinary).into_iter().zip(numbers(huge)) {
+            assert!(close(b, a, 1e-6), "at {}: {b} vs {a}", ordinary["position"]);
+        }
+    }
+}

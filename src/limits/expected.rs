@@ -33,8 +33,9 @@ pub struct AsymptoticLimits {
 /// Each root is bracketed by doubling or halving from a guess, within 2^60
 /// times that guess either way. The median is searched from the nominal
 /// signal (mu = 1) or, when the signal is so large that its limit lies far
-/// below it, from its counting estimate (`median_search_start`), so a limit of
-/// 1e-20 is found as surely as one of 0.1; each band is searched from the
+/// below it, from its counting estimate 1.96 sqrt(b)/s (eq. 89 with sigma_A
+/// of one count, `Model::counting_sigma`), so a limit of 1e-20 is found as
+/// surely as one of 0.1; each band is searched from the
 /// median's sigma_A times its own level (eq. 89), close to its root. Starting
 /// near the root also keeps each conditional fit close to the last one,
 /// which it starts from: a band searched from mu = 1 after a median of 1e-4
@@ -63,7 +64,7 @@ pub fn asymptotic_limits(
         Ok(crossing.root().unwrap_or(f64::INFINITY))
     };
     let median_level = expected_limit_significance(alpha, 0.0);
-    let start = median_search_start(likelihood, live_days, median_level);
+    let start = (median_level * likelihood.model().counting_sigma(live_days)).min(1.0);
     let median = limit_at(0.0, start)?;
     let sigma = median / median_level;
     let mut band = [f64::INFINITY; 4];
@@ -80,23 +81,6 @@ pub fn asymptotic_limits(
         band,
         sigma,
     })
-}
-
-/// Where the search for the median limit starts: `level` sqrt(b)/s for the
-/// expected signal s and background b of the whole model (b at least one
-/// event), the median limit of one count with a known background in the
-/// Gaussian approximation (sigma_A = sqrt(b)/s; Cowan et al. 2011, eq. 89),
-/// but never above the nominal signal, mu = 1. Only a starting point: a peak
-/// on a broad background has a smaller sigma_A, systematic uncertainties
-/// give a larger one.
-fn median_search_start(likelihood: &Likelihood, live_days: f64, level: f64) -> f64 {
-    let (signal, background) = likelihood.model().nominal_events(live_days);
-    let estimate = level * background.max(1.0).sqrt() / signal;
-    if estimate > 0.0 {
-        estimate.min(1.0)
-    } else {
-        1.0
-    }
 }
 
 /// The Asimov dataset of the background-only hypothesis (mu = 0, nuisance
