@@ -42,19 +42,30 @@ impl<'l, 'm> AsimovSignificance<'l, 'm> {
     /// background, where c = (delta b / s)^2; common practice), so 1/Z_A^2 at two
     /// large exposures is extrapolated linearly in 1/T to 1/T = 0. A
     /// statistics-limited Z_A (c = 0) grows as sqrt(T) and gives no limit.
+    ///
+    /// The extrapolation is written in the ratio r = Z_near/Z_far, as
+    /// Z_near sqrt((T_far - T_near) / (T_far r^2 - T_near)), so that it holds
+    /// for a Z_A of any size (1/Z_A^2 itself overflows for a tiny signal). A
+    /// Z_A still 0 at the larger exposure (the signal moves no fit at all)
+    /// tends to 0: the signal cannot be seen.
     pub fn limit(&mut self, reference_live_days: f64) -> Result<Option<f64>, FitFailure> {
         let near = reference_live_days * 1e3;
         let far = reference_live_days * 1e5;
         let z_near = self.at_live_days(near)?;
         let z_far = self.at_live_days(far)?;
-        let inverse_near = 1.0 / (z_near * z_near);
-        let inverse_far = 1.0 / (z_far * z_far);
-        let intercept = (far * inverse_far - near * inverse_near) / (far - near);
+        if z_far == 0.0 {
+            return Ok(Some(0.0));
+        }
         // A growth of Z_A over 100x more exposure close to sqrt(100) = 10 means no saturation.
-        if z_far > 5.0 * z_near || intercept <= 0.0 {
+        if z_far > 5.0 * z_near {
             return Ok(None);
         }
-        Ok(Some(intercept.sqrt().recip()))
+        let ratio = z_near / z_far;
+        let denominator = far * ratio * ratio - near;
+        if denominator <= 0.0 {
+            return Ok(None);
+        }
+        Ok(Some(z_near * ((far - near) / denominator).sqrt()))
     }
 }
 

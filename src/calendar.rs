@@ -1,5 +1,6 @@
 //! Calendar dates: ISO 8601 dates (`2027-03-01`) read from a scenario and the
-//! date on which a number of calendar days since the start has passed.
+//! date on which a number of calendar days since the start has passed, or
+//! that it lies past the calendar's last date.
 //!
 //! Date arithmetic (month lengths, leap years) is the `time` crate's.
 
@@ -39,21 +40,44 @@ impl CalendarDate {
 
     /// The date by which `days` calendar days have passed since the start of
     /// this date: this date plus ceil(days) days, so day 0 is this date and
-    /// day 57.3 is reached by the start of the 58th day after it. `None` for
-    /// a negative, non-finite or out-of-calendar number of days.
-    pub fn after(self, days: f64) -> Option<CalendarDate> {
-        if !(0.0..1e7).contains(&days) {
+    /// day 57.3 is reached by the start of the 58th day after it; past
+    /// 9999-12-31, the last date with a four-digit year (ISO 8601), it is
+    /// [`DayDate::AfterLast`]. `None` for a negative or NaN number of days.
+    pub fn after(self, days: f64) -> Option<DayDate> {
+        if days.is_nan() || days < 0.0 {
             return None;
         }
-        self.0
-            .checked_add(time::Duration::days(days.ceil() as i64))
-            .map(CalendarDate)
+        // 10^7 days (27 379 years) take any date past the last one.
+        let date = (days < 1e7)
+            .then(|| self.0.checked_add(time::Duration::days(days.ceil() as i64)))
+            .flatten();
+        Some(date.map_or(DayDate::AfterLast, |date| DayDate::On(CalendarDate(date))))
     }
 }
 
 impl fmt::Display for CalendarDate {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         write!(f, "{}", self.0)
+    }
+}
+
+/// The date by which some days have passed since a start date
+/// ([`CalendarDate::after`]).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum DayDate {
+    /// A date of the calendar.
+    On(CalendarDate),
+    /// Past the last date of the calendar, 9999-12-31.
+    AfterLast,
+}
+
+impl fmt::Display for DayDate {
+    /// The ISO 8601 date, or `after 9999-12-31`.
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            DayDate::On(date) => write!(f, "{date}"),
+            DayDate::AfterLast => write!(f, "after {}", CalendarDate(Date::MAX)),
+        }
     }
 }
 
@@ -151,22 +175,37 @@ mod tests {
     }
 
     #[test]
+    fn days_past_the_last_date_are_after_it() {
+        // 9999-12-31 is the last date with a four-digit year (ISO 8601).
+        let start = date("9999-06-01");
+        assert_eq!(start.after(213.0), Some(DayDate::On(date("9999-12-31"))));
+        assert_eq!(start.after(213.2), Some(DayDate::AfterLast));
+        assert_eq!(start.after(1e300), Some(DayDate::AfterLast));
+        assert_eq!(start.after(f64::INFINITY), Some(DayDate::AfterLast));
+        assert_eq!(DayDate::AfterLast.to_string(), "after 9999-12-31");
+    }
+
+    #[test]
     fn leap_day_exists_in_2028_only() {
         // Gregorian calendar (ISO 8601): 2028 is divisible by 4 and not by
         // 100, so it has 29 February; 2027 does not.
         assert_eq!(date("2028-02-29").to_string(), "2028-02-29");
         assert_eq!(date("2028-03-01").days_since(date("2028-02-28")), 2);
         assert_eq!(date("2027-03-01").days_since(date("2027-02-28")), 1);
-        assert_eq!(date("2028-02-28").after(1.0), Some(date("2028-02-29")));
+        assert_eq!(
+            date("2028-02-28").after(1.0),
+            Some(DayDate::On(date("2028-02-29")))
+        );
     }
 
     #[test]
     fn after_counts_whole_days_rounded_up() {
         // March has 31 days: 58 days after 1 March is 28 April.
         let start = date("2027-03-01");
-        assert_eq!(start.after(58.0), Some(date("2027-04-28")));
-        assert_eq!(start.after(57.3), Some(date("2027-04-28")));
-        assert_eq!(start.after(0.0), Some(start));
+        let on = |text| Some(DayDate::On(date(text)));
+        assert_eq!(start.after(58.0), on("2027-04-28"));
+        assert_eq!(start.after(57.3), on("2027-04-28"));
+        assert_eq!(start.after(0.0), Some(DayDate::On(start)));
         assert_eq!(start.after(-1.0), None);
         assert_eq!(start.after(f64::NAN), None);
     }

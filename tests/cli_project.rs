@@ -734,6 +734,76 @@ fn check_reports_signal_within_two_widths_of_the_peak() {
     }
 }
 
+/// A peak at 42 MeV whose only background is a Gaussian bump at 100 MeV
+/// (invented numbers).
+const PEAK_AWAY_FROM_ITS_BACKGROUND: &str = "\
+title: Peak away from its background (invented numbers)
+observable: {name: mass, unit: MeV, range: [10.0, 110.0], bin_width: 0.5}
+signal: {events_per_day: 2.4, shape: {gaussian: {mean: 42.0, sigma: 0.6}}}
+backgrounds:
+  - {name: far bump, events_per_day: 800, shape: {gaussian: {mean: 100.0, sigma: 1.0}}}
+plan:
+  days: {first: 1, last: 365, points: 8, spacing: log}
+  toys: 100
+  seed: 1
+  targets: [3, 5]
+";
+
+#[test]
+fn check_says_when_no_background_lies_near_the_peak() {
+    // The bump puts a fraction of about Phi(-55) = 1e-660 of itself within
+    // ±2 widths of the peak (55 of its own widths below its centre), which
+    // is 0 in double precision: there is no S/B to print (once "S/B = inf").
+    let scratch = Scratch::new("check-no-background");
+    let scenario = scratch.write("far.yaml", PEAK_AWAY_FROM_ITS_BACKGROUND);
+    let stdout = scratch.run_ok(&["check", &scenario]);
+    assert!(
+        stdout.contains(
+            "within [40.8, 43.2] MeV: S = 2.29, B = 0 per live day, \
+             no background within ±2 widths of the peak, so no S/B\n"
+        ),
+        "{stdout}"
+    );
+    assert!(!stdout.contains("inf"), "{stdout}");
+}
+
+/// The counting-window demo starting on 9999-06-01, 213 days before the
+/// last date of the calendar, 9999-12-31 (ISO 8601 has four-digit years):
+/// the grid's later days are dated "after 9999-12-31" in the summary, the
+/// CSV and the JSON, not left without a date.
+#[test]
+fn days_past_the_last_calendar_date_say_so() {
+    let scratch = Scratch::new("late-start");
+    let demo = String::from_utf8(scratch.read(&scratch.copy_demo("counting_window.yaml"))).unwrap();
+    let late = demo.replacen(
+        "  live_fraction: 0.9\n",
+        "  live_fraction: 0.9\n  start: 9999-06-01\n",
+        1,
+    );
+    assert_ne!(late, demo);
+    let scenario = scratch.write("late.yaml", &late);
+    let summary = scratch.run_ok(&[
+        "project",
+        &scenario,
+        "--out",
+        "out",
+        "--asimov-only",
+        "--quiet",
+    ]);
+    // Grid days 5 and 2000: 1 June + 5 days is 6 June; 2000 days is past the calendar.
+    assert!(
+        summary.contains("grid 5 d (9999-06-06) to 2000 d (after 9999-12-31)"),
+        "{summary}"
+    );
+    let csv = String::from_utf8(scratch.read("out/projection.csv")).unwrap();
+    let last_row = csv.lines().last().unwrap();
+    assert!(last_row.starts_with("2000,after 9999-12-31,"), "{last_row}");
+    let json = scratch.json("out");
+    let last = points(&json).last().unwrap();
+    assert_eq!(last["date"], "after 9999-12-31");
+    assert_eq!(points(&json)[0]["date"], "9999-06-06");
+}
+
 #[test]
 fn new_writes_a_template_that_check_accepts_and_never_overwrites() {
     let scratch = Scratch::new("new");

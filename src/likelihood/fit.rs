@@ -9,7 +9,8 @@
 //! the Armijo condition holds for the projected point (Bertsekas, SIAM J.
 //! Control Optim. 20 (1982) 221; Nocedal and Wright, Numerical Optimization,
 //! 2nd ed., Springer 2006, ch. 3, 10 and 16.7). Convergence is declared when the Newton
-//! decrement -g.d, the expected drop of -ln L, falls below 1e-10.
+//! decrement -g.d, the expected drop of -ln L, falls below 1e-10, or below
+//! the rounding of -ln L itself where that is larger (a huge signal).
 
 use super::linear::solve_positive_definite;
 use super::{Dataset, Likelihood, Workspace};
@@ -21,6 +22,15 @@ const MAX_HALVINGS: usize = 40;
 const CONVERGED_DECREMENT: f64 = 1e-10;
 /// Below this decrement a step that cannot lower -ln L is rounding, not failure.
 const ROUNDING_DECREMENT: f64 = 1e-6;
+/// The same two thresholds relative to |-ln L|, for fits whose -ln L is so
+/// large that its rounding exceeds them: every term of the deviance form is
+/// non-negative and computed to a few units in the last place, so -ln L is
+/// known to a few times 1e-16 of itself. With 10^13 events in a bin a
+/// background-only fit of a huge peak has -ln L near 10^13 and a rounding of
+/// about 10^-3, which no step of 1e-6 can beat. Below |-ln L| = 10^5 (for
+/// convergence) and 10^6 (for rounding) the absolute thresholds rule.
+const RELATIVE_CONVERGED_DECREMENT: f64 = 1e-15;
+const RELATIVE_ROUNDING_DECREMENT: f64 = 1e-12;
 const ARMIJO: f64 = 1e-4;
 /// First damping (relative to the largest diagonal of H) tried when H is not
 /// positive definite, and after a step that no backtracking could accept.
@@ -209,7 +219,10 @@ impl<'l, 'm> Fitter<'l, 'm> {
                 return Ok(nll);
             }
             let decrement = self.newton_step(damping_floor)?;
-            if decrement < CONVERGED_DECREMENT && damping_floor == 0.0 {
+            let magnitude = nll.abs();
+            if decrement < CONVERGED_DECREMENT.max(RELATIVE_CONVERGED_DECREMENT * magnitude)
+                && damping_floor == 0.0
+            {
                 return Ok(nll);
             }
             match self.line_search(live_days, data, nll) {
@@ -218,7 +231,12 @@ impl<'l, 'm> Fitter<'l, 'm> {
                     nll = trial_nll;
                     damping_floor = 0.0;
                 }
-                None if decrement < ROUNDING_DECREMENT && damping_floor == 0.0 => return Ok(nll),
+                None if decrement
+                    < ROUNDING_DECREMENT.max(RELATIVE_ROUNDING_DECREMENT * magnitude)
+                    && damping_floor == 0.0 =>
+                {
+                    return Ok(nll);
+                }
                 None => {
                     damping_floor = next_damping(damping_floor, FAILED_STEP_DAMPING);
                     if damping_floor > MAX_DAMPING {

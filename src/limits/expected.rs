@@ -7,7 +7,7 @@ use super::{
 use crate::ensemble::{EnsembleOutcome, EnsemblePlan, Family, Generator, run_ensemble};
 use crate::likelihood::{Dataset, FitFailure, Likelihood, UpperLimitTest};
 use crate::model::{Constraint, Model, SIGNAL_STRENGTH};
-use crate::numeric::{Crossing, solve_increasing};
+use crate::numeric::solve_increasing;
 
 /// The bands of expected limits, in the order of every `*_band` field.
 pub const BAND_SIGMAS: [f64; 4] = [-2.0, -1.0, 1.0, 2.0];
@@ -15,9 +15,10 @@ pub const BAND_SIGMAS: [f64; 4] = [-2.0, -1.0, 1.0, 2.0];
 /// Asymptotic expected CLs limits on mu at one exposure.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct AsymptoticLimits {
-    /// Median expected upper limit on mu; infinite when no mu is excluded.
+    /// Median expected upper limit on mu; infinite when there is none (see
+    /// [`asymptotic_limits`]).
     pub median: f64,
-    /// Expected limits at -2, -1, +1, +2 sigma; infinite where unbounded.
+    /// Expected limits at -2, -1, +1, +2 sigma; infinite where there is none.
     pub band: [f64; 4],
     /// sigma_A = mu / sqrt(q~_mu,A) at the median limit (Cowan et al. 2011, eq. 31).
     pub sigma: f64,
@@ -28,6 +29,25 @@ pub struct AsymptoticLimits {
 /// mu_up(N) = sigma_A (Phi^-1(1 - alpha Phi(N)) + N) with sigma_A evaluated at
 /// that mu (Cowan, Cranmer, Gross, Vitells, Eur. Phys. J. C 71 (2011) 1554,
 /// eqs. 29-31 and 88-89).
+///
+/// Each root is bracketed by doubling or halving from a guess, within 2^60
+/// times that guess either way. The median is searched from the nominal
+/// signal (mu = 1) or, when the signal is so large that its limit lies far
+/// below it, from its counting estimate 1.96 sqrt(b)/s (eq. 89 with sigma_A
+/// of one count, `Model::counting_sigma`), so a limit of 1e-20 is found as
+/// surely as one of 0.1; each band is searched from the
+/// median's sigma_A times its own level (eq. 89), close to its root. Starting
+/// near the root also keeps each conditional fit close to the last one,
+/// which it starts from: a band searched from mu = 1 after a median of 1e-4
+/// can leave the fit of a huge signal in a spurious minimum at a parameter
+/// bound, where q~_mu no longer falls to 0 at mu = 0.
+///
+/// A limit is infinite (reported as absent) when q~_mu stays below its level
+/// up to 2^60 times the guess (no mu is excluded: a signal at most 2^-60 of
+/// what the limit would need has no limit worth reporting), and also when no
+/// crossing can be bracketed (q~_mu stays above the level down to 2^-60
+/// times the guess, or jumps across it): the fits converge there, but give
+/// no limit to report.
 pub fn asymptotic_limits(
     likelihood: &Likelihood,
     live_days: f64,
@@ -36,30 +56,30 @@ pub fn asymptotic_limits(
     let data = background_only_asimov(likelihood, live_days);
     let mut test = UpperLimitTest::new(likelihood);
     test.fit_free(live_days, &data)?;
-    let mut limit_at = |n_sigma: f64| -> Result<f64, FitFailure> {
+    let mut limit_at = |n_sigma: f64, guess: f64| -> Result<f64, FitFailure> {
         let level = expected_limit_significance(alpha, n_sigma);
-        let crossing = solve_increasing(1.0, level, |mu| {
+        let crossing = solve_increasing(guess, level, |mu| {
             Ok(test.q_tilde(live_days, &data, mu)?.sqrt())
         })?;
-        match crossing {
-            Crossing::At(mu) => Ok(mu),
-            // No signal strength is excluded: an unbounded limit, reported
-            // as absent by the projection.
-            Crossing::OutOfReach => Ok(f64::INFINITY),
-            Crossing::AtOrigin | Crossing::NoRoot => Err(FitFailure::NoCrossing),
-        }
+        Ok(crossing.root().unwrap_or(f64::INFINITY))
     };
-    let median = limit_at(0.0)?;
-    let band = [
-        limit_at(BAND_SIGMAS[0])?,
-        limit_at(BAND_SIGMAS[1])?,
-        limit_at(BAND_SIGMAS[2])?,
-        limit_at(BAND_SIGMAS[3])?,
-    ];
+    let median_level = expected_limit_significance(alpha, 0.0);
+    let start = (median_level * likelihood.model().counting_sigma(live_days)).min(1.0);
+    let median = limit_at(0.0, start)?;
+    let sigma = median / median_level;
+    let mut band = [f64::INFINITY; 4];
+    for (limit, n_sigma) in band.iter_mut().zip(BAND_SIGMAS) {
+        let guess = if sigma.is_finite() {
+            sigma * expected_limit_significance(alpha, n_sigma)
+        } else {
+            start
+        };
+        *limit = limit_at(n_sigma, guess)?;
+    }
     Ok(AsymptoticLimits {
         median,
         band,
-        sigma: median / expected_limit_significance(alpha, 0.0),
+        sigma,
     })
 }
 

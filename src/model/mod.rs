@@ -222,6 +222,19 @@ impl Model {
         self.nominal_split(|component| component.events(live_days))
     }
 
+    /// sqrt(b)/s for the expected signal s and background b after
+    /// `live_days` (b at least one event): the standard deviation of the
+    /// fitted signal strength for one count of all the model's events with a
+    /// known background, in the Gaussian approximation (common practice);
+    /// infinite when no signal is expected. Searches for a signal strength
+    /// start from it, since a peak on a broad background or systematic
+    /// uncertainties change it by a modest factor only, while a huge or tiny
+    /// signal changes it by many decades.
+    pub fn counting_sigma(&self, live_days: f64) -> f64 {
+        let (signal, background) = self.nominal_events(live_days);
+        background.max(1.0).sqrt() / signal
+    }
+
     /// The sums over signal and over background components of `events`, each
     /// times the component's nominal yield factors.
     fn nominal_split(&self, events: impl Fn(&Component) -> f64) -> (f64, f64) {

@@ -395,7 +395,9 @@ pub struct DaysToTarget {
     /// Where 90% of the pseudo-experiments reach the target.
     pub p90_days: Option<f64>,
     /// The Asimov significance as days grow without bound, when systematic
-    /// uncertainties make it saturate; None when it grows without bound.
+    /// uncertainties make it saturate; None when it grows without bound; 0
+    /// when Z_A is still 0 at 10^5 times the grid's live time (the signal is
+    /// too small to change any fit).
     pub saturation_z: Option<f64>,
     /// With a scan: the days to the target in global significance.
     #[serde(flatten)]
@@ -419,6 +421,12 @@ impl DaysToTarget {
     /// True when systematic uncertainties keep Z_A below the target at any exposure.
     pub fn never_reached(&self) -> bool {
         self.saturation_z.is_some_and(|limit| limit < self.target)
+    }
+
+    /// True when Z_A stays 0 however long the run: the signal is too small to
+    /// change any fit.
+    pub fn signal_unseen(&self) -> bool {
+        self.saturation_z == Some(0.0)
     }
 }
 

@@ -299,8 +299,12 @@ impl PositionRunner<'_, '_> {
         test: &mut DiscoveryTest,
         z: f64,
     ) -> Result<Option<f64>, FitFailure> {
-        let mut theta = self.likelihood.model().nominal_parameters();
-        let crossing = solve_increasing(1.0, z, |mu| {
+        let model = self.likelihood.model();
+        let mut theta = model.nominal_parameters();
+        // From z sqrt(b)/s where that is below the nominal signal: the fits of
+        // a huge signal at mu = 1, far from the answer, need not converge.
+        let guess = (z * model.counting_sigma(self.live_days)).min(1.0);
+        let crossing = solve_increasing(guess, z, |mu| {
             theta[SIGNAL_STRENGTH] = mu;
             let data =
                 self.likelihood

@@ -27,6 +27,9 @@ pub fn check_summary(
     for days in &projection.days_to_target {
         let answer = match (days.asimov_days, days.saturation_z) {
             (Some(days), _) => days_label(days),
+            (None, _) if days.signal_unseen() => {
+                "never: Z_A stays 0, the signal is too small to change any fit".to_string()
+            }
             (None, Some(limit)) if limit < days.target => {
                 format!(
                     "never: systematic uncertainties cap Z at {} sigma",
@@ -137,15 +140,20 @@ fn channel_rates(
         .iter()
         .map(|b| in_window(&b.shape, b.events_per_day))
         .sum();
+    // No background in the window leaves no ratio to print (it would read inf).
+    let ratio = if background_in > 0.0 {
+        format!("S/B = {}", rounded(signal_in / background_in))
+    } else {
+        "no background within ±2 widths of the peak, so no S/B".to_string()
+    };
     let _ = writeln!(
         text,
-        "{indent}within [{}, {}] {}: S = {}, B = {} per live day, S/B = {}",
+        "{indent}within [{}, {}] {}: S = {}, B = {} per live day, {ratio}",
         rounded(low),
         rounded(high),
         observable.unit,
         rounded(signal_in),
         rounded(background_in),
-        rounded(signal_in / background_in)
     );
 }
 

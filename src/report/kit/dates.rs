@@ -3,7 +3,9 @@
 //!
 //! The date of calendar day T is the start date plus ceil(T) days
 //! ([`CalendarDate::after`]), the day by which T days have passed, matching
-//! the whole days of [`days_label`].
+//! the whole days of [`days_label`]; a day past the calendar's last date
+//! reads "after 9999-12-31" in all three, so it never loses its date
+//! silently.
 
 use serde_json::{Map, Value};
 
@@ -24,7 +26,8 @@ pub fn with_date(label: String, days: f64, start: Option<CalendarDate>) -> Strin
     }
 }
 
-/// The ISO 8601 date of calendar day `days`, or an empty cell without one.
+/// The ISO 8601 date of calendar day `days` ("after 9999-12-31" past the
+/// calendar), or an empty cell without one.
 pub fn date_cell(days: Option<f64>, start: CalendarDate) -> String {
     days.and_then(|days| start.after(days))
         .map_or_else(String::new, |date| date.to_string())
@@ -33,7 +36,7 @@ pub fn date_cell(days: Option<f64>, start: CalendarDate) -> String {
 /// `document` with a date key after every calendar-days key: `days` gets
 /// `date`, `asimov_days` gets `asimov_date`, and so on (`live_days` and keys
 /// holding anything but a number or null are left alone); null days give a
-/// null date.
+/// null date, days past the calendar "after 9999-12-31".
 pub fn insert_dates(document: Value, start: CalendarDate) -> Value {
     match document {
         Value::Array(items) => Value::Array(
@@ -87,6 +90,16 @@ mod tests {
         assert_eq!(dated_days_label(57.2, None), "58 d");
         assert_eq!(date_cell(Some(0.0), start()), "2027-03-01");
         assert_eq!(date_cell(None, start()), "");
+    }
+
+    #[test]
+    fn days_past_the_calendar_keep_a_date() {
+        // 9999-12-31 is the calendar's last date (ISO 8601, four-digit years).
+        let late = CalendarDate::parse("9999-06-01");
+        assert_eq!(dated_days_label(300.0, late), "300 d (after 9999-12-31)");
+        assert_eq!(date_cell(Some(300.0), late.unwrap()), "after 9999-12-31");
+        let dated = insert_dates(json!({"asimov_days": 300.0}), late.unwrap());
+        assert_eq!(dated["asimov_date"], "after 9999-12-31");
     }
 
     #[test]

@@ -81,11 +81,20 @@ pub fn percent_label(cl: f64) -> String {
 }
 
 /// The rounding of days in `check` and the summaries, stated where they print days.
-pub const DAYS_ROUNDING: &str = "Days are rounded up (to the next tenth of a day below 10 days, to the next whole day from there on); projection.csv and .json keep full precision.";
+pub const DAYS_ROUNDING: &str = "Days are rounded up (to three significant digits below a tenth of a day, to the next tenth of a day below 10 days, to the next whole day from there on); projection.csv and .json keep full precision.";
 
-/// Calendar days, rounded up so the value is reached by then: to a tenth of a
-/// day below 10 days ("3.1 d"), to whole days from there on ("142 d").
+/// Calendar days, rounded up so the value is reached by then: to
+/// [`SIGNIFICANT_DIGITS`] below a tenth of a day ("0.0123 d", "3.29e-5 d":
+/// a huge signal is seen within seconds, and "0.1 d" would hide by how
+/// much), to a tenth of a day below 10 days ("3.1 d"), to whole days from
+/// there on ("142 d").
 pub fn days_label(days: f64) -> String {
+    if days > 0.0 && days < 0.1 {
+        let unit = 10f64.powi(days.log10().floor() as i32 + 1 - SIGNIFICANT_DIGITS as i32);
+        // Rounding in days / unit must not lift an exact value by one unit.
+        let units = (days / unit * (1.0 - f64::EPSILON)).ceil();
+        return format!("{} d", rounded(units * unit));
+    }
     let tenths = (days * 10.0).ceil() / 10.0;
     if tenths < 10.0 {
         format!("{tenths:.1} d")
@@ -176,6 +185,11 @@ mod tests {
         assert_eq!(days_label(3.04), "3.1 d");
         assert_eq!(days_label(0.25), "0.3 d");
         assert_eq!(days_label(9.99), "10 d");
+        assert_eq!(days_label(0.0123), "0.0123 d");
+        assert_eq!(days_label(0.01231), "0.0124 d");
+        assert_eq!(days_label(3.2889e-5), "3.29e-5 d");
+        assert_eq!(days_label(0.09991), "0.1 d");
+        assert_eq!(days_label(0.0), "0.0 d");
         assert_eq!(target_label(3.0), "3σ");
         assert_eq!(target_label(2.5), "2.5σ");
     }

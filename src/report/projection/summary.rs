@@ -419,10 +419,11 @@ fn two_decimals(value: f64) -> String {
     format!("{:.2}", (value * 100.0).round() / 100.0 + 0.0)
 }
 
-/// One line when systematic uncertainties make Z_A saturate, naming the
-/// targets that are therefore never reached.
+/// One line when systematic uncertainties make Z_A saturate, or when it stays
+/// 0 however long the run, naming the targets that are therefore never
+/// reached.
 fn saturation_line(rows: &[DaysToTarget]) -> Option<String> {
-    let limit = rows.iter().find_map(|row| row.saturation_z)?;
+    let (row, limit) = rows.iter().find_map(|row| Some((row, row.saturation_z?)))?;
     let never: Vec<String> = rows
         .iter()
         .filter(|row| row.never_reached())
@@ -433,9 +434,12 @@ fn saturation_line(rows: &[DaysToTarget]) -> Option<String> {
     } else {
         format!("never reached: {}", never.join(", "))
     };
-    Some(format!(
-        "warning: systematic uncertainties make Z_A saturate at {limit:.2}σ however long the run; {consequence}.\n"
-    ))
+    let cause = if row.signal_unseen() {
+        "Z_A stays 0 however long the run: the signal is too small to change any fit".to_string()
+    } else {
+        format!("systematic uncertainties make Z_A saturate at {limit:.2}σ however long the run")
+    };
+    Some(format!("warning: {cause}; {consequence}.\n"))
 }
 
 #[cfg(test)]
@@ -455,7 +459,7 @@ target   Asimov   toy median   50% of toys   90% of toys
 3σ       42 d     44 d         45 d          98 d
 5σ       never    never        never         never
 toy median: the day the median pseudo-experiment reaches the target; 50% of toys: the day half of them have (the same question read from P(Z ≥ target), differing only by interpolation) — quote the toy median.
-Days are rounded up (to the next tenth of a day below 10 days, to the next whole day from there on); projection.csv and .json keep full precision.
+Days are rounded up (to three significant digits below a tenth of a day, to the next tenth of a day below 10 days, to the next whole day from there on); projection.csv and .json keep full precision.
 Toy days solved with 6 exposure points beside the grid, each with its own pseudo-experiments, to 0.5% of the day or 0.05 d.
 
 Failed fits: 2 of 400 pseudo-experiments (0.50%), excluded from the quantiles.
