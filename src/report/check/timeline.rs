@@ -2,6 +2,7 @@
 //! calendar days, its rate factors and the live days accumulated, and the
 //! live days at the end of the grid.
 
+use crate::calendar::DayDate;
 use crate::message::{show, show_rounded};
 use crate::model::LiveTime;
 use crate::report::kit::dates::with_date;
@@ -42,7 +43,7 @@ pub(super) fn timeline(
         };
         let as_written = start
             .and_then(|start| start.after(from))
-            .and_then(|first| breaks.iter().find(|(from, _)| *from == first))
+            .and_then(|first| breaks.iter().find(|(from, _)| DayDate::On(*from) == first))
             .map(|(from, to)| format!(" ({from} to {to} as written, both days included)"))
             .filter(|_| rate_scale == 0.0)
             .unwrap_or_default();
