@@ -43,9 +43,10 @@ pub struct Written {
 /// set, replacing files of the same names, with every figure in each of
 /// `formats` (converted in memory first, so a failed conversion writes
 /// nothing). `family` names every file the product can write (figures by
-/// their `.svg` name, standing for every format); those present in `dir` but
-/// not written now are left from an earlier run and are removed with the
-/// same all-or-nothing move.
+/// their `.svg` name, standing for each of `formats`); those present in `dir`
+/// but not written now are left from an earlier run and are removed with the
+/// same all-or-nothing move. A figure in a format this run does not write
+/// stays: it is not this run's to judge.
 pub fn write_all(
     dir: &Path,
     reports: Vec<Report>,
@@ -53,7 +54,7 @@ pub fn write_all(
     formats: &FigureFormats,
 ) -> Result<Written, ReportError> {
     let reports = convert(reports, formats)?;
-    let family = family_names(family);
+    let family = family_names(family, formats);
     let family: Vec<&str> = family.iter().map(String::as_str).collect();
     let removed = write_set(dir, &reports, &family)?;
     Ok(Written {
