@@ -18,6 +18,7 @@ use crate::cli::SlurmArgs;
 use crate::error::Error;
 use crate::options::SlurmOptions;
 use crate::stdout;
+use runcast::created_directories::CreatedDirectories;
 use runcast::report;
 use std::path::Path;
 use std::process::Command;
@@ -38,12 +39,22 @@ pub fn run(args: &SlurmArgs) -> Result<(), Error> {
     if let Some((path, _)) = scripts.iter().find(|(path, _)| path.exists()) {
         return Err(Error::Exists { path: path.clone() });
     }
-    std::fs::create_dir_all(out).map_err(|source| Error::Write {
+    let created = CreatedDirectories::create(out).map_err(|source| Error::Write {
         path: out.clone(),
         source,
     })?;
-    for (path, text) in &scripts {
-        write_script(path, text)?;
+    // Both scripts or neither: a failed run removes the one it wrote, then
+    // (dropping `created`) the directory it made.
+    for (index, (path, text)) in scripts.iter().enumerate() {
+        if let Err(error) = write_script(path, text) {
+            for (written, _) in &scripts[..index] {
+                let _ = std::fs::remove_file(written);
+            }
+            return Err(error);
+        }
+    }
+    created.keep();
+    for (path, _) in &scripts {
         stdout::print(&format!("wrote {}\n", path.display()))?;
     }
     let [(array, _), (merge, _)] = &scripts;
@@ -156,7 +167,8 @@ fn merge_script(options: &SlurmOptions) -> String {
     text
 }
 
-/// Writes a new script (never replacing a file), readable and executable.
+/// Writes a new script (never replacing a file), readable and executable;
+/// on failure nothing of it stays.
 fn write_script(path: &Path, text: &str) -> Result<(), Error> {
     let write_error = |source| Error::Write {
         path: path.to_path_buf(),
@@ -171,7 +183,10 @@ fn write_script(path: &Path, text: &str) -> Result<(), Error> {
         result => result.map_err(write_error)?,
     }
     use std::os::unix::fs::PermissionsExt;
-    std::fs::set_permissions(path, std::fs::Permissions::from_mode(0o755)).map_err(write_error)
+    std::fs::set_permissions(path, std::fs::Permissions::from_mode(0o755)).map_err(|source| {
+        let _ = std::fs::remove_file(path);
+        write_error(source)
+    })
 }
 
 /// Runs `sbatch --parsable OPTIONS SCRIPT` and returns the job id.
