@@ -20,7 +20,8 @@ use std::path::{Path, PathBuf};
 /// The name of a staging folder before its process id.
 pub(super) const STAGING: &str = "runcast-staging-";
 
-/// A staging folder of an earlier, killed run that [`clear`] removed.
+/// A staging folder of an earlier, killed run, removed by a run writing
+/// into the same directory ([`write_all`](super::write_all)).
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct Leftover {
     /// The folder.
