@@ -1,6 +1,8 @@
 //! How a run's files reach the output directory, run as a user runs it: the
 //! set appears whole or not at all, an interrupted run leaves no temporary
-//! file and no mix of two runs, and files of the set left from an earlier run
+//! file and no mix of two runs, a killed one (SIGKILL, sent by strace at each
+//! rename and removal in turn) the old set or the new one and a staging
+//! folder the next run clears, and files of the set left from an earlier run
 //! go away while everything else stays.
 
 mod common;
