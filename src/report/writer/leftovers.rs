@@ -55,9 +55,10 @@ pub(super) fn clear(dir: &Path) -> Vec<Leftover> {
     };
     let parent = parent_of(&real);
     // Named as the user wrote the directory, unless a link leads elsewhere.
-    let shown = parent_of(dir);
-    let shown = match fs::canonicalize(&shown) {
-        Ok(resolved) if fs::canonicalize(&parent).is_ok_and(|real| real == resolved) => shown,
+    let shown = match fs::canonicalize(parent_of(dir)) {
+        Ok(resolved) if fs::canonicalize(&parent).is_ok_and(|real| real == resolved) => {
+            dir.parent().unwrap_or(Path::new("")).to_path_buf()
+        }
         _ => parent.clone(),
     };
     let prefix = format!(".{}.{STAGING}", name.to_string_lossy());
