@@ -11,6 +11,7 @@
 //! `spectrum` draws pseudo-data spectra and `binning` scans bin widths and
 //! counting windows, both for planning beside the projection;
 //! `provenance` records what made each output file;
+//! `created_directories` removes the directories a failed run made;
 //! `warning` types what may be wrong with a scenario or results;
 //! `message` words the numbers in error messages; `input_file` opens the
 //! files read (regular files only); `benchmark` measures the engine. The command-line front end lives with the binary (`src/main.rs` and
@@ -21,6 +22,7 @@ pub mod asymptotic;
 pub mod benchmark;
 pub mod binning;
 pub mod calendar;
+pub mod created_directories;
 pub mod ensemble;
 pub mod input_file;
 pub mod likelihood;

@@ -434,29 +434,30 @@ impl SlurmOptions {
         if settings.toys_per_point() > 0 {
             check_countable(&loaded, &model, &settings)?;
         }
-        let mut sbatch_options: Vec<String> = [
-            args.partition.as_ref().map(|p| format!("--partition={p}")),
-            args.time.as_ref().map(|t| format!("--time={t}")),
-        ]
-        .into_iter()
-        .flatten()
-        .chain(args.sbatch_arg.iter().cloned())
-        .collect();
-        if let Some(bad) = sbatch_options.iter().find(|option| option.contains('\n')) {
-            return Err(Error::Usage(format!(
-                "--sbatch-arg {bad:?}: an sbatch option cannot contain a line break"
-            )));
-        }
-        sbatch_options.dedup();
+        let sbatch_options = sbatch_options(args)?;
         let absolute = |path: &Path, what: &str| {
             std::path::absolute(path)
                 .map_err(|error| Error::Usage(format!("{what} {}: {error}", path.display())))
         };
+        let scenario = absolute(&loaded.path, "the scenario")?;
+        script_path("the scenario file", &scenario)?;
+        let out_option = match args.out {
+            Some(_) => "--out",
+            None => "the output directory (output/<scenario file stem>)",
+        };
+        let out = absolute(&loaded.output_directory(args.out.as_deref()), out_option)?;
+        if script_path(out_option, &out)?.contains('\\') {
+            return Err(Error::Usage(format!(
+                "{out_option} {out:?}: contains a backslash, which Slurm reads in a log \
+                 file name (--output) as \"do not replace %A, %a and %j\""
+            )));
+        }
         let runcast = std::env::current_exe()
             .map_err(|error| Error::Usage(format!("cannot find the runcast binary: {error}")))?;
+        script_path("the runcast binary", &runcast)?;
         Ok(SlurmOptions {
-            out: absolute(&loaded.output_directory(args.out.as_deref()), "--out")?,
-            scenario: absolute(&loaded.path, "the scenario")?,
+            out,
+            scenario,
             runcast,
             tasks: args.tasks,
             settings,
@@ -465,6 +466,51 @@ impl SlurmOptions {
             loaded,
         })
     }
+}
+
+/// The `#SBATCH` options of both scripts, without the prefix: `--partition`,
+/// `--time` and every `--sbatch-arg`, each checked by [`script_text`] under
+/// its own name, repeats dropped.
+fn sbatch_options(args: &SlurmArgs) -> Result<Vec<String>, Error> {
+    let mut options = Vec::new();
+    for (option, value) in [("--partition", &args.partition), ("--time", &args.time)] {
+        if let Some(value) = value {
+            script_text(option, value)?;
+            options.push(format!("{option}={value}"));
+        }
+    }
+    for value in &args.sbatch_arg {
+        script_text("--sbatch-arg", value)?;
+        options.push(value.clone());
+    }
+    options.dedup();
+    Ok(options)
+}
+
+/// Refuses text bound for a batch script line that contains a control
+/// character: a line break would start a line of its own, which the shell
+/// runs (or sbatch reads as a new option); the others have no place in a
+/// name or an option either.
+fn script_text(option: &str, text: &str) -> Result<(), Error> {
+    match text.chars().find(|c| c.is_control()) {
+        Some(control) => Err(Error::Usage(format!(
+            "{option} {text:?}: contains the control character {control:?}, \
+             which a line of a batch script cannot hold"
+        ))),
+        None => Ok(()),
+    }
+}
+
+/// A path bound for a batch script, as text: valid UTF-8 (the script must
+/// name the very bytes of the path) and checked by [`script_text`].
+fn script_path<'a>(option: &str, path: &'a Path) -> Result<&'a str, Error> {
+    let text = path.to_str().ok_or_else(|| {
+        Error::Usage(format!(
+            "{option} {path:?}: is not valid UTF-8, which a batch script cannot name exactly"
+        ))
+    })?;
+    script_text(option, text)?;
+    Ok(text)
 }
 
 /// `runcast check`: the plan as written, Asimov only, with limits.

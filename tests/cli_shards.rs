@@ -195,3 +195,41 @@ fn slurm_writes_both_scripts_once_and_prints_how_to_submit() {
         array
     );
 }
+
+/// Runs the binary in `scratch` with `args` where no file can grow past 0
+/// bytes, as on a full disk: writes fail with EFBIG (the file size limit of
+/// setrlimit(2), POSIX, with SIGXFSZ ignored so that the write returns the
+/// error).
+fn run_on_a_full_disk(scratch: &Scratch, args: &[&str]) -> Output {
+    std::process::Command::new("sh")
+        .args(["-c", "trap '' XFSZ; ulimit -f 0; exec \"$0\" \"$@\""])
+        .arg(env!("CARGO_BIN_EXE_runcast"))
+        .args(args)
+        .current_dir(&scratch.path)
+        .output()
+        .expect("run sh")
+}
+
+#[test]
+fn a_shard_or_slurm_run_that_cannot_write_removes_the_folders_it_made_and_only_those() {
+    let scratch = setup("cli-full-disk");
+    fs::create_dir(scratch.path.join("existing")).unwrap();
+    for out in ["made/for/shard", "existing"] {
+        let args = [
+            "project", DEMO, "--shard", "1/2", "--out", out, "--toys", "3",
+        ];
+        let stderr = failed(run_on_a_full_disk(&scratch, &args));
+        assert!(stderr.contains(&format!("{out}/")), "{stderr}");
+        assert_eq!(sorted_names(&scratch.path), ["existing", DEMO]);
+        assert!(sorted_names(&scratch.path.join("existing")).is_empty());
+
+        let args = ["slurm", DEMO, "--tasks", "2", "--out", out];
+        let stderr = failed(run_on_a_full_disk(&scratch, &args));
+        assert!(
+            stderr.contains(&format!("/{out}/runcast-array.sh")),
+            "{stderr}"
+        );
+        assert_eq!(sorted_names(&scratch.path), ["existing", DEMO]);
+        assert!(sorted_names(&scratch.path.join("existing")).is_empty());
+    }
+}

@@ -289,7 +289,7 @@ fn svg_names_the_shipped_font() {
 }
 
 #[test]
-fn every_command_writes_each_format_and_a_rerun_removes_formats_not_asked_for() {
+fn every_command_writes_each_format() {
     let scratch = Scratch::new("all");
     let scenario = demo("narrow_peak.yaml");
     let scenario = scenario.to_str().unwrap();
@@ -327,23 +327,77 @@ fn every_command_writes_each_format_and_a_rerun_removes_formats_not_asked_for() 
             "spectrum-30d.svg"
         ]
     );
+}
 
-    let stdout = succeeds(
-        &scratch,
-        &[&["project"], &project[..], &["--no-limits"]].concat(),
-    );
-    for format in ["svg", "pdf", "png"] {
-        assert!(stdout.contains(&format!("limits.{format}")), "{stdout}");
+#[test]
+fn a_rerun_removes_only_the_stale_files_of_the_formats_it_writes() {
+    let scratch = Scratch::new("rerun");
+    let scenario = demo("narrow_peak.yaml");
+    let scenario = scenario.to_str().unwrap();
+    let project = [
+        "project",
+        scenario,
+        "--asimov-only",
+        "--out",
+        "out",
+        "--quiet",
+    ];
+    let every_format = ["--format", "svg,pdf,png", "--dpi", "20"];
+    succeeds(&scratch, &[&project[..], &every_format].concat());
+    let out = scratch.path.join("out");
+    let earlier = |name: &str| fs::read(out.join(name)).unwrap();
+    let pdf_and_png: Vec<(String, Vec<u8>)> = names_in(&out)
+        .into_iter()
+        .filter(|name| name.ends_with(".pdf") || name.ends_with(".png"))
+        .map(|name| (name.clone(), earlier(&name)))
+        .collect();
+    assert_eq!(pdf_and_png.len(), 6);
+
+    // SVG only: the PDF and PNG figures of the earlier run stay as they were.
+    let stdout = succeeds(&scratch, &project);
+    assert!(!stdout.contains("removed"), "{stdout}");
+    for (name, bytes) in &pdf_and_png {
+        assert_eq!(&earlier(name), bytes, "{name}");
     }
+
+    // Without limits, SVG only: the limits figure goes in SVG alone.
+    let stdout = succeeds(&scratch, &[&project[..], &["--no-limits"]].concat());
+    let removed: Vec<&str> = stdout
+        .lines()
+        .filter(|line| line.starts_with("removed"))
+        .collect();
     assert_eq!(
-        names_in(&scratch.path.join("project")),
+        removed,
+        [format!(
+            "removed {} (left from an earlier run)",
+            Path::new("out").join("limits.svg").display()
+        )]
+    );
+    assert_eq!(
+        names_in(&out),
         [
+            "limits.pdf",
+            "limits.png",
+            "probability.pdf",
+            "probability.png",
             "probability.svg",
             "projection.csv",
             "projection.json",
+            "projection.pdf",
+            "projection.png",
             "projection.svg"
         ]
     );
+
+    // Without limits, PDF only: now the limits PDF goes, the PNG stays.
+    let only_pdf = ["--no-limits", "--format", "pdf"];
+    let stdout = succeeds(&scratch, &[&project[..], &only_pdf].concat());
+    assert!(
+        stdout.contains("limits.pdf (left from an earlier run)"),
+        "{stdout}"
+    );
+    assert!(!stdout.contains("limits.png"), "{stdout}");
+    assert!(out.join("limits.png").exists() && !out.join("limits.pdf").exists());
 }
 
 #[test]

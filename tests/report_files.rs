@@ -1,6 +1,8 @@
 //! How a run's files reach the output directory, run as a user runs it: the
 //! set appears whole or not at all, an interrupted run leaves no temporary
-//! file and no mix of two runs, and files of the set left from an earlier run
+//! file and no mix of two runs, a killed one (SIGKILL, sent by strace at each
+//! rename and removal in turn) the old set or the new one and a staging
+//! folder the next run clears, and files of the set left from an earlier run
 //! go away while everything else stays.
 
 mod common;
@@ -147,7 +149,7 @@ const LARGE_SPECTRUM: &str = "title: many bins (invented)\n\
     backgrounds:\n  - {name: flat, events_per_day: 4000.0, shape: {flat: {}}}\n\
     plan: {days: {first: 1, last: 10, points: 2, spacing: log}, toys: 1, seed: 1, targets: [3]}\n";
 
-/// Interrupts a rerun into a directory holding an earlier run, once the
+/// Interrupts a rerun into a directory holding an earlier run, once a
 /// staging folder exists; returns whether the signal was sent while it did.
 fn interrupt_rerun(scratch: &Scratch, out: &str, signal: (&str, i32)) -> bool {
     let mut child = Command::new(env!("CARGO_BIN_EXE_runcast"))
@@ -160,7 +162,8 @@ fn interrupt_rerun(scratch: &Scratch, out: &str, signal: (&str, i32)) -> bool {
         .expect("start runcast");
     let dir = scratch.path.join(out);
     let staging = loop {
-        if !hidden_entries(&dir).is_empty() {
+        // Beside the directory (replaced whole) or inside it (file by file).
+        if !hidden_entries(&scratch.path).is_empty() || !hidden_entries(&dir).is_empty() {
             // The shell's built-in kill: no separate program needed.
             let kill = format!("kill {} {}", signal.0, child.id());
             let sent = Command::new("sh").args(["-c", &kill]).status();
@@ -226,4 +229,199 @@ fn an_interrupted_run_leaves_the_earlier_set_or_the_new_one_and_no_temporary_fil
         }
         assert!(caught > 0, "{signal:?} never arrived while writing");
     }
+}
+
+/// The system calls at which a rerun is killed, each call in turn: renaming
+/// (the exchange of the old and the new directory, and the moves of files
+/// one by one) and removing (the old directory after the exchange, the
+/// staging folder after the moves). A leading `?` lets strace skip a name
+/// the machine's architecture lacks.
+const KILL_POINTS: [&str; 6] = [
+    "?rename",
+    "?renameat",
+    "?renameat2",
+    "?unlink",
+    "?unlinkat",
+    "?rmdir",
+];
+
+/// Runs runcast with `args` under strace, which kills it with SIGKILL on
+/// entering the `n`th call of `syscall` (strace(1), `-e inject`); returns
+/// whether it was killed (false: the run made fewer such calls and ended).
+fn killed_at(scratch: &Scratch, args: &[&str], syscall: &str, n: usize) -> bool {
+    ensure_strace();
+    let status = Command::new("strace")
+        .args(["-f", "-qq", "-o", "/dev/null", "-e"])
+        .arg(format!("inject={syscall}:signal=SIGKILL:when={n}"))
+        .arg(env!("CARGO_BIN_EXE_runcast"))
+        .args(args)
+        .current_dir(&scratch.path)
+        .stdout(Stdio::null())
+        .stderr(Stdio::null())
+        .status()
+        .expect("run strace (Debian: apt-get install strace)");
+    if status.success() {
+        return false;
+    }
+    // strace ends itself with the signal that killed the traced process.
+    assert_eq!(status.signal(), Some(9), "{syscall} #{n}: {status}");
+    true
+}
+
+/// Makes sure strace is on the PATH: on a fresh Debian machine where the
+/// tests run as root (as in CI), installs it with apt-get once, so that the
+/// README's test command needs nothing installed beforehand; elsewhere the
+/// test fails saying what to install.
+fn ensure_strace() {
+    static INSTALL: std::sync::Once = std::sync::Once::new();
+    INSTALL.call_once(|| {
+        let present = |program: &str| {
+            Command::new("sh")
+                .args(["-c", &format!("command -v {program}")])
+                .stdout(Stdio::null())
+                .status()
+                .is_ok_and(|status| status.success())
+        };
+        if present("strace") {
+            return;
+        }
+        let root = Command::new("id")
+            .arg("-u")
+            .output()
+            .is_ok_and(|output| output.stdout == b"0\n");
+        assert!(
+            root && present("apt-get"),
+            "the kill tests need strace (Debian: apt-get install strace)"
+        );
+        let installed = Command::new("sh")
+            .args(["-c", "apt-get update -qq && apt-get install -y -qq strace"])
+            .stdout(Stdio::null())
+            .status()
+            .is_ok_and(|status| status.success());
+        assert!(installed, "apt-get could not install strace");
+    });
+}
+
+/// Runs `args` to the end; returns its stderr.
+fn run_ok_stderr(scratch: &Scratch, args: &[&str]) -> String {
+    let output = scratch.run(args);
+    let stderr = String::from_utf8(output.stderr).unwrap();
+    assert!(output.status.success(), "runcast {args:?}: {stderr}");
+    stderr
+}
+
+/// The earlier run (with limits) and the rerun (another seed, without
+/// limits, so its set has one file fewer) of the counting-window demo.
+fn earlier_and_rerun(out: &str) -> (Vec<&str>, Vec<&str>) {
+    let earlier = vec![
+        "project",
+        "counting_window.yaml",
+        "--asimov-only",
+        "--quiet",
+        "--out",
+        out,
+    ];
+    let rerun = [&earlier[..], &["--seed", "7", "--no-limits"]].concat();
+    (earlier, rerun)
+}
+
+const CLEARED: &str = "an earlier run was killed while writing here";
+
+#[test]
+fn a_rerun_killed_at_any_step_leaves_the_old_set_or_the_new_one_and_the_next_run_clears_up() {
+    let scratch = Scratch::new("killed");
+    copy_demo(&scratch, "counting_window.yaml");
+    let out = scratch.path.join("out");
+    let (earlier, rerun) = earlier_and_rerun("out");
+    run_ok(&scratch, &rerun);
+    fs::write(out.join("notes.txt"), "the user's own\n").unwrap();
+    let new_set = contents(&out);
+    run_ok(&scratch, &earlier);
+    let old_set = contents(&out);
+    assert_ne!(old_set, new_set);
+    assert!(old_set.contains_key("limits.svg") && old_set.contains_key("notes.txt"));
+
+    let (mut old_seen, mut new_seen) = (0, 0);
+    for syscall in KILL_POINTS {
+        for n in 1.. {
+            if !killed_at(&scratch, &rerun, syscall, n) {
+                break;
+            }
+            let now = contents(&out);
+            assert!(
+                now == old_set || now == new_set,
+                "killed at {syscall} #{n}: {:?}",
+                now.keys()
+            );
+            old_seen += usize::from(now == old_set);
+            new_seen += usize::from(now == new_set);
+            let stderr = run_ok_stderr(&scratch, &earlier);
+            assert!(stderr.contains(CLEARED), "{syscall} #{n}: {stderr}");
+            assert_eq!(contents(&out), old_set, "{syscall} #{n}");
+            assert!(hidden_entries(&scratch.path).is_empty(), "{syscall} #{n}");
+        }
+        run_ok(&scratch, &earlier);
+    }
+    // Killed before the exchange, and after it while removing the old one.
+    assert!(old_seen > 0 && new_seen > 0, "{old_seen} {new_seen}");
+}
+
+#[test]
+fn a_rerun_killed_while_moving_files_one_by_one_is_completed_by_the_next_run() {
+    let scratch = Scratch::new("killed-file-by-file");
+    copy_demo(&scratch, "counting_window.yaml");
+    let out = scratch.path.join("out");
+    // A folder of the user's inside: the set is moved in file by file.
+    fs::create_dir_all(out.join("runs")).unwrap();
+    fs::write(out.join("runs").join("first.txt"), "kept\n").unwrap();
+    let (earlier, rerun) = earlier_and_rerun("out");
+    run_ok(&scratch, &rerun);
+    let new_set = contents(&out);
+    run_ok(&scratch, &earlier);
+    let old_set = contents(&out);
+    assert_ne!(old_set, new_set);
+    // Another product written into the same directory clears what a killed
+    // run left, before writing its own files.
+    let spectrum = [
+        "spectrum",
+        "counting_window.yaml",
+        "--days",
+        "30",
+        "--out",
+        "out",
+    ];
+    let spectrum_files = ["spectrum-30d.csv", "spectrum-30d.svg"];
+
+    let mut moves_cut = 0;
+    for syscall in KILL_POINTS {
+        for n in 1.. {
+            if !killed_at(&scratch, &rerun, syscall, n) {
+                break;
+            }
+            let killed = contents(&out);
+            moves_cut += usize::from(killed != old_set && killed != new_set);
+            let stderr = run_ok_stderr(&scratch, &spectrum);
+            assert!(stderr.contains(CLEARED), "{syscall} #{n}: {stderr}");
+            let mut now = contents(&out);
+            for name in spectrum_files {
+                assert!(now.remove(name).is_some(), "{syscall} #{n}: no {name}");
+            }
+            assert!(
+                now == old_set || now == new_set,
+                "{syscall} #{n}: {:?}",
+                now.keys()
+            );
+            for name in spectrum_files {
+                fs::remove_file(out.join(name)).unwrap();
+            }
+            run_ok(&scratch, &earlier);
+        }
+        run_ok(&scratch, &earlier);
+    }
+    // Some kills did cut the moves short, leaving a mix the next run completed.
+    assert!(moves_cut > 0);
+    assert_eq!(
+        fs::read_to_string(out.join("runs").join("first.txt")).unwrap(),
+        "kept\n"
+    );
 }

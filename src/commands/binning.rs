@@ -13,7 +13,7 @@ pub fn run(args: &BinningArgs) -> Result<(), Error> {
     print_warnings(&options.loaded);
     let scan = scan_binning(&options.channel, options.days)?;
     let reports = report::render_binning(&scan, &options.provenance())?;
-    let written = report::write_all(
+    let written = super::write_reports(
         &options.out,
         reports,
         &report::BINNING_FILES,

@@ -48,7 +48,7 @@ pub fn run(args: &CompareArgs) -> Result<(), Error> {
     }
     let comparison = Comparison { plans };
     let reports = report::render_comparison(&comparison, &comparison_provenance(&options))?;
-    let written = report::write_all(&out, reports, &report::COMPARE_FILES, &formats)?;
+    let written = super::write_reports(&out, reports, &report::COMPARE_FILES, &formats)?;
     stdout::print(&report::comparison_table(&comparison))?;
     stdout::print(&format!("wrote {}\n", out.display()))?;
     stdout::print(&removed_lines(&out, &written.removed))

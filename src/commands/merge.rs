@@ -16,7 +16,7 @@ pub fn run(directory: &Path, figures: &FigureArgs) -> Result<(), Error> {
     let formats = figure_formats(figures)?;
     let (run, projection) = merge_shards(directory)?;
     let reports = report::render_all(&projection, &run.provenance())?;
-    let written = report::write_all(directory, reports, &report::PROJECTION_FILES, &formats)?;
+    let written = super::write_reports(directory, reports, &report::PROJECTION_FILES, &formats)?;
     stdout::print(&format!(
         "merged the shards of {} (seed {})\n",
         run.scenario_name, run.settings.seed

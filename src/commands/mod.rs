@@ -44,6 +44,30 @@ fn print_warnings(loaded: &Loaded) {
     }
 }
 
+/// Writes a product's files into `out` ([`report::write_all`]), saying on
+/// stderr which staging folders of earlier, killed runs it cleared first.
+fn write_reports(
+    out: &Path,
+    reports: Vec<report::Report>,
+    family: &[&str],
+    formats: &report::FigureFormats,
+) -> Result<report::Written, Error> {
+    let written = report::write_all(out, reports, family, formats)?;
+    for leftover in &written.leftovers {
+        let done = if leftover.completed {
+            "moved the rest of its files in and removed"
+        } else {
+            "removed"
+        };
+        eprintln!(
+            "runcast: warning: {}: an earlier run was killed while writing here; {done} its staging folder {}",
+            out.display(),
+            leftover.path.display()
+        );
+    }
+    Ok(written)
+}
+
 /// The "wrote FILE" lines after the files `names` went to `out`.
 fn wrote(out: &Path, names: &[String]) -> String {
     names

@@ -18,7 +18,7 @@ pub fn run(args: &ProjectArgs) -> Result<(), Error> {
     }
     let projection = projection(&options)?;
     let reports = report::render_all(&projection, &options.provenance())?;
-    let written = report::write_all(
+    let written = super::write_reports(
         &options.out,
         reports,
         &report::PROJECTION_FILES,

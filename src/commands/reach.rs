@@ -31,7 +31,7 @@ pub fn run(args: &ReachArgs) -> Result<(), Error> {
         source,
     })?;
     let reports = report::render_reach(&reach, &options.provenance())?;
-    let written = report::write_all(
+    let written = super::write_reports(
         &options.out,
         reports,
         &report::REACH_FILES,

@@ -7,11 +7,18 @@
 //! (`--kill-on-invalid-dep=yes`). Both use absolute paths to this binary, the
 //! scenario and the output directory. With `--submit` they are submitted with
 //! `sbatch --parsable`; otherwise the commands are printed.
+//!
+//! Every value from the user (the scenario and output paths, `--partition`,
+//! `--time`, each `--sbatch-arg`) stays one word where it is written: on the
+//! command line in single quotes for the shell ([`quote`]), in an `#SBATCH`
+//! line quoted as sbatch reads it ([`sbatch_word`]). `SlurmOptions` has
+//! already refused control characters, so no value can start a line.
 
 use crate::cli::SlurmArgs;
 use crate::error::Error;
 use crate::options::SlurmOptions;
 use crate::stdout;
+use runcast::created_directories::CreatedDirectories;
 use runcast::report;
 use std::path::Path;
 use std::process::Command;
@@ -32,12 +39,22 @@ pub fn run(args: &SlurmArgs) -> Result<(), Error> {
     if let Some((path, _)) = scripts.iter().find(|(path, _)| path.exists()) {
         return Err(Error::Exists { path: path.clone() });
     }
-    std::fs::create_dir_all(out).map_err(|source| Error::Write {
+    let created = CreatedDirectories::create(out).map_err(|source| Error::Write {
         path: out.clone(),
         source,
     })?;
-    for (path, text) in &scripts {
-        write_script(path, text)?;
+    // Both scripts or neither: a failed run removes the one it wrote, then
+    // (dropping `created`) the directory it made.
+    for (index, (path, text)) in scripts.iter().enumerate() {
+        if let Err(error) = write_script(path, text) {
+            for (written, _) in &scripts[..index] {
+                let _ = std::fs::remove_file(written);
+            }
+            return Err(error);
+        }
+    }
+    created.keep();
+    for (path, _) in &scripts {
         stdout::print(&format!("wrote {}\n", path.display()))?;
     }
     let [(array, _), (merge, _)] = &scripts;
@@ -57,14 +74,14 @@ pub fn run(args: &SlurmArgs) -> Result<(), Error> {
     stdout::print(&format!("merge job {merge_job}\n"))
 }
 
-/// The `#!` line and the `#SBATCH` lines of a script.
+/// The `#!` line and the `#SBATCH` lines of a script, one option per line.
 fn header(options: &SlurmOptions, job_name: &str, own: &[String]) -> String {
     let mut text = String::from("#!/bin/bash\n");
     let lines = std::iter::once(format!("--job-name={job_name}"))
         .chain(own.iter().cloned())
         .chain(options.sbatch_options.iter().cloned());
     for option in lines {
-        text.push_str(&format!("#SBATCH {option}\n"));
+        text.push_str(&format!("#SBATCH {}\n", sbatch_word(&option)));
     }
     text
 }
@@ -78,17 +95,26 @@ fn job_name(options: &SlurmOptions) -> String {
     format!("runcast-{stem}")
 }
 
+/// The `--output` option of a script: its log file `name` (with Slurm's
+/// replacement symbols, such as `%A`) in the output directory, whose own `%`
+/// are doubled so that Slurm keeps them (a `%%` in the pattern is one `%`).
+/// `SlurmOptions` refuses a backslash in the directory, which would stop the
+/// replacements.
+fn log_option(options: &SlurmOptions, name: &str) -> String {
+    let directory = options.out.display().to_string().replace('%', "%%");
+    format!("--output={directory}/{name}")
+}
+
 /// Task K of the array runs shard K of N with the resolved plan.
 fn array_script(options: &SlurmOptions) -> String {
     let settings = &options.settings;
     let tasks = options.tasks;
-    let log = options.out.join("slurm-%A_%a.out");
     let mut text = header(
         options,
         &job_name(options),
         &[
             format!("--array=1-{tasks}"),
-            format!("--output={}", log.display()),
+            log_option(options, "slurm-%A_%a.out"),
         ],
     );
     let mut plan = vec![
@@ -124,13 +150,12 @@ fn array_script(options: &SlurmOptions) -> String {
 
 /// The merge, submitted with `--dependency=afterok:<array job>`.
 fn merge_script(options: &SlurmOptions) -> String {
-    let log = options.out.join("slurm-merge-%j.out");
     let mut text = header(
         options,
         &format!("{}-merge", job_name(options)),
         &[
             "--kill-on-invalid-dep=yes".into(),
-            format!("--output={}", log.display()),
+            log_option(options, "slurm-merge-%j.out"),
         ],
     );
     text.push_str(&format!(
@@ -142,7 +167,8 @@ fn merge_script(options: &SlurmOptions) -> String {
     text
 }
 
-/// Writes a new script (never replacing a file), readable and executable.
+/// Writes a new script (never replacing a file), readable and executable;
+/// on failure nothing of it stays.
 fn write_script(path: &Path, text: &str) -> Result<(), Error> {
     let write_error = |source| Error::Write {
         path: path.to_path_buf(),
@@ -157,7 +183,10 @@ fn write_script(path: &Path, text: &str) -> Result<(), Error> {
         result => result.map_err(write_error)?,
     }
     use std::os::unix::fs::PermissionsExt;
-    std::fs::set_permissions(path, std::fs::Permissions::from_mode(0o755)).map_err(write_error)
+    std::fs::set_permissions(path, std::fs::Permissions::from_mode(0o755)).map_err(|source| {
+        let _ = std::fs::remove_file(path);
+        write_error(source)
+    })
 }
 
 /// Runs `sbatch --parsable OPTIONS SCRIPT` and returns the job id.
@@ -192,6 +221,22 @@ fn quote(path: &Path) -> String {
     format!("'{}'", path.display().to_string().replace('\'', r"'\''"))
 }
 
+/// `argument` as one word of an `#SBATCH` line, which sbatch (not the shell)
+/// reads: it splits the line at blanks, drops single and double quotes,
+/// takes the character after a backslash as it is (also inside quotes) and
+/// ignores the line from an unquoted `#` on. A word of letters, digits and
+/// `-_.,:=/+@%` is written as it is; any other in single quotes, with each
+/// backslash doubled and each quote written as '\'' (as in the shell). Line
+/// breaks and other control characters never get here (`SlurmOptions`).
+fn sbatch_word(argument: &str) -> String {
+    let plain = |c: char| c.is_ascii_alphanumeric() || "-_.,:=/+@%".contains(c);
+    if !argument.is_empty() && argument.chars().all(plain) {
+        return argument.to_string();
+    }
+    let escaped = argument.replace('\\', r"\\").replace('\'', r"'\''");
+    format!("'{escaped}'")
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -200,5 +245,20 @@ mod tests {
     fn paths_are_single_shell_words() {
         assert_eq!(quote(Path::new("/a b/c")), "'/a b/c'");
         assert_eq!(quote(Path::new("/it's")), r"'/it'\''s'");
+    }
+
+    #[test]
+    fn sbatch_words_are_quoted_unless_plain() {
+        assert_eq!(sbatch_word("--time=01:00:00"), "--time=01:00:00");
+        assert_eq!(
+            sbatch_word("--output=/a/slurm-%j.out"),
+            "--output=/a/slurm-%j.out"
+        );
+        assert_eq!(sbatch_word("--comment=a b#c"), "'--comment=a b#c'");
+        assert_eq!(
+            sbatch_word(r#"--job-name=it's "\"#),
+            r#"'--job-name=it'\''s "\\'"#
+        );
+        assert_eq!(sbatch_word(""), "''");
     }
 }

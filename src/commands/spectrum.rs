@@ -25,7 +25,7 @@ pub fn run(args: &SpectrumArgs) -> Result<(), Error> {
     }
     let reports = report::render_spectrum(&spectrum, &options.provenance())?;
     // Other spectra in the directory are other exposures: nothing is stale.
-    let written = report::write_all(&options.out, reports, &[], &options.formats)?;
+    let written = super::write_reports(&options.out, reports, &[], &options.formats)?;
     stdout::print(&report::spectrum_summary(&spectrum))?;
     stdout::print(&wrote(&options.out, &written.files))
 }

@@ -7,8 +7,11 @@
 //! [`ReportError::Interrupted`](super::ReportError::Interrupted); the handler
 //! waits for the guard to be released and then ends the process the way the
 //! signal would have (so the shell still sees "killed by SIGINT"). A signal
-//! arriving while the staged files are being moved into place waits until
-//! they all are, so the target holds either the old set or the new one.
+//! arriving while the new set is being put in place (the exchange of the
+//! directory and the removal of the old one, or the moves file by file)
+//! waits until it is, so the target holds either the old set or the new one.
+//! SIGKILL cannot be caught: what a killed run leaves, the next run writing
+//! there clears (`writer/leftovers.rs`).
 //!
 //! The signals are received by a thread of the `signal-hook` crate rather than
 //! in a signal handler: removing files is not allowed inside a handler, and the

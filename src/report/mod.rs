@@ -43,7 +43,7 @@ pub use projection::{
 pub use reach::{REACH_FILES, REACH_JSON, reach_summary, render_reach};
 pub use spectrum::{render_spectrum, spectrum_summary};
 pub use warnings::warning_text;
-pub use writer::{Written, write_all, write_new};
+pub use writer::{Leftover, Written, write_all, write_new};
 
 use crate::provenance::Provenance;
 

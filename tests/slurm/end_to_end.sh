@@ -4,7 +4,9 @@
 # Brings up munge and Slurm on this machine (Debian, as root; no init system
 # needed), submits a sharded projection of a demo with `runcast slurm --submit`,
 # waits for its merge job and checks that the merged files are byte-identical
-# to an unsharded `runcast project` with the same seed. Then stops the daemons
+# to an unsharded `runcast project` with the same seed, and that a scenario
+# file name and output directory full of quotes, `$()`, backticks, `;`, `#`
+# and `%` give jobs of that name writing where asked. Then stops the daemons
 # it started, by their pids, and removes its working directory.
 #
 # Usage (from the repository root, as root):
@@ -201,10 +203,37 @@ check_failed_array() {
     say "a merge after a failed array task is cancelled"
 }
 
+# A scenario file name and an output directory that the shell and sbatch
+# would split or run if a script let them out of their words: the jobs must
+# run under the names given and write their logs and files where asked.
+check_hostile_names() {
+    local hostile="it's \"a\" \$(touch INJECTED) \`touch INJECTED\`; #b 100%"
+    local scenario="$WORK/$hostile.yaml" out="$WORK/out $hostile"
+    cp "$SCENARIO" "$scenario"
+    (cd "$WORK" && "$RUNCAST" slurm "$scenario" --tasks 2 --out "$out" --asimov-only \
+        --sbatch-arg="--comment=$hostile" --submit >"$WORK/hostile.txt") ||
+        fail "runcast slurm --submit with a hostile scenario name"
+    local array merge
+    array=$(awk '/^array job /{print $3}' "$WORK/hostile.txt")
+    merge=$(awk '/^merge job /{print $3}' "$WORK/hostile.txt")
+    [[ $array =~ ^[0-9]+$ && $merge =~ ^[0-9]+$ ]] || fail "no job ids for the hostile names"
+    wait_for "the merge of the hostile names" bash -c "! squeue -h -j $merge 2>/dev/null | grep -q ."
+    [[ $(job_state "$merge") == COMPLETED ]] || fail "the merge of the hostile names ended $(job_state "$merge")"
+    scontrol -o show job "$merge" | grep -qF "JobName=runcast-$hostile-merge " ||
+        fail "the merge job is not named runcast-$hostile-merge"
+    local file
+    for file in "slurm-${array}_1.out" "slurm-${array}_2.out" "slurm-merge-$merge.out" projection.json; do
+        [[ -f "$out/$file" ]] || fail "no $file in $out"
+    done
+    [[ -z $(find "$WORK" . -maxdepth 1 -name INJECTED) ]] || fail "a hostile name ran a command"
+    say "hostile names: jobs named and logs written as asked, nothing run"
+}
+
 install_packages
 start_munge
 write_configuration
 start_slurm
 run_test
 check_failed_array
+check_hostile_names
 say "passed in $((SECONDS - START))s"

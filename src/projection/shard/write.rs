@@ -3,6 +3,7 @@
 use super::encoding::{Encoder, HashingWriter, encode_point};
 use super::{MAGIC, ShardError, ShardRun, ShardSpec};
 use crate::asymptotic::AsimovSignificance;
+use crate::created_directories::CreatedDirectories;
 use crate::likelihood::Likelihood;
 use crate::model::Model;
 use crate::projection::ensembles::{PointRequest, PointToys, RunToys, ToySource};
@@ -12,9 +13,9 @@ use std::io::{BufWriter, Write};
 use std::path::{Path, PathBuf};
 
 /// Runs shard `shard` of `run` and writes it into `directory` (created if
-/// needed) under [`ShardRun::file_name`], atomically: a hidden temporary file
-/// renamed into place, so a rerun replaces it with the same bytes. Returns
-/// the path written.
+/// needed, and removed again if this fails) under [`ShardRun::file_name`],
+/// atomically: a hidden temporary file renamed into place, so a rerun
+/// replaces it with the same bytes. Returns the path written.
 pub fn run_shard(
     model: &Model,
     run: &ShardRun,
@@ -26,7 +27,7 @@ pub fn run_shard(
         let path = path.to_path_buf();
         move |source| ShardError::Io { path, source }
     };
-    std::fs::create_dir_all(directory).map_err(io_error(directory))?;
+    let created = CreatedDirectories::create(directory).map_err(io_error(directory))?;
     let name = run.file_name(shard);
     let path = directory.join(&name);
     let temporary = directory.join(format!(".{name}.partial"));
@@ -45,7 +46,10 @@ pub fn run_shard(
         .and_then(|()| writer.finish())
         .and_then(|()| std::fs::rename(&temporary, &path).map_err(io_error(&path)));
     if written.is_err() {
+        // Then `created` is dropped: a directory made for this shard goes too.
         let _ = std::fs::remove_file(&temporary);
+    } else {
+        created.keep();
     }
     written.map(|()| path)
 }

@@ -122,13 +122,17 @@ pub fn convert(reports: Vec<Report>, formats: &FigureFormats) -> Result<Vec<Repo
     Ok(converted)
 }
 
-/// The names a product's output set can take on disk: every figure (an
-/// `.svg` name) in every format, other names as they are.
-pub fn family_names(family: &[&str]) -> Vec<String> {
+/// The names a product's output set takes on disk in a run writing
+/// `formats`: every figure (an `.svg` name) in each of those formats, other
+/// names as they are. A figure in another format belongs to an earlier run
+/// that asked for it, so a run writing SVG only never counts an earlier PDF
+/// as its own.
+pub fn family_names(family: &[&str], formats: &FigureFormats) -> Vec<String> {
     family
         .iter()
         .flat_map(|name| match name.strip_suffix(".svg") {
-            Some(_) => FigureFormat::ALL
+            Some(_) => formats
+                .formats
                 .iter()
                 .map(|&format| with_extension(name, format))
                 .collect(),
@@ -198,10 +202,16 @@ mod tests {
     }
 
     #[test]
-    fn figures_stand_for_every_format_in_the_output_set() {
+    fn figures_stand_for_the_formats_written() {
+        let family = ["plot.svg", "table.csv"];
+        let formats = FigureFormats::new(&[FigureFormat::Pdf, FigureFormat::Png], 300).unwrap();
         assert_eq!(
-            family_names(&["plot.svg", "table.csv"]),
-            ["plot.svg", "plot.pdf", "plot.png", "table.csv"]
+            family_names(&family, &formats),
+            ["plot.pdf", "plot.png", "table.csv"]
+        );
+        assert_eq!(
+            family_names(&family, &FigureFormats::svg()),
+            ["plot.svg", "table.csv"]
         );
     }
 
