@@ -9,6 +9,7 @@
 
 use crate::asymptotic::AsimovSignificance;
 use crate::likelihood::{FitFailure, Likelihood};
+use crate::message::show;
 use crate::model::{LiveTime, Model, fraction_inside, shape_from_spec};
 use crate::numeric::times_power_of_ten;
 use crate::scenario::limits::MAX_BINS;
@@ -102,6 +103,9 @@ pub enum BinningError {
     /// The signal is too narrow for its window steps to be told apart from
     /// its position in double precision (see [`SMALLEST_RELATIVE_STEP`]).
     TooNarrow { width: f64, centre: f64 },
+    /// No background is expected in a counting window around the peak: a
+    /// count over no background has no finite significance to compare.
+    NoBackgroundInWindow { low: f64, high: f64, unit: String },
 }
 
 impl fmt::Display for BinningError {
@@ -118,6 +122,12 @@ impl fmt::Display for BinningError {
             BinningError::TooNarrow { width, centre } => write!(
                 f,
                 "signal.shape: a peak width of {width:e} at {centre} is too narrow to scan; window steps of a {WINDOW_STEPS_PER_SIGNAL_WIDTH}th of it must exceed {SMALLEST_RELATIVE_STEP:e} times the larger of the position and the range width"
+            ),
+            BinningError::NoBackgroundInWindow { low, high, unit } => write!(
+                f,
+                "backgrounds: none of them expects events in the counting window [{}, {}] {unit} around the peak, so a count there has no finite significance to compare; the binned shape fit of `project` still applies",
+                show(*low),
+                show(*high)
             ),
         }
     }
@@ -160,6 +170,19 @@ pub fn scan_binning(scenario: &Scenario, days: f64) -> Result<BinningScan, Binni
         .into_iter()
         .map(|(low, high)| {
             let subject = format!("counting window [{low}, {high}] {}", observable.unit);
+            let range = observable.range;
+            let background: f64 = scenario
+                .backgrounds()
+                .iter()
+                .map(|b| b.events_per_day * fraction_inside(&b.shape, range, low, high))
+                .sum();
+            if background <= 0.0 {
+                return Err(BinningError::NoBackgroundInWindow {
+                    low,
+                    high,
+                    unit: observable.unit.clone(),
+                });
+            }
             window_significance(scenario, low, high, live_days).map_err(failed(subject))
         })
         .collect::<Result<Vec<_>, _>>()?;

@@ -10,7 +10,7 @@ use runcast::calendar::DayArgument;
 use runcast::message::show;
 use runcast::model::{LiveTime, Model};
 use runcast::projection::{ProjectionSettings, ShardSpec};
-use runcast::provenance::{Provenance, ScenarioFile, projection_options};
+use runcast::provenance::{Provenance, ScenarioFile};
 use runcast::reach::ReachSettings;
 use runcast::report::{DPI_RANGE, FigureFormats};
 use runcast::scenario::limits::{
@@ -359,7 +359,7 @@ pub struct ProjectOptions {
 impl ProjectOptions {
     /// What made this projection's outputs.
     pub fn provenance(&self) -> Provenance {
-        Provenance::of_projection(self.loaded.scenario_file(), &self.settings)
+        self.settings.provenance(self.loaded.scenario_file())
     }
 
     pub fn resolve(args: &ProjectArgs) -> Result<ProjectOptions, Error> {
@@ -395,7 +395,7 @@ pub fn comparison_provenance(plans: &[ProjectOptions]) -> Provenance {
         "plans".into(),
         plans
             .iter()
-            .map(|plan| serde_json::Value::Object(projection_options(&plan.settings)))
+            .map(|plan| serde_json::Value::Object(plan.settings.provenance_options()))
             .collect(),
     );
     Provenance::new(

@@ -5,10 +5,9 @@
 //! count), so the same inputs give the same bytes, and a sharded run merged
 //! gives the bytes of the unsharded one.
 
-use crate::projection::ProjectionSettings;
 use crate::scenario::TableFile;
 use serde::Serialize;
-use serde_json::{Map, Value, json};
+use serde_json::{Map, Value};
 use sha2::{Digest, Sha256};
 
 /// What made one set of outputs.
@@ -85,36 +84,10 @@ impl Provenance {
         }
     }
 
-    /// A projection of `scenario`: its seed, pseudo-experiments per point
-    /// (0 for Asimov only), calibration toys, the confidence level of the
-    /// limits (null without limits), the `--at` days and, with a position
-    /// scan, the background-only scan toys per point. The grid and the
-    /// targets are the scenario's, which its SHA-256 pins.
-    pub fn of_projection(scenario: ScenarioFile, settings: &ProjectionSettings) -> Provenance {
-        Provenance::new(vec![scenario], projection_options(settings))
-    }
-
     /// The provenance as one line of compact JSON, for a CSV comment.
     pub fn compact(&self) -> String {
         serde_json::to_string(self).expect("provenance is plain JSON")
     }
-}
-
-/// The options of one projection that change its numbers.
-pub fn projection_options(settings: &ProjectionSettings) -> Map<String, Value> {
-    let mut options = Map::new();
-    options.insert("seed".into(), json!(settings.seed));
-    options.insert("toys".into(), json!(settings.toys));
-    options.insert("calibration_toys".into(), json!(settings.calibration_toys));
-    options.insert("cl".into(), json!(settings.cl));
-    options.insert("at_days".into(), json!(settings.at_days));
-    if settings.scan.is_some() {
-        options.insert(
-            "look_elsewhere_toys".into(),
-            json!(settings.look_elsewhere_toys),
-        );
-    }
-    options
 }
 
 #[cfg(test)]

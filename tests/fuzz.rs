@@ -63,8 +63,9 @@ const SHAPES: [&str; 7] = [
     "{breit_wigner: {mean: 50.0, width: 2.0}}",
 ];
 
-/// Keys of `projection.json` that may hold null (see `src/projection/result.rs`).
-const NULLABLE: [&str; 25] = [
+/// Keys of `projection.json` that may hold null (see `src/projection/result.rs`;
+/// each `..._date` key stands beside its `..._days` key, null with it).
+const NULLABLE: [&str; 31] = [
     "cl",
     "z_median",
     "z_band",
@@ -86,6 +87,12 @@ const NULLABLE: [&str; 25] = [
     "look_elsewhere",
     "global_asimov_days",
     "global_median_days",
+    "asimov_date",
+    "median_date",
+    "p50_date",
+    "p90_date",
+    "global_asimov_date",
+    "global_median_date",
     "mean_upcrossings",
     "mean_upcrossings_error",
     "direct_global_p",

@@ -89,7 +89,7 @@ fn merged_shards_give_the_unsharded_bytes_on_every_demo() {
             };
             let model = Model::from_scenario(&scenario);
             // The provenance `runcast project` records: file name, SHA-256, options.
-            let provenance = Provenance::of_projection(ScenarioFile::new(name, &text), &settings);
+            let provenance = settings.provenance(ScenarioFile::new(name, &text));
             let unsharded = rendered(
                 &project(&model, &settings, &|_| {}).expect("projects"),
                 &provenance,

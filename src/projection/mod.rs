@@ -26,9 +26,11 @@ pub use shard::{ShardError, ShardRun, ShardSpec, merge_shards, run_shard};
 use crate::asymptotic::AsimovSignificance;
 use crate::likelihood::{FitFailure, Likelihood};
 use crate::model::Model;
+use crate::provenance::{Provenance, ScenarioFile};
 use crate::scenario::{SignalScan, Spacing};
 use point::{ChannelAlone, PointParts};
 use refine::DaySolver;
+use serde_json::{Map, Value, json};
 use std::fmt;
 
 /// What to project.
@@ -66,6 +68,33 @@ impl ProjectionSettings {
         self.toys * (1 + usize::from(self.cl.is_some()))
             + self.calibration_toys
             + self.look_elsewhere_toys
+    }
+
+    /// What made a projection of `scenario` with these settings: its seed,
+    /// pseudo-experiments per point (0 for Asimov only), calibration toys,
+    /// the confidence level of the limits (null without limits), the `--at`
+    /// days and, with a position scan, the background-only scan toys per
+    /// point. The grid and the targets are the scenario's, which its SHA-256
+    /// pins.
+    pub fn provenance(&self, scenario: ScenarioFile) -> Provenance {
+        Provenance::new(vec![scenario], self.provenance_options())
+    }
+
+    /// The options of the projection that change its numbers.
+    pub fn provenance_options(&self) -> Map<String, Value> {
+        let mut options = Map::new();
+        options.insert("seed".into(), json!(self.seed));
+        options.insert("toys".into(), json!(self.toys));
+        options.insert("calibration_toys".into(), json!(self.calibration_toys));
+        options.insert("cl".into(), json!(self.cl));
+        options.insert("at_days".into(), json!(self.at_days));
+        if self.scan.is_some() {
+            options.insert(
+                "look_elsewhere_toys".into(),
+                json!(self.look_elsewhere_toys),
+            );
+        }
+        options
     }
 
     /// Every pseudo-experiment the projection will run, for progress reporting.

@@ -148,10 +148,9 @@ impl ShardRun {
 
     /// What made the merged outputs: the provenance of the unsharded run.
     pub fn provenance(&self) -> Provenance {
-        Provenance::of_projection(
+        self.settings.provenance(
             ScenarioFile::new(&self.scenario_name, &self.scenario_text)
                 .with_tables(&self.table_files),
-            &self.settings,
         )
     }
 
