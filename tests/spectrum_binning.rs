@@ -233,7 +233,7 @@ fn bad_days_are_refused_before_anything_is_written() {
     fails_writing_nothing(
         &["binning", scenario, "--days", "inf", "--out", dir],
         &out,
-        "--days inf",
+        "'inf' for '--days <D>'",
     );
     fails_writing_nothing(&["binning", scenario, "--out", dir], &out, "--days");
 }
