@@ -11,7 +11,7 @@ use crate::asymptotic::{AsimovSignificance, significance};
 use crate::likelihood::{FitFailure, Likelihood};
 use crate::limits::asymptotic_limits;
 use crate::model::{LiveTime, Model};
-use crate::numeric::bisect_log;
+use crate::numeric::{bisect_log, regula_falsi};
 
 /// Days to each target: Z_A root-found, and the days where the toy median
 /// reaches it and where 50% and 90% of the pseudo-experiments do (their
@@ -148,7 +148,7 @@ fn global_days(
             global: true,
             ..PointParts::NONE
         };
-        refine_crossing(&days, &values, level, |day| {
+        refine_crossing_quickly(&days, &values, level, |day| {
             solver.point(asimov, day, global_only).map(z_global_asimov)
         })?
     } else {
@@ -343,27 +343,65 @@ fn toy_series(
 
 /// The calendar day where an increasing quantity (sampled as `values` at grid
 /// `days`) reaches `level`, root-found with `value_at` between the grid points
-/// that bracket it, or below the first point; None beyond the grid.
+/// that bracket it, or below the first point; None beyond the grid. By
+/// bisection in log(days) ([`bisect_log`]).
 fn refine_crossing<E>(
     days: &[f64],
     values: &[f64],
     level: f64,
-    mut value_at: impl FnMut(f64) -> Result<f64, E>,
+    value_at: impl FnMut(f64) -> Result<f64, E>,
+) -> Result<Option<f64>, E> {
+    refine_crossing_with(days, values, level, value_at, |below, above, value_at| {
+        bisect_log(below.0, above.0, level, value_at).map(Some)
+    })
+}
+
+/// As [`refine_crossing`], by regula falsi ([`regula_falsi`]: a handful of
+/// evaluations where bisection takes two dozen), for a quantity whose
+/// evaluations are costly; by bisection where regula falsi finds no root.
+fn refine_crossing_quickly<E>(
+    days: &[f64],
+    values: &[f64],
+    level: f64,
+    value_at: impl FnMut(f64) -> Result<f64, E>,
+) -> Result<Option<f64>, E> {
+    refine_crossing_with(
+        days,
+        values,
+        level,
+        value_at,
+        |below, above, value_at| match regula_falsi(below, above, level, &mut *value_at)? {
+            Some(day) => Ok(Some(day)),
+            None => bisect_log(below.0, above.0, level, value_at).map(Some),
+        },
+    )
+}
+
+/// The bracket (day, value) below and at or above `level` from the grid
+/// (halving below the first point when it is already above), then `solve`.
+fn refine_crossing_with<E, F: FnMut(f64) -> Result<f64, E>>(
+    days: &[f64],
+    values: &[f64],
+    level: f64,
+    mut value_at: F,
+    solve: impl FnOnce((f64, f64), (f64, f64), &mut F) -> Result<Option<f64>, E>,
 ) -> Result<Option<f64>, E> {
     let Some(above) = values.iter().position(|&v| v >= level) else {
         return Ok(None);
     };
-    let high = days[above];
+    let high = (days[above], values[above]);
     let low = if above > 0 {
-        days[above - 1]
+        (days[above - 1], values[above - 1])
     } else {
-        let mut low = high / 2.0;
-        while value_at(low)? >= level && low > high * 1e-12 {
+        let mut low = high.0 / 2.0;
+        let mut value = value_at(low)?;
+        while value >= level && low > high.0 * 1e-12 {
             low /= 2.0;
+            value = value_at(low)?;
         }
-        low
+        (low, value)
     };
-    bisect_log(low, high, level, value_at).map(Some)
+    solve(low, high, &mut value_at)
 }
 
 #[cfg(test)]

@@ -41,6 +41,7 @@ pub use merge::merge_shards;
 pub use write::run_shard;
 
 use super::ProjectionSettings;
+use crate::message::{show, show_list};
 use crate::provenance::{Provenance, ScenarioFile};
 use crate::scenario::Spacing;
 use crate::scenario::TableFile;
@@ -304,14 +305,11 @@ impl ShardRun {
                 b.look_elsewhere_toys.to_string(),
             )
         })
-        .or_else(|| named("limits (CL)", format!("{:?}", a.cl), format!("{:?}", b.cl)))
         .or_else(|| {
-            named(
-                "--at",
-                format!("{:?}", a.at_days),
-                format!("{:?}", b.at_days),
-            )
+            let cl = |cl: Option<f64>| cl.map_or_else(|| "none (no limits)".to_string(), show);
+            named("limits (CL)", cl(a.cl), cl(b.cl))
         })
+        .or_else(|| named("--at", show_list(&a.at_days), show_list(&b.at_days)))
         .or_else(|| (self != other).then(|| "projection settings".to_string()))
     }
 

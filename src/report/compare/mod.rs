@@ -16,6 +16,7 @@ pub use table::comparison_table;
 
 use super::projection::check_projection;
 use super::{Kind, Output, Render, Report, ReportError, render};
+use crate::message::{show, show_list};
 use crate::projection::{Projection, RateStretch};
 use crate::provenance::Provenance;
 use crate::report::kit::palette::SERIES_COLOURS;
@@ -151,12 +152,14 @@ fn check_comparison(comparison: &Comparison) -> Result<(), ReportError> {
         let reference = &first.projection;
         shared(
             "targets",
-            format!("{:?}", projection.targets),
+            show_list(&projection.targets),
             projection.targets == reference.targets,
         )?;
         shared(
             "cl",
-            format!("{:?}", projection.cl),
+            projection
+                .cl
+                .map_or_else(|| "none (no limits)".to_string(), show),
             projection.cl == reference.cl,
         )?;
         shared(

@@ -5,7 +5,7 @@
 
 use super::ensembles::Ensemble;
 use crate::calendar::CalendarDate;
-use crate::message::show;
+use crate::message::{show, show_rounded};
 use crate::projection::{
     ABSOLUTE_PRECISION, Calibration, DaysToTarget, LookElsewhere, MIN_CONVERGED_FRACTION,
     Projection, RELATIVE_PRECISION, WithheldDay,
@@ -173,7 +173,7 @@ fn scan_line(projection: &Projection) -> Option<String> {
         scan.positions,
         show(scan.from),
         show(scan.to),
-        show(scan.step)
+        show_rounded(scan.step)
     );
     let last = projection
         .points
