@@ -1,0 +1,231 @@
+//! `levers.svg`: one row per input (in the order of the summary), one panel
+//! per target (and global target with a scan) and for exclusion, each on its
+//! own axis of calendar days. In every row a dot marks the nominal days and
+//! two arrows leave it: teal to the days with the input improved by the
+//! step, vermilion to the days with it worsened, each labelled with the days
+//! saved or lost. Where a side reaches no day the row says why in words.
+
+use super::{Change, DayName, LEVERS_SVG, day_names, lost, saved, step_text};
+use crate::levers::{Lever, Levers};
+use crate::report::ReportError;
+use crate::report::kit::axis::{Axis, axis_label, linear_axis};
+use crate::report::kit::figure::{self, Canvas, DrawError, Frame};
+use crate::report::kit::format::days_label;
+use crate::report::kit::marks::{draw_footnote_line, draw_text};
+use crate::report::kit::palette::{DASH, INK, INK_TEAL, SLATE, VERMILION, text_style};
+use plotters::prelude::*;
+use plotters::style::text_anchor::{HPos, VPos};
+
+/// Pixel height of one input's row, of the title band and of the footer.
+const ROW: u32 = 40;
+const TITLE: u32 = 60;
+const FOOTER: u32 = 110;
+/// Pixel width of the input names, and of each panel.
+const NAMES: u32 = 330;
+const PANEL: u32 = 330;
+/// Names longer than this many characters are broken at a dot.
+const NAME_LINE: usize = 40;
+
+pub(super) fn render(levers: &Levers) -> Result<Vec<u8>, ReportError> {
+    let names = day_names(levers);
+    let width = NAMES + PANEL * names.len() as u32 + 20;
+    let height = TITLE + 60 + ROW * levers.levers.len().max(1) as u32 + FOOTER;
+    figure::svg_bytes(LEVERS_SVG, (width, height), |canvas| {
+        draw(canvas, levers, &names, height)
+    })
+}
+
+fn draw(canvas: &Canvas, levers: &Levers, names: &[DayName], height: u32) -> Result<(), DrawError> {
+    draw_text(
+        canvas,
+        &format!("What each input is worth in days: {}", levers.title),
+        (14, 14),
+        INK,
+        22,
+        (HPos::Left, VPos::Top),
+    )?;
+    let (_, rest) = canvas.split_vertically(TITLE);
+    let (body, _) = rest.split_vertically(height - TITLE - FOOTER);
+    let (_, panels) = body.split_horizontally(NAMES);
+    let panels = panels.split_evenly((1, names.len()));
+    for (index, (panel, name)) in panels.iter().zip(names).enumerate() {
+        draw_panel(canvas, panel, levers, name, index == 0)?;
+    }
+    let first = names.first().map_or("exclusion", |name| name.label.as_str());
+    let footnotes = [
+        format!(
+            "● nominal days   → teal: input improved by {step}, days saved   → vermilion: worsened by {step}, days lost",
+            step = step_text(levers.step)
+        ),
+        format!(
+            "Asimov days as runcast project --asimov-only gives them; rows sorted by days saved at {first}; each panel has its own day axis."
+        ),
+        "Days past the plan's grid, or never reached (Z_A saturates below the target), are said in words; levers.csv and .json hold every number.".to_string(),
+    ];
+    for (line, text) in footnotes.iter().rev().enumerate() {
+        draw_footnote_line(canvas, text, line as i32)?;
+    }
+    Ok(())
+}
+
+/// Every day of panel `name`: nominal, improved and worsened, for the axis.
+fn panel_days(levers: &Levers, name: &DayName) -> Vec<f64> {
+    let mut days: Vec<f64> = levers.baseline.all()[name.index].day().into_iter().collect();
+    for lever in &levers.levers {
+        for side in [&lever.improved.days, &lever.worsened.days] {
+            if let Ok(side) = side {
+                days.extend(side.all()[name.index].day());
+            }
+        }
+    }
+    days
+}
+
+fn draw_panel(
+    canvas: &Canvas,
+    panel: &Canvas,
+    levers: &Levers,
+    name: &DayName,
+    with_names: bool,
+) -> Result<(), DrawError> {
+    let days = panel_days(levers, name);
+    let (low, high) = days
+        .iter()
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(l, h), &d| (l.min(d), h.max(d)));
+    let (low, high) = if low.is_finite() { (low, high) } else { (0.0, 1.0) };
+    let pad = ((high - low) * 0.22).max(0.05 * high.abs()).max(0.5);
+    let rows = levers.levers.len().max(1) as f64;
+    let nominal = levers.baseline.all()[name.index].day();
+    let caption = match nominal {
+        Some(day) => format!("{} (nominal {})", name.label, days_label(day)),
+        None => format!("{} (nominal: not reached)", name.label),
+    };
+    let no_label = |_: &f64| String::new();
+    let description = format!("Calendar days to {}", name.label);
+    let x = Axis {
+        coordinate: linear_axis((low - pad).max(0.0)..high + pad),
+        description: Some(&description),
+        format: &axis_label,
+        labels: Some(5),
+    };
+    let y = Axis {
+        coordinate: linear_axis(rows - 0.5..-0.5),
+        description: None,
+        format: &no_label,
+        labels: Some(0),
+    };
+    let frame = Frame {
+        caption: Some((&caption, 17)),
+        margins: [6, 22, 0, 10],
+        label_areas: (48, 0, 0),
+        text_sizes: (14, 13),
+        light_lines: (Some(1), Some(0)),
+    };
+    let mut chart = figure::chart(panel, &frame, x, y)?;
+    let plot = chart.plotting_area().get_pixel_range();
+    if let Some(day) = nominal {
+        let line = vec![(day, -0.5), (day, rows - 0.5)];
+        chart.draw_series(DashedLineSeries::new(line, DASH.0, DASH.1, SLATE.stroke_width(1)))?;
+    }
+    for (row, lever) in levers.levers.iter().enumerate() {
+        let y = row as f64;
+        let (_, pixel_y) = chart.backend_coord(&(0.0, y));
+        if with_names {
+            draw_name(canvas, &lever.input.name, pixel_y)?;
+        }
+        let Some(start) = nominal else {
+            // The nominal plan has no day: only an improved day can be drawn.
+            draw_side(canvas, &mut chart, None, lever, name, levers, true, y, plot.0.start)?;
+            continue;
+        };
+        for improved in [true, false] {
+            draw_side(canvas, &mut chart, Some(start), lever, name, levers, improved, y, plot.0.start)?;
+        }
+        chart.draw_series(std::iter::once(Circle::new((start, y), 5, INK.filled())))?;
+    }
+    Ok(())
+}
+
+/// The input's name right-aligned beside its row, broken at a dot when long.
+fn draw_name(canvas: &Canvas, name: &str, pixel_y: i32) -> Result<(), DrawError> {
+    let lines: Vec<&str> = match name.char_indices().filter(|&(i, c)| c == '.' && i <= NAME_LINE).last() {
+        Some((at, _)) if name.chars().count() > NAME_LINE => vec![&name[..=at], &name[at + 1..]],
+        _ => vec![name],
+    };
+    let top = pixel_y - 8 * (lines.len() as i32 - 1);
+    for (index, line) in lines.iter().enumerate() {
+        draw_text(
+            canvas,
+            line,
+            (NAMES as i32 - 8, top + 16 * index as i32),
+            INK,
+            13,
+            (HPos::Right, VPos::Center),
+        )?;
+    }
+    Ok(())
+}
+
+/// One arrow of a row (improved above the row's centre, worsened below), or
+/// the words saying why there is none.
+#[allow(clippy::too_many_arguments)]
+fn draw_side(
+    canvas: &Canvas,
+    chart: &mut figure::Chart<'_, '_, plotters::coord::types::RangedCoordf64, plotters::coord::types::RangedCoordf64>,
+    start: Option<f64>,
+    lever: &Lever,
+    name: &DayName,
+    levers: &Levers,
+    improved: bool,
+    y: f64,
+    left_edge: i32,
+) -> Result<(), DrawError> {
+    let (colour, side, change, offset) = if improved {
+        (INK_TEAL, &lever.improved, saved(levers, lever, name.index), -6)
+    } else {
+        (VERMILION, &lever.worsened, lost(levers, lever, name.index), 6)
+    };
+    let end = side.days.as_ref().ok().and_then(|days| days.all()[name.index].day());
+    let (_, pixel_y) = chart.backend_coord(&(0.0, y));
+    let pixel_y = pixel_y + offset;
+    let style = text_style(12).color(&colour);
+    match (start, end, &change) {
+        (Some(start), Some(end), Change::Days(days)) => {
+            let (from, _) = chart.backend_coord(&(start, y));
+            let (to, _) = chart.backend_coord(&(end, y));
+            let direction = if to >= from { 1 } else { -1 };
+            canvas.draw(&PathElement::new(
+                vec![(from, pixel_y), (to - direction * 6, pixel_y)],
+                colour.stroke_width(3),
+            ))?;
+            canvas.draw(&Polygon::new(
+                vec![(to, pixel_y), (to - direction * 9, pixel_y - 5), (to - direction * 9, pixel_y + 5)],
+                colour.filled(),
+            ))?;
+            let sign = if improved { "−" } else { "+" };
+            let label = format!("{sign}{:.1} d", days.abs());
+            let anchor = if direction > 0 { HPos::Left } else { HPos::Right };
+            let at = (to + direction * 5, pixel_y);
+            canvas.draw(&Text::new(label, at, style.pos(plotters::style::text_anchor::Pos::new(anchor, VPos::Center))))
+        }
+        (_, Some(end), _) => {
+            // Reached only on this side: a hollow dot and the words.
+            let (to, _) = chart.backend_coord(&(end, y));
+            canvas.draw(&Circle::new((to, pixel_y), 5, colour.stroke_width(2)))?;
+            let at = (to + 9, pixel_y);
+            canvas.draw(&Text::new(change.text(), at, style.pos(plotters::style::text_anchor::Pos::new(HPos::Left, VPos::Center))))
+        }
+        _ if start.is_none() && !improved => Ok(()),
+        _ => {
+            let at = match start {
+                Some(start) => chart.backend_coord(&(start, y)).0 + 9,
+                None => left_edge + 6,
+            };
+            let words = match &change {
+                Change::Missing(reason) if reason.starts_with("not valid") => "not a valid scenario".to_string(),
+                other => other.text(),
+            };
+            canvas.draw(&Text::new(words, (at, pixel_y), style.pos(plotters::style::text_anchor::Pos::new(HPos::Left, VPos::Center))))
+        }
+    }
+}
