@@ -10,7 +10,7 @@ use crate::levers::{Lever, Levers};
 use crate::report::ReportError;
 use crate::report::kit::axis::{Axis, axis_label, linear_axis};
 use crate::report::kit::figure::{self, Canvas, DrawError, Frame};
-use crate::report::kit::format::days_label;
+use crate::report::kit::format::{days_label, rounded};
 use crate::report::kit::marks::{draw_footnote_line, draw_text};
 use crate::report::kit::palette::{DASH, INK, INK_TEAL, SLATE, VERMILION, text_style};
 use plotters::prelude::*;
@@ -51,12 +51,9 @@ fn draw(canvas: &Canvas, levers: &Levers, names: &[DayName], height: u32) -> Res
     for (index, (panel, name)) in panels.iter().zip(names).enumerate() {
         draw_panel(canvas, panel, levers, name, index == 0)?;
     }
+    draw_legend(canvas, &step_text(levers.step))?;
     let first = names.first().map_or("exclusion", |name| name.label.as_str());
     let footnotes = [
-        format!(
-            "● nominal days   → teal: input improved by {step}, days saved   → vermilion: worsened by {step}, days lost",
-            step = step_text(levers.step)
-        ),
         format!(
             "Asimov days as runcast project --asimov-only gives them; rows sorted by days saved at {first}; each panel has its own day axis."
         ),
@@ -66,6 +63,41 @@ fn draw(canvas: &Canvas, levers: &Levers, names: &[DayName], height: u32) -> Res
         draw_footnote_line(canvas, text, line as i32)?;
     }
     Ok(())
+}
+
+/// The legend under the title: the nominal dot and the two arrows, drawn
+/// as in the rows.
+fn draw_legend(canvas: &Canvas, step: &str) -> Result<(), DrawError> {
+    let y = 46;
+    canvas.draw(&Circle::new((22, y), 5, INK.filled()))?;
+    draw_text(canvas, "nominal days", (34, y), INK, 14, (HPos::Left, VPos::Center))?;
+    let entries = [
+        (180, INK_TEAL, format!("input improved by {step}: days saved")),
+        (520, VERMILION, format!("input worsened by {step}: days lost")),
+    ];
+    for (left, colour, label) in entries {
+        draw_arrow(canvas, (left, y), left + 40, colour)?;
+        draw_text(canvas, &label, (left + 50, y), INK, 14, (HPos::Left, VPos::Center))?;
+    }
+    Ok(())
+}
+
+/// An arrow from pixel `from` along its row to x = `to`; a short tick at
+/// `to` when it is too short to carry a head.
+fn draw_arrow(canvas: &Canvas, from: (i32, i32), to: i32, colour: RGBColor) -> Result<(), DrawError> {
+    let (start, y) = from;
+    if (to - start).abs() < 12 {
+        return canvas.draw(&PathElement::new(vec![(to, y - 5), (to, y + 5)], colour.stroke_width(3)));
+    }
+    let direction = if to > start { 1 } else { -1 };
+    canvas.draw(&PathElement::new(
+        vec![(start, y), (to - direction * 6, y)],
+        colour.stroke_width(3),
+    ))?;
+    canvas.draw(&Polygon::new(
+        vec![(to, y), (to - direction * 9, y - 5), (to - direction * 9, y + 5)],
+        colour.filled(),
+    ))
 }
 
 /// Every day of panel `name`: nominal, improved and worsened, for the axis.
@@ -193,17 +225,12 @@ fn draw_side(
         (Some(start), Some(end), Change::Days(days)) => {
             let (from, _) = chart.backend_coord(&(start, y));
             let (to, _) = chart.backend_coord(&(end, y));
-            let direction = if to >= from { 1 } else { -1 };
-            canvas.draw(&PathElement::new(
-                vec![(from, pixel_y), (to - direction * 6, pixel_y)],
-                colour.stroke_width(3),
-            ))?;
-            canvas.draw(&Polygon::new(
-                vec![(to, pixel_y), (to - direction * 9, pixel_y - 5), (to - direction * 9, pixel_y + 5)],
-                colour.filled(),
-            ))?;
-            let sign = if improved { "−" } else { "+" };
-            let label = format!("{sign}{:.1} d", days.abs());
+            draw_arrow(canvas, (from, pixel_y), to, colour)?;
+            let sign = if *days == 0.0 { "" } else if improved { "−" } else { "+" };
+            let label = format!("{sign}{} d", rounded(days.abs()));
+            // Labels go outward: saved to the left, lost to the right, as
+            // the arrows of a better plan point to fewer days.
+            let direction = if to > from || (to == from && !improved) { 1 } else { -1 };
             let anchor = if direction > 0 { HPos::Left } else { HPos::Right };
             let at = (to + direction * 5, pixel_y);
             canvas.draw(&Text::new(label, at, style.pos(plotters::style::text_anchor::Pos::new(anchor, VPos::Center))))
