@@ -19,9 +19,9 @@ fn progress(what: &str, total: u64, quiet: bool) -> ProgressBar {
         return ProgressBar::hidden();
     }
     let bar = ProgressBar::with_draw_target(Some(total), ProgressDrawTarget::stderr());
-    if let Ok(style) =
-        ProgressStyle::with_template(&format!("{what} {{bar:40}} {{pos}}/{{len}} [{{elapsed}} < {{eta}}]"))
-    {
+    if let Ok(style) = ProgressStyle::with_template(&format!(
+        "{what} {{bar:40}} {{pos}}/{{len}} [{{elapsed}} < {{eta}}]"
+    )) {
         bar.set_style(style);
     }
     bar

@@ -45,7 +45,9 @@ fn lever<'a>(document: &'a Value, input: &str) -> &'a Value {
 }
 
 fn number(value: &Value) -> f64 {
-    value.as_f64().unwrap_or_else(|| panic!("{value} is not a number"))
+    value
+        .as_f64()
+        .unwrap_or_else(|| panic!("{value} is not a number"))
 }
 
 /// A peak on a continuum with an input of every single-channel kind: signal
@@ -87,7 +89,10 @@ fn project_days(projection: &Value) -> (Vec<Value>, Value) {
         .iter()
         .map(|row| row["asimov_days"].clone())
         .collect();
-    (targets, projection["days_to_exclusion"]["asimov_days"].clone())
+    (
+        targets,
+        projection["days_to_exclusion"]["asimov_days"].clone(),
+    )
 }
 
 fn assert_same_day(lever_day: &Value, project_day: &Value, what: &str) {
@@ -107,7 +112,11 @@ fn every_lever_gives_the_days_of_project_asimov_only_on_the_changed_scenario() {
     // --asimov-only` on the scenario with that one input changed (same
     // code path, so to 1e-9).
     let scratch = Scratch::new("levers-rewrite");
-    fs::write(scratch.path.join("plan.yaml"), every_kind_of_input(&BTreeMap::new())).unwrap();
+    fs::write(
+        scratch.path.join("plan.yaml"),
+        every_kind_of_input(&BTreeMap::new()),
+    )
+    .unwrap();
     let (_, document) = levers(&scratch, "plan.yaml", &[]);
     let names: Vec<&str> = document["levers"]
         .as_array()
@@ -133,20 +142,49 @@ fn every_lever_gives_the_days_of_project_asimov_only_on_the_changed_scenario() {
     expected.sort_unstable();
     assert_eq!(found, expected);
 
-    run_ok(&scratch, &["project", "plan.yaml", "--asimov-only", "--quiet", "--out", "nominal"]);
+    run_ok(
+        &scratch,
+        &[
+            "project",
+            "plan.yaml",
+            "--asimov-only",
+            "--quiet",
+            "--out",
+            "nominal",
+        ],
+    );
     let (targets, exclusion) = project_days(&read_json(&scratch, "nominal/projection.json"));
     for (index, day) in targets.iter().enumerate() {
         assert_same_day(&document["baseline"]["asimov_days"][index], day, "baseline");
     }
-    assert_same_day(&document["baseline"]["exclusion_days"], &exclusion, "baseline exclusion");
+    assert_same_day(
+        &document["baseline"]["exclusion_days"],
+        &exclusion,
+        "baseline exclusion",
+    );
 
     for name in names {
         let lever = lever(&document, name);
         for side in ["improved", "worsened"] {
             let values = BTreeMap::from([(name.to_string(), number(&lever[side]))]);
-            fs::write(scratch.path.join("changed.yaml"), every_kind_of_input(&values)).unwrap();
-            run_ok(&scratch, &["project", "changed.yaml", "--asimov-only", "--quiet", "--out", "changed"]);
-            let (targets, exclusion) = project_days(&read_json(&scratch, "changed/projection.json"));
+            fs::write(
+                scratch.path.join("changed.yaml"),
+                every_kind_of_input(&values),
+            )
+            .unwrap();
+            run_ok(
+                &scratch,
+                &[
+                    "project",
+                    "changed.yaml",
+                    "--asimov-only",
+                    "--quiet",
+                    "--out",
+                    "changed",
+                ],
+            );
+            let (targets, exclusion) =
+                project_days(&read_json(&scratch, "changed/projection.json"));
             let what = format!("{name} {side}");
             for (index, day) in targets.iter().enumerate() {
                 assert_same_day(&lever[format!("asimov_days_{side}")][index], day, &what);
@@ -182,9 +220,13 @@ fn a_small_signal_over_a_known_background_scales_as_b_over_s_squared() {
     .unwrap();
     let (_, document) = levers(&scratch, "window.yaml", &[]);
     for index in 0..2 {
-        let background = number(&lever(&document, "backgrounds.flat.events_per_day")["elasticity"][index]);
+        let background =
+            number(&lever(&document, "backgrounds.flat.events_per_day")["elasticity"][index]);
         let signal = number(&lever(&document, "signal.events_per_day")["elasticity"][index]);
-        assert!((background - 1.0).abs() < 0.01, "background elasticity {background}");
+        assert!(
+            (background - 1.0).abs() < 0.01,
+            "background elasticity {background}"
+        );
         assert!((signal + 2.0).abs() < 0.02, "signal elasticity {signal}");
     }
 }
@@ -238,11 +280,20 @@ fn a_control_region_lever_follows_cowans_closed_form() {
         let days_improved = cowan_days(s, b, improved, target);
         let days_worsened = cowan_days(s, b, worsened, target);
         let listed = number(&lever["asimov_days_improved"][index]);
-        assert!((listed / days_improved - 1.0).abs() < 1e-5, "{listed} vs {days_improved}");
+        assert!(
+            (listed / days_improved - 1.0).abs() < 1e-5,
+            "{listed} vs {days_improved}"
+        );
         let closed = (days_worsened / days_improved).ln() / (worsened / improved).ln();
         let elasticity = number(&lever["elasticity"][index]);
-        assert!((elasticity - closed).abs() < 1e-4, "{elasticity} vs {closed}");
-        assert!(closed < 0.0, "a better measured background shortens the run");
+        assert!(
+            (elasticity - closed).abs() < 1e-4,
+            "{elasticity} vs {closed}"
+        );
+        assert!(
+            closed < 0.0,
+            "a better measured background shortens the run"
+        );
     }
 }
 
@@ -255,22 +306,39 @@ fn near_saturation_a_lever_says_when_a_target_becomes_reachable_or_not() {
     let scratch = Scratch::new("levers-saturation");
     for (file, delta) in [("below.yaml", 1.0 / 29.0), ("above.yaml", 1.0 / 31.0)] {
         let extra = format!(", norm_uncertainty: {delta}");
-        fs::write(scratch.path.join(file), counting_window(1.0, 10.0, &extra, "[3]", 1e5)).unwrap();
+        fs::write(
+            scratch.path.join(file),
+            counting_window(1.0, 10.0, &extra, "[3]", 1e5),
+        )
+        .unwrap();
     }
     let (stdout, below) = levers(&scratch, "below.yaml", &[]);
     assert!(below["baseline"]["asimov_days"][0].is_null());
-    assert!(below["baseline"]["reasons"]["3σ"].as_str().unwrap().starts_with("never"));
+    assert!(
+        below["baseline"]["reasons"]["3σ"]
+            .as_str()
+            .unwrap()
+            .starts_with("never")
+    );
     let delta = lever(&below, "backgrounds.flat.norm_uncertainty");
     assert!(delta["asimov_days_improved"][0].is_number());
     assert!(delta["days_saved"][0].is_null());
-    assert_eq!(delta["reasons"]["days_saved[0]"], "reachable only if improved");
+    assert_eq!(
+        delta["reasons"]["days_saved[0]"],
+        "reachable only if improved"
+    );
     assert!(stdout.contains("reachable only if improved"), "{stdout}");
 
     let (stdout, above) = levers(&scratch, "above.yaml", &[]);
     let delta = lever(&above, "backgrounds.flat.norm_uncertainty");
     assert!(above["baseline"]["asimov_days"][0].is_number());
     assert!(delta["asimov_days_worsened"][0].is_null());
-    assert!(delta["reasons"]["asimov_days_worsened[0]"].as_str().unwrap().starts_with("never"));
+    assert!(
+        delta["reasons"]["asimov_days_worsened[0]"]
+            .as_str()
+            .unwrap()
+            .starts_with("never")
+    );
     assert_eq!(delta["reasons"]["days_lost[0]"], "unreachable if worsened");
     assert!(stdout.contains("unreachable if worsened"), "{stdout}");
 }
@@ -288,12 +356,18 @@ fn shortening_a_break_by_k_days_saves_k_days_after_it() {
     fs::write(scratch.path.join("pause.yaml"), text).unwrap();
     let (_, document) = levers(&scratch, "pause.yaml", &[]);
     let pause = lever(&document, "schedule.breaks[0].days");
-    assert_eq!((number(&pause["nominal"]), number(&pause["improved"])), (28.0, 25.0));
+    assert_eq!(
+        (number(&pause["nominal"]), number(&pause["improved"])),
+        (28.0, 25.0)
+    );
     let break_end = 10.0 + 28.0;
     let mut after = 0;
     for index in 0..2 {
         let nominal = number(&document["baseline"]["asimov_days"][index]);
-        assert!(nominal > break_end, "3σ and 5σ come after the break: {nominal}");
+        assert!(
+            nominal > break_end,
+            "3σ and 5σ come after the break: {nominal}"
+        );
         for key in ["days_saved", "days_lost"] {
             let days = number(&pause[key][index]);
             assert!((days - 3.0).abs() < 1e-7 * nominal, "{key} {days}");
@@ -308,7 +382,11 @@ fn an_invalid_change_is_reported_and_the_other_side_still_computed() {
     // A live fraction of 1 cannot be raised: the improved side is refused by
     // the scenario's own validation, named, and the worsened one computed.
     let scratch = Scratch::new("levers-invalid");
-    fs::write(scratch.path.join("window.yaml"), counting_window(1.0, 10.0, "", "[3]", 1e4)).unwrap();
+    fs::write(
+        scratch.path.join("window.yaml"),
+        counting_window(1.0, 10.0, "", "[3]", 1e4),
+    )
+    .unwrap();
     let (stdout, document) = levers(&scratch, "window.yaml", &[]);
     let live = lever(&document, "schedule.live_fraction");
     let reason = live["reasons"]["improved"].as_str().unwrap();
@@ -317,23 +395,46 @@ fn an_invalid_change_is_reported_and_the_other_side_still_computed() {
     // One-sided: days ∝ 1/live fraction, so the elasticity is −1 exactly
     // (up to the root finder's precision).
     assert!((number(&live["elasticity"][0]) + 1.0).abs() < 1e-5);
-    assert!(stdout.contains("schedule.live_fraction improved to 1.1: not valid"), "{stdout}");
+    assert!(
+        stdout.contains("schedule.live_fraction improved to 1.1: not valid"),
+        "{stdout}"
+    );
 }
 
 #[test]
 fn set_and_step_change_one_input_as_asked() {
     let scratch = Scratch::new("levers-set");
-    fs::write(scratch.path.join("window.yaml"), counting_window(1.0, 10.0, "", "[3]", 1e4)).unwrap();
+    fs::write(
+        scratch.path.join("window.yaml"),
+        counting_window(1.0, 10.0, "", "[3]", 1e4),
+    )
+    .unwrap();
     let (_, document) = levers(
         &scratch,
         "window.yaml",
-        &["--step", "20%", "--set", "backgrounds.flat.events_per_day=4", "--step", "signal.events_per_day=0.25"],
+        &[
+            "--step",
+            "20%",
+            "--set",
+            "backgrounds.flat.events_per_day=4",
+            "--step",
+            "signal.events_per_day=0.25",
+        ],
     );
     assert_eq!(document["step"], "20%");
     let background = lever(&document, "backgrounds.flat.events_per_day");
-    assert_eq!((number(&background["improved"]), number(&background["worsened"])), (4.0, 16.0));
+    assert_eq!(
+        (
+            number(&background["improved"]),
+            number(&background["worsened"])
+        ),
+        (4.0, 16.0)
+    );
     let signal = lever(&document, "signal.events_per_day");
-    assert_eq!((number(&signal["improved"]), number(&signal["worsened"])), (1.25, 0.75));
+    assert_eq!(
+        (number(&signal["improved"]), number(&signal["worsened"])),
+        (1.25, 0.75)
+    );
     let live = lever(&document, "schedule.live_fraction");
     assert_eq!(number(&live["worsened"]), 0.8);
 }
@@ -341,10 +442,20 @@ fn set_and_step_change_one_input_as_asked() {
 #[test]
 fn bad_steps_and_unknown_inputs_are_usage_errors_that_write_nothing() {
     let scratch = Scratch::new("levers-usage");
-    fs::write(scratch.path.join("window.yaml"), counting_window(1.0, 10.0, "", "[3]", 1e4)).unwrap();
+    fs::write(
+        scratch.path.join("window.yaml"),
+        counting_window(1.0, 10.0, "", "[3]", 1e4),
+    )
+    .unwrap();
     for (args, expected) in [
-        (vec!["--set", "backgrounds.radon.events_per_day=2"], "the inputs are: signal.events_per_day, backgrounds.flat.events_per_day, schedule.live_fraction"),
-        (vec!["--set", "signal.events_per_day=fast"], "\"fast\" is not a finite number"),
+        (
+            vec!["--set", "backgrounds.radon.events_per_day=2"],
+            "the inputs are: signal.events_per_day, backgrounds.flat.events_per_day, schedule.live_fraction",
+        ),
+        (
+            vec!["--set", "signal.events_per_day=fast"],
+            "\"fast\" is not a finite number",
+        ),
         (vec!["--step", "150%"], "above 0% and below 100%"),
         (vec!["--step", "ten"], "expected a percentage"),
         (vec!["--target", "-1"], "--target [-1]"),
@@ -363,7 +474,10 @@ fn bad_steps_and_unknown_inputs_are_usage_errors_that_write_nothing() {
 #[test]
 fn the_two_channel_demo_names_inputs_by_channel_and_writes_its_three_files() {
     let scratch = Scratch::new("levers-channels");
-    let demo = concat!(env!("CARGO_MANIFEST_DIR"), "/scenarios/two_channel_detector.yaml");
+    let demo = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/scenarios/two_channel_detector.yaml"
+    );
     let (stdout, document) = levers(&scratch, demo, &[]);
     for name in [
         "channels.inner.signal.events_per_day",
@@ -388,5 +502,9 @@ fn the_two_channel_demo_names_inputs_by_channel_and_writes_its_three_files() {
         .collect();
     assert!(saved.windows(2).all(|pair| pair[0] >= pair[1]), "{saved:?}");
     let csv = fs::read_to_string(scratch.path.join("levers-out/levers.csv")).unwrap();
-    assert_eq!(csv.lines().count(), 2 + saved.len(), "provenance, header, one row per lever");
+    assert_eq!(
+        csv.lines().count(),
+        2 + saved.len(),
+        "provenance, header, one row per lever"
+    );
 }

@@ -18,27 +18,55 @@ pub enum Better {
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum InputKind {
     /// `signal.events_per_day`: the signal rate after efficiency.
-    SignalRate { channel: usize },
-    BackgroundRate { channel: usize, background: usize },
+    SignalRate {
+        channel: usize,
+    },
+    BackgroundRate {
+        channel: usize,
+        background: usize,
+    },
     /// A background's Gaussian normalisation uncertainty, relative.
-    NormUncertainty { channel: usize, background: usize },
+    NormUncertainty {
+        channel: usize,
+        background: usize,
+    },
     /// A control region's ratio to the signal region's background: the
     /// larger, the better the background is measured.
-    ControlRatio { channel: usize, background: usize },
-    SignalYieldUncertainty { channel: usize },
-    SharedUncertainty { index: usize },
+    ControlRatio {
+        channel: usize,
+        background: usize,
+    },
+    SignalYieldUncertainty {
+        channel: usize,
+    },
+    SharedUncertainty {
+        index: usize,
+    },
     /// The detector mass of a channel (`Some`) or the top-level one
     /// (`None`), which scales every rate written per kg·day.
-    DetectorMass { channel: Option<usize> },
+    DetectorMass {
+        channel: Option<usize>,
+    },
     /// The signal peak's width parameter (a Gaussian's sigma: the resolution).
-    SignalWidth { channel: usize, parameter: usize },
-    SignalPositionUncertainty { channel: usize },
-    SignalWidthUncertainty { channel: usize },
+    SignalWidth {
+        channel: usize,
+        parameter: usize,
+    },
+    SignalPositionUncertainty {
+        channel: usize,
+    },
+    SignalWidthUncertainty {
+        channel: usize,
+    },
     LiveFraction,
     /// The length of a period of reduced rate, in calendar days.
-    ReducedPeriodDays { period: usize },
+    ReducedPeriodDays {
+        period: usize,
+    },
     /// The length of a planned break, in whole calendar days (both ends counted).
-    BreakDays { pause: usize },
+    BreakDays {
+        pause: usize,
+    },
 }
 
 impl InputKind {
@@ -102,21 +130,41 @@ pub fn inputs(scenario: &Scenario) -> Vec<Input> {
         );
         if let Some(width) = positive(signal.yield_uncertainty) {
             let kind = InputKind::SignalYieldUncertainty { channel };
-            add(format!("{prefix}signal.yield_uncertainty"), "relative", width, kind);
+            add(
+                format!("{prefix}signal.yield_uncertainty"),
+                "relative",
+                width,
+                kind,
+            );
         }
         if let Some((parameter, key, name, value)) = signal_width(scenario, channel) {
             let kind = InputKind::SignalWidth { channel, parameter };
             let unit = &written.observable.unit;
-            add(format!("{prefix}signal.shape.{key}.{name}"), unit, value, kind);
+            add(
+                format!("{prefix}signal.shape.{key}.{name}"),
+                unit,
+                value,
+                kind,
+            );
         }
         if let Some(width) = positive(signal.position_uncertainty) {
             let kind = InputKind::SignalPositionUncertainty { channel };
             let unit = &written.observable.unit;
-            add(format!("{prefix}signal.position_uncertainty"), unit, width, kind);
+            add(
+                format!("{prefix}signal.position_uncertainty"),
+                unit,
+                width,
+                kind,
+            );
         }
         if let Some(width) = positive(signal.width_uncertainty) {
             let kind = InputKind::SignalWidthUncertainty { channel };
-            add(format!("{prefix}signal.width_uncertainty"), "relative", width, kind);
+            add(
+                format!("{prefix}signal.width_uncertainty"),
+                "relative",
+                width,
+                kind,
+            );
         }
         for (background, written) in written.backgrounds.iter().enumerate() {
             let path = format!("{prefix}backgrounds.{}", written.name);
@@ -124,17 +172,31 @@ pub fn inputs(scenario: &Scenario) -> Vec<Input> {
                 format!("{path}.events_per_day"),
                 "events per live day",
                 written.events_per_day,
-                InputKind::BackgroundRate { channel, background },
+                InputKind::BackgroundRate {
+                    channel,
+                    background,
+                },
             );
             if let Some(NormUncertainty::Relative(width)) = written.norm_uncertainty
                 && width > 0.0
             {
-                let kind = InputKind::NormUncertainty { channel, background };
+                let kind = InputKind::NormUncertainty {
+                    channel,
+                    background,
+                };
                 add(format!("{path}.norm_uncertainty"), "relative", width, kind);
             }
             if let Some(control) = written.control {
-                let kind = InputKind::ControlRatio { channel, background };
-                add(format!("{path}.control.ratio"), "ratio", control.ratio, kind);
+                let kind = InputKind::ControlRatio {
+                    channel,
+                    background,
+                };
+                add(
+                    format!("{path}.control.ratio"),
+                    "ratio",
+                    control.ratio,
+                    kind,
+                );
             }
         }
         if let Some(detector) = written.detector
@@ -143,12 +205,18 @@ pub fn inputs(scenario: &Scenario) -> Vec<Input> {
             let kind = InputKind::DetectorMass {
                 channel: Some(channel),
             };
-            add(format!("{prefix}detector.mass_kg"), "kg", detector.mass_kg, kind);
+            add(
+                format!("{prefix}detector.mass_kg"),
+                "kg",
+                detector.mass_kg,
+                kind,
+            );
         }
     }
     if let Some(detector) = scenario.detector
-        && (0..scenario.channels.len())
-            .any(|channel| scenario.channels[channel].detector.is_none() && rates_per_kg_day(scenario, channel))
+        && (0..scenario.channels.len()).any(|channel| {
+            scenario.channels[channel].detector.is_none() && rates_per_kg_day(scenario, channel)
+        })
     {
         let kind = InputKind::DetectorMass { channel: None };
         add("detector.mass_kg".into(), "kg", detector.mass_kg, kind);
@@ -156,7 +224,12 @@ pub fn inputs(scenario: &Scenario) -> Vec<Input> {
     for (index, (name, width)) in scenario.shared_uncertainties.iter().enumerate() {
         if *width > 0.0 {
             let kind = InputKind::SharedUncertainty { index };
-            add(format!("shared_uncertainties.{name}"), "relative", *width, kind);
+            add(
+                format!("shared_uncertainties.{name}"),
+                "relative",
+                *width,
+                kind,
+            );
         }
     }
     let schedule = &scenario.schedule;
@@ -172,13 +245,23 @@ pub fn inputs(scenario: &Scenario) -> Vec<Input> {
             && days > 0.0
         {
             let kind = InputKind::ReducedPeriodDays { period };
-            add(format!("schedule.periods[{period}].days"), "calendar days", days, kind);
+            add(
+                format!("schedule.periods[{period}].days"),
+                "calendar days",
+                days,
+                kind,
+            );
         }
     }
     for (pause, (from, to)) in schedule.break_dates().into_iter().enumerate() {
         let days = (to.days_since(from) + 1) as f64;
         let kind = InputKind::BreakDays { pause };
-        add(format!("schedule.breaks[{pause}].days"), "calendar days", days, kind);
+        add(
+            format!("schedule.breaks[{pause}].days"),
+            "calendar days",
+            days,
+            kind,
+        );
     }
     found
 }
@@ -201,10 +284,7 @@ fn rates_per_kg_day(scenario: &Scenario, channel: usize) -> bool {
 /// The signal's peak width of channel `channel`: the parameter's index, the
 /// shape's key, the parameter's name and its value (`Shape::movable_peak`);
 /// None for a shape without a peak.
-fn signal_width(
-    scenario: &Scenario,
-    channel: usize,
-) -> Option<(usize, &'static str, String, f64)> {
+fn signal_width(scenario: &Scenario, channel: usize) -> Option<(usize, &'static str, String, f64)> {
     let channel = &scenario.channels[channel];
     let spec = &channel.signal.shape;
     let placement = Placement {
@@ -327,7 +407,11 @@ fn set_break_days(
     input: &Input,
 ) -> Result<(), ScenarioError> {
     if !(days >= 0.0 && days.fract() == 0.0 && days < 1e6) {
-        return Err(invalid(&input.name, days, "a whole number of days, 0 or more"));
+        return Err(invalid(
+            &input.name,
+            days,
+            "a whole number of days, 0 or more",
+        ));
     }
     if days == 0.0 {
         scenario.schedule.breaks.remove(pause);
@@ -340,7 +424,11 @@ fn set_break_days(
             written.to = to.to_string();
             Ok(())
         }
-        None => Err(invalid(&input.name, days, "a break that ends inside the calendar")),
+        None => Err(invalid(
+            &input.name,
+            days,
+            "a break that ends inside the calendar",
+        )),
     }
 }
 
@@ -348,5 +436,107 @@ fn invalid(field: &str, value: f64, expected: &str) -> ScenarioError {
     ScenarioError::Invalid {
         field: field.to_string(),
         message: format!("must be {expected}, got {}", crate::message::show(value)),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::path::Path;
+
+    fn demo(name: &str) -> Scenario {
+        let path = Path::new(env!("CARGO_MANIFEST_DIR"))
+            .join("scenarios")
+            .join(name);
+        Scenario::load(&path).unwrap()
+    }
+
+    fn names(scenario: &Scenario) -> Vec<String> {
+        inputs(scenario)
+            .into_iter()
+            .map(|input| input.name)
+            .collect()
+    }
+
+    #[test]
+    fn a_scenario_of_several_channels_names_inputs_by_channel() {
+        let names = names(&demo("two_channel_detector.yaml"));
+        for expected in [
+            "channels.inner.signal.events_per_day",
+            "channels.inner.signal.shape.gaussian.sigma",
+            "channels.inner.backgrounds.inner continuum.norm_uncertainty",
+            "channels.outer.backgrounds.outer continuum (simulated).events_per_day",
+            "shared_uncertainties.exposure_scale",
+            "schedule.live_fraction",
+        ] {
+            assert!(
+                names.iter().any(|name| name == expected),
+                "{expected} in {names:?}"
+            );
+        }
+        assert_eq!(names.len(), 10, "{names:?}");
+    }
+
+    #[test]
+    fn a_lever_changes_only_its_input_and_is_validated() {
+        let scenario = demo("counting_window.yaml");
+        let found = inputs(&scenario);
+        let background = found
+            .iter()
+            .find(|input| matches!(input.kind, InputKind::BackgroundRate { .. }))
+            .unwrap();
+        let changed = background.set(&scenario, 2.5).unwrap();
+        assert_eq!(changed.backgrounds()[0].events_per_day, 2.5);
+        assert_eq!(
+            changed.signal().events_per_day,
+            scenario.signal().events_per_day
+        );
+        let refused = background.set(&scenario, -1.0).unwrap_err().to_string();
+        assert!(
+            refused.contains("backgrounds[0].events_per_day"),
+            "{refused}"
+        );
+    }
+
+    #[test]
+    fn a_break_keeps_its_first_date_and_changes_its_last() {
+        let mut scenario = demo("counting_window.yaml");
+        scenario.schedule.start = Some("2027-01-01".into());
+        scenario.schedule.breaks = vec![crate::scenario::Break {
+            from: "2027-02-27".into(),
+            to: "2027-03-02".into(),
+        }];
+        let pause = inputs(&scenario)
+            .into_iter()
+            .find(|input| input.kind.whole_days())
+            .unwrap();
+        // 27 and 28 February and 1 and 2 March 2027: four days, both ends counted.
+        assert_eq!(pause.nominal, 4.0);
+        let longer = pause.set(&scenario, 5.0).unwrap();
+        assert_eq!(longer.schedule.breaks[0].to, "2027-03-03");
+        assert!(
+            pause
+                .set(&scenario, 0.0)
+                .unwrap()
+                .schedule
+                .breaks
+                .is_empty()
+        );
+        assert!(pause.set(&scenario, 2.5).is_err());
+    }
+
+    #[test]
+    fn improvement_runs_the_way_each_input_is_better() {
+        assert_eq!(
+            InputKind::SignalRate { channel: 0 }.better(),
+            Better::Higher
+        );
+        assert_eq!(InputKind::LiveFraction.better(), Better::Higher);
+        let lower = InputKind::BackgroundRate {
+            channel: 0,
+            background: 0,
+        };
+        assert_eq!(lower.better(), Better::Lower);
+        assert_eq!(InputKind::BreakDays { pause: 0 }.better(), Better::Lower);
     }
 }

@@ -283,3 +283,78 @@ fn sort(levers: &mut [Lever], baseline: &AsimovDays) {
     };
     levers.sort_by(|a, b| key(b).total_cmp(&key(a)));
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn input(kind: InputKind, nominal: f64) -> Input {
+        Input {
+            name: "x".into(),
+            unit: "u".into(),
+            nominal,
+            kind,
+        }
+    }
+
+    #[test]
+    fn steps_move_each_input_its_better_way() {
+        let background = input(
+            InputKind::BackgroundRate {
+                channel: 0,
+                background: 0,
+            },
+            40.0,
+        );
+        assert_eq!(
+            Step::Relative(0.25).changed_values(&background),
+            (30.0, 50.0)
+        );
+        assert_eq!(
+            Step::Absolute(5.0).changed_values(&background),
+            (35.0, 45.0)
+        );
+        // A value set on the worse side is still the worsened one.
+        assert_eq!(Step::To(44.0).changed_values(&background), (36.0, 44.0));
+        let signal = input(InputKind::SignalRate { channel: 0 }, 2.0);
+        assert_eq!(Step::Relative(0.5).changed_values(&signal), (3.0, 1.0));
+    }
+
+    #[test]
+    fn breaks_move_by_whole_days_and_at_least_one() {
+        let pause = input(InputKind::BreakDays { pause: 0 }, 28.0);
+        assert_eq!(Step::Relative(0.1).changed_values(&pause), (25.0, 31.0));
+        let short = input(InputKind::BreakDays { pause: 0 }, 3.0);
+        assert_eq!(Step::Relative(0.1).changed_values(&short), (2.0, 4.0));
+    }
+
+    fn side(value: f64, day: Option<f64>) -> Side {
+        let reach = day.map_or(Reach::NotWithinGrid, Reach::Day);
+        Side {
+            value,
+            days: Ok(AsimovDays {
+                targets: vec![reach],
+                global: Vec::new(),
+                exclusion: reach,
+            }),
+        }
+    }
+
+    #[test]
+    fn the_elasticity_of_a_power_law_is_its_exponent() {
+        // days = 100 x^-2: d ln(days)/d ln(x) = -2 from either difference.
+        let days = |x: f64| 100.0 * x.powi(-2);
+        let baseline = side(1.0, Some(days(1.0))).days.unwrap();
+        let central = Lever {
+            input: input(InputKind::SignalRate { channel: 0 }, 1.0),
+            improved: side(1.1, Some(days(1.1))),
+            worsened: side(0.9, Some(days(0.9))),
+        };
+        assert!((central.elasticity(&baseline, 0).unwrap() + 2.0).abs() < 1e-12);
+        let one_sided = Lever {
+            worsened: side(0.9, None),
+            ..central
+        };
+        assert!((one_sided.elasticity(&baseline, 0).unwrap() + 2.0).abs() < 1e-12);
+    }
+}

@@ -3,7 +3,7 @@
 //! improved and worsened Asimov days, the days saved and lost, and the
 //! elasticity; empty cells where there is no number, and `notes` saying why.
 
-use super::{LEVERS_CSV, day_names, lost, saved};
+use super::{LEVERS_CSV, NOT_VALID, day_names, lost, saved};
 use crate::levers::{AsimovDays, Lever, Levers};
 use crate::report::ReportError;
 use crate::report::kit::encode::csv_bytes;
@@ -14,7 +14,14 @@ fn header(levers: &Levers) -> Vec<String> {
         .map(String::from)
         .to_vec();
     for name in day_names(levers) {
-        for column in ["days_nominal", "days_improved", "days_worsened", "days_saved", "days_lost", "elasticity"] {
+        for column in [
+            "days_nominal",
+            "days_improved",
+            "days_worsened",
+            "days_saved",
+            "days_lost",
+            "elasticity",
+        ] {
             header.push(format!("{}_{column}", name.key));
         }
     }
@@ -31,22 +38,33 @@ fn row(levers: &Levers, lever: &Lever) -> Vec<String> {
         number(lever.worsened.value),
     ];
     let mut notes = Vec::new();
-    for (side, days) in [("improved", &lever.improved.days), ("worsened", &lever.worsened.days)] {
+    for (side, days) in [
+        ("improved", &lever.improved.days),
+        ("worsened", &lever.worsened.days),
+    ] {
         if let Err(reason) = days {
-            notes.push(format!("{side}: not valid: {reason}"));
+            notes.push(format!("{side}: {NOT_VALID}: {reason}"));
         }
     }
     let nominal = levers.baseline.all();
     for name in day_names(levers) {
         let side = |days: &Result<AsimovDays, String>| {
-            optional(days.as_ref().ok().and_then(|days| days.all()[name.index].day()))
+            optional(
+                days.as_ref()
+                    .ok()
+                    .and_then(|days| days.all()[name.index].day()),
+            )
         };
         row.push(optional(nominal[name.index].day()));
         row.push(side(&lever.improved.days));
         row.push(side(&lever.worsened.days));
-        let (saved, lost) = (saved(levers, lever, name.index), lost(levers, lever, name.index));
+        let (saved, lost) = (
+            saved(levers, lever, name.index),
+            lost(levers, lever, name.index),
+        );
         for (what, change) in [("saved", &saved), ("lost", &lost)] {
-            if change.days().is_none() && lever.improved.days.is_ok() && lever.worsened.days.is_ok() {
+            if change.days().is_none() && lever.improved.days.is_ok() && lever.worsened.days.is_ok()
+            {
                 notes.push(format!("{} days {what}: {}", name.label, change.text()));
             }
         }

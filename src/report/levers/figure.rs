@@ -14,12 +14,12 @@ use crate::report::kit::format::{days_label, rounded};
 use crate::report::kit::marks::{draw_footnote_line, draw_text};
 use crate::report::kit::palette::{DASH, INK, INK_TEAL, SLATE, VERMILION, text_style};
 use plotters::prelude::*;
-use plotters::style::text_anchor::{HPos, VPos};
+use plotters::style::text_anchor::{HPos, Pos, VPos};
 
 /// Pixel height of one input's row, of the title band and of the footer.
 const ROW: u32 = 40;
 const TITLE: u32 = 60;
-const FOOTER: u32 = 110;
+const FOOTER: u32 = 75;
 /// Pixel width of the input names, and of each panel.
 const NAMES: u32 = 330;
 const PANEL: u32 = 330;
@@ -52,7 +52,9 @@ fn draw(canvas: &Canvas, levers: &Levers, names: &[DayName], height: u32) -> Res
         draw_panel(canvas, panel, levers, name, index == 0)?;
     }
     draw_legend(canvas, &step_text(levers.step))?;
-    let first = names.first().map_or("exclusion", |name| name.label.as_str());
+    let first = names
+        .first()
+        .map_or("exclusion", |name| name.label.as_str());
     let footnotes = [
         format!(
             "Asimov days as runcast project --asimov-only gives them; rows sorted by days saved at {first}; each panel has its own day axis."
@@ -70,24 +72,54 @@ fn draw(canvas: &Canvas, levers: &Levers, names: &[DayName], height: u32) -> Res
 fn draw_legend(canvas: &Canvas, step: &str) -> Result<(), DrawError> {
     let y = 46;
     canvas.draw(&Circle::new((22, y), 5, INK.filled()))?;
-    draw_text(canvas, "nominal days", (34, y), INK, 14, (HPos::Left, VPos::Center))?;
+    draw_text(
+        canvas,
+        "nominal days",
+        (34, y),
+        INK,
+        14,
+        (HPos::Left, VPos::Center),
+    )?;
     let entries = [
-        (180, INK_TEAL, format!("input improved by {step}: days saved")),
-        (520, VERMILION, format!("input worsened by {step}: days lost")),
+        (
+            180,
+            INK_TEAL,
+            format!("input improved by {step}: days saved"),
+        ),
+        (
+            520,
+            VERMILION,
+            format!("input worsened by {step}: days lost"),
+        ),
     ];
     for (left, colour, label) in entries {
         draw_arrow(canvas, (left, y), left + 40, colour)?;
-        draw_text(canvas, &label, (left + 50, y), INK, 14, (HPos::Left, VPos::Center))?;
+        draw_text(
+            canvas,
+            &label,
+            (left + 50, y),
+            INK,
+            14,
+            (HPos::Left, VPos::Center),
+        )?;
     }
     Ok(())
 }
 
 /// An arrow from pixel `from` along its row to x = `to`; a short tick at
 /// `to` when it is too short to carry a head.
-fn draw_arrow(canvas: &Canvas, from: (i32, i32), to: i32, colour: RGBColor) -> Result<(), DrawError> {
+fn draw_arrow(
+    canvas: &Canvas,
+    from: (i32, i32),
+    to: i32,
+    colour: RGBColor,
+) -> Result<(), DrawError> {
     let (start, y) = from;
     if (to - start).abs() < 12 {
-        return canvas.draw(&PathElement::new(vec![(to, y - 5), (to, y + 5)], colour.stroke_width(3)));
+        return canvas.draw(&PathElement::new(
+            vec![(to, y - 5), (to, y + 5)],
+            colour.stroke_width(3),
+        ));
     }
     let direction = if to > start { 1 } else { -1 };
     canvas.draw(&PathElement::new(
@@ -95,19 +127,27 @@ fn draw_arrow(canvas: &Canvas, from: (i32, i32), to: i32, colour: RGBColor) -> R
         colour.stroke_width(3),
     ))?;
     canvas.draw(&Polygon::new(
-        vec![(to, y), (to - direction * 9, y - 5), (to - direction * 9, y + 5)],
+        vec![
+            (to, y),
+            (to - direction * 9, y - 5),
+            (to - direction * 9, y + 5),
+        ],
         colour.filled(),
     ))
 }
 
 /// Every day of panel `name`: nominal, improved and worsened, for the axis.
 fn panel_days(levers: &Levers, name: &DayName) -> Vec<f64> {
-    let mut days: Vec<f64> = levers.baseline.all()[name.index].day().into_iter().collect();
+    let mut days: Vec<f64> = levers.baseline.all()[name.index]
+        .day()
+        .into_iter()
+        .collect();
     for lever in &levers.levers {
-        for side in [&lever.improved.days, &lever.worsened.days] {
-            if let Ok(side) = side {
-                days.extend(side.all()[name.index].day());
-            }
+        for side in [&lever.improved.days, &lever.worsened.days]
+            .into_iter()
+            .flatten()
+        {
+            days.extend(side.all()[name.index].day());
         }
     }
     days
@@ -123,8 +163,14 @@ fn draw_panel(
     let days = panel_days(levers, name);
     let (low, high) = days
         .iter()
-        .fold((f64::INFINITY, f64::NEG_INFINITY), |(l, h), &d| (l.min(d), h.max(d)));
-    let (low, high) = if low.is_finite() { (low, high) } else { (0.0, 1.0) };
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(l, h), &d| {
+            (l.min(d), h.max(d))
+        });
+    let (low, high) = if low.is_finite() {
+        (low, high)
+    } else {
+        (0.0, 1.0)
+    };
     let pad = ((high - low) * 0.22).max(0.05 * high.abs()).max(0.5);
     let rows = levers.levers.len().max(1) as f64;
     let nominal = levers.baseline.all()[name.index].day();
@@ -133,11 +179,19 @@ fn draw_panel(
         None => format!("{} (nominal: not reached)", name.label),
     };
     let no_label = |_: &f64| String::new();
-    let description = format!("Calendar days to {}", name.label);
+    let description = if days.is_empty() {
+        format!("No plan reaches {}", name.label)
+    } else {
+        format!("Calendar days to {}", name.label)
+    };
     let x = Axis {
         coordinate: linear_axis((low - pad).max(0.0)..high + pad),
         description: Some(&description),
-        format: &axis_label,
+        format: if days.is_empty() {
+            &no_label
+        } else {
+            &axis_label
+        },
         labels: Some(5),
     };
     let y = Axis {
@@ -157,30 +211,47 @@ fn draw_panel(
     let plot = chart.plotting_area().get_pixel_range();
     if let Some(day) = nominal {
         let line = vec![(day, -0.5), (day, rows - 0.5)];
-        chart.draw_series(DashedLineSeries::new(line, DASH.0, DASH.1, SLATE.stroke_width(1)))?;
+        chart.draw_series(DashedLineSeries::new(
+            line,
+            DASH.0,
+            DASH.1,
+            SLATE.stroke_width(1),
+        ))?;
     }
+    let pixel_x = |day: f64| chart.backend_coord(&(day, 0.0)).0;
     for (row, lever) in levers.levers.iter().enumerate() {
-        let y = row as f64;
-        let (_, pixel_y) = chart.backend_coord(&(0.0, y));
+        let (_, pixel_y) = chart.backend_coord(&(0.0, row as f64));
         if with_names {
             draw_name(canvas, &lever.input.name, pixel_y)?;
         }
-        let Some(start) = nominal else {
-            // The nominal plan has no day: only an improved day can be drawn.
-            draw_side(canvas, &mut chart, None, lever, name, levers, true, y, plot.0.start)?;
-            continue;
+        let place = Row {
+            levers,
+            lever,
+            name,
+            pixel_y,
+            start: nominal.map(pixel_x),
+            edges: (plot.0.start, plot.0.end),
         };
-        for improved in [true, false] {
-            draw_side(canvas, &mut chart, Some(start), lever, name, levers, improved, y, plot.0.start)?;
+        // Without a nominal day only an improved day can be drawn.
+        for improved in [true, false]
+            .into_iter()
+            .take(if nominal.is_some() { 2 } else { 1 })
+        {
+            draw_side(canvas, &place, improved, &pixel_x)?;
         }
-        chart.draw_series(std::iter::once(Circle::new((start, y), 5, INK.filled())))?;
+        if let Some(start) = place.start {
+            canvas.draw(&Circle::new((start, pixel_y), 5, INK.filled()))?;
+        }
     }
     Ok(())
 }
 
 /// The input's name right-aligned beside its row, broken at a dot when long.
 fn draw_name(canvas: &Canvas, name: &str, pixel_y: i32) -> Result<(), DrawError> {
-    let lines: Vec<&str> = match name.char_indices().filter(|&(i, c)| c == '.' && i <= NAME_LINE).last() {
+    let lines: Vec<&str> = match name
+        .char_indices()
+        .rfind(|&(i, c)| c == '.' && i <= NAME_LINE)
+    {
         Some((at, _)) if name.chars().count() > NAME_LINE => vec![&name[..=at], &name[at + 1..]],
         _ => vec![name],
     };
@@ -198,61 +269,100 @@ fn draw_name(canvas: &Canvas, name: &str, pixel_y: i32) -> Result<(), DrawError>
     Ok(())
 }
 
-/// One arrow of a row (improved above the row's centre, worsened below), or
-/// the words saying why there is none.
-#[allow(clippy::too_many_arguments)]
+/// Where one lever's row is drawn in one panel, in pixels.
+struct Row<'r> {
+    levers: &'r Levers,
+    lever: &'r Lever,
+    name: &'r DayName,
+    pixel_y: i32,
+    /// The nominal day, when the nominal plan reaches one.
+    start: Option<i32>,
+    /// The left and right edges of the plot.
+    edges: (i32, i32),
+}
+
+impl Row<'_> {
+    /// Where words beside pixel `x` go: to its right in the left half of
+    /// the plot, to its left in the right half, so they stay in the panel.
+    fn beside(&self, x: i32, gap: i32) -> (i32, HPos) {
+        let (left, right) = self.edges;
+        if x - left < right - x {
+            (x + gap, HPos::Left)
+        } else {
+            (x - gap, HPos::Right)
+        }
+    }
+}
+
+/// One arrow of a row (improved above the row's centre, worsened below),
+/// with the days saved or lost; or the words saying why there is none.
 fn draw_side(
     canvas: &Canvas,
-    chart: &mut figure::Chart<'_, '_, plotters::coord::types::RangedCoordf64, plotters::coord::types::RangedCoordf64>,
-    start: Option<f64>,
-    lever: &Lever,
-    name: &DayName,
-    levers: &Levers,
+    row: &Row,
     improved: bool,
-    y: f64,
-    left_edge: i32,
+    pixel_x: &dyn Fn(f64) -> i32,
 ) -> Result<(), DrawError> {
+    let Row {
+        levers,
+        lever,
+        name,
+        ..
+    } = *row;
     let (colour, side, change, offset) = if improved {
-        (INK_TEAL, &lever.improved, saved(levers, lever, name.index), -6)
+        (
+            INK_TEAL,
+            &lever.improved,
+            saved(levers, lever, name.index),
+            -6,
+        )
     } else {
-        (VERMILION, &lever.worsened, lost(levers, lever, name.index), 6)
+        (
+            VERMILION,
+            &lever.worsened,
+            lost(levers, lever, name.index),
+            6,
+        )
     };
-    let end = side.days.as_ref().ok().and_then(|days| days.all()[name.index].day());
-    let (_, pixel_y) = chart.backend_coord(&(0.0, y));
-    let pixel_y = pixel_y + offset;
-    let style = text_style(12).color(&colour);
-    match (start, end, &change) {
-        (Some(start), Some(end), Change::Days(days)) => {
-            let (from, _) = chart.backend_coord(&(start, y));
-            let (to, _) = chart.backend_coord(&(end, y));
+    let end = side
+        .days
+        .as_ref()
+        .ok()
+        .and_then(|days| days.all()[name.index].day())
+        .map(pixel_x);
+    let pixel_y = row.pixel_y + offset;
+    let text = |words: String, x: i32, anchor: HPos| {
+        let style = text_style(12)
+            .color(&colour)
+            .pos(Pos::new(anchor, VPos::Center));
+        canvas.draw(&Text::new(words, (x, pixel_y), style))
+    };
+    match (row.start, end, &change) {
+        (Some(from), Some(to), Change::Days(days)) => {
             draw_arrow(canvas, (from, pixel_y), to, colour)?;
-            let sign = if *days == 0.0 { "" } else if improved { "−" } else { "+" };
-            let label = format!("{sign}{} d", rounded(days.abs()));
-            // Labels go outward: saved to the left, lost to the right, as
-            // the arrows of a better plan point to fewer days.
-            let direction = if to > from || (to == from && !improved) { 1 } else { -1 };
-            let anchor = if direction > 0 { HPos::Left } else { HPos::Right };
-            let at = (to + direction * 5, pixel_y);
-            canvas.draw(&Text::new(label, at, style.pos(plotters::style::text_anchor::Pos::new(anchor, VPos::Center))))
+            let sign = match (*days == 0.0, improved) {
+                (true, _) => "",
+                (false, true) => "−",
+                (false, false) => "+",
+            };
+            // Labels go outward from the arrow's head; a change too small
+            // to point anywhere puts saved days left and lost days right.
+            let outward = if to == from { !improved } else { to > from };
+            let (x, anchor) = if outward {
+                (to + 5, HPos::Left)
+            } else {
+                (to - 5, HPos::Right)
+            };
+            text(format!("{sign}{} d", rounded(days.abs())), x, anchor)
         }
-        (_, Some(end), _) => {
+        (_, Some(to), _) => {
             // Reached only on this side: a hollow dot and the words.
-            let (to, _) = chart.backend_coord(&(end, y));
             canvas.draw(&Circle::new((to, pixel_y), 5, colour.stroke_width(2)))?;
-            let at = (to + 9, pixel_y);
-            canvas.draw(&Text::new(change.text(), at, style.pos(plotters::style::text_anchor::Pos::new(HPos::Left, VPos::Center))))
+            let (x, anchor) = row.beside(to, 9);
+            text(change.text(), x, anchor)
         }
-        _ if start.is_none() && !improved => Ok(()),
-        _ => {
-            let at = match start {
-                Some(start) => chart.backend_coord(&(start, y)).0 + 9,
-                None => left_edge + 6,
-            };
-            let words = match &change {
-                Change::Missing(reason) if reason.starts_with("not valid") => "not a valid scenario".to_string(),
-                other => other.text(),
-            };
-            canvas.draw(&Text::new(words, (at, pixel_y), style.pos(plotters::style::text_anchor::Pos::new(HPos::Left, VPos::Center))))
+        (from, None, _) => {
+            let (x, anchor) = row.beside(from.unwrap_or(row.edges.0), 9);
+            text(change.short_text(), x, anchor)
         }
     }
 }

@@ -13,7 +13,10 @@
 //! names the key and says why (`"asimov_days_worsened[1]": "unreachable if
 //! worsened"`, `"improved": "not valid: ..."`).
 
-use super::{Change, DayName, ELASTICITY_METHOD, LEVERS_JSON, day_names, lost, no_day_reason, saved, step_text};
+use super::{
+    Change, DayName, ELASTICITY_METHOD, LEVERS_JSON, NOT_VALID, day_names, lost, no_day_reason,
+    saved, step_text,
+};
 use crate::levers::{Lever, Levers, Reach};
 use crate::report::ReportError;
 use crate::report::kit::encode::json_bytes;
@@ -33,12 +36,20 @@ fn put_days(
     for (position, name) in names.iter().enumerate() {
         let (value, reason) = day(name);
         if value.is_none() && !reason.is_empty() {
-            let at = if array { format!("{key}[{position}]") } else { key.to_string() };
+            let at = if array {
+                format!("{key}[{position}]")
+            } else {
+                key.to_string()
+            };
             reasons.insert(at, json!(reason));
         }
         values.push(json!(value));
     }
-    let value = if array { Value::Array(values) } else { values.pop().unwrap_or(Value::Null) };
+    let value = if array {
+        Value::Array(values)
+    } else {
+        values.pop().unwrap_or(Value::Null)
+    };
     object.insert(key.into(), value);
 }
 
@@ -50,44 +61,81 @@ fn lever_json(levers: &Levers, lever: &Lever, names: &[DayName]) -> Value {
     object.insert("nominal".into(), json!(lever.input.nominal));
     object.insert("improved".into(), json!(lever.improved.value));
     object.insert("worsened".into(), json!(lever.worsened.value));
-    for (side, days) in [("improved", &lever.improved.days), ("worsened", &lever.worsened.days)] {
+    for (side, days) in [
+        ("improved", &lever.improved.days),
+        ("worsened", &lever.worsened.days),
+    ] {
         if let Err(reason) = days {
-            reasons.insert(side.into(), json!(format!("not valid: {reason}")));
+            reasons.insert(side.into(), json!(format!("{NOT_VALID}: {reason}")));
         }
     }
     let count = levers.targets.len();
     let groups: [(&str, Vec<&DayName>, bool); 3] = [
         ("", names[..count].iter().collect(), true),
-        ("global_", names[count..names.len() - 1].iter().collect(), true),
-        ("exclusion_", names[names.len() - 1..].iter().collect(), false),
+        (
+            "global_",
+            names[count..names.len() - 1].iter().collect(),
+            true,
+        ),
+        (
+            "exclusion_",
+            names[names.len() - 1..].iter().collect(),
+            false,
+        ),
     ];
     for (prefix, group, array) in &groups {
         if group.is_empty() {
             continue;
         }
-        let days_key = if *prefix == "exclusion_" { "exclusion_days".to_string() } else { format!("{prefix}asimov_days") };
-        for (suffix, side) in [("improved", &lever.improved.days), ("worsened", &lever.worsened.days)] {
-            put_days(&mut object, &mut reasons, &format!("{days_key}_{suffix}"), group, *array, |name| {
-                match side {
+        let days_key = if *prefix == "exclusion_" {
+            "exclusion_days".to_string()
+        } else {
+            format!("{prefix}asimov_days")
+        };
+        for (suffix, side) in [
+            ("improved", &lever.improved.days),
+            ("worsened", &lever.worsened.days),
+        ] {
+            put_days(
+                &mut object,
+                &mut reasons,
+                &format!("{days_key}_{suffix}"),
+                group,
+                *array,
+                |name| match side {
                     Ok(days) => {
                         let reach = days.all()[name.index];
                         (reach.day(), no_day_reason(reach, levers.last_day))
                     }
                     Err(_) => (None, String::new()),
-                }
-            });
+                },
+            );
         }
-        for (key, change) in [("days_saved", saved as fn(&Levers, &Lever, usize) -> Change), ("days_lost", lost)] {
-            put_days(&mut object, &mut reasons, &format!("{prefix}{key}"), group, *array, |name| {
-                let change = change(levers, lever, name.index);
-                (change.days(), change.text())
-            });
+        for (key, change) in [
+            ("days_saved", saved as fn(&Levers, &Lever, usize) -> Change),
+            ("days_lost", lost),
+        ] {
+            put_days(
+                &mut object,
+                &mut reasons,
+                &format!("{prefix}{key}"),
+                group,
+                *array,
+                |name| {
+                    let change = change(levers, lever, name.index);
+                    (change.days(), change.text())
+                },
+            );
         }
         let elasticity: Vec<Value> = group
             .iter()
             .map(|name| json!(lever.elasticity(&levers.baseline, name.index)))
             .collect();
-        let elasticity = if *array { Value::Array(elasticity) } else { elasticity[0].clone() };
+        let elasticity = if *array {
+            Value::Array(elasticity)
+        } else {
+            elasticity[0].clone()
+        };
         object.insert(format!("{prefix}elasticity"), elasticity);
     }
     object.insert("reasons".into(), Value::Object(reasons));
@@ -95,7 +143,8 @@ fn lever_json(levers: &Levers, lever: &Lever, names: &[DayName]) -> Value {
 }
 
 fn baseline_json(levers: &Levers) -> Value {
-    let days = |reaches: &[Reach]| -> Vec<Option<f64>> { reaches.iter().map(|r| r.day()).collect() };
+    let days =
+        |reaches: &[Reach]| -> Vec<Option<f64>> { reaches.iter().map(|r| r.day()).collect() };
     let baseline = &levers.baseline;
     let mut object = Map::new();
     object.insert("asimov_days".into(), json!(days(&baseline.targets)));

@@ -82,6 +82,9 @@ fn no_day_reason(reach: Reach, last_day: f64) -> String {
     }
 }
 
+/// The words for a side whose changed scenario its validation refuses.
+const NOT_VALID: &str = "not valid";
+
 /// What one side of a lever does to one day, with the words a report
 /// prints instead of a number where there is none.
 enum Change {
@@ -105,6 +108,15 @@ impl Change {
         }
     }
 
+    /// [`Change::text`] for a table cell or a figure: a side that is not a
+    /// valid scenario only says so (the reason is printed once, elsewhere).
+    fn short_text(&self) -> String {
+        match self {
+            Change::Missing(reason) if reason.starts_with(NOT_VALID) => NOT_VALID.to_string(),
+            other => other.text(),
+        }
+    }
+
     fn days(&self) -> Option<f64> {
         match self {
             Change::Days(days) => Some(*days),
@@ -115,7 +127,10 @@ impl Change {
 
 /// The reach of one side of `lever` at day `index`, or why the side is not
 /// a valid scenario.
-fn side_reach(days: &Result<crate::levers::AsimovDays, String>, index: usize) -> Result<Reach, &str> {
+fn side_reach(
+    days: &Result<crate::levers::AsimovDays, String>,
+    index: usize,
+) -> Result<Reach, &str> {
     days.as_ref()
         .map(|days| days.all()[index])
         .map_err(String::as_str)
@@ -128,10 +143,14 @@ fn saved(levers: &Levers, lever: &Lever, index: usize) -> Change {
     }
     let nominal = levers.baseline.all()[index];
     match side_reach(&lever.improved.days, index) {
-        Err(reason) => Change::Missing(format!("not valid: {reason}")),
+        Err(reason) => Change::Missing(format!("{NOT_VALID}: {reason}")),
         Ok(Reach::Day(_)) => Change::ReachableOnlyIfImproved,
         Ok(reach) => Change::Missing(no_day_reason(
-            if nominal.day().is_some() { reach } else { nominal },
+            if nominal.day().is_some() {
+                reach
+            } else {
+                nominal
+            },
             levers.last_day,
         )),
     }
@@ -141,7 +160,7 @@ fn saved(levers: &Levers, lever: &Lever, index: usize) -> Change {
 fn lost(levers: &Levers, lever: &Lever, index: usize) -> Change {
     let nominal = levers.baseline.all()[index];
     match (nominal, side_reach(&lever.worsened.days, index)) {
-        (_, Err(reason)) => Change::Missing(format!("not valid: {reason}")),
+        (_, Err(reason)) => Change::Missing(format!("{NOT_VALID}: {reason}")),
         (Reach::Day(nominal), Ok(Reach::Day(worsened))) => Change::Days(worsened - nominal),
         (Reach::Day(_), Ok(_)) => Change::UnreachableIfWorsened,
         (nominal, Ok(_)) => Change::Missing(no_day_reason(nominal, levers.last_day)),

@@ -3,13 +3,19 @@
 //! per day, the days saved and lost and the elasticity; the sides that are
 //! not valid scenarios named below the table.
 
-use super::{ELASTICITY_METHOD, day_names, lost, no_day_reason, saved, step_text};
+use super::{ELASTICITY_METHOD, NOT_VALID, day_names, lost, no_day_reason, saved, step_text};
 use crate::levers::Levers;
 use crate::report::kit::format::{aligned, days_label, rounded};
 
 /// Saved and lost days, or the words for no number.
 fn pair(saved: super::Change, lost: super::Change) -> String {
-    format!("{} / {}", saved.text(), lost.text())
+    let (saved, lost) = (saved.short_text(), lost.short_text());
+    if saved == lost {
+        // Neither side has a number, for the same reason: said once.
+        saved
+    } else {
+        format!("{saved} / {lost}")
+    }
 }
 
 pub fn levers_summary(levers: &Levers) -> String {
@@ -30,7 +36,9 @@ pub fn levers_summary(levers: &Levers) -> String {
         step_text(levers.step),
         nominal.join(", ")
     );
-    let mut header: Vec<String> = ["input", "nominal", "improved / worsened"].map(String::from).to_vec();
+    let mut header: Vec<String> = ["input", "nominal", "improved / worsened"]
+        .map(String::from)
+        .to_vec();
     for name in &names {
         header.push(format!("{} saved / lost", name.label));
         if name.label != "exclusion" {
@@ -43,10 +51,17 @@ pub fn levers_summary(levers: &Levers) -> String {
         let mut row = vec![
             lever.input.name.clone(),
             rounded(lever.input.nominal),
-            format!("{} / {}", rounded(lever.improved.value), rounded(lever.worsened.value)),
+            format!(
+                "{} / {}",
+                rounded(lever.improved.value),
+                rounded(lever.worsened.value)
+            ),
         ];
         for name in &names {
-            row.push(pair(saved(levers, lever, name.index), lost(levers, lever, name.index)));
+            row.push(pair(
+                saved(levers, lever, name.index),
+                lost(levers, lever, name.index),
+            ));
             if name.label != "exclusion" {
                 row.push(
                     lever
@@ -61,7 +76,11 @@ pub fn levers_summary(levers: &Levers) -> String {
             ("worsened", lever.worsened.value, &lever.worsened.days),
         ] {
             if let Err(reason) = days {
-                invalid.push(format!("  {} {side} to {}: not valid: {reason}\n", lever.input.name, rounded(value)));
+                invalid.push(format!(
+                    "  {} {side} to {}: {NOT_VALID}: {reason}\n",
+                    lever.input.name,
+                    rounded(value)
+                ));
             }
         }
     }
