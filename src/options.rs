@@ -684,11 +684,11 @@ impl LeversOptions {
     pub fn provenance(&self) -> Provenance {
         let mut options = Map::new();
         options.insert("targets".into(), json!(self.settings.targets));
-        options.insert("step".into(), json!(format!("{:?}", self.step)));
+        options.insert("step".into(), json!(self.step.to_string()));
         let steps: Vec<String> = self
             .steps
             .iter()
-            .map(|named| format!("{}: {:?}", named.input, named.step))
+            .map(|named| format!("{}: {}", named.input, named.step))
             .collect();
         options.insert("steps".into(), json!(steps));
         Provenance::new(vec![self.loaded.scenario_file()], options)

@@ -50,6 +50,19 @@ impl Step {
     }
 }
 
+/// The step as written: "10%", "±2", "to 20".
+impl std::fmt::Display for Step {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            Step::Relative(fraction) => {
+                write!(f, "{}%", crate::message::show_rounded(fraction * 100.0))
+            }
+            Step::Absolute(amount) => write!(f, "±{}", crate::message::show(*amount)),
+            Step::To(value) => write!(f, "to {}", crate::message::show(*value)),
+        }
+    }
+}
+
 /// Whether a plan reaches a target or exclusion, and when.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum Reach {
@@ -170,7 +183,7 @@ pub struct Levers {
     /// True with a scan: global days are given too.
     pub scan: bool,
     pub baseline: AsimovDays,
-    /// Sorted by days saved at the first target (see [`Levers::sort`]).
+    /// Sorted by days saved at the first target, most first (`sort`).
     pub levers: Vec<Lever>,
 }
 

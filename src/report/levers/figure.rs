@@ -5,12 +5,12 @@
 //! step, vermilion to the days with it worsened, each labelled with the days
 //! saved or lost. Where a side reaches no day the row says why in words.
 
-use super::{Change, DayName, LEVERS_SVG, day_names, lost, saved, step_text};
+use super::{Change, DayName, LEVERS_SVG, day_names, days_change, lost, saved};
 use crate::levers::{Lever, Levers};
 use crate::report::ReportError;
 use crate::report::kit::axis::{Axis, axis_label, linear_axis};
 use crate::report::kit::figure::{self, Canvas, DrawError, Frame};
-use crate::report::kit::format::{days_label, rounded};
+use crate::report::kit::format::days_label;
 use crate::report::kit::marks::{draw_footnote_line, draw_text};
 use crate::report::kit::palette::{DASH, INK, INK_TEAL, SLATE, VERMILION, text_style};
 use plotters::prelude::*;
@@ -51,7 +51,7 @@ fn draw(canvas: &Canvas, levers: &Levers, names: &[DayName], height: u32) -> Res
     for (index, (panel, name)) in panels.iter().zip(names).enumerate() {
         draw_panel(canvas, panel, levers, name, index == 0)?;
     }
-    draw_legend(canvas, &step_text(levers.step))?;
+    draw_legend(canvas, &levers.step.to_string())?;
     let first = names
         .first()
         .map_or("exclusion", |name| name.label.as_str());
@@ -339,7 +339,7 @@ fn draw_side(
     match (row.start, end, &change) {
         (Some(from), Some(to), Change::Days(days)) => {
             draw_arrow(canvas, (from, pixel_y), to, colour)?;
-            let sign = match (*days == 0.0, improved) {
+            let sign = match (days.abs() < 0.01, improved) {
                 (true, _) => "",
                 (false, true) => "−",
                 (false, false) => "+",
@@ -352,7 +352,7 @@ fn draw_side(
             } else {
                 (to - 5, HPos::Right)
             };
-            text(format!("{sign}{} d", rounded(days.abs())), x, anchor)
+            text(format!("{sign}{}", days_change(days.abs())), x, anchor)
         }
         (_, Some(to), _) => {
             // Reached only on this side: a hollow dot and the words.

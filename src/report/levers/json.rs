@@ -15,7 +15,7 @@
 
 use super::{
     Change, DayName, ELASTICITY_METHOD, LEVERS_JSON, NOT_VALID, day_names, lost, no_day_reason,
-    saved, step_text,
+    saved,
 };
 use crate::levers::{Lever, Levers, Reach};
 use crate::report::ReportError;
@@ -168,7 +168,7 @@ pub(super) fn render(levers: &Levers) -> Result<Vec<u8>, ReportError> {
     let names = day_names(levers);
     let document = json!({
         "title": levers.title,
-        "step": step_text(levers.step),
+        "step": levers.step.to_string(),
         "elasticity_method": ELASTICITY_METHOD,
         "targets": levers.targets,
         "baseline": baseline_json(levers),

@@ -13,7 +13,7 @@ pub use summary::levers_summary;
 use super::kit::format::{days_label, rounded, target_label};
 use super::kit::vocabulary::not_within_grid;
 use super::{Kind, Output, Report, ReportError, render};
-use crate::levers::{Lever, Levers, Reach, Step, days_saved};
+use crate::levers::{Lever, Levers, Reach, days_saved};
 use crate::provenance::Provenance;
 
 /// File name of the levers figure.
@@ -82,6 +82,17 @@ fn no_day_reason(reach: Reach, last_day: f64) -> String {
     }
 }
 
+/// Days saved or lost to three significant digits, or "<0.01 d": a change
+/// that small is below what a plan can act on, and near the relative 1e-7 to
+/// which the Asimov days are root-found (`numeric::bisect_log`).
+fn days_change(days: f64) -> String {
+    if days.abs() < 0.01 {
+        "<0.01 d".to_string()
+    } else {
+        format!("{} d", rounded(days))
+    }
+}
+
 /// The words for a side whose changed scenario its validation refuses.
 const NOT_VALID: &str = "not valid";
 
@@ -101,7 +112,7 @@ enum Change {
 impl Change {
     fn text(&self) -> String {
         match self {
-            Change::Days(days) => format!("{} d", rounded(*days)),
+            Change::Days(days) => days_change(*days),
             Change::ReachableOnlyIfImproved => "reachable only if improved".into(),
             Change::UnreachableIfWorsened => "unreachable if worsened".into(),
             Change::Missing(reason) => reason.clone(),
@@ -164,14 +175,5 @@ fn lost(levers: &Levers, lever: &Lever, index: usize) -> Change {
         (Reach::Day(nominal), Ok(Reach::Day(worsened))) => Change::Days(worsened - nominal),
         (Reach::Day(_), Ok(_)) => Change::UnreachableIfWorsened,
         (nominal, Ok(_)) => Change::Missing(no_day_reason(nominal, levers.last_day)),
-    }
-}
-
-/// The step as written: "10%", "±2", "to 20".
-fn step_text(step: Step) -> String {
-    match step {
-        Step::Relative(fraction) => format!("{}%", rounded(fraction * 100.0)),
-        Step::Absolute(amount) => format!("±{amount}"),
-        Step::To(value) => format!("to {value}"),
     }
 }

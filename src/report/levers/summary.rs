@@ -3,14 +3,15 @@
 //! per day, the days saved and lost and the elasticity; the sides that are
 //! not valid scenarios named below the table.
 
-use super::{ELASTICITY_METHOD, NOT_VALID, day_names, lost, no_day_reason, saved, step_text};
+use super::{ELASTICITY_METHOD, NOT_VALID, day_names, lost, no_day_reason, saved};
 use crate::levers::Levers;
 use crate::report::kit::format::{aligned, days_label, rounded};
 
 /// Saved and lost days, or the words for no number.
 fn pair(saved: super::Change, lost: super::Change) -> String {
+    let neither = saved.days().is_none() && lost.days().is_none();
     let (saved, lost) = (saved.short_text(), lost.short_text());
-    if saved == lost {
+    if neither && saved == lost {
         // Neither side has a number, for the same reason: said once.
         saved
     } else {
@@ -33,7 +34,7 @@ pub fn levers_summary(levers: &Levers) -> String {
     let mut text = format!(
         "{}\nLevers: each input improved and worsened by {} (Asimov days, as runcast project --asimov-only)\nNominal plan: {}\n\n",
         levers.title,
-        step_text(levers.step),
+        levers.step,
         nominal.join(", ")
     );
     let mut header: Vec<String> = ["input", "nominal", "improved / worsened"]
