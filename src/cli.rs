@@ -92,6 +92,16 @@ pub enum Command {
     /// row per plan: days to each target and to exclusion, and the difference
     /// to the first plan. The plans must share targets and confidence level.
     Compare(CompareArgs),
+    /// What each input a user can act on is worth in days: each improved and worsened by a step.
+    ///
+    /// For every input (signal and background rates, normalisation, yield and
+    /// shared uncertainties, detector masses, the signal's width, the live
+    /// fraction, reduced-rate periods and breaks): the Asimov days to each
+    /// target and to exclusion with the input improved and worsened, the days
+    /// saved and lost, and the elasticity d ln(days)/d ln(input). Writes
+    /// levers.svg, levers.csv and levers.json to output/<scenario file stem>/
+    /// (or --out) and prints the table, sorted by days saved at the first target.
+    Levers(LeversArgs),
     /// Write a commented template scenario to FILE (never overwrites).
     New {
         /// Where to write the template.
@@ -285,6 +295,34 @@ pub struct ReachArgs {
     /// Seed of the pseudo-experiments (overrides plan.seed).
     #[arg(long, value_name = "S")]
     pub seed: Option<u64>,
+    /// Output directory (default: output/<scenario file stem>).
+    #[arg(long, value_name = "DIR")]
+    pub out: Option<PathBuf>,
+    #[command(flatten)]
+    pub figures: FigureArgs,
+    /// Worker threads (default: all cores); results do not depend on it.
+    #[arg(long, value_name = "N")]
+    pub threads: Option<usize>,
+    /// No progress bar.
+    #[arg(long)]
+    pub quiet: bool,
+}
+
+#[derive(Debug, Args)]
+pub struct LeversArgs {
+    /// The scenario file (YAML).
+    pub scenario: PathBuf,
+    /// Target significance in sigma (repeat for several; default: plan.targets).
+    #[arg(long = "target", value_name = "Z", allow_negative_numbers = true)]
+    pub targets: Vec<f64>,
+    /// How far each input moves: a percentage of its value (default 10%), or
+    /// INPUT=AMOUNT, an amount in the input's unit for that input (repeatable).
+    #[arg(long, value_name = "STEP")]
+    pub step: Vec<String>,
+    /// INPUT=VALUE: that input changed to VALUE, the other side mirrored about
+    /// its nominal value (repeatable).
+    #[arg(long, value_name = "INPUT=VALUE")]
+    pub set: Vec<String>,
     /// Output directory (default: output/<scenario file stem>).
     #[arg(long, value_name = "DIR")]
     pub out: Option<PathBuf>,

@@ -8,6 +8,7 @@
 //! -> report (SVG, CSV, JSON, terminal summary).
 //! `asymptotic` holds the Asimov answers the projection cross-checks against,
 //! `look_elsewhere` the global p-values of a scan over signal positions;
+//! `levers` prices each input a user can act on in Asimov days;
 //! `spectrum` draws pseudo-data spectra and `binning` scans bin widths and
 //! counting windows, both for planning beside the projection;
 //! `provenance` records what made each output file;
@@ -25,6 +26,7 @@ pub mod calendar;
 pub mod created_directories;
 pub mod ensemble;
 pub mod input_file;
+pub mod levers;
 pub mod likelihood;
 pub mod limits;
 pub mod look_elsewhere;

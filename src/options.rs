@@ -3,11 +3,12 @@
 //! limit on the command line is applied in one place.
 
 use crate::cli::{
-    BinningArgs, FigureArgs, PlanArgs, ProjectArgs, ReachArgs, SlurmArgs, SpectrumArgs,
+    BinningArgs, FigureArgs, LeversArgs, PlanArgs, ProjectArgs, ReachArgs, SlurmArgs, SpectrumArgs,
 };
 use crate::error::Error;
 use runcast::calendar::DayArgument;
-use runcast::message::show;
+use runcast::levers::{Step, StepFor, inputs};
+use runcast::message::{show, show_list};
 use runcast::model::{LiveTime, Model};
 use runcast::projection::{ProjectionSettings, ShardSpec};
 use runcast::provenance::{Provenance, ScenarioFile};
@@ -703,6 +704,133 @@ fn channel_alone(scenario: &Scenario, name: Option<&str>) -> Result<Scenario, Er
             })?,
     };
     Ok(scenario.only_channel(index))
+}
+
+/// `runcast levers`, resolved.
+pub struct LeversOptions {
+    /// The scenario, with `--target` in place of `plan.targets` when given.
+    pub loaded: Loaded,
+    /// The settings of `runcast project --asimov-only` on it.
+    pub settings: ProjectionSettings,
+    /// The step of every input (`--step P%`, default 10%).
+    pub step: Step,
+    /// The inputs moved otherwise (`--step INPUT=AMOUNT`, `--set INPUT=VALUE`).
+    pub steps: Vec<StepFor>,
+    pub threads: Option<usize>,
+    pub quiet: bool,
+    pub out: PathBuf,
+    pub formats: FigureFormats,
+}
+
+/// The step of every input when `--step` gives no percentage.
+const DEFAULT_LEVER_STEP: f64 = 0.1;
+
+impl LeversOptions {
+    /// What made these levers: the scenario, the targets and the steps.
+    pub fn provenance(&self) -> Provenance {
+        let mut options = Map::new();
+        options.insert("targets".into(), json!(self.settings.targets));
+        options.insert("step".into(), json!(self.step.to_string()));
+        let steps: Vec<String> = self
+            .steps
+            .iter()
+            .map(|named| format!("{}: {}", named.input, named.step))
+            .collect();
+        options.insert("steps".into(), json!(steps));
+        Provenance::new(vec![self.loaded.scenario_file()], options)
+    }
+
+    pub fn resolve(args: &LeversArgs) -> Result<LeversOptions, Error> {
+        let mut loaded = Loaded::load(&args.scenario)?;
+        if !args.targets.is_empty() {
+            loaded.scenario.plan.targets = args.targets.clone();
+            loaded.scenario.validate().map_err(|error| {
+                Error::Usage(format!("--target {}: {error}", show_list(&args.targets)))
+            })?;
+        }
+        let names: Vec<String> = inputs(&loaded.scenario)
+            .into_iter()
+            .map(|input| input.name)
+            .collect();
+        let known = |option: &str, name: &str| -> Result<String, Error> {
+            if names.iter().any(|known| known == name) {
+                return Ok(name.to_string());
+            }
+            Err(Error::Usage(format!(
+                "{option} {name}: no such input in {}; the inputs are: {}",
+                loaded.path.display(),
+                names.join(", ")
+            )))
+        };
+        let mut step = None;
+        let mut steps = Vec::new();
+        for written in &args.step {
+            match written.rsplit_once('=') {
+                None => {
+                    let percent = written.strip_suffix('%').ok_or_else(|| {
+                        Error::Usage(format!(
+                            "--step {written}: expected a percentage such as 10% or INPUT=AMOUNT"
+                        ))
+                    })?;
+                    let fraction = lever_number("--step", written, percent)? / 100.0;
+                    if !(fraction > 0.0 && fraction < 1.0) || step.is_some() {
+                        return Err(Error::Usage(format!(
+                            "--step {written}: expected one percentage above 0% and below 100%"
+                        )));
+                    }
+                    step = Some(Step::Relative(fraction));
+                }
+                Some((name, amount)) => {
+                    let amount = lever_number("--step", written, amount)?;
+                    if amount <= 0.0 {
+                        return Err(Error::Usage(format!(
+                            "--step {written}: expected an amount above 0"
+                        )));
+                    }
+                    steps.push(StepFor {
+                        input: known("--step", name)?,
+                        step: Step::Absolute(amount),
+                    });
+                }
+            }
+        }
+        for written in &args.set {
+            let (name, value) = written
+                .rsplit_once('=')
+                .ok_or_else(|| Error::Usage(format!("--set {written}: expected INPUT=VALUE")))?;
+            steps.push(StepFor {
+                input: known("--set", name)?,
+                step: Step::To(lever_number("--set", written, value)?),
+            });
+        }
+        let overrides = PlanOverrides {
+            asimov_only: true,
+            ..PlanOverrides::default()
+        };
+        Ok(LeversOptions {
+            settings: projection_settings(&loaded, &overrides)?,
+            step: step.unwrap_or(Step::Relative(DEFAULT_LEVER_STEP)),
+            steps,
+            threads: check_threads(args.threads)?,
+            quiet: args.quiet,
+            out: loaded.output_directory(args.out.as_deref()),
+            formats: figure_formats(&args.figures)?,
+            loaded,
+        })
+    }
+}
+
+/// The finite number `text` of `option`'s value `written`, or a usage error.
+fn lever_number(option: &str, written: &str, text: &str) -> Result<f64, Error> {
+    text.trim()
+        .parse::<f64>()
+        .ok()
+        .filter(|value| value.is_finite())
+        .ok_or_else(|| {
+            Error::Usage(format!(
+                "{option} {written}: {text:?} is not a finite number"
+            ))
+        })
 }
 
 #[cfg(test)]

@@ -4,6 +4,7 @@ mod bench;
 mod binning;
 mod check;
 mod compare;
+mod levers;
 mod merge;
 mod new;
 mod project;
@@ -26,6 +27,7 @@ pub fn run(cli: Cli) -> Result<(), Error> {
         Command::Reach(args) => reach::run(&args),
         Command::Binning(args) => binning::run(&args),
         Command::Compare(args) => compare::run(&args),
+        Command::Levers(args) => levers::run(&args),
         Command::New { file } => new::run(&file),
         Command::Bench(args) => bench::run(&args),
         Command::Merge { directory, figures } => merge::run(&directory, &figures),

@@ -22,6 +22,7 @@ mod convert;
 mod error;
 mod interrupt;
 mod kit;
+mod levers;
 mod projection;
 mod reach;
 mod spectrum;
@@ -36,6 +37,9 @@ pub use compare::{
 };
 pub use convert::{DEFAULT_DPI, DPI_RANGE, FigureFormat, FigureFormats};
 pub use error::ReportError;
+pub use levers::{
+    LEVERS_CSV, LEVERS_FILES, LEVERS_JSON, LEVERS_SVG, levers_summary, render_levers,
+};
 pub use projection::{
     AT_CSV, LIMITS_SVG, PROBABILITY_SVG, PROJECTION_CSV, PROJECTION_FILES, PROJECTION_JSON,
     PROJECTION_SVG, render_all, summary,

@@ -573,6 +573,13 @@ impl Scenario {
         &mut self.channels[0]
     }
 
+    /// Checks every value again, as reading the file does: for a scenario
+    /// changed in code (a lever), so a change that makes it invalid is
+    /// refused with the field named, never run.
+    pub fn validate(&self) -> Result<(), ScenarioError> {
+        validate::validate(self)
+    }
+
     /// Non-fatal remarks about a valid scenario (e.g. a signal peak outside the range).
     pub fn warnings(&self) -> Vec<Warning> {
         validate::warnings(self)

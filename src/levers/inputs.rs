@@ -1,0 +1,542 @@
+//! The inputs of a scenario a user can act on, found in the typed
+//! [`Scenario`], each named by its dotted path and set to a new value in a
+//! copy that is validated again.
+
+use crate::calendar::CalendarDate;
+use crate::scenario::{NormUncertainty, RateUnit, Scenario, ScenarioError};
+use crate::shapes::{ParameterValue, Placement};
+
+/// Which way an input is better: a lower background, a higher signal, ...
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Better {
+    Lower,
+    Higher,
+}
+
+/// What an input is and where it sits in the scenario (channel, background,
+/// period or break by index).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum InputKind {
+    /// `signal.events_per_day`: the signal rate after efficiency.
+    SignalRate {
+        channel: usize,
+    },
+    BackgroundRate {
+        channel: usize,
+        background: usize,
+    },
+    /// A background's Gaussian normalisation uncertainty, relative.
+    NormUncertainty {
+        channel: usize,
+        background: usize,
+    },
+    /// A control region's ratio to the signal region's background: the
+    /// larger, the better the background is measured.
+    ControlRatio {
+        channel: usize,
+        background: usize,
+    },
+    SignalYieldUncertainty {
+        channel: usize,
+    },
+    SharedUncertainty {
+        index: usize,
+    },
+    /// The detector mass of a channel (`Some`) or the top-level one
+    /// (`None`), which scales every rate written per kg·day.
+    DetectorMass {
+        channel: Option<usize>,
+    },
+    /// The signal peak's width parameter (a Gaussian's sigma: the resolution).
+    SignalWidth {
+        channel: usize,
+        parameter: usize,
+    },
+    SignalPositionUncertainty {
+        channel: usize,
+    },
+    SignalWidthUncertainty {
+        channel: usize,
+    },
+    LiveFraction,
+    /// The length of a period of reduced rate, in calendar days.
+    ReducedPeriodDays {
+        period: usize,
+    },
+    /// The length of a planned break, in whole calendar days (both ends counted).
+    BreakDays {
+        pause: usize,
+    },
+}
+
+impl InputKind {
+    /// The direction in which the input improves the plan.
+    pub fn better(self) -> Better {
+        match self {
+            InputKind::SignalRate { .. }
+            | InputKind::ControlRatio { .. }
+            | InputKind::DetectorMass { .. }
+            | InputKind::LiveFraction => Better::Higher,
+            _ => Better::Lower,
+        }
+    }
+
+    /// True for an input counted in whole days (a break between dates).
+    pub fn whole_days(self) -> bool {
+        matches!(self, InputKind::BreakDays { .. })
+    }
+}
+
+/// One input a user can act on: its dotted name, unit and nominal value.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Input {
+    /// The dotted path, e.g. `backgrounds.radon.events_per_day` or, in a
+    /// scenario of several channels, `channels.inner.signal.events_per_day`.
+    pub name: String,
+    pub unit: String,
+    pub nominal: f64,
+    pub kind: InputKind,
+}
+
+/// Every input of `scenario` a user can act on, in scenario order: per
+/// channel the signal rate, its uncertainties and width, each background's
+/// rate, normalisation uncertainty and control ratio, the detector mass;
+/// then the shared uncertainties, the live fraction, the reduced-rate
+/// periods and the breaks. Uncertainties that are absent (or 0) are not
+/// inputs: there is nothing to improve.
+pub fn inputs(scenario: &Scenario) -> Vec<Input> {
+    let mut found = Vec::new();
+    let mut add = |name: String, unit: &str, nominal: f64, kind: InputKind| {
+        found.push(Input {
+            name,
+            unit: unit.to_string(),
+            nominal,
+            kind,
+        })
+    };
+    let several = scenario.channels.len() > 1;
+    for (channel, written) in scenario.channels.iter().enumerate() {
+        let prefix = if several {
+            format!("channels.{}.", written.name)
+        } else {
+            String::new()
+        };
+        let signal = &written.signal;
+        add(
+            format!("{prefix}signal.events_per_day"),
+            "events per live day",
+            signal.events_per_day,
+            InputKind::SignalRate { channel },
+        );
+        if let Some(width) = positive(signal.yield_uncertainty) {
+            let kind = InputKind::SignalYieldUncertainty { channel };
+            add(
+                format!("{prefix}signal.yield_uncertainty"),
+                "relative",
+                width,
+                kind,
+            );
+        }
+        if let Some((parameter, key, name, value)) = signal_width(scenario, channel) {
+            let kind = InputKind::SignalWidth { channel, parameter };
+            let unit = &written.observable.unit;
+            add(
+                format!("{prefix}signal.shape.{key}.{name}"),
+                unit,
+                value,
+                kind,
+            );
+        }
+        if let Some(width) = positive(signal.position_uncertainty) {
+            let kind = InputKind::SignalPositionUncertainty { channel };
+            let unit = &written.observable.unit;
+            add(
+                format!("{prefix}signal.position_uncertainty"),
+                unit,
+                width,
+                kind,
+            );
+        }
+        if let Some(width) = positive(signal.width_uncertainty) {
+            let kind = InputKind::SignalWidthUncertainty { channel };
+            add(
+                format!("{prefix}signal.width_uncertainty"),
+                "relative",
+                width,
+                kind,
+            );
+        }
+        for (background, written) in written.backgrounds.iter().enumerate() {
+            let path = format!("{prefix}backgrounds.{}", written.name);
+            add(
+                format!("{path}.events_per_day"),
+                "events per live day",
+                written.events_per_day,
+                InputKind::BackgroundRate {
+                    channel,
+                    background,
+                },
+            );
+            if let Some(NormUncertainty::Relative(width)) = written.norm_uncertainty
+                && width > 0.0
+            {
+                let kind = InputKind::NormUncertainty {
+                    channel,
+                    background,
+                };
+                add(format!("{path}.norm_uncertainty"), "relative", width, kind);
+            }
+            if let Some(control) = written.control {
+                let kind = InputKind::ControlRatio {
+                    channel,
+                    background,
+                };
+                add(
+                    format!("{path}.control.ratio"),
+                    "ratio",
+                    control.ratio,
+                    kind,
+                );
+            }
+        }
+        if let Some(detector) = written.detector
+            && rates_per_kg_day(scenario, channel)
+        {
+            let kind = InputKind::DetectorMass {
+                channel: Some(channel),
+            };
+            add(
+                format!("{prefix}detector.mass_kg"),
+                "kg",
+                detector.mass_kg,
+                kind,
+            );
+        }
+    }
+    if let Some(detector) = scenario.detector
+        && (0..scenario.channels.len()).any(|channel| {
+            scenario.channels[channel].detector.is_none() && rates_per_kg_day(scenario, channel)
+        })
+    {
+        let kind = InputKind::DetectorMass { channel: None };
+        add("detector.mass_kg".into(), "kg", detector.mass_kg, kind);
+    }
+    for (index, (name, width)) in scenario.shared_uncertainties.iter().enumerate() {
+        if *width > 0.0 {
+            let kind = InputKind::SharedUncertainty { index };
+            add(
+                format!("shared_uncertainties.{name}"),
+                "relative",
+                *width,
+                kind,
+            );
+        }
+    }
+    let schedule = &scenario.schedule;
+    add(
+        "schedule.live_fraction".into(),
+        "fraction",
+        schedule.live_fraction,
+        InputKind::LiveFraction,
+    );
+    for (period, written) in schedule.periods.iter().enumerate() {
+        if let Some(days) = written.days
+            && written.rate_scale < 1.0
+            && days > 0.0
+        {
+            let kind = InputKind::ReducedPeriodDays { period };
+            add(
+                format!("schedule.periods[{period}].days"),
+                "calendar days",
+                days,
+                kind,
+            );
+        }
+    }
+    for (pause, (from, to)) in schedule.break_dates().into_iter().enumerate() {
+        let days = (to.days_since(from) + 1) as f64;
+        let kind = InputKind::BreakDays { pause };
+        add(
+            format!("schedule.breaks[{pause}].days"),
+            "calendar days",
+            days,
+            kind,
+        );
+    }
+    found
+}
+
+fn positive(value: Option<f64>) -> Option<f64> {
+    value.filter(|&value| value > 0.0)
+}
+
+/// True when some rate of channel `channel` is written per kg·day, so its
+/// detector mass scales it.
+fn rates_per_kg_day(scenario: &Scenario, channel: usize) -> bool {
+    let channel = &scenario.channels[channel];
+    channel.signal.rate_unit == RateUnit::PerKgDay
+        || channel
+            .backgrounds
+            .iter()
+            .any(|background| background.rate_unit == RateUnit::PerKgDay)
+}
+
+/// The signal's peak width of channel `channel`: the parameter's index, the
+/// shape's key, the parameter's name and its value (`Shape::movable_peak`);
+/// None for a shape without a peak.
+fn signal_width(scenario: &Scenario, channel: usize) -> Option<(usize, &'static str, String, f64)> {
+    let channel = &scenario.channels[channel];
+    let spec = &channel.signal.shape;
+    let placement = Placement {
+        range: channel.observable.range,
+        floated: false,
+    };
+    let shape = spec.build(placement).ok()?;
+    let parameter = shape.movable_peak()?.width;
+    let ParameterValue::Number(value) = spec.values[parameter] else {
+        return None;
+    };
+    let name = shape.parameter_names().swap_remove(parameter);
+    Some((parameter, spec.kind.key, name, value))
+}
+
+impl Input {
+    /// A copy of `scenario` with this input set to `value`, validated as a
+    /// scenario file is; the error names the field a bad value breaks.
+    pub fn set(&self, scenario: &Scenario, value: f64) -> Result<Scenario, ScenarioError> {
+        let mut changed = scenario.clone();
+        let ratio = value / self.nominal;
+        match self.kind {
+            InputKind::SignalRate { channel } => {
+                changed.channels[channel].signal.events_per_day = value;
+            }
+            InputKind::BackgroundRate {
+                channel,
+                background,
+            } => changed.channels[channel].backgrounds[background].events_per_day = value,
+            InputKind::NormUncertainty {
+                channel,
+                background,
+            } => {
+                changed.channels[channel].backgrounds[background].norm_uncertainty =
+                    Some(NormUncertainty::Relative(value));
+            }
+            InputKind::ControlRatio {
+                channel,
+                background,
+            } => {
+                if let Some(control) =
+                    &mut changed.channels[channel].backgrounds[background].control
+                {
+                    control.ratio = value;
+                }
+            }
+            InputKind::SignalYieldUncertainty { channel } => {
+                changed.channels[channel].signal.yield_uncertainty = Some(value);
+            }
+            InputKind::SharedUncertainty { index } => {
+                if let Some(width) = changed.shared_uncertainties.values_mut().nth(index) {
+                    *width = value;
+                }
+            }
+            InputKind::DetectorMass { channel } => {
+                if !(value.is_finite() && value > 0.0) {
+                    return Err(invalid(&self.name, value, "a finite mass above 0"));
+                }
+                let scaled: Vec<usize> = match channel {
+                    Some(channel) => {
+                        if let Some(detector) = &mut changed.channels[channel].detector {
+                            detector.mass_kg = value;
+                        }
+                        vec![channel]
+                    }
+                    None => {
+                        if let Some(detector) = &mut changed.detector {
+                            detector.mass_kg = value;
+                        }
+                        (0..changed.channels.len())
+                            .filter(|&index| changed.channels[index].detector.is_none())
+                            .collect()
+                    }
+                };
+                for index in scaled {
+                    scale_rates_per_kg_day(&mut changed, index, ratio);
+                }
+            }
+            InputKind::SignalWidth { channel, parameter } => {
+                changed.channels[channel].signal.shape.values[parameter] =
+                    ParameterValue::Number(value);
+            }
+            InputKind::SignalPositionUncertainty { channel } => {
+                changed.channels[channel].signal.position_uncertainty = Some(value);
+            }
+            InputKind::SignalWidthUncertainty { channel } => {
+                changed.channels[channel].signal.width_uncertainty = Some(value);
+            }
+            InputKind::LiveFraction => changed.schedule.live_fraction = value,
+            InputKind::ReducedPeriodDays { period } => {
+                changed.schedule.periods[period].days = Some(value);
+            }
+            InputKind::BreakDays { pause } => set_break_days(&mut changed, pause, value, self)?,
+        }
+        changed.validate()?;
+        Ok(changed)
+    }
+}
+
+/// Every rate of channel `channel` written per kg·day multiplied by `ratio`
+/// (the new mass over the old): expected events = rate × mass × live days.
+fn scale_rates_per_kg_day(scenario: &mut Scenario, channel: usize, ratio: f64) {
+    let channel = &mut scenario.channels[channel];
+    if channel.signal.rate_unit == RateUnit::PerKgDay {
+        channel.signal.events_per_day *= ratio;
+    }
+    for background in &mut channel.backgrounds {
+        if background.rate_unit == RateUnit::PerKgDay {
+            background.events_per_day *= ratio;
+        }
+    }
+}
+
+/// Break `pause` kept from its first date and lasting `days` whole days
+/// (both ends counted); 0 days removes it.
+fn set_break_days(
+    scenario: &mut Scenario,
+    pause: usize,
+    days: f64,
+    input: &Input,
+) -> Result<(), ScenarioError> {
+    if !(days >= 0.0 && days.fract() == 0.0 && days < 1e6) {
+        return Err(invalid(
+            &input.name,
+            days,
+            "a whole number of days, 0 or more",
+        ));
+    }
+    if days == 0.0 {
+        scenario.schedule.breaks.remove(pause);
+        return Ok(());
+    }
+    let written = &mut scenario.schedule.breaks[pause];
+    let to = CalendarDate::parse(&written.from).and_then(|from| from.after(days - 1.0));
+    match to {
+        Some(to) => {
+            written.to = to.to_string();
+            Ok(())
+        }
+        None => Err(invalid(
+            &input.name,
+            days,
+            "a break that ends inside the calendar",
+        )),
+    }
+}
+
+fn invalid(field: &str, value: f64, expected: &str) -> ScenarioError {
+    ScenarioError::Invalid {
+        field: field.to_string(),
+        message: format!("must be {expected}, got {}", crate::message::show(value)),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::path::Path;
+
+    fn demo(name: &str) -> Scenario {
+        let path = Path::new(env!("CARGO_MANIFEST_DIR"))
+            .join("scenarios")
+            .join(name);
+        Scenario::load(&path).unwrap()
+    }
+
+    fn names(scenario: &Scenario) -> Vec<String> {
+        inputs(scenario)
+            .into_iter()
+            .map(|input| input.name)
+            .collect()
+    }
+
+    #[test]
+    fn a_scenario_of_several_channels_names_inputs_by_channel() {
+        let names = names(&demo("two_channel_detector.yaml"));
+        for expected in [
+            "channels.inner.signal.events_per_day",
+            "channels.inner.signal.shape.gaussian.sigma",
+            "channels.inner.backgrounds.inner continuum.norm_uncertainty",
+            "channels.outer.backgrounds.outer continuum (simulated).events_per_day",
+            "shared_uncertainties.exposure_scale",
+            "schedule.live_fraction",
+        ] {
+            assert!(
+                names.iter().any(|name| name == expected),
+                "{expected} in {names:?}"
+            );
+        }
+        assert_eq!(names.len(), 10, "{names:?}");
+    }
+
+    #[test]
+    fn a_lever_changes_only_its_input_and_is_validated() {
+        let scenario = demo("counting_window.yaml");
+        let found = inputs(&scenario);
+        let background = found
+            .iter()
+            .find(|input| matches!(input.kind, InputKind::BackgroundRate { .. }))
+            .unwrap();
+        let changed = background.set(&scenario, 2.5).unwrap();
+        assert_eq!(changed.backgrounds()[0].events_per_day, 2.5);
+        assert_eq!(
+            changed.signal().events_per_day,
+            scenario.signal().events_per_day
+        );
+        let refused = background.set(&scenario, -1.0).unwrap_err().to_string();
+        assert!(
+            refused.contains("backgrounds[0].events_per_day"),
+            "{refused}"
+        );
+    }
+
+    #[test]
+    fn a_break_keeps_its_first_date_and_changes_its_last() {
+        let mut scenario = demo("counting_window.yaml");
+        scenario.schedule.start = Some("2027-01-01".into());
+        scenario.schedule.breaks = vec![crate::scenario::Break {
+            from: "2027-02-27".into(),
+            to: "2027-03-02".into(),
+        }];
+        let pause = inputs(&scenario)
+            .into_iter()
+            .find(|input| input.kind.whole_days())
+            .unwrap();
+        // 27 and 28 February and 1 and 2 March 2027: four days, both ends counted.
+        assert_eq!(pause.nominal, 4.0);
+        let longer = pause.set(&scenario, 5.0).unwrap();
+        assert_eq!(longer.schedule.breaks[0].to, "2027-03-03");
+        assert!(
+            pause
+                .set(&scenario, 0.0)
+                .unwrap()
+                .schedule
+                .breaks
+                .is_empty()
+        );
+        assert!(pause.set(&scenario, 2.5).is_err());
+    }
+
+    #[test]
+    fn improvement_runs_the_way_each_input_is_better() {
+        assert_eq!(
+            InputKind::SignalRate { channel: 0 }.better(),
+            Better::Higher
+        );
+        assert_eq!(InputKind::LiveFraction.better(), Better::Higher);
+        let lower = InputKind::BackgroundRate {
+            channel: 0,
+            background: 0,
+        };
+        assert_eq!(lower.better(), Better::Lower);
+        assert_eq!(InputKind::BreakDays { pause: 0 }.better(), Better::Lower);
+    }
+}

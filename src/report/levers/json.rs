@@ -1,0 +1,178 @@
+//! `levers.json`.
+//!
+//! Schema: `{title, step, elasticity_method, targets, baseline: {asimov_days:
+//! [one per target], exclusion_days, global_asimov_days (with a scan)},
+//! levers: [{input, unit, nominal, improved, worsened, asimov_days_improved:
+//! [...], asimov_days_worsened: [...], exclusion_days_improved,
+//! exclusion_days_worsened, days_saved: [...], days_lost: [...],
+//! exclusion_days_saved, exclusion_days_lost, elasticity: [...],
+//! exclusion_elasticity, (with a scan: global_asimov_days_improved,
+//! global_asimov_days_worsened, global_days_saved, global_elasticity),
+//! reasons}]}` in calendar days, sorted by days saved at the first target.
+//! A day is null where it is not reached or not computed; `reasons` then
+//! names the key and says why (`"asimov_days_worsened[1]": "unreachable if
+//! worsened"`, `"improved": "not valid: ..."`).
+
+use super::{
+    Change, DayName, ELASTICITY_METHOD, LEVERS_JSON, NOT_VALID, day_names, lost, no_day_reason,
+    saved,
+};
+use crate::levers::{Lever, Levers, Reach};
+use crate::report::ReportError;
+use crate::report::kit::encode::json_bytes;
+use serde_json::{Map, Value, json};
+
+/// The days at `names` as numbers or nulls under `key` (an array for
+/// targets, one value for exclusion), each null's reason put in `reasons`.
+fn put_days(
+    object: &mut Map<String, Value>,
+    reasons: &mut Map<String, Value>,
+    key: &str,
+    names: &[&DayName],
+    array: bool,
+    day: impl Fn(&DayName) -> (Option<f64>, String),
+) {
+    let mut values = Vec::new();
+    for (position, name) in names.iter().enumerate() {
+        let (value, reason) = day(name);
+        if value.is_none() && !reason.is_empty() {
+            let at = if array {
+                format!("{key}[{position}]")
+            } else {
+                key.to_string()
+            };
+            reasons.insert(at, json!(reason));
+        }
+        values.push(json!(value));
+    }
+    let value = if array {
+        Value::Array(values)
+    } else {
+        values.pop().unwrap_or(Value::Null)
+    };
+    object.insert(key.into(), value);
+}
+
+fn lever_json(levers: &Levers, lever: &Lever, names: &[DayName]) -> Value {
+    let mut object = Map::new();
+    let mut reasons = Map::new();
+    object.insert("input".into(), json!(lever.input.name));
+    object.insert("unit".into(), json!(lever.input.unit));
+    object.insert("nominal".into(), json!(lever.input.nominal));
+    object.insert("improved".into(), json!(lever.improved.value));
+    object.insert("worsened".into(), json!(lever.worsened.value));
+    for (side, days) in [
+        ("improved", &lever.improved.days),
+        ("worsened", &lever.worsened.days),
+    ] {
+        if let Err(reason) = days {
+            reasons.insert(side.into(), json!(format!("{NOT_VALID}: {reason}")));
+        }
+    }
+    let count = levers.targets.len();
+    let groups: [(&str, Vec<&DayName>, bool); 3] = [
+        ("", names[..count].iter().collect(), true),
+        (
+            "global_",
+            names[count..names.len() - 1].iter().collect(),
+            true,
+        ),
+        (
+            "exclusion_",
+            names[names.len() - 1..].iter().collect(),
+            false,
+        ),
+    ];
+    for (prefix, group, array) in &groups {
+        if group.is_empty() {
+            continue;
+        }
+        let days_key = if *prefix == "exclusion_" {
+            "exclusion_days".to_string()
+        } else {
+            format!("{prefix}asimov_days")
+        };
+        for (suffix, side) in [
+            ("improved", &lever.improved.days),
+            ("worsened", &lever.worsened.days),
+        ] {
+            put_days(
+                &mut object,
+                &mut reasons,
+                &format!("{days_key}_{suffix}"),
+                group,
+                *array,
+                |name| match side {
+                    Ok(days) => {
+                        let reach = days.all()[name.index];
+                        (reach.day(), no_day_reason(reach, levers.last_day))
+                    }
+                    Err(_) => (None, String::new()),
+                },
+            );
+        }
+        for (key, change) in [
+            ("days_saved", saved as fn(&Levers, &Lever, usize) -> Change),
+            ("days_lost", lost),
+        ] {
+            put_days(
+                &mut object,
+                &mut reasons,
+                &format!("{prefix}{key}"),
+                group,
+                *array,
+                |name| {
+                    let change = change(levers, lever, name.index);
+                    (change.days(), change.text())
+                },
+            );
+        }
+        let elasticity: Vec<Value> = group
+            .iter()
+            .map(|name| json!(lever.elasticity(&levers.baseline, name.index)))
+            .collect();
+        let elasticity = if *array {
+            Value::Array(elasticity)
+        } else {
+            elasticity[0].clone()
+        };
+        object.insert(format!("{prefix}elasticity"), elasticity);
+    }
+    object.insert("reasons".into(), Value::Object(reasons));
+    Value::Object(object)
+}
+
+fn baseline_json(levers: &Levers) -> Value {
+    let days =
+        |reaches: &[Reach]| -> Vec<Option<f64>> { reaches.iter().map(|r| r.day()).collect() };
+    let baseline = &levers.baseline;
+    let mut object = Map::new();
+    object.insert("asimov_days".into(), json!(days(&baseline.targets)));
+    object.insert("exclusion_days".into(), json!(baseline.exclusion.day()));
+    if levers.scan {
+        object.insert("global_asimov_days".into(), json!(days(&baseline.global)));
+    }
+    let reasons: Map<String, Value> = baseline
+        .all()
+        .into_iter()
+        .zip(day_names(levers))
+        .filter(|(reach, _)| reach.day().is_none())
+        .map(|(reach, name)| (name.label, json!(no_day_reason(reach, levers.last_day))))
+        .collect();
+    object.insert("reasons".into(), Value::Object(reasons));
+    Value::Object(object)
+}
+
+/// Pretty-printed JSON of the levers, ending with a newline.
+pub(super) fn render(levers: &Levers) -> Result<Vec<u8>, ReportError> {
+    let names = day_names(levers);
+    let document = json!({
+        "title": levers.title,
+        "step": levers.step.to_string(),
+        "elasticity_method": ELASTICITY_METHOD,
+        "targets": levers.targets,
+        "baseline": baseline_json(levers),
+        "levers": levers.levers.iter().map(|lever| lever_json(levers, lever, &names)).collect::<Vec<Value>>(),
+    });
+    json_bytes(LEVERS_JSON, &document)
+}
