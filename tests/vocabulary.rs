@@ -103,7 +103,7 @@ fn every_column_and_key_written_is_documented() {
         let entry = entry.unwrap();
         fs::copy(entry.path(), scratch.path.join(entry.file_name())).unwrap();
     }
-    let runs: [&[&str]; 7] = [
+    let runs: [&[&str]; 8] = [
         &[
             "project",
             "unknown_line.yaml",
@@ -173,6 +173,7 @@ fn every_column_and_key_written_is_documented() {
             "--out",
             "binning",
         ],
+        &["levers", "two_channel_detector.yaml", "--out", "levers"],
     ];
     for args in runs {
         let output = scratch.run(args);
@@ -185,7 +186,7 @@ fn every_column_and_key_written_is_documented() {
     let lists = documented();
     let mut checked = 0;
     for folder in [
-        "scan", "channels", "dated", "reach", "compare", "spectrum", "binning",
+        "scan", "channels", "dated", "reach", "compare", "spectrum", "binning", "levers",
     ] {
         for entry in fs::read_dir(scratch.path.join(folder)).unwrap() {
             let path = entry.unwrap().path();

@@ -1,4 +1,5 @@
-//! `levers.csv`: one row per lever, in the order of the summary, with for
+//! `levers.csv`: one row per lever, in the order of the summary (columns
+//! `<quantity>_<target>sigma` as in every table), with for
 //! each day (target, global target with a scan, exclusion) the nominal,
 //! improved and worsened Asimov days, the days saved and lost, and the
 //! elasticity; empty cells where there is no number, and `notes` saying why.
@@ -22,7 +23,7 @@ fn header(levers: &Levers) -> Vec<String> {
             "days_lost",
             "elasticity",
         ] {
-            header.push(format!("{}_{column}", name.key));
+            header.push(format!("{column}_{}", name.key));
         }
     }
     header.push("notes".into());
