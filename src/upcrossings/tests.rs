@@ -23,9 +23,7 @@ plan:
 
 fn geometry_of(model: &Model, scenario: &Scenario, live_days: f64) -> ScanGeometry {
     let scan = scenario.signal_scan().unwrap();
-    let shape = model.channels[0].components[0].shape.as_ref();
-    let path = scan_path(&scan, shape).unwrap();
-    scan_geometry(&Likelihood::new(model), &path, live_days).unwrap()
+    scan_geometry(&Likelihood::new(model), &scan_path(&scan), live_days).unwrap()
 }
 
 /// For a Gaussian signal of width sigma on a flat background with large
@@ -58,7 +56,7 @@ fn one_position_has_no_upcrossings() {
     let path = PeakPath {
         interval: [50.0, 50.0],
         parameters_at: Box::new(|m| scan.shape_parameters_at(m)),
-        direction: vec![1.0, 0.0],
+        direction_at: Box::new(|_| vec![1.0, 0.0]),
         narrowest_width: 1.0,
     };
     let geometry = scan_geometry(&Likelihood::new(&model), &path, 30.0).unwrap();

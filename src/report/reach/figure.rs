@@ -64,9 +64,10 @@ fn draw(canvas: &Canvas, reach: &Reach) -> Result<(), DrawError> {
         format: &axis_label,
         labels: None,
     };
+    let y_description = format!("Signal rate [{}]", reach.rate_unit);
     let y = Axis {
         coordinate: log_axis(rates),
-        description: Some("Signal rate [events per live day]"),
+        description: Some(&y_description),
         format: &axis_label,
         labels: None,
     };
