@@ -42,6 +42,10 @@ pub(super) struct DetectorSignalFile {
     scan: Option<Scan>,
     #[serde(default)]
     yield_uncertainty: Option<f64>,
+    /// Names of shared uncertainties whose factors multiply the signal
+    /// yield in every channel.
+    #[serde(default)]
+    shared: Vec<String>,
 }
 
 /// `shape: {gaussian: {mean: M}}`: the position alone.
@@ -198,7 +202,7 @@ impl DetectorSignalFile {
             };
             resolution.require_positive_on(&field, interval)?;
             let rate_factor = mass_factor * efficiency;
-            let mut shared = Vec::new();
+            let mut shared = self.shared.clone();
             if several && self.yield_uncertainty.is_some() {
                 shared.push(SIGNAL_YIELD_SHARED.to_string());
             }

@@ -464,4 +464,116 @@ plan:
         let (field, _) = invalid(&shared.replacen("detector: {mass_kg: 4}\n", "", 1));
         assert_eq!(field, "channels[0].signal.events_per_kg_day");
     }
+
+    /// Two volumes seeing one rate per kg·day: each channel's signal is
+    /// rate × mass × efficiency per live day (common practice), a Gaussian
+    /// at the position with its resolution there as the width; the yield
+    /// uncertainty one factor shared by both.
+    const DETECTOR_LEVEL: &str = "\
+title: Detector level
+signal:
+  events_per_kg_day: 0.5
+  shape: {gaussian: {mean: 40.0}}
+  yield_uncertainty: 0.1
+channels:
+  - name: inner
+    observable: {name: energy, unit: keV, range: [0.0, 100.0], bin_width: 1.0}
+    detector: {mass_kg: 4}
+    signal_efficiency: 0.5
+    resolution: {points: [[0.0, 1.0], [100.0, 3.0]]}
+    backgrounds:
+      - {name: flat, events_per_day: 40, shape: {flat: {}}}
+  - name: outer
+    observable: {name: energy, unit: keV, range: [0.0, 100.0], bin_width: 1.0}
+    detector: {mass_kg: 10}
+    resolution: {stochastic: 0.5, constant: 0.0, noise: 3.0}
+    backgrounds:
+      - {name: flat, events_per_day: 40, shape: {flat: {}}}
+plan:
+  days: {first: 1, last: 100, points: 5, spacing: log}
+  toys: 10
+  seed: 1
+  targets: [3]
+";
+
+    #[test]
+    fn a_detector_level_signal_becomes_one_signal_per_channel() {
+        let scenario = Scenario::from_yaml(DETECTOR_LEVEL).unwrap();
+        let [inner, outer] = [&scenario.channels[0].signal, &scenario.channels[1].signal];
+        assert_eq!(inner.events_per_day, 0.5 * 4.0 * 0.5);
+        assert_eq!(outer.events_per_day, 0.5 * 10.0);
+        assert_eq!(inner.shape.values[1].number(), 1.8);
+        assert_eq!(
+            outer.shape.values[1].number(),
+            (0.25 * 40.0 + 9.0f64).sqrt()
+        );
+        assert_eq!(inner.shared, [super::super::SIGNAL_YIELD_SHARED]);
+        assert_eq!(
+            scenario.shared_uncertainties[super::super::SIGNAL_YIELD_SHARED],
+            0.1
+        );
+        let detector_signal = scenario.detector_signal.unwrap();
+        assert_eq!(detector_signal.rate, 0.5);
+        assert_eq!(detector_signal.channels[0].rate_factor, 2.0);
+    }
+
+    #[test]
+    fn detector_level_errors_name_their_field() {
+        for (from, to, field) in [
+            (
+                "    signal_efficiency: 0.5\n",
+                "    signal_efficiency: 1.5\n",
+                "channels[0].signal_efficiency",
+            ),
+            (
+                "    resolution: {points: [[0.0, 1.0], [100.0, 3.0]]}\n",
+                "",
+                "channels[0].resolution",
+            ),
+            (
+                "[[0.0, 1.0], [100.0, 3.0]]",
+                "[[100.0, 1.0], [0.0, 3.0]]",
+                "channels[0].resolution.points[1][0]",
+            ),
+            (
+                "[[0.0, 1.0], [100.0, 3.0]]",
+                "[[0.0, -1.0]]",
+                "channels[0].resolution.points[0][1]",
+            ),
+            (
+                "{mean: 40.0}",
+                "{mean: 40.0, sigma: 2}",
+                "signal.shape.gaussian.sigma",
+            ),
+            (
+                "{mean: 40.0}",
+                "{mean: 140.0}",
+                "signal.shape.gaussian.mean",
+            ),
+            (
+                "    detector: {mass_kg: 10}\n",
+                "",
+                "channels[1].detector.mass_kg",
+            ),
+            (
+                "    signal_efficiency: 0.5\n",
+                "    signal: {events_per_day: 1, shape: {gaussian: {mean: 40.0, sigma: 1.0}}}\n",
+                "channels[0].signal",
+            ),
+            (
+                "noise: 3.0}",
+                "noise: 0.0}\n    signal_efficiency: 0.5",
+                "channels",
+            ),
+        ] {
+            assert!(DETECTOR_LEVEL.contains(from), "{from}");
+            let text = DETECTOR_LEVEL.replacen(from, to, 1);
+            let text = if field == "channels" {
+                text.replacen("signal_efficiency: 0.5", "signal_efficiency: 0", 2)
+            } else {
+                text
+            };
+            assert_eq!(invalid(&text).0, field, "{to}");
+        }
+    }
 }

@@ -191,8 +191,26 @@ pub(super) fn warnings(scenario: &Scenario) -> Vec<Warning> {
         }));
     }
     remarks.extend(unused_shared_uncertainties(scenario));
+    remarks.extend(width_at_to_away_from_from(scenario));
     remarks.extend(first_day_without_exposure(scenario));
     remarks
+}
+
+/// `scan.width_at_to` beside a signal position other than `scan.from`:
+/// the linear width starts from the signal's own width at `from`.
+fn width_at_to_away_from_from(scenario: &Scenario) -> Option<Warning> {
+    let signal = scenario.signal();
+    let scan = signal.scan.as_ref()?;
+    scan.width_at_to?;
+    let placement = Placement {
+        range: scenario.observable().range,
+        floated: false,
+    };
+    let position = signal.shape.build(placement).ok()?.peak()?.centre;
+    (position != scan.from).then_some(Warning::WidthAtToAwayFromFrom {
+        position,
+        from: scan.from,
+    })
 }
 
 /// Declared shared uncertainties that no signal or background names.
