@@ -489,6 +489,25 @@ plan:
         assert_eq!(moved.backgrounds().len(), scenario.backgrounds().len());
     }
 
+    /// `width_at_to` starts from the signal's own width at `from`: with the
+    /// signal at 50, not at `from` = 10, `check` warns; at `from`, or
+    /// without `width_at_to`, it does not.
+    #[test]
+    fn width_at_to_away_from_from_is_a_warning() {
+        use crate::warning::Warning;
+        let text = with("step: 0.5}", "step: 0.5, width_at_to: 3.5}");
+        assert_eq!(
+            Scenario::from_yaml(&text).unwrap().warnings(),
+            [Warning::WidthAtToAwayFromFrom {
+                position: 50.0,
+                from: 10.0
+            }]
+        );
+        let at_from = text.replacen("mean: 50.0", "mean: 10.0", 1);
+        assert!(Scenario::from_yaml(&at_from).unwrap().warnings().is_empty());
+        assert!(Scenario::from_yaml(SCANNED).unwrap().warnings().is_empty());
+    }
+
     #[test]
     fn breit_wigner_signals_scan_their_mean() {
         let text = with(
