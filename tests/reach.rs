@@ -316,3 +316,37 @@ fn global_reach_needs_more_signal() {
         }
     }
 }
+
+/// Two volumes at the scenario's own position (50, a scan position): the
+/// reach limit per kg·day is the projection's Asimov limit on mu times the
+/// rate, and the projection's Z_A of the model at the local 3σ discovery
+/// rate is 3 (the same joint likelihood; Cowan et al. 2011, eqs. 88-89, 97).
+#[test]
+fn two_volumes_at_the_own_position_agree_with_the_projection() {
+    let (scenario, reach) = reach_of(TWO_VOLUMES, &[30.0]);
+    let exposure = &reach.exposures[0];
+    let own = exposure
+        .positions
+        .iter()
+        .find(|point| point.position == 50.0)
+        .unwrap();
+    let model = Model::from_scenario(&scenario);
+    let likelihood = Likelihood::new(&model);
+    let limit = asymptotic_limits(&likelihood, exposure.live_days, 0.05).unwrap();
+    let expected = limit.median * reach.signal_rate;
+    let computed = own.limit_rate_asimov.unwrap();
+    assert!(
+        (computed / expected - 1.0).abs() < 1e-9,
+        "{computed} vs {expected}"
+    );
+    let scale = own.discovery_rate_local[0].unwrap() / reach.signal_rate;
+    let mut at_rate = scenario.clone();
+    for channel in &mut at_rate.channels {
+        channel.signal.events_per_day *= scale;
+    }
+    let model = Model::from_scenario(&at_rate);
+    let z = AsimovSignificance::new(&Likelihood::new(&model))
+        .at_live_days(exposure.live_days)
+        .unwrap();
+    assert!((z - 3.0).abs() < 1e-5, "Z_A = {z}");
+}

@@ -21,7 +21,7 @@ pub use error::ScenarioError;
 pub use rate::{DAYS_PER_WEEK, DAYS_PER_YEAR, Detector, RateUnit};
 pub use resolution::Resolution;
 pub use rows_file::TableFile;
-pub use scan::{MIN_SCAN_POSITIONS, Scan, SignalScan};
+pub use scan::{MIN_SCAN_POSITIONS, Scan, SignalScan, WidthLaw};
 pub use template::TEMPLATE;
 
 use crate::calendar::CalendarDate;
