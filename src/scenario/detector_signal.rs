@@ -136,6 +136,12 @@ impl DetectorSignalFile {
                 "a detector-level signal takes its width in each channel from the channel's resolution; remove sigma and give each channel `resolution`",
             ));
         }
+        if self.scan.is_some_and(|scan| scan.width_at_to.is_some()) {
+            return Err(ScenarioError::invalid(
+                "signal.scan.width_at_to",
+                "a detector-level signal takes its width along the scan from each channel's resolution; remove width_at_to",
+            ));
+        }
         let several = channels.len() > 1;
         if let Some(width) = self.yield_uncertainty
             && several

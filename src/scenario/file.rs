@@ -546,6 +546,11 @@ plan:
                 "signal.shape.gaussian.sigma",
             ),
             (
+                "  yield_uncertainty: 0.1\n",
+                "  yield_uncertainty: 0.1\n  scan: {from: 10, to: 90, width_at_to: 2}\n",
+                "signal.scan.width_at_to",
+            ),
+            (
                 "{mean: 40.0}",
                 "{mean: 140.0}",
                 "signal.shape.gaussian.mean",
