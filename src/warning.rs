@@ -34,6 +34,10 @@ pub enum Warning {
         channel: usize,
         warning: Box<Warning>,
     },
+    /// `signal.scan.width_at_to` is given while the signal's own position
+    /// `position` is not `scan.from`: the scan's width at `from` is then the
+    /// benchmark's width, so one of them is the wrong width for its position.
+    WidthAtToAwayFromFrom { position: f64, from: f64 },
     /// `shared_uncertainties.<name>` is declared but no yield names it in
     /// its `shared` list: it has no effect.
     UnusedSharedUncertainty { name: String },

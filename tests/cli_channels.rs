@@ -121,6 +121,95 @@ fn a_single_channel_and_a_one_entry_list_give_the_same_bytes() {
     }
 }
 
+/// A scanned line in one channel, written with its own signal: 1.5 events
+/// per live day of a 4 kg detector at efficiency 0.75 (0.5 per kg·day), a
+/// constant resolution of 1.5 keV and a 10% yield uncertainty.
+const PER_CHANNEL_SCAN: &str = "\
+title: Detector-level test (invented numbers)
+channels:
+  - name: volume
+    observable: {name: energy, unit: keV, range: [0.0, 60.0], bin_width: 1.0}
+    detector: {mass_kg: 4}
+    signal:
+      events_per_day: 1.5
+      shape: {gaussian: {mean: 30.0, sigma: 1.5}}
+      scan: {from: 10.0, to: 50.0, step: 2.0}
+      yield_uncertainty: 0.1
+    backgrounds:
+      - {name: continuum, events_per_kg_day: 12.5, shape: {exponential: {slope: -0.02}}, norm_uncertainty: 0.05}
+plan:
+  days: {first: 1, last: 60, points: 4, spacing: log}
+  toys: 20
+  seed: 5
+  targets: [3]
+";
+
+/// `PER_CHANNEL_SCAN` with the signal written at the detector level.
+const DETECTOR_LEVEL_SCAN: &str = "\
+title: Detector-level test (invented numbers)
+signal:
+  events_per_kg_day: 0.5
+  shape: {gaussian: {mean: 30.0}}
+  scan: {from: 10.0, to: 50.0, step: 2.0}
+  yield_uncertainty: 0.1
+channels:
+  - name: volume
+    observable: {name: energy, unit: keV, range: [0.0, 60.0], bin_width: 1.0}
+    detector: {mass_kg: 4}
+    signal_efficiency: 0.75
+    resolution: {points: [[0.0, 1.5]]}
+    backgrounds:
+      - {name: continuum, events_per_kg_day: 12.5, shape: {exponential: {slope: -0.02}}, norm_uncertainty: 0.05}
+plan:
+  days: {first: 1, last: 60, points: 4, spacing: log}
+  toys: 20
+  seed: 5
+  targets: [3]
+";
+
+/// One channel with a detector-level signal (rate × mass × efficiency =
+/// 0.5 × 4 × 0.75 = 1.5 per live day, exact in binary; common practice) and the same channel
+/// with its own signal are one scenario: `project` (with look-elsewhere
+/// toys) and `spectrum` give the same bytes apart from provenance.
+#[test]
+fn a_detector_level_signal_in_one_channel_gives_the_same_bytes() {
+    let commands: [&[&str]; 2] = [
+        &["project", "scenario.yaml", "--out", "out"],
+        &["spectrum", "scenario.yaml", "--days", "20", "--out", "out"],
+    ];
+    for (index, args) in commands.iter().enumerate() {
+        let (own, own_run) = run_on(&format!("own-{index}"), PER_CHANNEL_SCAN, args);
+        let (level, level_run) = run_on(&format!("level-{index}"), DETECTOR_LEVEL_SCAN, args);
+        assert!(own_run.status.success(), "{:?}", own_run);
+        assert!(level_run.status.success(), "{:?}", level_run);
+        assert_eq!(own_run.stdout, level_run.stdout, "{args:?} stdout");
+        assert!(
+            without_provenance(files(&own.path.join("out")))
+                == without_provenance(files(&level.path.join("out"))),
+            "{args:?}: outputs differ"
+        );
+    }
+}
+
+/// A file mixing a detector-level signal with a channel's own refuses the
+/// channel's, by name, and writes nothing.
+#[test]
+fn mixing_the_two_forms_of_signal_is_refused() {
+    let mixed = DETECTOR_LEVEL_SCAN.replace(
+        "    signal_efficiency: 0.75\n",
+        "    signal: {events_per_day: 1.0, shape: {gaussian: {mean: 30.0, sigma: 1.5}}}\n",
+    );
+    let (scratch, output) = run_on(
+        "mixed",
+        &mixed,
+        &["project", "scenario.yaml", "--out", "out"],
+    );
+    assert!(!output.status.success());
+    let stderr = String::from_utf8_lossy(&output.stderr);
+    assert!(stderr.contains("channels[0].signal"), "{stderr}");
+    assert!(!scratch.path.join("out").exists());
+}
+
 /// The demo's two channels: each channel's own Asimov Z in the JSON and CSV,
 /// never above the combined one (the combined -2 ln L adds the other
 /// channel's non-negative deviance; Cowan et al., EPJC 71 (2011) 1554), and

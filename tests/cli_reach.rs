@@ -79,8 +79,17 @@ fn reach_writes_its_files_with_the_schema() {
         |value: &Value| -> Vec<String> { value.as_object().unwrap().keys().cloned().collect() };
     assert_eq!(
         keys(&json),
-        ["provenance", "title", "seed", "cl", "targets", "exposures"]
+        [
+            "provenance",
+            "title",
+            "seed",
+            "cl",
+            "targets",
+            "rate_unit",
+            "exposures"
+        ]
     );
+    assert_eq!(json["rate_unit"], "events per live day");
     assert_eq!(json["provenance"]["options"]["seed"], json["seed"]);
     let exposure = &json["exposures"][0];
     assert_eq!(
@@ -124,6 +133,14 @@ fn reach_writes_its_files_with_the_schema() {
     // The provenance comment, the header, two rows per position.
     assert!(csv.starts_with("# provenance: {"));
     assert_eq!(csv.lines().count(), 2 + 2 * 21);
+    let header = csv.lines().nth(1).unwrap();
+    assert!(header.ends_with(",rate_unit"), "{header}");
+    assert!(
+        csv.lines()
+            .nth(2)
+            .unwrap()
+            .ends_with(",events per live day")
+    );
     let again = scratch.path.join("again");
     run("2", &again);
     for name in ["reach.csv", "reach.json", "reach.svg"] {
@@ -234,4 +251,61 @@ fn asimov_only_projection_keeps_the_asymptotic_global_significance() {
         };
         assert!(global >= local, "{target}");
     }
+}
+
+/// The invented two-volume demo through the binary: rates per kg·day in the
+/// JSON, the CSV and the summary, and every position giving each volume
+/// alone (`channels`, in the JSON and as `<name>_...` CSV columns), each
+/// alone needing more rate than both together (their Asimov q add; Cowan
+/// et al., Eur. Phys. J. C 71 (2011) 1554).
+#[test]
+fn the_two_volume_demo_reaches_per_kg_day_with_each_channel() {
+    let scratch = Scratch::new("reach-two-volumes");
+    let scenario = format!(
+        "{}/scenarios/two_volume_line.yaml",
+        env!("CARGO_MANIFEST_DIR")
+    );
+    let out = scratch.path.join("out");
+    let output = scratch.run(&[
+        "reach",
+        &scenario,
+        "--days",
+        "1y",
+        "--out",
+        out.to_str().unwrap(),
+        "--quiet",
+    ]);
+    assert!(
+        output.status.success(),
+        "{}",
+        String::from_utf8_lossy(&output.stderr)
+    );
+    let summary = String::from_utf8(output.stdout).unwrap();
+    assert!(
+        summary.contains("rates in signal events per kg·day"),
+        "{summary}"
+    );
+    let json: Value = serde_json::from_slice(&fs::read(out.join("reach.json")).unwrap()).unwrap();
+    assert_eq!(json["rate_unit"], "events per kg·day");
+    for position in json["exposures"][0]["positions"].as_array().unwrap() {
+        let combined = position["limit_rate_asimov"].as_f64().unwrap();
+        let channels = position["channels"].as_array().unwrap();
+        let names: Vec<&str> = channels
+            .iter()
+            .map(|c| c["name"].as_str().unwrap())
+            .collect();
+        assert_eq!(names, ["inner", "outer"]);
+        for channel in channels {
+            assert!(channel["limit_rate_asimov"].as_f64().unwrap() > combined);
+        }
+    }
+    let csv = fs::read_to_string(out.join("reach.csv")).unwrap();
+    let header = csv.lines().nth(1).unwrap();
+    assert!(
+        header.ends_with(
+            ",rate_unit,inner_limit_rate_asimov,inner_discovery_rate_local_3sigma,inner_discovery_rate_local_5sigma,\
+             outer_limit_rate_asimov,outer_discovery_rate_local_3sigma,outer_discovery_rate_local_5sigma"
+        ),
+        "{header}"
+    );
 }

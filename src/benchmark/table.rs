@@ -112,6 +112,19 @@ pub fn render_scan(scan: &ScanBenchmark) -> String {
         fits as f64 / timing.seconds,
         scan.failed_fits
     );
+    let timing = scan.two_channels;
+    let _ = writeln!(
+        text,
+        "background-only scans (look-elsewhere), 2 channels x {} bins fitted jointly, {} positions, 2 threads: \
+         {} toys in {:.2} s, {:.0} toys/s ({:.0} fits/s), failed fits {}",
+        super::models::BINS_PER_CHANNEL,
+        scan.positions,
+        timing.toys,
+        timing.seconds,
+        timing.per_second(),
+        (timing.toys * (scan.positions + 1)) as f64 / timing.seconds,
+        scan.two_channel_failed_fits
+    );
     let _ = writeln!(text, "peak resident memory of scans (child process):");
     for probe in &scan.memory {
         let _ = writeln!(
@@ -178,6 +191,8 @@ mod tests {
                 positions: 100,
                 two_threads: timing(1000, 0.4),
                 failed_fits: 0,
+                two_channels: timing(1000, 0.5),
+                two_channel_failed_fits: 0,
                 memory: vec![ScanMemoryProbe {
                     positions: 1000,
                     toys: 100,
@@ -206,6 +221,11 @@ mod tests {
         // 1000 scans in 0.4 s: 2500/s, each 101 fits, 252500 fits/s.
         assert!(
             text.contains("1000 toys in 0.40 s, 2500 toys/s (252500 fits/s)"),
+            "{text}"
+        );
+        // 1000 two-channel scans in 0.5 s: 2000/s, 202000 fits/s.
+        assert!(
+            text.contains("2 channels x 100 bins fitted jointly, 100 positions, 2 threads: 1000 toys in 0.50 s, 2000 toys/s (202000 fits/s)"),
             "{text}"
         );
         assert!(

@@ -98,22 +98,27 @@ impl Likelihood<'_> {
         Ok(metric)
     }
 
-    /// d nu_j / d mu of every bin (all channels) with the signal shape at
-    /// `shape_parameters`, and its derivative as those parameters move by
-    /// `direction` per unit of a path parameter s, written to `template` and
-    /// `slope`. The yield is that of `theta` without the signal strength.
+    /// d nu_j / d mu of every bin (all channels) with the signal shapes at
+    /// `placement` (their parameters one after the other, channel after
+    /// channel, as for [`Likelihood::place_signal`]), and its derivative as
+    /// those parameters move by `direction` (laid out alike) per unit of a
+    /// path parameter s, written to `template` and `slope`. The yield is
+    /// that of `theta` without the signal strength.
     pub fn signal_template_along(
         &self,
         theta: &[f64],
         live_days: f64,
-        shape_parameters: &[f64],
+        placement: &[f64],
         direction: &[f64],
         template: &mut [f64],
         slope: &mut [f64],
     ) {
         template.fill(0.0);
         slope.fill(0.0);
-        for term in self.terms.iter().filter(|term| term.component.is_signal) {
+        let mut offset = 0;
+        for (_, term, shape_parameters) in self.signal_placements(placement) {
+            let direction = &direction[offset..offset + shape_parameters.len()];
+            offset += shape_parameters.len();
             let scale = term.component.events(live_days)
                 * product_except(theta, term.yield_parameters, SIGNAL_STRENGTH);
             let mut fractions = vec![0.0; term.bins];

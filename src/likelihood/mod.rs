@@ -250,17 +250,39 @@ impl<'m> Likelihood<'m> {
         }
     }
 
+    /// The signal terms (one per channel, in channel order), each with its
+    /// slice of `placement`: the signal shapes' parameters one after the
+    /// other, each shape's in its own parameter order.
+    fn signal_placements<'a>(
+        &'a self,
+        placement: &'a [f64],
+    ) -> impl Iterator<Item = (usize, &'a Term<'m>, &'a [f64])> + 'a {
+        let mut offset = 0;
+        self.terms
+            .iter()
+            .enumerate()
+            .filter(|(_, term)| term.component.is_signal)
+            .map(move |(index, term)| {
+                let count = term.fixed_parameters.len();
+                let parameters = &placement[offset..offset + count];
+                offset += count;
+                (index, term, parameters)
+            })
+    }
+
     /// Moves the signal: the bin fractions of every signal term in `work`
-    /// become those of its shape at `shape_parameters` (in the shape's
-    /// parameter order), so every later evaluation and fit with `work` sees
-    /// the signal there; the model itself is unchanged. Used to scan the
-    /// signal position with one workspace (validation refuses a scan beside
-    /// a floated signal position or width, so a scanned signal never floats).
-    pub fn place_signal(&self, shape_parameters: &[f64], work: &mut Workspace) {
-        for (term, fractions) in self.terms.iter().zip(&mut work.fractions) {
-            if term.component.is_signal && term.floating.is_none() {
-                term.shape
-                    .bin_fractions(shape_parameters, term.edges, fractions);
+    /// become those of its shape at its parameters in `placement` (the
+    /// signal shapes' parameters one after the other, channel after
+    /// channel, as [`crate::scenario::SignalScan::shape_parameters_at`]
+    /// gives them), so every later evaluation and fit with `work` sees the
+    /// signal there; the model itself is unchanged. Used to scan the signal
+    /// position with one workspace (validation refuses a scan beside a
+    /// floated signal position or width, so a scanned signal never floats).
+    pub fn place_signal(&self, placement: &[f64], work: &mut Workspace) {
+        for (index, term, parameters) in self.signal_placements(placement) {
+            if term.floating.is_none() {
+                let fractions = &mut work.fractions[index];
+                term.shape.bin_fractions(parameters, term.edges, fractions);
                 raise_underflow(fractions);
             }
         }
@@ -277,15 +299,14 @@ impl<'m> Likelihood<'m> {
     }
 
     /// The bin fractions [`Likelihood::place_signal`] would give the signal
-    /// terms at `shape_parameters`, written into `row` (term after term), so
+    /// terms at `placement`, written into `row` (term after term), so
     /// that they can be computed once and set many times.
-    pub fn signal_fractions(&self, shape_parameters: &[f64], row: &mut [f64]) {
+    pub fn signal_fractions(&self, placement: &[f64], row: &mut [f64]) {
         let mut offset = 0;
-        for term in &self.terms {
-            if term.component.is_signal && term.floating.is_none() {
+        for (_, term, parameters) in self.signal_placements(placement) {
+            if term.floating.is_none() {
                 let fractions = &mut row[offset..offset + term.bins];
-                term.shape
-                    .bin_fractions(shape_parameters, term.edges, fractions);
+                term.shape.bin_fractions(parameters, term.edges, fractions);
                 raise_underflow(fractions);
                 offset += term.bins;
             }

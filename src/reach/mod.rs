@@ -7,8 +7,12 @@
 //! asymptotic CLs limits of `limits::asymptotic_limits` (Cowan, Cranmer,
 //! Gross, Vitells, Eur. Phys. J. C 71 (2011) 1554, eqs. 88-89), and the
 //! Asimov discovery fit of `likelihood::DiscoveryTest` (sec. 5.1; eq. 97 for
-//! one bin). Rates are in signal events per live day, the unit of
-//! `signal.events_per_day`: a signal strength mu is the rate mu times that.
+//! one bin). Rates are in the signal's own unit: events per live day of
+//! `signal.events_per_day`, or, with a detector-level signal, the unit it
+//! is written in (events per kg·day for `events_per_kg_day`); a signal
+//! strength mu is the rate mu times the scenario's. With several channels
+//! every position also gives each channel alone (`Model::channel_alone`),
+//! so a plan sees what each contributes.
 //! The global significance comes from the asymptotic mean number of
 //! upcrossings of the exposure (`upcrossings`): the local target Z_local with
 //! p_local + E N(Z_local) = p(target) (Gross and Vitells, Eur. Phys. J. C 70
@@ -51,7 +55,12 @@ pub struct Reach {
     /// The scenario's own signal rate and position, drawn for reference.
     pub signal_rate: f64,
     pub signal_position: f64,
+    /// The unit of every rate, e.g. "events per kg·day".
+    pub rate_unit: String,
+    /// The observable's unit.
     pub unit: String,
+    /// The channels' names, in order; one name for a single channel.
+    pub channel_names: Vec<String>,
     pub exposures: Vec<ExposureReach>,
 }
 
@@ -86,6 +95,17 @@ pub struct PositionReach {
     pub discovery_rate_local: Vec<Option<f64>>,
     /// The rate where the median global significance reaches each target.
     pub discovery_rate_global: Vec<Option<f64>>,
+    /// With several channels, each channel alone (empty for one channel).
+    pub channels: Vec<ChannelReach>,
+}
+
+/// One channel alone at a position and exposure: its median expected limit
+/// and the rates where its local median significance reaches each target.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ChannelReach {
+    pub width: f64,
+    pub limit_rate_asimov: Option<f64>,
+    pub discovery_rate_local: Vec<Option<f64>>,
 }
 
 /// An asymptotic fit or the scan geometry failed: the reach cannot be trusted.
@@ -141,6 +161,7 @@ pub fn reach(
 ) -> Result<Reach, ReachError> {
     let scan = scenario.signal_scan().ok_or(ReachError::NoScan)?;
     let model = Model::from_scenario(scenario);
+    let (rate, rate_unit) = signal_rate(scenario);
     let live_time = &model.live_time;
     let exposures = settings
         .days
@@ -159,19 +180,38 @@ pub fn reach(
                 .collect::<Vec<f64>>()
                 .par_iter()
                 .map(|&position| {
-                    let width = scan.width_at(position);
-                    let moved =
-                        Model::from_scenario(&scenario.with_signal_at(&scan, position, width));
+                    let moved = Model::from_scenario(&scenario.with_signal_at(&scan, position));
                     let runner = PositionRunner {
                         likelihood: Likelihood::new(&moved),
                         settings,
                         live_days,
                         exposure_index: index,
-                        rate: scenario.signal().events_per_day,
+                        rate,
                     };
-                    let result = runner.reach(position, width, &global_local_targets, progress);
+                    let mut result = runner.reach(
+                        position,
+                        scan.width_at(0, position),
+                        &global_local_targets,
+                        progress,
+                    )?;
+                    if moved.channels.len() > 1 {
+                        result.channels = (0..moved.channels.len())
+                            .map(|channel| {
+                                let width = scan.width_at(channel, position);
+                                if scenario.channels[channel].signal.events_per_day == 0.0 {
+                                    return Ok(ChannelReach::blind(width, settings.targets.len()));
+                                }
+                                let alone = moved.channel_alone(channel);
+                                let runner = PositionRunner {
+                                    likelihood: Likelihood::new(&alone),
+                                    ..runner
+                                };
+                                runner.channel_alone(position, width)
+                            })
+                            .collect::<Result<_, _>>()?;
+                    }
                     progress(1);
-                    result
+                    Ok(result)
                 })
                 .collect::<Result<Vec<_>, _>>()?;
             Ok(ExposureReach {
@@ -189,11 +229,40 @@ pub fn reach(
         seed: settings.seed,
         cl: settings.cl,
         targets: settings.targets.clone(),
-        signal_rate: scenario.signal().events_per_day,
+        signal_rate: rate,
         signal_position: scan_centre(scenario),
+        rate_unit,
         unit: scenario.observable().unit.clone(),
+        channel_names: scenario
+            .channels
+            .iter()
+            .map(|channel| channel.name.clone())
+            .collect(),
         exposures,
     })
+}
+
+impl ChannelReach {
+    /// A channel that does not see the signal (efficiency 0): no limit, no rate.
+    fn blind(width: f64, targets: usize) -> ChannelReach {
+        ChannelReach {
+            width,
+            limit_rate_asimov: None,
+            discovery_rate_local: vec![None; targets],
+        }
+    }
+}
+
+/// The scenario's signal rate (signal strength 1) and its unit: the
+/// detector-level rate as written, or the first channel's events per live day.
+fn signal_rate(scenario: &Scenario) -> (f64, String) {
+    match &scenario.detector_signal {
+        Some(signal) => (signal.rate, signal.unit_label()),
+        None => (
+            scenario.signal().events_per_day,
+            "events per live day".to_string(),
+        ),
+    }
 }
 
 /// The scenario's own signal position (its peak's centre).
@@ -289,6 +358,41 @@ impl PositionRunner<'_, '_> {
             limit_failed_fits,
             discovery_rate_local,
             discovery_rate_global,
+            channels: Vec::new(),
+        })
+    }
+
+    /// One channel alone (this runner's likelihood is its model): the median
+    /// Asimov limit and local discovery rates.
+    fn channel_alone(&self, position: f64, width: f64) -> Result<ChannelReach, ReachError> {
+        let failed = |what| {
+            move |failure| ReachError::Fit {
+                position,
+                live_days: self.live_days,
+                what,
+                failure,
+            }
+        };
+        let limits = asymptotic_limits(&self.likelihood, self.live_days, 1.0 - self.settings.cl)
+            .map_err(failed("asymptotic limit of one channel"))?;
+        let mut discovery = DiscoveryTest::new(&self.likelihood);
+        let discovery_rate_local = self
+            .settings
+            .targets
+            .iter()
+            .map(|&z| {
+                self.discovery_strength(&mut discovery, z)
+                    .map(|mu| mu.map(|mu| mu * self.rate))
+                    .map_err(failed("Asimov discovery fit of one channel"))
+            })
+            .collect::<Result<Vec<_>, _>>()?;
+        Ok(ChannelReach {
+            width,
+            limit_rate_asimov: limits
+                .median
+                .is_finite()
+                .then_some(limits.median * self.rate),
+            discovery_rate_local,
         })
     }
 

@@ -18,6 +18,11 @@ pub fn warning_text(warning: &Warning) -> String {
             channel,
             ref warning,
         } => format!("channels[{channel}].{}", warning_text(warning)),
+        Warning::WidthAtToAwayFromFrom { position, from } => format!(
+            "signal.scan.width_at_to: the scan's width at from ({}) is the signal's own width, taken at its position {}; one of them is the wrong width for its position. Give the width as a function of position instead: write the signal at the top level beside channels, with `resolution` in the channel",
+            show(from),
+            show(position)
+        ),
         Warning::UnusedSharedUncertainty { ref name } => format!(
             "shared_uncertainties.{name}: no signal or background names it in its shared list; it has no effect"
         ),

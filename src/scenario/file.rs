@@ -1,27 +1,34 @@
 //! The layout of a scenario file: one channel written at the top level, or a
 //! `channels` list. Both read into the same [`Scenario`], so a single channel
-//! and the same content as a one-entry list are one scenario.
+//! and the same content as a one-entry list are one scenario. Beside a
+//! `channels` list the top-level `signal` is a detector-level signal
+//! (`detector_signal.rs`), turned here into one signal per channel.
 
+use super::detector_signal::{ChannelResponseFile, ChannelSight, DetectorSignalFile};
+use super::resolution::ResolutionFile;
 use super::{
     Background, Channel, ChannelSyntax, Detector, Observable, Plan, Scenario, Schedule, Signal,
 };
 use crate::scenario::ScenarioError;
 use serde::Deserialize;
+use serde::de::DeserializeOwned;
 use std::collections::BTreeMap;
 
-/// A scenario file as written, before its channels are gathered.
+/// A scenario file as written, before its channels are gathered; `S` is
+/// the form of the top-level `signal`: a channel's [`Signal`] in a file of
+/// one channel, a [`DetectorSignalFile`] beside a `channels` list.
 #[derive(Debug, Deserialize)]
 #[serde(deny_unknown_fields)]
-pub(super) struct ScenarioFile {
+pub(super) struct ScenarioFile<S> {
     title: String,
     #[serde(default)]
     observable: Option<Observable>,
-    #[serde(default)]
-    signal: Option<Signal>,
+    #[serde(default = "none")]
+    signal: Option<S>,
     #[serde(default)]
     backgrounds: Option<Vec<Background>>,
     #[serde(default)]
-    channels: Option<Vec<Channel>>,
+    channels: Option<Vec<ChannelEntry>>,
     #[serde(default)]
     shared_uncertainties: BTreeMap<String, f64>,
     #[serde(default)]
@@ -31,50 +38,66 @@ pub(super) struct ScenarioFile {
     plan: Plan,
 }
 
-impl ScenarioFile {
-    /// The scenario with its channel list: the `channels` list as written, or
-    /// the one top-level channel, named after its observable. Refuses a file
-    /// with both forms or with neither complete, naming the key.
-    pub(super) fn into_scenario(self) -> Result<Scenario, ScenarioError> {
-        let ScenarioFile {
-            title,
-            observable,
-            signal,
-            backgrounds,
-            channels,
-            shared_uncertainties,
-            detector,
-            schedule,
-            plan,
-        } = self;
-        let (channels, channel_syntax) = match (channels, observable, signal, backgrounds) {
-            (Some(channels), None, None, None) => (channels, ChannelSyntax::List),
-            (Some(_), observable, signal, _) => {
-                let key = if observable.is_some() {
-                    "observable"
-                } else if signal.is_some() {
-                    "signal"
-                } else {
-                    "backgrounds"
-                };
-                return Err(ScenarioError::invalid(
-                    key,
-                    format!(
-                        "a channels list replaces the top-level observable, signal and backgrounds; move {key} into a channel"
-                    ),
-                ));
+fn none<S>() -> Option<S> {
+    None
+}
+
+/// One entry of a `channels` list as written: its own `signal`, or, with a
+/// detector-level signal, how it sees that one.
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct ChannelEntry {
+    name: String,
+    observable: Observable,
+    #[serde(default)]
+    detector: Option<Detector>,
+    #[serde(default)]
+    signal: Option<Signal>,
+    #[serde(default)]
+    signal_efficiency: Option<f64>,
+    #[serde(default)]
+    resolution: Option<ResolutionFile>,
+    backgrounds: Vec<Background>,
+}
+
+/// Just whether the file has a `channels` list, to choose the form of its
+/// top-level `signal` before reading it.
+#[derive(Deserialize)]
+struct Layout {
+    #[serde(default)]
+    channels: Option<serde::de::IgnoredAny>,
+}
+
+/// Reads scenario text into a [`Scenario`] (not yet validated): with a
+/// `channels` list the top-level `signal` is read as a detector-level one.
+pub(super) fn read(text: &str) -> Result<Scenario, ScenarioError> {
+    let listed = serde_yaml::from_str::<Layout>(text)
+        .map(|layout| layout.channels.is_some())
+        .unwrap_or(false);
+    if listed {
+        parse::<DetectorSignalFile>(text)?.into_listed()
+    } else {
+        parse::<Signal>(text)?.into_single()
+    }
+}
+
+fn parse<S: DeserializeOwned>(text: &str) -> Result<ScenarioFile<S>, ScenarioError> {
+    serde_yaml::from_str(text).map_err(ScenarioError::from_yaml)
+}
+
+impl ScenarioFile<Signal> {
+    /// The one top-level channel, named after its observable; refuses a
+    /// file with it incomplete, naming the key.
+    fn into_single(self) -> Result<Scenario, ScenarioError> {
+        let (observable, signal, backgrounds) = match (
+            self.observable,
+            self.signal,
+            self.backgrounds,
+        ) {
+            (Some(observable), Some(signal), Some(backgrounds)) => {
+                (observable, signal, backgrounds)
             }
-            (None, Some(observable), Some(signal), Some(backgrounds)) => (
-                vec![Channel {
-                    name: observable.name.clone(),
-                    observable,
-                    detector: None,
-                    signal,
-                    backgrounds,
-                }],
-                ChannelSyntax::Single,
-            ),
-            (None, observable, signal, _) => {
+            (observable, signal, _) => {
                 let key = if observable.is_none() {
                     "observable"
                 } else if signal.is_none() {
@@ -88,28 +111,197 @@ impl ScenarioFile {
                 ));
             }
         };
-        if channels.is_empty() {
+        let channel = Channel {
+            name: observable.name.clone(),
+            observable,
+            detector: None,
+            signal,
+            backgrounds,
+        };
+        finish(
+            Parts {
+                title: self.title,
+                shared_uncertainties: self.shared_uncertainties,
+                detector: self.detector,
+                schedule: self.schedule,
+                plan: self.plan,
+            },
+            vec![channel],
+            ChannelSyntax::Single,
+            None,
+        )
+    }
+}
+
+impl ScenarioFile<DetectorSignalFile> {
+    /// The `channels` list as written, each with its own signal or with the
+    /// detector-level one seen through its mass, efficiency and resolution.
+    /// Refuses the top-level observable or backgrounds beside the list, a
+    /// mix of the two forms of signal, and a channel with none, naming the key.
+    fn into_listed(self) -> Result<Scenario, ScenarioError> {
+        for (key, given) in [
+            ("observable", self.observable.is_some()),
+            ("backgrounds", self.backgrounds.is_some()),
+        ] {
+            if given {
+                return Err(ScenarioError::invalid(
+                    key,
+                    format!(
+                        "a channels list replaces the top-level observable and backgrounds; move {key} into a channel"
+                    ),
+                ));
+            }
+        }
+        let entries = self.channels.unwrap_or_default();
+        if entries.is_empty() {
             return Err(ScenarioError::invalid(
                 "channels",
                 "at least one channel is needed, got an empty list",
             ));
         }
-        let detector = detector.map(|d| d.checked("")).transpose()?;
-        let mut channels = channels;
-        for (index, channel) in channels.iter_mut().enumerate() {
-            channel.convert_rates(&channel_syntax.path(index), detector)?;
-        }
-        Ok(Scenario {
-            title,
+        let detector = self.detector.map(|d| d.checked("")).transpose()?;
+        let mut shared_uncertainties = self.shared_uncertainties;
+        let syntax = ChannelSyntax::List;
+        let (channels, detector_signal) = match self.signal {
+            None => {
+                let channels = entries
+                    .into_iter()
+                    .enumerate()
+                    .map(|(index, entry)| entry.with_own_signal(&syntax.path(index)))
+                    .collect::<Result<Vec<_>, _>>()?;
+                (channels, None)
+            }
+            Some(detector_level) => {
+                let sights = entries
+                    .iter()
+                    .enumerate()
+                    .map(|(index, entry)| entry.sight(&syntax.path(index), detector))
+                    .collect::<Result<Vec<_>, _>>()?;
+                let (signals, detector_signal) =
+                    detector_level.into_channel_signals(&sights, &mut shared_uncertainties)?;
+                let channels = entries
+                    .into_iter()
+                    .zip(signals)
+                    .map(|(entry, signal)| Channel {
+                        name: entry.name,
+                        observable: entry.observable,
+                        detector: entry.detector,
+                        signal,
+                        backgrounds: entry.backgrounds,
+                    })
+                    .collect();
+                (channels, Some(detector_signal))
+            }
+        };
+        finish(
+            Parts {
+                title: self.title,
+                shared_uncertainties,
+                detector,
+                schedule: self.schedule,
+                plan: self.plan,
+            },
             channels,
-            channel_syntax,
-            shared_uncertainties,
-            detector,
-            schedule,
-            plan,
-            table_files: Vec::new(),
+            syntax,
+            detector_signal,
+        )
+    }
+}
+
+impl ChannelEntry {
+    /// The channel with its own signal; what only a detector-level signal
+    /// uses (efficiency, resolution) refused by name.
+    fn with_own_signal(self, path: &str) -> Result<Channel, ScenarioError> {
+        for (key, given) in [
+            ("signal_efficiency", self.signal_efficiency.is_some()),
+            ("resolution", self.resolution.is_some()),
+        ] {
+            if given {
+                return Err(ScenarioError::invalid(
+                    format!("{path}{key}"),
+                    "applies to a detector-level signal: write the signal once at the top level, beside channels, or remove this key",
+                ));
+            }
+        }
+        let Some(signal) = self.signal else {
+            return Err(ScenarioError::invalid(
+                format!("{path}signal"),
+                "missing: give each channel its signal, or one detector-level signal at the top level beside channels",
+            ));
+        };
+        Ok(Channel {
+            name: self.name,
+            observable: self.observable,
+            detector: self.detector,
+            signal,
+            backgrounds: self.backgrounds,
         })
     }
+
+    /// How this channel sees a detector-level signal; its own `signal`
+    /// refused, since the two forms do not mix.
+    fn sight(
+        &self,
+        path: &str,
+        shared: Option<Detector>,
+    ) -> Result<ChannelSight<'_>, ScenarioError> {
+        if self.signal.is_some() {
+            return Err(ScenarioError::invalid(
+                format!("{path}signal"),
+                "the file has a detector-level signal at the top level: a channel then gives signal_efficiency, resolution and detector, not its own signal; use one form",
+            ));
+        }
+        let detector = match self.detector {
+            Some(own) => Some(own.checked(path)?),
+            None => shared,
+        };
+        Ok(ChannelSight {
+            path: path.to_string(),
+            observable: &self.observable,
+            detector,
+            response: ChannelResponseFile {
+                signal_efficiency: self.signal_efficiency,
+                resolution: self.resolution.clone(),
+            },
+        })
+    }
+}
+
+/// The parts of a scenario that do not depend on how its channels are written.
+struct Parts {
+    title: String,
+    shared_uncertainties: BTreeMap<String, f64>,
+    detector: Option<Detector>,
+    schedule: Schedule,
+    plan: Plan,
+}
+
+/// The scenario of `channels`, their rates turned into events per live day.
+fn finish(
+    parts: Parts,
+    mut channels: Vec<Channel>,
+    channel_syntax: ChannelSyntax,
+    detector_signal: Option<super::DetectorSignal>,
+) -> Result<Scenario, ScenarioError> {
+    let detector = parts.detector.map(|d| d.checked("")).transpose()?;
+    for (index, channel) in channels.iter_mut().enumerate() {
+        channel.convert_rates(
+            &channel_syntax.path(index),
+            detector,
+            detector_signal.is_none(),
+        )?;
+    }
+    Ok(Scenario {
+        title: parts.title,
+        channels,
+        channel_syntax,
+        shared_uncertainties: parts.shared_uncertainties,
+        detector,
+        detector_signal,
+        schedule: parts.schedule,
+        plan: parts.plan,
+        table_files: Vec::new(),
+    })
 }
 
 #[cfg(test)]
@@ -271,5 +463,122 @@ plan:
         assert_eq!(scenario.channels[1].signal.events_per_day, 2.0);
         let (field, _) = invalid(&shared.replacen("detector: {mass_kg: 4}\n", "", 1));
         assert_eq!(field, "channels[0].signal.events_per_kg_day");
+    }
+
+    /// Two volumes seeing one rate per kg·day: each channel's signal is
+    /// rate × mass × efficiency per live day (common practice), a Gaussian
+    /// at the position with its resolution there as the width; the yield
+    /// uncertainty one factor shared by both.
+    const DETECTOR_LEVEL: &str = "\
+title: Detector level
+signal:
+  events_per_kg_day: 0.5
+  shape: {gaussian: {mean: 40.0}}
+  yield_uncertainty: 0.1
+channels:
+  - name: inner
+    observable: {name: energy, unit: keV, range: [0.0, 100.0], bin_width: 1.0}
+    detector: {mass_kg: 4}
+    signal_efficiency: 0.5
+    resolution: {points: [[0.0, 1.0], [100.0, 3.0]]}
+    backgrounds:
+      - {name: flat, events_per_day: 40, shape: {flat: {}}}
+  - name: outer
+    observable: {name: energy, unit: keV, range: [0.0, 100.0], bin_width: 1.0}
+    detector: {mass_kg: 10}
+    resolution: {stochastic: 0.5, constant: 0.0, noise: 3.0}
+    backgrounds:
+      - {name: flat, events_per_day: 40, shape: {flat: {}}}
+plan:
+  days: {first: 1, last: 100, points: 5, spacing: log}
+  toys: 10
+  seed: 1
+  targets: [3]
+";
+
+    #[test]
+    fn a_detector_level_signal_becomes_one_signal_per_channel() {
+        let scenario = Scenario::from_yaml(DETECTOR_LEVEL).unwrap();
+        let [inner, outer] = [&scenario.channels[0].signal, &scenario.channels[1].signal];
+        assert_eq!(inner.events_per_day, 0.5 * 4.0 * 0.5);
+        assert_eq!(outer.events_per_day, 0.5 * 10.0);
+        assert_eq!(inner.shape.values[1].number(), 1.8);
+        assert_eq!(
+            outer.shape.values[1].number(),
+            (0.25 * 40.0 + 9.0f64).sqrt()
+        );
+        assert_eq!(inner.shared, [super::super::SIGNAL_YIELD_SHARED]);
+        assert_eq!(
+            scenario.shared_uncertainties[super::super::SIGNAL_YIELD_SHARED],
+            0.1
+        );
+        let detector_signal = scenario.detector_signal.unwrap();
+        assert_eq!(detector_signal.rate, 0.5);
+        assert_eq!(detector_signal.channels[0].rate_factor, 2.0);
+    }
+
+    #[test]
+    fn detector_level_errors_name_their_field() {
+        for (from, to, field) in [
+            (
+                "    signal_efficiency: 0.5\n",
+                "    signal_efficiency: 1.5\n",
+                "channels[0].signal_efficiency",
+            ),
+            (
+                "    resolution: {points: [[0.0, 1.0], [100.0, 3.0]]}\n",
+                "",
+                "channels[0].resolution",
+            ),
+            (
+                "[[0.0, 1.0], [100.0, 3.0]]",
+                "[[100.0, 1.0], [0.0, 3.0]]",
+                "channels[0].resolution.points[1][0]",
+            ),
+            (
+                "[[0.0, 1.0], [100.0, 3.0]]",
+                "[[0.0, -1.0]]",
+                "channels[0].resolution.points[0][1]",
+            ),
+            (
+                "{mean: 40.0}",
+                "{mean: 40.0, sigma: 2}",
+                "signal.shape.gaussian.sigma",
+            ),
+            (
+                "  yield_uncertainty: 0.1\n",
+                "  yield_uncertainty: 0.1\n  scan: {from: 10, to: 90, width_at_to: 2}\n",
+                "signal.scan.width_at_to",
+            ),
+            (
+                "{mean: 40.0}",
+                "{mean: 140.0}",
+                "signal.shape.gaussian.mean",
+            ),
+            (
+                "    detector: {mass_kg: 10}\n",
+                "",
+                "channels[1].detector.mass_kg",
+            ),
+            (
+                "    signal_efficiency: 0.5\n",
+                "    signal: {events_per_day: 1, shape: {gaussian: {mean: 40.0, sigma: 1.0}}}\n",
+                "channels[0].signal",
+            ),
+            (
+                "noise: 3.0}",
+                "noise: 0.0}\n    signal_efficiency: 0.5",
+                "channels",
+            ),
+        ] {
+            assert!(DETECTOR_LEVEL.contains(from), "{from}");
+            let text = DETECTOR_LEVEL.replacen(from, to, 1);
+            let text = if field == "channels" {
+                text.replacen("signal_efficiency: 0.5", "signal_efficiency: 0", 2)
+            } else {
+                text
+            };
+            assert_eq!(invalid(&text).0, field, "{to}");
+        }
     }
 }

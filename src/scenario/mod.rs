@@ -5,25 +5,28 @@
 //! sense, naming the field. Nothing downstream re-checks these invariants.
 
 mod deserialize;
+mod detector_signal;
 mod error;
 mod file;
 pub mod limits;
 mod rate;
+mod resolution;
 mod rows_file;
 mod scan;
 mod template;
 mod validate;
 
+pub use detector_signal::{ChannelResponse, DetectorSignal, SIGNAL_YIELD_SHARED};
 pub use error::ScenarioError;
 pub use rate::{DAYS_PER_WEEK, DAYS_PER_YEAR, Detector, RateUnit};
+pub use resolution::Resolution;
 pub use rows_file::TableFile;
-pub use scan::{MIN_SCAN_POSITIONS, Scan, SignalScan};
+pub use scan::{MIN_SCAN_POSITIONS, Scan, SignalScan, WidthLaw};
 pub use template::TEMPLATE;
 
 use crate::calendar::CalendarDate;
 use crate::shapes::{ParameterValue, Placement, Shape, ShapeError, ShapeKind};
 use crate::warning::Warning;
-use file::ScenarioFile;
 use rate::WrittenRate;
 use rows_file::TableSource;
 use serde::Deserialize;
@@ -50,6 +53,9 @@ pub struct Scenario {
     /// The top-level detector, whose mass turns rates per kg·day into rates
     /// per day in every channel without its own.
     pub detector: Option<Detector>,
+    /// The detector-level signal, when one is written beside `channels`:
+    /// each channel's `signal` is then made from it (`detector_signal.rs`).
+    pub detector_signal: Option<DetectorSignal>,
     pub schedule: Schedule,
     pub plan: Plan,
     /// The files of rows the shapes name, each once, in the order first named.
@@ -57,8 +63,7 @@ pub struct Scenario {
 }
 
 /// One searched spectrum: a binned observable with its signal and backgrounds.
-#[derive(Debug, Clone, Deserialize)]
-#[serde(deny_unknown_fields)]
+#[derive(Debug, Clone)]
 pub struct Channel {
     /// The channel's own name; a single channel written at the top level is
     /// named after its observable.
@@ -66,7 +71,6 @@ pub struct Channel {
     pub observable: Observable,
     /// The channel's own detector, whose mass turns its rates per kg·day
     /// into rates per day; absent: the scenario's top-level one, if any.
-    #[serde(default)]
     pub detector: Option<Detector>,
     pub signal: Signal,
     pub backgrounds: Vec<Background>,
@@ -84,16 +88,24 @@ pub enum ChannelSyntax {
 impl Channel {
     /// Sets every rate of the channel in events per live day from the rate
     /// as written, with the channel's detector or else `shared` (the
-    /// top-level one); `path` is the channel's dotted path.
-    fn convert_rates(&mut self, path: &str, shared: Option<Detector>) -> Result<(), ScenarioError> {
+    /// top-level one); `path` is the channel's dotted path. The signal's
+    /// only when `own_signal` (a detector-level signal converts its own).
+    fn convert_rates(
+        &mut self,
+        path: &str,
+        shared: Option<Detector>,
+        own_signal: bool,
+    ) -> Result<(), ScenarioError> {
         let detector = match self.detector {
             Some(own) => Some(own.checked(path)?),
             None => shared,
         };
-        let signal = &mut self.signal;
-        (signal.events_per_day, signal.rate_unit) = signal
-            .written_rate()
-            .per_day(&format!("{path}signal"), detector)?;
+        if own_signal {
+            let signal = &mut self.signal;
+            (signal.events_per_day, signal.rate_unit) = signal
+                .written_rate()
+                .per_day(&format!("{path}signal"), detector)?;
+        }
         for (index, background) in self.backgrounds.iter_mut().enumerate() {
             let owner = format!("{path}backgrounds[{index}]");
             (background.events_per_day, background.rate_unit) =
@@ -491,8 +503,7 @@ impl Scenario {
                 column: None,
             });
         }
-        let file: ScenarioFile = serde_yaml::from_str(text).map_err(ScenarioError::from_yaml)?;
-        let mut scenario = file.into_scenario()?;
+        let mut scenario = file::read(text)?;
         scenario.read_shape_files(tables)?;
         validate::validate(&scenario)?;
         Ok(scenario)
@@ -562,8 +573,13 @@ impl Scenario {
     /// This scenario with channel `index` alone (schedule, plan and shared
     /// uncertainties kept), for what handles one channel at a time.
     pub fn only_channel(&self, index: usize) -> Scenario {
+        let detector_signal = self.detector_signal.as_ref().map(|signal| DetectorSignal {
+            channels: vec![signal.channels[index].clone()],
+            ..signal.clone()
+        });
         Scenario {
             channels: vec![self.channels[index].clone()],
+            detector_signal,
             ..self.clone()
         }
     }

@@ -7,7 +7,7 @@
 
 use super::limits::MAX_SCAN_POSITIONS;
 use super::validate::{require_finite, require_positive};
-use super::{Scenario, ScenarioError, ShapeSpec};
+use super::{Resolution, Scenario, ScenarioError, ShapeSpec};
 use crate::message::show;
 use crate::shapes::{MovablePeak, ParameterValue, Placement};
 use serde::Deserialize;
@@ -35,27 +35,81 @@ pub struct Scan {
     /// shape's width at `from`.
     #[serde(default)]
     pub step: Option<f64>,
-    /// The width at `to`; absent: the shape's own width everywhere.
+    /// The width at `to`; absent: the shape's own width everywhere (or,
+    /// with a detector-level signal, each channel's resolution).
     #[serde(default)]
     pub width_at_to: Option<f64>,
 }
 
-/// A checked scan: the positions and the width at each of them.
+/// A checked scan: the positions and, in every channel, the signal's width
+/// at each of them.
 ///
-/// Position i is `from + i step`, i = 0 .. positions - 1; the width grows
-/// linearly from the shape's own width at `from` to `width_at_to` at `to`.
+/// Position i is `from + i step`, i = 0 .. positions - 1. The peak moves
+/// together in every channel; each channel's width follows its own
+/// [`WidthLaw`].
 #[derive(Debug, Clone, PartialEq)]
 pub struct SignalScan {
     from: f64,
     to: f64,
     step: f64,
-    width_at_from: f64,
-    width_at_to: f64,
     positions: usize,
+    /// One per channel, in channel order.
+    peaks: Vec<ScannedPeak>,
+}
+
+/// How a channel's signal width follows the position.
+#[derive(Debug, Clone, PartialEq)]
+pub enum WidthLaw {
+    /// Linear from the shape's own width at `from` to `width_at_to` at `to`
+    /// (`scan.width_at_to`; the same width everywhere without it).
+    Linear { at_from: f64, at_to: f64 },
+    /// The channel's `resolution` at the position.
+    Resolution(Resolution),
+}
+
+/// One channel's signal shape as the scan moves it.
+#[derive(Debug, Clone, PartialEq)]
+struct ScannedPeak {
     /// The signal shape whose position and width move.
     shape: ShapeSpec,
     position_parameter: usize,
     width_parameter: usize,
+    width: WidthLaw,
+}
+
+impl ScannedPeak {
+    /// The peak of `shape`, or the error naming `signal.scan` when it has
+    /// no movable peak; its width at `from` is the shape's own.
+    fn of(shape: &ShapeSpec, range: [f64; 2]) -> Result<ScannedPeak, ScenarioError> {
+        // The shape names its movable peak (`Shape::movable_peak`); validation
+        // has built it on this range before.
+        let peak = shape
+            .build(Placement {
+                range,
+                floated: false,
+            })
+            .ok()
+            .and_then(|built| built.movable_peak());
+        let Some(MovablePeak { position, width }) = peak else {
+            return Err(ScenarioError::invalid(
+                "signal.scan",
+                format!(
+                    "applies to gaussian and breit_wigner signals (their mean moves), not to a {} signal",
+                    shape.kind.key
+                ),
+            ));
+        };
+        let own = shape.values[width].number();
+        Ok(ScannedPeak {
+            shape: shape.clone(),
+            position_parameter: position,
+            width_parameter: width,
+            width: WidthLaw::Linear {
+                at_from: own,
+                at_to: own,
+            },
+        })
+    }
 }
 
 impl SignalScan {
@@ -66,29 +120,23 @@ impl SignalScan {
         shape: &ShapeSpec,
         range: [f64; 2],
     ) -> Result<SignalScan, ScenarioError> {
-        // The shape names its movable peak (`Shape::movable_peak`); validation
-        // has built it on this range before.
-        let peak = shape
-            .build(Placement {
-                range,
-                floated: false,
-            })
-            .ok()
-            .and_then(|built| built.movable_peak());
-        let Some(MovablePeak {
-            position: position_parameter,
-            width: width_parameter,
-        }) = peak
-        else {
-            return Err(ScenarioError::invalid(
-                "signal.scan",
-                format!(
-                    "applies to gaussian and breit_wigner signals (their mean moves), not to a {} signal",
-                    shape.kind.key
-                ),
-            ));
-        };
-        let width_at_from = shape.values[width_parameter].number();
+        let mut peak = ScannedPeak::of(shape, range)?;
+        if let Some(width) = scan.width_at_to {
+            require_positive("signal.scan.width_at_to", width)?;
+            if let WidthLaw::Linear { at_to, .. } = &mut peak.width {
+                *at_to = width;
+            }
+        }
+        SignalScan::of_peaks(scan, vec![peak], range)
+    }
+
+    /// The scan of `peaks` (one per channel), whose default step is a fifth
+    /// of the narrowest width at `from`.
+    fn of_peaks(
+        scan: &Scan,
+        peaks: Vec<ScannedPeak>,
+        range: [f64; 2],
+    ) -> Result<SignalScan, ScenarioError> {
         require_finite("signal.scan.from", scan.from)?;
         require_finite("signal.scan.to", scan.to)?;
         if scan.from >= scan.to {
@@ -130,14 +178,13 @@ impl SignalScan {
                 }
                 step
             }
-            None => width_at_from / DEFAULT_STEPS_PER_WIDTH,
-        };
-        let width_at_to = match scan.width_at_to {
-            Some(width) => {
-                require_positive("signal.scan.width_at_to", width)?;
-                width
+            None => {
+                let narrowest = peaks
+                    .iter()
+                    .map(|peak| peak.width_at(scan.from, [scan.from, scan.to]))
+                    .fold(f64::INFINITY, f64::min);
+                narrowest / DEFAULT_STEPS_PER_WIDTH
             }
-            None => width_at_from,
         };
         let steps = (length / step * (1.0 + STEP_COUNT_TOLERANCE)).floor();
         if steps + 1.0 > MAX_SCAN_POSITIONS as f64 {
@@ -166,26 +213,32 @@ impl SignalScan {
             from: scan.from,
             to: scan.to,
             step,
-            width_at_from,
-            width_at_to,
             positions,
-            shape: shape.clone(),
-            position_parameter,
-            width_parameter,
+            peaks,
         })
     }
 
-    /// The scan reduced to the one position `position`, with the width
+    /// The scan reduced to the one position `position`, with the widths
     /// there: a search that knows where its signal sits, whose global
     /// p-value is its local one.
     pub fn single_position(&self, position: f64) -> SignalScan {
-        let width = self.width_at(position);
+        let peaks = (0..self.peaks.len())
+            .map(|channel| {
+                let width = self.width_at(channel, position);
+                ScannedPeak {
+                    width: WidthLaw::Linear {
+                        at_from: width,
+                        at_to: width,
+                    },
+                    ..self.peaks[channel].clone()
+                }
+            })
+            .collect();
         SignalScan {
             from: position,
             to: position,
-            width_at_from: width,
-            width_at_to: width,
             positions: 1,
+            peaks,
             ..self.clone()
         }
     }
@@ -198,6 +251,11 @@ impl SignalScan {
     /// Always false: a scan has at least one position.
     pub fn is_empty(&self) -> bool {
         self.positions == 0
+    }
+
+    /// The number of channels whose signal moves.
+    pub fn channels(&self) -> usize {
+        self.peaks.len()
     }
 
     /// The distance between neighbouring positions.
@@ -220,49 +278,132 @@ impl SignalScan {
         (0..self.positions).map(|index| self.position(index))
     }
 
-    /// The width at `position`: linear from the shape's own width at `from`
-    /// to `width_at_to` at `to`.
-    pub fn width_at(&self, position: f64) -> f64 {
-        if self.positions == 1 {
-            return self.width_at_from;
-        }
-        let t = (position - self.from) / (self.to - self.from);
-        self.width_at_from + t * (self.width_at_to - self.width_at_from)
+    /// Channel `channel`'s signal width at `position` (its [`WidthLaw`]).
+    pub fn width_at(&self, channel: usize, position: f64) -> f64 {
+        self.peaks[channel].width_at(position, [self.from, self.to])
     }
 
-    /// The signal shape with its peak at `position` and the given `width`.
-    pub fn shape_at(&self, position: f64, width: f64) -> ShapeSpec {
-        let mut shape = self.shape.clone();
-        shape.values[self.position_parameter] = ParameterValue::Number(position);
-        shape.values[self.width_parameter] = ParameterValue::Number(width);
+    /// The narrowest width of any channel at either end of the scan.
+    pub fn narrowest_width(&self) -> f64 {
+        (0..self.peaks.len())
+            .flat_map(|channel| [self.from, self.to].map(|at| self.width_at(channel, at)))
+            .fold(f64::INFINITY, f64::min)
+    }
+
+    /// Channel `channel`'s signal shape with its peak at `position` and the
+    /// given `width`.
+    pub fn shape_at(&self, channel: usize, position: f64, width: f64) -> ShapeSpec {
+        let peak = &self.peaks[channel];
+        let mut shape = peak.shape.clone();
+        shape.values[peak.position_parameter] = ParameterValue::Number(position);
+        shape.values[peak.width_parameter] = ParameterValue::Number(width);
         shape
     }
 
-    /// The signal shape's parameter values (in its parameter order) with its
-    /// peak at `position` and the width of the scan there.
+    /// Every channel's signal shape parameters (each in its parameter
+    /// order, channel after channel) with the peak at `position` and each
+    /// channel's width there: the placement of `Likelihood::place_signal`.
     pub fn shape_parameters_at(&self, position: f64) -> Vec<f64> {
-        self.shape_at(position, self.width_at(position))
-            .values
-            .iter()
-            .map(ParameterValue::number)
+        (0..self.peaks.len())
+            .flat_map(|channel| {
+                self.shape_at(channel, position, self.width_at(channel, position))
+                    .values
+                    .iter()
+                    .map(ParameterValue::number)
+                    .collect::<Vec<f64>>()
+            })
             .collect()
+    }
+
+    /// d parameters / d position at `position`, laid out as
+    /// [`SignalScan::shape_parameters_at`]: 1 for each position, the
+    /// width's slope there for each width, 0 for the rest.
+    pub fn direction_at(&self, position: f64) -> Vec<f64> {
+        self.peaks
+            .iter()
+            .flat_map(|peak| {
+                let mut direction = vec![0.0; peak.shape.values.len()];
+                direction[peak.position_parameter] = 1.0;
+                direction[peak.width_parameter] = peak.width_slope(position, [self.from, self.to]);
+                direction
+            })
+            .collect()
+    }
+}
+
+impl ScannedPeak {
+    fn width_at(&self, position: f64, [from, to]: [f64; 2]) -> f64 {
+        match &self.width {
+            WidthLaw::Linear { at_from, at_to } => {
+                if to == from {
+                    return *at_from;
+                }
+                let t = (position - from) / (to - from);
+                at_from + t * (at_to - at_from)
+            }
+            WidthLaw::Resolution(resolution) => resolution.sigma_at(position),
+        }
+    }
+
+    fn width_slope(&self, position: f64, [from, to]: [f64; 2]) -> f64 {
+        match &self.width {
+            WidthLaw::Linear { at_from, at_to } => {
+                if to == from {
+                    0.0
+                } else {
+                    (at_to - at_from) / (to - from)
+                }
+            }
+            WidthLaw::Resolution(resolution) => resolution.slope_at(position),
+        }
     }
 }
 
 impl Scenario {
     /// The scan of the signal position, when `signal.scan` is given.
     pub fn signal_scan(&self) -> Option<SignalScan> {
-        let scan = self.signal().scan.as_ref()?;
-        let checked = SignalScan::new(scan, &self.signal().shape, self.observable().range);
+        let checked = self.checked_signal_scan()?;
         Some(checked.expect("validation refuses a scan that is not valid"))
     }
 
-    /// This scenario with the signal peak moved to `position`, of width
-    /// `width`; everything else unchanged. Build its model with
-    /// [`Model::from_scenario`](crate::model::Model::from_scenario).
-    pub fn with_signal_at(&self, scan: &SignalScan, position: f64, width: f64) -> Scenario {
+    /// The scan of the signal position, or the error naming what is wrong:
+    /// with a detector-level signal the peak moves in every channel, each
+    /// with the width its resolution gives.
+    pub(super) fn checked_signal_scan(&self) -> Option<Result<SignalScan, ScenarioError>> {
+        let scan = self.signal().scan.as_ref()?;
+        let range = self.observable().range;
+        Some(match &self.detector_signal {
+            None => SignalScan::new(scan, &self.signal().shape, range),
+            Some(detector_signal) => self
+                .channels
+                .iter()
+                .zip(&detector_signal.channels)
+                .map(|(channel, response)| {
+                    let peak = ScannedPeak::of(&channel.signal.shape, channel.observable.range)?;
+                    Ok(ScannedPeak {
+                        width: WidthLaw::Resolution(response.resolution.clone()),
+                        ..peak
+                    })
+                })
+                .collect::<Result<Vec<_>, ScenarioError>>()
+                .and_then(|peaks| {
+                    let range = self.channels.iter().fold(range, |[low, high], channel| {
+                        let [l, h] = channel.observable.range;
+                        [low.max(l), high.min(h)]
+                    });
+                    SignalScan::of_peaks(scan, peaks, range)
+                }),
+        })
+    }
+
+    /// This scenario with the signal peak moved to `position` in every
+    /// channel, each with its width there; everything else unchanged. Build
+    /// its model with [`Model::from_scenario`](crate::model::Model::from_scenario).
+    pub fn with_signal_at(&self, scan: &SignalScan, position: f64) -> Scenario {
         let mut moved = self.clone();
-        moved.channel_mut().signal.shape = scan.shape_at(position, width);
+        for (index, channel) in moved.channels.iter_mut().take(scan.channels()).enumerate() {
+            channel.signal.shape = scan.shape_at(index, position, scan.width_at(index, position));
+        }
         moved
     }
 }
@@ -310,7 +451,7 @@ plan:
         assert_eq!(scan.position(0), 10.0);
         assert_eq!(scan.position(160), 90.0);
         assert_eq!(scan.positions().len(), 161);
-        assert_eq!(scan.width_at(50.0), 1.5, "constant width by default");
+        assert_eq!(scan.width_at(0, 50.0), 1.5, "constant width by default");
     }
 
     /// A decimal step (0.2 over 80) still ends at `to`: 401 positions.
@@ -339,13 +480,32 @@ plan:
         let text = with("step: 0.5}", "step: 0.5, width_at_to: 3.5}");
         let scenario = Scenario::from_yaml(&text).unwrap();
         let scan = scenario.signal_scan().unwrap();
-        assert_eq!(scan.width_at(10.0), 1.5);
-        assert!((scan.width_at(50.0) - 2.5).abs() < 1e-12);
-        assert!((scan.width_at(90.0) - 3.5).abs() < 1e-12);
+        assert_eq!(scan.width_at(0, 10.0), 1.5);
+        assert!((scan.width_at(0, 50.0) - 2.5).abs() < 1e-12);
+        assert!((scan.width_at(0, 90.0) - 3.5).abs() < 1e-12);
         assert_eq!(scan.shape_parameters_at(50.0), vec![50.0, 2.5]);
-        let moved = scenario.with_signal_at(&scan, 30.0, 2.0);
-        assert_eq!(moved.signal().shape, scan.shape_at(30.0, 2.0));
+        let moved = scenario.with_signal_at(&scan, 30.0);
+        assert_eq!(moved.signal().shape, scan.shape_at(0, 30.0, 2.0));
         assert_eq!(moved.backgrounds().len(), scenario.backgrounds().len());
+    }
+
+    /// `width_at_to` starts from the signal's own width at `from`: with the
+    /// signal at 50, not at `from` = 10, `check` warns; at `from`, or
+    /// without `width_at_to`, it does not.
+    #[test]
+    fn width_at_to_away_from_from_is_a_warning() {
+        use crate::warning::Warning;
+        let text = with("step: 0.5}", "step: 0.5, width_at_to: 3.5}");
+        assert_eq!(
+            Scenario::from_yaml(&text).unwrap().warnings(),
+            [Warning::WidthAtToAwayFromFrom {
+                position: 50.0,
+                from: 10.0
+            }]
+        );
+        let at_from = text.replacen("mean: 50.0", "mean: 10.0", 1);
+        assert!(Scenario::from_yaml(&at_from).unwrap().warnings().is_empty());
+        assert!(Scenario::from_yaml(SCANNED).unwrap().warnings().is_empty());
     }
 
     #[test]

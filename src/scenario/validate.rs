@@ -40,19 +40,27 @@ pub(super) fn validate(scenario: &Scenario) -> Checked {
     validate_shared_uncertainties(scenario)?;
     validate_channel_names(scenario)?;
     for (index, channel) in scenario.channels.iter().enumerate() {
-        validate_channel(channel, &scenario.shared_uncertainties)
-            .map_err(|error| error.within(&channel_path(scenario, index)))?;
+        validate_channel(
+            channel,
+            &scenario.shared_uncertainties,
+            scenario.detector_signal.is_some(),
+        )
+        .map_err(|error| error.within(&channel_path(scenario, index)))?;
     }
     refuse_scan_in_several_channels(scenario)?;
+    if let Some(Err(error)) = scenario.checked_signal_scan() {
+        return Err(error);
+    }
     validate_schedule(&scenario.schedule, &background_names(scenario))?;
     validate_plan(&scenario.plan)
 }
 
-/// A scan moves the signal of one channel: with several channels, which
-/// signals move together (and whether their scans agree) is not defined yet,
-/// so a scan there is refused at the first channel declaring one.
+/// A scan of several channels moves one physical signal in all of them:
+/// that is a detector-level signal; per-channel signals, each its own, have
+/// no common position to scan, so a scan there is refused at the first
+/// channel declaring one.
 fn refuse_scan_in_several_channels(scenario: &Scenario) -> Checked {
-    if scenario.channels.len() < 2 {
+    if scenario.channels.len() < 2 || scenario.detector_signal.is_some() {
         return Ok(());
     }
     match scenario
@@ -63,7 +71,7 @@ fn refuse_scan_in_several_channels(scenario: &Scenario) -> Checked {
         Some(index) => Err(ScenarioError::invalid(
             format!("{}signal.scan", channel_path(scenario, index)),
             format!(
-                "a scan of the signal position needs a single-channel scenario, this one has {} channels",
+                "a scan of several channels ({}) moves one signal in all of them: write the signal once at the top level, beside channels, with each channel's resolution and signal_efficiency",
                 scenario.channels.len()
             ),
         )),
@@ -102,10 +110,15 @@ fn validate_channel_names(scenario: &Scenario) -> Checked {
 }
 
 /// One channel's observable, signal and backgrounds, with paths inside the
-/// channel; every `shared` name must be one of `declared`.
-fn validate_channel(channel: &Channel, declared: &BTreeMap<String, f64>) -> Checked {
+/// channel; every `shared` name must be one of `declared`. A signal made
+/// from a `detector_level` one may have rate 0 (a channel of efficiency 0).
+fn validate_channel(
+    channel: &Channel,
+    declared: &BTreeMap<String, f64>,
+    detector_level: bool,
+) -> Checked {
     let range = validate_observable(&channel.observable)?;
-    validate_signal(&channel.signal, range)?;
+    validate_signal(&channel.signal, range, detector_level)?;
     validate_backgrounds(&channel.backgrounds, range)?;
     refuse_free_background_in_one_bin(channel)?;
     validate_shared_names("signal.shared", &channel.signal.shared, declared)?;
@@ -178,8 +191,26 @@ pub(super) fn warnings(scenario: &Scenario) -> Vec<Warning> {
         }));
     }
     remarks.extend(unused_shared_uncertainties(scenario));
+    remarks.extend(width_at_to_away_from_from(scenario));
     remarks.extend(first_day_without_exposure(scenario));
     remarks
+}
+
+/// `scan.width_at_to` beside a signal position other than `scan.from`:
+/// the linear width starts from the signal's own width at `from`.
+fn width_at_to_away_from_from(scenario: &Scenario) -> Option<Warning> {
+    let signal = scenario.signal();
+    let scan = signal.scan.as_ref()?;
+    scan.width_at_to?;
+    let placement = Placement {
+        range: scenario.observable().range,
+        floated: false,
+    };
+    let position = signal.shape.build(placement).ok()?.peak()?.centre;
+    (position != scan.from).then_some(Warning::WidthAtToAwayFromFrom {
+        position,
+        from: scan.from,
+    })
 }
 
 /// Declared shared uncertainties that no signal or background names.
@@ -325,11 +356,15 @@ fn validate_bin_width(bin_width: f64, range: Range) -> Checked {
     Ok(())
 }
 
-fn validate_signal(signal: &Signal, range: Range) -> Checked {
-    require_positive("signal.events_per_day", signal.events_per_day)?;
+fn validate_signal(signal: &Signal, range: Range, detector_level: bool) -> Checked {
+    if !(detector_level && signal.events_per_day == 0.0) {
+        require_positive("signal.events_per_day", signal.events_per_day)?;
+    }
     validate_shape("signal", &signal.shape, range, false)?;
     refuse_signal_peak_outside_range(&signal.shape, range)?;
-    if let Some(scan) = &signal.scan {
+    if let Some(scan) = &signal.scan
+        && !detector_level
+    {
         SignalScan::new(scan, &signal.shape, [range.low, range.high])?;
     }
     if let Some(relative) = signal.yield_uncertainty {

@@ -53,11 +53,12 @@ const MAX_PANELS: usize = 4096;
 pub struct PeakPath<'a> {
     /// The interval scanned; empty (from = to) for a single position.
     pub interval: [f64; 2],
-    /// The signal shape's parameters with its peak at a position.
+    /// The signal shapes' parameters with the peak at a position (channel
+    /// after channel, as `Likelihood::place_signal` takes them).
     pub parameters_at: Box<dyn Fn(f64) -> Vec<f64> + 'a>,
-    /// d parameters / d position: 1 for the position, the width's slope for
-    /// the width, 0 for the rest.
-    pub direction: Vec<f64>,
+    /// d parameters / d position at a position, laid out alike: 1 for each
+    /// position, the width's slope there for each width, 0 for the rest.
+    pub direction_at: Box<dyn Fn(f64) -> Vec<f64> + 'a>,
     /// The narrowest width along the path, in the units of the position.
     pub narrowest_width: f64,
 }
@@ -77,8 +78,6 @@ pub enum UpcrossingError {
     /// The nuisance parameters absorb the whole signal template at this
     /// position, which leaves it no significance.
     SignalAbsorbed { position: f64 },
-    /// The signal shape has no movable peak.
-    NotMovable,
 }
 
 impl fmt::Display for UpcrossingError {
@@ -96,30 +95,20 @@ impl fmt::Display for UpcrossingError {
                 f,
                 "at position {position} the nuisance parameters absorb the whole signal"
             ),
-            UpcrossingError::NotMovable => write!(f, "the signal shape has no movable peak"),
         }
     }
 }
 
 impl std::error::Error for UpcrossingError {}
 
-/// The path of the scan `scan` for a signal whose shape is `shape`.
-pub fn scan_path<'a>(
-    scan: &'a SignalScan,
-    shape: &dyn crate::shapes::Shape,
-) -> Result<PeakPath<'a>, UpcrossingError> {
-    let peak = shape.movable_peak().ok_or(UpcrossingError::NotMovable)?;
-    let [from, to] = scan.interval();
-    let (width_from, width_to) = (scan.width_at(from), scan.width_at(to));
-    let mut direction = vec![0.0; shape.nominal_parameters().len()];
-    direction[peak.position] = 1.0;
-    direction[peak.width] = (width_to - width_from) / (to - from);
-    Ok(PeakPath {
-        interval: [from, to],
+/// The path of the scan `scan`: every channel's signal moved together.
+pub fn scan_path(scan: &SignalScan) -> PeakPath<'_> {
+    PeakPath {
+        interval: scan.interval(),
         parameters_at: Box::new(|m| scan.shape_parameters_at(m)),
-        direction,
-        narrowest_width: width_from.min(width_to),
-    })
+        direction_at: Box::new(|m| scan.direction_at(m)),
+        narrowest_width: scan.narrowest_width(),
+    }
 }
 
 /// The geometry of the scan `scan` of the model's signal at `live_days`.
@@ -128,15 +117,7 @@ pub fn scan_geometry_of(
     scan: &SignalScan,
     live_days: f64,
 ) -> Result<ScanGeometry, UpcrossingError> {
-    let signal = likelihood
-        .model()
-        .channels
-        .iter()
-        .flat_map(|channel| &channel.components)
-        .find(|component| component.is_signal)
-        .expect("every model has a signal");
-    let path = scan_path(scan, signal.shape.as_ref())?;
-    scan_geometry(likelihood, &path, live_days)
+    scan_geometry(likelihood, &scan_path(scan), live_days)
 }
 
 /// The geometry of `path` at `live_days`: the integral of sqrt(lambda2) by
@@ -162,7 +143,7 @@ pub fn scan_geometry(
             &theta,
             live_days,
             &(path.parameters_at)(m),
-            &path.direction,
+            &(path.direction_at)(m),
             &mut template,
             &mut slope,
         );

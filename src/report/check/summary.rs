@@ -70,13 +70,13 @@ fn written_as(unit: RateUnit, scenario: &Scenario, channel: &Channel) -> String 
 /// Each channel's rates (under a heading with its name when there are
 /// several), then with several channels the totals of all of them.
 fn rates(text: &mut String, scenario: &Scenario, model: &Model) {
-    let [channel] = scenario.channels.as_slice() else {
+    let [_] = scenario.channels.as_slice() else {
         for (index, channel) in scenario.channels.iter().enumerate() {
             let _ = writeln!(text, "  channel {}:", channel.name);
             channel_rates(
                 text,
                 scenario,
-                channel,
+                index,
                 model.channel_alone(index).nominal_rates(),
                 "    ",
             );
@@ -91,23 +91,34 @@ fn rates(text: &mut String, scenario: &Scenario, model: &Model) {
         );
         return;
     };
-    channel_rates(text, scenario, channel, model.nominal_rates(), "  ");
+    channel_rates(text, scenario, 0, model.nominal_rates(), "  ");
 }
 
-/// One channel's rates per live day (`rates`: signal and background of its
-/// model), and S, B and S/B within the peak window; each line after `indent`.
+/// Channel `index`'s rates per live day (`rates`: signal and background of
+/// its model; with a detector-level signal, the channel's signal efficiency),
+/// and S, B and S/B within the peak window; each line after `indent`.
 fn channel_rates(
     text: &mut String,
     scenario: &Scenario,
-    channel: &Channel,
+    index: usize,
     rates: (f64, f64),
     indent: &str,
 ) {
+    let channel = &scenario.channels[index];
     let (signal, background) = rates;
     let observable = &channel.observable;
+    let efficiency = scenario
+        .detector_signal
+        .as_ref()
+        .map_or(String::new(), |detector| {
+            format!(
+                " (detector-level signal, signal efficiency {})",
+                rounded(detector.channels[index].efficiency)
+            )
+        });
     let _ = writeln!(
         text,
-        "{indent}signal: {} events per live day{}",
+        "{indent}signal: {} events per live day{}{efficiency}",
         rounded(signal),
         written_as(channel.signal.rate_unit, scenario, channel)
     );

@@ -1,5 +1,8 @@
-//! `reach.csv`: one row per exposure and position, rates in signal events per
-//! live day, empty cells where not computed or unbounded.
+//! `reach.csv`: one row per exposure and position, rates in the unit of the
+//! `rate_unit` column (the signal's own unit), empty cells where not
+//! computed or unbounded; with several channels, each channel alone after
+//! the combined rates (`<channel>_limit_rate_asimov`,
+//! `<channel>_discovery_rate_local_<t>sigma`).
 
 use super::REACH_CSV;
 use crate::reach::Reach;
@@ -8,8 +11,9 @@ use crate::report::kit::encode::csv_bytes;
 use crate::report::kit::format::{number, optional};
 use crate::report::kit::vocabulary::band_columns;
 
-/// The header: exposure, position, limits, failed toy fits, then the local
-/// and the global discovery rate of each target.
+/// The header: exposure, position, limits, failed toy fits, the local and
+/// the global discovery rate of each target, the rate unit, then each
+/// channel alone when there are several.
 fn header(reach: &Reach) -> Vec<String> {
     let mut header: Vec<String> = [
         "days",
@@ -28,6 +32,18 @@ fn header(reach: &Reach) -> Vec<String> {
     for scope in ["local", "global"] {
         for target in &reach.targets {
             header.push(format!("discovery_rate_{scope}_{}sigma", number(*target)));
+        }
+    }
+    header.push("rate_unit".to_string());
+    if reach.channel_names.len() > 1 {
+        for name in &reach.channel_names {
+            header.push(format!("{name}_limit_rate_asimov"));
+            for target in &reach.targets {
+                header.push(format!(
+                    "{name}_discovery_rate_local_{}sigma",
+                    number(*target)
+                ));
+            }
         }
     }
     header
@@ -57,6 +73,11 @@ pub(super) fn render(reach: &Reach) -> Result<Vec<u8>, ReportError> {
             row.push(point.limit_failed_fits.to_string());
             row.extend(point.discovery_rate_local.iter().map(|r| optional(*r)));
             row.extend(point.discovery_rate_global.iter().map(|r| optional(*r)));
+            row.push(reach.rate_unit.clone());
+            for channel in &point.channels {
+                row.push(optional(channel.limit_rate_asimov));
+                row.extend(channel.discovery_rate_local.iter().map(|r| optional(*r)));
+            }
             row
         })
     });

@@ -1,7 +1,9 @@
-//! `reach.svg`: the expected limit on the signal rate against the position,
-//! on a log rate axis, one colour per exposure (dashed: Asimov median limit;
-//! solid: toy median limit; dotted: the rate for a global discovery at the
-//! highest target), with the scenario's own rate as a reference line.
+//! `reach.svg`: one panel per exposure, stacked, on one log rate axis
+//! against the position: the Asimov median expected limit (dashed) with its
+//! ±1σ and ±2σ bands, the toy median limit (solid) when toys ran, the rate
+//! for a global discovery at every target (dotted, one colour per target),
+//! and the scenario's own rate as a reference line. Panels keep the bands
+//! of exposures apart.
 
 use super::REACH_SVG;
 use crate::reach::{ExposureReach, Reach};
@@ -10,13 +12,28 @@ use crate::report::kit::axis::{Axis, axis_label, linear_axis, log_axis, one_two_
 use crate::report::kit::figure::{self, Canvas, DrawError, Frame};
 use crate::report::kit::format::{days_label, percent_label, target_label};
 use crate::report::kit::legend::Line;
-use crate::report::kit::marks::{self, Stroke};
-use crate::report::kit::palette::{DOT, SERIES_COLOURS, SLATE};
+use crate::report::kit::marks::{self, BandPoint, Stroke};
+use crate::report::kit::palette::{DOT, INK_TEAL, PLUM, SLATE, VERMILION, VIOLET, text_style};
 use plotters::prelude::*;
+
+/// Height of one exposure's panel, in pixels.
+const PANEL_HEIGHT: u32 = 340;
+
+/// Height of the title above the panels.
+const TITLE_HEIGHT: u32 = 50;
+
+/// The colours of the global discovery curves, one per target in order.
+const TARGET_COLOURS: [RGBColor; 3] = [INK_TEAL, VERMILION, PLUM];
+
+/// The colour of the limit curves, over the lavender bands.
+const LIMIT_COLOUR: RGBColor = VIOLET;
 
 /// The reach plot as SVG bytes.
 pub(super) fn render(reach: &Reach) -> Result<Vec<u8>, ReportError> {
-    figure::svg_bytes(REACH_SVG, figure::SIZE, |canvas| draw(canvas, reach))
+    let height = TITLE_HEIGHT + PANEL_HEIGHT * reach.exposures.len().max(1) as u32;
+    figure::svg_bytes(REACH_SVG, (figure::SIZE.0, height), |canvas| {
+        draw(canvas, reach)
+    })
 }
 
 /// Every rate drawn, for the axis range.
@@ -26,13 +43,12 @@ fn drawn_rates(reach: &Reach) -> impl Iterator<Item = f64> + '_ {
         .iter()
         .flat_map(|exposure| {
             exposure.positions.iter().flat_map(|p| {
-                [
-                    p.limit_rate_asimov,
-                    p.limit_rate_median,
-                    p.discovery_rate_global.last().copied().flatten(),
-                ]
-                .into_iter()
-                .flatten()
+                let band = p.limit_rate_asimov_band.into_iter().flatten();
+                [p.limit_rate_asimov, p.limit_rate_median]
+                    .into_iter()
+                    .flatten()
+                    .chain(band)
+                    .chain(p.discovery_rate_global.iter().copied().flatten())
             })
         })
         .chain(std::iter::once(reach.signal_rate))
@@ -53,10 +69,33 @@ fn draw(canvas: &Canvas, reach: &Reach) -> Result<(), DrawError> {
         (low.min(r), high.max(r))
     });
     let rates = one_two_five_span(low / 1.2, high * 1.2);
-    let first = &reach.exposures[0].positions;
-    let from = first[0].position;
-    let to = first[first.len() - 1].position;
-    let frame = Frame::single(&reach.title, false);
+    let body = canvas.titled(&reach.title, text_style(24))?;
+    let panels = body.split_evenly((reach.exposures.len().max(1), 1));
+    for (exposure, panel) in reach.exposures.iter().zip(&panels) {
+        draw_exposure(panel, reach, exposure, rates.clone())?;
+    }
+    Ok(())
+}
+
+/// One exposure's panel.
+fn draw_exposure(
+    panel: &Canvas,
+    reach: &Reach,
+    exposure: &ExposureReach,
+    rates: std::ops::Range<f64>,
+) -> Result<(), DrawError> {
+    let positions = &exposure.positions;
+    let from = positions[0].position;
+    let to = positions[positions.len() - 1].position;
+    let days = days_label(exposure.days);
+    let caption = format!("After {days}");
+    let frame = Frame {
+        caption: Some((&caption, 18)),
+        margins: [8, 24, 8, 14],
+        label_areas: (46, 64, 0),
+        text_sizes: (16, 14),
+        light_lines: (None, Some(1)),
+    };
     let x_description = format!("Signal position [{}]", reach.unit);
     let x = Axis {
         coordinate: linear_axis(from..to),
@@ -64,57 +103,55 @@ fn draw(canvas: &Canvas, reach: &Reach) -> Result<(), DrawError> {
         format: &axis_label,
         labels: None,
     };
+    let y_description = format!("Rate [{}]", reach.rate_unit);
     let y = Axis {
         coordinate: log_axis(rates),
-        description: Some("Signal rate [events per live day]"),
+        description: Some(&y_description),
         format: &axis_label,
         labels: None,
     };
-    let mut chart = figure::chart(canvas, &frame, x, y)?;
+    let mut chart = figure::chart(panel, &frame, x, y)?;
+    let band: Vec<BandPoint> = positions
+        .iter()
+        .filter_map(|p| p.limit_rate_asimov_band.map(|band| (p.position, band)))
+        .collect();
+    marks::draw_band(&mut chart, &band, ["Limit ±2σ", "Limit ±1σ"])?;
+    let cl = percent_label(reach.cl);
+    let colour = LIMIT_COLOUR;
+    marks::draw_curve(
+        &mut chart,
+        curve(exposure, |i| positions[i].limit_rate_asimov),
+        colour,
+        Stroke::Dashed,
+        format!("{cl} CL limit (Asimov median)"),
+    )?;
+    let toys = curve(exposure, |i| positions[i].limit_rate_median);
+    if !toys.is_empty() {
+        marks::draw_curve(
+            &mut chart,
+            toys,
+            colour,
+            Stroke::Solid,
+            format!("{cl} CL limit (toy median)"),
+        )?;
+    }
+    for (target_index, &target) in reach.targets.iter().enumerate() {
+        let global = curve(exposure, |i| {
+            positions[i].discovery_rate_global[target_index]
+        });
+        let target_colour = TARGET_COLOURS[target_index % TARGET_COLOURS.len()];
+        marks::draw_line(
+            &mut chart,
+            global,
+            Line::Dashed(target_colour.stroke_width(2), DOT),
+            Some(format!("Global {} (Asimov)", target_label(target))),
+        )?;
+    }
     marks::draw_line(
         &mut chart,
         vec![(from, reach.signal_rate), (to, reach.signal_rate)],
         Line::Dashed(SLATE.stroke_width(1), DOT),
         Some("Scenario's signal rate".to_string()),
     )?;
-    let cl = percent_label(reach.cl);
-    let target = reach.targets.last().copied();
-    for (index, exposure) in reach.exposures.iter().enumerate() {
-        let colour = SERIES_COLOURS[index % SERIES_COLOURS.len()];
-        let days = days_label(exposure.days);
-        let asimov = curve(exposure, |i| exposure.positions[i].limit_rate_asimov);
-        marks::draw_curve(
-            &mut chart,
-            asimov,
-            colour,
-            Stroke::Dashed,
-            format!("{days}: {cl} CL limit (Asimov)"),
-        )?;
-        let toys = curve(exposure, |i| exposure.positions[i].limit_rate_median);
-        if !toys.is_empty() {
-            marks::draw_curve(
-                &mut chart,
-                toys,
-                colour,
-                Stroke::Solid,
-                format!("{days}: {cl} CL limit (toy median)"),
-            )?;
-        }
-        if let Some(target) = target {
-            let global = curve(exposure, |i| {
-                exposure.positions[i]
-                    .discovery_rate_global
-                    .last()
-                    .copied()
-                    .flatten()
-            });
-            marks::draw_line(
-                &mut chart,
-                global,
-                Line::Dashed(colour.stroke_width(2), DOT),
-                Some(format!("{days}: global {} (Asimov)", target_label(target))),
-            )?;
-        }
-    }
     marks::draw_legend_at(&mut chart, SeriesLabelPosition::UpperRight)
 }

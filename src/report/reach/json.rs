@@ -1,12 +1,15 @@
 //! `reach.json`.
 //!
-//! Schema: `{title, seed, cl, targets, exposures: [{days, live_days,
+//! Schema: `{title, seed, cl, targets, rate_unit, exposures: [{days, live_days,
 //! look_elsewhere: {reference_level, mean_upcrossings, mean_upcrossings_error,
 //! toys, direct_global_p, trials_factor, mean_upcrossings_asimov}, positions:
 //! [{position, width, limit_rate_asimov, limit_rate_asimov_band: [-2σ, -1σ, +1σ,
 //! +2σ], limit_rate_median, limit_rate_band, discovery_rate_local: [one per
-//! target], discovery_rate_global: [one per target]}]}]}`; rates in signal
-//! events per live day, null where not computed (the toy look-elsewhere
+//! target], discovery_rate_global: [one per target], channels: [{name, width,
+//! limit_rate_asimov, discovery_rate_local}] (each channel alone; only with
+//! several channels)}]}]}`; rates in `rate_unit` (the signal's own unit:
+//! events per live day, or per kg·day for a detector-level signal written
+//! so), null where not computed (the toy look-elsewhere
 //! values, which `reach` does not run; toy limits without `--toys`) or
 //! unbounded.
 
@@ -22,6 +25,7 @@ struct ReachJson<'r> {
     seed: u64,
     cl: f64,
     targets: &'r [f64],
+    rate_unit: &'r str,
     exposures: Vec<ExposureJson<'r>>,
 }
 
@@ -56,9 +60,20 @@ struct PositionJson<'r> {
     limit_rate_band: Option<[f64; 4]>,
     discovery_rate_local: &'r [Option<f64>],
     discovery_rate_global: &'r [Option<f64>],
+    #[serde(skip_serializing_if = "<[_]>::is_empty")]
+    channels: Vec<ChannelJson<'r>>,
 }
 
-fn exposure(exposure: &ExposureReach) -> ExposureJson<'_> {
+/// One channel alone at a position.
+#[derive(Serialize)]
+struct ChannelJson<'r> {
+    name: &'r str,
+    width: f64,
+    limit_rate_asimov: Option<f64>,
+    discovery_rate_local: &'r [Option<f64>],
+}
+
+fn exposure<'r>(exposure: &'r ExposureReach, names: &'r [String]) -> ExposureJson<'r> {
     ExposureJson {
         days: exposure.days,
         live_days: exposure.live_days,
@@ -71,11 +86,15 @@ fn exposure(exposure: &ExposureReach) -> ExposureJson<'_> {
             trials_factor: None,
             mean_upcrossings_asimov: exposure.mean_upcrossings_asimov,
         },
-        positions: exposure.positions.iter().map(position).collect(),
+        positions: exposure
+            .positions
+            .iter()
+            .map(|point| position(point, names))
+            .collect(),
     }
 }
 
-fn position(point: &PositionReach) -> PositionJson<'_> {
+fn position<'r>(point: &'r PositionReach, names: &'r [String]) -> PositionJson<'r> {
     PositionJson {
         position: point.position,
         width: point.width,
@@ -85,6 +104,17 @@ fn position(point: &PositionReach) -> PositionJson<'_> {
         limit_rate_band: point.limit_rate_band,
         discovery_rate_local: &point.discovery_rate_local,
         discovery_rate_global: &point.discovery_rate_global,
+        channels: point
+            .channels
+            .iter()
+            .zip(names)
+            .map(|(channel, name)| ChannelJson {
+                name,
+                width: channel.width,
+                limit_rate_asimov: channel.limit_rate_asimov,
+                discovery_rate_local: &channel.discovery_rate_local,
+            })
+            .collect(),
     }
 }
 
@@ -95,7 +125,12 @@ pub(super) fn render(reach: &Reach) -> Result<Vec<u8>, ReportError> {
         seed: reach.seed,
         cl: reach.cl,
         targets: &reach.targets,
-        exposures: reach.exposures.iter().map(exposure).collect(),
+        rate_unit: &reach.rate_unit,
+        exposures: reach
+            .exposures
+            .iter()
+            .map(|point| exposure(point, &reach.channel_names))
+            .collect(),
     };
     json_bytes(REACH_JSON, &document)
 }

@@ -100,8 +100,9 @@ fn exposure_summary(reach: &Reach, exposure: &ExposureReach) -> String {
 pub fn reach_summary(reach: &Reach, toys: usize) -> String {
     let positions = reach.exposures.first().map_or(0, |e| e.positions.len());
     let mut text = format!(
-        "{}\nReach over {positions} positions, rates in signal events per live day (scenario: {})\n",
+        "{}\nReach over {positions} positions, rates in signal {} (scenario: {})\n",
         reach.title,
+        reach.rate_unit,
         rate(reach.signal_rate)
     );
     for exposure in &reach.exposures {
