@@ -103,7 +103,7 @@ fn every_column_and_key_written_is_documented() {
         let entry = entry.unwrap();
         fs::copy(entry.path(), scratch.path.join(entry.file_name())).unwrap();
     }
-    let runs: [&[&str]; 8] = [
+    let runs: [&[&str]; 9] = [
         &[
             "project",
             "unknown_line.yaml",
@@ -174,6 +174,14 @@ fn every_column_and_key_written_is_documented() {
             "binning",
         ],
         &["levers", "two_channel_detector.yaml", "--out", "levers"],
+        &[
+            "reach",
+            "two_volume_line.yaml",
+            "--days",
+            "30",
+            "--out",
+            "volumes",
+        ],
     ];
     for args in runs {
         let output = scratch.run(args);
@@ -186,7 +194,7 @@ fn every_column_and_key_written_is_documented() {
     let lists = documented();
     let mut checked = 0;
     for folder in [
-        "scan", "channels", "dated", "reach", "compare", "spectrum", "binning", "levers",
+        "scan", "channels", "dated", "reach", "compare", "spectrum", "binning", "levers", "volumes",
     ] {
         for entry in fs::read_dir(scratch.path.join(folder)).unwrap() {
             let path = entry.unwrap().path();
