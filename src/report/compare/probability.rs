@@ -8,11 +8,11 @@ use super::{COMPARE_PROBABILITY_SVG, Comparison, day_range, plan_colour};
 use crate::projection::DaysToTarget;
 use crate::report::ReportError;
 use crate::report::kit::axis::{Axis, days_axis, linear_axis};
-use crate::report::kit::figure::{self, Canvas, DrawError, Frame, SIZE};
+use crate::report::kit::figure::{self, Canvas, DrawError, Frame, Page, SIZE};
 use crate::report::kit::format::target_label;
+use crate::report::kit::legend::Legend;
 use crate::report::kit::marks::{self, Stroke};
 use crate::report::kit::schedule;
-use plotters::chart::SeriesLabelPosition;
 
 /// The probability comparison as SVG bytes.
 pub(super) fn render(comparison: &Comparison) -> Result<Vec<u8>, ReportError> {
@@ -29,12 +29,13 @@ fn draw(canvas: &Canvas, comparison: &Comparison) -> Result<(), DrawError> {
         format: &format,
         labels: Some(12),
     };
-    let frame = Frame::single(
+    let page = Page::titled(
+        canvas,
         "Run plans compared: probability of reaching each target",
-        false,
-    );
+    )?;
     let x = days_axis(day_range(comparison), comparison.day_spacing());
-    let mut chart = figure::chart(canvas, &frame, x, y)?;
+    let mut chart = figure::chart(&page.plot, &Frame::single(false), x, y)?;
+    let mut legend = Legend::default();
     schedule::shade_reduced(&mut chart, canvas, comparison.shared_rate_stretches())?;
     for (level, label) in [(0.5, "50%"), (0.9, "90%")] {
         marks::reference_line(&mut chart, canvas, level, label)?;
@@ -64,9 +65,9 @@ fn draw(canvas: &Canvas, comparison: &Comparison) -> Result<(), DrawError> {
                 .collect();
             let label = format!("{}, {}", plan.label, method);
             if slot == 0 {
-                marks::draw_curve(&mut chart, curve, colour, stroke, label)?;
+                marks::draw_curve(&mut chart, &mut legend, curve, colour, stroke, label)?;
             } else {
-                marks::draw_line(&mut chart, curve, stroke.line(colour), None)?;
+                marks::draw_line(&mut chart, &mut legend, curve, stroke.line(colour), None)?;
             }
             if let Some(days) = half_way(row, with_toys) {
                 let label = target_label(row.target);
@@ -82,7 +83,7 @@ fn draw(canvas: &Canvas, comparison: &Comparison) -> Result<(), DrawError> {
             }
         }
     }
-    marks::draw_legend_at(&mut chart, SeriesLabelPosition::UpperLeft)
+    legend.draw(&page.legend)
 }
 
 /// Where the curve crosses 50%: the day half the pseudo-experiments reach the

@@ -8,11 +8,11 @@ use super::{COMPARE_SVG, Comparison, day_range, plan_colour};
 use crate::report::ReportError;
 use crate::report::kit::axis::{Axis, days_axis, linear_axis};
 use crate::report::kit::dates::dated_days_label;
-use crate::report::kit::figure::{self, Canvas, DrawError, Frame, SIZE};
+use crate::report::kit::figure::{self, Canvas, DrawError, Frame, Page, SIZE};
 use crate::report::kit::format::target_label;
+use crate::report::kit::legend::Legend;
 use crate::report::kit::marks::{self, Stroke};
 use crate::report::kit::schedule;
-use plotters::chart::SeriesLabelPosition;
 
 /// The significance comparison as SVG bytes.
 pub(super) fn render(comparison: &Comparison) -> Result<Vec<u8>, ReportError> {
@@ -27,9 +27,10 @@ fn draw(canvas: &Canvas, comparison: &Comparison) -> Result<(), DrawError> {
         format: &format,
         labels: Some(12),
     };
-    let frame = Frame::single("Run plans compared", false);
+    let page = Page::titled(canvas, "Run plans compared")?;
     let x = days_axis(day_range(comparison), comparison.day_spacing());
-    let mut chart = figure::chart(canvas, &frame, x, y)?;
+    let mut chart = figure::chart(&page.plot, &Frame::single(false), x, y)?;
+    let mut legend = Legend::default();
     schedule::shade_reduced(&mut chart, canvas, comparison.shared_rate_stretches())?;
     for &target in &comparison.first().targets {
         marks::reference_line(&mut chart, canvas, target, &target_label(target))?;
@@ -45,11 +46,25 @@ fn draw(canvas: &Canvas, comparison: &Comparison) -> Result<(), DrawError> {
             .collect();
         if median.len() > 1 {
             let label = format!("{}: toy median", plan.label);
-            marks::draw_curve(&mut chart, median, colour, Stroke::Solid, label)?;
+            marks::draw_curve(
+                &mut chart,
+                &mut legend,
+                median,
+                colour,
+                Stroke::Solid,
+                label,
+            )?;
         }
         let asimov = points.iter().map(|point| (point.days, point.z_asimov));
         let label = format!("{}: Asimov Z_A", plan.label);
-        marks::draw_curve(&mut chart, asimov.collect(), colour, Stroke::Dashed, label)?;
+        marks::draw_curve(
+            &mut chart,
+            &mut legend,
+            asimov.collect(),
+            colour,
+            Stroke::Dashed,
+            label,
+        )?;
         // Labels stack above the target line, one row per curve and plan.
         let base = (index * rows_per_plan) as i32;
         for row in &plan.projection.days_to_target {
@@ -76,7 +91,7 @@ fn draw(canvas: &Canvas, comparison: &Comparison) -> Result<(), DrawError> {
             }
         }
     }
-    marks::draw_legend_at(&mut chart, SeriesLabelPosition::LowerRight)
+    legend.draw(&page.legend)
 }
 
 /// Top of the y axis: 10% above the highest curve or target, rounded up to a

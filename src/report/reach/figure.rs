@@ -7,9 +7,9 @@ use super::REACH_SVG;
 use crate::reach::{ExposureReach, Reach};
 use crate::report::ReportError;
 use crate::report::kit::axis::{Axis, axis_label, linear_axis, log_axis, one_two_five_span};
-use crate::report::kit::figure::{self, Canvas, DrawError, Frame};
+use crate::report::kit::figure::{self, Canvas, DrawError, Frame, Page};
 use crate::report::kit::format::{days_label, percent_label, target_label};
-use crate::report::kit::legend::Line;
+use crate::report::kit::legend::{Legend, Line};
 use crate::report::kit::marks::{self, Stroke};
 use crate::report::kit::palette::{DOT, SERIES_COLOURS, SLATE};
 use plotters::prelude::*;
@@ -56,7 +56,7 @@ fn draw(canvas: &Canvas, reach: &Reach) -> Result<(), DrawError> {
     let first = &reach.exposures[0].positions;
     let from = first[0].position;
     let to = first[first.len() - 1].position;
-    let frame = Frame::single(&reach.title, false);
+    let page = Page::titled(canvas, &reach.title)?;
     let x_description = format!("Signal position [{}]", reach.unit);
     let x = Axis {
         coordinate: linear_axis(from..to),
@@ -70,9 +70,11 @@ fn draw(canvas: &Canvas, reach: &Reach) -> Result<(), DrawError> {
         format: &axis_label,
         labels: None,
     };
-    let mut chart = figure::chart(canvas, &frame, x, y)?;
+    let mut chart = figure::chart(&page.plot, &Frame::single(false), x, y)?;
+    let mut legend = Legend::default();
     marks::draw_line(
         &mut chart,
+        &mut legend,
         vec![(from, reach.signal_rate), (to, reach.signal_rate)],
         Line::Dashed(SLATE.stroke_width(1), DOT),
         Some("Scenario's signal rate".to_string()),
@@ -85,6 +87,7 @@ fn draw(canvas: &Canvas, reach: &Reach) -> Result<(), DrawError> {
         let asimov = curve(exposure, |i| exposure.positions[i].limit_rate_asimov);
         marks::draw_curve(
             &mut chart,
+            &mut legend,
             asimov,
             colour,
             Stroke::Dashed,
@@ -94,6 +97,7 @@ fn draw(canvas: &Canvas, reach: &Reach) -> Result<(), DrawError> {
         if !toys.is_empty() {
             marks::draw_curve(
                 &mut chart,
+                &mut legend,
                 toys,
                 colour,
                 Stroke::Solid,
@@ -110,11 +114,12 @@ fn draw(canvas: &Canvas, reach: &Reach) -> Result<(), DrawError> {
             });
             marks::draw_line(
                 &mut chart,
+                &mut legend,
                 global,
                 Line::Dashed(colour.stroke_width(2), DOT),
                 Some(format!("{days}: global {} (Asimov)", target_label(target))),
             )?;
         }
     }
-    marks::draw_legend_at(&mut chart, SeriesLabelPosition::UpperRight)
+    legend.draw(&page.legend)
 }
