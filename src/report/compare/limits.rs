@@ -66,7 +66,8 @@ fn draw(canvas: &Canvas, comparison: &Comparison, cl: f64) -> Result<(), DrawErr
         labels: Some(12),
     };
     let page = Page::titled(canvas, "Run plans compared: expected limits")?;
-    let x = days_axis(day_range(comparison), comparison.day_spacing());
+    let scale = comparison.day_scale();
+    let x = days_axis(day_range(comparison), &scale);
     let mut chart = figure::chart(&page.plot, &Frame::single(false), x, y)?;
     let mut legend = Legend::default();
     schedule::shade_reduced(&mut chart, canvas, comparison.shared_rate_stretches())?;

@@ -28,7 +28,8 @@ fn draw(canvas: &Canvas, comparison: &Comparison) -> Result<(), DrawError> {
         labels: Some(12),
     };
     let page = Page::titled(canvas, "Run plans compared")?;
-    let x = days_axis(day_range(comparison), comparison.day_spacing());
+    let scale = comparison.day_scale();
+    let x = days_axis(day_range(comparison), &scale);
     let mut chart = figure::chart(&page.plot, &Frame::single(false), x, y)?;
     let mut legend = Legend::default();
     schedule::shade_reduced(&mut chart, canvas, comparison.shared_rate_stretches())?;

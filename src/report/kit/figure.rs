@@ -274,7 +274,7 @@ where
 
 #[cfg(test)]
 pub(crate) mod tests {
-    use super::super::axis::{days_axis, linear_axis};
+    use super::super::axis::{DayScale, days_axis, linear_axis};
     use super::super::marks::draw_footnote;
     use super::*;
 
@@ -329,10 +329,11 @@ pub(crate) mod tests {
                 labels: None,
             };
             let page = Page::titled(canvas, hostile)?;
+            let scale = DayScale::new(crate::scenario::Spacing::Log, None);
             chart(
                 &page.plot,
                 &Frame::single(true),
-                days_axis(1.0..100.0, crate::scenario::Spacing::Log),
+                days_axis(1.0..100.0, &scale),
                 y,
             )?;
             draw_footnote(canvas, hostile)

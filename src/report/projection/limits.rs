@@ -17,7 +17,7 @@ use super::{LIMITS_SVG, day_range};
 use crate::projection::{ExposurePoint, Projection};
 use crate::report::ReportError;
 use crate::report::kit::axis::{
-    Axis, DaysCoordinate, LogAxis, days_axis, log_axis, one_two_five_span, tick_label,
+    Axis, DayScale, DaysCoordinate, LogAxis, days_axis, log_axis, one_two_five_span, tick_label,
 };
 use crate::report::kit::dates::dated_days_label;
 use crate::report::kit::figure::{self, Canvas, Chart, DrawError, Frame, Page, SIZE};
@@ -67,7 +67,8 @@ fn draw(canvas: &Canvas, projection: &Projection, cl: f64) -> Result<(), DrawErr
     let footnote = footnote(projection);
     let page = Page::titled(canvas, &projection.title)?;
     let frame = Frame::single(footnote.is_some());
-    let x = days_axis(day_range(points), projection.day_spacing);
+    let scale = DayScale::new(projection.day_spacing, projection.start);
+    let x = days_axis(day_range(points), &scale);
     let mut chart = figure::chart(&page.plot, &frame, x, y)?;
     let mut legend = Legend::default();
     schedule::shade_reduced(&mut chart, canvas, &projection.rate_stretches)?;

@@ -7,7 +7,7 @@
 use super::{PROBABILITY_SVG, day_range};
 use crate::projection::Projection;
 use crate::report::ReportError;
-use crate::report::kit::axis::{Axis, days_axis, linear_axis};
+use crate::report::kit::axis::{Axis, DayScale, days_axis, linear_axis};
 use crate::report::kit::figure::{self, Canvas, DrawError, Frame, Page, SIZE};
 use crate::report::kit::format::target_label;
 use crate::report::kit::legend::Legend;
@@ -30,7 +30,8 @@ fn draw(canvas: &Canvas, projection: &Projection) -> Result<(), DrawError> {
         labels: Some(12),
     };
     let page = Page::titled(canvas, &projection.title)?;
-    let x = days_axis(day_range(points), projection.day_spacing);
+    let scale = DayScale::new(projection.day_spacing, projection.start);
+    let x = days_axis(day_range(points), &scale);
     let mut chart = figure::chart(&page.plot, &Frame::single(false), x, y)?;
     let mut legend = Legend::default();
     schedule::shade_reduced(&mut chart, canvas, &projection.rate_stretches)?;

@@ -16,7 +16,7 @@ use super::ensembles::Ensemble;
 use super::{PROJECTION_SVG, day_range};
 use crate::projection::Projection;
 use crate::report::ReportError;
-use crate::report::kit::axis::{Axis, DaysCoordinate, days_axis, linear_axis};
+use crate::report::kit::axis::{Axis, DayScale, DaysCoordinate, days_axis, linear_axis};
 use crate::report::kit::dates::dated_days_label;
 use crate::report::kit::figure::{self, Canvas, Chart, DrawError, Frame, Page, SIZE};
 use crate::report::kit::format::target_label;
@@ -66,7 +66,8 @@ fn draw(canvas: &Canvas, projection: &Projection) -> Result<(), DrawError> {
     };
     let page = Page::titled(canvas, &projection.title)?;
     let frame = Frame::single(footnote.is_some());
-    let x = days_axis(day_range(points), projection.day_spacing);
+    let scale = DayScale::new(projection.day_spacing, projection.start);
+    let x = days_axis(day_range(points), &scale);
     let mut chart = figure::chart(&page.plot, &frame, x, y)?;
     let mut legend = Legend::default();
     schedule::shade_reduced(&mut chart, canvas, &projection.rate_stretches)?;
@@ -350,6 +351,19 @@ mod tests {
         );
         assert!(text.contains(&format!("\n{label} (toys and Asimov)\n</text>")));
         assert!(!text.contains(&format!("\n{label}\n</text>")));
+    }
+
+    #[test]
+    fn with_a_start_date_the_day_axis_reads_dates() {
+        let mut projection = example::with_toys();
+        let undated = svg(&projection);
+        projection.start = crate::calendar::CalendarDate::parse("2027-03-01");
+        let dated = svg(&projection);
+        // The example grid runs from 1 to 1000 days: a tick at 100 days is
+        // 9 June 2027.
+        assert!(dated.contains("Date (calendar days counted from 2027-03-01)"));
+        assert!(dated.contains("\n2027-06-09\n</text>"));
+        assert!(undated.contains("\nCalendar days\n</text>") && !dated.contains("Calendar days"));
     }
 
     #[test]
