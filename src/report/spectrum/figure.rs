@@ -2,6 +2,10 @@
 //! side, one row of panels per channel (each caption naming its channel when
 //! there are several).
 //!
+//! The fit of the pseudo-data (all channels together) is stated once, under
+//! the title; each panel's caption gives its own channel's events and
+//! expected signal and background.
+//!
 //! Each panel shows the pseudo-data counts per bin as points with their
 //! one-standard-deviation Poisson error bars, the expected background as a
 //! filled histogram and the expected signal + background as a step line; below,
@@ -11,7 +15,7 @@
 use crate::report::ReportError;
 use crate::report::kit::axis::{Axis, axis_label, linear_axis};
 use crate::report::kit::figure::{self, Canvas, Chart, DrawError, Frame, LEGEND_WIDTH};
-use crate::report::kit::format::{exposure_label, number};
+use crate::report::kit::format::{exposure_label, number, rounded};
 use crate::report::kit::legend::{Legend, Line, Sample};
 use crate::report::kit::marks;
 use crate::report::kit::palette::{DASH, INK, INK_TEAL, PALE_LAVENDER, SLATE, VERMILION};
@@ -58,6 +62,7 @@ pub(super) fn render(spectrum: &Spectrum) -> Result<Vec<u8>, ReportError> {
 
 fn draw(canvas: &Canvas, spectrum: &Spectrum) -> Result<(), DrawError> {
     let body = figure::titled(canvas, &spectrum.title, 24)?;
+    let body = figure::titled(&body, &fit_caption(spectrum), 18)?;
     let (width, _) = body.dim_in_pixel();
     let (body, legend_area) = body.split_horizontally(width.saturating_sub(LEGEND_WIDTH));
     let columns = spectrum.exposures.len();
@@ -88,8 +93,40 @@ fn draw(canvas: &Canvas, spectrum: &Spectrum) -> Result<(), DrawError> {
     )
 }
 
+/// The fit of the pseudo-data to all channels at once, stated once for the
+/// figure: "Fit of the pseudo-data: μ̂ = 0.40, local Z = 1.15σ", or with
+/// several exposures each after its days ("30 d: μ̂ = …; 365 d: …").
+fn fit_caption(spectrum: &Spectrum) -> String {
+    let several = spectrum.exposures.len() > 1;
+    let fits: Vec<String> = spectrum
+        .exposures
+        .iter()
+        .map(|exposure| {
+            let fit = match &exposure.fit {
+                Some(fit) => format!(
+                    "μ̂ = {:.2}, local Z = {:.2}σ",
+                    fit.signal_strength, fit.local_z
+                ),
+                None => "failed".to_string(),
+            };
+            if several {
+                format!("{} d: {fit}", exposure.days)
+            } else {
+                fit
+            }
+        })
+        .collect();
+    let scope = if spectrum.channels.len() > 1 {
+        " (all channels together)"
+    } else {
+        ""
+    };
+    format!("Fit of the pseudo-data{scope}: {}", fits.join("; "))
+}
+
 /// One channel at one exposure, and the legend of what it drew; its caption
-/// starts with the channel's name when `named` (several channels).
+/// starts with the channel's name when `named` (several channels) and gives
+/// the channel's own counts and expected signal s and background b.
 fn draw_panel(
     panel: &Canvas,
     channel: &SpectrumChannel,
@@ -101,20 +138,20 @@ fn draw_panel(
     let (upper, lower) = panel.split_vertically(split);
     let bins = channel.bins_of(exposure);
     let counts: u64 = bins.iter().map(|bin| bin.counts).sum();
-    let fit = match &exposure.fit {
-        Some(fit) => format!(
-            "fit: μ̂ = {:.2}, local Z = {:.2}σ",
-            fit.signal_strength, fit.local_z
-        ),
-        None => "the fit failed".to_string(),
-    };
+    let background: f64 = bins.iter().map(|bin| bin.background).sum();
+    let signal: f64 = bins
+        .iter()
+        .map(|bin| bin.signal_plus_background - bin.background)
+        .sum();
     let fitted = exposure
         .fit
         .as_ref()
         .map(|fit| &fit.expected[channel.bins.clone()]);
     let exposure_caption = format!(
-        "{}: {counts} events; {fit}",
-        exposure_label(exposure.days, exposure.live_days)
+        "{}: {counts} events; expected s = {}, b = {}",
+        exposure_label(exposure.days, exposure.live_days),
+        rounded(signal),
+        rounded(background)
     );
     let caption = if named {
         format!("{}, {exposure_caption}", channel.name)
@@ -368,9 +405,13 @@ mod tests {
             "Expected signal + background",
             "Pseudo-data",
             "Garwood 1936",
+            "Fit of the pseudo-data: 3 d:",
         ] {
             assert!(text.contains(expected), "missing {expected:?}");
         }
+        // Panels give their own numbers; the fit is stated once, above them.
+        assert_eq!(text.matches("events; expected s = ").count(), 2);
+        assert_eq!(text.matches("μ̂ = ").count(), 2, "one per exposure");
         assert!(text.starts_with("<svg width=\"1580\" height=\"720\""));
     }
 
