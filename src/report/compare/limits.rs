@@ -90,16 +90,24 @@ fn draw(canvas: &Canvas, comparison: &Comparison, cl: f64) -> Result<(), DrawErr
             label,
         )?;
         let exclusion = &plan.projection.days_to_exclusion;
+        let label = |days: Option<f64>| {
+            days.map(|days| {
+                format!(
+                    "excluded: {}",
+                    dated_days_label(days, plan.projection.start)
+                )
+            })
+        };
+        let (median, asimov) =
+            marks::merge_coinciding(label(exclusion.median_days), label(exclusion.asimov_days));
         let crossings = [
-            (exclusion.median_days, Stroke::Solid),
-            (exclusion.asimov_days, Stroke::Dashed),
+            (exclusion.median_days, median, Stroke::Solid),
+            (exclusion.asimov_days, asimov, Stroke::Dashed),
         ];
-        for (days, stroke) in crossings {
-            let Some(days) = days else { continue };
-            let label = format!(
-                "excluded: {}",
-                dated_days_label(days, plan.projection.start)
-            );
+        for (days, label, stroke) in crossings {
+            let (Some(days), Some(label)) = (days, label) else {
+                continue;
+            };
             let shift = ROW / 2 + row * ROW;
             marks::mark_crossing(
                 &mut chart,

@@ -2,7 +2,7 @@
 //! calendar days, in the plan's colour: the toy median solid, the Asimov Z_A
 //! dashed (Cowan et al., EPJC 71 (2011) 1554). Each target is a horizontal
 //! line, and where each plan's curves reach it a marker is labelled with the
-//! days.
+//! days (once for both curves where they read the same).
 
 use super::{COMPARE_SVG, Comparison, day_range, plan_colour};
 use crate::report::ReportError;
@@ -69,17 +69,25 @@ fn draw(canvas: &Canvas, comparison: &Comparison) -> Result<(), DrawError> {
         // Labels stack above the target line, one row per curve and plan.
         let base = (index * rows_per_plan) as i32;
         for row in &plan.projection.days_to_target {
+            let label = |days: Option<f64>| {
+                days.map(|days| {
+                    format!(
+                        "{}: {}",
+                        target_label(row.target),
+                        dated_days_label(days, plan.projection.start)
+                    )
+                })
+            };
+            let (median, asimov) =
+                marks::merge_coinciding(label(row.median_days), label(row.asimov_days));
             let crossings = [
-                (row.asimov_days, Stroke::Dashed, base + 1),
-                (row.median_days, Stroke::Solid, base + 2),
+                (row.asimov_days, asimov, Stroke::Dashed, base + 1),
+                (row.median_days, median, Stroke::Solid, base + 2),
             ];
-            for (days, stroke, raise) in crossings {
-                let Some(days) = days else { continue };
-                let label = format!(
-                    "{}: {}",
-                    target_label(row.target),
-                    dated_days_label(days, plan.projection.start)
-                );
+            for (days, label, stroke, raise) in crossings {
+                let (Some(days), Some(label)) = (days, label) else {
+                    continue;
+                };
                 let point = (days, row.target);
                 marks::mark_crossing(
                     &mut chart,
@@ -106,4 +114,19 @@ fn significance_ceiling(comparison: &Comparison) -> f64 {
         .chain(comparison.first().targets.iter().copied())
         .fold(1.0, f64::max);
     (1.1 * highest).ceil()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::report::compare::tests::two_plans;
+
+    #[test]
+    fn coinciding_toy_and_asimov_days_of_a_plan_get_one_label() {
+        let mut comparison = two_plans(true);
+        let row = &mut comparison.plans[0].projection.days_to_target[0];
+        row.median_days = row.asimov_days;
+        let text = String::from_utf8(render(&comparison).unwrap()).unwrap();
+        assert_eq!(text.matches(" (toys and Asimov)\n</text>").count(), 1);
+    }
 }
