@@ -134,8 +134,10 @@ fn several_exposures_share_one_figure_and_one_table() {
         ]
     );
     // Each exposure's pseudo-dataset is fitted: its fitted signal strength
-    // and local significance are in the figure's panel titles.
-    assert!(svg.contains("fit: μ̂ = ") && svg.contains("local Z = "));
+    // and local significance are stated once under the figure's title, and
+    // each panel gives its own expected signal and background.
+    assert!(svg.contains("Fit of the pseudo-data") && svg.matches("local Z = ").count() == 2);
+    assert_eq!(svg.matches("expected s = ").count(), 2);
     // 200 bins of 0.5 MeV over [10, 110] for each exposure.
     assert_eq!(rows.len(), 1 + 2 * 200);
     for (days, live_days) in [("30", 16.0), ("365", 284.0)] {

@@ -20,6 +20,8 @@ mod check;
 mod compare;
 mod convert;
 mod error;
+#[cfg(test)]
+mod figure_layout;
 mod interrupt;
 mod kit;
 mod levers;

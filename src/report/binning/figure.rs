@@ -14,12 +14,14 @@ use crate::report::ReportError;
 use crate::report::kit::axis::{Axis, axis_label, linear_axis, log_axis};
 use crate::report::kit::figure::{self, Canvas, DrawError, Frame};
 use crate::report::kit::format::{exposure_label, number};
-use crate::report::kit::legend::{Line, Sample};
+use crate::report::kit::legend::{Legend, Line, Sample};
 use crate::report::kit::marks;
 use crate::report::kit::palette::{DASH, DOT, INK, INK_TEAL, SLATE, VERMILION, text_style};
 use plotters::prelude::*;
 
-const SIZE: (u32, u32) = (1400, 640);
+const SIZE: (u32, u32) = (1400, 790);
+/// Height of the legend below each panel, in pixels.
+const LEGEND_HEIGHT: u32 = 150;
 /// Font sizes of the axis descriptions and tick labels of both panels.
 const TEXT_SIZES: (u32, u32) = (18, 15);
 /// Size of the significance markers.
@@ -36,7 +38,7 @@ fn draw(canvas: &Canvas, scan: &BinningScan) -> Result<(), DrawError> {
         scan.title,
         exposure_label(scan.days, scan.live_days)
     );
-    let body = canvas.titled(&title, text_style(22))?;
+    let body = figure::titled(canvas, &title, 22)?;
     let panels = body.split_evenly((1, 2));
     let ceiling = significance_ceiling(scan);
     draw_bin_widths(&panels[0], scan, ceiling)?;
@@ -54,7 +56,16 @@ fn significance_ceiling(scan: &BinningScan) -> f64 {
     if highest > 0.0 { 1.15 * highest } else { 1.0 }
 }
 
-fn draw_bin_widths(area: &Canvas, scan: &BinningScan, ceiling: f64) -> Result<(), DrawError> {
+/// `panel` split into its plot and the legend area below it.
+fn with_legend_below<'a>(panel: &Canvas<'a>) -> (Canvas<'a>, Canvas<'a>) {
+    let (_, height) = panel.dim_in_pixel();
+    let (plot, legend) = panel.split_vertically(height.saturating_sub(LEGEND_HEIGHT));
+    (plot, legend.margin(0, 0, 14, 14))
+}
+
+fn draw_bin_widths(panel: &Canvas, scan: &BinningScan, ceiling: f64) -> Result<(), DrawError> {
+    let (area, legend_area) = with_legend_below(panel);
+    let mut legend = Legend::default();
     let widths = &scan.bin_widths;
     let (first, last) = (widths[0].width, widths[widths.len() - 1].width);
     let (low, high) = if last > first {
@@ -76,11 +87,12 @@ fn draw_bin_widths(area: &Canvas, scan: &BinningScan, ceiling: f64) -> Result<()
         format: &axis_label,
         labels: None,
     };
-    let mut chart = figure::chart(area, &frame, x, significance_axis(ceiling))?;
+    let mut chart = figure::chart(&area, &frame, x, significance_axis(ceiling))?;
 
     let best_window = scan.best_window.z_asimov;
     marks::draw_line(
         &mut chart,
+        &mut legend,
         vec![(low, best_window), (high, best_window)],
         Line::Dashed(SLATE.stroke_width(2), DASH),
         Some(format!("Best counting window: {best_window:.3}σ")),
@@ -88,6 +100,7 @@ fn draw_bin_widths(area: &Canvas, scan: &BinningScan, ceiling: f64) -> Result<()
     let scenario_width = scan.scenario_bin_width;
     marks::draw_line(
         &mut chart,
+        &mut legend,
         vec![(scenario_width, 0.0), (scenario_width, ceiling)],
         Line::Dashed(SLATE.stroke_width(1), DOT),
         Some(format!("Scenario: {scenario_width} {}", scan.unit)),
@@ -96,6 +109,7 @@ fn draw_bin_widths(area: &Canvas, scan: &BinningScan, ceiling: f64) -> Result<()
     let curve: Vec<(f64, f64)> = widths.iter().map(|p| (p.width, p.z_asimov)).collect();
     marks::draw_line(
         &mut chart,
+        &mut legend,
         curve.clone(),
         Line::Solid(INK_TEAL.stroke_width(3)),
         Some("Z_A of the shape fit".to_string()),
@@ -116,11 +130,12 @@ fn draw_bin_widths(area: &Canvas, scan: &BinningScan, ceiling: f64) -> Result<()
     );
     marks::mark_point(
         &mut chart,
+        &mut legend,
         (scan.recommended_bin_width, recommended),
         MARKER,
         label,
     )?;
-    marks::draw_legend_at(&mut chart, SeriesLabelPosition::LowerLeft)
+    legend.draw(&legend_area)
 }
 
 /// The significance axis both panels share, from 0 to `ceiling`.
@@ -133,7 +148,9 @@ fn significance_axis(ceiling: f64) -> Axis<'static, plotters::coord::types::Rang
     }
 }
 
-fn draw_windows(area: &Canvas, scan: &BinningScan, ceiling: f64) -> Result<(), DrawError> {
+fn draw_windows(panel: &Canvas, scan: &BinningScan, ceiling: f64) -> Result<(), DrawError> {
+    let (area, legend_area) = with_legend_below(panel);
+    let mut legend = Legend::default();
     let windows = &scan.windows;
     let widest = windows[windows.len() - 1].high - windows[windows.len() - 1].low;
     let caption = format!(
@@ -157,7 +174,7 @@ fn draw_windows(area: &Canvas, scan: &BinningScan, ceiling: f64) -> Result<(), D
     };
     let (x_coordinate, x) = x.split();
     let (y_coordinate, y) = significance_axis(ceiling).split();
-    let mut chart = figure::build(area, &frame, x_coordinate, y_coordinate)?
+    let mut chart = figure::build(&area, &frame, x_coordinate, y_coordinate)?
         .set_secondary_coord(0.0..widest, 0.0..1.0);
     figure::draw_grid(chart.configure_mesh(), &frame, x, y)?;
     let (description_size, label_size) = TEXT_SIZES;
@@ -172,22 +189,25 @@ fn draw_windows(area: &Canvas, scan: &BinningScan, ceiling: f64) -> Result<(), D
 
     let width = |low: f64, high: f64| high - low;
     let style = INK_TEAL.stroke_width(3);
-    let window_count = chart.draw_series(LineSeries::new(
-        windows.iter().map(|w| (width(w.low, w.high), w.z_asimov)),
-        style,
-    ))?;
-    Sample::Line(Line::Solid(style)).attach(window_count, "Z_A of the window count");
+    let window_count: Vec<(f64, f64)> = windows
+        .iter()
+        .map(|w| (width(w.low, w.high), w.z_asimov))
+        .collect();
+    marks::note_curve(&chart, &window_count);
+    chart.draw_series(LineSeries::new(window_count, style))?;
+    legend.add(Sample::Line(Line::Solid(style)), "Z_A of the window count");
     let fraction = VERMILION.stroke_width(2);
     let (dash, gap) = DASH;
-    let fractions = chart.draw_secondary_series(DashedLineSeries::new(
-        windows
-            .iter()
-            .map(|w| (width(w.low, w.high), w.signal_fraction)),
-        dash,
-        gap,
-        fraction,
-    ))?;
-    Sample::Line(Line::Dashed(fraction, DASH)).attach(fractions, "Signal fraction (right axis)");
+    let fractions: Vec<(f64, f64)> = windows
+        .iter()
+        .map(|w| (width(w.low, w.high), w.signal_fraction))
+        .collect();
+    marks::note_curve(chart.borrow_secondary(), &fractions);
+    chart.draw_secondary_series(DashedLineSeries::new(fractions, dash, gap, fraction))?;
+    legend.add(
+        Sample::Line(Line::Dashed(fraction, DASH)),
+        "Signal fraction (right axis)",
+    );
 
     let best = scan.best_window;
     let digits = window_digits(scan);
@@ -201,11 +221,12 @@ fn draw_windows(area: &Canvas, scan: &BinningScan, ceiling: f64) -> Result<(), D
     );
     marks::mark_point(
         &mut chart,
+        &mut legend,
         (width(best.low, best.high), best.z_asimov),
         MARKER,
         label,
     )?;
-    marks::draw_legend_at(&mut chart, SeriesLabelPosition::LowerRight)
+    legend.draw(&legend_area)
 }
 
 #[cfg(test)]

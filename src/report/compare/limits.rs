@@ -9,12 +9,12 @@ use super::{COMPARE_LIMITS_SVG, Comparison, day_range, plan_colour};
 use crate::report::ReportError;
 use crate::report::kit::axis::{Axis, days_axis, log_axis, one_two_five_span, tick_label};
 use crate::report::kit::dates::dated_days_label;
-use crate::report::kit::figure::{self, Canvas, DrawError, Frame, SIZE};
+use crate::report::kit::figure::{self, Canvas, DrawError, Frame, Page, SIZE};
 use crate::report::kit::format::percent_label;
+use crate::report::kit::legend::Legend;
 use crate::report::kit::marks::{self, Stroke};
 use crate::report::kit::palette::{DOT, SLATE};
 use crate::report::kit::schedule;
-use plotters::chart::SeriesLabelPosition;
 
 /// The limit comparison as SVG bytes; only for plans with limits (`cl` set).
 pub(super) fn render(comparison: &Comparison) -> Result<Vec<u8>, ReportError> {
@@ -65,9 +65,11 @@ fn draw(canvas: &Canvas, comparison: &Comparison, cl: f64) -> Result<(), DrawErr
         format: &format,
         labels: Some(12),
     };
-    let frame = Frame::single("Run plans compared: expected limits", false);
-    let x = days_axis(day_range(comparison), comparison.day_spacing());
-    let mut chart = figure::chart(canvas, &frame, x, y)?;
+    let page = Page::titled(canvas, "Run plans compared: expected limits")?;
+    let scale = comparison.day_scale();
+    let x = days_axis(day_range(comparison), &scale);
+    let mut chart = figure::chart(&page.plot, &Frame::single(false), x, y)?;
+    let mut legend = Legend::default();
     schedule::shade_reduced(&mut chart, canvas, comparison.shared_rate_stretches())?;
     marks::horizontal_line(&mut chart, 1.0, SLATE, DOT)?;
     const ROW: i32 = 18;
@@ -76,21 +78,36 @@ fn draw(canvas: &Canvas, comparison: &Comparison, cl: f64) -> Result<(), DrawErr
         let colour = plan_colour(index);
         if toys.len() > 1 {
             let label = format!("{}: toy median", plan.label);
-            marks::draw_curve(&mut chart, toys, colour, Stroke::Solid, label)?;
+            marks::draw_curve(&mut chart, &mut legend, toys, colour, Stroke::Solid, label)?;
         }
         let label = format!("{}: asymptotic median", plan.label);
-        marks::draw_curve(&mut chart, asymptotic, colour, Stroke::Dashed, label)?;
+        marks::draw_curve(
+            &mut chart,
+            &mut legend,
+            asymptotic,
+            colour,
+            Stroke::Dashed,
+            label,
+        )?;
         let exclusion = &plan.projection.days_to_exclusion;
+        let label = |days: Option<f64>| {
+            days.map(|days| {
+                format!(
+                    "excluded: {}",
+                    dated_days_label(days, plan.projection.start)
+                )
+            })
+        };
+        let (median, asimov) =
+            marks::merge_coinciding(label(exclusion.median_days), label(exclusion.asimov_days));
         let crossings = [
-            (exclusion.median_days, Stroke::Solid),
-            (exclusion.asimov_days, Stroke::Dashed),
+            (exclusion.median_days, median, Stroke::Solid),
+            (exclusion.asimov_days, asimov, Stroke::Dashed),
         ];
-        for (days, stroke) in crossings {
-            let Some(days) = days else { continue };
-            let label = format!(
-                "excluded: {}",
-                dated_days_label(days, plan.projection.start)
-            );
+        for (days, label, stroke) in crossings {
+            let (Some(days), Some(label)) = (days, label) else {
+                continue;
+            };
             let shift = ROW / 2 + row * ROW;
             marks::mark_crossing(
                 &mut chart,
@@ -103,5 +120,5 @@ fn draw(canvas: &Canvas, comparison: &Comparison, cl: f64) -> Result<(), DrawErr
             row += 1;
         }
     }
-    marks::draw_legend_at(&mut chart, SeriesLabelPosition::UpperRight)
+    legend.draw(&page.legend)
 }

@@ -19,6 +19,7 @@ use super::{Kind, Output, Render, Report, ReportError, render};
 use crate::message::{show, show_list};
 use crate::projection::{Projection, RateStretch};
 use crate::provenance::Provenance;
+use crate::report::kit::axis::DayScale;
 use crate::report::kit::palette::SERIES_COLOURS;
 use crate::scenario::Spacing;
 use plotters::style::RGBColor;
@@ -80,6 +81,14 @@ impl Comparison {
         } else {
             Spacing::Log
         }
+    }
+
+    /// The day axis of the figures: [`Comparison::day_spacing`], dated when
+    /// every plan starts on the same date.
+    fn day_scale(&self) -> DayScale {
+        let start = self.first().start;
+        let shared = self.plans.iter().all(|plan| plan.projection.start == start);
+        DayScale::new(self.day_spacing(), start.filter(|_| shared))
     }
 
     /// The stretches at other than nominal rates when every plan has the

@@ -2,17 +2,17 @@
 //! calendar days, in the plan's colour: the toy median solid, the Asimov Z_A
 //! dashed (Cowan et al., EPJC 71 (2011) 1554). Each target is a horizontal
 //! line, and where each plan's curves reach it a marker is labelled with the
-//! days.
+//! days (once for both curves where they read the same).
 
 use super::{COMPARE_SVG, Comparison, day_range, plan_colour};
 use crate::report::ReportError;
 use crate::report::kit::axis::{Axis, days_axis, linear_axis};
 use crate::report::kit::dates::dated_days_label;
-use crate::report::kit::figure::{self, Canvas, DrawError, Frame, SIZE};
+use crate::report::kit::figure::{self, Canvas, DrawError, Frame, Page, SIZE};
 use crate::report::kit::format::target_label;
+use crate::report::kit::legend::Legend;
 use crate::report::kit::marks::{self, Stroke};
 use crate::report::kit::schedule;
-use plotters::chart::SeriesLabelPosition;
 
 /// The significance comparison as SVG bytes.
 pub(super) fn render(comparison: &Comparison) -> Result<Vec<u8>, ReportError> {
@@ -27,9 +27,11 @@ fn draw(canvas: &Canvas, comparison: &Comparison) -> Result<(), DrawError> {
         format: &format,
         labels: Some(12),
     };
-    let frame = Frame::single("Run plans compared", false);
-    let x = days_axis(day_range(comparison), comparison.day_spacing());
-    let mut chart = figure::chart(canvas, &frame, x, y)?;
+    let page = Page::titled(canvas, "Run plans compared")?;
+    let scale = comparison.day_scale();
+    let x = days_axis(day_range(comparison), &scale);
+    let mut chart = figure::chart(&page.plot, &Frame::single(false), x, y)?;
+    let mut legend = Legend::default();
     schedule::shade_reduced(&mut chart, canvas, comparison.shared_rate_stretches())?;
     for &target in &comparison.first().targets {
         marks::reference_line(&mut chart, canvas, target, &target_label(target))?;
@@ -45,25 +47,47 @@ fn draw(canvas: &Canvas, comparison: &Comparison) -> Result<(), DrawError> {
             .collect();
         if median.len() > 1 {
             let label = format!("{}: toy median", plan.label);
-            marks::draw_curve(&mut chart, median, colour, Stroke::Solid, label)?;
+            marks::draw_curve(
+                &mut chart,
+                &mut legend,
+                median,
+                colour,
+                Stroke::Solid,
+                label,
+            )?;
         }
         let asimov = points.iter().map(|point| (point.days, point.z_asimov));
         let label = format!("{}: Asimov Z_A", plan.label);
-        marks::draw_curve(&mut chart, asimov.collect(), colour, Stroke::Dashed, label)?;
+        marks::draw_curve(
+            &mut chart,
+            &mut legend,
+            asimov.collect(),
+            colour,
+            Stroke::Dashed,
+            label,
+        )?;
         // Labels stack above the target line, one row per curve and plan.
         let base = (index * rows_per_plan) as i32;
         for row in &plan.projection.days_to_target {
+            let label = |days: Option<f64>| {
+                days.map(|days| {
+                    format!(
+                        "{}: {}",
+                        target_label(row.target),
+                        dated_days_label(days, plan.projection.start)
+                    )
+                })
+            };
+            let (median, asimov) =
+                marks::merge_coinciding(label(row.median_days), label(row.asimov_days));
             let crossings = [
-                (row.asimov_days, Stroke::Dashed, base + 1),
-                (row.median_days, Stroke::Solid, base + 2),
+                (row.asimov_days, asimov, Stroke::Dashed, base + 1),
+                (row.median_days, median, Stroke::Solid, base + 2),
             ];
-            for (days, stroke, raise) in crossings {
-                let Some(days) = days else { continue };
-                let label = format!(
-                    "{}: {}",
-                    target_label(row.target),
-                    dated_days_label(days, plan.projection.start)
-                );
+            for (days, label, stroke, raise) in crossings {
+                let (Some(days), Some(label)) = (days, label) else {
+                    continue;
+                };
                 let point = (days, row.target);
                 marks::mark_crossing(
                     &mut chart,
@@ -76,7 +100,7 @@ fn draw(canvas: &Canvas, comparison: &Comparison) -> Result<(), DrawError> {
             }
         }
     }
-    marks::draw_legend_at(&mut chart, SeriesLabelPosition::LowerRight)
+    legend.draw(&page.legend)
 }
 
 /// Top of the y axis: 10% above the highest curve or target, rounded up to a
@@ -90,4 +114,19 @@ fn significance_ceiling(comparison: &Comparison) -> f64 {
         .chain(comparison.first().targets.iter().copied())
         .fold(1.0, f64::max);
     (1.1 * highest).ceil()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::report::compare::tests::two_plans;
+
+    #[test]
+    fn coinciding_toy_and_asimov_days_of_a_plan_get_one_label() {
+        let mut comparison = two_plans(true);
+        let row = &mut comparison.plans[0].projection.days_to_target[0];
+        row.median_days = row.asimov_days;
+        let text = String::from_utf8(render(&comparison).unwrap()).unwrap();
+        assert_eq!(text.matches(" (toys and Asimov)\n</text>").count(), 1);
+    }
 }

@@ -1,8 +1,9 @@
 //! Axes of any figure: linear or logarithmic coordinates, the ticks of a
 //! logarithmic axis, and how tick labels read. The x axis may show calendar
-//! days ([`days_axis`]) or any other quantity, such as a position in the
-//! observable.
+//! days ([`days_axis`], dated when the schedule has a start) or any other
+//! quantity, such as a position in the observable.
 
+use crate::calendar::CalendarDate;
 use crate::numeric::times_power_of_ten;
 use crate::scenario::Spacing;
 use plotters::coord::combinators::WithKeyPoints;
@@ -91,23 +92,70 @@ impl Ranged for DaysCoordinate {
     }
 }
 
-/// Calendar days on an axis of `scale`, ticks labelled as written ("0.2",
-/// "5", "1000"): a logarithmic one with the ticks of [`log_ticks`], a linear
-/// one with evenly spaced round ticks.
-pub fn days_axis(days: Range<f64>, scale: Spacing) -> Axis<'static, DaysCoordinate> {
-    let coordinate = match scale {
-        Spacing::Log => DaysCoordinate::Log(log_axis(days)),
-        Spacing::Linear => DaysCoordinate::Linear(linear_axis(days)),
-    };
-    let format: &'static dyn Fn(&f64) -> String = match scale {
-        Spacing::Log => &tick_label_of,
-        Spacing::Linear => &axis_label,
+/// How a calendar-day axis reads: its spacing, its description and its tick
+/// labels. With a start date (`schedule.start`) ticks are labelled with the
+/// date by which that many days have passed (`CalendarDate::after`, as every
+/// date runcast writes) and the description names the start, so that days
+/// stay readable beside the dates; without one, ticks are the days as
+/// written ("0.2", "5", "1000").
+pub struct DayScale {
+    spacing: Spacing,
+    dated: bool,
+    description: String,
+    format: Box<dyn Fn(&f64) -> String>,
+}
+
+impl DayScale {
+    /// The scale of a grid of `spacing`, dated from `start` if given.
+    pub fn new(spacing: Spacing, start: Option<CalendarDate>) -> DayScale {
+        let Some(start) = start else {
+            let format: Box<dyn Fn(&f64) -> String> = match spacing {
+                Spacing::Log => Box::new(tick_label_of),
+                Spacing::Linear => Box::new(axis_label),
+            };
+            return DayScale {
+                spacing,
+                dated: false,
+                description: "Calendar days".to_string(),
+                format,
+            };
+        };
+        DayScale {
+            spacing,
+            dated: true,
+            description: format!("Date (calendar days counted from {start})"),
+            format: Box::new(move |days: &f64| {
+                start
+                    .after(*days)
+                    .map_or_else(|| tick_label(*days), |date| date.to_string())
+            }),
+        }
+    }
+}
+
+/// Calendar days on an axis of `scale`: a logarithmic one with the ticks of
+/// [`log_ticks`] (with dates, at 1 and 3 times powers of ten, so the longer
+/// labels do not run into each other), a linear one with evenly spaced round
+/// ticks (fewer with dates).
+pub fn days_axis(days: Range<f64>, scale: &DayScale) -> Axis<'_, DaysCoordinate> {
+    let coordinate = match (scale.spacing, scale.dated) {
+        (Spacing::Log, false) => DaysCoordinate::Log(log_axis(days)),
+        (Spacing::Log, true) => {
+            let (_, minor) = log_ticks(days.start, days.end);
+            let major = ticks_in(days.start, days.end, &[1.0, 3.0]);
+            DaysCoordinate::Log(
+                days.log_scale()
+                    .with_key_points(major)
+                    .with_light_points(minor),
+            )
+        }
+        (Spacing::Linear, _) => DaysCoordinate::Linear(linear_axis(days)),
     };
     Axis {
         coordinate,
-        description: Some("Calendar days"),
-        format,
-        labels: None,
+        description: Some(&scale.description),
+        format: &*scale.format,
+        labels: scale.dated.then_some(6),
     }
 }
 
@@ -133,26 +181,31 @@ pub fn one_two_five_span(low: f64, high: f64) -> Range<f64> {
 /// three decades and at powers of ten beyond that; light grid lines at every
 /// integer multiple of a power of ten.
 pub fn log_ticks(low: f64, high: f64) -> (Vec<f64>, Vec<f64>) {
-    let first_decade = low.log10().floor() as i32;
-    let last_decade = high.log10().ceil() as i32;
     let mantissas: &[f64] = if high / low <= 1e3 {
         &[1.0, 2.0, 5.0]
     } else {
         &[1.0]
     };
-    let in_range = |value: &f64| (low * (1.0 - 1e-9)..=high * (1.0 + 1e-9)).contains(value);
-    let ticks = |mantissas: &[f64]| -> Vec<f64> {
-        (first_decade..=last_decade)
-            .flat_map(|decade| {
-                mantissas
-                    .iter()
-                    .map(move |&mantissa| times_power_of_ten(mantissa, decade))
-            })
-            .filter(in_range)
-            .collect()
-    };
     let every_integer = [1.0, 2.0, 3.0, 4.0, 5.0, 6.0, 7.0, 8.0, 9.0];
-    (ticks(mantissas), ticks(&every_integer))
+    (
+        ticks_in(low, high, mantissas),
+        ticks_in(low, high, &every_integer),
+    )
+}
+
+/// Every `mantissas` times a power of ten from `low` to `high`.
+fn ticks_in(low: f64, high: f64, mantissas: &[f64]) -> Vec<f64> {
+    let first_decade = low.log10().floor() as i32;
+    let last_decade = high.log10().ceil() as i32;
+    let in_range = |value: &f64| (low * (1.0 - 1e-9)..=high * (1.0 + 1e-9)).contains(value);
+    (first_decade..=last_decade)
+        .flat_map(|decade| {
+            mantissas
+                .iter()
+                .map(move |&mantissa| times_power_of_ten(mantissa, decade))
+        })
+        .filter(in_range)
+        .collect()
 }
 
 /// A tick of a logarithmic axis as written: "0.2", "5", "1000".
@@ -171,6 +224,7 @@ pub fn axis_label(value: &f64) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use plotters::coord::ranged1d::BoldPoints;
 
     #[test]
     fn a_thousand_days_get_one_two_five_ticks() {
@@ -200,7 +254,8 @@ mod tests {
 
     #[test]
     fn a_linear_day_axis_has_evenly_spaced_ticks() {
-        let axis = days_axis(1.0..1000.0, Spacing::Linear);
+        let scale = DayScale::new(Spacing::Linear, None);
+        let axis = days_axis(1.0..1000.0, &scale);
         let ticks = axis.coordinate.key_points(10);
         let labels: Vec<String> = ticks.iter().map(axis.format).collect();
         assert_eq!(
@@ -217,6 +272,36 @@ mod tests {
         assert!(
             steps.iter().all(|step| (step - steps[0]).abs() <= 1),
             "{pixels:?}"
+        );
+    }
+
+    #[test]
+    fn with_a_start_date_ticks_read_as_dates() {
+        let start = CalendarDate::parse("2027-03-01").unwrap();
+        let scale = DayScale::new(Spacing::Log, Some(start));
+        let axis = days_axis(1.0..365.0, &scale);
+        let ticks = axis.coordinate.key_points(BoldPoints(12));
+        let labels: Vec<String> = ticks.iter().map(axis.format).collect();
+        // 1 March + 30 days = 31 March; + 100 days = 9 June; + 300 = 26 December.
+        assert_eq!(
+            labels,
+            [
+                "2027-03-02",
+                "2027-03-04",
+                "2027-03-11",
+                "2027-03-31",
+                "2027-06-09",
+                "2027-12-26"
+            ]
+        );
+        assert_eq!(
+            axis.description,
+            Some("Date (calendar days counted from 2027-03-01)")
+        );
+        let undated = DayScale::new(Spacing::Log, None);
+        assert_eq!(
+            days_axis(1.0..365.0, &undated).description,
+            Some("Calendar days")
         );
     }
 

@@ -2,20 +2,33 @@
 //! pair of axes ([`chart`] with a [`Frame`] and two [`Axis`]), so that days,
 //! positions, bin widths or counts on either axis are drawn the same way.
 //!
-//! Text is written as SVG `<text>` elements (no font is embedded); plotters
-//! estimates label extents from the font size alone, so the layout leaves
-//! generous room around every label.
+//! Text is written as SVG `<text>` elements (no font is embedded); label
+//! extents are estimated from the font size alone (`layout.rs`), so the
+//! layout leaves generous room around every label. Titles wrap onto a second
+//! line, and shrink when two lines are still too long ([`draw_title`]), so no
+//! title runs off the canvas. A single chart keeps its legend in a column of
+//! its own right of the plot ([`Page`]), off every curve.
 
 use super::axis::{Axis, Labelling};
+use super::layout::{self, Anchor};
 use super::palette::{INK, MAJOR_GRID, MINOR_GRID, text_style};
 use crate::report::ReportError;
 use plotters::chart::MeshStyle;
 use plotters::coord::Shift;
 use plotters::coord::ranged1d::ValueFormatter;
 use plotters::prelude::*;
+use plotters::style::text_anchor::{HPos, Pos, VPos};
 
-/// Canvas size of a single chart, in pixels.
-pub const SIZE: (u32, u32) = (900, 600);
+/// Canvas size of a single chart with its legend column, in pixels.
+pub const SIZE: (u32, u32) = (1200, 600);
+/// Width of the legend column right of a single chart, in pixels.
+pub const LEGEND_WIDTH: u32 = 300;
+/// Font size of the title of a single chart.
+pub const TITLE_SIZE: u32 = 26;
+/// Smallest font size a title shrinks to.
+const SMALLEST_TITLE: u32 = 11;
+/// Space left and right of a title, and above it, in pixels.
+const TITLE_PAD: u32 = 12;
 
 pub type Canvas<'a> = DrawingArea<SVGBackend<'a>, Shift>;
 pub type DrawError = DrawingAreaErrorKind<std::io::Error>;
@@ -32,14 +45,16 @@ pub fn svg_bytes(
     let mut svg = String::new();
     {
         let canvas = SVGBackend::with_string(&mut svg, size).into_drawing_area();
-        canvas
+        layout::begin(size);
+        let drawn = canvas
             .fill(&WHITE)
             .and_then(|()| draw(&canvas))
-            .and_then(|()| canvas.present())
-            .map_err(|error| ReportError::Render {
-                file,
-                message: error.to_string(),
-            })?;
+            .and_then(|()| canvas.present());
+        layout::end();
+        drawn.map_err(|error| ReportError::Render {
+            file,
+            message: error.to_string(),
+        })?;
     }
     svg.push('\n');
     Ok(xml_safe(&svg).into_bytes())
@@ -79,17 +94,92 @@ pub struct Frame<'t> {
 }
 
 impl<'t> Frame<'t> {
-    /// A chart filling a canvas of [`SIZE`], titled `title`, with room below
-    /// the x axis for a one-line footnote when `footnote`.
-    pub fn single(title: &'t str, footnote: bool) -> Frame<'t> {
+    /// The chart of a [`Page`] (its title is the page's), with room above
+    /// the plot for the labels of shaded stretches, right of it for the
+    /// labels of reference lines, and below the x axis for a one-line
+    /// footnote when `footnote`.
+    pub fn single(footnote: bool) -> Frame<'t> {
         Frame {
-            caption: Some((title, 26)),
-            margins: [14, 64, if footnote { 34 } else { 14 }, 14],
+            caption: None,
+            margins: [22, 64, if footnote { 34 } else { 14 }, 14],
             label_areas: (52, 64, 0),
             text_sizes: (19, 16),
             light_lines: (None, Some(1)),
         }
     }
+}
+
+/// A canvas with a title across it and below it a plot area and, right of
+/// that, a legend column of [`LEGEND_WIDTH`].
+pub struct Page<'a> {
+    pub plot: Canvas<'a>,
+    pub legend: Canvas<'a>,
+}
+
+impl<'a> Page<'a> {
+    /// Draws `title` across `canvas` and splits what is below it.
+    pub fn titled(canvas: &Canvas<'a>, title: &str) -> Result<Page<'a>, DrawError> {
+        let body = titled(canvas, title, TITLE_SIZE)?;
+        let (width, _) = body.dim_in_pixel();
+        let (plot, legend) = body.split_horizontally(width.saturating_sub(LEGEND_WIDTH));
+        Ok(Page { plot, legend })
+    }
+}
+
+/// Draws `title` across the top of `area` ([`draw_title`]) and returns the
+/// area below it.
+pub fn titled<'a>(area: &Canvas<'a>, title: &str, size: u32) -> Result<Canvas<'a>, DrawError> {
+    let height = draw_title(area, title, size)?;
+    Ok(area.split_vertically(height).1)
+}
+
+/// Draws `title` centred across the top of `area` in ink of `size` pixels:
+/// on one line when it fits the width, else broken at the space nearest its
+/// middle onto two, in a smaller font when the longer line still does not
+/// fit (never below [`SMALLEST_TITLE`]). Returns the height it takes.
+pub fn draw_title(area: &Canvas, title: &str, size: u32) -> Result<u32, DrawError> {
+    let (width, _) = area.dim_in_pixel();
+    let room = f64::from(width.saturating_sub(2 * TITLE_PAD));
+    let lines = title_lines(title, size, room);
+    let longest = lines
+        .iter()
+        .map(|line| layout::text_width(line, size))
+        .fold(0.0, f64::max);
+    let size = if longest > room {
+        ((f64::from(size) * room / longest).floor() as u32).max(SMALLEST_TITLE)
+    } else {
+        size
+    };
+    let line_height = size + size / 4;
+    let centre = i32::try_from(width / 2).unwrap_or(i32::MAX);
+    let (left, top) = area.get_base_pixel();
+    for (row, line) in (0..).zip(&lines) {
+        let y = i32::try_from(TITLE_PAD + row * line_height).unwrap_or(i32::MAX);
+        let style = text_style(size).pos(Pos::new(HPos::Center, VPos::Top));
+        area.draw(&Text::new(line.clone(), (centre, y), style))?;
+        let drawn = layout::text_box(line, size, (left + centre, top + y), Anchor::Middle, 0.0);
+        layout::note(|layout| layout.titles.push(drawn));
+    }
+    let rows = u32::try_from(lines.len()).unwrap_or(1);
+    Ok(TITLE_PAD + rows * line_height)
+}
+
+/// `title` as one line when it fits `room` pixels at `size`, else as two
+/// lines broken at the space that makes the longer one shortest (in the
+/// middle of the text when it has no space).
+fn title_lines(title: &str, size: u32, room: f64) -> Vec<String> {
+    if layout::text_width(title, size) <= room {
+        return vec![title.to_string()];
+    }
+    let characters: Vec<char> = title.chars().collect();
+    let longer_half = |at: usize| at.max(characters.len() - at);
+    let split = (0..characters.len())
+        .filter(|&at| characters[at] == ' ')
+        .min_by_key(|&at| longer_half(at))
+        .unwrap_or(characters.len() / 2);
+    let first: String = characters[..split].iter().collect();
+    let second: String = characters[split..].iter().collect();
+    vec![first.trim().to_string(), second.trim().to_string()]
 }
 
 /// Builds a chart on `area` inside `frame` over `x` and `y`, and draws its
@@ -124,10 +214,11 @@ where
     Y: Ranged<ValueType = f64>,
 {
     let mut builder = ChartBuilder::on(area);
-    if let Some((caption, size)) = frame.caption {
-        builder.caption(caption, text_style(size));
-    }
     let [top, right, bottom, left] = frame.margins;
+    let top = match frame.caption {
+        Some((caption, size)) => top + draw_title(area, caption, size)?,
+        None => top,
+    };
     let (x_labels, y_labels, right_labels) = frame.label_areas;
     builder
         .margin_top(top)
@@ -183,7 +274,7 @@ where
 
 #[cfg(test)]
 pub(crate) mod tests {
-    use super::super::axis::{days_axis, linear_axis};
+    use super::super::axis::{DayScale, days_axis, linear_axis};
     use super::super::marks::draw_footnote;
     use super::*;
 
@@ -237,10 +328,12 @@ pub(crate) mod tests {
                 format: &format,
                 labels: None,
             };
+            let page = Page::titled(canvas, hostile)?;
+            let scale = DayScale::new(crate::scenario::Spacing::Log, None);
             chart(
-                canvas,
-                &Frame::single(hostile, true),
-                days_axis(1.0..100.0, crate::scenario::Spacing::Log),
+                &page.plot,
+                &Frame::single(true),
+                days_axis(1.0..100.0, &scale),
                 y,
             )?;
             draw_footnote(canvas, hostile)

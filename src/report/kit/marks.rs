@@ -3,10 +3,9 @@
 //! any x axis.
 
 use super::figure::{Canvas, Chart, DrawError};
-use super::legend::{Line, Sample};
-use super::palette::{
-    DASH, DOT, LABEL_SIZE, LAVENDER, MAJOR_GRID, PALE_LAVENDER, SLATE, text_style,
-};
+use super::layout::{self, Anchor, PixelBox};
+use super::legend::{Legend, Line, Sample};
+use super::palette::{DASH, DOT, LABEL_SIZE, LAVENDER, PALE_LAVENDER, SLATE, text_style};
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
 
@@ -35,6 +34,7 @@ impl Stroke {
 /// A curve through `points`, with its legend entry.
 pub fn draw_curve<'a, 'b: 'a, X, Y>(
     chart: &mut Chart<'a, 'b, X, Y>,
+    legend: &mut Legend,
     points: Vec<(f64, f64)>,
     colour: RGBColor,
     stroke: Stroke,
@@ -44,12 +44,13 @@ where
     X: Ranged<ValueType = f64>,
     Y: Ranged<ValueType = f64>,
 {
-    draw_line(chart, points, stroke.line(colour), Some(label))
+    draw_line(chart, legend, points, stroke.line(colour), Some(label))
 }
 
 /// A line through `points`, with a legend entry when labelled.
 pub fn draw_line<'a, 'b: 'a, X, Y>(
     chart: &mut Chart<'a, 'b, X, Y>,
+    legend: &mut Legend,
     points: Vec<(f64, f64)>,
     line: Line,
     label: Option<String>,
@@ -58,16 +59,88 @@ where
     X: Ranged<ValueType = f64>,
     Y: Ranged<ValueType = f64>,
 {
-    let drawn = match line {
+    note_curve(chart, &points);
+    match line {
         Line::Solid(style) => chart.draw_series(LineSeries::new(points, style))?,
         Line::Dashed(style, (dash, gap)) => {
             chart.draw_series(DashedLineSeries::new(points, dash, gap, style))?
         }
     };
     if let Some(label) = label {
-        Sample::Line(line).attach(drawn, label);
+        legend.add(Sample::Line(line), label);
     }
     Ok(())
+}
+
+/// Notes the path of a curve through `points` in the figure's layout, in
+/// canvas pixels.
+pub fn note_curve<Coordinates>(
+    chart: &ChartContext<'_, SVGBackend<'_>, Coordinates>,
+    points: &[(f64, f64)],
+) where
+    Coordinates: CoordTranslate<From = (f64, f64)>,
+{
+    let path = points
+        .iter()
+        .map(|point| {
+            let (x, y) = chart.plotting_area().map_coordinate(point);
+            (f64::from(x), f64::from(y))
+        })
+        .collect();
+    layout::note(|layout| layout.curves.push(path));
+}
+
+/// Notes the box spanned by `points` as a band or shaded area in the
+/// figure's layout, in canvas pixels.
+pub fn note_area<Coordinates>(
+    chart: &ChartContext<'_, SVGBackend<'_>, Coordinates>,
+    points: &[(f64, f64)],
+) where
+    Coordinates: CoordTranslate<From = (f64, f64)>,
+{
+    let pixels = points
+        .iter()
+        .map(|point| chart.plotting_area().map_coordinate(point));
+    let spanned = pixels.fold(None, |spanned: Option<PixelBox>, (x, y)| {
+        let (x, y) = (f64::from(x), f64::from(y));
+        Some(match spanned {
+            None => PixelBox {
+                left: x,
+                top: y,
+                right: x,
+                bottom: y,
+            },
+            Some(b) => PixelBox {
+                left: b.left.min(x),
+                top: b.top.min(y),
+                right: b.right.max(x),
+                bottom: b.bottom.max(y),
+            },
+        })
+    });
+    if let Some(spanned) = spanned {
+        layout::note(|layout| layout.areas.push(spanned));
+    }
+}
+
+/// Notes a marker of `radius` pixels at `point` in the figure's layout.
+fn note_marker<Coordinates>(
+    chart: &ChartContext<'_, SVGBackend<'_>, Coordinates>,
+    point: (f64, f64),
+    radius: u32,
+) where
+    Coordinates: CoordTranslate<From = (f64, f64)>,
+{
+    let (x, y) = chart.plotting_area().map_coordinate(&point);
+    let radius = f64::from(radius);
+    let (x, y) = (f64::from(x), f64::from(y));
+    let drawn = PixelBox {
+        left: x - radius,
+        top: y - radius,
+        right: x + radius,
+        bottom: y + radius,
+    };
+    layout::note(|layout| layout.markers.push(drawn));
 }
 
 /// The outer band (quantiles 0 to 3) in pale lavender, then the inner one
@@ -75,6 +148,7 @@ where
 /// legend entry; nothing when fewer than two points carry quantiles.
 pub fn draw_band<'a, 'b: 'a, X, Y>(
     chart: &mut Chart<'a, 'b, X, Y>,
+    legend: &mut Legend,
     band: &[BandPoint],
     [outer, inner]: [&str; 2],
 ) -> Result<(), DrawError>
@@ -95,8 +169,9 @@ where
                     .map(|(x, quantiles)| (*x, quantiles[lower])),
             )
             .collect();
-        let drawn = chart.draw_series(std::iter::once(Polygon::new(outline, colour.filled())))?;
-        Sample::Swatch(colour).attach(drawn, label);
+        note_area(chart, &outline);
+        chart.draw_series(std::iter::once(Polygon::new(outline, colour.filled())))?;
+        legend.add(Sample::Swatch(colour), label);
     }
     Ok(())
 }
@@ -104,6 +179,7 @@ where
 /// A marker of `radius` pixels at `point`, explained in the legend.
 pub fn mark_point<'a, 'b: 'a, Coordinates>(
     chart: &mut ChartContext<'a, SVGBackend<'b>, Coordinates>,
+    legend: &mut Legend,
     point: (f64, f64),
     (colour, radius): (RGBColor, u32),
     label: String,
@@ -111,24 +187,10 @@ pub fn mark_point<'a, 'b: 'a, Coordinates>(
 where
     Coordinates: CoordTranslate<From = (f64, f64)>,
 {
-    let drawn = chart.draw_series(std::iter::once(Circle::new(point, radius, colour.filled())))?;
-    Sample::Marker(colour.filled(), radius).attach(drawn, label);
+    note_marker(chart, point, radius);
+    chart.draw_series(std::iter::once(Circle::new(point, radius, colour.filled())))?;
+    legend.add(Sample::Marker(colour.filled(), radius), label);
     Ok(())
-}
-
-/// The legend of any chart, at `position` inside the plot.
-pub fn draw_legend_at<'a, 'b: 'a, Coordinates: CoordTranslate>(
-    chart: &mut ChartContext<'a, SVGBackend<'b>, Coordinates>,
-    position: SeriesLabelPosition,
-) -> Result<(), DrawError> {
-    chart
-        .configure_series_labels()
-        .position(position)
-        .margin(12)
-        .background_style(WHITE.mix(0.92))
-        .border_style(MAJOR_GRID)
-        .label_font(text_style(16))
-        .draw()
 }
 
 /// A dotted horizontal line across the plot at `value`, labelled in the right
@@ -179,9 +241,10 @@ where
 /// A marker where a curve crosses a reference line at `(x, value)`, filled
 /// for a solid curve and a ring for a dashed one (a ring around a dot shows
 /// both where they coincide), and `label` in the curve's colour, its top
-/// `shift` pixels below the marker (above it when negative). The label goes
-/// left of the marker, or right of it when it would leave the plot on the
-/// left.
+/// `shift` pixels below the marker (above it when negative), moved further
+/// that way while it would cover another label ([`draw_label_clear`]); no
+/// label when `label` is empty. The label goes left of the marker, or right
+/// of it when it would leave the plot on the left.
 pub fn mark_crossing<X, Y>(
     chart: &mut Chart<'_, '_, X, Y>,
     canvas: &Canvas,
@@ -215,6 +278,22 @@ where
     mark_crossing_on(chart, canvas, point, curve, label, shift, true)
 }
 
+/// The labels of the toy and the Asimov crossing of the same line: where
+/// both read the same, one label for both, "3σ: 516 d (toys and Asimov)", on
+/// the toy crossing and an empty one on the Asimov crossing.
+pub fn merge_coinciding(
+    toys: Option<String>,
+    asimov: Option<String>,
+) -> (Option<String>, Option<String>) {
+    match (toys, asimov) {
+        (Some(toys), Some(asimov)) if toys == asimov => (
+            Some(format!("{toys} (toys and Asimov)")),
+            Some(String::new()),
+        ),
+        pair => pair,
+    }
+}
+
 fn mark_crossing_on<X, Y>(
     chart: &mut Chart<'_, '_, X, Y>,
     canvas: &Canvas,
@@ -229,15 +308,18 @@ where
     Y: Ranged<ValueType = f64>,
 {
     const GAP: i32 = 8;
-    let marker = match stroke {
-        Stroke::Solid => Circle::new((x, value), 5, colour.filled()),
-        Stroke::Dashed => Circle::new((x, value), 7, colour.stroke_width(2)),
+    let (marker, radius) = match stroke {
+        Stroke::Solid => (Circle::new((x, value), 5, colour.filled()), 5),
+        Stroke::Dashed => (Circle::new((x, value), 7, colour.stroke_width(2)), 7),
     };
+    note_marker(chart, (x, value), radius);
     chart.draw_series(std::iter::once(marker))?;
+    if label.is_empty() {
+        return Ok(());
+    }
     let plot = chart.plotting_area().get_pixel_range().0;
     let (pixel_x, pixel_y) = chart.backend_coord(&(x, value));
-    let (width, _) = canvas.estimate_text_size(label, &text_style(LABEL_SIZE))?;
-    let width = i32::try_from(width).unwrap_or(i32::MAX);
+    let width = layout::text_width(label, LABEL_SIZE).ceil() as i32;
     let fits_left = pixel_x - GAP - width >= plot.start;
     let fits_right = pixel_x.saturating_add(GAP).saturating_add(width) <= plot.end;
     let go_right = if right_first { fits_right } else { !fits_left };
@@ -246,14 +328,59 @@ where
     } else {
         (HPos::Right, pixel_x - GAP)
     };
-    draw_text(
+    draw_label_clear(
         canvas,
         label,
         (left, pixel_y + shift),
-        colour,
-        LABEL_SIZE,
+        (colour, LABEL_SIZE),
         (horizontal, VPos::Top),
+        shift.signum(),
     )
+}
+
+/// Height of a row of labels inside a plot, in pixels.
+pub const LABEL_ROW: i32 = 18;
+
+/// As [`draw_text`], but moved by whole rows of [`LABEL_ROW`] pixels away
+/// from its anchor (downwards when `direction` is positive, upwards when
+/// negative) until it covers no text drawn before it, at most four rows.
+pub fn draw_label_clear(
+    canvas: &Canvas,
+    text: &str,
+    (x, y): (i32, i32),
+    (colour, size): (RGBColor, u32),
+    anchor: (HPos, VPos),
+    direction: i32,
+) -> Result<(), DrawError> {
+    let step = if direction < 0 { -LABEL_ROW } else { LABEL_ROW };
+    let base = canvas.get_base_pixel();
+    let candidates: Vec<(i32, i32)> = (0..5).map(|row| (x, y + row * step)).collect();
+    let boxes: Vec<PixelBox> = candidates
+        .iter()
+        .map(|&(x, y)| text_extent(text, size, (base.0 + x, base.1 + y), anchor))
+        .collect();
+    let chosen = candidates[layout::free_text_box(&boxes)];
+    draw_text(canvas, text, chosen, colour, size, anchor)
+}
+
+/// The estimated box of `text` anchored at canvas pixel `position`.
+fn text_extent(
+    text: &str,
+    size: u32,
+    position: (i32, i32),
+    (horizontal, vertical): (HPos, VPos),
+) -> PixelBox {
+    let anchor = match horizontal {
+        HPos::Left => Anchor::Start,
+        HPos::Center => Anchor::Middle,
+        HPos::Right => Anchor::End,
+    };
+    let vertical = match vertical {
+        VPos::Top => 0.0,
+        VPos::Center => 0.5,
+        VPos::Bottom => 1.0,
+    };
+    layout::text_box(text, size, position, anchor, vertical)
 }
 
 /// A line of text at pixel `position`, anchored by `(horizontal, vertical)`.
@@ -268,6 +395,14 @@ pub fn draw_text(
     let style = text_style(size)
         .color(&colour)
         .pos(Pos::new(horizontal, vertical));
+    let (left, top) = canvas.get_base_pixel();
+    let drawn = text_extent(
+        text,
+        size,
+        (left + position.0, top + position.1),
+        (horizontal, vertical),
+    );
+    layout::note(|layout| layout.texts.push((text.to_string(), drawn)));
     canvas.draw(&Text::new(text.to_string(), position, style))
 }
 
@@ -294,7 +429,7 @@ pub fn draw_footnote_line(canvas: &Canvas, text: &str, from_bottom: i32) -> Resu
 mod tests {
     use super::*;
     use crate::report::kit::axis::{Axis, axis_label, linear_axis};
-    use crate::report::kit::figure::{Frame, SIZE, chart, svg_bytes};
+    use crate::report::kit::figure::{Frame, Page, SIZE, chart, svg_bytes};
     use crate::report::kit::palette::INK_TEAL;
 
     #[test]
@@ -312,16 +447,25 @@ mod tests {
                 format: &axis_label,
                 labels: None,
             };
-            let frame = Frame::single("Invented scan", true);
-            let mut chart = chart(canvas, &frame, x, y)?;
+            let page = Page::titled(canvas, "Invented scan")?;
+            let mut chart = chart(&page.plot, &Frame::single(true), x, y)?;
+            let mut legend = Legend::default();
             let band = [(10.0, [0.0, 1.0, 3.0, 4.0]), (90.0, [1.0, 2.0, 4.0, 5.0])];
-            draw_band(&mut chart, &band, ["outer band", "inner band"])?;
+            draw_band(&mut chart, &mut legend, &band, ["outer band", "inner band"])?;
             reference_line(&mut chart, canvas, 3.0, "3σ")?;
             let curve = vec![(10.0, 2.0), (90.0, 3.0)];
-            draw_curve(&mut chart, curve, INK_TEAL, Stroke::Solid, "median".into())?;
+            let label = "median".to_string();
+            draw_curve(
+                &mut chart,
+                &mut legend,
+                curve,
+                INK_TEAL,
+                Stroke::Solid,
+                label,
+            )?;
             let curve = (INK_TEAL, Stroke::Solid);
             mark_crossing(&mut chart, canvas, (90.0, 3.0), curve, "3σ at 90 keV", -18)?;
-            draw_legend_at(&mut chart, SeriesLabelPosition::UpperLeft)?;
+            legend.draw(&page.legend)?;
             draw_footnote(canvas, "Invented numbers.")
         })
         .unwrap();

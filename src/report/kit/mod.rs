@@ -1,6 +1,8 @@
 //! The kit every report is made with: figures over any x axis (`figure.rs`,
 //! `axis.rs`), what is drawn on them (`marks.rs`: curves, bands, reference
-//! lines, markers, legends, text; `legend.rs`: legend samples; `schedule.rs`:
+//! lines, markers, text; `legend.rs`: legends drawn off the plot;
+//! `layout.rs`: what was drawn where, so labels avoid each other and tests
+//! check the layout; `schedule.rs`:
 //! stretches at reduced or zero rate shaded on figures against days), the palette
 //! (`palette.rs`), number formatting (`format.rs`), calendar dates beside
 //! days (`dates.rs`), CSV and JSON encoding (`encode.rs`) and the words all
@@ -11,6 +13,7 @@ pub mod dates;
 pub mod encode;
 pub mod figure;
 pub mod format;
+pub mod layout;
 pub mod legend;
 pub mod marks;
 pub mod palette;

@@ -1,10 +1,11 @@
 //! The schedule on a figure against days: each stretch with a reduced or
-//! zero rate shaded across the plot, with a short label of its factors at
-//! the bottom ("no data" where nothing is recorded), clear of the legends.
+//! zero rate shaded across the plot, with a short label of its factors
+//! just above the plot ("no data" where nothing is recorded), where no
+//! curve or band is.
 
 use super::axis::axis_label;
 use super::figure::{Canvas, Chart, DrawError};
-use super::marks::draw_text;
+use super::marks::{draw_label_clear, note_area};
 use super::palette::{MAJOR_GRID, MINOR_GRID, SLATE};
 use crate::projection::RateStretch;
 use plotters::prelude::*;
@@ -16,8 +17,9 @@ const SHADE_LABEL_SIZE: u32 = 13;
 /// Shades every stretch of `stretches` with some rate below its nominal one
 /// within the plotted days: grid grey where nothing is recorded (rate 0),
 /// the lighter grid grey where rates are reduced, both translucent so the
-/// grid shows through, each labelled by [`stretch_label`] just inside the
-/// bottom of the plot. Stretches that only raise rates are left unshaded.
+/// grid shows through, each labelled by [`stretch_label`] above the plot at
+/// the start of the stretch (a row higher when another label is there).
+/// Stretches that only raise rates are left unshaded.
 pub fn shade_reduced<X, Y>(
     chart: &mut Chart<'_, '_, X, Y>,
     canvas: &Canvas,
@@ -42,16 +44,17 @@ where
         } else {
             MINOR_GRID
         };
+        note_area(chart, &[(from, bottom), (to, top)]);
         let area = Rectangle::new([(from, bottom), (to, top)], colour.mix(0.7).filled());
         chart.draw_series(std::iter::once(area))?;
-        let (left, lower) = chart.backend_coord(&(from, bottom));
-        draw_text(
+        let (left, upper) = chart.backend_coord(&(from, top));
+        draw_label_clear(
             canvas,
             &stretch_label(stretch),
-            (left + 4, lower - 4),
-            SLATE,
-            SHADE_LABEL_SIZE,
+            (left, upper - 3),
+            (SLATE, SHADE_LABEL_SIZE),
             (HPos::Left, VPos::Bottom),
+            -1,
         )?;
     }
     Ok(())

@@ -17,15 +17,15 @@ use super::{LIMITS_SVG, day_range};
 use crate::projection::{ExposurePoint, Projection};
 use crate::report::ReportError;
 use crate::report::kit::axis::{
-    Axis, DaysCoordinate, LogAxis, days_axis, log_axis, one_two_five_span, tick_label,
+    Axis, DayScale, DaysCoordinate, LogAxis, days_axis, log_axis, one_two_five_span, tick_label,
 };
 use crate::report::kit::dates::dated_days_label;
-use crate::report::kit::figure::{self, Canvas, Chart, DrawError, Frame, SIZE};
+use crate::report::kit::figure::{self, Canvas, Chart, DrawError, Frame, Page, SIZE};
 use crate::report::kit::format::percent_label;
+use crate::report::kit::legend::Legend;
 use crate::report::kit::marks::{self, BandPoint, Stroke};
 use crate::report::kit::palette::{DOT, INK_TEAL, LABEL_SIZE, SLATE, VERMILION};
 use crate::report::kit::schedule;
-use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, VPos};
 
 type LimitChart<'a, 'b> = Chart<'a, 'b, DaysCoordinate, LogAxis>;
@@ -65,20 +65,37 @@ fn draw(canvas: &Canvas, projection: &Projection, cl: f64) -> Result<(), DrawErr
         labels: Some(12),
     };
     let footnote = footnote(projection);
-    let frame = Frame::single(&projection.title, footnote.is_some());
-    let x = days_axis(day_range(points), projection.day_spacing);
-    let mut chart = figure::chart(canvas, &frame, x, y)?;
+    let page = Page::titled(canvas, &projection.title)?;
+    let frame = Frame::single(footnote.is_some());
+    let scale = DayScale::new(projection.day_spacing, projection.start);
+    let x = days_axis(day_range(points), &scale);
+    let mut chart = figure::chart(&page.plot, &frame, x, y)?;
+    let mut legend = Legend::default();
     schedule::shade_reduced(&mut chart, canvas, &projection.rate_stretches)?;
-    marks::draw_band(&mut chart, &band, band_labels)?;
+    marks::draw_band(&mut chart, &mut legend, &band, band_labels)?;
     draw_nominal_signal(&mut chart, canvas, points)?;
     if median.len() > 1 {
         let label = format!("Toy median ({} per point)", projection.toys);
-        marks::draw_curve(&mut chart, median, INK_TEAL, Stroke::Solid, label)?;
+        marks::draw_curve(
+            &mut chart,
+            &mut legend,
+            median,
+            INK_TEAL,
+            Stroke::Solid,
+            label,
+        )?;
     }
     let label = "Asymptotic median".to_string();
-    marks::draw_curve(&mut chart, asymptotic, VERMILION, Stroke::Dashed, label)?;
+    marks::draw_curve(
+        &mut chart,
+        &mut legend,
+        asymptotic,
+        VERMILION,
+        Stroke::Dashed,
+        label,
+    )?;
     draw_days_to_exclusion(&mut chart, canvas, projection)?;
-    marks::draw_legend_at(&mut chart, SeriesLabelPosition::UpperRight)?;
+    legend.draw(&page.legend)?;
     match footnote {
         Some(text) => marks::draw_footnote(canvas, &text),
         None => Ok(()),
@@ -140,18 +157,20 @@ fn draw_nominal_signal(
         let left = chart.plotting_area().get_pixel_range().0.start;
         ((left + INSET, y + INSET), (HPos::Left, VPos::Top))
     };
-    marks::draw_text(
+    let direction = if excluded_at_the_end { -1 } else { 1 };
+    marks::draw_label_clear(
         canvas,
         "nominal signal (μ = 1)",
         position,
-        SLATE,
-        LABEL_SIZE,
+        (SLATE, LABEL_SIZE),
         anchor,
+        direction,
     )
 }
 
 /// Markers where the toy median and the asymptotic median limit reach μ = 1,
-/// each labelled "excluded: 32 d" in the curve's colour. Limits fall with
+/// each labelled "excluded: 32 d" in the curve's colour, or once "excluded:
+/// 32 d (toys and Asimov)" when both read the same. Limits fall with
 /// exposure, so the labels go below the line, one row each, the median's
 /// first.
 fn draw_days_to_exclusion(
@@ -159,17 +178,21 @@ fn draw_days_to_exclusion(
     canvas: &Canvas,
     projection: &Projection,
 ) -> Result<(), DrawError> {
-    const ROW: i32 = 18;
+    const ROW: i32 = marks::LABEL_ROW;
     let exclusion = &projection.days_to_exclusion;
+    let label = |days: Option<f64>| {
+        days.map(|days| format!("excluded: {}", dated_days_label(days, projection.start)))
+    };
+    let (median, asimov) =
+        marks::merge_coinciding(label(exclusion.median_days), label(exclusion.asimov_days));
     let crossings = [
-        (exclusion.median_days, (INK_TEAL, Stroke::Solid)),
-        (exclusion.asimov_days, (VERMILION, Stroke::Dashed)),
+        (exclusion.median_days, median, (INK_TEAL, Stroke::Solid)),
+        (exclusion.asimov_days, asimov, (VERMILION, Stroke::Dashed)),
     ];
     let reached = crossings
         .into_iter()
-        .filter_map(|(days, curve)| Some((days?, curve)));
-    for (row, (days, curve)) in (0..).zip(reached) {
-        let label = format!("excluded: {}", dated_days_label(days, projection.start));
+        .filter_map(|(days, label, curve)| Some((days?, label?, curve)));
+    for (row, (days, label, curve)) in (0..).zip(reached) {
         marks::mark_crossing(
             chart,
             canvas,

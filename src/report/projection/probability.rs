@@ -7,13 +7,13 @@
 use super::{PROBABILITY_SVG, day_range};
 use crate::projection::Projection;
 use crate::report::ReportError;
-use crate::report::kit::axis::{Axis, days_axis, linear_axis};
-use crate::report::kit::figure::{self, Canvas, DrawError, Frame, SIZE};
+use crate::report::kit::axis::{Axis, DayScale, days_axis, linear_axis};
+use crate::report::kit::figure::{self, Canvas, DrawError, Frame, Page, SIZE};
 use crate::report::kit::format::target_label;
+use crate::report::kit::legend::Legend;
 use crate::report::kit::marks::{self, Stroke};
 use crate::report::kit::palette::SERIES_COLOURS;
 use crate::report::kit::schedule;
-use plotters::chart::SeriesLabelPosition;
 
 /// The probability plot as SVG bytes.
 pub(super) fn render(projection: &Projection) -> Result<Vec<u8>, ReportError> {
@@ -29,9 +29,11 @@ fn draw(canvas: &Canvas, projection: &Projection) -> Result<(), DrawError> {
         format: &format,
         labels: Some(12),
     };
-    let frame = Frame::single(&projection.title, false);
-    let x = days_axis(day_range(points), projection.day_spacing);
-    let mut chart = figure::chart(canvas, &frame, x, y)?;
+    let page = Page::titled(canvas, &projection.title)?;
+    let scale = DayScale::new(projection.day_spacing, projection.start);
+    let x = days_axis(day_range(points), &scale);
+    let mut chart = figure::chart(&page.plot, &Frame::single(false), x, y)?;
+    let mut legend = Legend::default();
     schedule::shade_reduced(&mut chart, canvas, &projection.rate_stretches)?;
     for (level, label) in [(0.5, "50%"), (0.9, "90%")] {
         marks::reference_line(&mut chart, canvas, level, label)?;
@@ -46,16 +48,23 @@ fn draw(canvas: &Canvas, projection: &Projection) -> Result<(), DrawError> {
             .collect();
         if toys.len() > 1 {
             let label = format!("{label}, pseudo-experiments");
-            marks::draw_curve(&mut chart, toys, colour, Stroke::Solid, label)?;
+            marks::draw_curve(&mut chart, &mut legend, toys, colour, Stroke::Solid, label)?;
         }
         let asymptotic = points
             .iter()
             .map(|point| (point.days, point.probability[slot].asimov))
             .collect();
         let label = format!("{label}, asymptotic");
-        marks::draw_curve(&mut chart, asymptotic, colour, Stroke::Dashed, label)?;
+        marks::draw_curve(
+            &mut chart,
+            &mut legend,
+            asymptotic,
+            colour,
+            Stroke::Dashed,
+            label,
+        )?;
     }
-    marks::draw_legend_at(&mut chart, SeriesLabelPosition::UpperLeft)
+    legend.draw(&page.legend)
 }
 
 #[cfg(test)]

@@ -16,11 +16,11 @@ use super::ensembles::Ensemble;
 use super::{PROJECTION_SVG, day_range};
 use crate::projection::Projection;
 use crate::report::ReportError;
-use crate::report::kit::axis::{Axis, DaysCoordinate, days_axis, linear_axis};
+use crate::report::kit::axis::{Axis, DayScale, DaysCoordinate, days_axis, linear_axis};
 use crate::report::kit::dates::dated_days_label;
-use crate::report::kit::figure::{self, Canvas, Chart, DrawError, Frame, SIZE};
+use crate::report::kit::figure::{self, Canvas, Chart, DrawError, Frame, Page, SIZE};
 use crate::report::kit::format::target_label;
-use crate::report::kit::legend::Line;
+use crate::report::kit::legend::{Legend, Line};
 use crate::report::kit::marks::{self, BandPoint, Stroke};
 use crate::report::kit::palette::{
     DASH, INK_TEAL, LABEL_SIZE, PLUM, SERIES_COLOURS, VERMILION, VIOLET,
@@ -64,16 +64,19 @@ fn draw(canvas: &Canvas, projection: &Projection) -> Result<(), DrawError> {
         format: &format,
         labels: Some(12),
     };
-    let frame = Frame::single(&projection.title, footnote.is_some());
-    let x = days_axis(day_range(points), projection.day_spacing);
-    let mut chart = figure::chart(canvas, &frame, x, y)?;
+    let page = Page::titled(canvas, &projection.title)?;
+    let frame = Frame::single(footnote.is_some());
+    let scale = DayScale::new(projection.day_spacing, projection.start);
+    let x = days_axis(day_range(points), &scale);
+    let mut chart = figure::chart(&page.plot, &frame, x, y)?;
+    let mut legend = Legend::default();
     schedule::shade_reduced(&mut chart, canvas, &projection.rate_stretches)?;
     let band_labels = if with_toys {
         ["Toys, central 95.4%", "Toys, central 68.3%"]
     } else {
         ["Z_A ± 2 (asymptotic)", "Z_A ± 1 (asymptotic)"]
     };
-    marks::draw_band(&mut chart, &band, band_labels)?;
+    marks::draw_band(&mut chart, &mut legend, &band, band_labels)?;
     for &target in &projection.targets {
         marks::reference_line(&mut chart, canvas, target, &target_label(target))?;
     }
@@ -83,23 +86,31 @@ fn draw(canvas: &Canvas, projection: &Projection) -> Result<(), DrawError> {
         .collect();
     if median.len() > 1 {
         let label = format!("Toy median ({} per point)", projection.toys);
-        marks::draw_curve(&mut chart, median, INK_TEAL, Stroke::Solid, label)?;
+        marks::draw_curve(
+            &mut chart,
+            &mut legend,
+            median,
+            INK_TEAL,
+            Stroke::Solid,
+            label,
+        )?;
     }
     let asimov = points.iter().map(|point| (point.days, point.z_asimov));
     let label = "Asimov Z_A".to_string();
     marks::draw_curve(
         &mut chart,
+        &mut legend,
         asimov.collect(),
         VERMILION,
         Stroke::Dashed,
         label,
     )?;
-    draw_channels(&mut chart, projection)?;
-    draw_global(&mut chart, projection)?;
+    draw_channels(&mut chart, &mut legend, projection)?;
+    draw_global(&mut chart, &mut legend, projection)?;
     draw_saturation(&mut chart, canvas, projection, ceiling)?;
     draw_days_to_target(&mut chart, canvas, projection)?;
     draw_global_days_to_target(&mut chart, canvas, projection)?;
-    marks::draw_legend_at(&mut chart, SeriesLabelPosition::UpperLeft)?;
+    legend.draw(&page.legend)?;
     match footnote {
         Some(text) => marks::draw_footnote(canvas, &text),
         None => Ok(()),
@@ -112,6 +123,7 @@ fn draw(canvas: &Canvas, projection: &Projection) -> Result<(), DrawError> {
 /// no room for them.
 fn draw_channels<'a, 'b: 'a>(
     chart: &mut SignificanceChart<'a, 'b>,
+    legend: &mut Legend,
     projection: &Projection,
 ) -> Result<(), DrawError> {
     let Some(first) = projection.points.first() else {
@@ -126,7 +138,7 @@ fn draw_channels<'a, 'b: 'a>(
         let colour = CHANNEL_COLOURS[index % CHANNEL_COLOURS.len()];
         let line = Line::Dashed(colour.stroke_width(1), DASH);
         let label = format!("Asimov Z_A, {} alone", channel.name);
-        marks::draw_line(chart, curve, line, Some(label))?;
+        marks::draw_line(chart, legend, curve, line, Some(label))?;
     }
     Ok(())
 }
@@ -163,28 +175,37 @@ fn significance_ceiling(projection: &Projection, band: &[BandPoint]) -> f64 {
 }
 
 /// Markers where the toy median and the Asimov curve reach each target, each
-/// labelled "3σ: 42 d" in the curve's colour. Curves rise with exposure, so
-/// the labels go above the target line and left of their marker, the median's
-/// one row above the Asimov one; a label that would leave the plot on the
-/// left goes right of its marker instead.
+/// labelled "3σ: 42 d" in the curve's colour, or once "3σ: 42 d (toys and
+/// Asimov)" when both read the same. Curves rise with exposure, so the labels
+/// go above the target line and left of their marker, the median's one row
+/// above the Asimov one; a label that would leave the plot on the left goes
+/// right of its marker instead.
 fn draw_days_to_target(
     chart: &mut SignificanceChart,
     canvas: &Canvas,
     projection: &Projection,
 ) -> Result<(), DrawError> {
-    const ROW: i32 = 18;
+    const ROW: i32 = marks::LABEL_ROW;
     for row in &projection.days_to_target {
+        let label = |days: Option<f64>| {
+            days.map(|days| {
+                format!(
+                    "{}: {}",
+                    target_label(row.target),
+                    dated_days_label(days, projection.start)
+                )
+            })
+        };
+        let (median, asimov) =
+            marks::merge_coinciding(label(row.median_days), label(row.asimov_days));
         let crossings = [
-            (row.median_days, (INK_TEAL, Stroke::Solid), 2 * ROW),
-            (row.asimov_days, (VERMILION, Stroke::Dashed), ROW),
+            (row.median_days, median, (INK_TEAL, Stroke::Solid), 2 * ROW),
+            (row.asimov_days, asimov, (VERMILION, Stroke::Dashed), ROW),
         ];
-        for (days, curve, raise) in crossings {
-            let Some(days) = days else { continue };
-            let label = format!(
-                "{}: {}",
-                target_label(row.target),
-                dated_days_label(days, projection.start)
-            );
+        for (days, label, curve, raise) in crossings {
+            let (Some(days), Some(label)) = (days, label) else {
+                continue;
+            };
             marks::mark_crossing(chart, canvas, (days, row.target), curve, &label, -raise)?;
         }
     }
@@ -195,6 +216,7 @@ fn draw_days_to_target(
 /// where measured.
 fn draw_global<'a, 'b: 'a>(
     chart: &mut SignificanceChart<'a, 'b>,
+    legend: &mut Legend,
     projection: &Projection,
 ) -> Result<(), DrawError> {
     let Some(scan) = &projection.scan else {
@@ -210,12 +232,12 @@ fn draw_global<'a, 'b: 'a>(
     let median = series(|global| global.z_global_median);
     if median.len() > 1 {
         let label = format!("Global, toy median ({} positions)", scan.positions);
-        marks::draw_curve(chart, median, VIOLET, Stroke::Solid, label)?;
+        marks::draw_curve(chart, legend, median, VIOLET, Stroke::Solid, label)?;
     }
     let asimov = series(|global| global.z_global_asimov);
     if asimov.len() > 1 {
         let label = format!("Global Z_A ({} positions)", scan.positions);
-        marks::draw_curve(chart, asimov, PLUM, Stroke::Dashed, label)?;
+        marks::draw_curve(chart, legend, asimov, PLUM, Stroke::Dashed, label)?;
     }
     Ok(())
 }
@@ -313,6 +335,35 @@ mod tests {
             assert!(text.contains(expected), "missing {expected:?}");
         }
         assert!(!text.contains(" id="));
+    }
+
+    #[test]
+    fn coinciding_toy_and_asimov_days_get_one_label() {
+        let mut projection = example::with_toys();
+        let row = &mut projection.days_to_target[0];
+        row.median_days = row.asimov_days;
+        let row = row.clone();
+        let text = svg(&projection);
+        let label = format!(
+            "{}: {}",
+            target_label(row.target),
+            dated_days_label(row.asimov_days.unwrap(), None)
+        );
+        assert!(text.contains(&format!("\n{label} (toys and Asimov)\n</text>")));
+        assert!(!text.contains(&format!("\n{label}\n</text>")));
+    }
+
+    #[test]
+    fn with_a_start_date_the_day_axis_reads_dates() {
+        let mut projection = example::with_toys();
+        let undated = svg(&projection);
+        projection.start = crate::calendar::CalendarDate::parse("2027-03-01");
+        let dated = svg(&projection);
+        // The example grid runs from 1 to 1000 days: a tick at 100 days is
+        // 9 June 2027.
+        assert!(dated.contains("Date (calendar days counted from 2027-03-01)"));
+        assert!(dated.contains("\n2027-06-09\n</text>"));
+        assert!(undated.contains("\nCalendar days\n</text>") && !dated.contains("Calendar days"));
     }
 
     #[test]

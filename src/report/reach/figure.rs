@@ -9,11 +9,11 @@ use super::REACH_SVG;
 use crate::reach::{ExposureReach, Reach};
 use crate::report::ReportError;
 use crate::report::kit::axis::{Axis, axis_label, linear_axis, log_axis, one_two_five_span};
-use crate::report::kit::figure::{self, Canvas, DrawError, Frame};
+use crate::report::kit::figure::{self, Canvas, DrawError, Frame, Page};
 use crate::report::kit::format::{days_label, percent_label, target_label};
-use crate::report::kit::legend::Line;
+use crate::report::kit::legend::{Legend, Line};
 use crate::report::kit::marks::{self, BandPoint, Stroke};
-use crate::report::kit::palette::{DOT, INK_TEAL, PLUM, SLATE, VERMILION, VIOLET, text_style};
+use crate::report::kit::palette::{DOT, INK_TEAL, PLUM, SLATE, VERMILION, VIOLET};
 use plotters::prelude::*;
 
 /// Height of one exposure's panel, in pixels.
@@ -69,12 +69,17 @@ fn draw(canvas: &Canvas, reach: &Reach) -> Result<(), DrawError> {
         (low.min(r), high.max(r))
     });
     let rates = one_two_five_span(low / 1.2, high * 1.2);
-    let body = canvas.titled(&reach.title, text_style(24))?;
-    let panels = body.split_evenly((reach.exposures.len().max(1), 1));
-    for (exposure, panel) in reach.exposures.iter().zip(&panels) {
-        draw_exposure(panel, reach, exposure, rates.clone())?;
+    let page = Page::titled(canvas, &reach.title)?;
+    let panels = page.plot.split_evenly((reach.exposures.len().max(1), 1));
+    // Every panel draws the same kinds of curve: the first one's entries
+    // are the legend, drawn once in the page's column.
+    let mut legend = Legend::default();
+    for (index, (exposure, panel)) in reach.exposures.iter().zip(&panels).enumerate() {
+        let mut repeated = Legend::default();
+        let entries = if index == 0 { &mut legend } else { &mut repeated };
+        draw_exposure(panel, reach, exposure, rates.clone(), entries)?;
     }
-    Ok(())
+    legend.draw(&page.legend)
 }
 
 /// One exposure's panel.
@@ -83,14 +88,16 @@ fn draw_exposure(
     reach: &Reach,
     exposure: &ExposureReach,
     rates: std::ops::Range<f64>,
+    legend: &mut Legend,
 ) -> Result<(), DrawError> {
     let positions = &exposure.positions;
     let from = positions[0].position;
     let to = positions[positions.len() - 1].position;
     let days = days_label(exposure.days);
     let caption = format!("After {days}");
+    let panel = &figure::titled(panel, &caption, 18)?;
     let frame = Frame {
-        caption: Some((&caption, 18)),
+        caption: None,
         margins: [8, 24, 8, 14],
         label_areas: (46, 64, 0),
         text_sizes: (16, 14),
@@ -115,11 +122,12 @@ fn draw_exposure(
         .iter()
         .filter_map(|p| p.limit_rate_asimov_band.map(|band| (p.position, band)))
         .collect();
-    marks::draw_band(&mut chart, &band, ["Limit ±2σ", "Limit ±1σ"])?;
+    marks::draw_band(&mut chart, legend, &band, ["Limit ±2σ", "Limit ±1σ"])?;
     let cl = percent_label(reach.cl);
     let colour = LIMIT_COLOUR;
     marks::draw_curve(
         &mut chart,
+        legend,
         curve(exposure, |i| positions[i].limit_rate_asimov),
         colour,
         Stroke::Dashed,
@@ -129,6 +137,7 @@ fn draw_exposure(
     if !toys.is_empty() {
         marks::draw_curve(
             &mut chart,
+            legend,
             toys,
             colour,
             Stroke::Solid,
@@ -142,6 +151,7 @@ fn draw_exposure(
         let target_colour = TARGET_COLOURS[target_index % TARGET_COLOURS.len()];
         marks::draw_line(
             &mut chart,
+            legend,
             global,
             Line::Dashed(target_colour.stroke_width(2), DOT),
             Some(format!("Global {} (Asimov)", target_label(target))),
@@ -149,9 +159,10 @@ fn draw_exposure(
     }
     marks::draw_line(
         &mut chart,
+        legend,
         vec![(from, reach.signal_rate), (to, reach.signal_rate)],
         Line::Dashed(SLATE.stroke_width(1), DOT),
         Some("Scenario's signal rate".to_string()),
     )?;
-    marks::draw_legend_at(&mut chart, SeriesLabelPosition::UpperRight)
+    Ok(())
 }

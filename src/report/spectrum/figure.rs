@@ -2,6 +2,10 @@
 //! side, one row of panels per channel (each caption naming its channel when
 //! there are several).
 //!
+//! The fit of the pseudo-data (all channels together) is stated once, under
+//! the title; each panel's caption gives its own channel's events and
+//! expected signal and background.
+//!
 //! Each panel shows the pseudo-data counts per bin as points with their
 //! one-standard-deviation Poisson error bars, the expected background as a
 //! filled histogram and the expected signal + background as a step line; below,
@@ -10,13 +14,11 @@
 
 use crate::report::ReportError;
 use crate::report::kit::axis::{Axis, axis_label, linear_axis};
-use crate::report::kit::figure::{self, Canvas, Chart, DrawError, Frame};
-use crate::report::kit::format::{exposure_label, number};
-use crate::report::kit::legend::{Line, Sample};
+use crate::report::kit::figure::{self, Canvas, Chart, DrawError, Frame, LEGEND_WIDTH};
+use crate::report::kit::format::{exposure_label, number, rounded};
+use crate::report::kit::legend::{Legend, Line, Sample};
 use crate::report::kit::marks;
-use crate::report::kit::palette::{
-    DASH, INK, INK_TEAL, PALE_LAVENDER, SLATE, VERMILION, text_style,
-};
+use crate::report::kit::palette::{DASH, INK, INK_TEAL, PALE_LAVENDER, SLATE, VERMILION};
 use crate::spectrum::{
     EXACT_INTERVAL_BELOW, ExposureSpectrum, Spectrum, SpectrumBin, SpectrumChannel,
 };
@@ -37,8 +39,7 @@ const Y_LABEL_AREA: u32 = 72;
 /// Font sizes of the axis descriptions and tick labels.
 const TEXT_SIZES: (u32, u32) = (17, 15);
 const MARKER_RADIUS: u32 = 3;
-/// The count axis reaches this factor above the highest bar or expectation,
-/// leaving room for the legend.
+/// The count axis reaches this factor above the highest bar or expectation.
 const HEADROOM: f64 = 1.3;
 /// Opacity of the error bars.
 const BAR_OPACITY: f64 = 0.6;
@@ -53,21 +54,29 @@ pub(super) fn render(spectrum: &Spectrum) -> Result<Vec<u8>, ReportError> {
         SINGLE_WIDTH
     } else {
         PANEL_WIDTH.saturating_mul(panels)
-    };
+    }
+    .saturating_add(LEGEND_WIDTH);
     let height = HEIGHT.saturating_mul(rows);
     figure::svg_bytes(FILE, (width, height), |canvas| draw(canvas, spectrum))
 }
 
 fn draw(canvas: &Canvas, spectrum: &Spectrum) -> Result<(), DrawError> {
-    let body = canvas.titled(&spectrum.title, text_style(24))?;
+    let body = figure::titled(canvas, &spectrum.title, 24)?;
+    let body = figure::titled(&body, &fit_caption(spectrum), 18)?;
+    let (width, _) = body.dim_in_pixel();
+    let (body, legend_area) = body.split_horizontally(width.saturating_sub(LEGEND_WIDTH));
     let columns = spectrum.exposures.len();
     let panels = body.split_evenly((spectrum.channels.len(), columns));
     let named = spectrum.channels.len() > 1;
+    let mut legends = Vec::new();
     for (index, panel) in panels.iter().enumerate() {
         let channel = &spectrum.channels[index / columns];
         let exposure = &spectrum.exposures[index % columns];
-        // One legend, in the first panel, serves them all.
-        draw_panel(panel, channel, exposure, named, index == 0)?;
+        legends.push(draw_panel(panel, channel, exposure, named)?);
+    }
+    // Every panel draws the same series: the first one's legend serves them all.
+    if let Some(legend) = legends.first() {
+        legend.draw(&legend_area)?;
     }
     marks::draw_footnote_line(
         canvas,
@@ -84,42 +93,75 @@ fn draw(canvas: &Canvas, spectrum: &Spectrum) -> Result<(), DrawError> {
     )
 }
 
-/// One channel at one exposure; its caption starts with the channel's name
-/// when `named` (several channels).
+/// The fit of the pseudo-data to all channels at once, stated once for the
+/// figure: "Fit of the pseudo-data: μ̂ = 0.40, local Z = 1.15σ", or with
+/// several exposures each after its days ("30 d: μ̂ = …; 365 d: …").
+fn fit_caption(spectrum: &Spectrum) -> String {
+    let several = spectrum.exposures.len() > 1;
+    let fits: Vec<String> = spectrum
+        .exposures
+        .iter()
+        .map(|exposure| {
+            let fit = match &exposure.fit {
+                Some(fit) => format!(
+                    "μ̂ = {:.2}, local Z = {:.2}σ",
+                    fit.signal_strength, fit.local_z
+                ),
+                None => "failed".to_string(),
+            };
+            if several {
+                format!("{} d: {fit}", exposure.days)
+            } else {
+                fit
+            }
+        })
+        .collect();
+    let scope = if spectrum.channels.len() > 1 {
+        " (all channels together)"
+    } else {
+        ""
+    };
+    format!("Fit of the pseudo-data{scope}: {}", fits.join("; "))
+}
+
+/// One channel at one exposure, and the legend of what it drew; its caption
+/// starts with the channel's name when `named` (several channels) and gives
+/// the channel's own counts and expected signal s and background b.
 fn draw_panel(
     panel: &Canvas,
     channel: &SpectrumChannel,
     exposure: &ExposureSpectrum,
     named: bool,
-    with_legend: bool,
-) -> Result<(), DrawError> {
+) -> Result<Legend, DrawError> {
     let (_, height) = panel.dim_in_pixel();
     let split = (f64::from(height) * COUNTS_SHARE).round() as i32;
     let (upper, lower) = panel.split_vertically(split);
     let bins = channel.bins_of(exposure);
     let counts: u64 = bins.iter().map(|bin| bin.counts).sum();
-    let fit = match &exposure.fit {
-        Some(fit) => format!(
-            "fit: μ̂ = {:.2}, local Z = {:.2}σ",
-            fit.signal_strength, fit.local_z
-        ),
-        None => "the fit failed".to_string(),
-    };
+    let background: f64 = bins.iter().map(|bin| bin.background).sum();
+    let signal: f64 = bins
+        .iter()
+        .map(|bin| bin.signal_plus_background - bin.background)
+        .sum();
     let fitted = exposure
         .fit
         .as_ref()
         .map(|fit| &fit.expected[channel.bins.clone()]);
     let exposure_caption = format!(
-        "{}: {counts} events; {fit}",
-        exposure_label(exposure.days, exposure.live_days)
+        "{}: {counts} events; expected s = {}, b = {}",
+        exposure_label(exposure.days, exposure.live_days),
+        rounded(signal),
+        rounded(background)
     );
     let caption = if named {
         format!("{}, {exposure_caption}", channel.name)
     } else {
         exposure_caption
     };
-    draw_counts(&upper, channel, bins, fitted, &caption, with_legend)?;
-    draw_excess(&lower, channel, bins)
+    let mut legend = Legend::default();
+    draw_counts(&upper, &mut legend, channel, bins, fitted, &caption)?;
+    draw_excess(&lower, &mut legend, channel, bins)?;
+    Ok(legend)
 }
 
 /// The counts: expected background filled, signal + background stepped,
@@ -127,11 +169,11 @@ fn draw_panel(
 /// pseudo-data (`fitted`, one per bin) unless it failed.
 fn draw_counts(
     area: &Canvas,
+    legend: &mut Legend,
     channel: &SpectrumChannel,
     bins: &[SpectrumBin],
     fitted: Option<&[f64]>,
     caption: &str,
-    with_legend: bool,
 ) -> Result<(), DrawError> {
     let ceiling = HEADROOM
         * bins
@@ -161,17 +203,21 @@ fn draw_counts(
     let mut filled = background.clone();
     filled.insert(0, (bins[0].low, 0.0));
     filled.push((bins[bins.len() - 1].high, 0.0));
-    let area = chart.draw_series(std::iter::once(Polygon::new(
+    marks::note_area(&chart, &filled);
+    chart.draw_series(std::iter::once(Polygon::new(
         filled,
         PALE_LAVENDER.filled(),
     )))?;
-    Sample::SwatchWithEdge(PALE_LAVENDER, INK_TEAL.stroke_width(2))
-        .attach(area, "Expected background");
+    legend.add(
+        Sample::SwatchWithEdge(PALE_LAVENDER, INK_TEAL.stroke_width(2)),
+        "Expected background",
+    );
     let edge = Line::Solid(INK_TEAL.stroke_width(2));
-    marks::draw_line(&mut chart, background, edge, None)?;
+    marks::draw_line(&mut chart, legend, background, edge, None)?;
     let signal_plus_background = step_outline(bins, |bin| bin.signal_plus_background);
     marks::draw_line(
         &mut chart,
+        legend,
         signal_plus_background,
         Line::Solid(VERMILION.stroke_width(2)),
         Some("Expected signal + background".to_string()),
@@ -184,6 +230,7 @@ fn draw_counts(
             .collect();
         marks::draw_line(
             &mut chart,
+            legend,
             fitted,
             Line::Dashed(INK.stroke_width(2), DASH),
             Some("Fit to the pseudo-data (μ̂ free)".to_string()),
@@ -197,17 +244,14 @@ fn draw_counts(
             bar: drawn_bar(bin, (count - bin.error_low, count + bin.error_high)),
         }
     });
-    draw_points(&mut chart, points, "Pseudo-data")?;
-    if with_legend {
-        marks::draw_legend_at(&mut chart, SeriesLabelPosition::UpperRight)?;
-    }
-    Ok(())
+    draw_points(&mut chart, legend, points, "Pseudo-data")
 }
 
 /// The excess over the expected background, (n − b)/√b, with error bars
 /// scaled alike, and the expected signal excess (s + b − b)/√b.
 fn draw_excess(
     area: &Canvas,
+    legend: &mut Legend,
     channel: &SpectrumChannel,
     bins: &[SpectrumBin],
 ) -> Result<(), DrawError> {
@@ -235,14 +279,20 @@ fn draw_excess(
     let mut chart = figure::chart(area, &frame, x, y)?;
     let (low, high) = (bins[0].low, bins[bins.len() - 1].high);
     let zero = Line::Solid(SLATE.stroke_width(1));
-    marks::draw_line(&mut chart, vec![(low, 0.0), (high, 0.0)], zero, None)?;
+    marks::draw_line(
+        &mut chart,
+        legend,
+        vec![(low, 0.0), (high, 0.0)],
+        zero,
+        None,
+    )?;
     let expected: Vec<(f64, f64)> = bins
         .iter()
         .filter_map(|bin| Some((bin, bin.expected_pull()?)))
         .flat_map(|(bin, pull)| [(bin.low, pull), (bin.high, pull)])
         .collect();
     let expected_line = Line::Solid(VERMILION.stroke_width(2));
-    marks::draw_line(&mut chart, expected, expected_line, None)?;
+    marks::draw_line(&mut chart, legend, expected, expected_line, None)?;
     let points = bins.iter().filter_map(|bin| {
         let pull = bin.pull()?;
         let root = bin.background.sqrt();
@@ -257,7 +307,7 @@ fn draw_excess(
             bar: drawn_bar(bin, bar),
         })
     });
-    draw_points(&mut chart, points, "")
+    draw_points(&mut chart, legend, points, "")
 }
 
 /// The value axis of either chart over `range`, described by `description`.
@@ -288,6 +338,7 @@ fn drawn_bar(bin: &SpectrumBin, bar: (f64, f64)) -> Option<(f64, f64)> {
 /// dense spectra stay readable; a legend entry unless `label` is empty.
 fn draw_points<'a, 'b: 'a>(
     chart: &mut BinChart<'a, 'b>,
+    legend: &mut Legend,
     points: impl Iterator<Item = DataPoint>,
     label: &str,
 ) -> Result<(), DrawError> {
@@ -300,13 +351,16 @@ fn draw_points<'a, 'b: 'a>(
             bar_style,
         ))
     }))?;
-    let markers = chart.draw_series(
+    chart.draw_series(
         points
             .iter()
             .map(|point| Circle::new((point.x, point.y), MARKER_RADIUS, INK.filled())),
     )?;
     if !label.is_empty() {
-        Sample::MarkerWithBar(INK.filled(), MARKER_RADIUS, bar_style).attach(markers, label);
+        legend.add(
+            Sample::MarkerWithBar(INK.filled(), MARKER_RADIUS, bar_style),
+            label,
+        );
     }
     Ok(())
 }
@@ -351,16 +405,20 @@ mod tests {
             "Expected signal + background",
             "Pseudo-data",
             "Garwood 1936",
+            "Fit of the pseudo-data: 3 d:",
         ] {
             assert!(text.contains(expected), "missing {expected:?}");
         }
-        assert!(text.starts_with("<svg width=\"1280\" height=\"720\""));
+        // Panels give their own numbers; the fit is stated once, above them.
+        assert_eq!(text.matches("events; expected s = ").count(), 2);
+        assert_eq!(text.matches("μ̂ = ").count(), 2, "one per exposure");
+        assert!(text.starts_with("<svg width=\"1580\" height=\"720\""));
     }
 
     #[test]
     fn one_exposure_fills_the_single_canvas() {
         let text = String::from_utf8(render(&spectrum(&[3.0])).unwrap()).unwrap();
-        assert!(text.starts_with("<svg width=\"900\" height=\"720\""));
+        assert!(text.starts_with("<svg width=\"1200\" height=\"720\""));
     }
 
     #[test]

@@ -1,0 +1,240 @@
+//! What a figure has drawn where, in pixels of its canvas: the boxes of its
+//! title lines, legends and labels, and the curves, bands and markers they
+//! must stay clear of. Kept while a figure is drawn (so labels can be placed
+//! where nothing is yet, [`free_text_box`]) and, inside [`recording`],
+//! returned beside the SVG so that tests check the layout from what was drawn.
+//!
+//! Text extents are estimated, not measured (the SVG names a font, it does not
+//! embed one): [`text_box`] takes each character as [`CHARACTER_WIDTH`] of the
+//! font size wide, on the wide side of the shipped font's average advance
+//! (about 0.55 em for mixed text), and a line as tall as the font size.
+
+use std::cell::RefCell;
+
+/// Estimated width of one character, as a share of the font size.
+pub const CHARACTER_WIDTH: f64 = 0.6;
+
+/// A rectangle in canvas pixels: left, top, right, bottom.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct PixelBox {
+    pub left: f64,
+    pub top: f64,
+    pub right: f64,
+    pub bottom: f64,
+}
+
+impl PixelBox {
+    /// Whether the two boxes share more than their edges.
+    pub fn overlaps(&self, other: &PixelBox) -> bool {
+        self.left < other.right
+            && other.left < self.right
+            && self.top < other.bottom
+            && other.top < self.bottom
+    }
+
+    #[cfg(test)]
+    /// Whether the segment from `a` to `b` passes through the box (clipped
+    /// against its four edges, Liang and Barsky, Computer Vision, Graphics
+    /// and Image Processing 4 (1984) 308).
+    pub fn meets_segment(&self, a: (f64, f64), b: (f64, f64)) -> bool {
+        let (dx, dy) = (b.0 - a.0, b.1 - a.1);
+        let (mut enter, mut leave) = (0.0_f64, 1.0_f64);
+        for (p, q) in [
+            (-dx, a.0 - self.left),
+            (dx, self.right - a.0),
+            (-dy, a.1 - self.top),
+            (dy, self.bottom - a.1),
+        ] {
+            if p == 0.0 {
+                if q < 0.0 {
+                    return false;
+                }
+            } else if p < 0.0 {
+                enter = enter.max(q / p);
+            } else {
+                leave = leave.min(q / p);
+            }
+        }
+        enter <= leave
+    }
+
+    #[cfg(test)]
+    /// Whether any segment of `path` passes through the box.
+    pub fn meets_path(&self, path: &[(f64, f64)]) -> bool {
+        match path {
+            [point] => self.meets_segment(*point, *point),
+            _ => path
+                .windows(2)
+                .any(|pair| self.meets_segment(pair[0], pair[1])),
+        }
+    }
+}
+
+/// How a text is anchored at its position.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Anchor {
+    Start,
+    Middle,
+    End,
+}
+
+/// The estimated box of one line of `text` in a font of `size` pixels, whose
+/// anchor point is `position`: horizontally as `anchor` says, vertically at
+/// the top when `vertical` is 0, the middle at 0.5, the bottom at 1.
+pub fn text_box(
+    text: &str,
+    size: u32,
+    position: (i32, i32),
+    anchor: Anchor,
+    vertical: f64,
+) -> PixelBox {
+    let width = text_width(text, size);
+    let height = f64::from(size);
+    let x = f64::from(position.0);
+    let left = match anchor {
+        Anchor::Start => x,
+        Anchor::Middle => x - width / 2.0,
+        Anchor::End => x - width,
+    };
+    let top = f64::from(position.1) - vertical * height;
+    PixelBox {
+        left,
+        top,
+        right: left + width,
+        bottom: top + height,
+    }
+}
+
+/// The estimated width of one line of `text` in a font of `size` pixels.
+pub fn text_width(text: &str, size: u32) -> f64 {
+    text.chars().count() as f64 * f64::from(size) * CHARACTER_WIDTH
+}
+
+/// What a figure drew where.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct Layout {
+    /// Width and height of the canvas.
+    pub canvas: (u32, u32),
+    /// Every title or caption line.
+    pub titles: Vec<PixelBox>,
+    /// Every legend.
+    pub legends: Vec<PixelBox>,
+    /// Every label and footnote line, with its text.
+    pub texts: Vec<(String, PixelBox)>,
+    /// Every curve, as the path of its points.
+    pub curves: Vec<Vec<(f64, f64)>>,
+    /// Every band or shaded stretch, as its bounding box.
+    pub areas: Vec<PixelBox>,
+    /// Every marker, as its bounding box.
+    pub markers: Vec<PixelBox>,
+}
+
+thread_local! {
+    /// The layout of the figure being drawn on this thread.
+    static DRAWING: RefCell<Option<Layout>> = const { RefCell::new(None) };
+    /// The layouts of finished figures, while [`recording`].
+    static FINISHED: RefCell<Option<Vec<Layout>>> = const { RefCell::new(None) };
+}
+
+/// Starts the layout of a figure of `canvas` pixels.
+pub(crate) fn begin(canvas: (u32, u32)) {
+    DRAWING.with(|drawing| {
+        *drawing.borrow_mut() = Some(Layout {
+            canvas,
+            ..Layout::default()
+        });
+    });
+}
+
+/// Ends the figure being drawn, keeping its layout while [`recording`].
+pub(crate) fn end() {
+    let layout = DRAWING.with(|drawing| drawing.borrow_mut().take());
+    FINISHED.with(|finished| {
+        if let (Some(finished), Some(layout)) = (finished.borrow_mut().as_mut(), layout) {
+            finished.push(layout);
+        }
+    });
+}
+
+/// Adds to the layout of the figure being drawn, if any.
+pub(crate) fn note(add: impl FnOnce(&mut Layout)) {
+    DRAWING.with(|drawing| {
+        if let Some(layout) = drawing.borrow_mut().as_mut() {
+            add(layout);
+        }
+    });
+}
+
+/// The first of `candidates` whose box overlaps no text, title or legend
+/// drawn so far, else the first one.
+pub(crate) fn free_text_box(candidates: &[PixelBox]) -> usize {
+    DRAWING.with(|drawing| {
+        let drawing = drawing.borrow();
+        let Some(layout) = drawing.as_ref() else {
+            return 0;
+        };
+        let taken = |candidate: &PixelBox| {
+            layout
+                .texts
+                .iter()
+                .map(|(_, drawn)| drawn)
+                .chain(&layout.titles)
+                .chain(&layout.legends)
+                .any(|drawn| drawn.overlaps(candidate))
+        };
+        candidates
+            .iter()
+            .position(|candidate| !taken(candidate))
+            .unwrap_or(0)
+    })
+}
+
+#[cfg(test)]
+/// Runs `render` and returns its result with the layout of every figure it
+/// drew on this thread, in order.
+pub fn recording<T>(render: impl FnOnce() -> T) -> (T, Vec<Layout>) {
+    FINISHED.with(|finished| *finished.borrow_mut() = Some(Vec::new()));
+    let result = render();
+    let layouts = FINISHED.with(|finished| finished.borrow_mut().take().unwrap_or_default());
+    (result, layouts)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn boxes_and_segments_meet_only_where_they_cross() {
+        let square = PixelBox {
+            left: 0.0,
+            top: 0.0,
+            right: 10.0,
+            bottom: 10.0,
+        };
+        assert!(square.meets_segment((-5.0, 5.0), (15.0, 5.0)));
+        assert!(square.meets_path(&[(-5.0, -5.0), (5.0, 5.0), (20.0, 20.0)]));
+        assert!(!square.meets_segment((-5.0, 12.0), (15.0, 12.0)));
+        assert!(!square.meets_segment((11.0, -20.0), (30.0, 5.0)));
+        let beside = PixelBox {
+            left: 10.0,
+            ..square
+        };
+        assert!(!square.overlaps(&PixelBox {
+            right: 20.0,
+            ..beside
+        }));
+        assert!(square.overlaps(&PixelBox {
+            left: 9.0,
+            right: 20.0,
+            ..square
+        }));
+    }
+
+    #[test]
+    fn text_boxes_follow_their_anchor() {
+        let text = text_box("3σ: 516 d", 20, (100, 50), Anchor::End, 0.0);
+        assert_eq!(text.right, 100.0);
+        assert_eq!(text.left, 100.0 - 9.0 * 12.0);
+        assert_eq!((text.top, text.bottom), (50.0, 70.0));
+    }
+}
