@@ -76,7 +76,11 @@ fn draw(canvas: &Canvas, reach: &Reach) -> Result<(), DrawError> {
     let mut legend = Legend::default();
     for (index, (exposure, panel)) in reach.exposures.iter().zip(&panels).enumerate() {
         let mut repeated = Legend::default();
-        let entries = if index == 0 { &mut legend } else { &mut repeated };
+        let entries = if index == 0 {
+            &mut legend
+        } else {
+            &mut repeated
+        };
         draw_exposure(panel, reach, exposure, rates.clone(), entries)?;
     }
     legend.draw(&page.legend)
