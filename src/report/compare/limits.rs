@@ -65,7 +65,8 @@ fn draw(canvas: &Canvas, comparison: &Comparison, cl: f64) -> Result<(), DrawErr
         format: &format,
         labels: Some(12),
     };
-    let page = Page::titled(canvas, "Run plans compared: expected limits")?;
+    let title = format!("{description}: {}", comparison.plans_compared());
+    let page = Page::titled(canvas, &title)?;
     let scale = comparison.day_scale();
     let x = days_axis(day_range(comparison), &scale);
     let mut chart = figure::chart(&page.plot, &Frame::single(false), x, y)?;

@@ -61,6 +61,12 @@ pub struct Comparison {
 }
 
 impl Comparison {
+    /// The plans' labels as a figure title names them: "Now vs Upgrade first".
+    fn plans_compared(&self) -> String {
+        let labels: Vec<&str> = self.plans.iter().map(|plan| plan.label.as_str()).collect();
+        labels.join(" vs ")
+    }
+
     fn first(&self) -> &Projection {
         &self.plans[0].projection
     }

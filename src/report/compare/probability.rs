@@ -103,12 +103,10 @@ fn title(comparison: &Comparison) -> String {
         Some((last, rest)) => format!("{} and {last}", rest.join(", ")),
         None => String::new(),
     };
-    let plans: Vec<&str> = comparison
-        .plans
-        .iter()
-        .map(|plan| plan.label.as_str())
-        .collect();
-    format!("Probability to reach {targets}: {}", plans.join(" vs "))
+    format!(
+        "Probability to reach {targets}: {}",
+        comparison.plans_compared()
+    )
 }
 
 /// The line of the curve of the target in `slot`, in the plan's `colour`:

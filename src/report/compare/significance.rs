@@ -27,7 +27,11 @@ fn draw(canvas: &Canvas, comparison: &Comparison) -> Result<(), DrawError> {
         format: &format,
         labels: Some(12),
     };
-    let page = Page::titled(canvas, "Run plans compared")?;
+    let title = format!(
+        "Median expected significance: {}",
+        comparison.plans_compared()
+    );
+    let page = Page::titled(canvas, &title)?;
     let scale = comparison.day_scale();
     let x = days_axis(day_range(comparison), &scale);
     let mut chart = figure::chart(&page.plot, &Frame::single(false), x, y)?;
