@@ -12,7 +12,7 @@ use crate::report::kit::dates::dated_days_label;
 use crate::report::kit::figure::{self, Canvas, DrawError, Frame, Page, SIZE};
 use crate::report::kit::format::percent_label;
 use crate::report::kit::legend::Legend;
-use crate::report::kit::marks::{self, Stroke};
+use crate::report::kit::marks::{self, Series, Stroke};
 use crate::report::kit::palette::{DOT, SLATE};
 use crate::report::kit::schedule;
 
@@ -77,18 +77,19 @@ fn draw(canvas: &Canvas, comparison: &Comparison, cl: f64) -> Result<(), DrawErr
     let mut row = 0;
     for (index, (plan, [toys, asymptotic])) in comparison.plans.iter().zip(medians).enumerate() {
         let colour = plan_colour(index);
-        if toys.len() > 1 {
-            let label = format!("{}: toy median", plan.label);
-            marks::draw_curve(&mut chart, &mut legend, toys, colour, Stroke::Solid, label)?;
-        }
-        let label = format!("{}: asymptotic median", plan.label);
-        marks::draw_curve(
+        marks::draw_toys_and_asymptotic(
             &mut chart,
             &mut legend,
-            asymptotic,
-            colour,
-            Stroke::Dashed,
-            label,
+            Series {
+                points: toys,
+                colour,
+                label: format!("{}: toy median", plan.label),
+            },
+            Series {
+                points: asymptotic,
+                colour,
+                label: format!("{}: asymptotic median", plan.label),
+            },
         )?;
         let exclusion = &plan.projection.days_to_exclusion;
         let label = |days: Option<f64>| {

@@ -11,7 +11,7 @@ use crate::report::kit::dates::dated_days_label;
 use crate::report::kit::figure::{self, Canvas, DrawError, Frame, Page, SIZE};
 use crate::report::kit::format::target_label;
 use crate::report::kit::legend::Legend;
-use crate::report::kit::marks::{self, Stroke};
+use crate::report::kit::marks::{self, Series, Stroke};
 use crate::report::kit::schedule;
 
 /// The significance comparison as SVG bytes.
@@ -49,26 +49,22 @@ fn draw(canvas: &Canvas, comparison: &Comparison) -> Result<(), DrawError> {
             .iter()
             .filter_map(|point| Some((point.days, point.z_median?)))
             .collect();
-        if median.len() > 1 {
-            let label = format!("{}: toy median", plan.label);
-            marks::draw_curve(
-                &mut chart,
-                &mut legend,
-                median,
-                colour,
-                Stroke::Solid,
-                label,
-            )?;
-        }
-        let asimov = points.iter().map(|point| (point.days, point.z_asimov));
-        let label = format!("{}: Asimov Z_A", plan.label);
-        marks::draw_curve(
+        marks::draw_toys_and_asymptotic(
             &mut chart,
             &mut legend,
-            asimov.collect(),
-            colour,
-            Stroke::Dashed,
-            label,
+            Series {
+                points: median,
+                colour,
+                label: format!("{}: toy median", plan.label),
+            },
+            Series {
+                points: points
+                    .iter()
+                    .map(|point| (point.days, point.z_asimov))
+                    .collect(),
+                colour,
+                label: format!("{}: Asimov Z_A", plan.label),
+            },
         )?;
         // Labels stack above the target line, one row per curve and plan.
         let base = (index * rows_per_plan) as i32;

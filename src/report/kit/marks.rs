@@ -47,6 +47,47 @@ where
     draw_line(chart, legend, points, stroke.line(colour), Some(label))
 }
 
+/// One curve of a figure: its points, colour and legend label.
+pub struct Series {
+    pub points: Vec<(f64, f64)>,
+    pub colour: RGBColor,
+    pub label: String,
+}
+
+/// The pairing every figure against days draws: a quantity from
+/// pseudo-experiments as a solid curve (when at least two points carry it;
+/// one point makes no curve), then its asymptotic counterpart dashed, each
+/// with its legend entry.
+pub fn draw_toys_and_asymptotic<'a, 'b: 'a, X, Y>(
+    chart: &mut Chart<'a, 'b, X, Y>,
+    legend: &mut Legend,
+    toys: Series,
+    asymptotic: Series,
+) -> Result<(), DrawError>
+where
+    X: Ranged<ValueType = f64>,
+    Y: Ranged<ValueType = f64>,
+{
+    if toys.points.len() > 1 {
+        draw_curve(
+            chart,
+            legend,
+            toys.points,
+            toys.colour,
+            Stroke::Solid,
+            toys.label,
+        )?;
+    }
+    draw_curve(
+        chart,
+        legend,
+        asymptotic.points,
+        asymptotic.colour,
+        Stroke::Dashed,
+        asymptotic.label,
+    )
+}
+
 /// A line through `points`, with a legend entry when labelled.
 pub fn draw_line<'a, 'b: 'a, X, Y>(
     chart: &mut Chart<'a, 'b, X, Y>,

@@ -23,7 +23,7 @@ use crate::report::kit::dates::dated_days_label;
 use crate::report::kit::figure::{self, Canvas, Chart, DrawError, Frame, Page, SIZE};
 use crate::report::kit::format::percent_label;
 use crate::report::kit::legend::Legend;
-use crate::report::kit::marks::{self, BandPoint, Stroke};
+use crate::report::kit::marks::{self, BandPoint, Series, Stroke};
 use crate::report::kit::palette::{DOT, INK_TEAL, LABEL_SIZE, SLATE, VERMILION};
 use crate::report::kit::schedule;
 use plotters::style::text_anchor::{HPos, VPos};
@@ -74,25 +74,19 @@ fn draw(canvas: &Canvas, projection: &Projection, cl: f64) -> Result<(), DrawErr
     schedule::shade_reduced(&mut chart, canvas, &projection.rate_stretches)?;
     marks::draw_band(&mut chart, &mut legend, &band, band_labels)?;
     draw_nominal_signal(&mut chart, canvas, points)?;
-    if median.len() > 1 {
-        let label = format!("Toy median ({} per point)", projection.toys);
-        marks::draw_curve(
-            &mut chart,
-            &mut legend,
-            median,
-            INK_TEAL,
-            Stroke::Solid,
-            label,
-        )?;
-    }
-    let label = "Asymptotic median".to_string();
-    marks::draw_curve(
+    marks::draw_toys_and_asymptotic(
         &mut chart,
         &mut legend,
-        asymptotic,
-        VERMILION,
-        Stroke::Dashed,
-        label,
+        Series {
+            points: median,
+            colour: INK_TEAL,
+            label: format!("Toy median ({} per point)", projection.toys),
+        },
+        Series {
+            points: asymptotic,
+            colour: VERMILION,
+            label: "Asymptotic median".to_string(),
+        },
     )?;
     draw_days_to_exclusion(&mut chart, canvas, projection)?;
     legend.draw(&page.legend)?;

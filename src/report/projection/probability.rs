@@ -11,7 +11,7 @@ use crate::report::kit::axis::{Axis, DayScale, days_axis, linear_axis};
 use crate::report::kit::figure::{self, Canvas, DrawError, Frame, Page, SIZE};
 use crate::report::kit::format::target_label;
 use crate::report::kit::legend::Legend;
-use crate::report::kit::marks::{self, Stroke};
+use crate::report::kit::marks::{self, Series};
 use crate::report::kit::palette::SERIES_COLOURS;
 use crate::report::kit::schedule;
 
@@ -46,22 +46,23 @@ fn draw(canvas: &Canvas, projection: &Projection) -> Result<(), DrawError> {
             .iter()
             .filter_map(|point| Some((point.days, point.probability[slot].toys?)))
             .collect();
-        if toys.len() > 1 {
-            let label = format!("{label}, pseudo-experiments");
-            marks::draw_curve(&mut chart, &mut legend, toys, colour, Stroke::Solid, label)?;
-        }
         let asymptotic = points
             .iter()
             .map(|point| (point.days, point.probability[slot].asimov))
             .collect();
-        let label = format!("{label}, asymptotic");
-        marks::draw_curve(
+        marks::draw_toys_and_asymptotic(
             &mut chart,
             &mut legend,
-            asymptotic,
-            colour,
-            Stroke::Dashed,
-            label,
+            Series {
+                points: toys,
+                colour,
+                label: format!("{label}, pseudo-experiments"),
+            },
+            Series {
+                points: asymptotic,
+                colour,
+                label: format!("{label}, asymptotic"),
+            },
         )?;
     }
     legend.draw(&page.legend)

@@ -21,7 +21,7 @@ use crate::report::kit::dates::dated_days_label;
 use crate::report::kit::figure::{self, Canvas, Chart, DrawError, Frame, Page, SIZE};
 use crate::report::kit::format::target_label;
 use crate::report::kit::legend::{Legend, Line};
-use crate::report::kit::marks::{self, BandPoint, Stroke};
+use crate::report::kit::marks::{self, BandPoint, Series, Stroke};
 use crate::report::kit::palette::{
     DASH, INK_TEAL, LABEL_SIZE, PLUM, SERIES_COLOURS, VERMILION, VIOLET,
 };
@@ -84,26 +84,22 @@ fn draw(canvas: &Canvas, projection: &Projection) -> Result<(), DrawError> {
         .iter()
         .filter_map(|point| Some((point.days, point.z_median?)))
         .collect();
-    if median.len() > 1 {
-        let label = format!("Toy median ({} per point)", projection.toys);
-        marks::draw_curve(
-            &mut chart,
-            &mut legend,
-            median,
-            INK_TEAL,
-            Stroke::Solid,
-            label,
-        )?;
-    }
-    let asimov = points.iter().map(|point| (point.days, point.z_asimov));
-    let label = "Asimov Z_A".to_string();
-    marks::draw_curve(
+    marks::draw_toys_and_asymptotic(
         &mut chart,
         &mut legend,
-        asimov.collect(),
-        VERMILION,
-        Stroke::Dashed,
-        label,
+        Series {
+            points: median,
+            colour: INK_TEAL,
+            label: format!("Toy median ({} per point)", projection.toys),
+        },
+        Series {
+            points: points
+                .iter()
+                .map(|point| (point.days, point.z_asimov))
+                .collect(),
+            colour: VERMILION,
+            label: "Asimov Z_A".to_string(),
+        },
     )?;
     draw_channels(&mut chart, &mut legend, projection)?;
     draw_global(&mut chart, &mut legend, projection)?;
