@@ -153,22 +153,15 @@ pub struct ProjectArgs {
     pub scenario: PathBuf,
     #[command(flatten)]
     pub plan: PlanArgs,
-    /// Output directory (default: output/<scenario file stem>).
-    #[arg(long, value_name = "DIR")]
-    pub out: Option<PathBuf>,
     #[command(flatten)]
-    pub figures: FigureArgs,
-    /// Worker threads (default: all cores); results do not depend on it.
-    #[arg(long, value_name = "N")]
-    pub threads: Option<usize>,
+    pub output: OutputArgs,
+    #[command(flatten)]
+    pub workers: WorkerArgs,
     /// Run only shard K of N of every ensemble and write it to the output
     /// directory as one shard file (no figures, no summary); runcast merge
     /// makes the outputs from all N.
     #[arg(long, value_name = "K/N")]
     pub shard: Option<ShardSpec>,
-    /// No progress bar.
-    #[arg(long)]
-    pub quiet: bool,
 }
 
 /// What a projection runs, overriding the scenario's plan.
@@ -244,23 +237,16 @@ pub struct CompareArgs {
     /// Seed of all pseudo-experiments (overrides each plan.seed).
     #[arg(long, value_name = "S")]
     pub seed: Option<u64>,
-    /// Output directory (default: output/compare).
-    #[arg(long, value_name = "DIR")]
-    pub out: Option<PathBuf>,
     #[command(flatten)]
-    pub figures: FigureArgs,
-    /// Worker threads (default: all cores); results do not depend on it.
-    #[arg(long, value_name = "N")]
-    pub threads: Option<usize>,
+    pub output: OutputArgs,
+    #[command(flatten)]
+    pub workers: WorkerArgs,
     /// Skip the pseudo-experiments; asymptotic (Asimov) results only.
     #[arg(long)]
     pub asimov_only: bool,
     /// Skip the expected exclusion limits (CLs) and compare-limits.svg.
     #[arg(long)]
     pub no_limits: bool,
-    /// No progress bar.
-    #[arg(long)]
-    pub quiet: bool,
 }
 
 #[derive(Debug, Args)]
@@ -274,11 +260,8 @@ pub struct SpectrumArgs {
     /// Seed of the pseudo-data (overrides plan.seed); same seed, same spectrum.
     #[arg(long, value_name = "S")]
     pub seed: Option<u64>,
-    /// Output directory (default: output/<scenario file stem>).
-    #[arg(long, value_name = "DIR")]
-    pub out: Option<PathBuf>,
     #[command(flatten)]
-    pub figures: FigureArgs,
+    pub output: OutputArgs,
 }
 
 #[derive(Debug, Args)]
@@ -295,17 +278,10 @@ pub struct ReachArgs {
     /// Seed of the pseudo-experiments (overrides plan.seed).
     #[arg(long, value_name = "S")]
     pub seed: Option<u64>,
-    /// Output directory (default: output/<scenario file stem>).
-    #[arg(long, value_name = "DIR")]
-    pub out: Option<PathBuf>,
     #[command(flatten)]
-    pub figures: FigureArgs,
-    /// Worker threads (default: all cores); results do not depend on it.
-    #[arg(long, value_name = "N")]
-    pub threads: Option<usize>,
-    /// No progress bar.
-    #[arg(long)]
-    pub quiet: bool,
+    pub output: OutputArgs,
+    #[command(flatten)]
+    pub workers: WorkerArgs,
 }
 
 #[derive(Debug, Args)]
@@ -323,17 +299,10 @@ pub struct LeversArgs {
     /// its nominal value (repeatable).
     #[arg(long, value_name = "INPUT=VALUE")]
     pub set: Vec<String>,
-    /// Output directory (default: output/<scenario file stem>).
-    #[arg(long, value_name = "DIR")]
-    pub out: Option<PathBuf>,
     #[command(flatten)]
-    pub figures: FigureArgs,
-    /// Worker threads (default: all cores); results do not depend on it.
-    #[arg(long, value_name = "N")]
-    pub threads: Option<usize>,
-    /// No progress bar.
-    #[arg(long)]
-    pub quiet: bool,
+    pub output: OutputArgs,
+    #[command(flatten)]
+    pub workers: WorkerArgs,
 }
 
 #[derive(Debug, Args)]
@@ -347,11 +316,29 @@ pub struct BinningArgs {
     /// The channel whose binning to scan; required when the scenario has several.
     #[arg(long, value_name = "NAME")]
     pub channel: Option<String>,
-    /// Output directory (default: output/<scenario file stem>).
+    #[command(flatten)]
+    pub output: OutputArgs,
+}
+
+/// Where a command writes, and in which figure formats.
+#[derive(Debug, Clone, Args)]
+pub struct OutputArgs {
+    /// Output directory (default: the one the command's description names).
     #[arg(long, value_name = "DIR")]
     pub out: Option<PathBuf>,
     #[command(flatten)]
     pub figures: FigureArgs,
+}
+
+/// How a command that runs pseudo-experiments or many fits runs them.
+#[derive(Debug, Clone, Copy, Args)]
+pub struct WorkerArgs {
+    /// Worker threads (default: all cores); results do not depend on it.
+    #[arg(long, value_name = "N")]
+    pub threads: Option<usize>,
+    /// No progress bar.
+    #[arg(long)]
+    pub quiet: bool,
 }
 
 /// The formats figures are written in.

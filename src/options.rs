@@ -3,7 +3,8 @@
 //! limit on the command line is applied in one place.
 
 use crate::cli::{
-    BinningArgs, FigureArgs, LeversArgs, PlanArgs, ProjectArgs, ReachArgs, SlurmArgs, SpectrumArgs,
+    BinningArgs, FigureArgs, LeversArgs, OutputArgs, PlanArgs, ProjectArgs, ReachArgs, SlurmArgs,
+    SpectrumArgs,
 };
 use crate::error::Error;
 use runcast::calendar::DayArgument;
@@ -80,6 +81,14 @@ impl Loaded {
             );
             Path::new("output").join(stem)
         })
+    }
+
+    /// The output directory (`--out`, or the default) and the figure formats.
+    fn output(&self, args: &OutputArgs) -> Result<(PathBuf, FigureFormats), Error> {
+        Ok((
+            self.output_directory(args.out.as_deref()),
+            figure_formats(&args.figures)?,
+        ))
     }
 
     /// `--seed`, or the scenario's `plan.seed`.
@@ -364,9 +373,9 @@ impl ProjectOptions {
     }
 
     pub fn resolve(args: &ProjectArgs) -> Result<ProjectOptions, Error> {
-        let threads = check_threads(args.threads)?;
-        let formats = figure_formats(&args.figures)?;
+        let threads = check_threads(args.workers.threads)?;
         let loaded = Loaded::load(&args.scenario)?;
+        let (out, formats) = loaded.output(&args.output)?;
         let shards = args.shard.map_or(1, |shard| shard.count);
         let overrides = PlanOverrides::from_args(&args.plan, shards);
         let settings = projection_settings(&loaded, &overrides)?;
@@ -376,11 +385,11 @@ impl ProjectOptions {
             check_countable(&loaded, &model, &settings)?;
         }
         Ok(ProjectOptions {
-            out: loaded.output_directory(args.out.as_deref()),
+            out,
             threads: threads.filter(|_| with_toys),
             shard: args.shard,
             formats,
-            quiet: args.quiet,
+            quiet: args.workers.quiet,
             loaded,
             model,
             settings,
@@ -566,11 +575,12 @@ impl SpectrumOptions {
         let loaded = Loaded::load(&args.scenario)?;
         let days = loaded.calendar_days("--days", &args.days)?;
         loaded.check_exposures(&days)?;
+        let (out, formats) = loaded.output(&args.output)?;
         Ok(SpectrumOptions {
             days,
             seed: loaded.seed(args.seed),
-            out: loaded.output_directory(args.out.as_deref()),
-            formats: figure_formats(&args.figures)?,
+            out,
+            formats,
             loaded,
         })
     }
@@ -627,6 +637,7 @@ impl ReachOptions {
             )));
         }
         let plan = &loaded.scenario.plan;
+        let (out, formats) = loaded.output(&args.output)?;
         Ok(ReachOptions {
             settings: ReachSettings {
                 days,
@@ -635,10 +646,10 @@ impl ReachOptions {
                 toys: args.toys,
                 seed: loaded.seed(args.seed),
             },
-            threads: check_threads(args.threads)?,
-            quiet: args.quiet,
-            out: loaded.output_directory(args.out.as_deref()),
-            formats: figure_formats(&args.figures)?,
+            threads: check_threads(args.workers.threads)?,
+            quiet: args.workers.quiet,
+            out,
+            formats,
             loaded,
         })
     }
@@ -666,11 +677,12 @@ impl BinningOptions {
         let loaded = Loaded::load(&args.scenario)?;
         let days = loaded.calendar_days("--days", &[args.days])?[0];
         loaded.live_days(days)?;
+        let (out, formats) = loaded.output(&args.output)?;
         Ok(BinningOptions {
             channel: channel_alone(&loaded.scenario, args.channel.as_deref())?,
             days,
-            out: loaded.output_directory(args.out.as_deref()),
-            formats: figure_formats(&args.figures)?,
+            out,
+            formats,
             loaded,
         })
     }
@@ -807,14 +819,15 @@ impl LeversOptions {
             asimov_only: true,
             ..PlanOverrides::default()
         };
+        let (out, formats) = loaded.output(&args.output)?;
         Ok(LeversOptions {
             settings: projection_settings(&loaded, &overrides)?,
             step: step.unwrap_or(Step::Relative(DEFAULT_LEVER_STEP)),
             steps,
-            threads: check_threads(args.threads)?,
-            quiet: args.quiet,
-            out: loaded.output_directory(args.out.as_deref()),
-            formats: figure_formats(&args.figures)?,
+            threads: check_threads(args.workers.threads)?,
+            quiet: args.workers.quiet,
+            out,
+            formats,
             loaded,
         })
     }

@@ -3,7 +3,7 @@
 
 use super::print_warnings;
 use super::project::{self, removed_lines};
-use crate::cli::{CompareArgs, PlanArgs, ProjectArgs};
+use crate::cli::{CompareArgs, OutputArgs, PlanArgs, ProjectArgs};
 use crate::error::Error;
 use crate::options::{Loaded, ProjectOptions, comparison_provenance, figure_formats};
 use crate::stdout;
@@ -18,7 +18,7 @@ pub fn run(args: &CompareArgs) -> Result<(), Error> {
             args.plans.len()
         )));
     }
-    let formats = figure_formats(&args.figures)?;
+    let formats = figure_formats(&args.output.figures)?;
     let options = args
         .plans
         .iter()
@@ -30,6 +30,7 @@ pub fn run(args: &CompareArgs) -> Result<(), Error> {
         print_warnings(plan);
     }
     let out = args
+        .output
         .out
         .clone()
         .unwrap_or_else(|| Path::new("output").join("compare"));
@@ -67,11 +68,12 @@ fn project_args(args: &CompareArgs, plan: &Path) -> ProjectArgs {
             at: Vec::new(),
             lee_toys: None,
         },
-        out: None,
-        figures: args.figures.clone(),
-        threads: args.threads,
+        output: OutputArgs {
+            out: None,
+            figures: args.output.figures.clone(),
+        },
+        workers: args.workers,
         shard: None,
-        quiet: args.quiet,
     }
 }
 
