@@ -14,7 +14,7 @@
 
 use super::rate::WrittenRate;
 use super::resolution::{Resolution, ResolutionFile};
-use super::validate::require_finite;
+use super::validate::values::require_finite;
 use super::{Detector, Observable, RateUnit, Scan, ScenarioError, ShapeSpec, Signal};
 use crate::message::show;
 use crate::shapes::{ParameterValue, ShapeKind};

@@ -4,7 +4,7 @@
 //! and a scenario written per day reads exactly as before.
 
 use super::ScenarioError;
-use super::validate::require_positive;
+use super::validate::values::require_positive;
 use serde::Deserialize;
 
 pub use crate::calendar::{DAYS_PER_WEEK, DAYS_PER_YEAR};

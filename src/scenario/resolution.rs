@@ -13,7 +13,7 @@
 //! "Calorimetry").
 
 use super::ScenarioError;
-use super::validate::require_finite;
+use super::validate::values::require_finite;
 use crate::message::show;
 use serde::Deserialize;
 

@@ -6,7 +6,7 @@
 //! The scenario's own signal position stays the one of the local projection.
 
 use super::limits::MAX_SCAN_POSITIONS;
-use super::validate::{require_finite, require_positive};
+use super::validate::values::{require_finite, require_positive};
 use super::{Resolution, Scenario, ScenarioError, ShapeSpec};
 use crate::message::show;
 use crate::shapes::{MovablePeak, ParameterValue, Placement};
@@ -489,25 +489,6 @@ plan:
         assert_eq!(moved.backgrounds().len(), scenario.backgrounds().len());
     }
 
-    /// `width_at_to` starts from the signal's own width at `from`: with the
-    /// signal at 50, not at `from` = 10, `check` warns; at `from`, or
-    /// without `width_at_to`, it does not.
-    #[test]
-    fn width_at_to_away_from_from_is_a_warning() {
-        use crate::warning::Warning;
-        let text = with("step: 0.5}", "step: 0.5, width_at_to: 3.5}");
-        assert_eq!(
-            Scenario::from_yaml(&text).unwrap().warnings(),
-            [Warning::WidthAtToAwayFromFrom {
-                position: 50.0,
-                from: 10.0
-            }]
-        );
-        let at_from = text.replacen("mean: 50.0", "mean: 10.0", 1);
-        assert!(Scenario::from_yaml(&at_from).unwrap().warnings().is_empty());
-        assert!(Scenario::from_yaml(SCANNED).unwrap().warnings().is_empty());
-    }
-
     #[test]
     fn breit_wigner_signals_scan_their_mean() {
         let text = with(
@@ -575,34 +556,5 @@ plan:
             Scenario::from_yaml(&with("to: 90.0, step: 0.5", "to: 20.0, step: 0.000100001"))
                 .unwrap();
         assert_eq!(at_limit.signal_scan().unwrap().len(), 100_000);
-    }
-}
-
-#[cfg(test)]
-mod channel_tests {
-    use super::super::{Scenario, ScenarioError};
-
-    /// Two channels, the second with a scan: refused at its path.
-    #[test]
-    fn a_scan_in_a_scenario_of_several_channels_is_refused() {
-        let channel = |name: &str, scan: &str| {
-            format!(
-                "  - name: {name}\n    observable: {{name: energy, unit: keV, range: [0.0, 100.0], bin_width: 0.5}}\n    \
-                 signal:\n      events_per_day: 2.0\n      shape: {{gaussian: {{mean: 50.0, sigma: 1.5}}}}\n{scan}    \
-                 backgrounds:\n      - {{name: flat, events_per_day: 40, shape: {{flat: {{}}}}}}\n"
-            )
-        };
-        let text = format!(
-            "title: Two channels\nchannels:\n{}{}plan:\n  days: {{first: 1, last: 100, points: 4, spacing: log}}\n  \
-             toys: 10\n  seed: 1\n  targets: [3]\n",
-            channel("a", ""),
-            channel("b", "      scan: {from: 10.0, to: 90.0, step: 0.5}\n")
-        );
-        match Scenario::from_yaml(&text) {
-            Err(ScenarioError::Invalid { field, .. }) => {
-                assert_eq!(field, "channels[1].signal.scan")
-            }
-            other => panic!("expected an Invalid error, got {other:?}"),
-        }
     }
 }
