@@ -191,6 +191,130 @@ fn a_detector_level_signal_in_one_channel_gives_the_same_bytes() {
     }
 }
 
+/// A scanned line in one channel written at the top level, its width from a
+/// top-level `resolution`: sigma(x) = sqrt(a² x + b² x² + c²) (PDG, Review
+/// of Particle Physics, "Calorimetry"); numbers invented for the test.
+const TOP_LEVEL_RESOLUTION: &str = "\
+title: Top-level resolution test (invented numbers)
+observable: {name: energy, unit: keV, range: [0.0, 500.0], bin_width: 2.0}
+signal:
+  events_per_day: 1.5
+  shape: {gaussian: {mean: 250.0}}
+  scan: {from: 100.0, to: 400.0, step: 10.0}
+  yield_uncertainty: 0.1
+resolution: {stochastic: 0.1, constant: 0.015, noise: 3.0}
+backgrounds:
+  - {name: continuum, events_per_day: 50.0, shape: {exponential: {slope: -0.004}}, norm_uncertainty: 0.05}
+plan:
+  days: {first: 1, last: 60, points: 4, spacing: log}
+  toys: 20
+  seed: 5
+  targets: [3]
+";
+
+/// `TOP_LEVEL_RESOLUTION` with its channel, resolution included, in a
+/// one-entry `channels` list named after its observable.
+fn resolution_in_a_list() -> String {
+    let start = TOP_LEVEL_RESOLUTION.find("observable:").unwrap();
+    let signal = TOP_LEVEL_RESOLUTION.find("signal:").unwrap();
+    let resolution = TOP_LEVEL_RESOLUTION.find("resolution:").unwrap();
+    let end = TOP_LEVEL_RESOLUTION.find("plan:").unwrap();
+    let channel = [
+        &TOP_LEVEL_RESOLUTION[start..signal],
+        &TOP_LEVEL_RESOLUTION[resolution..end],
+    ]
+    .concat();
+    let entry: String = channel
+        .lines()
+        .map(|line| format!("    {line}\n"))
+        .collect();
+    let entry = entry.replacen("    observable:", "  - name: energy\n    observable:", 1);
+    format!(
+        "{}{}channels:\n{entry}{}",
+        &TOP_LEVEL_RESOLUTION[..start],
+        &TOP_LEVEL_RESOLUTION[signal..resolution],
+        &TOP_LEVEL_RESOLUTION[end..]
+    )
+}
+
+/// One channel whose resolution is written at the top level and the same
+/// channel with it in a one-entry list are one scenario: `project
+/// --asimov-only` and `reach` give the same bytes apart from provenance.
+#[test]
+fn a_top_level_resolution_gives_the_bytes_of_a_one_entry_list() {
+    let listed = resolution_in_a_list();
+    assert!(
+        listed.contains("channels:\n  - name: energy\n    observable:")
+            && listed.contains("\n    resolution: {stochastic: 0.1")
+            && !listed.contains("\nresolution:"),
+        "{listed}"
+    );
+    let commands: [&[&str]; 2] = [
+        &["project", "scenario.yaml", "--asimov-only", "--out", "out"],
+        &[
+            "reach",
+            "scenario.yaml",
+            "--days",
+            "30",
+            "--days",
+            "1y",
+            "--out",
+            "out",
+        ],
+    ];
+    for (index, args) in commands.iter().enumerate() {
+        let (top, top_run) = run_on(&format!("top-{index}"), TOP_LEVEL_RESOLUTION, args);
+        let (list, list_run) = run_on(&format!("listed-{index}"), &listed, args);
+        assert!(top_run.status.success(), "{:?}", top_run);
+        assert!(list_run.status.success(), "{:?}", list_run);
+        assert_eq!(top_run.stdout, list_run.stdout, "{args:?} stdout");
+        let top_files = files(&top.path.join("out"));
+        assert!(top_files.len() >= 3, "{top_files:?}");
+        assert!(
+            without_provenance(top_files) == without_provenance(files(&list.path.join("out"))),
+            "{args:?}: outputs differ"
+        );
+    }
+}
+
+/// The width given twice, by sigma and by the top-level resolution, is
+/// refused naming both, with nothing written; `scan.width_at_to` with the
+/// signal away from `scan.from` is a warning that names `resolution` at
+/// the top level as the way out.
+#[test]
+fn a_top_level_resolution_refuses_a_second_width() {
+    let both = TOP_LEVEL_RESOLUTION.replacen("{mean: 250.0}", "{mean: 250.0, sigma: 5.0}", 1);
+    let (scratch, output) = run_on(
+        "sigma-and-resolution",
+        &both,
+        &["project", "scenario.yaml", "--out", "out"],
+    );
+    assert_eq!(output.status.code(), Some(1), "{output:?}");
+    let stderr = String::from_utf8_lossy(&output.stderr);
+    assert!(
+        stderr.contains("signal.shape.gaussian.sigma: ")
+            && stderr.contains("by sigma and by the top-level resolution"),
+        "{stderr}"
+    );
+    assert!(!scratch.path.join("out").exists());
+    let linear = TOP_LEVEL_RESOLUTION
+        .replacen("{mean: 250.0}", "{mean: 250.0, sigma: 5.0}", 1)
+        .replacen("step: 10.0}", "step: 10.0, width_at_to: 7.0}", 1)
+        .replacen(
+            "resolution: {stochastic: 0.1, constant: 0.015, noise: 3.0}\n",
+            "",
+            1,
+        );
+    let (_scratch, output) = run_on("width-at-to", &linear, &["check", "scenario.yaml"]);
+    assert!(output.status.success(), "{output:?}");
+    let stderr = String::from_utf8_lossy(&output.stderr);
+    assert!(
+        stderr.contains("warning: scenario.yaml: signal.scan.width_at_to: ")
+            && stderr.contains("`resolution` (at the top level for one channel"),
+        "{stderr}"
+    );
+}
+
 /// A file mixing a detector-level signal with a channel's own refuses the
 /// channel's, by name, and writes nothing.
 #[test]

@@ -19,7 +19,7 @@ pub fn warning_text(warning: &Warning) -> String {
             ref warning,
         } => format!("channels[{channel}].{}", warning_text(warning)),
         Warning::WidthAtToAwayFromFrom { position, from } => format!(
-            "signal.scan.width_at_to: the scan's width at from ({}) is the signal's own width, taken at its position {}; one of them is the wrong width for its position. Give the width as a function of position instead: write the signal at the top level beside channels, with `resolution` in the channel",
+            "signal.scan.width_at_to: the scan's width at from ({}) is the signal's own width, taken at its position {}; one of them is the wrong width for its position. Give the width as a function of position instead: `resolution` (at the top level for one channel, or in each channel beside a top-level signal), with the signal's shape {{gaussian: {{mean}}}} alone",
             show(from),
             show(position)
         ),

@@ -11,6 +11,9 @@
 //! downstream (model, likelihood, scans) is the engine of several channels
 //! with one signal strength. A yield uncertainty becomes one factor shared
 //! by every channel's signal.
+//!
+//! One channel written at the top level with a top-level `resolution` has
+//! its signal read in this form too, as the channel of a one-entry list.
 
 use super::rate::WrittenRate;
 use super::resolution::{Resolution, ResolutionFile};
@@ -95,7 +98,8 @@ pub struct ChannelResponse {
 
 /// One channel as it takes part in the conversion.
 pub(super) struct ChannelSight<'a> {
-    /// Dotted path of the channel, e.g. `channels[1].`.
+    /// Dotted path of the channel, e.g. `channels[1].`; empty for the one
+    /// channel written at the top level.
     pub path: String,
     pub observable: &'a Observable,
     pub detector: Option<Detector>,
@@ -130,16 +134,25 @@ impl DetectorSignalFile {
         .expect("per_day found the written key");
         let position = self.shape.gaussian.mean;
         require_finite("signal.shape.gaussian.mean", position)?;
+        let top_level = matches!(channels, [only] if only.path.is_empty());
         if self.shape.gaussian.sigma.is_some() {
             return Err(ScenarioError::invalid(
                 "signal.shape.gaussian.sigma",
-                "a detector-level signal takes its width in each channel from the channel's resolution; remove sigma and give each channel `resolution`",
+                if top_level {
+                    "the signal's width is given twice, by sigma and by the top-level resolution, which gives it at every position; remove sigma, or remove resolution for a fixed width"
+                } else {
+                    "a detector-level signal takes its width in each channel from the channel's resolution; remove sigma and give each channel `resolution`"
+                },
             ));
         }
         if self.scan.is_some_and(|scan| scan.width_at_to.is_some()) {
             return Err(ScenarioError::invalid(
                 "signal.scan.width_at_to",
-                "a detector-level signal takes its width along the scan from each channel's resolution; remove width_at_to",
+                if top_level {
+                    "the signal's width along the scan is given twice, by width_at_to and by the top-level resolution; remove width_at_to"
+                } else {
+                    "a detector-level signal takes its width along the scan from each channel's resolution; remove width_at_to"
+                },
             ));
         }
         let several = channels.len() > 1;
@@ -174,7 +187,11 @@ impl DetectorSignalFile {
                 (_, Some(_)) => {
                     return Err(ScenarioError::invalid(
                         format!("signal.{}", unit.key()),
-                        "the channels have masses, so the detector-level rate is per kg·day: write signal.events_per_kg_day",
+                        if top_level {
+                            "the detector has a mass and the signal's width comes from resolution, so the rate is per kg·day: write signal.events_per_kg_day"
+                        } else {
+                            "the channels have masses, so the detector-level rate is per kg·day: write signal.events_per_kg_day"
+                        },
                     ));
                 }
                 (_, None) => 1.0,

@@ -2,7 +2,9 @@
 //! `channels` list. Both read into the same [`Scenario`], so a single channel
 //! and the same content as a one-entry list are one scenario. Beside a
 //! `channels` list the top-level `signal` is a detector-level signal
-//! (`detector_signal.rs`), turned here into one signal per channel.
+//! (`detector_signal.rs`), turned here into one signal per channel; so is
+//! the signal of one channel written at the top level with a `resolution`
+//! beside it, which reads as that channel in a one-entry list.
 
 use super::detector_signal::{ChannelResponseFile, ChannelSight, DetectorSignalFile};
 use super::resolution::ResolutionFile;
@@ -29,6 +31,9 @@ pub(super) struct ScenarioFile<S> {
     backgrounds: Option<Vec<Background>>,
     #[serde(default)]
     channels: Option<Vec<ChannelEntry>>,
+    /// The resolution of one channel written at the top level.
+    #[serde(default)]
+    resolution: Option<ResolutionFile>,
     #[serde(default)]
     shared_uncertainties: BTreeMap<String, f64>,
     #[serde(default)]
@@ -60,22 +65,28 @@ struct ChannelEntry {
     backgrounds: Vec<Background>,
 }
 
-/// Just whether the file has a `channels` list, to choose the form of its
-/// top-level `signal` before reading it.
+/// Just whether the file has a `channels` list or a top-level
+/// `resolution`, to choose the form of its top-level `signal` before
+/// reading it.
 #[derive(Deserialize)]
 struct Layout {
     #[serde(default)]
     channels: Option<serde::de::IgnoredAny>,
+    #[serde(default)]
+    resolution: Option<serde::de::IgnoredAny>,
 }
 
 /// Reads scenario text into a [`Scenario`] (not yet validated): with a
-/// `channels` list the top-level `signal` is read as a detector-level one.
+/// `channels` list, or with a top-level `resolution`, the top-level
+/// `signal` is read as a detector-level one.
 pub(super) fn read(text: &str) -> Result<Scenario, ScenarioError> {
-    let listed = serde_yaml::from_str::<Layout>(text)
-        .map(|layout| layout.channels.is_some())
-        .unwrap_or(false);
+    let (listed, resolved) = serde_yaml::from_str::<Layout>(text)
+        .map(|layout| (layout.channels.is_some(), layout.resolution.is_some()))
+        .unwrap_or((false, false));
     if listed {
         parse::<DetectorSignalFile>(text)?.into_listed()
+    } else if resolved {
+        parse::<DetectorSignalFile>(text)?.into_single_resolved()
     } else {
         parse::<Signal>(text)?.into_single()
     }
@@ -85,17 +96,21 @@ fn parse<S: DeserializeOwned>(text: &str) -> Result<ScenarioFile<S>, ScenarioErr
     serde_yaml::from_str(text).map_err(ScenarioError::from_yaml)
 }
 
-impl ScenarioFile<Signal> {
-    /// The one top-level channel, named after its observable; refuses a
-    /// file with it incomplete, naming the key.
-    fn into_single(self) -> Result<Scenario, ScenarioError> {
-        let (observable, signal, backgrounds) = match (
-            self.observable,
-            self.signal,
-            self.backgrounds,
-        ) {
+impl<S> ScenarioFile<S> {
+    /// The one channel's observable, signal and backgrounds written at the
+    /// top level, and the rest of the file; refuses a file with them
+    /// incomplete, naming the key.
+    fn single_channel(self) -> Result<(Observable, S, Vec<Background>, Parts), ScenarioError> {
+        let parts = Parts {
+            title: self.title,
+            shared_uncertainties: self.shared_uncertainties,
+            detector: self.detector,
+            schedule: self.schedule,
+            plan: self.plan,
+        };
+        match (self.observable, self.signal, self.backgrounds) {
             (Some(observable), Some(signal), Some(backgrounds)) => {
-                (observable, signal, backgrounds)
+                Ok((observable, signal, backgrounds, parts))
             }
             (observable, signal, _) => {
                 let key = if observable.is_none() {
@@ -105,12 +120,19 @@ impl ScenarioFile<Signal> {
                 } else {
                     "backgrounds"
                 };
-                return Err(ScenarioError::invalid(
+                Err(ScenarioError::invalid(
                     key,
                     "missing: write observable, signal and backgrounds at the top level for one channel, or a channels list",
-                ));
+                ))
             }
-        };
+        }
+    }
+}
+
+impl ScenarioFile<Signal> {
+    /// The one top-level channel, named after its observable.
+    fn into_single(self) -> Result<Scenario, ScenarioError> {
+        let (observable, signal, backgrounds, parts) = self.single_channel()?;
         let channel = Channel {
             name: observable.name.clone(),
             observable,
@@ -118,22 +140,44 @@ impl ScenarioFile<Signal> {
             signal,
             backgrounds,
         };
-        finish(
-            Parts {
-                title: self.title,
-                shared_uncertainties: self.shared_uncertainties,
-                detector: self.detector,
-                schedule: self.schedule,
-                plan: self.plan,
-            },
-            vec![channel],
-            ChannelSyntax::Single,
-            None,
-        )
+        finish(parts, vec![channel], ChannelSyntax::Single, None)
     }
 }
 
 impl ScenarioFile<DetectorSignalFile> {
+    /// The one top-level channel, named after its observable, whose signal
+    /// takes its width from the top-level `resolution`: the same channel
+    /// as in a one-entry `channels` list with that resolution.
+    fn into_single_resolved(mut self) -> Result<Scenario, ScenarioError> {
+        let resolution = self.resolution.take();
+        let (observable, signal, backgrounds, mut parts) = self.single_channel()?;
+        let detector = parts.detector.map(|d| d.checked("")).transpose()?;
+        let sight = ChannelSight {
+            path: ChannelSyntax::Single.path(0),
+            observable: &observable,
+            detector,
+            response: ChannelResponseFile {
+                signal_efficiency: None,
+                resolution,
+            },
+        };
+        let (signals, detector_signal) =
+            signal.into_channel_signals(&[sight], &mut parts.shared_uncertainties)?;
+        let channel = Channel {
+            name: observable.name.clone(),
+            observable,
+            detector: None,
+            signal: signals.into_iter().next().expect("one signal per channel"),
+            backgrounds,
+        };
+        finish(
+            parts,
+            vec![channel],
+            ChannelSyntax::Single,
+            Some(detector_signal),
+        )
+    }
+
     /// The `channels` list as written, each with its own signal or with the
     /// detector-level one seen through its mass, efficiency and resolution.
     /// Refuses the top-level observable or backgrounds beside the list, a
@@ -151,6 +195,12 @@ impl ScenarioFile<DetectorSignalFile> {
                     ),
                 ));
             }
+        }
+        if self.resolution.is_some() {
+            return Err(ScenarioError::invalid(
+                "resolution",
+                "a top-level resolution is the width of the one channel written at the top level; with a channels list give each channel its own resolution",
+            ));
         }
         let entries = self.channels.unwrap_or_default();
         if entries.is_empty() {
@@ -580,5 +630,109 @@ plan:
             };
             assert_eq!(invalid(&text).0, field, "{to}");
         }
+    }
+
+    /// One channel at the top level whose signal width follows the position
+    /// through a top-level `resolution`, and the same channel with that
+    /// resolution in a one-entry `channels` list.
+    const TOP_LEVEL_RESOLUTION: &str = "\
+title: Top-level resolution
+observable: {name: energy, unit: keV, range: [0.0, 500.0], bin_width: 2.0}
+signal:
+  events_per_day: 1.5
+  shape: {gaussian: {mean: 100.0}}
+  scan: {from: 100.0, to: 400.0, step: 10.0}
+  yield_uncertainty: 0.1
+resolution: {stochastic: 0.1, constant: 0.015, noise: 3.0}
+backgrounds:
+  - {name: continuum, events_per_day: 50.0, shape: {flat: {}}}
+plan:
+  days: {first: 1, last: 100, points: 5, spacing: log}
+  toys: 10
+  seed: 1
+  targets: [3]
+";
+
+    /// `TOP_LEVEL_RESOLUTION` with its channel in a one-entry list.
+    fn resolution_listed() -> String {
+        let observable =
+            "observable: {name: energy, unit: keV, range: [0.0, 500.0], bin_width: 2.0}\n";
+        let resolution = "resolution: {stochastic: 0.1, constant: 0.015, noise: 3.0}\n";
+        let backgrounds =
+            "backgrounds:\n  - {name: continuum, events_per_day: 50.0, shape: {flat: {}}}\n";
+        let entry = format!(
+            "channels:\n  - name: energy\n    {observable}    {resolution}    backgrounds:\n      - {{name: continuum, events_per_day: 50.0, shape: {{flat: {{}}}}}}\n"
+        );
+        TOP_LEVEL_RESOLUTION
+            .replacen(observable, "", 1)
+            .replacen(resolution, "", 1)
+            .replacen(backgrounds, &entry, 1)
+    }
+
+    #[test]
+    fn a_top_level_resolution_is_a_one_entry_list_with_it() {
+        let top = Scenario::from_yaml(TOP_LEVEL_RESOLUTION).unwrap();
+        let listed = Scenario::from_yaml(&resolution_listed()).unwrap();
+        assert_eq!(top.channel_syntax, ChannelSyntax::Single);
+        assert_eq!(listed.channel_syntax, ChannelSyntax::List);
+        assert_eq!(
+            format!("{:?}", top.channels),
+            format!("{:?}", listed.channels)
+        );
+        assert_eq!(top.detector_signal, listed.detector_signal);
+        assert!(top.warnings().is_empty(), "{:?}", top.warnings());
+    }
+
+    /// sigma(x) = sqrt(a² x + b² x² + c²) (PDG, Review of Particle Physics,
+    /// "Calorimetry") with a = 0.1, b = 0.015, c = 3, by hand: at x = 100,
+    /// 1 + 2.25 + 9 = 12.25, sigma = 3.5; at x = 400, 4 + 36 + 9 = 49,
+    /// sigma = 7. The signal at 100 has width 3.5, and the scan gives 7 at 400.
+    #[test]
+    fn a_top_level_resolution_gives_the_width_at_each_position() {
+        let scenario = Scenario::from_yaml(TOP_LEVEL_RESOLUTION).unwrap();
+        let sigma = scenario.signal().shape.values[1].number();
+        assert!((sigma - 3.5).abs() < 1e-12, "{sigma}");
+        let scan = scenario.signal_scan().unwrap();
+        assert!((scan.width_at(0, 100.0) - 3.5).abs() < 1e-12);
+        assert!((scan.width_at(0, 400.0) - 7.0).abs() < 1e-12);
+    }
+
+    #[test]
+    fn top_level_resolution_errors_name_their_field() {
+        let (field, message) = invalid(&TOP_LEVEL_RESOLUTION.replacen(
+            "{mean: 100.0}",
+            "{mean: 100.0, sigma: 2.0}",
+            1,
+        ));
+        assert_eq!(field, "signal.shape.gaussian.sigma");
+        assert!(
+            message.contains("by sigma and by the top-level resolution"),
+            "{message}"
+        );
+        let (field, message) = invalid(&TOP_LEVEL_RESOLUTION.replacen(
+            "step: 10.0}",
+            "step: 10.0, width_at_to: 6.0}",
+            1,
+        ));
+        assert_eq!(field, "signal.scan.width_at_to");
+        assert!(message.contains("top-level resolution"), "{message}");
+        let (field, _) = invalid(&TOP_LEVEL_RESOLUTION.replacen(
+            "{stochastic: 0.1, constant: 0.015, noise: 3.0}",
+            "{points: [[400.0, 7.0], [100.0, 3.5]]}",
+            1,
+        ));
+        assert_eq!(field, "resolution.points[1][0]");
+        let (field, _) = invalid(&TOP_LEVEL_RESOLUTION.replacen("noise: 3.0", "noise: -3.0", 1));
+        assert_eq!(field, "resolution.noise");
+        let stochastic_only = TOP_LEVEL_RESOLUTION
+            .replacen("constant: 0.015, noise: 3.0", "constant: 0.0", 1)
+            .replacen("from: 100.0", "from: 0.0", 1);
+        assert_eq!(invalid(&stochastic_only).0, "resolution");
+        let beside_channels = resolution_listed().replacen(
+            "channels:\n",
+            "resolution: {points: [[0.0, 2.0]]}\nchannels:\n",
+            1,
+        );
+        assert_eq!(invalid(&beside_channels).0, "resolution");
     }
 }
