@@ -31,16 +31,31 @@ plan:
   targets: [3]
 ";
 
+/// `text` with its top-level blocks `keys` (each a key and the indented
+/// lines under it) moved, in that order, into a one-entry `channels` list
+/// named after the observable, `energy`, written before `plan:`.
+fn one_entry_list(text: &str, keys: &[&str]) -> String {
+    let mut rest = text.to_string();
+    let mut entry = String::new();
+    for key in keys {
+        let start = rest.find(&format!("\n{key}:")).expect("a top-level key") + 1;
+        let length = rest[start..]
+            .match_indices('\n')
+            .map(|(at, _)| at + 1)
+            .find(|&at| !rest[start + at..].starts_with(' '))
+            .expect("a top-level key after it");
+        let block: String = rest.drain(start..start + length).collect();
+        entry.extend(block.lines().map(|line| format!("    {line}\n")));
+    }
+    let entry = entry.replacen("    observable:", "  - name: energy\n    observable:", 1);
+    let plan = rest.find("plan:").expect("a plan");
+    rest.insert_str(plan, &format!("channels:\n{entry}"));
+    rest
+}
+
 /// `SINGLE` written as a one-entry `channels` list, named after its observable.
 fn listed_single() -> String {
-    let start = SINGLE.find("observable:").unwrap();
-    let end = SINGLE.find("plan:").unwrap();
-    let entry: String = SINGLE[start..end]
-        .lines()
-        .map(|line| format!("    {line}\n"))
-        .collect();
-    let entry = entry.replacen("    observable:", "  - name: energy\n    observable:", 1);
-    format!("{}channels:\n{entry}{}", &SINGLE[..start], &SINGLE[end..])
+    one_entry_list(SINGLE, &["observable", "signal", "backgrounds"])
 }
 
 /// Every file of `directory`, by name, with its bytes.
@@ -215,25 +230,9 @@ plan:
 /// `TOP_LEVEL_RESOLUTION` with its channel, resolution included, in a
 /// one-entry `channels` list named after its observable.
 fn resolution_in_a_list() -> String {
-    let start = TOP_LEVEL_RESOLUTION.find("observable:").unwrap();
-    let signal = TOP_LEVEL_RESOLUTION.find("signal:").unwrap();
-    let resolution = TOP_LEVEL_RESOLUTION.find("resolution:").unwrap();
-    let end = TOP_LEVEL_RESOLUTION.find("plan:").unwrap();
-    let channel = [
-        &TOP_LEVEL_RESOLUTION[start..signal],
-        &TOP_LEVEL_RESOLUTION[resolution..end],
-    ]
-    .concat();
-    let entry: String = channel
-        .lines()
-        .map(|line| format!("    {line}\n"))
-        .collect();
-    let entry = entry.replacen("    observable:", "  - name: energy\n    observable:", 1);
-    format!(
-        "{}{}channels:\n{entry}{}",
-        &TOP_LEVEL_RESOLUTION[..start],
-        &TOP_LEVEL_RESOLUTION[signal..resolution],
-        &TOP_LEVEL_RESOLUTION[end..]
+    one_entry_list(
+        TOP_LEVEL_RESOLUTION,
+        &["observable", "resolution", "backgrounds"],
     )
 }
 
