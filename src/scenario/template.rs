@@ -82,6 +82,10 @@ const AFTER_SHAPES: &str = r#"  shape: {gaussian: {mean: 180.0, sigma: 2.5}}
   # `project` also gives the global significance after the look-elsewhere effect
   # and `runcast reach` the reach over the positions.
   # scan: {from: 120.0, to: 280.0, step: 0.5}
+  # A width that follows the position instead of sigma and width_at_to: write
+  # shape: {gaussian: {mean: 180.0}} and, at the top level beside signal,
+  # resolution: {stochastic: 0.1, constant: 0.01, noise: 1.0} (sigma =
+  # sqrt(a² x + b² x² + c²)) or resolution: {points: [[120, 2.0], [280, 3.5]]}.
 
 # One or more background components; each needs a name not used by another.
 backgrounds:
