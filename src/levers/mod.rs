@@ -82,6 +82,9 @@ pub enum Reach {
     Never,
     /// A toy day from too few converged fits (`WithheldDay`): no number.
     Withheld,
+    /// A global toy-median day of a projection without look-elsewhere
+    /// pseudo-experiments, which it needs.
+    NotComputed,
 }
 
 impl Reach {
@@ -143,6 +146,7 @@ impl PlanDays {
                     global.global_asimov_days
                 };
                 Some(match (day, local(days)) {
+                    _ if toys && projection.look_elsewhere_toys() == 0 => Reach::NotComputed,
                     (Some(day), _) => Reach::Day(day),
                     (None, _) if withheld("global_median_days", &days.withheld) => Reach::Withheld,
                     (None, Reach::Never) => Reach::Never,

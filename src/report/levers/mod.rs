@@ -80,6 +80,9 @@ fn no_day_reason(reach: Reach, last_day: f64) -> String {
         Reach::Day(_) => String::new(),
         Reach::NotWithinGrid => not_within_grid(&days_label(last_day)),
         Reach::Never => "never (Z_A saturates below the target)".into(),
+        Reach::NotComputed => {
+            "not computed (no look-elsewhere pseudo-experiments, as project --lee-toys 0)".into()
+        }
         Reach::Withheld => format!(
             "withheld (fewer than {} of the fits converged)",
             percent_label(MIN_CONVERGED_FRACTION)

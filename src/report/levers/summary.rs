@@ -4,7 +4,7 @@
 //! not valid scenarios named below the table.
 
 use super::{
-    Change, ELASTICITY_METHOD, NOT_VALID, day_names, lost, no_day_reason, saved, toy_lost,
+    Change, DayName, ELASTICITY_METHOD, NOT_VALID, day_names, lost, no_day_reason, saved, toy_lost,
     toy_saved,
 };
 use crate::levers::Reach;
@@ -125,7 +125,11 @@ fn toy_block(levers: &Levers) -> String {
     let Some(toys) = &levers.toys else {
         return String::new();
     };
-    let names = day_names(levers);
+    // Days no plan has a toy median of (the global ones without
+    // look-elsewhere pseudo-experiments) get a sentence, not a column.
+    let (names, not_computed): (Vec<DayName>, Vec<DayName>) = day_names(levers)
+        .into_iter()
+        .partition(|name| toys.baseline.all()[name.index] != Reach::NotComputed);
     let with_toys = levers.with_toys();
     let inputs: Vec<&str> = with_toys
         .iter()
@@ -151,11 +155,11 @@ fn toy_block(levers: &Levers) -> String {
     );
     let mut rows = vec![header];
     let mut nominal = vec!["nominal".to_string()];
+    let baseline = toys.baseline.all();
     nominal.extend(
-        toys.baseline
-            .all()
-            .into_iter()
-            .map(|reach| toy_cell(reach, None, levers.last_day)),
+        names
+            .iter()
+            .map(|name| toy_cell(baseline[name.index], None, levers.last_day)),
     );
     rows.push(nominal);
     for lever in with_toys {
@@ -173,21 +177,30 @@ fn toy_block(levers: &Levers) -> String {
                 rounded(side.value)
             )];
             match &side.toy_days {
-                Some(days) => {
-                    row.extend(days.all().into_iter().zip(&names).map(|(reach, name)| {
-                        let change = change(levers, lever, name.index).map(|change| match change {
-                            // Saved days are shown as the shorter run they are.
-                            Change::Days(days) if word == "improved" => Change::Days(-days),
-                            other => other,
-                        });
-                        toy_cell(reach, change, levers.last_day)
-                    }))
-                }
+                Some(days) => row.extend(names.iter().map(|name| {
+                    let change = change(levers, lever, name.index).map(|change| match change {
+                        // Saved days are shown as the shorter run they are.
+                        Change::Days(days) if word == "improved" => Change::Days(-days),
+                        other => other,
+                    });
+                    toy_cell(days.all()[name.index], change, levers.last_day)
+                })),
                 None => row.extend(names.iter().map(|_| NOT_VALID.to_string())),
             }
             rows.push(row);
         }
     }
     text += &aligned(&rows);
+    if !not_computed.is_empty() {
+        let labels: Vec<&str> = not_computed
+            .iter()
+            .map(|name| name.label.as_str())
+            .collect();
+        text += &format!(
+            "{} toy median: {}.\n",
+            labels.join(", "),
+            no_day_reason(Reach::NotComputed, levers.last_day)
+        );
+    }
     text
 }
