@@ -9,7 +9,7 @@
 //! and worsened toy medians.
 
 use super::{Change, DayName, LEVERS_SVG, day_names, days_change, lost, saved};
-use crate::levers::{Lever, Levers, PlanDays};
+use crate::levers::{Lever, Levers, PlanDays, Reach};
 use crate::report::ReportError;
 use crate::report::kit::axis::{Axis, axis_label, linear_axis};
 use crate::report::kit::figure::{self, Canvas, DrawError, Frame};
@@ -86,6 +86,11 @@ fn draw(canvas: &Canvas, levers: &Levers, names: &[DayName], height: u32) -> Res
             toys.toys,
             toys.seed
         ));
+        if toys.baseline.global.contains(&Reach::NotComputed) {
+            if let Some(line) = footnotes.last_mut() {
+                line.push_str(" Global panels have none: no look-elsewhere pseudo-experiments.");
+            }
+        }
     }
     for (line, text) in footnotes.iter().rev().enumerate() {
         draw_footnote_line(canvas, text, line as i32)?;
