@@ -86,10 +86,9 @@ fn draw(canvas: &Canvas, levers: &Levers, names: &[DayName], height: u32) -> Res
             toys.toys,
             toys.seed
         ));
-        if toys.baseline.global.contains(&Reach::NotComputed) {
-            if let Some(line) = footnotes.last_mut() {
-                line.push_str(" Global panels have none: no look-elsewhere pseudo-experiments.");
-            }
+        let global_missing = toys.baseline.global.contains(&Reach::NotComputed);
+        if let Some(line) = footnotes.last_mut().filter(|_| global_missing) {
+            line.push_str(" Global panels have none: no look-elsewhere pseudo-experiments.");
         }
     }
     for (line, text) in footnotes.iter().rev().enumerate() {
