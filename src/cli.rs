@@ -299,6 +299,15 @@ pub struct LeversArgs {
     /// its nominal value (repeatable).
     #[arg(long, value_name = "INPUT=VALUE")]
     pub set: Vec<String>,
+    /// Also the toy-median days, from N pseudo-experiments per point, of the
+    /// nominal plan and of the 3 inputs that save most days at the first
+    /// target, improved and worsened: each as runcast project --toys N
+    /// --seed S gives them (with a scan, --lee-toys 0).
+    #[arg(long, value_name = "N")]
+    pub toys: Option<usize>,
+    /// Seed of the pseudo-experiments of --toys (overrides plan.seed); same seed, same numbers.
+    #[arg(long, value_name = "S", requires = "toys")]
+    pub seed: Option<u64>,
     #[command(flatten)]
     pub output: OutputArgs,
     #[command(flatten)]

@@ -724,6 +724,9 @@ pub struct LeversOptions {
     pub loaded: Loaded,
     /// The settings of `runcast project --asimov-only` on it.
     pub settings: ProjectionSettings,
+    /// With `--toys N`: the settings of `runcast project --toys N --seed S`
+    /// (`--lee-toys 0` with a scan) for the toy-median days.
+    pub toy_settings: Option<ProjectionSettings>,
     /// The step of every input (`--step P%`, default 10%).
     pub step: Step,
     /// The inputs moved otherwise (`--step INPUT=AMOUNT`, `--set INPUT=VALUE`).
@@ -749,6 +752,10 @@ impl LeversOptions {
             .map(|named| format!("{}: {}", named.input, named.step))
             .collect();
         options.insert("steps".into(), json!(steps));
+        if let Some(settings) = &self.toy_settings {
+            options.insert("toys".into(), json!(settings.toys));
+            options.insert("seed".into(), json!(settings.seed));
+        }
         Provenance::new(vec![self.loaded.scenario_file()], options)
     }
 
@@ -819,8 +826,24 @@ impl LeversOptions {
             asimov_only: true,
             ..PlanOverrides::default()
         };
+        let toy_settings = match args.toys {
+            None => None,
+            Some(0) => return Err(Error::Usage("--toys: must be at least 1".into())),
+            Some(toys) => {
+                let overrides = PlanOverrides {
+                    toys: Some(toys),
+                    seed: args.seed,
+                    lee_toys: loaded.scenario.signal_scan().map(|_| 0),
+                    ..PlanOverrides::default()
+                };
+                let settings = projection_settings(&loaded, &overrides)?;
+                check_countable(&loaded, &Model::from_scenario(&loaded.scenario), &settings)?;
+                Some(settings)
+            }
+        };
         let (out, formats) = loaded.output(&args.output)?;
         Ok(LeversOptions {
+            toy_settings,
             settings: projection_settings(&loaded, &overrides)?,
             step: step.unwrap_or(Step::Relative(DEFAULT_LEVER_STEP)),
             steps,

@@ -508,3 +508,145 @@ fn the_two_channel_demo_names_inputs_by_channel_and_writes_its_three_files() {
         "provenance, header, one row per lever"
     );
 }
+
+/// Toy-median days of a `project` projection.json: per target, and to exclusion.
+fn project_toy_days(projection: &Value) -> (Vec<Value>, Value) {
+    let targets = projection["days_to_target"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|row| row["median_days"].clone())
+        .collect();
+    (
+        targets,
+        projection["days_to_exclusion"]["median_days"].clone(),
+    )
+}
+
+#[test]
+fn toy_medians_are_those_of_project_with_the_same_toys_and_seed() {
+    // `--toys` projects the nominal plan and both sides of the three levers
+    // that save most days at the first target as `runcast project --toys N
+    // --seed S` does on the changed scenario: the same code, the same
+    // seeded streams (keyed by seed, ensemble and exposure, never by the
+    // plan's place among the levers) and the same day solver, so the
+    // numbers are equal, not merely close.
+    let scratch = Scratch::new("levers-toys");
+    fs::write(
+        scratch.path.join("plan.yaml"),
+        every_kind_of_input(&BTreeMap::new()),
+    )
+    .unwrap();
+    let toys = ["--toys", "30", "--seed", "11"];
+    let (stdout, document) = levers(&scratch, "plan.yaml", &toys);
+    let inputs: Vec<&str> = document["toys"]["inputs"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|input| input.as_str().unwrap())
+        .collect();
+    let first_three: Vec<&str> = document["levers"].as_array().unwrap()[..3]
+        .iter()
+        .map(|lever| lever["input"].as_str().unwrap())
+        .collect();
+    assert_eq!(inputs, first_three);
+    assert!(
+        stdout.contains(&format!("Toy-median days for: {}", inputs.join(", "))),
+        "{stdout}"
+    );
+    let project = |file: &str| {
+        let mut args = vec!["project", file, "--quiet", "--out", "projected"];
+        args.extend(toys);
+        run_ok(&scratch, &args);
+        project_toy_days(&read_json(&scratch, "projected/projection.json"))
+    };
+    let (targets, exclusion) = project("plan.yaml");
+    assert_eq!(document["toys"]["median_days"], Value::Array(targets));
+    assert_eq!(document["toys"]["exclusion_median_days"], exclusion);
+    for name in inputs {
+        let lever = lever(&document, name);
+        for side in ["improved", "worsened"] {
+            let values = BTreeMap::from([(name.to_string(), number(&lever[side]))]);
+            fs::write(
+                scratch.path.join("changed.yaml"),
+                every_kind_of_input(&values),
+            )
+            .unwrap();
+            let (targets, exclusion) = project("changed.yaml");
+            let what = format!("{name} {side}");
+            assert!(targets.iter().all(Value::is_number), "{what}: {targets:?}");
+            assert_eq!(
+                lever[format!("toy_median_days_{side}")],
+                Value::Array(targets),
+                "{what}"
+            );
+            assert_eq!(
+                lever[format!("exclusion_toy_median_days_{side}")],
+                exclusion,
+                "{what}"
+            );
+        }
+    }
+    // The levers below the first three have no toy-median days.
+    let fourth = &document["levers"][3];
+    assert!(fourth.get("toy_median_days_improved").is_none(), "{fourth}");
+}
+
+#[test]
+fn toy_medians_give_the_same_bytes_on_one_and_two_threads() {
+    let scratch = Scratch::new("levers-toy-threads");
+    let demo = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/scenarios/two_channel_detector.yaml"
+    );
+    for threads in ["1", "2"] {
+        let out = format!("threads-{threads}");
+        run_ok(
+            &scratch,
+            &[
+                "levers",
+                demo,
+                "--toys",
+                "40",
+                "--seed",
+                "3",
+                "--threads",
+                threads,
+                "--quiet",
+                "--out",
+                &out,
+            ],
+        );
+    }
+    for file in ["levers.csv", "levers.json", "levers.svg"] {
+        let one = fs::read(scratch.path.join("threads-1").join(file)).unwrap();
+        let two = fs::read(scratch.path.join("threads-2").join(file)).unwrap();
+        assert!(one == two, "{file} differs between 1 and 2 threads");
+    }
+    let csv = fs::read_to_string(scratch.path.join("threads-1/levers.csv")).unwrap();
+    let header = csv.lines().nth(1).unwrap();
+    assert!(header.contains("toy_median_days_saved_3sigma"), "{header}");
+}
+
+#[test]
+fn toys_without_a_number_or_a_seed_without_toys_are_usage_errors() {
+    let scratch = Scratch::new("levers-toy-usage");
+    fs::write(
+        scratch.path.join("window.yaml"),
+        counting_window(1.0, 10.0, "", "[3]", 1e4),
+    )
+    .unwrap();
+    for (args, expected) in [
+        (vec!["--toys", "0"], "--toys: must be at least 1"),
+        (vec!["--seed", "4"], "--toys"),
+        (vec!["--toys", "20000000"], "pseudo-experiments per point"),
+    ] {
+        let mut all = vec!["levers", "window.yaml", "--quiet", "--out", "out"];
+        all.extend(&args);
+        let output = scratch.run(&all);
+        let stderr = String::from_utf8_lossy(&output.stderr);
+        assert_eq!(output.status.code(), Some(2), "{args:?}: {stderr}");
+        assert!(stderr.contains(expected), "{args:?}: {stderr}");
+        assert!(!scratch.path.join("out").exists(), "{args:?} wrote files");
+    }
+}

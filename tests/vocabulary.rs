@@ -173,7 +173,14 @@ fn every_column_and_key_written_is_documented() {
             "--out",
             "binning",
         ],
-        &["levers", "two_channel_detector.yaml", "--out", "levers"],
+        &[
+            "levers",
+            "two_channel_detector.yaml",
+            "--toys",
+            "20",
+            "--out",
+            "levers",
+        ],
         &[
             "reach",
             "two_volume_line.yaml",

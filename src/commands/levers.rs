@@ -6,9 +6,9 @@ use super::project::{removed_lines, with_threads};
 use crate::cli::LeversArgs;
 use crate::error::Error;
 use crate::options::LeversOptions;
-use crate::progress::plan_progress;
+use crate::progress::{plan_progress, toy_progress};
 use crate::stdout;
-use runcast::levers::{inputs, levers};
+use runcast::levers::{inputs, levers, toy_medians, toy_plans};
 use runcast::report;
 
 pub fn run(args: &LeversArgs) -> Result<(), Error> {
@@ -27,7 +27,17 @@ pub fn run(args: &LeversArgs) -> Result<(), Error> {
         )
     })?;
     bar.finish_and_clear();
-    let levers = computed.map_err(Error::Projection)?;
+    let mut levers = computed.map_err(Error::Projection)?;
+    if let Some(settings) = &options.toy_settings {
+        let plans = toy_plans(&levers).len() as u64;
+        let bar = toy_progress(plans * settings.total_toys(), options.quiet);
+        let progress = |done: u64| bar.inc(done);
+        with_threads(options.threads, || {
+            toy_medians(&mut levers, scenario, settings, &progress)
+        })?
+        .map_err(Error::Projection)?;
+        bar.finish_and_clear();
+    }
     let reports = report::render_levers(&levers, &options.provenance())?;
     let written = report::write_all(
         &options.out,

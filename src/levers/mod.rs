@@ -9,13 +9,20 @@
 //! ln(D_worsened / D_improved) / ln(x_worsened / x_improved); where one side
 //! is invalid or reaches no day, the one-sided difference between the other
 //! side and the nominal point.
+//!
+//! With pseudo-experiments ([`toy_medians`]), the [`TOY_INPUTS`] inputs that
+//! save most days at the first target, both sides, and the nominal plan are
+//! projected again with toys, as `runcast project --toys N --seed S` does
+//! (the same seeded streams and day solver), for their toy-median days.
 
 mod inputs;
 
 pub use inputs::{Better, Input, InputKind, inputs};
 
 use crate::model::Model;
-use crate::projection::{Projection, ProjectionError, ProjectionSettings, project};
+use crate::projection::{
+    DaysToTarget, Projection, ProjectionError, ProjectionSettings, WithheldDay, project,
+};
 use crate::scenario::Scenario;
 use rayon::prelude::*;
 
@@ -73,6 +80,11 @@ pub enum Reach {
     /// Never: systematic uncertainties keep Z_A below the target at any
     /// exposure (`DaysToTarget::never_reached`).
     Never,
+    /// A toy day from too few converged fits (`WithheldDay`): no number.
+    Withheld,
+    /// A global toy-median day of a projection without look-elsewhere
+    /// pseudo-experiments, which it needs.
+    NotComputed,
 }
 
 impl Reach {
@@ -84,43 +96,78 @@ impl Reach {
     }
 }
 
-/// The Asimov days of one plan: per target (and, with a scan, per target
-/// in global significance), and to exclusion.
+/// The days of one plan, Asimov or toy median: per target (and, with a
+/// scan, per target in global significance), and to exclusion.
 #[derive(Debug, Clone, PartialEq)]
-pub struct AsimovDays {
+pub struct PlanDays {
     pub targets: Vec<Reach>,
     /// With a scan: the days in global significance, per target; else empty.
     pub global: Vec<Reach>,
     pub exclusion: Reach,
 }
 
-impl AsimovDays {
+impl PlanDays {
     /// The Asimov days a projection found.
-    pub fn of(projection: &Projection) -> AsimovDays {
-        let local = |days: &crate::projection::DaysToTarget| match days.asimov_days {
-            Some(day) => Reach::Day(day),
-            None if days.never_reached() => Reach::Never,
-            None => Reach::NotWithinGrid,
+    pub fn asimov(projection: &Projection) -> PlanDays {
+        PlanDays::of(projection, false)
+    }
+
+    /// The toy-median days a projection with pseudo-experiments found; a
+    /// day withheld for too few converged fits is [`Reach::Withheld`].
+    pub fn toy_median(projection: &Projection) -> PlanDays {
+        PlanDays::of(projection, true)
+    }
+
+    /// The Asimov days, or with `toys` the toy-median ones.
+    fn of(projection: &Projection, toys: bool) -> PlanDays {
+        let withheld =
+            |key: &str, withheld: &[WithheldDay]| toys && withheld.iter().any(|day| day.day == key);
+        let local = |days: &DaysToTarget| {
+            let day = if toys {
+                days.median_days
+            } else {
+                days.asimov_days
+            };
+            match day {
+                Some(day) => Reach::Day(day),
+                None if withheld("median_days", &days.withheld) => Reach::Withheld,
+                None if days.never_reached() => Reach::Never,
+                None => Reach::NotWithinGrid,
+            }
         };
         let global = projection
             .days_to_target
             .iter()
             .filter_map(|days| {
                 let global = days.global.as_ref()?;
-                Some(match (global.global_asimov_days, local(days)) {
+                let day = if toys {
+                    global.global_median_days
+                } else {
+                    global.global_asimov_days
+                };
+                Some(match (day, local(days)) {
+                    _ if toys && projection.look_elsewhere_toys() == 0 => Reach::NotComputed,
                     (Some(day), _) => Reach::Day(day),
+                    (None, _) if withheld("global_median_days", &days.withheld) => Reach::Withheld,
                     (None, Reach::Never) => Reach::Never,
                     (None, _) => Reach::NotWithinGrid,
                 })
             })
             .collect();
-        AsimovDays {
+        let exclusion = &projection.days_to_exclusion;
+        let exclusion_day = if toys {
+            exclusion.median_days
+        } else {
+            exclusion.asimov_days
+        };
+        PlanDays {
             targets: projection.days_to_target.iter().map(local).collect(),
             global,
-            exclusion: projection
-                .days_to_exclusion
-                .asimov_days
-                .map_or(Reach::NotWithinGrid, Reach::Day),
+            exclusion: match exclusion_day {
+                Some(day) => Reach::Day(day),
+                None if withheld("median_days", &exclusion.withheld) => Reach::Withheld,
+                None => Reach::NotWithinGrid,
+            },
         }
     }
 
@@ -138,7 +185,10 @@ impl AsimovDays {
 #[derive(Debug, Clone, PartialEq)]
 pub struct Side {
     pub value: f64,
-    pub days: Result<AsimovDays, String>,
+    pub days: Result<PlanDays, String>,
+    /// The toy-median days, for the inputs [`toy_medians`] projects with
+    /// pseudo-experiments (a valid side only).
+    pub toy_days: Option<PlanDays>,
 }
 
 /// One input improved and worsened by the step.
@@ -150,10 +200,10 @@ pub struct Lever {
 }
 
 impl Lever {
-    /// d ln(days)/d ln(input) for day `index` of [`AsimovDays::all`], from
+    /// d ln(days)/d ln(input) for day `index` of [`PlanDays::all`], from
     /// the two sides (central difference) or, when one side has no day,
     /// from the other and the nominal point; None when neither has one.
-    pub fn elasticity(&self, baseline: &AsimovDays, index: usize) -> Option<f64> {
+    pub fn elasticity(&self, baseline: &PlanDays, index: usize) -> Option<f64> {
         let point = |side: &Side| {
             let day = side.days.as_ref().ok()?.all()[index].day()?;
             (day > 0.0 && side.value > 0.0).then(|| (side.value.ln(), day.ln()))
@@ -182,9 +232,36 @@ pub struct Levers {
     pub last_day: f64,
     /// True with a scan: global days are given too.
     pub scan: bool,
-    pub baseline: AsimovDays,
+    pub baseline: PlanDays,
     /// Sorted by days saved at the first target, most first (`sort`).
     pub levers: Vec<Lever>,
+    /// The pseudo-experiments of [`toy_medians`], when run.
+    pub toys: Option<ToyMedians>,
+}
+
+/// Inputs that get toy-median days with pseudo-experiments: the first this
+/// many of the sorted levers, those that save most days at the first target.
+pub const TOY_INPUTS: usize = 3;
+
+/// The toy-median projections of the first [`TOY_INPUTS`] levers.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ToyMedians {
+    /// Pseudo-experiments per point and hypothesis, and their seed.
+    pub toys: usize,
+    pub seed: u64,
+    /// The nominal plan's toy-median days.
+    pub baseline: PlanDays,
+}
+
+impl Levers {
+    /// The levers with toy-median days: the first [`TOY_INPUTS`] once
+    /// [`toy_medians`] ran, none before.
+    pub fn with_toys(&self) -> &[Lever] {
+        match self.toys {
+            Some(_) => &self.levers[..TOY_INPUTS.min(self.levers.len())],
+            None => &[],
+        }
+    }
 }
 
 /// The change of one input the user asked for by name.
@@ -199,7 +276,7 @@ pub struct StepFor {
 pub fn asimov_days(
     scenario: &Scenario,
     settings: &ProjectionSettings,
-) -> Result<AsimovDays, ProjectionError> {
+) -> Result<PlanDays, ProjectionError> {
     let settings = ProjectionSettings {
         toys: 0,
         calibration_toys: 0,
@@ -208,7 +285,7 @@ pub fn asimov_days(
         ..settings.clone()
     };
     let projection = project(&Model::from_scenario(scenario), &settings, &|_| {})?;
-    Ok(AsimovDays::of(&projection))
+    Ok(PlanDays::asimov(&projection))
 }
 
 /// Every lever of `scenario`: each input moved by `step` (or by its own
@@ -244,7 +321,11 @@ pub fn levers(
                 Err(invalid) => Err(invalid.to_string()),
             };
             progress(1);
-            Ok(Side { value, days })
+            Ok(Side {
+                value,
+                days,
+                toy_days: None,
+            })
         })
         .collect::<Result<Vec<Side>, ProjectionError>>()?;
     let mut computed = computed.into_iter();
@@ -267,12 +348,100 @@ pub fn levers(
         scan: !baseline.global.is_empty(),
         baseline,
         levers,
+        toys: None,
     })
 }
 
-/// Days saved at day `index` of [`AsimovDays::all`]: nominal less improved
+/// The toy-median days of `scenario` as `runcast project` gives them with
+/// `settings` (its toys and seed), on its own model and scan.
+pub fn toy_median_days(
+    scenario: &Scenario,
+    settings: &ProjectionSettings,
+    progress: &(dyn Fn(u64) + Sync),
+) -> Result<PlanDays, ProjectionError> {
+    let settings = ProjectionSettings {
+        scan: scenario.signal_scan(),
+        ..settings.clone()
+    };
+    let projection = project(&Model::from_scenario(scenario), &settings, progress)?;
+    Ok(PlanDays::toy_median(&projection))
+}
+
+/// The plans [`toy_medians`] projects with pseudo-experiments: the nominal
+/// one (None), then each valid side of the first [`TOY_INPUTS`] levers
+/// (lever index, improved).
+pub fn toy_plans(levers: &Levers) -> Vec<Option<(usize, bool)>> {
+    let sides = levers.levers.iter().take(TOY_INPUTS).enumerate();
+    let sides = sides.flat_map(|(index, lever)| {
+        [(true, &lever.improved), (false, &lever.worsened)]
+            .into_iter()
+            .filter(|(_, side)| side.days.is_ok())
+            .map(move |(improved, _)| Some((index, improved)))
+    });
+    std::iter::once(None).chain(sides).collect()
+}
+
+/// Toy-median days for the nominal plan and both sides of the first
+/// [`TOY_INPUTS`] levers (those saving most days at the first target),
+/// each a projection with pseudo-experiments as `runcast project` runs it
+/// with `settings` (toys, seed, limits; [`toy_median_days`]), in parallel;
+/// `progress` counts their pseudo-experiments. The numbers depend on the
+/// seed only, not on the threads.
+pub fn toy_medians(
+    levers: &mut Levers,
+    scenario: &Scenario,
+    settings: &ProjectionSettings,
+    progress: &(dyn Fn(u64) + Sync),
+) -> Result<(), ProjectionError> {
+    let plans: Vec<(Option<(usize, bool)>, Scenario)> = toy_plans(levers)
+        .into_iter()
+        .filter_map(|plan| match plan {
+            None => Some((plan, scenario.clone())),
+            Some((index, improved)) => {
+                let lever = &levers.levers[index];
+                let side = if improved {
+                    &lever.improved
+                } else {
+                    &lever.worsened
+                };
+                lever
+                    .input
+                    .set(scenario, side.value)
+                    .ok()
+                    .map(|changed| (plan, changed))
+            }
+        })
+        .collect();
+    let computed = plans
+        .par_iter()
+        .map(|(_, scenario)| toy_median_days(scenario, settings, progress))
+        .collect::<Result<Vec<PlanDays>, ProjectionError>>()?;
+    let mut computed = plans.into_iter().map(|(plan, _)| plan).zip(computed);
+    let Some((_, baseline)) = computed.next() else {
+        return Ok(());
+    };
+    for (plan, days) in computed {
+        if let Some((index, improved)) = plan {
+            let lever = &mut levers.levers[index];
+            let side = if improved {
+                &mut lever.improved
+            } else {
+                &mut lever.worsened
+            };
+            side.toy_days = Some(days);
+        }
+    }
+    levers.toys = Some(ToyMedians {
+        toys: settings.toys,
+        seed: settings.seed,
+        baseline,
+    });
+    Ok(())
+}
+
+/// Days saved at day `index` of [`PlanDays::all`]: nominal less improved
 /// when both are days.
-pub fn days_saved(lever: &Lever, baseline: &AsimovDays, index: usize) -> Option<f64> {
+pub fn days_saved(lever: &Lever, baseline: &PlanDays, index: usize) -> Option<f64> {
     let improved = lever.improved.days.as_ref().ok()?.all()[index].day()?;
     Some(baseline.all()[index].day()? - improved)
 }
@@ -280,7 +449,7 @@ pub fn days_saved(lever: &Lever, baseline: &AsimovDays, index: usize) -> Option<
 /// Sorts by days saved at the first target, most first: a lever that makes
 /// a target reachable the nominal plan never reaches comes before every
 /// number, a lever without a number after them (stable, so in scenario order).
-fn sort(levers: &mut [Lever], baseline: &AsimovDays) {
+fn sort(levers: &mut [Lever], baseline: &PlanDays) {
     let key = |lever: &Lever| -> f64 {
         let nominal_missed = baseline.all()[0].day().is_none();
         let improved = lever
@@ -345,7 +514,8 @@ mod tests {
         let reach = day.map_or(Reach::NotWithinGrid, Reach::Day);
         Side {
             value,
-            days: Ok(AsimovDays {
+            toy_days: None,
+            days: Ok(PlanDays {
                 targets: vec![reach],
                 global: Vec::new(),
                 exclusion: reach,

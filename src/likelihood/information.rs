@@ -98,17 +98,46 @@ impl Likelihood<'_> {
         Ok(metric)
     }
 
-    /// d nu_j / d mu of every bin (all channels) with the signal shapes at
-    /// `placement` (their parameters one after the other, channel after
-    /// channel, as for [`Likelihood::place_signal`]), and its derivative as
-    /// those parameters move by `direction` (laid out alike) per unit of a
-    /// path parameter s, written to `template` and `slope`. The yield is
-    /// that of `theta` without the signal strength.
-    pub fn signal_template_along(
+    /// The signal shapes' bin fractions at `placement` (their parameters one
+    /// after the other, channel after channel, as for
+    /// [`Likelihood::place_signal`]) with their gradients in those
+    /// parameters: what [`SignalShapes::template_along`] needs at any exposure.
+    pub fn signal_shapes(&self, placement: &[f64]) -> SignalShapes {
+        let terms = self
+            .signal_placements(placement)
+            .map(|(_, term, shape_parameters)| {
+                let mut fractions = vec![0.0; term.bins];
+                let mut gradient = vec![0.0; shape_parameters.len() * term.bins];
+                term.shape.bin_fractions_with_gradient(
+                    shape_parameters,
+                    term.edges,
+                    &mut fractions,
+                    &mut gradient,
+                );
+                (fractions, gradient)
+            })
+            .collect();
+        SignalShapes { terms }
+    }
+}
+
+/// The signal terms' bin fractions and their gradients at one placement
+/// ([`Likelihood::signal_shapes`]), in the order of the terms.
+pub struct SignalShapes {
+    terms: Vec<(Vec<f64>, Vec<f64>)>,
+}
+
+impl SignalShapes {
+    /// d nu_j / d mu of every bin (all channels) of `likelihood` after
+    /// `live_days` with the signal shapes here, and its derivative as their
+    /// parameters move by `direction` (laid out as the placement) per unit
+    /// of a path parameter s, written to `template` and `slope`. The yield
+    /// is that of `theta` without the signal strength.
+    pub fn template_along(
         &self,
+        likelihood: &Likelihood,
         theta: &[f64],
         live_days: f64,
-        placement: &[f64],
         direction: &[f64],
         template: &mut [f64],
         slope: &mut [f64],
@@ -116,21 +145,18 @@ impl Likelihood<'_> {
         template.fill(0.0);
         slope.fill(0.0);
         let mut offset = 0;
-        for (_, term, shape_parameters) in self.signal_placements(placement) {
-            let direction = &direction[offset..offset + shape_parameters.len()];
-            offset += shape_parameters.len();
+        let terms = likelihood
+            .terms
+            .iter()
+            .filter(|term| term.component.is_signal);
+        for (term, (fractions, gradient)) in terms.zip(&self.terms) {
+            let count = term.fixed_parameters.len();
+            let direction = &direction[offset..offset + count];
+            offset += count;
             let scale = term.component.events(live_days)
                 * product_except(theta, term.yield_parameters, SIGNAL_STRENGTH);
-            let mut fractions = vec![0.0; term.bins];
-            let mut gradient = vec![0.0; shape_parameters.len() * term.bins];
-            term.shape.bin_fractions_with_gradient(
-                shape_parameters,
-                term.edges,
-                &mut fractions,
-                &mut gradient,
-            );
             let range = term.offset..term.offset + term.bins;
-            for (t, f) in template[range.clone()].iter_mut().zip(&fractions) {
+            for (t, f) in template[range.clone()].iter_mut().zip(fractions) {
                 *t += scale * f;
             }
             for (row, &along) in gradient.chunks_exact(term.bins).zip(direction) {

@@ -20,7 +20,7 @@ mod upper_limit;
 
 pub use dataset::Dataset;
 pub use fit::{FitFailure, Fitter};
-pub use information::{MetricFailure, ProfiledMetric};
+pub use information::{MetricFailure, ProfiledMetric, SignalShapes};
 pub use test_statistic::{DiscoveryFit, DiscoveryTest, q0_from_fits};
 pub use upper_limit::{UpperLimitTest, q_tilde_from_fits};
 

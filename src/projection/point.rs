@@ -18,7 +18,9 @@ use crate::limits::{AsymptoticLimits, asymptotic_limits};
 use crate::look_elsewhere::{
     REFERENCE_LEVEL, global_significance, mean_upcrossings, trials_factor,
 };
-use crate::upcrossings::scan_geometry_of;
+use crate::scenario::SignalScan;
+use crate::upcrossings::{scan_geometries, scan_geometry_of, scan_path};
+use std::collections::HashMap;
 
 /// The quantiles reported as bands: the normal-distribution probabilities of
 /// -2, -1, +1 and +2 sigma (common practice).
@@ -98,13 +100,50 @@ impl PointParts {
 pub(super) struct PointRunner<'a, 'l, 'm> {
     likelihood: &'l Likelihood<'m>,
     settings: &'a ProjectionSettings,
+    /// With a scan: N(u0) from the Asimov geometry at the live days (by
+    /// their bits) of the grid and `--at` days, computed together
+    /// ([`scan_geometries`]); None where the geometry is degenerate.
+    reference_upcrossings: HashMap<u64, Option<f64>>,
 }
 
 impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
+    /// The runner of `settings`, with the Asimov geometry of a scan computed
+    /// at once for every grid and `--at` day with live time.
     pub fn new(likelihood: &'l Likelihood<'m>, settings: &'a ProjectionSettings) -> Self {
-        PointRunner {
+        let mut runner = PointRunner {
             likelihood,
             settings,
+            reference_upcrossings: HashMap::new(),
+        };
+        if let Some(scan) = &settings.scan {
+            let live_time = &likelihood.model().live_time;
+            let mut live_days: Vec<f64> = (settings.days.iter().chain(&settings.at_days))
+                .map(|&days| live_time.live_days(days))
+                .filter(|&live_days| live_days > 0.0)
+                .collect();
+            live_days.sort_by(f64::total_cmp);
+            live_days.dedup();
+            let geometries = scan_geometries(likelihood, &scan_path(scan), &live_days);
+            runner.reference_upcrossings = live_days
+                .iter()
+                .zip(geometries)
+                .map(|(live_days, geometry)| {
+                    let upcrossings = geometry.ok().map(|g| g.reference_upcrossings());
+                    (live_days.to_bits(), upcrossings)
+                })
+                .collect();
+        }
+        runner
+    }
+
+    /// N(u0) from the Asimov geometry of `scan` at `live_days`; None where
+    /// the geometry is degenerate.
+    fn reference_upcrossings(&self, scan: &SignalScan, live_days: f64) -> Option<f64> {
+        match self.reference_upcrossings.get(&live_days.to_bits()) {
+            Some(&upcrossings) => upcrossings,
+            None => scan_geometry_of(self.likelihood, scan, live_days)
+                .ok()
+                .map(|geometry| geometry.reference_upcrossings()),
         }
     }
 
@@ -202,9 +241,7 @@ impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
             .map(|count| calibration(count, z_asimov));
         if let Some(scan) = settings.scan.as_ref().filter(|_| parts.global) {
             // A degenerate geometry leaves N(u0) to the toys (see `GlobalSignificance`).
-            let asymptotic = scan_geometry_of(self.likelihood, scan, live_days)
-                .ok()
-                .map(|geometry| geometry.reference_upcrossings());
+            let asymptotic = self.reference_upcrossings(scan, live_days);
             point.global = Some(global(
                 z_asimov,
                 point.z_median,

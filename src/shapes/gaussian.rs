@@ -13,6 +13,10 @@ use std::f64::consts::{PI, SQRT_2};
 /// asymptotic series is exact to double precision.
 const DIRECT_ERFC_LIMIT: f64 = 26.0;
 
+/// exp(x) rounds to 0 below this: exp(-745.14) is half the smallest
+/// subnormal double, 2^-1075 (IEEE 754: 2^-1074 is the smallest).
+const EXPONENT_OF_ZERO: f64 = -746.0;
+
 /// Mass on each side of the mean, in the units of [`Frame::scaled_tail`] when
 /// the range contains the mean (the only case in which it is used).
 const HALF_MASS: f64 = 0.5;
@@ -187,14 +191,26 @@ impl Frame {
         if x < DIRECT_ERFC_LIMIT {
             0.5 * erfc(x) * self.direct_scale
         } else {
-            0.5 * erfc_scaled_asymptotic(x) * self.relative_exponential(z)
+            let relative = self.relative_exponential(z);
+            if relative == 0.0 {
+                // The series is finite and positive: the product is this zero.
+                return 0.0;
+            }
+            0.5 * erfc_scaled_asymptotic(x) * relative
         }
     }
 
-    /// exp(-(z² - z0²) / 2) for |z| >= z0.
+    /// exp(-(z² - z0²) / 2) for |z| >= z0; 0 without calling `exp` below
+    /// [`EXPONENT_OF_ZERO`], where it rounds to 0 anyway (most edges of a
+    /// narrow peak on a wide range lie there, and the library's underflow
+    /// path is slow).
     fn relative_exponential(&self, z: f64) -> f64 {
         let distance = z.abs();
-        (-0.5 * (distance - self.nearest) * (distance + self.nearest)).exp()
+        let exponent = -0.5 * (distance - self.nearest) * (distance + self.nearest);
+        if exponent < EXPONENT_OF_ZERO {
+            return 0.0;
+        }
+        exponent.exp()
     }
 
     /// phi(z) exp(z0² / 2), phi the standard normal density.

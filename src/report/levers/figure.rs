@@ -4,9 +4,12 @@
 //! two arrows leave it: teal to the days with the input improved by the
 //! step, vermilion to the days with it worsened, each labelled with the days
 //! saved or lost. Where a side reaches no day the row says why in words.
+//! With `--toys`, the rows of the inputs that got toy-median days carry a
+//! thin line below their arrows with open circles at the nominal, improved
+//! and worsened toy medians.
 
 use super::{Change, DayName, LEVERS_SVG, day_names, days_change, lost, saved};
-use crate::levers::{Lever, Levers};
+use crate::levers::{Lever, Levers, PlanDays, Reach};
 use crate::report::ReportError;
 use crate::report::kit::axis::{Axis, axis_label, linear_axis};
 use crate::report::kit::figure::{self, Canvas, DrawError, Frame};
@@ -20,6 +23,12 @@ use plotters::style::text_anchor::{HPos, Pos, VPos};
 const ROW: u32 = 40;
 const TITLE: u32 = 60;
 const FOOTER: u32 = 75;
+/// With `--toys`: the extra height of each row for the line of toy
+/// medians below its arrows, and of the footer for the line saying so.
+const TOY_LINE: u32 = 14;
+const FOOTNOTE: u32 = 20;
+/// Pixels from a row's centre down to its line of toy medians.
+const TOY_OFFSET: i32 = 19;
 /// Pixel width of the input names, and of each panel.
 const NAMES: u32 = 330;
 const PANEL: u32 = 330;
@@ -29,7 +38,11 @@ const NAME_LINE: usize = 40;
 pub(super) fn render(levers: &Levers) -> Result<Vec<u8>, ReportError> {
     let names = day_names(levers);
     let width = NAMES + PANEL * names.len() as u32 + 20;
-    let height = TITLE + 60 + ROW * levers.levers.len().max(1) as u32 + FOOTER;
+    let (row, footer) = match levers.toys {
+        Some(_) => (ROW + TOY_LINE, FOOTER + FOOTNOTE),
+        None => (ROW, FOOTER),
+    };
+    let height = TITLE + 60 + row * levers.levers.len().max(1) as u32 + footer;
     figure::svg_bytes(LEVERS_SVG, (width, height), |canvas| {
         draw(canvas, levers, &names, height)
     })
@@ -44,8 +57,13 @@ fn draw(canvas: &Canvas, levers: &Levers, names: &[DayName], height: u32) -> Res
         22,
         (HPos::Left, VPos::Top),
     )?;
+    let footer = if levers.toys.is_some() {
+        FOOTER + FOOTNOTE
+    } else {
+        FOOTER
+    };
     let (_, rest) = canvas.split_vertically(TITLE);
-    let (body, _) = rest.split_vertically(height - TITLE - FOOTER);
+    let (body, _) = rest.split_vertically(height - TITLE - footer);
     let (_, panels) = body.split_horizontally(NAMES);
     let panels = panels.split_evenly((1, names.len()));
     for (index, (panel, name)) in panels.iter().zip(names).enumerate() {
@@ -55,12 +73,24 @@ fn draw(canvas: &Canvas, levers: &Levers, names: &[DayName], height: u32) -> Res
     let first = names
         .first()
         .map_or("exclusion", |name| name.label.as_str());
-    let footnotes = [
+    let mut footnotes = vec![
         format!(
             "Asimov days as runcast project --asimov-only gives them; rows sorted by days saved at {first}; each panel has its own day axis."
         ),
         "Days past the plan's grid, or never reached (Z_A saturates below the target), are said in words; levers.csv and .json hold every number.".to_string(),
     ];
+    if let Some(toys) = &levers.toys {
+        footnotes.push(format!(
+            "Thin line under the first {} rows: toy medians ({} pseudo-experiments per point, seed {}), open circles at the nominal (black), improved (teal) and worsened (vermilion) days.",
+            levers.with_toys().len(),
+            toys.toys,
+            toys.seed
+        ));
+        let global_missing = toys.baseline.global.contains(&Reach::NotComputed);
+        if let Some(line) = footnotes.last_mut().filter(|_| global_missing) {
+            line.push_str(" Global panels have none: no look-elsewhere pseudo-experiments.");
+        }
+    }
     for (line, text) in footnotes.iter().rev().enumerate() {
         draw_footnote_line(canvas, text, line as i32)?;
     }
@@ -149,6 +179,15 @@ fn panel_days(levers: &Levers, name: &DayName) -> Vec<f64> {
         {
             days.extend(side.all()[name.index].day());
         }
+        for side in [&lever.improved.toy_days, &lever.worsened.toy_days]
+            .into_iter()
+            .flatten()
+        {
+            days.extend(side.all()[name.index].day());
+        }
+    }
+    if let Some(toys) = &levers.toys {
+        days.extend(toys.baseline.all()[name.index].day());
     }
     days
 }
@@ -242,6 +281,46 @@ fn draw_panel(
         if let Some(start) = place.start {
             canvas.draw(&Circle::new((start, pixel_y), 5, INK.filled()))?;
         }
+        if row < levers.with_toys().len() {
+            draw_toy_medians(canvas, levers, lever, name, pixel_y + TOY_OFFSET, &pixel_x)?;
+        }
+    }
+    Ok(())
+}
+
+/// The toy medians of one row at pixel height `y`: a thin line from the
+/// nominal toy median to each side's, open circles at the three (black,
+/// teal, vermilion); a side or nominal plan without a toy-median day has
+/// no circle.
+fn draw_toy_medians(
+    canvas: &Canvas,
+    levers: &Levers,
+    lever: &Lever,
+    name: &DayName,
+    y: i32,
+    pixel_x: &dyn Fn(f64) -> i32,
+) -> Result<(), DrawError> {
+    let day = |days: Option<&PlanDays>| days.and_then(|days| days.all()[name.index].day());
+    let nominal = day(levers.toys.as_ref().map(|toys| &toys.baseline)).map(pixel_x);
+    let sides = [
+        (day(lever.improved.toy_days.as_ref()), INK_TEAL),
+        (day(lever.worsened.toy_days.as_ref()), VERMILION),
+    ];
+    for (side, colour) in sides {
+        if let (Some(from), Some(to)) = (nominal, side.map(pixel_x)) {
+            canvas.draw(&PathElement::new(
+                vec![(from, y), (to, y)],
+                colour.stroke_width(1),
+            ))?;
+        }
+    }
+    for (side, colour) in sides {
+        if let Some(at) = side.map(pixel_x) {
+            canvas.draw(&Circle::new((at, y), 4, colour.stroke_width(2)))?;
+        }
+    }
+    if let Some(at) = nominal {
+        canvas.draw(&Circle::new((at, y), 4, INK.stroke_width(2)))?;
     }
     Ok(())
 }

@@ -9,13 +9,18 @@
 //! exclusion_elasticity, (with a scan: global_asimov_days_improved,
 //! global_asimov_days_worsened, global_days_saved, global_elasticity),
 //! reasons}]}` in calendar days, sorted by days saved at the first target.
+//! With `--toys`, also `toys: {toys, seed, inputs, median_days: [...],
+//! exclusion_median_days, global_median_days (with a scan), reasons}` and,
+//! for the levers of `inputs`, `toy_median_days_improved`,
+//! `toy_median_days_worsened`, `toy_days_saved`, `toy_days_lost` (with
+//! `global_` and `exclusion_` in front as above).
 //! A day is null where it is not reached or not computed; `reasons` then
 //! names the key and says why (`"asimov_days_worsened[1]": "unreachable if
 //! worsened"`, `"improved": "not valid: ..."`).
 
 use super::{
     Change, DayName, ELASTICITY_METHOD, LEVERS_JSON, NOT_VALID, day_names, lost, no_day_reason,
-    saved,
+    saved, toy_lost, toy_saved,
 };
 use crate::levers::{Lever, Levers, Reach};
 use crate::report::ReportError;
@@ -137,9 +142,113 @@ fn lever_json(levers: &Levers, lever: &Lever, names: &[DayName]) -> Value {
             elasticity[0].clone()
         };
         object.insert(format!("{prefix}elasticity"), elasticity);
+        if lever.improved.toy_days.is_some() || lever.worsened.toy_days.is_some() {
+            put_toy_days(
+                &mut object,
+                &mut reasons,
+                levers,
+                lever,
+                prefix,
+                group,
+                *array,
+            );
+        }
     }
     object.insert("reasons".into(), Value::Object(reasons));
     Value::Object(object)
+}
+
+/// The toy-median days of a lever's sides (`{prefix}toy_median_days_improved`,
+/// `..._worsened`) and the days they save and lose against the nominal toy
+/// median (`{prefix}toy_days_saved`, `..._lost`).
+fn put_toy_days(
+    object: &mut Map<String, Value>,
+    reasons: &mut Map<String, Value>,
+    levers: &Levers,
+    lever: &Lever,
+    prefix: &str,
+    group: &[&DayName],
+    array: bool,
+) {
+    for (suffix, side) in [
+        ("improved", &lever.improved.toy_days),
+        ("worsened", &lever.worsened.toy_days),
+    ] {
+        put_days(
+            object,
+            reasons,
+            &format!("{prefix}toy_median_days_{suffix}"),
+            group,
+            array,
+            |name| match side {
+                Some(days) => {
+                    let reach = days.all()[name.index];
+                    (reach.day(), no_day_reason(reach, levers.last_day))
+                }
+                None => (None, String::new()),
+            },
+        );
+    }
+    for (key, change) in [
+        (
+            "toy_days_saved",
+            toy_saved as fn(&Levers, &Lever, usize) -> Option<Change>,
+        ),
+        ("toy_days_lost", toy_lost),
+    ] {
+        put_days(
+            object,
+            reasons,
+            &format!("{prefix}{key}"),
+            group,
+            array,
+            |name| match change(levers, lever, name.index) {
+                Some(change) => (change.days(), change.text()),
+                None => (None, String::new()),
+            },
+        );
+    }
+}
+
+/// With `--toys`: the pseudo-experiments, the inputs that got toy-median
+/// days, and the nominal plan's toy-median days.
+fn toys_json(levers: &Levers) -> Option<Value> {
+    let toys = levers.toys.as_ref()?;
+    let days =
+        |reaches: &[Reach]| -> Vec<Option<f64>> { reaches.iter().map(|r| r.day()).collect() };
+    let baseline = &toys.baseline;
+    let mut object = Map::new();
+    object.insert("toys".into(), json!(toys.toys));
+    object.insert("seed".into(), json!(toys.seed));
+    let inputs: Vec<&str> = levers
+        .with_toys()
+        .iter()
+        .map(|lever| lever.input.name.as_str())
+        .collect();
+    object.insert("inputs".into(), json!(inputs));
+    object.insert("median_days".into(), json!(days(&baseline.targets)));
+    object.insert(
+        "exclusion_median_days".into(),
+        json!(baseline.exclusion.day()),
+    );
+    if levers.scan {
+        object.insert("global_median_days".into(), json!(days(&baseline.global)));
+    }
+    object.insert(
+        "reasons".into(),
+        Value::Object(reasons_of(levers, baseline)),
+    );
+    Some(Value::Object(object))
+}
+
+/// Why each day of `days` that has no number has none, by the day's label.
+fn reasons_of(levers: &Levers, days: &crate::levers::PlanDays) -> Map<String, Value> {
+    days.all()
+        .into_iter()
+        .zip(day_names(levers))
+        .filter(|(reach, _)| reach.day().is_none())
+        .map(|(reach, name)| (name.label, json!(no_day_reason(reach, levers.last_day))))
+        .collect()
 }
 
 fn baseline_json(levers: &Levers) -> Value {
@@ -152,21 +261,17 @@ fn baseline_json(levers: &Levers) -> Value {
     if levers.scan {
         object.insert("global_asimov_days".into(), json!(days(&baseline.global)));
     }
-    let reasons: Map<String, Value> = baseline
-        .all()
-        .into_iter()
-        .zip(day_names(levers))
-        .filter(|(reach, _)| reach.day().is_none())
-        .map(|(reach, name)| (name.label, json!(no_day_reason(reach, levers.last_day))))
-        .collect();
-    object.insert("reasons".into(), Value::Object(reasons));
+    object.insert(
+        "reasons".into(),
+        Value::Object(reasons_of(levers, baseline)),
+    );
     Value::Object(object)
 }
 
 /// Pretty-printed JSON of the levers, ending with a newline.
 pub(super) fn render(levers: &Levers) -> Result<Vec<u8>, ReportError> {
     let names = day_names(levers);
-    let document = json!({
+    let mut document = json!({
         "title": levers.title,
         "step": levers.step.to_string(),
         "elasticity_method": ELASTICITY_METHOD,
@@ -174,5 +279,8 @@ pub(super) fn render(levers: &Levers) -> Result<Vec<u8>, ReportError> {
         "baseline": baseline_json(levers),
         "levers": levers.levers.iter().map(|lever| lever_json(levers, lever, &names)).collect::<Vec<Value>>(),
     });
+    if let (Some(toys), Value::Object(document)) = (toys_json(levers), &mut document) {
+        document.insert("toys".into(), toys);
+    }
     json_bytes(LEVERS_JSON, &document)
 }

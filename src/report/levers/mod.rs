@@ -10,10 +10,11 @@ mod summary;
 
 pub use summary::levers_summary;
 
-use super::kit::format::{days_label, rounded, target_label};
+use super::kit::format::{days_label, percent_label, rounded, target_label};
 use super::kit::vocabulary::not_within_grid;
 use super::{Kind, Output, Report, ReportError, render};
-use crate::levers::{Lever, Levers, Reach, days_saved};
+use crate::levers::{Lever, Levers, Reach};
+use crate::projection::MIN_CONVERGED_FRACTION;
 use crate::provenance::Provenance;
 
 /// File name of the levers figure.
@@ -41,7 +42,7 @@ pub fn render_levers(levers: &Levers, provenance: &Provenance) -> Result<Vec<Rep
 }
 
 /// One day every lever changes: a target, a target in global significance
-/// (with a scan), or exclusion, at its index in `AsimovDays::all`.
+/// (with a scan), or exclusion, at its index in `PlanDays::all`.
 struct DayName {
     index: usize,
     /// For people: "3σ", "3σ global", "exclusion".
@@ -50,7 +51,7 @@ struct DayName {
     key: String,
 }
 
-/// The days of [`crate::levers::AsimovDays::all`], named.
+/// The days of [`crate::levers::PlanDays::all`], named.
 fn day_names(levers: &Levers) -> Vec<DayName> {
     let mut names = Vec::new();
     let global = if levers.scan { 2 } else { 1 };
@@ -79,6 +80,13 @@ fn no_day_reason(reach: Reach, last_day: f64) -> String {
         Reach::Day(_) => String::new(),
         Reach::NotWithinGrid => not_within_grid(&days_label(last_day)),
         Reach::Never => "never (Z_A saturates below the target)".into(),
+        Reach::NotComputed => {
+            "not computed (no look-elsewhere pseudo-experiments, as project --lee-toys 0)".into()
+        }
+        Reach::Withheld => format!(
+            "withheld (fewer than {} of the fits converged)",
+            percent_label(MIN_CONVERGED_FRACTION)
+        ),
     }
 }
 
@@ -138,10 +146,7 @@ impl Change {
 
 /// The reach of one side of `lever` at day `index`, or why the side is not
 /// a valid scenario.
-fn side_reach(
-    days: &Result<crate::levers::AsimovDays, String>,
-    index: usize,
-) -> Result<Reach, &str> {
+fn side_reach(days: &Result<crate::levers::PlanDays, String>, index: usize) -> Result<Reach, &str> {
     days.as_ref()
         .map(|days| days.all()[index])
         .map_err(String::as_str)
@@ -149,31 +154,57 @@ fn side_reach(
 
 /// Days saved by improving `lever`, at day `index`.
 fn saved(levers: &Levers, lever: &Lever, index: usize) -> Change {
-    if let Some(days) = days_saved(lever, &levers.baseline, index) {
-        return Change::Days(days);
-    }
     let nominal = levers.baseline.all()[index];
-    match side_reach(&lever.improved.days, index) {
-        Err(reason) => Change::Missing(format!("{NOT_VALID}: {reason}")),
-        Ok(Reach::Day(_)) => Change::ReachableOnlyIfImproved,
-        Ok(reach) => Change::Missing(no_day_reason(
-            if nominal.day().is_some() {
-                reach
-            } else {
-                nominal
-            },
-            levers.last_day,
-        )),
-    }
+    let improved = side_reach(&lever.improved.days, index);
+    saved_between(nominal, improved, levers.last_day)
 }
 
 /// Days lost by worsening `lever`, at day `index`.
 fn lost(levers: &Levers, lever: &Lever, index: usize) -> Change {
     let nominal = levers.baseline.all()[index];
-    match (nominal, side_reach(&lever.worsened.days, index)) {
+    let worsened = side_reach(&lever.worsened.days, index);
+    lost_between(nominal, worsened, levers.last_day)
+}
+
+/// Toy-median days saved by improving `lever`, at day `index`, when its
+/// toy-median days were computed.
+fn toy_saved(levers: &Levers, lever: &Lever, index: usize) -> Option<Change> {
+    let nominal = levers.toys.as_ref()?.baseline.all()[index];
+    let improved = lever.improved.toy_days.as_ref()?.all()[index];
+    Some(saved_between(nominal, Ok(improved), levers.last_day))
+}
+
+/// Toy-median days lost by worsening `lever`, at day `index`, when its
+/// toy-median days were computed.
+fn toy_lost(levers: &Levers, lever: &Lever, index: usize) -> Option<Change> {
+    let nominal = levers.toys.as_ref()?.baseline.all()[index];
+    let worsened = lever.worsened.toy_days.as_ref()?.all()[index];
+    Some(lost_between(nominal, Ok(worsened), levers.last_day))
+}
+
+/// Days saved from `nominal` to `improved` (or why the improved scenario
+/// is not valid).
+fn saved_between(nominal: Reach, improved: Result<Reach, &str>, last_day: f64) -> Change {
+    match (nominal, improved) {
+        (_, Err(reason)) => Change::Missing(format!("{NOT_VALID}: {reason}")),
+        (Reach::Day(nominal), Ok(Reach::Day(improved))) => Change::Days(nominal - improved),
+        (Reach::Day(_), Ok(improved)) => Change::Missing(no_day_reason(improved, last_day)),
+        (Reach::Withheld, Ok(_)) => Change::Missing(no_day_reason(nominal, last_day)),
+        (_, Ok(Reach::Day(_))) => Change::ReachableOnlyIfImproved,
+        (_, Ok(_)) => Change::Missing(no_day_reason(nominal, last_day)),
+    }
+}
+
+/// Days lost from `nominal` to `worsened` (or why the worsened scenario is
+/// not valid).
+fn lost_between(nominal: Reach, worsened: Result<Reach, &str>, last_day: f64) -> Change {
+    match (nominal, worsened) {
         (_, Err(reason)) => Change::Missing(format!("{NOT_VALID}: {reason}")),
         (Reach::Day(nominal), Ok(Reach::Day(worsened))) => Change::Days(worsened - nominal),
+        (Reach::Day(_), Ok(Reach::Withheld)) => {
+            Change::Missing(no_day_reason(Reach::Withheld, last_day))
+        }
         (Reach::Day(_), Ok(_)) => Change::UnreachableIfWorsened,
-        (nominal, Ok(_)) => Change::Missing(no_day_reason(nominal, levers.last_day)),
+        (nominal, Ok(_)) => Change::Missing(no_day_reason(nominal, last_day)),
     }
 }

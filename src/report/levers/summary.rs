@@ -3,8 +3,12 @@
 //! per day, the days saved and lost and the elasticity; the sides that are
 //! not valid scenarios named below the table.
 
-use super::{ELASTICITY_METHOD, NOT_VALID, day_names, lost, no_day_reason, saved};
-use crate::levers::Levers;
+use super::{
+    Change, DayName, ELASTICITY_METHOD, NOT_VALID, day_names, lost, no_day_reason, saved, toy_lost,
+    toy_saved,
+};
+use crate::levers::Reach;
+use crate::levers::{Lever, Levers};
 use crate::report::kit::format::{aligned, days_label, rounded};
 
 /// Saved and lost days, or the words for no number.
@@ -90,8 +94,113 @@ pub fn levers_summary(levers: &Levers) -> String {
         text += "\nNot computed, the changed scenario is not valid:\n";
         text += &invalid.concat();
     }
+    text += &toy_block(levers);
     text += &format!(
         "\nDays saved = nominal − improved, lost = worsened − nominal (calendar days). Elasticity: {ELASTICITY_METHOD}.\nNominal days are rounded up; levers.csv and levers.json keep full precision.\n"
     );
+    text
+}
+
+/// A day, or why there is none, with the change it makes to the nominal
+/// plan's: "40 d (−5.9 d)".
+fn toy_cell(reach: Reach, change: Option<Change>, last_day: f64) -> String {
+    let day = match reach.day() {
+        Some(day) => days_label(day),
+        None => no_day_reason(reach, last_day),
+    };
+    match change {
+        Some(Change::Days(days)) if days.abs() >= 0.01 => {
+            let sign = if days > 0.0 { "+" } else { "−" };
+            format!("{day} ({sign}{})", super::days_change(days.abs()))
+        }
+        Some(Change::ReachableOnlyIfImproved) => format!("{day} (reachable only if improved)"),
+        _ => day,
+    }
+}
+
+/// With `--toys`: the toy-median days of the nominal plan and of both sides
+/// of the inputs that got them, each side's change to the nominal toy
+/// median in brackets (saved days negative, lost days positive).
+fn toy_block(levers: &Levers) -> String {
+    let Some(toys) = &levers.toys else {
+        return String::new();
+    };
+    // Days no plan has a toy median of (the global ones without
+    // look-elsewhere pseudo-experiments) get a sentence, not a column.
+    let (names, not_computed): (Vec<DayName>, Vec<DayName>) = day_names(levers)
+        .into_iter()
+        .partition(|name| toys.baseline.all()[name.index] != Reach::NotComputed);
+    let with_toys = levers.with_toys();
+    let inputs: Vec<&str> = with_toys
+        .iter()
+        .map(|lever| lever.input.name.as_str())
+        .collect();
+    let first = names
+        .first()
+        .map_or("exclusion", |name| name.label.as_str());
+    let mut text = format!(
+        "\nToy-median days for: {} (the {} inputs that save most days at {first}; {} pseudo-experiments per point, seed {}, each as runcast project --toys {} --seed {} gives them)\n\n",
+        inputs.join(", "),
+        with_toys.len(),
+        toys.toys,
+        toys.seed,
+        toys.toys,
+        toys.seed,
+    );
+    let mut header = vec!["plan".to_string()];
+    header.extend(
+        names
+            .iter()
+            .map(|name| format!("{} toy median", name.label)),
+    );
+    let mut rows = vec![header];
+    let mut nominal = vec!["nominal".to_string()];
+    let baseline = toys.baseline.all();
+    nominal.extend(
+        names
+            .iter()
+            .map(|name| toy_cell(baseline[name.index], None, levers.last_day)),
+    );
+    rows.push(nominal);
+    for lever in with_toys {
+        for (side, word, change) in [
+            (
+                &lever.improved,
+                "improved",
+                toy_saved as fn(&Levers, &Lever, usize) -> Option<Change>,
+            ),
+            (&lever.worsened, "worsened", toy_lost),
+        ] {
+            let mut row = vec![format!(
+                "{} {word} to {}",
+                lever.input.name,
+                rounded(side.value)
+            )];
+            match &side.toy_days {
+                Some(days) => row.extend(names.iter().map(|name| {
+                    let change = change(levers, lever, name.index).map(|change| match change {
+                        // Saved days are shown as the shorter run they are.
+                        Change::Days(days) if word == "improved" => Change::Days(-days),
+                        other => other,
+                    });
+                    toy_cell(days.all()[name.index], change, levers.last_day)
+                })),
+                None => row.extend(names.iter().map(|_| NOT_VALID.to_string())),
+            }
+            rows.push(row);
+        }
+    }
+    text += &aligned(&rows);
+    if !not_computed.is_empty() {
+        let labels: Vec<&str> = not_computed
+            .iter()
+            .map(|name| name.label.as_str())
+            .collect();
+        text += &format!(
+            "{} toy median: {}.\n",
+            labels.join(", "),
+            no_day_reason(Reach::NotComputed, levers.last_day)
+        );
+    }
     text
 }
