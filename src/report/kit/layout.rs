@@ -378,6 +378,29 @@ mod tests {
         }));
     }
 
+    /// A band is its filled outline: a label inside it meets it without
+    /// touching an edge, one beside its slanted edge does not, though it
+    /// lies inside the band's bounding box.
+    #[test]
+    fn boxes_meet_a_band_inside_its_outline_only() {
+        let triangle = [(0.0, 0.0), (100.0, 0.0), (0.0, 100.0)];
+        let label = |left: f64, top: f64| PixelBox {
+            left,
+            top,
+            right: left + 10.0,
+            bottom: top + 10.0,
+        };
+        assert!(label(10.0, 10.0).meets_polygon(&triangle));
+        assert!(label(45.0, 45.0).meets_polygon(&triangle));
+        assert!(!label(70.0, 70.0).meets_polygon(&triangle));
+        assert!(!label(120.0, 10.0).meets_polygon(&triangle));
+        let pieces = clip_path(
+            &[(-50.0, 5.0), (50.0, 5.0), (50.0, 200.0)],
+            &label(0.0, 0.0).grown(90.0),
+        );
+        assert_eq!(pieces, vec![vec![(-50.0, 5.0), (50.0, 5.0), (50.0, 100.0)]]);
+    }
+
     #[test]
     fn text_boxes_follow_their_anchor() {
         let text = text_box("3σ: 516 d", 20, (100, 50), Anchor::End, 0.0);

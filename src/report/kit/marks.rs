@@ -299,7 +299,8 @@ where
 }
 
 /// A thin horizontal line of `(dash, gap)` pixels across the plot at
-/// `value`; returns the pixel position of its right end.
+/// `value`, noted in the layout as a curve, so that labels keep off it;
+/// returns the pixel position of its right end.
 pub fn horizontal_line<X, Y>(
     chart: &mut Chart<'_, '_, X, Y>,
     value: f64,
@@ -311,6 +312,7 @@ where
     Y: Ranged<ValueType = f64>,
 {
     let range = chart.x_range();
+    note_curve(chart, &[(range.start, value), (range.end, value)]);
     chart.draw_series(DashedLineSeries::new(
         [(range.start, value), (range.end, value)],
         dash,

@@ -241,26 +241,47 @@ fn draw_global<'a, 'b: 'a>(
 
 /// Markers where the global curves reach each target, labelled "5σ global:
 /// 37 d" below the target line and right of the marker, the median's one row
-/// below the Asimov one.
+/// below the Asimov one, or once "5σ global: 37 d (toys and Asimov)" when
+/// both read the same.
 fn draw_global_days_to_target(
     chart: &mut SignificanceChart,
     labels: &mut CrossingLabels,
     projection: &Projection,
 ) -> Result<(), DrawError> {
-    const ROW: i32 = 18;
+    const ROW: i32 = marks::LABEL_ROW;
     for row in &projection.days_to_target {
         let Some(global) = &row.global else { continue };
+        let label = |days: Option<f64>| {
+            days.map(|days| {
+                format!(
+                    "{} global: {}",
+                    target_label(row.target),
+                    dated_days_label(days, projection.start)
+                )
+            })
+        };
+        let (median, asimov) = marks::merge_coinciding(
+            label(global.global_median_days),
+            label(global.global_asimov_days),
+        );
         let crossings = [
-            (global.global_median_days, (VIOLET, Stroke::Solid), 2 * ROW),
-            (global.global_asimov_days, (PLUM, Stroke::Dashed), ROW),
+            (
+                global.global_median_days,
+                median,
+                (VIOLET, Stroke::Solid),
+                2 * ROW,
+            ),
+            (
+                global.global_asimov_days,
+                asimov,
+                (PLUM, Stroke::Dashed),
+                ROW,
+            ),
         ];
-        for (days, curve, lower) in crossings {
-            let Some(days) = days else { continue };
-            let label = format!(
-                "{} global: {}",
-                target_label(row.target),
-                dated_days_label(days, projection.start)
-            );
+        for (days, label, curve, lower) in crossings {
+            let (Some(days), Some(label)) = (days, label) else {
+                continue;
+            };
             marks::mark_crossing_right(chart, labels, (days, row.target), curve, &label, lower)?;
         }
     }
@@ -344,6 +365,21 @@ mod tests {
             target_label(row.target),
             dated_days_label(row.asimov_days.unwrap(), None)
         );
+        assert!(text.contains(&format!("\n{label} (toys and Asimov)\n</text>")));
+        assert!(!text.contains(&format!("\n{label}\n</text>")));
+    }
+
+    /// The global days of the toy median and of Z_A reading the same: one
+    /// label for both, as for the local ones.
+    #[test]
+    fn coinciding_global_days_get_one_label() {
+        let mut projection = example::with_toys();
+        projection.days_to_target[0].global = Some(crate::projection::GlobalDays {
+            global_asimov_days: Some(37.0),
+            global_median_days: Some(37.0),
+        });
+        let text = svg(&projection);
+        let label = format!("{} global: 37 d", target_label(projection.targets[0]));
         assert!(text.contains(&format!("\n{label} (toys and Asimov)\n</text>")));
         assert!(!text.contains(&format!("\n{label}\n</text>")));
     }
