@@ -223,10 +223,13 @@ pub struct Layout {
     /// Every chart: its plot and the range of its x axis.
     pub charts: Vec<ChartBox>,
     /// Every leader line from a marker to a label placed away from it.
-    pub leaders: Vec<[(f64, f64); 2]>,
+    pub leaders: Vec<Leader>,
     /// Every marker, as its bounding box.
     pub markers: Vec<PixelBox>,
 }
+
+/// A leader line from a marker to its label: its two ends.
+pub type Leader = [(f64, f64); 2];
 
 /// A filled band as drawn: its outline, clipped to `plot`.
 #[derive(Debug, Clone, PartialEq)]

@@ -3,7 +3,7 @@
 //! any x axis.
 
 use super::figure::{Canvas, Chart, DrawError};
-use super::layout::{self, Anchor, PixelBox};
+use super::layout::{self, Anchor, Leader, PixelBox};
 use super::legend::{Legend, Line, Sample};
 use super::palette::{DASH, DOT, LABEL_SIZE, LAVENDER, PALE_LAVENDER, SLATE, text_style};
 use plotters::prelude::*;
@@ -542,7 +542,7 @@ fn place_near(
     preferred: PixelBox,
     marker: (f64, f64),
     radius: f64,
-) -> Option<(PixelBox, Option<[(f64, f64); 2]>)> {
+) -> Option<(PixelBox, Option<Leader>)> {
     let (width, height) = (
         preferred.right - preferred.left,
         preferred.bottom - preferred.top,
