@@ -11,6 +11,7 @@ use clap::{Args, Parser, Subcommand};
 use runcast::calendar::DayArgument;
 use runcast::projection::ShardSpec;
 use runcast::report::{DEFAULT_DPI, DPI_RANGE, FigureFormat};
+use std::ops::Range;
 use std::path::PathBuf;
 
 /// Parses the command line. A request for help or the version prints it and
@@ -69,7 +70,9 @@ pub enum Command {
     ///
     /// Writes spectrum-<D>d.svg and spectrum-<D>d.csv to output/<scenario file stem>/
     /// (or --out); with --days repeated, one figure with the exposures side by side,
-    /// named spectrum-<D1>d-<D2>d.svg. Same seed and days, same pseudo-data.
+    /// named spectrum-<D1>d-<D2>d.svg. Each panel shows the full range and, beside
+    /// it, the signal region (5 widths either side of the signal's peak, or
+    /// --window LO:HI). Same seed and days, same pseudo-data.
     Spectrum(SpectrumArgs),
     /// The reach over signal.scan: expected limits and discovery rates against the position.
     ///
@@ -260,8 +263,33 @@ pub struct SpectrumArgs {
     /// Seed of the pseudo-data (overrides plan.seed); same seed, same spectrum.
     #[arg(long, value_name = "S")]
     pub seed: Option<u64>,
+    /// The signal region drawn beside the full range, in the observable's
+    /// unit (770:795, -5:5), widened to whole bins; default: 5 widths either
+    /// side of the signal's peak. The CSV keeps the full range.
+    #[arg(long, value_name = "LO:HI", allow_hyphen_values = true, value_parser = parse_window)]
+    pub window: Option<Range<f64>>,
     #[command(flatten)]
     pub output: OutputArgs,
+}
+
+/// `--window LO:HI`: two finite numbers, the first below the second.
+fn parse_window(text: &str) -> Result<Range<f64>, String> {
+    const EXPECTED: &str =
+        "expected LO:HI, two numbers in the observable's unit with LO below HI (770:795, -5:5)";
+    let Some((low, high)) = text.split_once(':') else {
+        return Err(EXPECTED.to_string());
+    };
+    let number = |part: &str| {
+        part.trim()
+            .parse::<f64>()
+            .ok()
+            .filter(|value| value.is_finite())
+    };
+    match (number(low), number(high)) {
+        (Some(low), Some(high)) if low < high => Ok(low..high),
+        (Some(_), Some(_)) => Err(format!("LO is not below HI; {EXPECTED}")),
+        _ => Err(EXPECTED.to_string()),
+    }
 }
 
 #[derive(Debug, Args)]

@@ -23,6 +23,7 @@ use runcast::scenario::{Scenario, ScenarioError};
 use runcast::spectrum::largest_expected_count;
 use serde_json::{Map, json};
 use statrs::distribution::{ContinuousCDF, Normal};
+use std::ops::Range;
 use std::path::{Path, PathBuf};
 
 /// Fewest background-only pseudo-experiments `--calibrate` accepts: N toys
@@ -106,6 +107,30 @@ impl Loaded {
                     .map_err(|message| Error::Usage(format!("{flag} {message}")))
             })
             .collect()
+    }
+
+    /// `--window LO:HI` inside the observable range of every channel.
+    fn check_window(&self, window: &Range<f64>) -> Result<(), Error> {
+        let several = self.scenario.channels.len() > 1;
+        for channel in &self.scenario.channels {
+            let [low, high] = channel.observable.range;
+            if window.start < low || window.end > high {
+                let name = if several {
+                    format!("channel {}", channel.name)
+                } else {
+                    channel.name.clone()
+                };
+                return Err(Error::Usage(format!(
+                    "--window {}:{}: expected a region inside the range of {name}, {} to {} {}",
+                    show(window.start),
+                    show(window.end),
+                    show(low),
+                    show(high),
+                    channel.observable.unit
+                )));
+            }
+        }
+        Ok(())
     }
 
     /// The live days after `days` calendar days (`--days`): finite, above
@@ -551,6 +576,8 @@ pub struct SpectrumOptions {
     pub loaded: Loaded,
     /// Calendar days, each with live time, none repeated, in the order given.
     pub days: Vec<f64>,
+    /// `--window`: the signal region drawn, inside every channel's range.
+    pub window: Option<Range<f64>>,
     pub seed: u64,
     pub out: PathBuf,
     pub formats: FigureFormats,
@@ -575,9 +602,13 @@ impl SpectrumOptions {
         let loaded = Loaded::load(&args.scenario)?;
         let days = loaded.calendar_days("--days", &args.days)?;
         loaded.check_exposures(&days)?;
+        if let Some(window) = &args.window {
+            loaded.check_window(window)?;
+        }
         let (out, formats) = loaded.output(&args.output)?;
         Ok(SpectrumOptions {
             days,
+            window: args.window.clone(),
             seed: loaded.seed(args.seed),
             out,
             formats,

@@ -371,3 +371,88 @@ fn many_long_days_give_a_short_file_name() {
     }
     fs::remove_dir_all(&out).unwrap();
 }
+
+/// `--window LO:HI` chooses the signal region drawn beside the full range:
+/// the narrow-peak demo (pair mass 10 to 110 MeV, 0.5 MeV bins) zoomed on
+/// 30.2:39.9 MeV shows 30 to 40 MeV (widened to whole bins), a negative LO
+/// is read as a number, and the CSV keeps the full range, byte for byte.
+#[test]
+fn a_chosen_window_is_drawn_and_leaves_the_table_alone() {
+    let scenario = demo("narrow_peak.yaml");
+    let scenario = scenario.to_str().unwrap();
+    let default = scratch("window-default");
+    let chosen = scratch("window-chosen");
+    for (out, window) in [(&default, None), (&chosen, Some("30.2:39.9"))] {
+        let mut arguments = vec!["spectrum", scenario, "--days", "30"];
+        arguments.extend(
+            window
+                .map(|window| ["--window", window])
+                .into_iter()
+                .flatten(),
+        );
+        arguments.extend(["--out", out.to_str().unwrap()]);
+        succeeds(&arguments);
+    }
+    let read = |dir: &Path, name: &str| fs::read(dir.join(name)).unwrap();
+    assert_eq!(
+        read(&default, "spectrum-30d.csv"),
+        read(&chosen, "spectrum-30d.csv")
+    );
+    let svg = |dir: &Path| String::from_utf8(read(dir, "spectrum-30d.svg")).unwrap();
+    // The default region: 42 ± 5 × 0.6 MeV, 39 to 45 MeV.
+    assert!(svg(&default).contains("Signal region: 39 to 45 MeV"));
+    assert!(svg(&chosen).contains("Signal region: 30 to 40 MeV"));
+
+    let negative = scratch("window-negative");
+    fails_writing_nothing(
+        &[
+            "spectrum",
+            scenario,
+            "--days",
+            "30",
+            "--window",
+            "-5:20",
+            "--out",
+            negative.to_str().unwrap(),
+        ],
+        &negative,
+        "--window -5:20: expected a region inside the range of e+e- pair mass, 10 to 110 MeV",
+    );
+    for dir in [default, chosen] {
+        fs::remove_dir_all(dir).unwrap();
+    }
+}
+
+/// A window that is no LO:HI, is empty or reversed, or leaves the range is a
+/// usage error (exit 2) naming `--window`, with nothing written.
+#[test]
+fn bad_windows_are_refused_before_anything_is_written() {
+    let scenario = demo("faint_line.yaml");
+    let scenario = scenario.to_str().unwrap();
+    let out = scratch("window-refused");
+    let dir = out.to_str().unwrap();
+    for (window, expected) in [
+        (
+            "790",
+            "invalid value '790' for '--window <LO:HI>': expected LO:HI",
+        ),
+        ("790:x", "invalid value '790:x' for '--window <LO:HI>'"),
+        ("790:inf", "invalid value '790:inf' for '--window <LO:HI>'"),
+        ("790:780", "LO is not below HI"),
+        ("790:790", "LO is not below HI"),
+        (
+            "600:700",
+            "--window 600:700: expected a region inside the range",
+        ),
+        (
+            "900:1000",
+            "--window 900:1000: expected a region inside the range",
+        ),
+    ] {
+        let arguments = [
+            "spectrum", scenario, "--days", "30", "--window", window, "--out", dir,
+        ];
+        fails_writing_nothing(&arguments, &out, expected);
+        assert_eq!(runcast(&arguments).status.code(), Some(2), "{window}");
+    }
+}

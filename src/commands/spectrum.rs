@@ -13,7 +13,10 @@ use runcast::spectrum::pseudo_data_spectrum;
 pub fn run(args: &SpectrumArgs) -> Result<(), Error> {
     let options = SpectrumOptions::resolve(args)?;
     print_warnings(&options.loaded);
-    let spectrum = pseudo_data_spectrum(&options.loaded.scenario, &options.days, options.seed);
+    let mut spectrum = pseudo_data_spectrum(&options.loaded.scenario, &options.days, options.seed);
+    if let Some(window) = &options.window {
+        spectrum = spectrum.zoomed_to(window);
+    }
     for exposure in &spectrum.exposures {
         let largest = exposure.largest_expected();
         if largest > MAX_EXPECTED_COUNT_PER_BIN {

@@ -14,7 +14,7 @@ pub use interval::{EXACT_INTERVAL_BELOW, error_bar, garwood_interval, one_sigma_
 
 use crate::ensemble::{Generator, toy_stream};
 use crate::likelihood::{Dataset, DiscoveryTest, Likelihood};
-use crate::model::{Constraint, Model, SIGNAL_STRENGTH};
+use crate::model::{Constraint, Model, SIGNAL_STRENGTH, shape_from_spec};
 use crate::scenario::Scenario;
 use std::ops::Range;
 
@@ -116,13 +116,41 @@ pub struct SpectrumChannel {
     pub bin_width: f64,
     /// Its bins within [`ExposureSpectrum::bins`].
     pub bins: Range<usize>,
+    /// The signal region the figure shows beside the full range, widened
+    /// to whole bins: [`ZOOM_WIDTHS`] widths either side of the signal's
+    /// peak, or the window asked for ([`Spectrum::zoomed_to`]); None when
+    /// the signal has no peak and no window was asked for.
+    pub window: Option<Range<f64>>,
 }
+
+/// Half-width of the default signal region, in widths of the signal's peak
+/// (Gaussian sigma, Breit-Wigner half width) at its position: ±5 widths
+/// hold all but 6e-7 of a Gaussian line.
+pub const ZOOM_WIDTHS: f64 = 5.0;
 
 impl SpectrumChannel {
     /// This channel's bins of `exposure`.
     pub fn bins_of<'e>(&self, exposure: &'e ExposureSpectrum) -> &'e [SpectrumBin] {
         &exposure.bins[self.bins.clone()]
     }
+}
+
+/// `window` widened to the edges of the bins it touches, within `edges`
+/// (ascending); None when it holds no bin.
+fn whole_bins(window: &Range<f64>, edges: &[f64]) -> Option<Range<f64>> {
+    let low = edges.iter().rev().find(|&&edge| edge <= window.start)?;
+    let high = edges.iter().find(|&&edge| edge >= window.end)?;
+    (low < high).then_some(*low..*high)
+}
+
+/// The default signal region of `channel`: its signal's peak ± [`ZOOM_WIDTHS`]
+/// widths, cut to the range and widened to whole bins of `edges`.
+fn signal_region(channel: &crate::scenario::Channel, edges: &[f64]) -> Option<Range<f64>> {
+    let range = channel.observable.range;
+    let peak = shape_from_spec(&channel.signal.shape, range).peak()?;
+    let half = ZOOM_WIDTHS * peak.width;
+    let window = (peak.centre - half).max(range[0])..(peak.centre + half).min(range[1]);
+    whole_bins(&window, edges)
 }
 
 /// Longest file stem of a spectrum named after its days; longer stems fall
@@ -157,6 +185,27 @@ impl Spectrum {
     }
 }
 
+impl Spectrum {
+    /// The spectra with every channel's signal region set to `window`
+    /// (in the observable's unit, inside every channel's range: the
+    /// command line checks it), widened to whole bins.
+    pub fn zoomed_to(mut self, window: &Range<f64>) -> Spectrum {
+        let Some(exposure) = self.exposures.first() else {
+            return self;
+        };
+        for channel in &mut self.channels {
+            let bins = channel.bins_of(exposure);
+            let edges: Vec<f64> = bins
+                .iter()
+                .map(|bin| bin.low)
+                .chain(bins.last().map(|bin| bin.high))
+                .collect();
+            channel.window = whole_bins(window, &edges);
+        }
+        self
+    }
+}
+
 /// The 64-bit FNV-1a hash (Fowler, Noll and Vo; offset basis and prime as published).
 fn fnv1a(bytes: impl Iterator<Item = u8>) -> u64 {
     bytes.fold(0xcbf2_9ce4_8422_2325, |hash, byte| {
@@ -188,6 +237,7 @@ pub fn pseudo_data_spectrum(scenario: &Scenario, days: &[f64], seed: u64) -> Spe
                 unit: channel.observable.unit.clone(),
                 bin_width: channel.observable.bin_width,
                 bins,
+                window: signal_region(channel, &modelled.edges),
             }
         })
         .collect();
@@ -357,6 +407,16 @@ mod tests {
             .map(|bin| bin.signal_plus_background - bin.background)
             .sum();
         assert!((signal - 25.0).abs() < 1e-9, "{signal}");
+    }
+
+    /// The signal region: the peak at 10 ± 5 sigma of 1 on bins of 1 is 5
+    /// to 15; a chosen 5.3 to 7.2 is widened to the bins it touches, 5 to 8.
+    #[test]
+    fn the_signal_region_covers_whole_bins_around_the_peak() {
+        let spectrum = pseudo_data_spectrum(&scenario(), &[10.0], 3);
+        assert_eq!(spectrum.channels[0].window, Some(5.0..15.0));
+        let chosen = spectrum.zoomed_to(&(5.3..7.2));
+        assert_eq!(chosen.channels[0].window, Some(5.0..8.0));
     }
 
     /// A day's spectrum depends on the seed and that day only.

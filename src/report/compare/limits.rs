@@ -12,7 +12,7 @@ use crate::report::kit::dates::dated_days_label;
 use crate::report::kit::figure::{self, Canvas, DrawError, Frame, Page, SIZE};
 use crate::report::kit::format::percent_label;
 use crate::report::kit::legend::Legend;
-use crate::report::kit::marks::{self, Series, Stroke};
+use crate::report::kit::marks::{self, CrossingLabels, Series, Stroke};
 use crate::report::kit::palette::{DOT, SLATE};
 use crate::report::kit::schedule;
 
@@ -91,6 +91,11 @@ fn draw(canvas: &Canvas, comparison: &Comparison, cl: f64) -> Result<(), DrawErr
                 label: format!("{}: asymptotic median", plan.label),
             },
         )?;
+    }
+    let mut labels = CrossingLabels::default();
+    // Labels once every curve is drawn, so that they keep off all of them.
+    for (index, plan) in comparison.plans.iter().enumerate() {
+        let colour = plan_colour(index);
         let exclusion = &plan.projection.days_to_exclusion;
         let label = |days: Option<f64>| {
             days.map(|days| {
@@ -113,7 +118,7 @@ fn draw(canvas: &Canvas, comparison: &Comparison, cl: f64) -> Result<(), DrawErr
             let shift = ROW / 2 + row * ROW;
             marks::mark_crossing(
                 &mut chart,
-                canvas,
+                &mut labels,
                 (days, 1.0),
                 (colour, stroke),
                 &label,
@@ -122,5 +127,6 @@ fn draw(canvas: &Canvas, comparison: &Comparison, cl: f64) -> Result<(), DrawErr
             row += 1;
         }
     }
+    labels.place(canvas)?;
     legend.draw(&page.legend)
 }

@@ -13,7 +13,7 @@ use crate::report::kit::axis::{Axis, days_axis, linear_axis};
 use crate::report::kit::figure::{self, Canvas, DrawError, Frame, Page, SIZE};
 use crate::report::kit::format::target_label;
 use crate::report::kit::legend::{Legend, Line};
-use crate::report::kit::marks::{self, Stroke};
+use crate::report::kit::marks::{self, CrossingLabels, Stroke};
 use crate::report::kit::palette::{DASH, DOT};
 use crate::report::kit::schedule;
 use plotters::style::{Color, RGBColor};
@@ -65,10 +65,17 @@ fn draw(canvas: &Canvas, comparison: &Comparison) -> Result<(), DrawError> {
                     (point.days, value)
                 })
                 .collect();
-            let target = target_label(row.target);
-            let label = format!("{}: {target} ({method})", plan.label);
+            let label = format!("{}: {} ({method})", plan.label, target_label(row.target));
             let line = target_line(slot, colour);
             marks::draw_line(&mut chart, &mut legend, curve, line, Some(label))?;
+        }
+    }
+    let mut labels = CrossingLabels::default();
+    // Labels once every curve is drawn, so that they keep off all of them.
+    for (index, plan) in comparison.plans.iter().enumerate() {
+        let colour = plan_colour(index);
+        for (slot, row) in plan.projection.days_to_target.iter().enumerate() {
+            let target = target_label(row.target);
             if let Some(days) = half_way(row, with_toys) {
                 let shift = 6 + marks::LABEL_ROW * index as i32;
                 let marker = if slot == 0 {
@@ -78,7 +85,7 @@ fn draw(canvas: &Canvas, comparison: &Comparison) -> Result<(), DrawError> {
                 };
                 marks::mark_crossing(
                     &mut chart,
-                    canvas,
+                    &mut labels,
                     (days, 0.5),
                     (colour, marker),
                     &target,
@@ -87,6 +94,7 @@ fn draw(canvas: &Canvas, comparison: &Comparison) -> Result<(), DrawError> {
             }
         }
     }
+    labels.place(canvas)?;
     legend.draw(&page.legend)
 }
 

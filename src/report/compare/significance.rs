@@ -11,7 +11,7 @@ use crate::report::kit::dates::dated_days_label;
 use crate::report::kit::figure::{self, Canvas, DrawError, Frame, Page, SIZE};
 use crate::report::kit::format::target_label;
 use crate::report::kit::legend::Legend;
-use crate::report::kit::marks::{self, Series, Stroke};
+use crate::report::kit::marks::{self, CrossingLabels, Series, Stroke};
 use crate::report::kit::schedule;
 
 /// The significance comparison as SVG bytes.
@@ -66,7 +66,12 @@ fn draw(canvas: &Canvas, comparison: &Comparison) -> Result<(), DrawError> {
                 label: format!("{}: Asimov Z_A", plan.label),
             },
         )?;
-        // Labels stack above the target line, one row per curve and plan.
+    }
+    let mut labels = CrossingLabels::default();
+    // Labels once every curve is drawn, so that they keep off all of them;
+    // they stack above the target line, one row per curve and plan.
+    for (index, plan) in comparison.plans.iter().enumerate() {
+        let colour = plan_colour(index);
         let base = (index * rows_per_plan) as i32;
         for row in &plan.projection.days_to_target {
             let label = |days: Option<f64>| {
@@ -91,7 +96,7 @@ fn draw(canvas: &Canvas, comparison: &Comparison) -> Result<(), DrawError> {
                 let point = (days, row.target);
                 marks::mark_crossing(
                     &mut chart,
-                    canvas,
+                    &mut labels,
                     point,
                     (colour, stroke),
                     &label,
@@ -100,6 +105,7 @@ fn draw(canvas: &Canvas, comparison: &Comparison) -> Result<(), DrawError> {
             }
         }
     }
+    labels.place(canvas)?;
     legend.draw(&page.legend)
 }
 

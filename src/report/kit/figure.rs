@@ -228,7 +228,20 @@ where
         .x_label_area_size(x_labels)
         .y_label_area_size(y_labels)
         .right_y_label_area_size(right_labels);
-    builder.build_cartesian_2d(x, y)
+    let chart = builder.build_cartesian_2d(x, y)?;
+    let (columns, rows) = chart.plotting_area().get_pixel_range();
+    let range = chart.x_range();
+    let drawn = layout::ChartBox {
+        plot: layout::PixelBox {
+            left: f64::from(columns.start),
+            top: f64::from(rows.start),
+            right: f64::from(columns.end),
+            bottom: f64::from(rows.end),
+        },
+        x_range: (range.start, range.end),
+    };
+    layout::note(|layout| layout.charts.push(drawn));
+    Ok(chart)
 }
 
 /// Draws the grid, axes, tick labels and descriptions of `mesh` as `frame`,

@@ -3,7 +3,7 @@
 //! any x axis.
 
 use super::figure::{Canvas, Chart, DrawError};
-use super::layout::{self, Anchor, PixelBox};
+use super::layout::{self, Anchor, Leader, PixelBox};
 use super::legend::{Legend, Line, Sample};
 use super::palette::{DASH, DOT, LABEL_SIZE, LAVENDER, PALE_LAVENDER, SLATE, text_style};
 use plotters::prelude::*;
@@ -114,21 +114,47 @@ where
 }
 
 /// Notes the path of a curve through `points` in the figure's layout, in
-/// canvas pixels.
+/// canvas pixels, cut where it leaves the plot as the drawing is.
 pub fn note_curve<Coordinates>(
     chart: &ChartContext<'_, SVGBackend<'_>, Coordinates>,
     points: &[(f64, f64)],
 ) where
     Coordinates: CoordTranslate<From = (f64, f64)>,
 {
-    let path = points
+    let path = pixel_path(chart, points);
+    let plot = plot_box(chart);
+    layout::note(|layout| layout.curves.extend(layout::clip_path(&path, &plot)));
+}
+
+/// `points` in canvas pixels.
+fn pixel_path<Coordinates>(
+    chart: &ChartContext<'_, SVGBackend<'_>, Coordinates>,
+    points: &[(f64, f64)],
+) -> Vec<(f64, f64)>
+where
+    Coordinates: CoordTranslate<From = (f64, f64)>,
+{
+    points
         .iter()
         .map(|point| {
             let (x, y) = chart.plotting_area().map_coordinate(point);
             (f64::from(x), f64::from(y))
         })
-        .collect();
-    layout::note(|layout| layout.curves.push(path));
+        .collect()
+}
+
+/// The plot of `chart` in canvas pixels.
+pub fn plot_box<Coordinates>(chart: &ChartContext<'_, SVGBackend<'_>, Coordinates>) -> PixelBox
+where
+    Coordinates: CoordTranslate<From = (f64, f64)>,
+{
+    let (x, y) = chart.plotting_area().get_pixel_range();
+    PixelBox {
+        left: f64::from(x.start),
+        top: f64::from(y.start),
+        right: f64::from(x.end),
+        bottom: f64::from(y.end),
+    }
 }
 
 /// Notes the box spanned by `points` as a band or shaded area in the
@@ -139,29 +165,44 @@ pub fn note_area<Coordinates>(
 ) where
     Coordinates: CoordTranslate<From = (f64, f64)>,
 {
-    let pixels = points
+    let pixels = pixel_path(chart, points);
+    let spanned = pixels
         .iter()
-        .map(|point| chart.plotting_area().map_coordinate(point));
-    let spanned = pixels.fold(None, |spanned: Option<PixelBox>, (x, y)| {
-        let (x, y) = (f64::from(x), f64::from(y));
-        Some(match spanned {
-            None => PixelBox {
-                left: x,
-                top: y,
-                right: x,
-                bottom: y,
-            },
-            Some(b) => PixelBox {
-                left: b.left.min(x),
-                top: b.top.min(y),
-                right: b.right.max(x),
-                bottom: b.bottom.max(y),
-            },
-        })
-    });
+        .fold(None, |spanned: Option<PixelBox>, &(x, y)| {
+            Some(match spanned {
+                None => PixelBox {
+                    left: x,
+                    top: y,
+                    right: x,
+                    bottom: y,
+                },
+                Some(b) => PixelBox {
+                    left: b.left.min(x),
+                    top: b.top.min(y),
+                    right: b.right.max(x),
+                    bottom: b.bottom.max(y),
+                },
+            })
+        });
     if let Some(spanned) = spanned {
         layout::note(|layout| layout.areas.push(spanned));
     }
+}
+
+/// Notes the filled band outlined by `outline` in the figure's layout: its
+/// box as [`note_area`] does, and its outline, so that labels keep off it.
+fn note_band<Coordinates>(
+    chart: &ChartContext<'_, SVGBackend<'_>, Coordinates>,
+    outline: &[(f64, f64)],
+) where
+    Coordinates: CoordTranslate<From = (f64, f64)>,
+{
+    note_area(chart, outline);
+    let band = layout::Band {
+        outline: pixel_path(chart, outline),
+        plot: plot_box(chart),
+    };
+    layout::note(|layout| layout.bands.push(band));
 }
 
 /// Notes a marker of `radius` pixels at `point` in the figure's layout.
@@ -210,7 +251,7 @@ where
                     .map(|(x, quantiles)| (*x, quantiles[lower])),
             )
             .collect();
-        note_area(chart, &outline);
+        note_band(chart, &outline);
         chart.draw_series(std::iter::once(Polygon::new(outline, colour.filled())))?;
         legend.add(Sample::Swatch(colour), label);
     }
@@ -258,7 +299,8 @@ where
 }
 
 /// A thin horizontal line of `(dash, gap)` pixels across the plot at
-/// `value`; returns the pixel position of its right end.
+/// `value`, noted in the layout as a curve, so that labels keep off it;
+/// returns the pixel position of its right end.
 pub fn horizontal_line<X, Y>(
     chart: &mut Chart<'_, '_, X, Y>,
     value: f64,
@@ -270,6 +312,7 @@ where
     Y: Ranged<ValueType = f64>,
 {
     let range = chart.x_range();
+    note_curve(chart, &[(range.start, value), (range.end, value)]);
     chart.draw_series(DashedLineSeries::new(
         [(range.start, value), (range.end, value)],
         dash,
@@ -281,14 +324,14 @@ where
 
 /// A marker where a curve crosses a reference line at `(x, value)`, filled
 /// for a solid curve and a ring for a dashed one (a ring around a dot shows
-/// both where they coincide), and `label` in the curve's colour, its top
-/// `shift` pixels below the marker (above it when negative), moved further
-/// that way while it would cover another label ([`draw_label_clear`]); no
-/// label when `label` is empty. The label goes left of the marker, or right
-/// of it when it would leave the plot on the left.
+/// both where they coincide), and `label` in the curve's colour, queued in
+/// `labels` to be placed once everything is drawn ([`CrossingLabels::place`]):
+/// its top `shift` pixels below the marker (above it when negative), left of
+/// the marker, or right of it when it would leave the plot on the left;
+/// elsewhere when that covers something. No label when `label` is empty.
 pub fn mark_crossing<X, Y>(
     chart: &mut Chart<'_, '_, X, Y>,
-    canvas: &Canvas,
+    labels: &mut CrossingLabels,
     point: (f64, f64),
     curve: (RGBColor, Stroke),
     label: &str,
@@ -298,7 +341,7 @@ where
     X: Ranged<ValueType = f64>,
     Y: Ranged<ValueType = f64>,
 {
-    mark_crossing_on(chart, canvas, point, curve, label, shift, false)
+    mark_crossing_on(chart, labels, point, curve, label, shift, false)
 }
 
 /// As [`mark_crossing`], but the label goes right of the marker, or left of
@@ -306,7 +349,7 @@ where
 /// crossing, where the curve has already passed.
 pub fn mark_crossing_right<X, Y>(
     chart: &mut Chart<'_, '_, X, Y>,
-    canvas: &Canvas,
+    labels: &mut CrossingLabels,
     point: (f64, f64),
     curve: (RGBColor, Stroke),
     label: &str,
@@ -316,7 +359,7 @@ where
     X: Ranged<ValueType = f64>,
     Y: Ranged<ValueType = f64>,
 {
-    mark_crossing_on(chart, canvas, point, curve, label, shift, true)
+    mark_crossing_on(chart, labels, point, curve, label, shift, true)
 }
 
 /// The labels of the toy and the Asimov crossing of the same line: where
@@ -337,7 +380,7 @@ pub fn merge_coinciding(
 
 fn mark_crossing_on<X, Y>(
     chart: &mut Chart<'_, '_, X, Y>,
-    canvas: &Canvas,
+    labels: &mut CrossingLabels,
     (x, value): (f64, f64),
     (colour, stroke): (RGBColor, Stroke),
     label: &str,
@@ -348,35 +391,235 @@ where
     X: Ranged<ValueType = f64>,
     Y: Ranged<ValueType = f64>,
 {
-    const GAP: i32 = 8;
     let (marker, radius) = match stroke {
         Stroke::Solid => (Circle::new((x, value), 5, colour.filled()), 5),
         Stroke::Dashed => (Circle::new((x, value), 7, colour.stroke_width(2)), 7),
     };
     note_marker(chart, (x, value), radius);
     chart.draw_series(std::iter::once(marker))?;
-    if label.is_empty() {
-        return Ok(());
+    if !label.is_empty() {
+        labels.pending.push(PendingLabel {
+            text: label.to_string(),
+            colour,
+            marker: chart.backend_coord(&(x, value)),
+            radius,
+            shift,
+            right_first,
+            plot: plot_box(chart),
+        });
     }
-    let plot = chart.plotting_area().get_pixel_range().0;
-    let (pixel_x, pixel_y) = chart.backend_coord(&(x, value));
-    let width = layout::text_width(label, LABEL_SIZE).ceil() as i32;
-    let fits_left = pixel_x - GAP - width >= plot.start;
-    let fits_right = pixel_x.saturating_add(GAP).saturating_add(width) <= plot.end;
-    let go_right = if right_first { fits_right } else { !fits_left };
-    let (horizontal, left) = if go_right {
-        (HPos::Left, pixel_x + GAP)
-    } else {
-        (HPos::Right, pixel_x - GAP)
+    Ok(())
+}
+
+impl CrossingLabels {
+    /// Queues `text` in `colour` for the point `(x, value)` of `chart`
+    /// where no marker is drawn (the end of a line), its top `shift`
+    /// pixels below the point (above it when negative) and its right end
+    /// at the point; placed as the crossing labels are.
+    pub fn label_point<X, Y>(
+        &mut self,
+        chart: &Chart<'_, '_, X, Y>,
+        point: (f64, f64),
+        colour: RGBColor,
+        text: &str,
+        shift: i32,
+    ) where
+        X: Ranged<ValueType = f64>,
+        Y: Ranged<ValueType = f64>,
+    {
+        self.pending.push(PendingLabel {
+            text: text.to_string(),
+            colour,
+            marker: chart.backend_coord(&point),
+            radius: 0,
+            shift,
+            right_first: false,
+            plot: plot_box(chart),
+        });
+    }
+}
+
+/// The labels of a figure's crossing markers, placed last, so that each
+/// keeps off every curve, band and marker of the figure and off the labels
+/// placed before it.
+#[derive(Default)]
+pub struct CrossingLabels {
+    pending: Vec<PendingLabel>,
+}
+
+/// A crossing label waiting to be placed, in canvas pixels.
+struct PendingLabel {
+    text: String,
+    colour: RGBColor,
+    marker: (i32, i32),
+    radius: u32,
+    shift: i32,
+    right_first: bool,
+    plot: PixelBox,
+}
+
+impl CrossingLabels {
+    /// Draws every label in the order they were marked: where
+    /// [`mark_crossing`] meant it to go when that covers nothing drawn,
+    /// else at the nearest free position in the plot ([`place_near`]), with
+    /// a leader line from its marker when that is away from it.
+    pub fn place(self, canvas: &Canvas) -> Result<(), DrawError> {
+        self.pending.iter().try_for_each(|label| label.draw(canvas))
+    }
+}
+
+impl PendingLabel {
+    fn draw(&self, canvas: &Canvas) -> Result<(), DrawError> {
+        const GAP: f64 = 8.0;
+        let (pixel_x, pixel_y) = (f64::from(self.marker.0), f64::from(self.marker.1));
+        let width = layout::text_width(&self.text, LABEL_SIZE);
+        let fits_left = pixel_x - GAP - width >= self.plot.left;
+        let fits_right = pixel_x + GAP + width <= self.plot.right;
+        let go_right = if self.right_first {
+            fits_right
+        } else {
+            !fits_left
+        };
+        let left = if go_right {
+            pixel_x + GAP
+        } else {
+            pixel_x - GAP - width
+        };
+        let top = pixel_y + f64::from(self.shift);
+        let preferred = PixelBox {
+            left,
+            top,
+            right: left + width,
+            bottom: top + f64::from(LABEL_SIZE),
+        };
+        let marker = (pixel_x, pixel_y);
+        let (placed, leader) = place_near(&self.plot, preferred, marker, f64::from(self.radius))
+            // Nowhere free in the plot: where it was meant to go.
+            .unwrap_or((preferred, None));
+        let base = canvas.get_base_pixel();
+        let pixel = |(x, y): (f64, f64)| (x.round() as i32 - base.0, y.round() as i32 - base.1);
+        if let Some([from, to]) = leader {
+            layout::note(|layout| layout.leaders.push([from, to]));
+            canvas.draw(&PathElement::new(
+                vec![pixel(from), pixel(to)],
+                self.colour.stroke_width(1),
+            ))?;
+        }
+        // Text runs narrower than its estimated box: anchored on the side
+        // that faces the marker, it ends where the leader does.
+        let (x, horizontal) = if placed.right <= pixel_x {
+            (placed.right, HPos::Right)
+        } else if placed.left >= pixel_x {
+            (placed.left, HPos::Left)
+        } else {
+            (0.5 * (placed.left + placed.right), HPos::Center)
+        };
+        draw_text(
+            canvas,
+            &self.text,
+            pixel((x, placed.top)),
+            self.colour,
+            LABEL_SIZE,
+            (horizontal, VPos::Top),
+        )
+    }
+}
+
+/// Step between the candidate positions of a label, in pixels.
+const PLACEMENT_STEP: f64 = 6.0;
+/// Clear space kept around a label placed inside a plot, in pixels.
+const LABEL_CLEARANCE: f64 = 2.0;
+
+/// Where a label of the size of `preferred` goes inside `plot`: at
+/// `preferred` if that covers nothing drawn so far, else at the free
+/// position nearest to it on a grid of [`PLACEMENT_STEP`] pixels, with
+/// [`LABEL_CLEARANCE`] around it. A label that ends up away from its marker
+/// at `marker` (of `radius` pixels) gets a leader line from the marker's
+/// edge to the label's nearest edge, returned beside the box. None when no
+/// position inside the plot is free.
+fn place_near(
+    plot: &PixelBox,
+    preferred: PixelBox,
+    marker: (f64, f64),
+    radius: f64,
+) -> Option<(PixelBox, Option<Leader>)> {
+    let (width, height) = (
+        preferred.right - preferred.left,
+        preferred.bottom - preferred.top,
+    );
+    let at = |left: f64, top: f64| PixelBox {
+        left,
+        top,
+        right: left + width,
+        bottom: top + height,
     };
-    draw_label_clear(
-        canvas,
-        label,
-        (left, pixel_y + shift),
-        (colour, LABEL_SIZE),
-        (horizontal, VPos::Top),
-        shift.signum(),
+    let inside = |candidate: &PixelBox| {
+        candidate.left >= plot.left + LABEL_CLEARANCE
+            && candidate.right <= plot.right - LABEL_CLEARANCE
+            && candidate.top >= plot.top + LABEL_CLEARANCE
+            && candidate.bottom <= plot.bottom - LABEL_CLEARANCE
+    };
+    let mut candidates: Vec<PixelBox> =
+        std::iter::once(preferred)
+            .chain(grid(plot.left, plot.right - width).flat_map(|left| {
+                grid(plot.top, plot.bottom - height).map(move |top| at(left, top))
+            }))
+            .filter(inside)
+            .collect();
+    let distance = |candidate: &PixelBox| {
+        (candidate.left - preferred.left).hypot(candidate.top - preferred.top)
+    };
+    candidates.sort_by(|a, b| distance(a).total_cmp(&distance(b)));
+    // Beside its marker a label needs no leader: as far as the preferred
+    // position is, and a row more.
+    let beside = gap_to(&preferred, marker) + f64::from(LABEL_ROW);
+    let leader_to = |chosen: &PixelBox| {
+        let gap = gap_to(chosen, marker);
+        (gap > beside).then(|| {
+            let nearest = nearest_point(chosen, marker);
+            let (ux, uy) = ((nearest.0 - marker.0) / gap, (nearest.1 - marker.1) / gap);
+            let end = gap - LABEL_CLEARANCE;
+            [
+                (marker.0 + ux * radius, marker.1 + uy * radius),
+                (marker.0 + ux * end, marker.1 + uy * end),
+            ]
+        })
+    };
+    layout::with_drawing(|drawn| {
+        candidates.into_iter().find_map(|candidate| {
+            let Some(drawn) = drawn else {
+                return Some((candidate, None));
+            };
+            if drawn.covered(&candidate.grown(LABEL_CLEARANCE)) {
+                return None;
+            }
+            let leader = leader_to(&candidate);
+            match leader {
+                Some([from, to]) if drawn.blocks_leader(from, to) => None,
+                _ => Some((candidate, leader)),
+            }
+        })
+    })
+}
+
+/// The point of `text` nearest to `point`.
+fn nearest_point(text: &PixelBox, point: (f64, f64)) -> (f64, f64) {
+    (
+        point.0.clamp(text.left, text.right),
+        point.1.clamp(text.top, text.bottom),
     )
+}
+
+/// The distance from `point` to the nearest point of `text`.
+fn gap_to(text: &PixelBox, point: (f64, f64)) -> f64 {
+    let nearest = nearest_point(text, point);
+    (nearest.0 - point.0).hypot(nearest.1 - point.1)
+}
+
+/// `from`, `from` + [`PLACEMENT_STEP`], ... up to `to`.
+fn grid(from: f64, to: f64) -> impl Iterator<Item = f64> + Clone {
+    let steps = ((to - from) / PLACEMENT_STEP).floor().max(-1.0) as i64;
+    (0..=steps).map(move |step| from + step as f64 * PLACEMENT_STEP)
 }
 
 /// Height of a row of labels inside a plot, in pixels.
@@ -505,7 +748,16 @@ mod tests {
                 label,
             )?;
             let curve = (INK_TEAL, Stroke::Solid);
-            mark_crossing(&mut chart, canvas, (90.0, 3.0), curve, "3σ at 90 keV", -18)?;
+            let mut labels = CrossingLabels::default();
+            mark_crossing(
+                &mut chart,
+                &mut labels,
+                (90.0, 3.0),
+                curve,
+                "3σ at 90 keV",
+                -18,
+            )?;
+            labels.place(canvas)?;
             legend.draw(&page.legend)?;
             draw_footnote(canvas, "Invented numbers.")
         })

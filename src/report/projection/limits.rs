@@ -23,7 +23,7 @@ use crate::report::kit::dates::dated_days_label;
 use crate::report::kit::figure::{self, Canvas, Chart, DrawError, Frame, Page, SIZE};
 use crate::report::kit::format::percent_label;
 use crate::report::kit::legend::Legend;
-use crate::report::kit::marks::{self, BandPoint, Series, Stroke};
+use crate::report::kit::marks::{self, BandPoint, CrossingLabels, Series, Stroke};
 use crate::report::kit::palette::{DOT, INK_TEAL, LABEL_SIZE, SLATE, VERMILION};
 use crate::report::kit::schedule;
 use plotters::style::text_anchor::{HPos, VPos};
@@ -88,7 +88,9 @@ fn draw(canvas: &Canvas, projection: &Projection, cl: f64) -> Result<(), DrawErr
             label: "Asymptotic median".to_string(),
         },
     )?;
-    draw_days_to_exclusion(&mut chart, canvas, projection)?;
+    let mut labels = CrossingLabels::default();
+    draw_days_to_exclusion(&mut chart, &mut labels, projection)?;
+    labels.place(canvas)?;
     legend.draw(&page.legend)?;
     match footnote {
         Some(text) => marks::draw_footnote(canvas, &text),
@@ -169,7 +171,7 @@ fn draw_nominal_signal(
 /// first.
 fn draw_days_to_exclusion(
     chart: &mut LimitChart,
-    canvas: &Canvas,
+    labels: &mut CrossingLabels,
     projection: &Projection,
 ) -> Result<(), DrawError> {
     const ROW: i32 = marks::LABEL_ROW;
@@ -189,7 +191,7 @@ fn draw_days_to_exclusion(
     for (row, (days, label, curve)) in (0..).zip(reached) {
         marks::mark_crossing(
             chart,
-            canvas,
+            labels,
             (days, 1.0),
             curve,
             &label,

@@ -21,14 +21,13 @@ use crate::report::kit::dates::dated_days_label;
 use crate::report::kit::figure::{self, Canvas, Chart, DrawError, Frame, Page, SIZE};
 use crate::report::kit::format::target_label;
 use crate::report::kit::legend::{Legend, Line};
-use crate::report::kit::marks::{self, BandPoint, Series, Stroke};
+use crate::report::kit::marks::{self, BandPoint, CrossingLabels, Series, Stroke};
 use crate::report::kit::palette::{
     DASH, INK_TEAL, LABEL_SIZE, PLUM, SERIES_COLOURS, VERMILION, VIOLET,
 };
 use crate::report::kit::schedule;
 use plotters::coord::types::RangedCoordf64;
 use plotters::prelude::*;
-use plotters::style::text_anchor::{HPos, VPos};
 
 type SignificanceChart<'a, 'b> = Chart<'a, 'b, DaysCoordinate, RangedCoordf64>;
 
@@ -103,9 +102,11 @@ fn draw(canvas: &Canvas, projection: &Projection) -> Result<(), DrawError> {
     )?;
     draw_channels(&mut chart, &mut legend, projection)?;
     draw_global(&mut chart, &mut legend, projection)?;
-    draw_saturation(&mut chart, canvas, projection, ceiling)?;
-    draw_days_to_target(&mut chart, canvas, projection)?;
-    draw_global_days_to_target(&mut chart, canvas, projection)?;
+    let mut labels = CrossingLabels::default();
+    draw_saturation(&mut chart, &mut labels, projection, ceiling)?;
+    draw_days_to_target(&mut chart, &mut labels, projection)?;
+    draw_global_days_to_target(&mut chart, &mut labels, projection)?;
+    labels.place(canvas)?;
     legend.draw(&page.legend)?;
     match footnote {
         Some(text) => marks::draw_footnote(canvas, &text),
@@ -178,7 +179,7 @@ fn significance_ceiling(projection: &Projection, band: &[BandPoint]) -> f64 {
 /// right of its marker instead.
 fn draw_days_to_target(
     chart: &mut SignificanceChart,
-    canvas: &Canvas,
+    labels: &mut CrossingLabels,
     projection: &Projection,
 ) -> Result<(), DrawError> {
     const ROW: i32 = marks::LABEL_ROW;
@@ -202,7 +203,7 @@ fn draw_days_to_target(
             let (Some(days), Some(label)) = (days, label) else {
                 continue;
             };
-            marks::mark_crossing(chart, canvas, (days, row.target), curve, &label, -raise)?;
+            marks::mark_crossing(chart, labels, (days, row.target), curve, &label, -raise)?;
         }
     }
     Ok(())
@@ -240,37 +241,59 @@ fn draw_global<'a, 'b: 'a>(
 
 /// Markers where the global curves reach each target, labelled "5σ global:
 /// 37 d" below the target line and right of the marker, the median's one row
-/// below the Asimov one.
+/// below the Asimov one, or once "5σ global: 37 d (toys and Asimov)" when
+/// both read the same.
 fn draw_global_days_to_target(
     chart: &mut SignificanceChart,
-    canvas: &Canvas,
+    labels: &mut CrossingLabels,
     projection: &Projection,
 ) -> Result<(), DrawError> {
-    const ROW: i32 = 18;
+    const ROW: i32 = marks::LABEL_ROW;
     for row in &projection.days_to_target {
         let Some(global) = &row.global else { continue };
+        let label = |days: Option<f64>| {
+            days.map(|days| {
+                format!(
+                    "{} global: {}",
+                    target_label(row.target),
+                    dated_days_label(days, projection.start)
+                )
+            })
+        };
+        let (median, asimov) = marks::merge_coinciding(
+            label(global.global_median_days),
+            label(global.global_asimov_days),
+        );
         let crossings = [
-            (global.global_median_days, (VIOLET, Stroke::Solid), 2 * ROW),
-            (global.global_asimov_days, (PLUM, Stroke::Dashed), ROW),
+            (
+                global.global_median_days,
+                median,
+                (VIOLET, Stroke::Solid),
+                2 * ROW,
+            ),
+            (
+                global.global_asimov_days,
+                asimov,
+                (PLUM, Stroke::Dashed),
+                ROW,
+            ),
         ];
-        for (days, curve, lower) in crossings {
-            let Some(days) = days else { continue };
-            let label = format!(
-                "{} global: {}",
-                target_label(row.target),
-                dated_days_label(days, projection.start)
-            );
-            marks::mark_crossing_right(chart, canvas, (days, row.target), curve, &label, lower)?;
+        for (days, label, curve, lower) in crossings {
+            let (Some(days), Some(label)) = (days, label) else {
+                continue;
+            };
+            marks::mark_crossing_right(chart, labels, (days, row.target), curve, &label, lower)?;
         }
     }
     Ok(())
 }
 
 /// When systematic uncertainties cap Z_A within the plotted range, a line at
-/// that saturation value, labelled inside the plot at its right end.
+/// that saturation value, labelled inside the plot above its right end (or
+/// where the labels find room).
 fn draw_saturation(
     chart: &mut SignificanceChart,
-    canvas: &Canvas,
+    labels: &mut CrossingLabels,
     projection: &Projection,
     ceiling: f64,
 ) -> Result<(), DrawError> {
@@ -282,15 +305,12 @@ fn draw_saturation(
     let Some(saturation) = saturation else {
         return Ok(());
     };
-    let (x, y) = marks::horizontal_line(chart, saturation, VERMILION, DASH)?;
-    marks::draw_text(
-        canvas,
-        &format!("Z_A limit {saturation:.2}σ"),
-        (x - 6, y - 4),
-        VERMILION,
-        LABEL_SIZE,
-        (HPos::Right, VPos::Bottom),
-    )
+    marks::horizontal_line(chart, saturation, VERMILION, DASH)?;
+    let right_end = (chart.x_range().end, saturation);
+    let text = format!("Z_A limit {saturation:.2}σ");
+    let raise = i32::try_from(LABEL_SIZE).unwrap_or(0) + 4;
+    labels.label_point(chart, right_end, VERMILION, &text, -raise);
+    Ok(())
 }
 
 /// Footnote text: failed fits when any, or how Asimov-only bands are made.
@@ -345,6 +365,21 @@ mod tests {
             target_label(row.target),
             dated_days_label(row.asimov_days.unwrap(), None)
         );
+        assert!(text.contains(&format!("\n{label} (toys and Asimov)\n</text>")));
+        assert!(!text.contains(&format!("\n{label}\n</text>")));
+    }
+
+    /// The global days of the toy median and of Z_A reading the same: one
+    /// label for both, as for the local ones.
+    #[test]
+    fn coinciding_global_days_get_one_label() {
+        let mut projection = example::with_toys();
+        projection.days_to_target[0].global = Some(crate::projection::GlobalDays {
+            global_asimov_days: Some(37.0),
+            global_median_days: Some(37.0),
+        });
+        let text = svg(&projection);
+        let label = format!("{} global: 37 d", target_label(projection.targets[0]));
         assert!(text.contains(&format!("\n{label} (toys and Asimov)\n</text>")));
         assert!(!text.contains(&format!("\n{label}\n</text>")));
     }

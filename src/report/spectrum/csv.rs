@@ -88,6 +88,7 @@ mod tests {
                 unit: "keV".into(),
                 bin_width: 2.0,
                 bins: 0..1,
+                window: None,
             }],
             seed: 1,
             exposures: vec![ExposureSpectrum {

@@ -1,6 +1,9 @@
 //! `spectrum-<D>d.svg`: pseudo-data spectra, one panel per exposure side by
 //! side, one row of panels per channel (each caption naming its channel when
-//! there are several).
+//! there are several). Each panel shows the full range and, right of it, the
+//! channel's signal region (`SpectrumChannel::window`: a few widths around
+//! the signal's peak, or `--window`), where a narrow line on a wide range is
+//! seen; the full range marks that region with two dotted lines.
 //!
 //! The fit of the pseudo-data (all channels together) is stated once, under
 //! the title; each panel's caption gives its own channel's events and
@@ -18,7 +21,7 @@ use crate::report::kit::figure::{self, Canvas, Chart, DrawError, Frame, LEGEND_W
 use crate::report::kit::format::{exposure_label, number, rounded};
 use crate::report::kit::legend::{Legend, Line, Sample};
 use crate::report::kit::marks;
-use crate::report::kit::palette::{DASH, INK, INK_TEAL, PALE_LAVENDER, SLATE, VERMILION};
+use crate::report::kit::palette::{DASH, DOT, INK, INK_TEAL, PALE_LAVENDER, SLATE, VERMILION};
 use crate::spectrum::{
     EXACT_INTERVAL_BELOW, ExposureSpectrum, Spectrum, SpectrumBin, SpectrumChannel,
 };
@@ -31,6 +34,8 @@ const FILE: &str = "spectrum SVG";
 /// Canvas width of a figure with one exposure, and of each panel when several.
 const SINGLE_WIDTH: u32 = 900;
 const PANEL_WIDTH: u32 = 640;
+/// Width added to each panel for the zoom on the signal region.
+const ZOOM_WIDTH: u32 = 380;
 const HEIGHT: u32 = 720;
 /// Share of a panel's height given to the counts; the rest shows the excess.
 const COUNTS_SHARE: f64 = 0.68;
@@ -50,14 +55,23 @@ type BinChart<'a, 'b> = Chart<'a, 'b, RangedCoordf64, RangedCoordf64>;
 pub(super) fn render(spectrum: &Spectrum) -> Result<Vec<u8>, ReportError> {
     let panels = u32::try_from(spectrum.exposures.len()).unwrap_or(u32::MAX);
     let rows = u32::try_from(spectrum.channels.len()).unwrap_or(u32::MAX);
+    let zoom = if zoomed(spectrum) { ZOOM_WIDTH } else { 0 };
     let width = if panels == 1 {
-        SINGLE_WIDTH
+        SINGLE_WIDTH.saturating_add(zoom)
     } else {
-        PANEL_WIDTH.saturating_mul(panels)
+        PANEL_WIDTH.saturating_add(zoom).saturating_mul(panels)
     }
     .saturating_add(LEGEND_WIDTH);
     let height = HEIGHT.saturating_mul(rows);
     figure::svg_bytes(FILE, (width, height), |canvas| draw(canvas, spectrum))
+}
+
+/// Whether any channel has a signal region to show beside its full range.
+fn zoomed(spectrum: &Spectrum) -> bool {
+    spectrum
+        .channels
+        .iter()
+        .any(|channel| channel.window.is_some())
 }
 
 fn draw(canvas: &Canvas, spectrum: &Spectrum) -> Result<(), DrawError> {
@@ -72,7 +86,13 @@ fn draw(canvas: &Canvas, spectrum: &Spectrum) -> Result<(), DrawError> {
     for (index, panel) in panels.iter().enumerate() {
         let channel = &spectrum.channels[index / columns];
         let exposure = &spectrum.exposures[index % columns];
-        legends.push(draw_panel(panel, channel, exposure, named)?);
+        legends.push(draw_panel(
+            panel,
+            channel,
+            exposure,
+            named,
+            zoomed(spectrum),
+        )?);
     }
     // Every panel draws the same series: the first one's legend serves them all.
     if let Some(legend) = legends.first() {
@@ -126,16 +146,17 @@ fn fit_caption(spectrum: &Spectrum) -> String {
 
 /// One channel at one exposure, and the legend of what it drew; its caption
 /// starts with the channel's name when `named` (several channels) and gives
-/// the channel's own counts and expected signal s and background b.
+/// the channel's own counts and expected signal s and background b. When the
+/// channel has a signal region, the full range on the left and the region on
+/// the right; when only other channels have one (`zoomed`), the full range
+/// keeps the left part so that the panels line up.
 fn draw_panel(
     panel: &Canvas,
     channel: &SpectrumChannel,
     exposure: &ExposureSpectrum,
     named: bool,
+    zoomed: bool,
 ) -> Result<Legend, DrawError> {
-    let (_, height) = panel.dim_in_pixel();
-    let split = (f64::from(height) * COUNTS_SHARE).round() as i32;
-    let (upper, lower) = panel.split_vertically(split);
     let bins = channel.bins_of(exposure);
     let counts: u64 = bins.iter().map(|bin| bin.counts).sum();
     let background: f64 = bins.iter().map(|bin| bin.background).sum();
@@ -158,23 +179,89 @@ fn draw_panel(
     } else {
         exposure_caption
     };
+    let body = figure::titled(panel, &caption, 19)?;
     let mut legend = Legend::default();
-    draw_counts(&upper, &mut legend, channel, bins, fitted, &caption)?;
-    draw_excess(&lower, &mut legend, channel, bins)?;
+    if !zoomed {
+        draw_view(&body, &mut legend, channel, View::full(bins, fitted))?;
+        return Ok(legend);
+    }
+    let (width, _) = body.dim_in_pixel();
+    let (full, zoom) = body.split_horizontally(width.saturating_sub(ZOOM_WIDTH));
+    let mut full_view = View::full(bins, fitted);
+    full_view.caption = Some("Full range".to_string());
+    if let Some(window) = &channel.window {
+        full_view.marked = Some(window.clone());
+        let first = bins.iter().position(|bin| bin.low >= window.start);
+        let last = bins.iter().rposition(|bin| bin.high <= window.end);
+        let inside = first.unwrap_or(0)..last.map_or(bins.len(), |last| last + 1);
+        let region = View {
+            bins: &bins[inside.clone()],
+            fitted: fitted.map(|fitted| &fitted[inside]),
+            caption: Some(format!(
+                "Signal region: {} to {} {}",
+                number(window.start),
+                number(window.end),
+                channel.unit
+            )),
+            marked: None,
+            x_labels: 5,
+        };
+        // The region's series are those of the full range: one legend.
+        draw_view(&zoom, &mut Legend::default(), channel, region)?;
+    }
+    draw_view(&full, &mut legend, channel, full_view)?;
     Ok(legend)
 }
 
+/// What one pair of charts (counts above, excess below) shows.
+struct View<'v> {
+    bins: &'v [SpectrumBin],
+    /// The expected counts at the fit, one per bin of `bins`.
+    fitted: Option<&'v [f64]>,
+    caption: Option<String>,
+    /// The signal region, marked by two dotted lines on the full range.
+    marked: Option<Range<f64>>,
+    /// How many labelled ticks the observable axis has.
+    x_labels: usize,
+}
+
+impl<'v> View<'v> {
+    /// The full range of `bins`, without caption or marks.
+    fn full(bins: &'v [SpectrumBin], fitted: Option<&'v [f64]>) -> View<'v> {
+        View {
+            bins,
+            fitted,
+            caption: None,
+            marked: None,
+            x_labels: 8,
+        }
+    }
+}
+
+/// The counts above and the excess below, in `area`.
+fn draw_view(
+    area: &Canvas,
+    legend: &mut Legend,
+    channel: &SpectrumChannel,
+    view: View,
+) -> Result<(), DrawError> {
+    let (_, height) = area.dim_in_pixel();
+    let split = (f64::from(height) * COUNTS_SHARE).round() as i32;
+    let (upper, lower) = area.split_vertically(split);
+    draw_counts(&upper, legend, channel, &view)?;
+    draw_excess(&lower, legend, channel, &view)
+}
+
 /// The counts: expected background filled, signal + background stepped,
-/// pseudo-data with error bars, and the expected counts at the fit of the
-/// pseudo-data (`fitted`, one per bin) unless it failed.
+/// pseudo-data with error bars, the expected counts at the fit of the
+/// pseudo-data unless it failed, and the signal region's edges when marked.
 fn draw_counts(
     area: &Canvas,
     legend: &mut Legend,
     channel: &SpectrumChannel,
-    bins: &[SpectrumBin],
-    fitted: Option<&[f64]>,
-    caption: &str,
+    view: &View,
 ) -> Result<(), DrawError> {
+    let (bins, fitted) = (view.bins, view.fitted);
     let ceiling = HEADROOM
         * bins
             .iter()
@@ -182,7 +269,7 @@ fn draw_counts(
             .chain(fitted.into_iter().flatten().copied())
             .fold(0.0, f64::max);
     let frame = Frame {
-        caption: Some((caption, 19)),
+        caption: view.caption.as_deref().map(|caption| (caption, 16)),
         margins: [6, 24, 0, 10],
         label_areas: (10, Y_LABEL_AREA, 0),
         text_sizes: TEXT_SIZES,
@@ -193,11 +280,24 @@ fn draw_counts(
         coordinate: linear_axis(observable_range(bins)),
         description: None,
         format: &|_| String::new(),
-        labels: Some(8),
+        labels: Some(view.x_labels),
     };
     let per_bin = format!("Events / {} {}", number(channel.bin_width), channel.unit);
     let y = value_axis(0.0..ceiling, &per_bin);
     let mut chart = figure::chart(area, &frame, x, y)?;
+    if let Some(region) = &view.marked {
+        let edge = Line::Dashed(SLATE.stroke_width(1), DOT);
+        for (index, at) in [region.start, region.end].into_iter().enumerate() {
+            let label = (index == 0).then(|| "Signal region, drawn on the right".to_string());
+            marks::draw_line(
+                &mut chart,
+                legend,
+                vec![(at, 0.0), (at, ceiling)],
+                edge,
+                label,
+            )?;
+        }
+    }
 
     let background = step_outline(bins, |bin| bin.background);
     let mut filled = background.clone();
@@ -253,8 +353,9 @@ fn draw_excess(
     area: &Canvas,
     legend: &mut Legend,
     channel: &SpectrumChannel,
-    bins: &[SpectrumBin],
+    view: &View,
 ) -> Result<(), DrawError> {
+    let bins = view.bins;
     let largest = bins
         .iter()
         .flat_map(|bin| [bin.pull(), bin.expected_pull()])
@@ -273,7 +374,7 @@ fn draw_excess(
         coordinate: linear_axis(observable_range(bins)),
         description: Some(&description),
         format: &axis_label,
-        labels: Some(8),
+        labels: Some(view.x_labels),
     };
     let y = value_axis(-limit..limit, "(n − b)/√b");
     let mut chart = figure::chart(area, &frame, x, y)?;
@@ -406,19 +507,21 @@ mod tests {
             "Pseudo-data",
             "Garwood 1936",
             "Fit of the pseudo-data: 3 d:",
+            "Full range",
+            "Signal region: ",
         ] {
             assert!(text.contains(expected), "missing {expected:?}");
         }
         // Panels give their own numbers; the fit is stated once, above them.
         assert_eq!(text.matches("events; expected s = ").count(), 2);
         assert_eq!(text.matches("μ̂ = ").count(), 2, "one per exposure");
-        assert!(text.starts_with("<svg width=\"1580\" height=\"720\""));
+        assert!(text.starts_with("<svg width=\"2340\" height=\"720\""));
     }
 
     #[test]
     fn one_exposure_fills_the_single_canvas() {
         let text = String::from_utf8(render(&spectrum(&[3.0])).unwrap()).unwrap();
-        assert!(text.starts_with("<svg width=\"1200\" height=\"720\""));
+        assert!(text.starts_with("<svg width=\"1580\" height=\"720\""));
     }
 
     #[test]
