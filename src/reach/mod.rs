@@ -265,6 +265,12 @@ fn signal_rate(scenario: &Scenario) -> (f64, String) {
     }
 }
 
+/// The unit of every rate of the reach of `scenario` ([`Reach::rate_unit`]),
+/// known before anything is fitted: plans compared by their reach must share it.
+pub fn rate_unit(scenario: &Scenario) -> String {
+    signal_rate(scenario).1
+}
+
 /// The scenario's own signal position (its peak's centre).
 fn scan_centre(scenario: &Scenario) -> f64 {
     let shape =
