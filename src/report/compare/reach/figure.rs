@@ -38,13 +38,15 @@ fn line(slot: Option<usize>, colour: RGBColor) -> Line {
     }
 }
 
-/// The curves of one plan: its limit, then each target's global discovery
-/// rate, with their labels; `value` picks the rate or the ratio.
+/// The curves of one plan: its limit and each target's global discovery
+/// rate, as (position, value) where the value is bounded.
 struct Curves {
     limit: Vec<(f64, f64)>,
     global: Vec<Vec<(f64, f64)>>,
 }
 
+/// The curves of the plan at `index`: its rates, or with `ratios` their
+/// ratios to the first plan's.
 fn curves(comparison: &Comparison, index: usize, ratios: bool) -> Curves {
     let points = compared_positions(comparison, &comparison.plans[index]);
     let targets = comparison.first().targets.len();
