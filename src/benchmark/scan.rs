@@ -33,8 +33,8 @@ pub struct ScanBenchmark {
     pub two_channel_failed_fits: usize,
     /// Peak resident memory of one scan ensemble in a child process.
     pub memory: Vec<ScanMemoryProbe>,
-    /// Wall-clock seconds of `runcast reach` on the two-volume reach
-    /// scenario ([`reach_scenario_text`]) as a whole process, each run.
+    /// Wall-clock seconds of `runcast reach` on two volumes of 700 bins over
+    /// 1,400 positions at 3 exposures as a whole process, each run.
     pub reach_process_seconds: Vec<f64>,
 }
 
