@@ -250,6 +250,13 @@ pub struct CompareArgs {
     /// Skip the expected exclusion limits (CLs) and compare-limits.svg.
     #[arg(long)]
     pub no_limits: bool,
+    /// Also compare the plans' reach over signal.scan after D calendar days
+    /// (90, 90d, 26w, 2y or, with schedule.start, a date): the Asimov limit
+    /// and global discovery rates at every position, and their ratio to the
+    /// first plan's (compare-reach.svg, .csv, .json). Every plan needs a scan
+    /// over the same positions with rates in the same unit.
+    #[arg(long, value_name = "D", allow_negative_numbers = true)]
+    pub reach_days: Option<DayArgument>,
 }
 
 #[derive(Debug, Args)]

@@ -136,20 +136,34 @@ impl Loaded {
     /// The live days after `days` calendar days (`--days`): finite, above
     /// zero, and with some live time by then.
     fn live_days(&self, days: f64) -> Result<f64, Error> {
+        self.live_days_of("--days", days)
+    }
+
+    /// [`Loaded::live_days`] of a day given with `flag`, named in the errors.
+    fn live_days_of(&self, flag: &str, days: f64) -> Result<f64, Error> {
         if !(days.is_finite() && days > 0.0) {
             return Err(Error::Usage(format!(
-                "--days {}: expected calendar days above 0",
+                "{flag} {}: expected calendar days above 0",
                 show(days)
             )));
         }
         let live_days = LiveTime::from_schedule(&self.scenario.schedule).live_days(days);
         if live_days <= 0.0 {
             return Err(Error::Usage(format!(
-                "--days {}: the schedule gives no live time by then (live days {live_days})",
+                "{flag} {}: the schedule gives no live time by then (live days {live_days})",
                 show(days)
             )));
         }
         Ok(live_days)
+    }
+
+    /// The calendar days of `compare --reach-days` in this plan (a date
+    /// counted from its own `schedule.start`), with live time by then.
+    pub fn reach_days(&self, day: &DayArgument) -> Result<f64, Error> {
+        let flag = "--reach-days";
+        let days = self.calendar_days(flag, std::slice::from_ref(day))?[0];
+        self.live_days_of(flag, days)?;
+        Ok(days)
     }
 
     /// A list of `--days`: each with live time by then ([`Loaded::live_days`]),

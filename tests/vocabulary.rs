@@ -103,7 +103,7 @@ fn every_column_and_key_written_is_documented() {
         let entry = entry.unwrap();
         fs::copy(entry.path(), scratch.path.join(entry.file_name())).unwrap();
     }
-    let runs: [&[&str]; 9] = [
+    let runs: [&[&str]; 10] = [
         &[
             "project",
             "unknown_line.yaml",
@@ -189,6 +189,16 @@ fn every_column_and_key_written_is_documented() {
             "--out",
             "volumes",
         ],
+        &[
+            "compare",
+            "two_volume_line.yaml",
+            "two_volume_line_inner.yaml",
+            "--asimov-only",
+            "--reach-days",
+            "30",
+            "--out",
+            "compare_scans",
+        ],
     ];
     for args in runs {
         let output = scratch.run(args);
@@ -201,7 +211,16 @@ fn every_column_and_key_written_is_documented() {
     let lists = documented();
     let mut checked = 0;
     for folder in [
-        "scan", "channels", "dated", "reach", "compare", "spectrum", "binning", "levers", "volumes",
+        "scan",
+        "channels",
+        "dated",
+        "reach",
+        "compare",
+        "spectrum",
+        "binning",
+        "levers",
+        "volumes",
+        "compare_scans",
     ] {
         for entry in fs::read_dir(scratch.path.join(folder)).unwrap() {
             let path = entry.unwrap().path();

@@ -361,29 +361,47 @@ fn time_background_only(likelihood: &Likelihood, toys: usize) -> (Timing, usize)
 /// Wall-clock seconds of `runcast project FILE --asimov-only` on the 200-bin
 /// model over 100 exposure points, from process start to exit, `repeats` times.
 fn time_asimov_process(repeats: usize) -> Result<Vec<f64>, BenchmarkError> {
+    time_process(
+        &models::scenario_text(200, 100),
+        "project",
+        &["--asimov-only"],
+        repeats,
+    )
+}
+
+/// Wall-clock seconds of `runcast COMMAND FILE ARGUMENTS --quiet --out DIR`
+/// on a scenario file holding `scenario`, from process start to exit,
+/// `repeats` times, in a temporary folder removed afterwards.
+fn time_process(
+    scenario: &str,
+    command: &str,
+    arguments: &[&str],
+    repeats: usize,
+) -> Result<Vec<f64>, BenchmarkError> {
     let directory = std::env::temp_dir().join(format!("runcast-bench-{}", std::process::id()));
     let io = |what: &str| {
         let what = format!("{what} {}", directory.display());
         move |source| BenchmarkError::Io { what, source }
     };
     std::fs::create_dir_all(&directory).map_err(io("create"))?;
-    let scenario = directory.join("asimov.yaml");
-    std::fs::write(&scenario, models::scenario_text(200, 100)).map_err(io("write into"))?;
+    let file = directory.join("scenario.yaml");
+    std::fs::write(&file, scenario).map_err(io("write into"))?;
     let program = memory::current_program()?;
     let mut seconds = Vec::with_capacity(repeats);
     for _ in 0..repeats {
         let start = Instant::now();
         let output = Command::new(&program)
-            .arg("project")
-            .arg(&scenario)
-            .args(["--asimov-only", "--quiet", "--out"])
+            .arg(command)
+            .arg(&file)
+            .args(arguments)
+            .args(["--quiet", "--out"])
             .arg(directory.join("out"))
             .output()
-            .map_err(io("run the Asimov projection in"))?;
+            .map_err(io(&format!("run runcast {command} in")))?;
         seconds.push(start.elapsed().as_secs_f64());
         if !output.status.success() {
             return Err(BenchmarkError::Child {
-                command: "runcast project --asimov-only".into(),
+                command: format!("runcast {command} {}", arguments.join(" ")),
                 message: String::from_utf8_lossy(&output.stderr).trim().to_string(),
             });
         }

@@ -33,6 +33,9 @@ pub struct ScanBenchmark {
     pub two_channel_failed_fits: usize,
     /// Peak resident memory of one scan ensemble in a child process.
     pub memory: Vec<ScanMemoryProbe>,
+    /// Wall-clock seconds of `runcast reach` on two volumes of 700 bins over
+    /// 1,400 positions at 3 exposures as a whole process, each run.
+    pub reach_process_seconds: Vec<f64>,
 }
 
 /// Peak resident memory of one ensemble of `toys` scans over `positions`.
@@ -99,6 +102,60 @@ fn two_channel_scan_scenario() -> Result<Scenario, BenchmarkError> {
         channel("second")
     );
     Ok(Scenario::from_yaml(&text)?)
+}
+
+/// Bins per channel of the reach row.
+pub const REACH_BINS_PER_CHANNEL: usize = 700;
+
+/// Positions of the reach row.
+pub const REACH_POSITIONS: usize = 1_400;
+
+/// The exposures of the reach row, in calendar days.
+pub const REACH_DAYS: [&str; 3] = ["182", "365", "730"];
+
+/// Two volumes of [`REACH_BINS_PER_CHANNEL`] bins (5 kg and 12 kg, falling
+/// continua with 5% normalisation uncertainties, resolutions growing with
+/// the position) seeing one line per kg·day with a 10% yield uncertainty,
+/// scanned at [`REACH_POSITIONS`] positions: the run request of a
+/// two-volume line search at its full size.
+fn reach_scenario_text() -> String {
+    let width = 1400.0 / REACH_BINS_PER_CHANNEL as f64;
+    let step = 1200.0 / (REACH_POSITIONS - 1) as f64;
+    let channel = |name: &str,
+                   mass: u32,
+                   efficiency: f64,
+                   resolution: &str,
+                   rate: f64,
+                   slope: f64| {
+        format!(
+            "  - name: {name}\n    observable: {{name: energy, unit: keV, range: [0.0, 1400.0], bin_width: {width}}}\n    \
+             detector: {{mass_kg: {mass}}}\n    signal_efficiency: {efficiency}\n    resolution: {resolution}\n    \
+             backgrounds:\n      - {{name: {name} continuum, events_per_kg_day: {rate}, shape: {{exponential: {{slope: {slope}}}}}, \
+             norm_uncertainty: 0.05}}\n"
+        )
+    };
+    format!(
+        "title: benchmark reach of a line in two volumes (invented numbers)\n\
+         signal:\n  events_per_kg_day: 0.02\n  shape: {{gaussian: {{mean: 640.0}}}}\n  \
+         scan: {{from: 100.0, to: 1300.0, step: {step}}}\n  yield_uncertainty: 0.1\nchannels:\n{}{}\
+         schedule: {{live_fraction: 0.9}}\nplan: {{days: [10, 730], toys: 10, seed: 20261204, targets: [3, 5]}}\n",
+        channel(
+            "inner",
+            5,
+            0.9,
+            "{stochastic: 0.3, constant: 0.005, noise: 1.5}",
+            2.0,
+            -0.002
+        ),
+        channel(
+            "outer",
+            12,
+            0.75,
+            "{points: [[100.0, 2.5], [1000.0, 9.0]]}",
+            8.0,
+            -0.003
+        ),
+    )
 }
 
 /// Runs `toys` background-only scans over `positions` of the 200-bin model
@@ -177,7 +234,23 @@ pub fn run_scan(
         ));
         memory.push(probe_in_child(positions, toys)?);
     }
+    step(&format!(
+        "reach, Asimov only, 2 channels x {REACH_BINS_PER_CHANNEL} bins, {REACH_POSITIONS} positions, {} exposures, 2 threads, as a whole process",
+        REACH_DAYS.len()
+    ));
+    let mut arguments = Vec::new();
+    for day in REACH_DAYS {
+        arguments.extend(["--days", day]);
+    }
+    arguments.extend(["--threads", "2"]);
+    let reach_process_seconds = super::time_process(
+        &reach_scenario_text(),
+        "reach",
+        &arguments,
+        length.repeats(),
+    )?;
     Ok(ScanBenchmark {
+        reach_process_seconds,
         positions: POSITIONS,
         two_threads,
         failed_fits,

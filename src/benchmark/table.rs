@@ -96,7 +96,8 @@ pub fn render(report: &BenchmarkReport) -> String {
     text
 }
 
-/// The look-elsewhere rows: the scan rate and the peak memory of scans.
+/// The look-elsewhere rows: the scan rates, the reach as a whole process
+/// and the peak memory of scans.
 pub fn render_scan(scan: &ScanBenchmark) -> String {
     let mut text = String::new();
     let timing = scan.two_threads;
@@ -124,6 +125,18 @@ pub fn render_scan(scan: &ScanBenchmark) -> String {
         timing.per_second(),
         (timing.toys * (scan.positions + 1)) as f64 / timing.seconds,
         scan.two_channel_failed_fits
+    );
+    let seconds = &scan.reach_process_seconds;
+    let fastest = seconds.iter().copied().fold(f64::INFINITY, f64::min);
+    let _ = writeln!(
+        text,
+        "reach, Asimov only, 2 channels x {} bins, {} positions, {} exposures, 2 threads, whole process: \
+         fastest {:.2} s of {}",
+        super::scan::REACH_BINS_PER_CHANNEL,
+        super::scan::REACH_POSITIONS,
+        super::scan::REACH_DAYS.len(),
+        fastest,
+        seconds.len()
     );
     let _ = writeln!(text, "peak resident memory of scans (child process):");
     for probe in &scan.memory {
@@ -198,6 +211,7 @@ mod tests {
                     toys: 100,
                     peak_bytes: 7_200_000,
                 }],
+                reach_process_seconds: vec![2.5, 2.25],
             },
         };
         let text = render(&report);
@@ -230,6 +244,12 @@ mod tests {
         );
         assert!(
             text.contains(" 1000 positions x    100 toys:     7.2 MB"),
+            "{text}"
+        );
+        assert!(
+            text.contains(
+                "1400 positions, 3 exposures, 2 threads, whole process: fastest 2.25 s of 2"
+            ),
             "{text}"
         );
     }

@@ -58,6 +58,10 @@ pub struct Likelihood<'m> {
     /// The parameters of each floating scale-free shape, whose common scale
     /// the gauge term fixes (see [`Likelihood::gauge_terms`]).
     gauges: Vec<Vec<usize>>,
+    /// The bin fractions of each fixed term (zeros for a floating one), as
+    /// every workspace starts: computed once here, copied by
+    /// [`Likelihood::workspace`], since a scan or reach makes many.
+    initial_fractions: Vec<Vec<f64>>,
 }
 
 /// Per-thread scratch space: nothing in the fit loop allocates.
@@ -144,12 +148,25 @@ impl<'m> Likelihood<'m> {
             .filter_map(|term| term.floating)
             .map(|parameters| floated(parameters).map(|(_, p)| p).collect())
             .collect();
+        let initial_fractions = terms
+            .iter()
+            .map(|term| {
+                let mut fractions = vec![0.0; term.bins];
+                if term.floating.is_none() {
+                    term.shape
+                        .bin_fractions(term.fixed_parameters, term.edges, &mut fractions);
+                    raise_underflow(&mut fractions);
+                }
+                fractions
+            })
+            .collect();
         Likelihood {
             model,
             terms,
             bins: offset,
             columns,
             gauges,
+            initial_fractions,
         }
     }
 
@@ -164,19 +181,7 @@ impl<'m> Likelihood<'m> {
     /// A workspace with the fixed-shape fractions already computed.
     pub fn workspace(&self) -> Workspace {
         let parameters = self.parameter_count();
-        let fractions = self
-            .terms
-            .iter()
-            .map(|term| {
-                let mut fractions = vec![0.0; term.bins];
-                if term.floating.is_none() {
-                    term.shape
-                        .bin_fractions(term.fixed_parameters, term.edges, &mut fractions);
-                    raise_underflow(&mut fractions);
-                }
-                fractions
-            })
-            .collect();
+        let fractions = self.initial_fractions.clone();
         let fraction_gradients = self
             .terms
             .iter()

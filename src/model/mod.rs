@@ -80,6 +80,15 @@ pub struct Channel {
     pub components: Vec<Component>,
 }
 
+impl Channel {
+    /// True when the channel expects some signal at nominal rates.
+    pub fn sees_signal(&self) -> bool {
+        self.components
+            .iter()
+            .any(|component| component.is_signal && component.events_per_live_day > 0.0)
+    }
+}
+
 /// A constraint term on one nuisance parameter, with its global observable.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Constraint {
@@ -213,13 +222,13 @@ impl Model {
     /// Expected events per live day at nominal parameters outside any
     /// period, split into (signal, background).
     pub fn nominal_rates(&self) -> (f64, f64) {
-        self.nominal_split(|component| component.events_per_live_day)
+        self.nominal_split(|component| component.events_per_live_day, |_| true)
     }
 
     /// Expected events after `live_days` at nominal parameters, each
     /// component through its exposure, split into (signal, background).
     pub fn nominal_events(&self, live_days: f64) -> (f64, f64) {
-        self.nominal_split(|component| component.events(live_days))
+        self.nominal_split(|component| component.events(live_days), |_| true)
     }
 
     /// sqrt(b)/s for the expected signal s and background b after
@@ -229,19 +238,32 @@ impl Model {
     /// infinite when no signal is expected. Searches for a signal strength
     /// start from it, since a peak on a broad background or systematic
     /// uncertainties change it by a modest factor only, while a huge or tiny
-    /// signal changes it by many decades.
+    /// signal changes it by many decades. Only channels that expect some
+    /// signal count: a channel of signal efficiency 0 measures backgrounds
+    /// as a control region does, and must start no search elsewhere than
+    /// that control region would (the searches stop within a relative
+    /// 1e-7 of the root, so another start moves a result by up to that).
     pub fn counting_sigma(&self, live_days: f64) -> f64 {
-        let (signal, background) = self.nominal_events(live_days);
+        let (signal, background) = self.nominal_split(
+            |component| component.events(live_days),
+            Channel::sees_signal,
+        );
         background.max(1.0).sqrt() / signal
     }
 
-    /// The sums over signal and over background components of `events`, each
-    /// times the component's nominal yield factors.
-    fn nominal_split(&self, events: impl Fn(&Component) -> f64) -> (f64, f64) {
+    /// The sums over signal and over background components of `events` in
+    /// the channels `counted` keeps, each times the component's nominal
+    /// yield factors.
+    fn nominal_split(
+        &self,
+        events: impl Fn(&Component) -> f64,
+        counted: impl Fn(&Channel) -> bool,
+    ) -> (f64, f64) {
         let nominal = self.nominal_parameters();
         let mut signal = 0.0;
         let mut background = 0.0;
-        for component in self.channels.iter().flat_map(|c| &c.components) {
+        let channels = self.channels.iter().filter(|channel| counted(channel));
+        for component in channels.flat_map(|c| &c.components) {
             let factor: f64 = component
                 .yield_parameters
                 .iter()

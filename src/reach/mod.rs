@@ -163,11 +163,13 @@ pub fn reach(
     let model = Model::from_scenario(scenario);
     let (rate, rate_unit) = signal_rate(scenario);
     let live_time = &model.live_time;
-    let exposures = settings
+    // The geometry of every exposure first (each on its own thread), then
+    // every position with all exposures, so that each position's models are
+    // built once and no thread waits at the end of an exposure.
+    let geometries = settings
         .days
-        .iter()
-        .enumerate()
-        .map(|(index, &days)| {
+        .par_iter()
+        .map(|&days| {
             let live_days = live_time.live_days(days);
             let geometry = geometry_at(&model, &scan, live_days)?;
             let global_local_targets: Vec<f64> = settings
@@ -175,35 +177,55 @@ pub fn reach(
                 .iter()
                 .map(|&target| geometry.local_significance_for(target))
                 .collect();
-            let positions = scan
-                .positions()
-                .collect::<Vec<f64>>()
-                .par_iter()
-                .map(|&position| {
-                    let moved = Model::from_scenario(&scenario.with_signal_at(&scan, position));
+            Ok((live_days, geometry, global_local_targets))
+        })
+        .collect::<Result<Vec<_>, ReachError>>()?;
+    let by_position = scan
+        .positions()
+        .collect::<Vec<f64>>()
+        .par_iter()
+        .map(|&position| {
+            let moved = Model::from_scenario(&scenario.with_signal_at(&scan, position));
+            let likelihood = Likelihood::new(&moved);
+            let several = moved.channels.len() > 1;
+            let alone: Vec<Option<Model>> = (0..moved.channels.len())
+                .map(|channel| {
+                    let blind = scenario.channels[channel].signal.events_per_day == 0.0;
+                    (several && !blind).then(|| moved.channel_alone(channel))
+                })
+                .collect();
+            let alone_likelihoods: Vec<Option<Likelihood>> = alone
+                .iter()
+                .map(|model| model.as_ref().map(Likelihood::new))
+                .collect();
+            geometries
+                .iter()
+                .enumerate()
+                .map(|(index, (live_days, _, global_local_targets))| {
                     let runner = PositionRunner {
-                        likelihood: Likelihood::new(&moved),
+                        likelihood: &likelihood,
                         settings,
-                        live_days,
+                        live_days: *live_days,
                         exposure_index: index,
                         rate,
                     };
                     let mut result = runner.reach(
                         position,
                         scan.width_at(0, position),
-                        &global_local_targets,
+                        global_local_targets,
                         progress,
                     )?;
-                    if moved.channels.len() > 1 {
-                        result.channels = (0..moved.channels.len())
-                            .map(|channel| {
+                    if several {
+                        result.channels = alone_likelihoods
+                            .iter()
+                            .enumerate()
+                            .map(|(channel, alone)| {
                                 let width = scan.width_at(channel, position);
-                                if scenario.channels[channel].signal.events_per_day == 0.0 {
+                                let Some(alone) = alone else {
                                     return Ok(ChannelReach::blind(width, settings.targets.len()));
-                                }
-                                let alone = moved.channel_alone(channel);
+                                };
                                 let runner = PositionRunner {
-                                    likelihood: Likelihood::new(&alone),
+                                    likelihood: alone,
                                     ..runner
                                 };
                                 runner.channel_alone(position, width)
@@ -213,17 +235,34 @@ pub fn reach(
                     progress(1);
                     Ok(result)
                 })
-                .collect::<Result<Vec<_>, _>>()?;
-            Ok(ExposureReach {
+                .collect::<Result<Vec<_>, ReachError>>()
+        })
+        .collect::<Result<Vec<_>, _>>()?;
+    let mut positions: Vec<Vec<PositionReach>> = geometries
+        .iter()
+        .map(|_| Vec::with_capacity(by_position.len()))
+        .collect();
+    for exposures in by_position {
+        for (exposure, result) in positions.iter_mut().zip(exposures) {
+            exposure.push(result);
+        }
+    }
+    let exposures = settings
+        .days
+        .iter()
+        .zip(geometries)
+        .zip(positions)
+        .map(
+            |((&days, (live_days, geometry, global_local_targets)), positions)| ExposureReach {
                 days,
                 live_days,
                 mean_upcrossings_asimov: geometry.reference_upcrossings(),
                 reference_level: REFERENCE_LEVEL,
                 global_local_targets,
                 positions,
-            })
-        })
-        .collect::<Result<Vec<_>, _>>()?;
+            },
+        )
+        .collect();
     Ok(Reach {
         title: scenario.title.clone(),
         seed: settings.seed,
@@ -265,6 +304,12 @@ fn signal_rate(scenario: &Scenario) -> (f64, String) {
     }
 }
 
+/// The unit of every rate of the reach of `scenario` ([`Reach::rate_unit`]),
+/// known before anything is fitted: plans compared by their reach must share it.
+pub fn rate_unit(scenario: &Scenario) -> String {
+    signal_rate(scenario).1
+}
+
 /// The scenario's own signal position (its peak's centre).
 fn scan_centre(scenario: &Scenario) -> f64 {
     let shape =
@@ -283,8 +328,9 @@ pub fn geometry_at(
 }
 
 /// Everything at one position and exposure.
-struct PositionRunner<'m, 's> {
-    likelihood: Likelihood<'m>,
+#[derive(Clone, Copy)]
+struct PositionRunner<'l, 'm, 's> {
+    likelihood: &'l Likelihood<'m>,
     settings: &'s ReachSettings,
     live_days: f64,
     exposure_index: usize,
@@ -292,7 +338,7 @@ struct PositionRunner<'m, 's> {
     rate: f64,
 }
 
-impl PositionRunner<'_, '_> {
+impl PositionRunner<'_, '_, '_> {
     fn reach(
         &self,
         position: f64,
@@ -309,10 +355,10 @@ impl PositionRunner<'_, '_> {
             }
         };
         let alpha = 1.0 - self.settings.cl;
-        let limits = asymptotic_limits(&self.likelihood, self.live_days, alpha)
+        let limits = asymptotic_limits(self.likelihood, self.live_days, alpha)
             .map_err(failed("asymptotic limit"))?;
         let as_rate = |mu: f64| mu.is_finite().then_some(mu * self.rate);
-        let mut discovery = DiscoveryTest::new(&self.likelihood);
+        let mut discovery = DiscoveryTest::new(self.likelihood);
         let mut rate_for = |z: f64| {
             self.discovery_strength(&mut discovery, z)
                 .map(|mu| mu.map(|mu| mu * self.rate))
@@ -338,7 +384,7 @@ impl PositionRunner<'_, '_> {
                         progress,
                     };
                     let outcome = toy_limit_ensemble(
-                        &self.likelihood,
+                        self.likelihood,
                         self.live_days,
                         self.exposure_index,
                         &plan,
@@ -373,9 +419,9 @@ impl PositionRunner<'_, '_> {
                 failure,
             }
         };
-        let limits = asymptotic_limits(&self.likelihood, self.live_days, 1.0 - self.settings.cl)
+        let limits = asymptotic_limits(self.likelihood, self.live_days, 1.0 - self.settings.cl)
             .map_err(failed("asymptotic limit of one channel"))?;
-        let mut discovery = DiscoveryTest::new(&self.likelihood);
+        let mut discovery = DiscoveryTest::new(self.likelihood);
         let discovery_rate_local = self
             .settings
             .targets

@@ -210,19 +210,39 @@ fn every_figure_of_every_demo_keeps_its_text_clear() {
     assert_clear(&figures);
 }
 
+/// The demo `file` as a plan of a comparison, with its reach after
+/// `reach_days` when asked for.
+fn compared_plan(
+    demos: &[(String, Scenario)],
+    file: &str,
+    reach_days: Option<f64>,
+) -> ComparedPlan {
+    let (_, scenario) = demos.iter().find(|(name, _)| name == file).unwrap();
+    ComparedPlan {
+        file: file.to_string(),
+        label: scenario.title.clone(),
+        projection: projection_of(scenario, 0),
+        reach: reach_days.map(|days| {
+            let settings = ReachSettings {
+                days: vec![days],
+                cl: scenario.plan.cl,
+                targets: scenario.plan.targets.clone(),
+                toys: 0,
+                seed: 3,
+            };
+            reach(scenario, &settings, &|_| {}).unwrap()
+        }),
+    }
+}
+
 #[test]
 fn the_comparison_of_two_demos_keeps_its_text_clear() {
     let demos = demos();
-    let plan = |file: &str| {
-        let (_, scenario) = demos.iter().find(|(name, _)| name == file).unwrap();
-        ComparedPlan {
-            file: file.to_string(),
-            label: scenario.title.clone(),
-            projection: projection_of(scenario, 0),
-        }
-    };
     let comparison = Comparison {
-        plans: vec![plan("narrow_peak.yaml"), plan("narrow_peak_upgrade.yaml")],
+        plans: vec![
+            compared_plan(&demos, "narrow_peak.yaml", None),
+            compared_plan(&demos, "narrow_peak_upgrade.yaml", None),
+        ],
     };
     let figures = figures_of(|| super::render_comparison(&comparison, &provenance()));
     assert_eq!(figures.len(), 3);
@@ -338,4 +358,18 @@ fn a_narrow_line_on_a_wide_range_shows_in_the_zoom() {
         "no chart shows the line: {:?}",
         layout.charts
     );
+}
+
+#[test]
+fn the_reach_comparison_of_the_two_volume_demos_keeps_its_text_clear() {
+    let demos = demos();
+    let comparison = Comparison {
+        plans: vec![
+            compared_plan(&demos, "two_volume_line.yaml", Some(365.25)),
+            compared_plan(&demos, "two_volume_line_inner.yaml", Some(365.25)),
+        ],
+    };
+    let figures = figures_of(|| super::render_comparison(&comparison, &provenance()));
+    assert_eq!(figures.len(), 4);
+    assert_clear(&figures);
 }

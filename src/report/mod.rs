@@ -35,7 +35,8 @@ pub use binning::{BINNING_FILES, BINNING_JSON, BINNING_SVG, binning_table, rende
 pub use check::check_summary;
 pub use compare::{
     COMPARE_CSV, COMPARE_FILES, COMPARE_JSON, COMPARE_LIMITS_SVG, COMPARE_PROBABILITY_SVG,
-    COMPARE_SVG, ComparedPlan, Comparison, comparison_table, render_comparison,
+    COMPARE_REACH_CSV, COMPARE_REACH_JSON, COMPARE_REACH_SVG, COMPARE_SVG, ComparedPlan,
+    Comparison, comparison_table, render_comparison,
 };
 pub use convert::{DEFAULT_DPI, DPI_RANGE, FigureFormat, FigureFormats};
 pub use error::ReportError;

@@ -1,4 +1,7 @@
-//! `compare.csv`: one row per plan and target, then one per plan for the
+//! `compare.csv`: one row per plan and target (`days_to_target`), then, when
+//! a plan scans the signal position, one per plan and target in global
+//! significance (`global_days_to_target`: the look-elsewhere effect
+//! included; empty for a plan without a scan), then one per plan for the
 //! exclusion of the nominal signal: calendar days by the Asimov dataset and
 //! by the toy median, and their difference to the first plan (negative:
 //! sooner). Numbers are lossless; an empty cell is a value not reached
@@ -50,6 +53,29 @@ pub(super) fn render(comparison: &Comparison) -> Result<Vec<u8>, ReportError> {
                 reference,
                 with_dates,
             ));
+        }
+    }
+    if comparison.with_scan() {
+        let global = |plan: &super::ComparedPlan, slot: usize| -> Days {
+            plan.projection.days_to_target[slot]
+                .global
+                .as_ref()
+                .map_or((None, None), |global| {
+                    (global.global_asimov_days, global.global_median_days)
+                })
+        };
+        for (slot, row) in first.days_to_target.iter().enumerate() {
+            let reference = global(&comparison.plans[0], slot);
+            for plan in &comparison.plans {
+                rows.push(cells(
+                    plan,
+                    "global_days_to_target",
+                    number(row.target),
+                    global(plan, slot),
+                    reference,
+                    with_dates,
+                ));
+            }
         }
     }
     if first.cl.is_some() {

@@ -2,13 +2,15 @@
 //! `runcast project` does, on one page. `significance.rs` (`compare.svg`,
 //! median expected significance against calendar days), `probability.rs`
 //! (`compare-probability.svg`), `limits.rs` (`compare-limits.svg`, only with
-//! limits), `csv.rs`, `json.rs`, and `table.rs` for the terminal. One colour
-//! per plan throughout.
+//! limits), `csv.rs`, `json.rs`, and `table.rs` for the terminal; with scan
+//! plans compared at one exposure (`--reach-days`), `reach/`
+//! (`compare-reach.svg`, `.csv`, `.json`). One colour per plan throughout.
 
 mod csv;
 mod json;
 mod limits;
 mod probability;
+mod reach;
 mod significance;
 mod table;
 
@@ -19,6 +21,7 @@ use super::{Kind, Output, Render, Report, ReportError, render};
 use crate::message::{show, show_list};
 use crate::projection::{Projection, RateStretch};
 use crate::provenance::Provenance;
+use crate::reach::Reach;
 use crate::report::kit::axis::DayScale;
 use crate::report::kit::palette::SERIES_COLOURS;
 use crate::scenario::Spacing;
@@ -35,22 +38,33 @@ pub const COMPARE_LIMITS_SVG: &str = "compare-limits.svg";
 pub const COMPARE_CSV: &str = "compare.csv";
 /// File name of the comparison as JSON.
 pub const COMPARE_JSON: &str = "compare.json";
+/// File name of the reach comparison (only with `--reach-days`).
+pub const COMPARE_REACH_SVG: &str = "compare-reach.svg";
+/// File name of the reach comparison's table.
+pub const COMPARE_REACH_CSV: &str = "compare-reach.csv";
+/// File name of the reach comparison as JSON.
+pub const COMPARE_REACH_JSON: &str = "compare-reach.json";
 /// Every file `render_comparison` can give: the output set of `runcast compare`.
-pub const COMPARE_FILES: [&str; 5] = [
+pub const COMPARE_FILES: [&str; 8] = [
     COMPARE_SVG,
     COMPARE_PROBABILITY_SVG,
     COMPARE_LIMITS_SVG,
     COMPARE_CSV,
     COMPARE_JSON,
+    COMPARE_REACH_SVG,
+    COMPARE_REACH_CSV,
+    COMPARE_REACH_JSON,
 ];
 
 /// One run plan of a comparison: the file it came from, its name in the
-/// legend and tables, and its projection.
+/// legend and tables, its projection and, when the plans' reach is
+/// compared, its reach at that one exposure.
 #[derive(Debug, Clone)]
 pub struct ComparedPlan {
     pub file: String,
     pub label: String,
     pub projection: Projection,
+    pub reach: Option<Reach>,
 }
 
 /// Several run plans sharing targets and confidence level, the first being
@@ -73,6 +87,12 @@ impl Comparison {
 
     fn with_toys(&self) -> bool {
         self.first().toys > 0
+    }
+
+    /// True when some plan scans the signal position: its days in global
+    /// significance are compared too.
+    fn with_scan(&self) -> bool {
+        self.plans.iter().any(|plan| plan.projection.scan.is_some())
     }
 
     /// The day axis of the figures: linear when every plan's grid asks for
@@ -135,9 +155,17 @@ pub fn render_comparison(
         Some(output(COMPARE_CSV, Kind::Table, csv::render)),
         Some(output(COMPARE_JSON, Kind::Document, json::render)),
     ];
+    let with_reach = comparison.plans[0].reach.is_some();
+    let reach_outputs = [
+        output(COMPARE_REACH_SVG, Kind::Figure, reach::figure::render),
+        output(COMPARE_REACH_CSV, Kind::Table, reach::csv::render),
+        output(COMPARE_REACH_JSON, Kind::Document, reach::json::render),
+    ];
+    let reach_outputs = reach_outputs.iter().filter(|_| with_reach);
     let outputs: Vec<&dyn Render> = outputs
         .iter()
         .flatten()
+        .chain(reach_outputs)
         .map(|output| output as &dyn Render)
         .collect();
     render(&outputs, provenance)
@@ -183,6 +211,56 @@ fn check_comparison(comparison: &Comparison) -> Result<(), ReportError> {
             (projection.toys > 0) == (reference.toys > 0),
         )?;
         check_projection(projection)?;
+        check_reach(index, plan, first)?;
+    }
+    Ok(())
+}
+
+/// With reaches, every plan has one, at one exposure, over the first plan's
+/// positions and in its rate unit.
+fn check_reach(index: usize, plan: &ComparedPlan, first: &ComparedPlan) -> Result<(), ReportError> {
+    let invalid = |name: &str, value: String, expected: &'static str| {
+        Err(ReportError::InvalidProjection {
+            field: format!("plans[{index}].reach{name}"),
+            value,
+            expected,
+        })
+    };
+    let (reach, reference) = match (&plan.reach, &first.reach) {
+        (None, None) => return Ok(()),
+        (Some(reach), Some(reference)) => (reach, reference),
+        (reach, _) => {
+            let value = if reach.is_some() { "a reach" } else { "none" };
+            return invalid("", value.to_string(), "a reach for every plan or none");
+        }
+    };
+    if reach.exposures.len() != 1 {
+        return invalid(
+            ".exposures",
+            reach.exposures.len().to_string(),
+            "one exposure",
+        );
+    }
+    let positions = |reach: &Reach| -> Vec<f64> {
+        reach.exposures[0]
+            .positions
+            .iter()
+            .map(|p| p.position)
+            .collect()
+    };
+    if positions(reach) != positions(reference) {
+        return invalid(
+            ".positions",
+            format!("{} positions", reach.exposures[0].positions.len()),
+            "the first plan's positions",
+        );
+    }
+    if reach.rate_unit != reference.rate_unit {
+        return invalid(
+            ".rate_unit",
+            reach.rate_unit.clone(),
+            "the first plan's unit",
+        );
     }
     Ok(())
 }
@@ -237,6 +315,7 @@ pub(crate) mod tests {
             file: file.to_string(),
             label: label.to_string(),
             projection,
+            reach: None,
         };
         Comparison {
             plans: vec![
@@ -251,7 +330,7 @@ pub(crate) mod tests {
         for toys in [false, true] {
             let reports = render_comparison(&two_plans(toys), &example::provenance()).unwrap();
             let names: Vec<&str> = reports.iter().map(|report| report.name.as_str()).collect();
-            assert_eq!(names, COMPARE_FILES);
+            assert_eq!(names, COMPARE_FILES[..5]);
             for report in &reports {
                 assert!(!report.bytes.is_empty());
             }

@@ -1,13 +1,16 @@
 //! The terminal table of a comparison: one row per plan; per target the
-//! calendar days by the Asimov dataset and by the toy median, then the days
-//! to exclusion (with limits), and the difference to the first plan in days
-//! (toy median with pseudo-experiments, else Asimov; negative: sooner).
+//! calendar days by the Asimov dataset and by the toy median, then, when a
+//! plan scans the signal position, the same days in global significance
+//! (look-elsewhere effect included; "—" for a plan without a scan), then the
+//! days to exclusion (with limits), each with the difference to the first
+//! plan in days (toy median with pseudo-experiments, else Asimov; negative:
+//! sooner).
 
 use super::Comparison;
 use crate::calendar::CalendarDate;
 use crate::report::kit::dates::dated_days_label;
 use crate::report::kit::format::{aligned, percent_label, target_label};
-use crate::report::kit::vocabulary::not_within_grid;
+use crate::report::kit::vocabulary::{NOT_COMPUTED, not_within_grid};
 
 /// The comparison table, with the shared targets and confidence level above it.
 pub fn comparison_table(comparison: &Comparison) -> String {
@@ -15,6 +18,14 @@ pub fn comparison_table(comparison: &Comparison) -> String {
     let with_toys = comparison.with_toys();
     let mut header = vec!["plan".to_string()];
     let mut quantities: Vec<String> = first.targets.iter().map(|&t| target_label(t)).collect();
+    if comparison.with_scan() {
+        quantities.extend(
+            first
+                .targets
+                .iter()
+                .map(|&t| format!("global {}", target_label(t))),
+        );
+    }
     if let Some(cl) = first.cl {
         quantities.push(format!("excluded ({} CL)", percent_label(cl)));
     }
@@ -35,22 +46,21 @@ pub fn comparison_table(comparison: &Comparison) -> String {
             .points
             .last()
             .map_or(0.0, |point| point.days);
-        for ((asimov, median), (first_asimov, first_median)) in
-            days_of(comparison, index).into_iter().zip(&reference)
-        {
+        for (days, first) in days_of(comparison, index).into_iter().zip(&reference) {
+            let Some((asimov, median)) = days else {
+                let cells = if with_toys { 3 } else { 2 };
+                row.extend(std::iter::repeat_n(NOT_COMPUTED.to_string(), cells));
+                continue;
+            };
             row.push(days_cell(asimov, last_day, start));
             if with_toys {
                 row.push(days_cell(median, last_day, start));
             }
-            let (days, first) = if with_toys {
-                (median, *first_median)
-            } else {
-                (asimov, *first_asimov)
-            };
-            row.push(if index == 0 {
-                REFERENCE.to_string()
-            } else {
-                difference_cell(days, first)
+            row.push(match first {
+                _ if index == 0 => REFERENCE.to_string(),
+                None => NOT_COMPUTED.to_string(),
+                Some((_, first_median)) if with_toys => difference_cell(median, *first_median),
+                Some((first_asimov, _)) => difference_cell(asimov, *first_asimov),
             });
         }
         rows.push(row);
@@ -60,20 +70,34 @@ pub fn comparison_table(comparison: &Comparison) -> String {
     } else {
         "Asimov only".to_string()
     };
-    format!("Run plans compared ({run})\n\n{}", aligned(&rows))
+    format!(
+        "Run plans compared ({run})\n\n{}{}",
+        aligned(&rows),
+        super::reach::reach_lines(comparison)
+    )
 }
 
-/// Per target (then exclusion, with limits) the plan's Asimov and toy median days.
-fn days_of(comparison: &Comparison, index: usize) -> Vec<(Option<f64>, Option<f64>)> {
+/// Per quantity of the table (each target, each target in global
+/// significance when a plan scans, exclusion with limits) the plan's Asimov
+/// and toy median days; None where the plan does not compute it (global
+/// days without a scan).
+fn days_of(comparison: &Comparison, index: usize) -> Vec<Option<(Option<f64>, Option<f64>)>> {
     let projection = &comparison.plans[index].projection;
-    let mut days: Vec<_> = projection
-        .days_to_target
+    let rows = &projection.days_to_target;
+    let mut days: Vec<_> = rows
         .iter()
-        .map(|row| (row.asimov_days, row.median_days))
+        .map(|row| Some((row.asimov_days, row.median_days)))
         .collect();
+    if comparison.with_scan() {
+        days.extend(rows.iter().map(|row| {
+            row.global
+                .as_ref()
+                .map(|global| (global.global_asimov_days, global.global_median_days))
+        }));
+    }
     if projection.cl.is_some() {
         let exclusion = &projection.days_to_exclusion;
-        days.push((exclusion.asimov_days, exclusion.median_days));
+        days.push(Some((exclusion.asimov_days, exclusion.median_days)));
     }
     days
 }

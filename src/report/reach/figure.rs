@@ -8,13 +8,18 @@
 use super::REACH_SVG;
 use crate::reach::{ExposureReach, Reach};
 use crate::report::ReportError;
-use crate::report::kit::axis::{Axis, axis_label, linear_axis, log_axis, one_two_five_span};
-use crate::report::kit::figure::{self, Canvas, DrawError, Frame, Page};
+use crate::report::kit::axis::{
+    Axis, LogAxis, axis_label, linear_axis, log_axis, one_two_five_span,
+};
+use crate::report::kit::figure::{self, Canvas, Chart, DrawError, Frame, Page};
 use crate::report::kit::format::{days_label, percent_label, target_label};
 use crate::report::kit::legend::{Legend, Line};
 use crate::report::kit::marks::{self, BandPoint, Stroke};
 use crate::report::kit::palette::{DOT, INK_TEAL, PLUM, SLATE, VERMILION, VIOLET};
+use plotters::coord::ranged1d::ValueFormatter;
+use plotters::coord::types::RangedCoordf64;
 use plotters::prelude::*;
+use std::ops::Range;
 
 /// Height of one exposure's panel, in pixels.
 const PANEL_HEIGHT: u32 = 340;
@@ -55,7 +60,10 @@ fn drawn_rates(reach: &Reach) -> impl Iterator<Item = f64> + '_ {
 }
 
 /// The (position, rate) points where `value` is bounded.
-fn curve(exposure: &ExposureReach, value: impl Fn(usize) -> Option<f64>) -> Vec<(f64, f64)> {
+pub(in crate::report) fn curve(
+    exposure: &ExposureReach,
+    value: impl Fn(usize) -> Option<f64>,
+) -> Vec<(f64, f64)> {
     exposure
         .positions
         .iter()
@@ -65,10 +73,7 @@ fn curve(exposure: &ExposureReach, value: impl Fn(usize) -> Option<f64>) -> Vec<
 }
 
 fn draw(canvas: &Canvas, reach: &Reach) -> Result<(), DrawError> {
-    let (low, high) = drawn_rates(reach).fold((f64::INFINITY, 0.0_f64), |(low, high), r| {
-        (low.min(r), high.max(r))
-    });
-    let rates = one_two_five_span(low / 1.2, high * 1.2);
+    let rates = rate_span(drawn_rates(reach));
     let page = Page::titled(canvas, &reach.title)?;
     let panels = page.plot.split_evenly((reach.exposures.len().max(1), 1));
     // Every panel draws the same kinds of curve: the first one's entries
@@ -86,20 +91,28 @@ fn draw(canvas: &Canvas, reach: &Reach) -> Result<(), DrawError> {
     legend.draw(&page.legend)
 }
 
-/// One exposure's panel.
-fn draw_exposure(
-    panel: &Canvas,
-    reach: &Reach,
-    exposure: &ExposureReach,
-    rates: std::ops::Range<f64>,
-    legend: &mut Legend,
-) -> Result<(), DrawError> {
-    let positions = &exposure.positions;
-    let from = positions[0].position;
-    let to = positions[positions.len() - 1].position;
-    let days = days_label(exposure.days);
-    let caption = format!("After {days}");
-    let panel = &figure::titled(panel, &caption, 18)?;
+/// The log rate axis over `rates` (every rate a figure draws), widened to
+/// round values a little beyond the smallest and largest.
+pub(in crate::report) fn rate_span(rates: impl Iterator<Item = f64>) -> Range<f64> {
+    let (low, high) = rates.fold((f64::INFINITY, 0.0_f64), |(low, high), r| {
+        (low.min(r), high.max(r))
+    });
+    one_two_five_span(low / 1.2, high * 1.2)
+}
+
+/// A chart of rates against the signal position on `panel` (a panel below
+/// its caption, [`figure::titled`]): the position (in `unit`) from
+/// `positions.start` to `positions.end` across and `y` up (the log rate axis
+/// of [`rate_axis`], or another the caller describes).
+pub(in crate::report) fn position_chart<'a, 'b, Y>(
+    panel: &'a Canvas<'b>,
+    unit: &str,
+    positions: Range<f64>,
+    y: Axis<'_, Y>,
+) -> Result<Chart<'a, 'b, RangedCoordf64, Y>, DrawError>
+where
+    Y: Ranged<ValueType = f64> + ValueFormatter<f64>,
+{
     let frame = Frame {
         caption: None,
         margins: [8, 24, 8, 14],
@@ -107,21 +120,49 @@ fn draw_exposure(
         text_sizes: (16, 14),
         light_lines: (None, Some(1)),
     };
-    let x_description = format!("Signal position [{}]", reach.unit);
+    let x_description = format!("Signal position [{unit}]");
     let x = Axis {
-        coordinate: linear_axis(from..to),
+        coordinate: linear_axis(positions),
         description: Some(&x_description),
         format: &axis_label,
         labels: None,
     };
-    let y_description = format!("Rate [{}]", reach.rate_unit);
-    let y = Axis {
+    figure::chart(panel, &frame, x, y)
+}
+
+/// The log axis of rates in `rate_unit` over `rates` ([`rate_span`]).
+pub(in crate::report) fn rate_axis<'d>(
+    description: &'d str,
+    rates: Range<f64>,
+) -> Axis<'d, LogAxis> {
+    Axis {
         coordinate: log_axis(rates),
-        description: Some(&y_description),
+        description: Some(description),
         format: &axis_label,
         labels: None,
-    };
-    let mut chart = figure::chart(panel, &frame, x, y)?;
+    }
+}
+
+/// One exposure's panel.
+fn draw_exposure(
+    panel: &Canvas,
+    reach: &Reach,
+    exposure: &ExposureReach,
+    rates: Range<f64>,
+    legend: &mut Legend,
+) -> Result<(), DrawError> {
+    let positions = &exposure.positions;
+    let from = positions[0].position;
+    let to = positions[positions.len() - 1].position;
+    let caption = format!("After {}", days_label(exposure.days));
+    let y_description = format!("Rate [{}]", reach.rate_unit);
+    let panel = &figure::titled(panel, &caption, 18)?;
+    let mut chart = position_chart(
+        panel,
+        &reach.unit,
+        from..to,
+        rate_axis(&y_description, rates),
+    )?;
     let band: Vec<BandPoint> = positions
         .iter()
         .filter_map(|p| p.limit_rate_asimov_band.map(|band| (p.position, band)))

@@ -1,5 +1,7 @@
 //! The reach's files: `figure.rs` (`reach.svg`), `csv.rs` (`reach.csv`),
-//! `json.rs` (`reach.json`), and `summary.rs` for the terminal.
+//! `json.rs` (`reach.json`), and `summary.rs` for the terminal. The rate
+//! panel against the position (`position_chart`, `rate_axis`, `rate_span`)
+//! is also `compare --reach-days`'s.
 
 mod csv;
 mod figure;
@@ -7,6 +9,8 @@ mod json;
 mod summary;
 
 pub use summary::reach_summary;
+
+pub(in crate::report) use figure::{position_chart, rate_axis, rate_span};
 
 use super::{Kind, Output, Report, ReportError, render};
 use crate::provenance::Provenance;
