@@ -119,7 +119,12 @@ pub fn observed_fit(
     let discovery = test
         .fit(live_days, data)
         .map_err(failed("fit of the data taken"))?;
-    let fitted = test.free_parameters().to_vec();
+    let mut fitter = Fitter::new(&likelihood);
+    fitter
+        .minimise(live_days, data, None, test.free_parameters())
+        .map_err(failed("fit of the data taken"))?;
+    fitter.polish(live_days, data, None);
+    let fitted = fitter.parameters().to_vec();
     let covariance = likelihood.covariance(&fitted, live_days, data);
     let error = |p: usize| covariance.as_ref().map(|c| c[p * fitted.len() + p].sqrt());
     let parameters = model
@@ -150,7 +155,7 @@ pub fn observed_fit(
     );
     Ok(ObservedFit {
         live_days,
-        fitted_mu: discovery.fitted_mu,
+        fitted_mu: fitted[SIGNAL_STRENGTH],
         fitted_mu_error: error(SIGNAL_STRENGTH),
         q0: discovery.q0,
         z_local: discovery.q0.sqrt(),
