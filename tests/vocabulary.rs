@@ -103,7 +103,7 @@ fn every_column_and_key_written_is_documented() {
         let entry = entry.unwrap();
         fs::copy(entry.path(), scratch.path.join(entry.file_name())).unwrap();
     }
-    let runs: [&[&str]; 9] = [
+    let runs: [&[&str]; 10] = [
         &[
             "project",
             "unknown_line.yaml",
@@ -175,6 +175,18 @@ fn every_column_and_key_written_is_documented() {
         ],
         &["levers", "two_channel_detector.yaml", "--out", "levers"],
         &[
+            "replan",
+            "narrow_peak.yaml",
+            "--data",
+            "narrow_peak_60d.csv",
+            "--taken",
+            "60",
+            "--toys",
+            "20",
+            "--out",
+            "replan",
+        ],
+        &[
             "reach",
             "two_volume_line.yaml",
             "--days",
@@ -194,7 +206,8 @@ fn every_column_and_key_written_is_documented() {
     let lists = documented();
     let mut checked = 0;
     for folder in [
-        "scan", "channels", "dated", "reach", "compare", "spectrum", "binning", "levers", "volumes",
+        "scan", "channels", "dated", "reach", "compare", "spectrum", "binning", "levers",
+        "volumes", "replan",
     ] {
         for entry in fs::read_dir(scratch.path.join(folder)).unwrap() {
             let path = entry.unwrap().path();

@@ -1,6 +1,6 @@
 //! `replan.json`.
 //!
-//! Schema: `{title, taken_days, taken_live_days, future, targets, cl, data:
+//! Schema: `{title, taken: {days, live_days}, future, targets, cl, data:
 //! [{channel, file, sha256, form, events}], observed: {live_days,
 //! fitted_mu, fitted_mu_error, q0, z_local, parameters: [{name, nominal,
 //! fitted}], backgrounds: [{channel, name, planned_per_day, fitted_per_day,
@@ -111,8 +111,7 @@ pub(super) fn render(replan: &Replan) -> Result<Vec<u8>, ReportError> {
     let signal = replan.projection(Hypothesis::Signal);
     let document = json!({
         "title": replan.title,
-        "taken_days": replan.taken_days,
-        "taken_live_days": replan.taken_live_days,
+        "taken": {"days": replan.taken_days, "live_days": replan.taken_live_days},
         "future": replan.future.name(),
         "targets": signal.targets,
         "cl": signal.cl,

@@ -8,7 +8,7 @@ use crate::projection::{ExposurePoint, Projection};
 use crate::replan::{BackgroundRate, Future, Hypothesis, Replan};
 use crate::report::kit::dates::dated_days_label;
 use crate::report::kit::format::{
-    DAYS_ROUNDING, aligned, percent_label, probability_label, rounded, target_label,
+    aligned, percent_label, probability_label, rounded, target_label,
 };
 use crate::report::kit::vocabulary::{NOT_COMPUTED, not_within_grid};
 
@@ -33,8 +33,7 @@ pub fn replan_summary(replan: &Replan) -> String {
     text += &days_block(replan, start);
     text += "\n";
     text += &probability_block(replan, start);
-    text += DAYS_ROUNDING;
-    text += "\n";
+    text += "Days are rounded up as in the summary of runcast project; replan.csv and replan.json keep full precision.\n";
     text
 }
 
