@@ -192,7 +192,7 @@ impl<'l, 'm> Fitter<'l, 'm> {
 
     /// Full Newton steps from the last minimum (of the same `data` and
     /// `fixed_mu`), each kept while it does not raise -ln L, at most
-    /// [`POLISHING_STEPS`]; returns -ln L at the point kept. The convergence
+    /// three; returns -ln L at the point kept. The convergence
     /// of [`Fitter::minimise`] is judged by the expected drop of -ln L,
     /// quadratic in the parameters, so they are converged only to about the
     /// square root of its tolerance; near the minimum each full step squares
@@ -218,7 +218,7 @@ impl<'l, 'm> Fitter<'l, 'm> {
                 data,
                 &mut self.work,
             );
-            if !(trial_nll <= nll) {
+            if trial_nll.is_nan() || trial_nll > nll {
                 break;
             }
             std::mem::swap(&mut self.theta, &mut self.trial);

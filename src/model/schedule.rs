@@ -440,23 +440,24 @@ mod tests {
     fn data_taken_and_data_to_come_add_up_to_the_whole_exposure() {
         // The same run as above, split at 100 live days (hand count: the
         // continuum's exposure is 0.8 x 120 = 96 live days at full rate,
-        // then half rate): taken E(100) = 100, to come E(160) - 100 = 28.
+        // then half rate): taken E(100) = 96 + 4/2 = 98, to come
+        // E(160) - 98 = 128 - 98 = 30.
         let live = from_periods(0.8, "[{days: 120}, {background_scale: {continuum: 0.5}}]");
         let continuum = live.exposure(|period| period.background_factor("continuum"));
         let taken = continuum.taken(100.0);
         let to_come = continuum.to_come(100.0);
         for live_days in [100.0, 130.0, 160.0] {
-            assert_eq!(taken.at(live_days), 100.0);
+            assert_eq!(taken.at(live_days), 98.0);
             let whole = taken.at(live_days) + to_come.at(live_days);
             assert!(
                 (whole - continuum.at(live_days)).abs() < 1e-12,
                 "{live_days}"
             );
         }
-        assert!((to_come.at(160.0) - 28.0).abs() < 1e-12);
+        assert!((to_come.at(160.0) - 30.0).abs() < 1e-12);
         // Before the data stopped nothing is to come, and the taken data stay.
         assert_eq!(to_come.at(50.0), 0.0);
-        assert_eq!(taken.at(0.0), 100.0);
+        assert_eq!(taken.at(0.0), 98.0);
         // A component no period scales: E(L) = L split the same way.
         let plain = Exposure::default();
         assert_eq!(

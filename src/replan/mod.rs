@@ -234,16 +234,7 @@ pub fn replan(
             .asimov_dataset(&nominal, taken_live_days, &mut likelihood.workspace())
             .global_observables,
     };
-    let observed = observed_fit(
-        model,
-        scan,
-        &taken,
-        taken_live_days,
-        plan.cl,
-        plan.toys,
-        plan.seed,
-        progress,
-    )?;
+    let observed = observed_fit(model, scan, &taken, taken_live_days, plan, progress)?;
     let generating: Vec<(Hypothesis, Vec<f64>)> = Hypothesis::BOTH
         .iter()
         .map(|&hypothesis| {

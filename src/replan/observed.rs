@@ -8,6 +8,7 @@ use crate::likelihood::{Dataset, DiscoveryTest, Fitter, Likelihood};
 use crate::limits::{asymptotic_limit_of, asymptotic_limits};
 use crate::look_elsewhere::{REFERENCE_LEVEL, global_significance};
 use crate::model::{Model, SIGNAL_STRENGTH};
+use crate::projection::ProjectionSettings;
 use crate::scenario::SignalScan;
 use crate::upcrossings::scan_geometry_of;
 
@@ -102,15 +103,15 @@ pub struct GoodnessOfFit {
     pub failed_fits: usize,
 }
 
-/// The fit of `data` (the data taken, after `live_days`) with `model`.
+/// The fit of `data` (the data taken, after `live_days`) with `model`; the
+/// observed limit at `plan.cl`, the goodness of fit with `plan.toys`
+/// pseudo-experiments from `plan.seed`.
 pub fn observed_fit(
     model: &Model,
     scan: Option<&SignalScan>,
     data: &Dataset,
     live_days: f64,
-    cl: Option<f64>,
-    goodness_toys: usize,
-    seed: u64,
+    plan: &ProjectionSettings,
     progress: &(dyn Fn(u64) + Sync),
 ) -> Result<ObservedFit, ReplanError> {
     let likelihood = Likelihood::new(model);
@@ -141,7 +142,8 @@ pub fn observed_fit(
     let scan = scan
         .map(|scan| observed_scan(&likelihood, scan, data, live_days))
         .transpose()?;
-    let limit = cl
+    let limit = plan
+        .cl
         .map(|cl| observed_limit(&likelihood, data, live_days, cl))
         .transpose()?;
     let goodness_of_fit = goodness_of_fit(
@@ -149,8 +151,8 @@ pub fn observed_fit(
         &fitted,
         data,
         live_days,
-        goodness_toys,
-        seed,
+        plan.toys,
+        plan.seed,
         progress,
     );
     Ok(ObservedFit {
