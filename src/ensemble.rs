@@ -193,6 +193,10 @@ pub enum Family {
     ReplanBackgroundExclusion,
     /// Datasets like those taken, drawn at their fit, for its goodness of fit.
     GoodnessOfFit,
+    /// Datasets like those taken at a tested mu, for their toy CLs limit.
+    ObservedLimitSignal,
+    /// Datasets like those taken without signal, for their toy CLs limit.
+    ObservedLimitBackground,
 }
 
 impl Family {
@@ -208,6 +212,8 @@ impl Family {
             Family::ReplanBackgroundDiscovery => 6,
             Family::ReplanBackgroundExclusion => 7,
             Family::GoodnessOfFit => 8,
+            Family::ObservedLimitSignal => 9,
+            Family::ObservedLimitBackground => 10,
         };
         (family << 32) | exposure_index as u64
     }

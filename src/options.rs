@@ -724,6 +724,7 @@ impl ReplanOptions {
         let settings = ReplanSettings {
             plan,
             taken_days,
+            toy_limit: args.toys.is_some(),
             future: match args.future {
                 FutureArg::Fitted => Future::Fitted,
                 FutureArg::Nominal => Future::Nominal,

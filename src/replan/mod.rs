@@ -100,6 +100,9 @@ pub struct ReplanSettings {
     /// The calendar day the data stopped.
     pub taken_days: f64,
     pub future: Future,
+    /// Whether the observed limit is also found with pseudo-experiments
+    /// (`--toys` given): `plan.toys` per hypothesis and tested mu.
+    pub toy_limit: bool,
 }
 
 impl ReplanSettings {
@@ -234,7 +237,15 @@ pub fn replan(
             .asimov_dataset(&nominal, taken_live_days, &mut likelihood.workspace())
             .global_observables,
     };
-    let observed = observed_fit(model, scan, &taken, taken_live_days, plan, progress)?;
+    let observed = observed_fit(
+        model,
+        scan,
+        &taken,
+        taken_live_days,
+        plan,
+        settings.toy_limit,
+        progress,
+    )?;
     let generating: Vec<(Hypothesis, Vec<f64>)> = Hypothesis::BOTH
         .iter()
         .map(|&hypothesis| {

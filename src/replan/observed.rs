@@ -4,7 +4,7 @@
 
 use super::ReplanError;
 use crate::ensemble::{EnsemblePlan, Family, Generator, run_ensemble};
-use crate::likelihood::{Dataset, DiscoveryTest, Fitter, Likelihood};
+use crate::likelihood::{Dataset, DiscoveryTest, Fitter, Likelihood, UpperLimitTest};
 use crate::limits::{asymptotic_limit_of, asymptotic_limits};
 use crate::look_elsewhere::{REFERENCE_LEVEL, global_significance};
 use crate::model::{Model, SIGNAL_STRENGTH};
@@ -86,6 +86,11 @@ pub struct ObservedLimit {
     pub mu: Option<f64>,
     /// The median expected limit at the live days taken, for comparison.
     pub expected_mu: Option<f64>,
+    /// The limit from pseudo-experiments ([`toy_limit`]), when asked for;
+    /// None also when the search brackets no crossing.
+    pub toys_mu: Option<f64>,
+    /// Pseudo-experiments per hypothesis and tested mu of `toys_mu`; 0 for none.
+    pub toys: usize,
 }
 
 /// The saturated-model deviance D = 2 sum_j [nu_j - n_j + n_j ln(n_j/nu_j)]
@@ -104,14 +109,16 @@ pub struct GoodnessOfFit {
 }
 
 /// The fit of `data` (the data taken, after `live_days`) with `model`; the
-/// observed limit at `plan.cl`, the goodness of fit with `plan.toys`
-/// pseudo-experiments from `plan.seed`.
+/// observed limit at `plan.cl` (also from `plan.toys` pseudo-experiments
+/// per tested mu when `toy_limit_wanted`), the goodness of fit with
+/// `plan.toys` pseudo-experiments, all from `plan.seed`.
 pub fn observed_fit(
     model: &Model,
     scan: Option<&SignalScan>,
     data: &Dataset,
     live_days: f64,
     plan: &ProjectionSettings,
+    toy_limit_wanted: bool,
     progress: &(dyn Fn(u64) + Sync),
 ) -> Result<ObservedFit, ReplanError> {
     let likelihood = Likelihood::new(model);
@@ -144,7 +151,16 @@ pub fn observed_fit(
         .transpose()?;
     let limit = plan
         .cl
-        .map(|cl| observed_limit(&likelihood, data, live_days, cl))
+        .map(|cl| {
+            let toys = if toy_limit_wanted { plan.toys } else { 0 };
+            observed_limit(
+                &likelihood,
+                data,
+                live_days,
+                cl,
+                (toys, plan.seed, progress),
+            )
+        })
         .transpose()?;
     let goodness_of_fit = goodness_of_fit(
         &likelihood,
@@ -266,12 +282,14 @@ fn observed_scan(
 
 /// The observed CLs limit with the asymptotic formulae and sigma_A of the
 /// background-only Asimov dataset at the same live days (Cowan, Cranmer,
-/// Gross, Vitells, Eur. Phys. J. C 71 (2011) 1554, eqs. 65-66 and 31).
+/// Gross, Vitells, Eur. Phys. J. C 71 (2011) 1554, eqs. 65-66 and 31), and
+/// with `toys` above 0 also from pseudo-experiments ([`toy_limit`]).
 fn observed_limit(
     likelihood: &Likelihood,
     data: &Dataset,
     live_days: f64,
     cl: f64,
+    toys: (usize, u64, &(dyn Fn(u64) + Sync)),
 ) -> Result<ObservedLimit, ReplanError> {
     let alpha = 1.0 - cl;
     let expected =
@@ -289,11 +307,120 @@ fn observed_limit(
     } else {
         f64::INFINITY
     };
+    let mu = Some(mu).filter(|mu| mu.is_finite());
+    let toys_mu = match (toys.0, mu) {
+        (0, _) | (_, None) => None,
+        (count, Some(guess)) => toy_limit(
+            likelihood,
+            data,
+            live_days,
+            alpha,
+            guess,
+            (count, toys.1, toys.2),
+        )?,
+    };
     Ok(ObservedLimit {
         cl,
-        mu: Some(mu).filter(|mu| mu.is_finite()),
+        mu,
         expected_mu: Some(expected.median).filter(|mu| mu.is_finite()),
+        toys_mu,
+        toys: toys.0,
     })
+}
+
+/// Halvings of the bracket of a toy limit, in log mu: 8 narrow a factor 4
+/// to 0.5%, below the spread of CLs from a few thousand toys.
+const TOY_LIMIT_HALVINGS: usize = 8;
+
+/// The observed CLs limit from pseudo-experiments: at each tested mu,
+/// CLs = p_mu / (1 - p_b), with p_mu the fraction of datasets drawn at mu
+/// (the other parameters fitted to the data with mu held there) and 1 - p_b
+/// the fraction of those drawn without signal (likewise) whose q~_mu is at
+/// least the data's (A. L. Read, J. Phys. G 28 (2002) 2693; the generation
+/// at profiled parameters as in Cowan et al. 2011, sec. 2); the limit is
+/// the mu where CLs falls to `alpha`, bracketed from the asymptotic limit
+/// `guess` and narrowed by bisection in log mu. Each tested mu draws from
+/// streams keyed by its value, so the same seed gives the same limit.
+fn toy_limit(
+    likelihood: &Likelihood,
+    data: &Dataset,
+    live_days: f64,
+    alpha: f64,
+    guess: f64,
+    (toys, seed, progress): (usize, u64, &(dyn Fn(u64) + Sync)),
+) -> Result<Option<f64>, ReplanError> {
+    let failed = |failure| ReplanError::Fit {
+        what: "toy limit fits of the data taken",
+        failure,
+    };
+    let mut observed = UpperLimitTest::new(likelihood);
+    observed.fit_free(live_days, data).map_err(failed)?;
+    let mut fitter = Fitter::new(likelihood);
+    let plan = EnsemblePlan {
+        toys: 0..toys,
+        seed,
+        progress,
+    };
+    let mut cls = |mu: f64| -> Result<f64, ReplanError> {
+        let q_observed = observed.q_tilde(live_days, data, mu).map_err(failed)?;
+        let index = (crate::ensemble::splitmix64(mu.to_bits()) & 0x7fff_ffff) as usize;
+        let mut fractions = [0.0; 2];
+        for (fraction, (tested, family)) in fractions.iter_mut().zip([
+            (mu, Family::ObservedLimitSignal),
+            (0.0, Family::ObservedLimitBackground),
+        ]) {
+            let mut start = likelihood.model().nominal_parameters();
+            start[SIGNAL_STRENGTH] = tested;
+            fitter
+                .minimise(live_days, data, Some(tested), &start)
+                .map_err(failed)?;
+            let generator = Generator::new(likelihood, fitter.parameters(), live_days);
+            let outcome = run_ensemble(
+                &generator,
+                family.stream_index(index),
+                &plan,
+                || UpperLimitTest::new(likelihood),
+                |test, toy| {
+                    test.fit_free(live_days, toy).ok()?;
+                    test.q_tilde(live_days, toy, mu).ok()
+                },
+            );
+            let converged = outcome.values.len().max(1) as f64;
+            let above = outcome.values.iter().filter(|&&q| q >= q_observed).count();
+            *fraction = above as f64 / converged;
+        }
+        let [p_mu, one_minus_p_b] = fractions;
+        Ok(if one_minus_p_b > 0.0 {
+            p_mu / one_minus_p_b
+        } else {
+            1.0
+        })
+    };
+    let (mut low, mut high) = (0.5 * guess, 2.0 * guess);
+    let mut widened = 0;
+    while cls(high)? > alpha {
+        (low, high) = (high, 2.0 * high);
+        widened += 1;
+        if widened > 6 {
+            return Ok(None);
+        }
+    }
+    while cls(low)? <= alpha {
+        (low, high) = (0.5 * low, low);
+        widened += 1;
+        if widened > 6 {
+            return Ok(None);
+        }
+    }
+    for _ in 0..TOY_LIMIT_HALVINGS {
+        let middle = (low * high).sqrt();
+        if cls(middle)? > alpha {
+            low = middle;
+        } else {
+            high = middle;
+        }
+    }
+    Ok(Some((low * high).sqrt()))
 }
 
 /// The deviance of the data at their free fit, and the fraction of `toys`

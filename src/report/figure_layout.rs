@@ -208,6 +208,7 @@ fn the_replan_of_the_demo_keeps_its_text_clear() {
         },
         taken_days: 60.0,
         future: Future::Fitted,
+        toy_limit: false,
     };
     let replan = replan(&model, None, vec![data], &settings, &|_| {}).unwrap();
     let figures = figures_of(|| super::render_replan(&replan, &provenance()));

@@ -147,7 +147,11 @@ pub(super) fn render(replan: &Replan) -> Result<Vec<u8>, ReportError> {
                 "z_global": scan.z_global,
             })),
             "limit": observed.limit.map(|limit| json!({
-                "cl": limit.cl, "mu": limit.mu, "expected_mu": limit.expected_mu,
+                "cl": limit.cl,
+                "mu": limit.mu,
+                "expected_mu": limit.expected_mu,
+                "mu_toys": limit.toys_mu,
+                "toys": limit.toys,
             })),
             "goodness_of_fit": {
                 "deviance": observed.goodness_of_fit.deviance,

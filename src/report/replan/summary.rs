@@ -71,8 +71,17 @@ fn observed_block(replan: &Replan) -> String {
     }
     if let Some(limit) = observed.limit {
         let shown = |mu: Option<f64>| mu.map_or("none".to_string(), rounded);
+        let toys = if limit.toys > 0 {
+            format!(
+                "; from pseudo-experiments {} ({} per hypothesis and tested value)",
+                shown(limit.toys_mu),
+                limit.toys
+            )
+        } else {
+            String::new()
+        };
         text += &format!(
-            "observed {} CL upper limit on the signal strength: {} (median expected {}; asymptotic CLs)\n",
+            "observed {} CL upper limit on the signal strength: {} (median expected {}; asymptotic CLs){toys}\n",
             percent_label(limit.cl),
             shown(limit.mu),
             shown(limit.expected_mu)
