@@ -8,9 +8,11 @@ use crate::projection::{ExposurePoint, Projection};
 use crate::replan::{BackgroundRate, Future, Hypothesis, Replan};
 use crate::report::kit::dates::dated_days_label;
 use crate::report::kit::format::{
-    aligned, percent_label, probability_label, rounded, target_label,
+    aligned, fit_percent, percent_label, probability_label, rounded, target_label,
 };
 use crate::report::kit::vocabulary::{NOT_COMPUTED, not_within_grid};
+use crate::report::warning_text;
+use crate::warning::Ensemble;
 
 /// The summary as printed.
 pub fn replan_summary(replan: &Replan) -> String {
@@ -33,6 +35,7 @@ pub fn replan_summary(replan: &Replan) -> String {
     text += &days_block(replan, start);
     text += "\n";
     text += &probability_block(replan, start);
+    text += &failed_fits_block(replan);
     text += "Days are rounded up as in the summary of runcast project; replan.csv and replan.json keep full precision.\n";
     text
 }
@@ -247,5 +250,46 @@ fn probability_block(replan: &Replan, start: Option<CalendarDate>) -> String {
         rows.push(row);
     }
     text += &aligned(&rows);
+    text
+}
+
+/// The failed fits of each hypothesis's grid pseudo-experiments, never
+/// hidden, with the warning of any point that lost more than 0.1% of them
+/// (worded by [`warning_text`]).
+fn failed_fits_block(replan: &Replan) -> String {
+    let mut text = String::new();
+    for (hypothesis, projection) in &replan.conditional {
+        let name = match hypothesis {
+            Hypothesis::Signal => "with the signal",
+            Hypothesis::NoSignal => "without signal",
+        };
+        let counts: Vec<String> = projection
+            .ensembles()
+            .into_iter()
+            .map(|ensemble| {
+                let failed: usize = projection
+                    .points
+                    .iter()
+                    .map(|point| point.failed_fits_of(ensemble))
+                    .sum();
+                let run = projection.toys_run(ensemble);
+                let what = match ensemble {
+                    Ensemble::Limits => "limit",
+                    _ => "significance",
+                };
+                format!(
+                    "{failed} of {run} {what} pseudo-experiments ({})",
+                    fit_percent(failed, run)
+                )
+            })
+            .collect();
+        text += &format!(
+            "Failed fits {name}: {}, excluded from the quantiles.\n",
+            counts.join(", ")
+        );
+        for warning in projection.warnings() {
+            text += &format!("warning: {name}: {}\n", warning_text(&warning));
+        }
+    }
     text
 }
