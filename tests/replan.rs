@@ -107,6 +107,75 @@ fn a_single_bin_gives_the_closed_form_q0_and_signal_strength() {
     assert!(background["pull"].is_null());
 }
 
+/// A line inside the second of two bins (all but Phi(-10) of it), on a
+/// flat background of free normalisation: the first bin is the off count
+/// and the second the on count of an on/off measurement of ratio 1, so the
+/// fitted background is n_off per bin, mu-hat = (n_on - n_off)/s and
+/// q0 = 2[n_on ln(2 n_on/(n_on + n_off)) + n_off ln(2 n_off/(n_on + n_off))]
+/// (Li and Ma, Astrophys. J. 272 (1983) 317, eq. 17 with alpha = 1), to 1e-8.
+#[test]
+fn two_bins_give_the_on_off_closed_forms() {
+    const TWO_BINS: &str = "\
+title: replan on/off in two bins (invented numbers)
+observable: {name: m, unit: MeV, range: [0.0, 2.0], bin_width: 1.0}
+signal: {events_per_day: 5.0, shape: {gaussian: {mean: 1.5, sigma: 0.05}}}
+backgrounds:
+  - {name: flat, events_per_day: 100.0, shape: {flat: {}}, norm_uncertainty: free}
+plan: {days: [10, 20], toys: 20, seed: 3, targets: [3, 5]}
+";
+    let scratch = Scratch::new("on-off");
+    let scenario = write(&scratch, "two.yaml", TWO_BINS);
+    let data = write(&scratch, "data.csv", "low,high,count\n0,1,1000\n1,2,1120\n");
+    let document = replan(
+        &scratch,
+        &[
+            text(&scenario),
+            "--data",
+            text(&data),
+            "--taken",
+            "10",
+            "--toys",
+            "20",
+        ],
+    );
+    let observed = &document["observed"];
+    let (off, on, s, live_days) = (1000.0_f64, 1120.0_f64, 50.0_f64, 10.0);
+    let total = on + off;
+    let q0 = 2.0 * (on * (2.0 * on / total).ln() + off * (2.0 * off / total).ln());
+    assert!((number(&observed["q0"]) - q0).abs() < 1e-8, "{observed}");
+    assert!((number(&observed["fitted_mu"]) - (on - off) / s).abs() < 1e-8);
+    let rate = number(&observed["backgrounds"][0]["fitted_per_day"]);
+    assert!((rate - 2.0 * off / live_days).abs() < 1e-8 * rate, "{rate}");
+}
+
+/// A data file beyond the bound of `src/scenario/limits.rs` (64 MiB) is
+/// refused naming the bound, before it is read.
+#[test]
+fn a_data_file_beyond_the_bound_is_refused() {
+    let scratch = Scratch::new("too-large");
+    let scenario = write(&scratch, "flat.yaml", FREE_FLAT);
+    let data = scratch.path.join("huge.csv");
+    let file = fs::File::create(&data).unwrap();
+    file.set_len((64 << 20) + 1).unwrap();
+    let output = scratch.run(&[
+        "replan",
+        text(&scenario),
+        "--data",
+        text(&data),
+        "--taken",
+        "25",
+        "--out",
+        "out",
+    ]);
+    let stderr = String::from_utf8_lossy(&output.stderr);
+    assert_eq!(output.status.code(), Some(1), "{stderr}");
+    assert!(
+        stderr.contains("huge.csv") && stderr.contains("67108864 bytes"),
+        "{stderr}"
+    );
+    assert!(!scratch.path.join("out").exists());
+}
+
 /// With many counts the observed CLs limit from pseudo-experiments (asked
 /// for by `--toys`) agrees with the asymptotic one (Cowan et al. 2011,
 /// sec. 5: the asymptotic distributions of q~_mu hold for large samples):

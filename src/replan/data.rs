@@ -121,14 +121,16 @@ pub fn read_channel_data(path: &Path, channel: &Channel) -> Result<ChannelData, 
 /// The file's text: a regular file of at most [`MAX_DATA_FILE_BYTES`], UTF-8.
 fn read_text(path: &Path) -> Result<String, String> {
     let file = open_regular(path).map_err(|error| error.to_string())?;
+    let too_large = || format!("larger than the {MAX_DATA_FILE_BYTES} bytes a data file may have");
+    if file.metadata().map_err(|error| error.to_string())?.len() > MAX_DATA_FILE_BYTES {
+        return Err(too_large());
+    }
     let mut bytes = Vec::new();
     file.take(MAX_DATA_FILE_BYTES + 1)
         .read_to_end(&mut bytes)
         .map_err(|error| error.to_string())?;
     if bytes.len() as u64 > MAX_DATA_FILE_BYTES {
-        return Err(format!(
-            "larger than the {MAX_DATA_FILE_BYTES} bytes a data file may have"
-        ));
+        return Err(too_large());
     }
     String::from_utf8(bytes).map_err(|_| "not UTF-8 text".to_string())
 }
