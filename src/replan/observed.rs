@@ -86,7 +86,7 @@ pub struct ObservedLimit {
     pub mu: Option<f64>,
     /// The median expected limit at the live days taken, for comparison.
     pub expected_mu: Option<f64>,
-    /// The limit from pseudo-experiments ([`toy_limit`]), when asked for;
+    /// The limit from pseudo-experiments (toy CLs), when asked for;
     /// None also when the search brackets no crossing.
     pub toys_mu: Option<f64>,
     /// Pseudo-experiments per hypothesis and tested mu of `toys_mu`; 0 for none.
