@@ -237,12 +237,13 @@ fn a_free_flat_background_fits_the_count_over_the_live_days() {
 
 /// On the day the data stopped nothing is left to draw: every
 /// pseudo-experiment of both hypotheses is the data taken, so the
-/// conditional median and every quantile are the observed Z.
+/// conditional median and every quantile are the observed Z, and a target
+/// it passes is reached that day.
 #[test]
 fn with_no_days_left_the_conditional_distribution_is_the_observed_z() {
     let scratch = Scratch::new("no-days-left");
     let scenario = write(&scratch, "counting.yaml", COUNTING);
-    let data = write(&scratch, "data.csv", "low,high,count\n0,1,1090\n");
+    let data = write(&scratch, "data.csv", "low,high,count\n0,1,1150\n");
     let document = replan(
         &scratch,
         &[
@@ -256,7 +257,7 @@ fn with_no_days_left_the_conditional_distribution_is_the_observed_z() {
         ],
     );
     let observed = number(&document["observed"]["z_local"]);
-    assert!(observed > 2.0, "{observed}");
+    assert!(observed > 3.0, "{observed}");
     for hypothesis in document["hypotheses"].as_array().unwrap() {
         let first = &hypothesis["points"][0];
         assert_eq!(number(&first["days"]), 10.0);
@@ -265,6 +266,11 @@ fn with_no_days_left_the_conditional_distribution_is_the_observed_z() {
         for quantile in first["z_band"].as_array().unwrap() {
             assert!((number(quantile) - observed).abs() < 1e-9);
         }
+        // A target the data taken reach is reached on the day they stopped,
+        // never before (no day is solved inside the data taken).
+        let three_sigma = &hypothesis["targets"][0];
+        assert_eq!(number(&three_sigma["target"]), 3.0);
+        assert_eq!(number(&three_sigma["median_days"]), 10.0, "{three_sigma}");
         // Later days do draw: the spread opens.
         let later = &hypothesis["points"][1]["z_band"];
         assert!(number(&later[3]) - number(&later[0]) > 0.1, "{later}");
