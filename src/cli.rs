@@ -105,6 +105,16 @@ pub enum Command {
     /// levers.svg, levers.csv and levers.json to output/<scenario file stem>/
     /// (or --out) and prints the table, sorted by days saved at the first target.
     Levers(LeversArgs),
+    /// Re-plan from the data taken so far: what they say, and how much longer.
+    ///
+    /// Fits the data (one file per channel: rows low,high,count or one event
+    /// value per line) taken until --taken: signal strength, local Z, each
+    /// background's rate against the plan, goodness of fit, observed limit.
+    /// Then projects onward keeping those counts and drawing only the future,
+    /// with and without the signal: Z bands, P(Z >= target) and the days to
+    /// each target. Writes replan.svg, replan.csv and replan.json to
+    /// output/<scenario file stem>/ (or --out).
+    Replan(ReplanArgs),
     /// Write a commented template scenario to FILE (never overwrites).
     New {
         /// Where to write the template.
@@ -317,6 +327,43 @@ pub struct ReachArgs {
     pub output: OutputArgs,
     #[command(flatten)]
     pub workers: WorkerArgs,
+}
+
+#[derive(Debug, Args)]
+pub struct ReplanArgs {
+    /// The scenario file (YAML) of the run.
+    pub scenario: PathBuf,
+    /// The data taken: FILE for a scenario of one channel, CHANNEL=FILE for
+    /// each channel of several. Rows low,high,count on the channel's bins
+    /// (a header line, # comments), or one event value per line.
+    #[arg(long, value_name = "[CHANNEL=]FILE", required = true)]
+    pub data: Vec<String>,
+    /// The calendar day the data stopped (90, 90d, 26w, 2y or, with
+    /// schedule.start, a date 2027-09-01).
+    #[arg(long, value_name = "D", allow_negative_numbers = true)]
+    pub taken: DayArgument,
+    /// Where the future data are drawn from: fitted (the parameters fitted
+    /// to the data taken) or nominal (the scenario's).
+    #[arg(long, value_name = "FROM", default_value = "fitted")]
+    pub future: FutureArg,
+    /// Pseudo-experiments per point and hypothesis, and for the goodness of
+    /// fit (overrides plan.toys).
+    #[arg(long, value_name = "N")]
+    pub toys: Option<usize>,
+    /// Seed of all pseudo-experiments (overrides plan.seed).
+    #[arg(long, value_name = "S")]
+    pub seed: Option<u64>,
+    #[command(flatten)]
+    pub output: OutputArgs,
+    #[command(flatten)]
+    pub workers: WorkerArgs,
+}
+
+/// `--future`: the parameters the future data are drawn from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum FutureArg {
+    Fitted,
+    Nominal,
 }
 
 #[derive(Debug, Args)]

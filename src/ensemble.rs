@@ -54,8 +54,12 @@ enum GlobalObservable {
 /// Draws pseudo-datasets from the model at fixed generating parameters.
 #[derive(Debug, Clone)]
 pub struct Generator {
-    /// Poisson distribution of each bin's count.
+    /// Counts kept as observed in the leading bins ([`Generator::keeping`]); empty otherwise.
+    kept_counts: Vec<f64>,
+    /// Poisson distribution of each bin's count after the kept ones.
     bins: Vec<PoissonCounts>,
+    /// Global observables kept as observed; None to draw them.
+    kept_global_observables: Option<Vec<f64>>,
     /// Distribution of each constraint's global observable.
     global_observables: Vec<GlobalObservable>,
 }
@@ -90,23 +94,48 @@ impl Generator {
             })
             .collect();
         Generator {
+            kept_counts: Vec::new(),
             bins,
+            kept_global_observables: None,
             global_observables,
         }
+    }
+
+    /// The same generator with the data already taken kept as observed: the
+    /// leading bins hold `observed.counts` (the first block of
+    /// [`Model::taken_and_to_come`](crate::model::Model::taken_and_to_come))
+    /// and the global observables `observed.global_observables` (the
+    /// auxiliary measurements are made once), so only the bins after them
+    /// are drawn. A conditional ensemble (conditional power in sequential
+    /// monitoring: Proschan, Lan and Wittes, Statistical Monitoring of
+    /// Clinical Trials, Springer 2006, ch. 3).
+    pub fn keeping(mut self, observed: &Dataset) -> Generator {
+        let kept = observed.counts.len().min(self.bins.len());
+        self.bins.drain(..kept);
+        self.kept_counts = observed.counts[..kept].to_vec();
+        self.kept_global_observables = Some(observed.global_observables.clone());
+        self
     }
 
     /// An empty dataset of the right size, to be filled by [`Generator::draw`].
     pub fn empty_dataset(&self) -> Dataset {
         Dataset {
-            counts: vec![0.0; self.bins.len()],
+            counts: vec![0.0; self.kept_counts.len() + self.bins.len()],
             global_observables: vec![0.0; self.global_observables.len()],
         }
     }
 
-    /// Fills `data` with one pseudo-experiment drawn from `rng`.
+    /// Fills `data` with one pseudo-experiment drawn from `rng` (the bins
+    /// first, then the global observables; nothing is drawn for what is kept).
     pub fn draw(&self, rng: &mut Pcg64, data: &mut Dataset) {
-        for (count, poisson) in data.counts.iter_mut().zip(&self.bins) {
+        let (kept, drawn) = data.counts.split_at_mut(self.kept_counts.len());
+        kept.copy_from_slice(&self.kept_counts);
+        for (count, poisson) in drawn.iter_mut().zip(&self.bins) {
             *count = poisson.sample(rng);
+        }
+        if let Some(kept) = &self.kept_global_observables {
+            data.global_observables.copy_from_slice(kept);
+            return;
         }
         for (value, distribution) in data
             .global_observables
@@ -154,6 +183,20 @@ pub enum Family {
     /// Generated at mu = 0 and fitted at every scanned signal position, for
     /// the look-elsewhere effect.
     LookElsewhere,
+    /// A re-plan's future data under its signal hypothesis, for the significance.
+    ReplanSignalDiscovery,
+    /// A re-plan's future data under its signal hypothesis, for limits.
+    ReplanSignalExclusion,
+    /// A re-plan's future data without signal, for the significance.
+    ReplanBackgroundDiscovery,
+    /// A re-plan's future data without signal, for limits.
+    ReplanBackgroundExclusion,
+    /// Datasets like those taken, drawn at their fit, for its goodness of fit.
+    GoodnessOfFit,
+    /// Datasets like those taken at a tested mu, for their toy CLs limit.
+    ObservedLimitSignal,
+    /// Datasets like those taken without signal, for their toy CLs limit.
+    ObservedLimitBackground,
 }
 
 impl Family {
@@ -164,6 +207,13 @@ impl Family {
             Family::Exclusion => 1,
             Family::Calibration => 2,
             Family::LookElsewhere => 3,
+            Family::ReplanSignalDiscovery => 4,
+            Family::ReplanSignalExclusion => 5,
+            Family::ReplanBackgroundDiscovery => 6,
+            Family::ReplanBackgroundExclusion => 7,
+            Family::GoodnessOfFit => 8,
+            Family::ObservedLimitSignal => 9,
+            Family::ObservedLimitBackground => 10,
         };
         (family << 32) | exposure_index as u64
     }
@@ -235,9 +285,27 @@ pub fn discovery_ensemble(
 ) -> EnsembleOutcome {
     let nominal = likelihood.model().nominal_parameters();
     let generator = Generator::new(likelihood, &nominal, live_days);
-    run_ensemble(
+    significance_ensemble(
+        likelihood,
         &generator,
+        live_days,
         Family::Discovery.stream_index(exposure_index),
+        plan,
+    )
+}
+
+/// Significances Z = sqrt(q0) of the pseudo-experiments `plan.toys` that
+/// `generator` draws after `live_days` from the streams `stream_index`.
+pub fn significance_ensemble(
+    likelihood: &Likelihood,
+    generator: &Generator,
+    live_days: f64,
+    stream_index: u64,
+    plan: &EnsemblePlan,
+) -> EnsembleOutcome {
+    run_ensemble(
+        generator,
+        stream_index,
         plan,
         || DiscoveryTest::new(likelihood),
         |test, data| test.fit(live_days, data).ok().map(|fit| fit.q0.sqrt()),

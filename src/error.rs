@@ -4,6 +4,7 @@ use runcast::benchmark::BenchmarkError;
 use runcast::binning::BinningError;
 use runcast::projection::{ProjectionError, ShardError};
 use runcast::reach::ReachError;
+use runcast::replan::{DataError, ReplanError};
 use runcast::report::ReportError;
 use runcast::scenario::ScenarioError;
 use std::fmt;
@@ -22,6 +23,13 @@ pub enum Error {
         path: PathBuf,
         source: ReachError,
     },
+    /// The re-plan could not be made (a failed fit, a control region).
+    Replan {
+        path: PathBuf,
+        source: ReplanError,
+    },
+    /// A data file of `replan` cannot be used.
+    Data(DataError),
     /// A shard could not be written, or shards not merged.
     Shard(ShardError),
     /// sbatch could not be run or refused a script.
@@ -55,6 +63,8 @@ impl fmt::Display for Error {
             Error::Scenario { path, source } => write!(f, "{}: {source}", path.display()),
             Error::Projection(source) => write!(f, "{source}"),
             Error::Reach { path, source } => write!(f, "{}: {source}", path.display()),
+            Error::Replan { path, source } => write!(f, "{}: {source}", path.display()),
+            Error::Data(source) => write!(f, "{source}"),
             Error::Shard(source) => write!(f, "{source}"),
             Error::Slurm(message) => f.write_str(message),
             Error::Binning(source) => write!(f, "{source}"),

@@ -9,6 +9,7 @@
 //! `asymptotic` holds the Asimov answers the projection cross-checks against,
 //! `look_elsewhere` the global p-values of a scan over signal positions;
 //! `levers` prices each input a user can act on in Asimov days;
+//! `replan` projects onward from the data taken so far;
 //! `spectrum` draws pseudo-data spectra and `binning` scans bin widths and
 //! counting windows, both for planning beside the projection;
 //! `provenance` records what made each output file;
@@ -36,6 +37,7 @@ pub mod numeric;
 pub mod projection;
 pub mod provenance;
 pub mod reach;
+pub mod replan;
 pub mod report;
 pub mod scenario;
 pub mod shapes;

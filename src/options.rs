@@ -3,8 +3,8 @@
 //! limit on the command line is applied in one place.
 
 use crate::cli::{
-    BinningArgs, FigureArgs, LeversArgs, OutputArgs, PlanArgs, ProjectArgs, ReachArgs, SlurmArgs,
-    SpectrumArgs,
+    BinningArgs, FigureArgs, FutureArg, LeversArgs, OutputArgs, PlanArgs, ProjectArgs, ReachArgs,
+    ReplanArgs, SlurmArgs, SpectrumArgs,
 };
 use crate::error::Error;
 use runcast::calendar::DayArgument;
@@ -14,6 +14,7 @@ use runcast::model::{LiveTime, Model};
 use runcast::projection::{ProjectionSettings, ShardSpec};
 use runcast::provenance::{Provenance, ScenarioFile};
 use runcast::reach::ReachSettings;
+use runcast::replan::{ChannelData, Future, ReplanSettings, check_model, read_channel_data};
 use runcast::report::{DPI_RANGE, FigureFormats};
 use runcast::scenario::limits::{
     MAX_AT_DAYS, MAX_EXPECTED_COUNT_PER_BIN, MAX_REACH_EXPOSURES, MAX_SPECTRUM_EXPOSURES,
@@ -698,6 +699,158 @@ impl ReachOptions {
             loaded,
         })
     }
+}
+
+/// `runcast replan`, resolved: the plan as `project` resolves it, the day
+/// the data stopped, and each channel's data read and checked.
+pub struct ReplanOptions {
+    pub loaded: Loaded,
+    pub model: Model,
+    pub settings: ReplanSettings,
+    /// One per channel, in the scenario's order.
+    pub data: Vec<ChannelData>,
+    pub threads: Option<usize>,
+    pub quiet: bool,
+    pub out: PathBuf,
+    pub formats: FigureFormats,
+}
+
+impl ReplanOptions {
+    /// What made this re-plan: the scenario, the options that change a
+    /// number, and each data file's name and SHA-256 by channel.
+    pub fn provenance(&self) -> Provenance {
+        let settings = &self.settings;
+        let mut options = Map::new();
+        options.insert("seed".into(), json!(settings.plan.seed));
+        options.insert("toys".into(), json!(settings.plan.toys));
+        options.insert("cl".into(), json!(settings.plan.cl));
+        options.insert("taken_days".into(), json!(settings.taken_days));
+        options.insert("future".into(), json!(settings.future.name()));
+        let data: Vec<_> = self
+            .data
+            .iter()
+            .map(|data| json!({"channel": data.channel, "file": data.file.file, "sha256": data.file.sha256}))
+            .collect();
+        options.insert("data".into(), json!(data));
+        Provenance::new(vec![self.loaded.scenario_file()], options)
+    }
+
+    pub fn resolve(args: &ReplanArgs) -> Result<ReplanOptions, Error> {
+        if args.toys == Some(0) {
+            return Err(Error::Usage(
+                "--toys: must be at least 1: the conditional projection and the goodness of fit are made of pseudo-experiments".into(),
+            ));
+        }
+        let threads = check_threads(args.workers.threads)?;
+        let loaded = Loaded::load(&args.scenario)?;
+        let overrides = PlanOverrides {
+            toys: args.toys,
+            seed: args.seed,
+            ..PlanOverrides::default()
+        };
+        let plan = ProjectionSettings {
+            scan: None,
+            look_elsewhere_toys: 0,
+            ..projection_settings(&loaded, &overrides)?
+        };
+        let taken_days = loaded.calendar_days("--taken", &[args.taken])?[0];
+        let live_time = LiveTime::from_schedule(&loaded.scenario.schedule);
+        if !(taken_days.is_finite() && taken_days > 0.0) || live_time.live_days(taken_days) <= 0.0 {
+            return Err(Error::Usage(format!(
+                "--taken {}: expected a calendar day with live time by then (the data taken so far)",
+                show(taken_days)
+            )));
+        }
+        let model = Model::from_scenario(&loaded.scenario);
+        check_model(&model).map_err(|source| Error::Replan {
+            path: loaded.path.clone(),
+            source,
+        })?;
+        let settings = ReplanSettings {
+            plan,
+            taken_days,
+            toy_limit: args.toys.is_some(),
+            future: match args.future {
+                FutureArg::Fitted => Future::Fitted,
+                FutureArg::Nominal => Future::Nominal,
+            },
+        };
+        if settings.total_toys() > MAX_TOYS_IN_TOTAL {
+            return Err(Error::Usage(format!(
+                "--toys {}: {} pseudo-experiments in all, more than the {MAX_TOYS_IN_TOTAL} allowed",
+                settings.plan.toys,
+                settings.total_toys()
+            )));
+        }
+        check_countable(&loaded, &model, &settings.plan)?;
+        let data = data_files(&model, &args.data)?;
+        let (out, formats) = loaded.output(&args.output)?;
+        Ok(ReplanOptions {
+            loaded,
+            model,
+            settings,
+            data,
+            threads,
+            quiet: args.workers.quiet,
+            out,
+            formats,
+        })
+    }
+}
+
+/// Each `--data [CHANNEL=]FILE` read on its channel's bins: a bare FILE
+/// only for a scenario of one channel, every channel exactly once.
+fn data_files(model: &Model, given: &[String]) -> Result<Vec<ChannelData>, Error> {
+    let names = || {
+        let names: Vec<&str> = model.channels.iter().map(|c| c.name.as_str()).collect();
+        names.join(", ")
+    };
+    let mut files: Vec<Option<PathBuf>> = vec![None; model.channels.len()];
+    for argument in given {
+        let (index, file) = match argument.split_once('=') {
+            Some((channel, file)) => {
+                let index = model
+                    .channels
+                    .iter()
+                    .position(|c| c.name == channel)
+                    .ok_or_else(|| {
+                        Error::Usage(format!(
+                            "--data {argument}: the scenario has no channel {channel}; its channels are {}",
+                            names()
+                        ))
+                    })?;
+                (index, file)
+            }
+            None if model.channels.len() == 1 => (0, argument.as_str()),
+            None => {
+                return Err(Error::Usage(format!(
+                    "--data {argument}: the scenario has several channels; give each as CHANNEL=FILE ({})",
+                    names()
+                )));
+            }
+        };
+        if files[index].is_some() {
+            return Err(Error::Usage(format!(
+                "--data {argument}: channel {} is given more than once",
+                model.channels[index].name
+            )));
+        }
+        files[index] = Some(PathBuf::from(file));
+    }
+    model
+        .channels
+        .iter()
+        .zip(files)
+        .map(|(channel, file)| {
+            let file = file.ok_or_else(|| {
+                Error::Usage(format!(
+                    "--data: no data for channel {}; expected --data {}=FILE",
+                    channel.name, channel.name
+                ))
+            })?;
+            read_channel_data(&file, channel).map_err(Error::Data)
+        })
+        .collect()
 }
 
 /// `runcast binning`, resolved.

@@ -192,7 +192,7 @@ fn relative_links(text: &str) -> Vec<String> {
 
 /// `--quiet` belongs to the commands with a progress bar only.
 fn strip_quiet_where_unknown(mut arguments: Vec<String>) -> Vec<String> {
-    let with_progress = ["project", "reach", "compare"];
+    let with_progress = ["project", "reach", "compare", "replan"];
     if !arguments
         .first()
         .is_some_and(|command| with_progress.contains(&command.as_str()))

@@ -182,6 +182,18 @@ fn every_column_and_key_written_is_documented() {
             "levers",
         ],
         &[
+            "replan",
+            "narrow_peak.yaml",
+            "--data",
+            "narrow_peak_60d.csv",
+            "--taken",
+            "60",
+            "--toys",
+            "20",
+            "--out",
+            "replan",
+        ],
+        &[
             "reach",
             "two_volume_line.yaml",
             "--days",
@@ -221,6 +233,7 @@ fn every_column_and_key_written_is_documented() {
         "levers",
         "volumes",
         "compare_scans",
+        "replan",
     ] {
         for entry in fs::read_dir(scratch.path.join(folder)).unwrap() {
             let path = entry.unwrap().path();

@@ -9,6 +9,7 @@ mod merge;
 mod new;
 mod project;
 mod reach;
+mod replan;
 mod slurm;
 mod spectrum;
 
@@ -25,6 +26,7 @@ pub fn run(cli: Cli) -> Result<(), Error> {
         Command::Check { scenario } => check::run(&scenario),
         Command::Spectrum(args) => spectrum::run(&args),
         Command::Reach(args) => reach::run(&args),
+        Command::Replan(args) => replan::run(&args),
         Command::Binning(args) => binning::run(&args),
         Command::Compare(args) => compare::run(&args),
         Command::Levers(args) => levers::run(&args),

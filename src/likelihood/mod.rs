@@ -374,6 +374,51 @@ impl<'m> Likelihood<'m> {
         }
     }
 
+    /// The saturated-model deviance of the bins of `counts` at `theta`:
+    /// D = 2 sum_j [nu_j - n_j + n_j ln(n_j/nu_j)] (Baker and Cousins, Nucl.
+    /// Instrum. Meth. 221 (1984) 437, eq. 9 for Poisson counts), the
+    /// constraint terms left out; infinite where an expectation is invalid.
+    pub fn saturated_deviance(
+        &self,
+        theta: &[f64],
+        live_days: f64,
+        counts: &[f64],
+        work: &mut Workspace,
+    ) -> f64 {
+        if !self.expected_counts(theta, live_days, work) {
+            return f64::INFINITY;
+        }
+        2.0 * counts
+            .iter()
+            .zip(&work.expected)
+            .map(|(&n, &nu)| poisson_deviance_term(n, nu))
+            .sum::<f64>()
+    }
+
+    /// The covariance of the parameters at a minimum `theta` of -ln L: the
+    /// inverse of its Hessian there (the Cramér-Rao bound; common practice),
+    /// row-major; None when the Hessian is not positive definite (a
+    /// parameter at a bound with no curvature, say).
+    pub fn covariance(&self, theta: &[f64], live_days: f64, data: &Dataset) -> Option<Vec<f64>> {
+        let n = theta.len();
+        let mut work = self.workspace();
+        self.negative_log_likelihood_with_derivatives(theta, live_days, data, &mut work);
+        let mut inverse = vec![0.0; n * n];
+        let mut unit = vec![0.0; n];
+        for column in 0..n {
+            let mut matrix = work.hessian.clone();
+            unit.iter_mut().for_each(|value| *value = 0.0);
+            unit[column] = 1.0;
+            if !linear::solve_positive_definite(&mut matrix, &mut unit, n) {
+                return None;
+            }
+            for (row, &value) in unit.iter().enumerate() {
+                inverse[row * n + column] = value;
+            }
+        }
+        Some(inverse)
+    }
+
     /// -ln L at `theta` (saturated form, see module docs); infinite where the
     /// expectation is invalid (negative, NaN, or zero in a bin with counts).
     pub fn negative_log_likelihood(

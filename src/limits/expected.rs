@@ -114,16 +114,33 @@ pub fn toy_limit_ensemble(
 ) -> EnsembleOutcome {
     let generator = Generator::new(likelihood, &background_only(likelihood), live_days);
     let streams = Family::Exclusion.stream_index(exposure_index);
+    limit_ensemble(
+        likelihood, &generator, live_days, streams, plan, alpha, sigma,
+    )
+}
+
+/// Upper limits on mu of the pseudo-experiments `plan.toys` that `generator`
+/// draws after `live_days` from the streams `stream_index`, as
+/// [`toy_limit_ensemble`] computes them.
+pub fn limit_ensemble(
+    likelihood: &Likelihood,
+    generator: &Generator,
+    live_days: f64,
+    streams: u64,
+    plan: &EnsemblePlan,
+    alpha: f64,
+    sigma: f64,
+) -> EnsembleOutcome {
     match CountingWindow::of(likelihood.model(), live_days) {
         Some(window) => run_ensemble(
-            &generator,
+            generator,
             streams,
             plan,
             || (),
             |(), data| window.upper_limit(data, alpha),
         ),
         None => run_ensemble(
-            &generator,
+            generator,
             streams,
             plan,
             || UpperLimitTest::new(likelihood),
@@ -276,6 +293,20 @@ impl CountingWindow {
 /// (mu - mu-hat)/sigma), so the Illinois variant of regula falsi (Dowell and
 /// Jarratt, BIT 11 (1971) 168) needs few conditional fits; the root is kept to
 /// 1e-3 sigma, far below the spread of limits between pseudo-experiments.
+/// The CLs upper limit on mu of one dataset (the data taken, say), from
+/// q~_mu and the asymptotic formulae with sigma = `sigma` (the Asimov
+/// sigma_A), as each background-only pseudo-experiment's limit is found.
+pub fn asymptotic_limit_of(
+    likelihood: &Likelihood,
+    live_days: f64,
+    data: &Dataset,
+    alpha: f64,
+    sigma: f64,
+) -> Result<f64, FitFailure> {
+    let mut test = UpperLimitTest::new(likelihood);
+    asymptotic_toy_limit(&mut test, live_days, data, alpha, sigma)
+}
+
 fn asymptotic_toy_limit(
     test: &mut UpperLimitTest,
     live_days: f64,

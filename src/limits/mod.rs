@@ -11,4 +11,6 @@ pub use exact::{
     MAX_QUADRATURE_NODES, QUADRATURE_NODES, UncertainYield, poisson_cdf, poisson_cls,
     poisson_upper_limit, quadrature_nodes_for, standard_normal_nodes,
 };
-pub use expected::{AsymptoticLimits, asymptotic_limits, toy_limit_ensemble};
+pub use expected::{
+    AsymptoticLimits, asymptotic_limit_of, asymptotic_limits, limit_ensemble, toy_limit_ensemble,
+};

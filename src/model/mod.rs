@@ -219,6 +219,50 @@ impl Model {
         }
     }
 
+    /// The model of a re-plan: every channel twice, as two data blocks
+    /// sharing all parameters. First each channel's data taken by
+    /// `taken_live_days` (its components' exposure held at E(taken),
+    /// [`Exposure::taken`]), then, in the same order, each channel's data
+    /// still to come (E(L) - E(taken), [`Exposure::to_come`]); the
+    /// constraints are those of the model. At L live days the two blocks
+    /// expect together what one block expects after L, so a fit of both is
+    /// the fit of all the data, while the counts of the first block can be
+    /// kept as observed and only those of the second drawn.
+    ///
+    /// Two blocks rather than the sum of both counts: the product of the
+    /// blocks' Poisson terms equals that of their sums (up to a factor free
+    /// of the parameters) only when every component splits its exposure in
+    /// the same ratio, which a period scaling one background breaks.
+    /// Control-region constraints, whose counts grow with live time, are
+    /// not split: the caller refuses them.
+    pub fn taken_and_to_come(&self, taken_live_days: f64) -> Model {
+        let block = |suffix: &str, exposure: &dyn Fn(&Exposure) -> Exposure| -> Vec<Channel> {
+            self.channels
+                .iter()
+                .map(|channel| Channel {
+                    name: format!("{}{suffix}", channel.name),
+                    components: channel
+                        .components
+                        .iter()
+                        .map(|component| Component {
+                            exposure: exposure(&component.exposure),
+                            ..component.clone()
+                        })
+                        .collect(),
+                    ..channel.clone()
+                })
+                .collect()
+        };
+        let mut channels = block("", &|e| e.taken(taken_live_days));
+        channels.extend(block(" (to come)", &|e| e.to_come(taken_live_days)));
+        Model {
+            parameters: self.parameters.clone(),
+            channels,
+            constraints: self.constraints.clone(),
+            live_time: self.live_time.clone(),
+        }
+    }
+
     /// Expected events per live day at nominal parameters outside any
     /// period, split into (signal, background).
     pub fn nominal_rates(&self) -> (f64, f64) {

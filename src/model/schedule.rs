@@ -46,6 +46,9 @@ pub struct Exposure {
     /// (live days, factor) of consecutive stretches of live time; factor 1
     /// after the last. Empty for a component no period scales.
     segments: Vec<(f64, f64)>,
+    /// Exposure held from the start whatever the live days: that of data
+    /// already taken ([`Exposure::taken`]); 0 otherwise.
+    held: f64,
 }
 
 impl Exposure {
@@ -55,7 +58,7 @@ impl Exposure {
             return live_days;
         }
         let mut remaining = live_days;
-        let mut exposure = 0.0;
+        let mut exposure = self.held;
         for &(length, factor) in &self.segments {
             let inside = remaining.min(length);
             exposure += inside * factor;
@@ -65,6 +68,35 @@ impl Exposure {
             }
         }
         exposure + remaining
+    }
+
+    /// The exposure of the data taken by `taken_live_days`, as one block of a
+    /// re-plan: E(taken) at any live days, since those data are on disk
+    /// whatever comes later.
+    pub fn taken(&self, taken_live_days: f64) -> Exposure {
+        Exposure {
+            segments: vec![(f64::INFINITY, 0.0)],
+            held: self.at(taken_live_days),
+        }
+    }
+
+    /// The exposure still to come after `taken_live_days`: E(L) - E(taken)
+    /// from there on, 0 before. With [`Exposure::taken`] it adds up to E(L)
+    /// for L at or after the taken live days.
+    pub fn to_come(&self, taken_live_days: f64) -> Exposure {
+        let mut segments = vec![(taken_live_days, 0.0)];
+        let mut skipped = 0.0;
+        for &(length, factor) in &self.segments {
+            let end = skipped + length;
+            if end > taken_live_days {
+                segments.push((end - skipped.max(taken_live_days), factor));
+            }
+            skipped = end;
+        }
+        Exposure {
+            segments,
+            held: 0.0,
+        }
     }
 }
 
@@ -157,7 +189,10 @@ impl LiveTime {
         while segments.last().is_some_and(|&(_, factor)| factor == 1.0) {
             segments.pop();
         }
-        Exposure { segments }
+        Exposure {
+            segments,
+            held: 0.0,
+        }
     }
 
     /// The stretches of the schedule as (first calendar day, last calendar
@@ -399,6 +434,36 @@ mod tests {
         assert_eq!(signal.at(live_days), live_days);
         // Before day 120 nothing differs.
         assert_eq!(continuum.at(live.live_days(50.0)), live.live_days(50.0));
+    }
+
+    #[test]
+    fn data_taken_and_data_to_come_add_up_to_the_whole_exposure() {
+        // The same run as above, split at 100 live days (hand count: the
+        // continuum's exposure is 0.8 x 120 = 96 live days at full rate,
+        // then half rate): taken E(100) = 96 + 4/2 = 98, to come
+        // E(160) - 98 = 128 - 98 = 30.
+        let live = from_periods(0.8, "[{days: 120}, {background_scale: {continuum: 0.5}}]");
+        let continuum = live.exposure(|period| period.background_factor("continuum"));
+        let taken = continuum.taken(100.0);
+        let to_come = continuum.to_come(100.0);
+        for live_days in [100.0, 130.0, 160.0] {
+            assert_eq!(taken.at(live_days), 98.0);
+            let whole = taken.at(live_days) + to_come.at(live_days);
+            assert!(
+                (whole - continuum.at(live_days)).abs() < 1e-12,
+                "{live_days}"
+            );
+        }
+        assert!((to_come.at(160.0) - 30.0).abs() < 1e-12);
+        // Before the data stopped nothing is to come, and the taken data stay.
+        assert_eq!(to_come.at(50.0), 0.0);
+        assert_eq!(taken.at(0.0), 98.0);
+        // A component no period scales: E(L) = L split the same way.
+        let plain = Exposure::default();
+        assert_eq!(
+            plain.taken(60.0).at(90.0) + plain.to_come(60.0).at(90.0),
+            90.0
+        );
     }
 
     #[test]

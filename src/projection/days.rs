@@ -5,7 +5,7 @@ use super::point::PointParts;
 use super::refine::{DaySolver, ToyDay, ToyQuantity};
 use super::{
     DaysToExclusion, DaysToTarget, ExposurePoint, GlobalDays, GlobalSignificance, ProjectionError,
-    WithheldDay,
+    ToySource, WithheldDay,
 };
 use crate::asymptotic::{AsimovSignificance, significance};
 use crate::likelihood::{FitFailure, Likelihood};
@@ -21,10 +21,10 @@ use crate::numeric::{bisect_log, regula_falsi};
 /// (`with_scan`), also the days where the global significances of Z_A
 /// (root-found, N(u0) from the Asimov geometry at each exposure) and of the
 /// toy median (solved as the other toy days) reach the target.
-pub(super) fn days_to_targets(
+pub(super) fn days_to_targets<T: ToySource<Error = ProjectionError>>(
     model: &Model,
     asimov: &mut AsimovSignificance,
-    solver: &mut DaySolver,
+    solver: &mut DaySolver<'_, '_, '_, '_, T>,
     points: &[ExposurePoint],
     targets: &[f64],
     with_scan: bool,
@@ -120,10 +120,10 @@ pub(super) fn days_to_targets(
 /// the day is interpolated between them (Z^2 linear in live days). The toy
 /// median one is solved with extra points, each with its own discovery
 /// pseudo-experiments and background-only scans.
-fn global_days(
+fn global_days<T: ToySource<Error = ProjectionError>>(
     model: &Model,
     asimov: &mut AsimovSignificance,
-    solver: &mut DaySolver,
+    solver: &mut DaySolver<'_, '_, '_, '_, T>,
     points: &[ExposurePoint],
     target: f64,
     withheld: &mut Vec<WithheldDay>,
@@ -230,10 +230,10 @@ fn day_or_withheld(
 /// when statistics dominate, as the limit then falls as 1/sqrt(exposure);
 /// common practice). A point without a limit (no live time, or nothing
 /// excluded at any mu) counts as 1/limit^2 = 0.
-pub(super) fn days_to_exclusion(
+pub(super) fn days_to_exclusion<T: ToySource<Error = ProjectionError>>(
     likelihood: &Likelihood,
     asimov: &mut AsimovSignificance,
-    solver: &mut DaySolver,
+    solver: &mut DaySolver<'_, '_, '_, '_, T>,
     points: &[ExposurePoint],
     alpha: f64,
 ) -> Result<DaysToExclusion, ProjectionError> {

@@ -15,7 +15,7 @@ pub use ensembles::{
     PointRequest, PointToys, RunToys, ToySource,
 };
 pub use point::BAND_QUANTILES;
-pub use refine::{ABSOLUTE_PRECISION, MIN_CONVERGED_FRACTION, RELATIVE_PRECISION};
+pub use refine::{ABSOLUTE_PRECISION, MIN_CONVERGED_FRACTION, Origin, RELATIVE_PRECISION};
 pub use result::{
     AtDay, Calibration, ChannelPoint, DaysToExclusion, DaysToTarget, EventLimits, ExposurePoint,
     GlobalDays, GlobalSignificance, LookElsewhere, Projection, RateStretch, ScanSummary,
@@ -162,6 +162,26 @@ pub fn project_from<S: ToySource>(
     source: &mut S,
     progress: &(dyn Fn(u64) + Sync),
 ) -> Result<Projection, S::Error> {
+    let solving = RunToys {
+        seed: settings.seed,
+        shard: ShardSpec::WHOLE,
+        scan: settings.scan.as_ref(),
+        progress,
+    };
+    project_with(model, settings, source, solving, Origin::NoLiveTime)
+}
+
+/// The projection with the grid's pseudo-experiments from `source` and
+/// those of the points that solve the toy days from `solving` (whole
+/// ensembles), each solved day lying after `origin`: the one path of
+/// [`project_from`] and of a re-plan's conditional projections.
+pub fn project_with<S: ToySource, T: ToySource<Error = ProjectionError>>(
+    model: &Model,
+    settings: &ProjectionSettings,
+    source: &mut S,
+    solving: T,
+    origin: Origin,
+) -> Result<Projection, S::Error> {
     let likelihood = Likelihood::new(model);
     let mut asimov = AsimovSignificance::new(&likelihood);
     let channel_models = channels_alone(model);
@@ -170,7 +190,7 @@ pub fn project_from<S: ToySource>(
         channel_likelihoods.iter().map(ChannelAlone::new).collect();
     let runner = point::PointRunner::new(&likelihood, settings);
     let (points, at_points) = points(&runner, &mut asimov, &mut channels, settings, source)?;
-    let mut solver = DaySolver::new(&runner, progress);
+    let mut solver = DaySolver::new(&runner, solving, origin);
     let days_to_target = days::days_to_targets(
         model,
         &mut asimov,

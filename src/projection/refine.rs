@@ -11,7 +11,7 @@
 //! unsharded run.
 
 use super::point::{ChannelAlone, PointParts, PointRunner};
-use super::{ExposurePoint, RunToys, ShardSpec};
+use super::{ExposurePoint, ProjectionError, ToySource};
 use crate::asymptotic::AsimovSignificance;
 use std::collections::HashMap;
 
@@ -75,26 +75,35 @@ struct Sample {
     converged: (usize, usize),
 }
 
-/// Runs the extra points, whole ensembles from the run's seed, keeping each
-/// point computed so that another day asking for the same exposure and parts
-/// reuses it.
-pub(super) struct DaySolver<'s, 'a, 'l, 'm> {
+/// Where a solved day may lie before the first grid point with live time.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Origin {
+    /// Anywhere from no live time on (a projection from the start of the run).
+    NoLiveTime,
+    /// Nowhere: the first point is where the data begin (a re-plan, whose
+    /// first point is the data taken); a level reached there is reached on
+    /// its day.
+    FirstPoint,
+}
+
+/// Runs the extra points, whole ensembles from `source` (the run's seed),
+/// keeping each point computed so that another day asking for the same
+/// exposure and parts reuses it.
+pub(super) struct DaySolver<'s, 'a, 'l, 'm, T: ToySource<Error = ProjectionError>> {
     runner: &'s PointRunner<'a, 'l, 'm>,
-    source: RunToys<'s>,
+    source: T,
+    origin: Origin,
     points: HashMap<(u64, PointParts), ExposurePoint>,
 }
 
-impl<'s, 'a, 'l, 'm> DaySolver<'s, 'a, 'l, 'm> {
-    pub fn new(runner: &'s PointRunner<'a, 'l, 'm>, progress: &'s (dyn Fn(u64) + Sync)) -> Self {
-        let settings = runner.settings();
+impl<'s, 'a, 'l, 'm, T: ToySource<Error = ProjectionError>> DaySolver<'s, 'a, 'l, 'm, T> {
+    /// A solver whose extra points take their pseudo-experiments from
+    /// `source`: whole ensembles ([`ShardSpec::WHOLE`](super::ShardSpec::WHOLE)) from the run's seed.
+    pub fn new(runner: &'s PointRunner<'a, 'l, 'm>, source: T, origin: Origin) -> Self {
         DaySolver {
             runner,
-            source: RunToys {
-                seed: settings.seed,
-                shard: ShardSpec::WHOLE,
-                scan: settings.scan.as_ref(),
-                progress,
-            },
+            source,
+            origin,
             points: HashMap::new(),
         }
     }
@@ -122,7 +131,7 @@ impl<'s, 'a, 'l, 'm> DaySolver<'s, 'a, 'l, 'm> {
         asimov: &mut AsimovSignificance,
         days: f64,
         parts: PointParts,
-    ) -> Result<&ExposurePoint, super::ProjectionError> {
+    ) -> Result<&ExposurePoint, ProjectionError> {
         let live_days = self.runner.likelihood().model().live_time.live_days(days);
         let key = (live_days.to_bits(), parts);
         if !self.points.contains_key(&key) {
@@ -147,8 +156,8 @@ impl<'s, 'a, 'l, 'm> DaySolver<'s, 'a, 'l, 'm> {
         asimov: &mut AsimovSignificance,
         grid: &[ExposurePoint],
         quantity: &ToyQuantity,
-    ) -> Result<ToyDay, super::ProjectionError> {
-        let (mut below, mut above) = match bracket(grid, quantity) {
+    ) -> Result<ToyDay, ProjectionError> {
+        let (mut below, mut above) = match bracket(grid, quantity, self.origin) {
             Ok(bracket) => bracket,
             Err(day) => return Ok(day),
         };
@@ -287,7 +296,12 @@ fn interpolate(below: &Sample, above: &Sample, level: f64) -> f64 {
 
 /// The grid points (with live time, after the origin) below and at or above
 /// the level where it is first reached; otherwise the day it stands for.
-fn bracket(grid: &[ExposurePoint], quantity: &ToyQuantity) -> Result<(Sample, Sample), ToyDay> {
+fn bracket(
+    grid: &[ExposurePoint],
+    quantity: &ToyQuantity,
+    origin: Origin,
+) -> Result<(Sample, Sample), ToyDay> {
+    let mut first = true;
     let mut below = Sample {
         days: 0.0,
         live_days: 0.0,
@@ -307,8 +321,12 @@ fn bracket(grid: &[ExposurePoint], quantity: &ToyQuantity) -> Result<(Sample, Sa
             converged: (quantity.converged)(point),
         };
         if value >= quantity.level {
+            if first && origin == Origin::FirstPoint {
+                return Err(ToyDay::Day(point.days));
+            }
             return Ok((below, sample));
         }
+        first = false;
         below = sample;
     }
     Err(ToyDay::NotWithinGrid)

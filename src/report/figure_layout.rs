@@ -373,3 +373,39 @@ fn the_reach_comparison_of_the_two_volume_demos_keeps_its_text_clear() {
     assert_eq!(figures.len(), 4);
     assert_clear(&figures);
 }
+
+#[test]
+fn the_replan_of_the_demo_keeps_its_text_clear() {
+    use crate::replan::{Future, ReplanSettings, read_channel_data, replan};
+    let demos = demos();
+    let (_, scenario) = demos
+        .iter()
+        .find(|(name, _)| name == "narrow_peak.yaml")
+        .unwrap();
+    let model = Model::from_scenario(scenario);
+    let folder = Path::new(env!("CARGO_MANIFEST_DIR")).join("scenarios");
+    let data = read_channel_data(&folder.join("narrow_peak_60d.csv"), &model.channels[0]).unwrap();
+    let settings = ReplanSettings {
+        plan: ProjectionSettings {
+            title: scenario.title.clone(),
+            days: scenario.plan.days.days(),
+            day_spacing: scenario.plan.days.axis_spacing(),
+            detector_mass_kg: None,
+            at_days: Vec::new(),
+            toys: 40,
+            seed: 7,
+            targets: scenario.plan.targets.clone(),
+            cl: Some(scenario.plan.cl),
+            calibration_toys: 0,
+            scan: None,
+            look_elsewhere_toys: 0,
+        },
+        taken_days: 60.0,
+        future: Future::Fitted,
+        toy_limit: false,
+    };
+    let replan = replan(&model, None, vec![data], &settings, &|_| {}).unwrap();
+    let figures = figures_of(|| super::render_replan(&replan, &provenance()));
+    assert_eq!(figures.len(), 1);
+    assert_clear(&figures);
+}

@@ -27,6 +27,7 @@ mod kit;
 mod levers;
 mod projection;
 mod reach;
+mod replan;
 mod spectrum;
 mod warnings;
 mod writer;
@@ -48,6 +49,7 @@ pub use projection::{
     PROJECTION_SVG, render_all, summary,
 };
 pub use reach::{REACH_FILES, REACH_JSON, reach_summary, render_reach};
+pub use replan::{REPLAN_FILES, REPLAN_JSON, render_replan, replan_summary};
 pub use spectrum::{render_spectrum, spectrum_summary};
 pub use warnings::warning_text;
 pub use writer::{Leftover, Written, write_all, write_new};

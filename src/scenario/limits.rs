@@ -12,6 +12,10 @@ pub const MAX_SCENARIO_BYTES: u64 = 1 << 20;
 /// (32 MiB: a million rows of three numbers of a dozen digits).
 pub const MAX_ROWS_FILE_BYTES: u64 = 32 << 20;
 
+/// Largest data file `runcast replan` reads, in bytes (64 MiB: about five
+/// million event values of a dozen digits).
+pub const MAX_DATA_FILE_BYTES: u64 = 64 << 20;
+
 /// Most rows of a table read from a file (inline ones are bounded by the
 /// scenario's size): the bin fractions sweep them once, when the model is built.
 pub const MAX_TABLE_ROWS: usize = 1_000_000;
