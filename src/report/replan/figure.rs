@@ -15,7 +15,7 @@ use crate::report::kit::dates::dated_days_label;
 use crate::report::kit::figure::{self, Canvas, DrawError, Frame, Page, SIZE};
 use crate::report::kit::format::{rounded, target_label};
 use crate::report::kit::legend::{Legend, Sample};
-use crate::report::kit::marks::{self, BandPoint, Stroke};
+use crate::report::kit::marks::{self, BandPoint, CrossingLabels, Stroke};
 use crate::report::kit::palette::{INK, INK_TEAL, PLUM, SLATE};
 use crate::report::kit::schedule;
 use plotters::style::Color;
@@ -129,13 +129,14 @@ fn draw(canvas: &Canvas, replan: &Replan) -> Result<(), DrawError> {
     )?;
     // The days go into the legend, beside the markers' sample, so that no
     // label lies over the bands or the curves that cross there.
+    let mut labels = CrossingLabels::default();
     for row in &signal.days_to_target {
         let Some(days) = row.median_days.filter(|&days| days > replan.taken_days) else {
             continue;
         };
         marks::mark_crossing(
             &mut chart,
-            canvas,
+            &mut labels,
             (days, row.target),
             (INK_TEAL, Stroke::Solid),
             "",
@@ -150,5 +151,6 @@ fn draw(canvas: &Canvas, replan: &Replan) -> Result<(), DrawError> {
             ),
         );
     }
+    labels.place(canvas)?;
     legend.draw(&page.legend)
 }
