@@ -151,8 +151,9 @@ impl Loaded {
         let live_days = LiveTime::from_schedule(&self.scenario.schedule).live_days(days);
         if live_days <= 0.0 {
             return Err(Error::Usage(format!(
-                "{flag} {}: the schedule gives no live time by then (live days {live_days})",
-                show(days)
+                "{flag} {}: the schedule gives no live time by then (live days {})",
+                show(days),
+                show(live_days)
             )));
         }
         Ok(live_days)

@@ -22,6 +22,7 @@ use crate::ensemble::{EnsembleOutcome, EnsemblePlan};
 use crate::likelihood::{DiscoveryTest, FitFailure, Likelihood};
 use crate::limits::{asymptotic_limits, toy_limit_ensemble};
 use crate::look_elsewhere::REFERENCE_LEVEL;
+use crate::message::show_rounded;
 use crate::model::{Model, SIGNAL_STRENGTH};
 use crate::numeric::{Crossing, solve_increasing};
 use crate::projection::{BAND_QUANTILES, quantile};
@@ -139,11 +140,14 @@ impl fmt::Display for ReachError {
                 failure,
             } => write!(
                 f,
-                "the {what} at position {position} after {live_days} live days failed: {failure}"
+                "the {what} at position {} after {} live days failed: {failure}",
+                show_rounded(*position),
+                show_rounded(*live_days)
             ),
             ReachError::Geometry { live_days, failure } => write!(
                 f,
-                "the look-elsewhere geometry after {live_days} live days: {failure}"
+                "the look-elsewhere geometry after {} live days: {failure}",
+                show_rounded(*live_days)
             ),
         }
     }

@@ -2,7 +2,7 @@
 //! expected limit over the scan and the rates for the highest target, local
 //! and global.
 
-use crate::message::show;
+use crate::message::{show, show_rounded};
 use crate::reach::{ExposureReach, PositionReach, Reach};
 use crate::report::kit::format::{exposure_label, fit_percent, percent_label, target_label};
 use crate::report::kit::vocabulary::upcrossings_name;
@@ -44,9 +44,11 @@ fn extremes_line(
 ) -> String {
     match extremes(positions, value) {
         Some(((best_at, best), (worst_at, worst))) => format!(
-            "  {label}: best {} at {best_at} {unit}, worst {} at {worst_at} {unit}\n",
+            "  {label}: best {} at {} {unit}, worst {} at {} {unit}\n",
             rate(best),
-            rate(worst)
+            show_rounded(best_at),
+            rate(worst),
+            show_rounded(worst_at)
         ),
         None => format!("  {label}: not reached at any position\n"),
     }

@@ -11,7 +11,8 @@ use super::{compared_positions, exposure};
 use crate::report::ReportError;
 use crate::report::kit::axis::{Axis, axis_label, linear_axis};
 use crate::report::kit::figure::{self, Canvas, DrawError, Page};
-use crate::report::kit::format::{days_label, percent_label, target_label};
+use crate::report::kit::format::{percent_label, target_label};
+use crate::message::show_rounded;
 use crate::report::kit::legend::{Legend, Line};
 use crate::report::kit::marks;
 use crate::report::kit::palette::{DASH, DOT};
@@ -81,7 +82,7 @@ fn draw(canvas: &Canvas, comparison: &Comparison) -> Result<(), DrawError> {
     let span: Range<f64> = positions[0].position..positions[positions.len() - 1].position;
     let title = format!(
         "Reach after {}: {}",
-        days_label(exposure(first).days),
+        format!("{} d", show_rounded(exposure(first).days)),
         comparison.plans_compared()
     );
     let page = Page::titled(canvas, &title)?;

@@ -11,7 +11,8 @@ pub(super) mod json;
 
 use super::{ComparedPlan, Comparison};
 use crate::reach::ExposureReach;
-use crate::report::kit::format::{days_label, percent_label, rounded, target_label};
+use crate::report::kit::format::{percent_label, rounded, target_label};
+use crate::message::show_rounded;
 use serde::Serialize;
 
 /// One plan's reach at one position, beside the first plan's there; its
@@ -76,7 +77,7 @@ pub(super) fn reach_lines(comparison: &Comparison) -> String {
     };
     let mut text = format!(
         "\nReach after {} ({} at every position in compare-reach.csv), each plan's rate over the first plan's ({}) across the scan:\n",
-        days_label(exposure(first).days),
+        format!("{} d", show_rounded(exposure(first).days)),
         reach.rate_unit,
         first.label
     );
