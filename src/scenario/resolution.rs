@@ -139,6 +139,30 @@ impl Resolution {
         }
     }
 
+    /// This resolution with every width multiplied by `factor`: each
+    /// point's sigma, or all three terms (sigma(x) = sqrt(a² x + b² x² + c²)
+    /// scales with a, b and c together), as a file with those numbers
+    /// written would read.
+    pub fn scaled(&self, factor: f64) -> Resolution {
+        match self {
+            Resolution::Points(points) => Resolution::Points(
+                points
+                    .iter()
+                    .map(|&[x, sigma]| [x, sigma * factor])
+                    .collect(),
+            ),
+            Resolution::Terms {
+                stochastic,
+                constant,
+                noise,
+            } => Resolution::Terms {
+                stochastic: stochastic * factor,
+                constant: constant * factor,
+                noise: noise * factor,
+            },
+        }
+    }
+
     /// d sigma / d x at `x`: the slope of the segment holding x (0 beyond
     /// the end points), or (a² + 2 b² x) / (2 sigma) for the terms.
     pub fn slope_at(&self, x: f64) -> f64 {
