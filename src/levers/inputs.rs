@@ -610,6 +610,29 @@ mod tests {
     }
 
     #[test]
+    fn a_detector_level_signal_has_the_inputs_its_file_has() {
+        let names = names(&demo("two_volume_line.yaml"));
+        for expected in [
+            "signal.events_per_kg_day",
+            "signal.yield_uncertainty",
+            "channels.inner.signal_efficiency",
+            "channels.inner.resolution",
+            "channels.outer.detector.mass_kg",
+        ] {
+            assert!(
+                names.iter().any(|name| name == expected),
+                "{expected} in {names:?}"
+            );
+        }
+        for made_from_them in ["signal.events_per_day", "signal.shape.gaussian.sigma"] {
+            assert!(
+                !names.iter().any(|name| name.ends_with(made_from_them)),
+                "{made_from_them} in {names:?}"
+            );
+        }
+    }
+
+    #[test]
     fn a_lever_changes_only_its_input_and_is_validated() {
         let scenario = demo("counting_window.yaml");
         let found = inputs(&scenario);

@@ -247,6 +247,25 @@ mod tests {
         assert_eq!(resolution.slope_at(900.0), 0.0);
     }
 
+    /// A factor on the resolution multiplies every width: the points'
+    /// widths, or sqrt((ka)² x + (kb)² x² + (kc)²) = k sigma(x) for the terms.
+    #[test]
+    fn a_scaled_resolution_multiplies_every_width() {
+        let table = points(&[[100.0, 2.0], [300.0, 6.0]]).scaled(1.5);
+        assert_eq!(table, points(&[[100.0, 3.0], [300.0, 9.0]]));
+        let terms = Resolution::Terms {
+            stochastic: 0.5,
+            constant: 0.01,
+            noise: 1.0,
+        };
+        let wider = terms.scaled(2.0);
+        for x in [10.0, 400.0, 900.0] {
+            assert!(
+                (wider.sigma_at(x) - 2.0 * terms.sigma_at(x)).abs() < 1e-12 * terms.sigma_at(x)
+            );
+        }
+    }
+
     /// sigma(x) = sqrt(a² x + b² x² + c²) (PDG, "Calorimetry"): a = 0.5,
     /// b = 0.01, c = 1 at x = 400 gives sqrt(100 + 16 + 1) = sqrt(117).
     #[test]
