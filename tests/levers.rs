@@ -81,16 +81,14 @@ fn every_kind_of_input(values: &BTreeMap<String, f64>) -> String {
     )
 }
 
-/// Asimov days of a `project --asimov-only` projection.json: per target, and to exclusion.
-fn project_days(projection: &Value) -> (Vec<Value>, Value) {
-    let targets = projection["days_to_target"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .map(|row| row["asimov_days"].clone())
-        .collect();
+/// Asimov days of a `project --asimov-only` projection.json: per target,
+/// per target in global significance (null without a scan), and to exclusion.
+fn project_days(projection: &Value) -> (Vec<Value>, Vec<Value>, Value) {
+    let rows = projection["days_to_target"].as_array().unwrap();
+    let column = |key: &str| rows.iter().map(|row| row[key].clone()).collect();
     (
-        targets,
+        column("asimov_days"),
+        column("global_asimov_days"),
         projection["days_to_exclusion"]["asimov_days"].clone(),
     )
 }
@@ -106,59 +104,49 @@ fn assert_same_day(lever_day: &Value, project_day: &Value, what: &str) {
     }
 }
 
-#[test]
-fn every_lever_gives_the_days_of_project_asimov_only_on_the_changed_scenario() {
-    // The claim of the command: its days are those of `runcast project
-    // --asimov-only` on the scenario with that one input changed (same
-    // code path, so to 1e-9).
-    let scratch = Scratch::new("levers-rewrite");
-    fs::write(
-        scratch.path.join("plan.yaml"),
-        every_kind_of_input(&BTreeMap::new()),
-    )
-    .unwrap();
-    let (_, document) = levers(&scratch, "plan.yaml", &[]);
+/// `runcast project FILE --asimov-only` into `out`, and its Asimov days.
+fn project_asimov(scratch: &Scratch, file: &str, out: &str) -> (Vec<Value>, Vec<Value>, Value) {
+    run_ok(
+        scratch,
+        &["project", file, "--asimov-only", "--quiet", "--out", out],
+    );
+    project_days(&read_json(scratch, &format!("{out}/projection.json")))
+}
+
+/// The claim of the command, on the file `scenario` writes (each input at
+/// its nominal value unless `values` names it): its inputs are `expected`,
+/// and every lever's days, local, global and to exclusion, are those of
+/// `runcast project --asimov-only` on the file with that one input changed
+/// (the same code path, so to 1e-9); a side levers finds not valid is
+/// refused by `project` as well. Returns the levers summary and document.
+fn assert_levers_are_project_on_the_changed_file(
+    scratch: &Scratch,
+    scenario: impl Fn(&BTreeMap<String, f64>) -> String,
+    expected: &[&str],
+) -> (String, Value) {
+    fs::write(scratch.path.join("plan.yaml"), scenario(&BTreeMap::new())).unwrap();
+    let (stdout, document) = levers(scratch, "plan.yaml", &[]);
     let names: Vec<&str> = document["levers"]
         .as_array()
         .unwrap()
         .iter()
         .map(|lever| lever["input"].as_str().unwrap())
         .collect();
-    let mut expected = vec![
-        "signal.events_per_day",
-        "signal.yield_uncertainty",
-        "signal.shape.gaussian.sigma",
-        "backgrounds.continuum.events_per_day",
-        "backgrounds.continuum.norm_uncertainty",
-        "backgrounds.flat.events_per_day",
-        "backgrounds.flat.control.ratio",
-        "shared_uncertainties.calibration",
-        "schedule.live_fraction",
-        "schedule.periods[0].days",
-        "schedule.breaks[0].days",
-    ];
     let mut found = names.clone();
+    let mut expected = expected.to_vec();
     found.sort_unstable();
     expected.sort_unstable();
     assert_eq!(found, expected);
 
-    run_ok(
-        &scratch,
-        &[
-            "project",
-            "plan.yaml",
-            "--asimov-only",
-            "--quiet",
-            "--out",
-            "nominal",
-        ],
-    );
-    let (targets, exclusion) = project_days(&read_json(&scratch, "nominal/projection.json"));
-    for (index, day) in targets.iter().enumerate() {
-        assert_same_day(&document["baseline"]["asimov_days"][index], day, "baseline");
+    let (targets, global, exclusion) = project_asimov(scratch, "plan.yaml", "nominal");
+    let baseline = &document["baseline"];
+    for index in 0..targets.len() {
+        assert_same_day(&baseline["asimov_days"][index], &targets[index], "baseline");
+        let what = "baseline global";
+        assert_same_day(&baseline["global_asimov_days"][index], &global[index], what);
     }
     assert_same_day(
-        &document["baseline"]["exclusion_days"],
+        &baseline["exclusion_days"],
         &exclusion,
         "baseline exclusion",
     );
@@ -167,31 +155,170 @@ fn every_lever_gives_the_days_of_project_asimov_only_on_the_changed_scenario() {
         let lever = lever(&document, name);
         for side in ["improved", "worsened"] {
             let values = BTreeMap::from([(name.to_string(), number(&lever[side]))]);
-            fs::write(
-                scratch.path.join("changed.yaml"),
-                every_kind_of_input(&values),
-            )
-            .unwrap();
-            run_ok(
-                &scratch,
-                &[
-                    "project",
-                    "changed.yaml",
-                    "--asimov-only",
-                    "--quiet",
-                    "--out",
-                    "changed",
-                ],
-            );
-            let (targets, exclusion) =
-                project_days(&read_json(&scratch, "changed/projection.json"));
+            fs::write(scratch.path.join("changed.yaml"), scenario(&values)).unwrap();
             let what = format!("{name} {side}");
-            for (index, day) in targets.iter().enumerate() {
-                assert_same_day(&lever[format!("asimov_days_{side}")][index], day, &what);
+            if lever["reasons"][side].is_string() {
+                let refused = scratch.run(&["project", "changed.yaml", "--asimov-only", "--quiet"]);
+                assert_eq!(refused.status.code(), Some(1), "{what} runs in project");
+                continue;
+            }
+            let (targets, global, exclusion) = project_asimov(scratch, "changed.yaml", "changed");
+            for index in 0..targets.len() {
+                let days = &lever[format!("asimov_days_{side}")][index];
+                assert_same_day(days, &targets[index], &what);
+                let days = &lever[format!("global_asimov_days_{side}")][index];
+                assert_same_day(days, &global[index], &format!("{what} global"));
             }
             assert_same_day(&lever[format!("exclusion_days_{side}")], &exclusion, &what);
         }
     }
+    (stdout, document)
+}
+
+#[test]
+fn every_lever_gives_the_days_of_project_asimov_only_on_the_changed_scenario() {
+    let scratch = Scratch::new("levers-rewrite");
+    assert_levers_are_project_on_the_changed_file(
+        &scratch,
+        every_kind_of_input,
+        &[
+            "signal.events_per_day",
+            "signal.yield_uncertainty",
+            "signal.shape.gaussian.sigma",
+            "backgrounds.continuum.events_per_day",
+            "backgrounds.continuum.norm_uncertainty",
+            "backgrounds.flat.events_per_day",
+            "backgrounds.flat.control.ratio",
+            "shared_uncertainties.calibration",
+            "schedule.live_fraction",
+            "schedule.periods[0].days",
+            "schedule.breaks[0].days",
+        ],
+    );
+}
+
+/// A line of unknown position seen by two volumes through one
+/// detector-level signal per kg·day, scanned over five positions: the inner
+/// volume with resolution terms and a background per kg·day, the outer with
+/// resolution points, efficiency 0.95 and a background per day; `values`
+/// replaces any input by name, a resolution's factor multiplying every
+/// number of its widths, a background per kg·day given per day at the
+/// nominal mass.
+fn detector_level_line(values: &BTreeMap<String, f64>) -> String {
+    let value = |name: &str, nominal: f64| values.get(name).copied().unwrap_or(nominal);
+    let inner = value("channels.inner.resolution", 1.0);
+    let outer = value("channels.outer.resolution", 1.0);
+    let inner_mass = 5.0;
+    format!(
+        "title: detector-level line\n\
+         signal:\n  events_per_kg_day: {}\n  yield_uncertainty: {}\n  shape: {{gaussian: {{mean: 100.0}}}}\n  scan: {{from: 60.0, to: 140.0, step: 20.0}}\n\
+         channels:\n\
+         \x20 - name: inner\n    observable: {{name: energy, unit: keV, range: [0.0, 200.0], bin_width: 2.0}}\n    detector: {{mass_kg: {}}}\n    signal_efficiency: {}\n    resolution: {{stochastic: {}, constant: {}, noise: {}}}\n    backgrounds: [{{name: flat, events_per_kg_day: {}, norm_uncertainty: {}, shape: {{flat: {{}}}}}}]\n\
+         \x20 - name: outer\n    observable: {{name: energy, unit: keV, range: [0.0, 200.0], bin_width: 2.0}}\n    detector: {{mass_kg: {}}}\n    signal_efficiency: {}\n    resolution: {{points: [[0.0, {}], [200.0, {}]]}}\n    backgrounds: [{{name: falling, events_per_day: {}, shape: {{exponential: {{slope: -0.01}}}}}}]\n\
+         schedule: {{live_fraction: {}}}\n\
+         plan: {{days: {{first: 2, last: 3000, points: 14, spacing: log}}, toys: 1, seed: 1, targets: [3, 5]}}\n",
+        value("signal.events_per_kg_day", 0.05),
+        value("signal.yield_uncertainty", 0.1),
+        value("channels.inner.detector.mass_kg", inner_mass),
+        value("channels.inner.signal_efficiency", 0.8),
+        0.3 * inner,
+        0.01 * inner,
+        1.5 * inner,
+        value("channels.inner.backgrounds.flat.events_per_day", 10.0) / inner_mass,
+        value("channels.inner.backgrounds.flat.norm_uncertainty", 0.05),
+        value("channels.outer.detector.mass_kg", 12.0),
+        value("channels.outer.signal_efficiency", 0.95),
+        2.0 * outer,
+        6.0 * outer,
+        value("channels.outer.backgrounds.falling.events_per_day", 30.0),
+        value("schedule.live_fraction", 0.9),
+    )
+}
+
+#[test]
+fn a_detector_level_signal_has_the_inputs_of_its_file_each_acting_as_the_file_would() {
+    // The rate per kg·day acts on both volumes, each volume's efficiency
+    // and mass on its own signal (the mass on its background per kg·day
+    // too), and a resolution factor on every width the curve gives: at the
+    // signal position and along the scan, so the global days move with it.
+    let scratch = Scratch::new("levers-detector-level");
+    let (stdout, document) = assert_levers_are_project_on_the_changed_file(
+        &scratch,
+        detector_level_line,
+        &[
+            "signal.events_per_kg_day",
+            "signal.yield_uncertainty",
+            "channels.inner.signal_efficiency",
+            "channels.inner.resolution",
+            "channels.inner.backgrounds.flat.events_per_day",
+            "channels.inner.backgrounds.flat.norm_uncertainty",
+            "channels.inner.detector.mass_kg",
+            "channels.outer.signal_efficiency",
+            "channels.outer.resolution",
+            "channels.outer.backgrounds.falling.events_per_day",
+            "channels.outer.detector.mass_kg",
+            "schedule.live_fraction",
+        ],
+    );
+    let resolution = lever(&document, "channels.inner.resolution");
+    assert_eq!(resolution["unit"], "× nominal");
+    assert_eq!(
+        (
+            number(&resolution["nominal"]),
+            number(&resolution["improved"])
+        ),
+        (1.0, 0.9)
+    );
+    // An efficiency of 0.95 raised by 10% would exceed 1: that side is not
+    // a valid scenario, named, and the other side is computed.
+    let efficiency = lever(&document, "channels.outer.signal_efficiency");
+    let reason = efficiency["reasons"]["improved"].as_str().unwrap();
+    assert!(
+        reason.contains("channels.outer.signal_efficiency"),
+        "{reason}"
+    );
+    assert!(efficiency["asimov_days_worsened"][0].is_number());
+    assert!(
+        stdout.contains("channels.outer.signal_efficiency improved to 1.04: not valid"),
+        "{stdout}"
+    );
+}
+
+/// One channel at the top level whose width follows the top-level
+/// `resolution`; `values` replaces any input by name, the resolution's
+/// factor multiplying its terms.
+fn top_level_resolution(values: &BTreeMap<String, f64>) -> String {
+    let value = |name: &str, nominal: f64| values.get(name).copied().unwrap_or(nominal);
+    let factor = value("resolution", 1.0);
+    format!(
+        "title: one channel with a resolution\n\
+         observable: {{name: energy, unit: keV, range: [0.0, 200.0], bin_width: 2.0}}\n\
+         signal: {{events_per_day: {}, shape: {{gaussian: {{mean: 100.0}}}}}}\n\
+         resolution: {{stochastic: {}, noise: {}}}\n\
+         backgrounds: [{{name: flat, events_per_day: {}, shape: {{flat: {{}}}}}}]\n\
+         schedule: {{live_fraction: {}}}\n\
+         plan: {{days: {{first: 2, last: 3000, points: 14, spacing: log}}, toys: 1, seed: 1, targets: [3]}}\n",
+        value("signal.events_per_day", 0.5),
+        0.4 * factor,
+        2.0 * factor,
+        value("backgrounds.flat.events_per_day", 20.0),
+        value("schedule.live_fraction", 0.8),
+    )
+}
+
+#[test]
+fn a_top_level_resolution_is_the_input_resolution() {
+    let scratch = Scratch::new("levers-top-level-resolution");
+    assert_levers_are_project_on_the_changed_file(
+        &scratch,
+        top_level_resolution,
+        &[
+            "signal.events_per_day",
+            "resolution",
+            "backgrounds.flat.events_per_day",
+            "schedule.live_fraction",
+        ],
+    );
 }
 
 /// One counting window: `signal` and `background` events per live day, the

@@ -3,7 +3,9 @@
 //! copy that is validated again.
 
 use crate::calendar::CalendarDate;
-use crate::scenario::{NormUncertainty, RateUnit, Scenario, ScenarioError};
+use crate::scenario::{
+    ChannelSyntax, NormUncertainty, RateUnit, SIGNAL_YIELD_SHARED, Scenario, ScenarioError,
+};
 use crate::shapes::{ParameterValue, Placement};
 
 /// Which way an input is better: a lower background, a higher signal, ...
@@ -19,6 +21,20 @@ pub enum Better {
 pub enum InputKind {
     /// `signal.events_per_day`: the signal rate after efficiency.
     SignalRate {
+        channel: usize,
+    },
+    /// The detector-level signal's rate as written (`signal.events_per_kg_day`,
+    /// ...), seen by every channel through its mass and efficiency.
+    DetectorSignalRate,
+    /// A channel's `signal_efficiency` for a detector-level signal: a
+    /// fraction, at most 1.
+    SignalEfficiency {
+        channel: usize,
+    },
+    /// A channel's `resolution` for a detector-level signal, as a factor on
+    /// every width it gives (1 as written): the peak's width at the signal
+    /// position and along the scan.
+    ResolutionScale {
         channel: usize,
     },
     BackgroundRate {
@@ -74,6 +90,8 @@ impl InputKind {
     pub fn better(self) -> Better {
         match self {
             InputKind::SignalRate { .. }
+            | InputKind::DetectorSignalRate
+            | InputKind::SignalEfficiency { .. }
             | InputKind::ControlRatio { .. }
             | InputKind::DetectorMass { .. }
             | InputKind::LiveFraction => Better::Higher,
@@ -104,6 +122,13 @@ pub struct Input {
 /// then the shared uncertainties, the live fraction, the reduced-rate
 /// periods and the breaks. Uncertainties that are absent (or 0) are not
 /// inputs: there is nothing to improve.
+///
+/// A detector-level signal's inputs are those its file has: first its rate
+/// as written (`signal.events_per_kg_day`, ...) and its
+/// `signal.yield_uncertainty`, each acting on every channel; then per
+/// channel, in place of the channel's signal rate and width made from
+/// them, the `signal_efficiency` (of a listed channel that sees the signal)
+/// and the `resolution` as a factor on its widths.
 pub fn inputs(scenario: &Scenario) -> Vec<Input> {
     let mut found = Vec::new();
     let mut add = |name: String, unit: &str, nominal: f64, kind: InputKind| {
@@ -114,6 +139,20 @@ pub fn inputs(scenario: &Scenario) -> Vec<Input> {
             kind,
         })
     };
+    let detector_signal = scenario.detector_signal.as_ref();
+    let shared_yield = shared_signal_yield(scenario);
+    if let Some(detector_signal) = detector_signal {
+        add(
+            format!("signal.{}", detector_signal.unit.key()),
+            &detector_signal.unit_label(),
+            detector_signal.rate,
+            InputKind::DetectorSignalRate,
+        );
+        if let Some((index, width)) = shared_yield {
+            let kind = InputKind::SharedUncertainty { index };
+            add(SIGNAL_YIELD_SHARED.into(), "relative", width, kind);
+        }
+    }
     let several = scenario.channels.len() > 1;
     for (channel, written) in scenario.channels.iter().enumerate() {
         let prefix = if several {
@@ -122,12 +161,28 @@ pub fn inputs(scenario: &Scenario) -> Vec<Input> {
             String::new()
         };
         let signal = &written.signal;
-        add(
-            format!("{prefix}signal.events_per_day"),
-            "events per live day",
-            signal.events_per_day,
-            InputKind::SignalRate { channel },
-        );
+        match detector_signal {
+            None => add(
+                format!("{prefix}signal.events_per_day"),
+                "events per live day",
+                signal.events_per_day,
+                InputKind::SignalRate { channel },
+            ),
+            Some(detector_signal) => {
+                let efficiency = detector_signal.channels[channel].efficiency;
+                if scenario.channel_syntax == ChannelSyntax::List && efficiency > 0.0 {
+                    let kind = InputKind::SignalEfficiency { channel };
+                    add(
+                        format!("{prefix}signal_efficiency"),
+                        "fraction",
+                        efficiency,
+                        kind,
+                    );
+                }
+                let kind = InputKind::ResolutionScale { channel };
+                add(format!("{prefix}resolution"), "× nominal", 1.0, kind);
+            }
+        }
         if let Some(width) = positive(signal.yield_uncertainty) {
             let kind = InputKind::SignalYieldUncertainty { channel };
             add(
@@ -137,7 +192,9 @@ pub fn inputs(scenario: &Scenario) -> Vec<Input> {
                 kind,
             );
         }
-        if let Some((parameter, key, name, value)) = signal_width(scenario, channel) {
+        if detector_signal.is_none()
+            && let Some((parameter, key, name, value)) = signal_width(scenario, channel)
+        {
             let kind = InputKind::SignalWidth { channel, parameter };
             let unit = &written.observable.unit;
             add(
@@ -222,7 +279,7 @@ pub fn inputs(scenario: &Scenario) -> Vec<Input> {
         add("detector.mass_kg".into(), "kg", detector.mass_kg, kind);
     }
     for (index, (name, width)) in scenario.shared_uncertainties.iter().enumerate() {
-        if *width > 0.0 {
+        if *width > 0.0 && shared_yield.is_none_or(|(shared, _)| shared != index) {
             let kind = InputKind::SharedUncertainty { index };
             add(
                 format!("shared_uncertainties.{name}"),
@@ -270,6 +327,19 @@ fn positive(value: Option<f64>) -> Option<f64> {
     value.filter(|&value| value > 0.0)
 }
 
+/// The index and width of the shared uncertainty a detector-level
+/// `signal.yield_uncertainty` of several channels becomes
+/// ([`SIGNAL_YIELD_SHARED`]), when it is above 0.
+fn shared_signal_yield(scenario: &Scenario) -> Option<(usize, f64)> {
+    scenario.detector_signal.as_ref()?;
+    scenario
+        .shared_uncertainties
+        .iter()
+        .enumerate()
+        .find(|(_, (name, width))| name.as_str() == SIGNAL_YIELD_SHARED && **width > 0.0)
+        .map(|(index, (_, width))| (index, *width))
+}
+
 /// True when some rate of channel `channel` is written per kg·day, so its
 /// detector mass scales it.
 fn rates_per_kg_day(scenario: &Scenario, channel: usize) -> bool {
@@ -309,6 +379,51 @@ impl Input {
         match self.kind {
             InputKind::SignalRate { channel } => {
                 changed.channels[channel].signal.events_per_day = value;
+            }
+            InputKind::DetectorSignalRate => {
+                if !(value.is_finite() && value > 0.0) {
+                    return Err(invalid(&self.name, value, "a finite rate above 0"));
+                }
+                if let Some(detector_signal) = &mut changed.detector_signal {
+                    detector_signal.rate = value;
+                }
+                remake_channel_signal_rates(&mut changed);
+            }
+            InputKind::SignalEfficiency { channel } => {
+                if !(value.is_finite() && (0.0..=1.0).contains(&value)) {
+                    return Err(invalid(&self.name, value, "a fraction from 0 to 1"));
+                }
+                if let Some(detector_signal) = &mut changed.detector_signal {
+                    let response = &mut detector_signal.channels[channel];
+                    response.rate_factor *= ratio;
+                    response.efficiency = value;
+                    if detector_signal
+                        .channels
+                        .iter()
+                        .all(|response| response.efficiency == 0.0)
+                    {
+                        return Err(invalid(
+                            &self.name,
+                            value,
+                            "above 0 when every other channel has signal_efficiency 0",
+                        ));
+                    }
+                }
+                remake_channel_signal_rates(&mut changed);
+            }
+            InputKind::ResolutionScale { channel } => {
+                if !(value.is_finite() && value > 0.0) {
+                    return Err(invalid(&self.name, value, "a finite factor above 0"));
+                }
+                if let Some(detector_signal) = &mut changed.detector_signal
+                    && let Some((parameter, ..)) = signal_width(scenario, channel)
+                {
+                    let response = &mut detector_signal.channels[channel];
+                    response.resolution = response.resolution.scaled(value);
+                    let width = response.resolution.sigma_at(detector_signal.position);
+                    changed.channels[channel].signal.shape.values[parameter] =
+                        ParameterValue::Number(width);
+                }
             }
             InputKind::BackgroundRate {
                 channel,
@@ -384,9 +499,26 @@ impl Input {
     }
 }
 
+/// Each channel's signal rate made again from a detector-level one: the
+/// rate as written times the channel's events per live day per unit of it
+/// (mass × efficiency), as reading the file makes it.
+fn remake_channel_signal_rates(scenario: &mut Scenario) {
+    if let Some(detector_signal) = &scenario.detector_signal {
+        for (channel, response) in scenario.channels.iter_mut().zip(&detector_signal.channels) {
+            channel.signal.events_per_day = detector_signal.rate * response.rate_factor;
+        }
+    }
+}
+
 /// Every rate of channel `channel` written per kg·day multiplied by `ratio`
-/// (the new mass over the old): expected events = rate × mass × live days.
+/// (the new mass over the old): expected events = rate × mass × live days;
+/// so is what the channel sees of a detector-level rate per kg·day.
 fn scale_rates_per_kg_day(scenario: &mut Scenario, channel: usize, ratio: f64) {
+    if let Some(detector_signal) = &mut scenario.detector_signal
+        && detector_signal.unit == RateUnit::PerKgDay
+    {
+        detector_signal.channels[channel].rate_factor *= ratio;
+    }
     let channel = &mut scenario.channels[channel];
     if channel.signal.rate_unit == RateUnit::PerKgDay {
         channel.signal.events_per_day *= ratio;
@@ -475,6 +607,29 @@ mod tests {
             );
         }
         assert_eq!(names.len(), 10, "{names:?}");
+    }
+
+    #[test]
+    fn a_detector_level_signal_has_the_inputs_its_file_has() {
+        let names = names(&demo("two_volume_line.yaml"));
+        for expected in [
+            "signal.events_per_kg_day",
+            "signal.yield_uncertainty",
+            "channels.inner.signal_efficiency",
+            "channels.inner.resolution",
+            "channels.outer.detector.mass_kg",
+        ] {
+            assert!(
+                names.iter().any(|name| name == expected),
+                "{expected} in {names:?}"
+            );
+        }
+        for made_from_them in ["signal.events_per_day", "signal.shape.gaussian.sigma"] {
+            assert!(
+                !names.iter().any(|name| name.ends_with(made_from_them)),
+                "{made_from_them} in {names:?}"
+            );
+        }
     }
 
     #[test]

@@ -139,6 +139,30 @@ impl Resolution {
         }
     }
 
+    /// This resolution with every width multiplied by `factor`: each
+    /// point's sigma, or all three terms (sigma(x) = sqrt(a² x + b² x² + c²)
+    /// scales with a, b and c together), as a file with those numbers
+    /// written would read.
+    pub fn scaled(&self, factor: f64) -> Resolution {
+        match self {
+            Resolution::Points(points) => Resolution::Points(
+                points
+                    .iter()
+                    .map(|&[x, sigma]| [x, sigma * factor])
+                    .collect(),
+            ),
+            Resolution::Terms {
+                stochastic,
+                constant,
+                noise,
+            } => Resolution::Terms {
+                stochastic: stochastic * factor,
+                constant: constant * factor,
+                noise: noise * factor,
+            },
+        }
+    }
+
     /// d sigma / d x at `x`: the slope of the segment holding x (0 beyond
     /// the end points), or (a² + 2 b² x) / (2 sigma) for the terms.
     pub fn slope_at(&self, x: f64) -> f64 {
@@ -221,6 +245,25 @@ mod tests {
         assert_eq!(resolution.sigma_at(350.0), 6.0);
         assert_eq!(resolution.sigma_at(900.0), 6.0);
         assert_eq!(resolution.slope_at(900.0), 0.0);
+    }
+
+    /// A factor on the resolution multiplies every width: the points'
+    /// widths, or sqrt((ka)² x + (kb)² x² + (kc)²) = k sigma(x) for the terms.
+    #[test]
+    fn a_scaled_resolution_multiplies_every_width() {
+        let table = points(&[[100.0, 2.0], [300.0, 6.0]]).scaled(1.5);
+        assert_eq!(table, points(&[[100.0, 3.0], [300.0, 9.0]]));
+        let terms = Resolution::Terms {
+            stochastic: 0.5,
+            constant: 0.01,
+            noise: 1.0,
+        };
+        let wider = terms.scaled(2.0);
+        for x in [10.0, 400.0, 900.0] {
+            assert!(
+                (wider.sigma_at(x) - 2.0 * terms.sigma_at(x)).abs() < 1e-12 * terms.sigma_at(x)
+            );
+        }
     }
 
     /// sigma(x) = sqrt(a² x + b² x² + c²) (PDG, "Calorimetry"): a = 0.5,
