@@ -201,14 +201,12 @@ fn every_lever_gives_the_days_of_project_asimov_only_on_the_changed_scenario() {
 /// detector-level signal per kg·day, scanned over five positions: the inner
 /// volume with resolution terms and a background per kg·day, the outer with
 /// resolution points, efficiency 0.95 and a background per day; `values`
-/// replaces any input by name, a resolution's factor multiplying every
-/// number of its widths, a background per kg·day given per day at the
-/// nominal mass.
+/// replaces any input by name (each rate in the unit the file writes it),
+/// a resolution's factor multiplying every number of its widths.
 fn detector_level_line(values: &BTreeMap<String, f64>) -> String {
     let value = |name: &str, nominal: f64| values.get(name).copied().unwrap_or(nominal);
     let inner = value("channels.inner.resolution", 1.0);
     let outer = value("channels.outer.resolution", 1.0);
-    let inner_mass = 5.0;
     format!(
         "title: detector-level line\n\
          signal:\n  events_per_kg_day: {}\n  yield_uncertainty: {}\n  shape: {{gaussian: {{mean: 100.0}}}}\n  scan: {{from: 60.0, to: 140.0, step: 20.0}}\n\
@@ -219,12 +217,12 @@ fn detector_level_line(values: &BTreeMap<String, f64>) -> String {
          plan: {{days: {{first: 2, last: 3000, points: 14, spacing: log}}, toys: 1, seed: 1, targets: [3, 5]}}\n",
         value("signal.events_per_kg_day", 0.05),
         value("signal.yield_uncertainty", 0.1),
-        value("channels.inner.detector.mass_kg", inner_mass),
+        value("channels.inner.detector.mass_kg", 5.0),
         value("channels.inner.signal_efficiency", 0.8),
         0.3 * inner,
         0.01 * inner,
         1.5 * inner,
-        value("channels.inner.backgrounds.flat.events_per_day", 10.0) / inner_mass,
+        value("channels.inner.backgrounds.flat.events_per_kg_day", 2.0),
         value("channels.inner.backgrounds.flat.norm_uncertainty", 0.05),
         value("channels.outer.detector.mass_kg", 12.0),
         value("channels.outer.signal_efficiency", 0.95),
@@ -250,7 +248,7 @@ fn a_detector_level_signal_has_the_inputs_of_its_file_each_acting_as_the_file_wo
             "signal.yield_uncertainty",
             "channels.inner.signal_efficiency",
             "channels.inner.resolution",
-            "channels.inner.backgrounds.flat.events_per_day",
+            "channels.inner.backgrounds.flat.events_per_kg_day",
             "channels.inner.backgrounds.flat.norm_uncertainty",
             "channels.inner.detector.mass_kg",
             "channels.outer.signal_efficiency",
@@ -260,6 +258,12 @@ fn a_detector_level_signal_has_the_inputs_of_its_file_each_acting_as_the_file_wo
             "schedule.live_fraction",
         ],
     );
+    let background = lever(
+        &document,
+        "channels.inner.backgrounds.flat.events_per_kg_day",
+    );
+    assert_eq!(background["unit"], "events per kg·day");
+    assert_eq!(number(&background["nominal"]), 2.0);
     let resolution = lever(&document, "channels.inner.resolution");
     assert_eq!(resolution["unit"], "× nominal");
     assert_eq!(

@@ -162,12 +162,15 @@ pub fn inputs(scenario: &Scenario) -> Vec<Input> {
         };
         let signal = &written.signal;
         match detector_signal {
-            None => add(
-                format!("{prefix}signal.events_per_day"),
-                "events per live day",
-                signal.events_per_day,
-                InputKind::SignalRate { channel },
-            ),
+            None => {
+                let (key, unit, nominal) = rate_as_written(
+                    signal.rate_unit,
+                    signal.written_rate_value(),
+                    signal.events_per_day,
+                );
+                let kind = InputKind::SignalRate { channel };
+                add(format!("{prefix}signal.{key}"), &unit, nominal, kind);
+            }
             Some(detector_signal) => {
                 let efficiency = detector_signal.channels[channel].efficiency;
                 if scenario.channel_syntax == ChannelSyntax::List && efficiency > 0.0 {
@@ -225,15 +228,16 @@ pub fn inputs(scenario: &Scenario) -> Vec<Input> {
         }
         for (background, written) in written.backgrounds.iter().enumerate() {
             let path = format!("{prefix}backgrounds.{}", written.name);
-            add(
-                format!("{path}.events_per_day"),
-                "events per live day",
+            let (key, unit, nominal) = rate_as_written(
+                written.rate_unit,
+                written.written_rate_value(),
                 written.events_per_day,
-                InputKind::BackgroundRate {
-                    channel,
-                    background,
-                },
             );
+            let kind = InputKind::BackgroundRate {
+                channel,
+                background,
+            };
+            add(format!("{path}.{key}"), &unit, nominal, kind);
             if let Some(NormUncertainty::Relative(width)) = written.norm_uncertainty
                 && width > 0.0
             {
@@ -323,6 +327,23 @@ pub fn inputs(scenario: &Scenario) -> Vec<Input> {
     found
 }
 
+/// The unit of a rate given per live day, as [`rate_as_written`] words it.
+const EVENTS_PER_LIVE_DAY: &str = "events per live day";
+
+/// A rate input as its file writes it: the key, the unit in words and the
+/// written value ("events_per_kg_day", "events per kg·day", 2); events per
+/// live day where the program made the rate.
+fn rate_as_written(
+    unit: RateUnit,
+    written: Option<f64>,
+    per_day: f64,
+) -> (&'static str, String, f64) {
+    match written {
+        Some(value) => (unit.key(), format!("events {}", unit.label()), value),
+        None => (RateUnit::PerDay.key(), EVENTS_PER_LIVE_DAY.into(), per_day),
+    }
+}
+
 fn positive(value: Option<f64>) -> Option<f64> {
     value.filter(|&value| value > 0.0)
 }
@@ -371,6 +392,18 @@ fn signal_width(scenario: &Scenario, channel: usize) -> Option<(usize, &'static 
 }
 
 impl Input {
+    /// The events per live day of a rate input set to `value` in its
+    /// written unit, from the nominal `per_day`: the conversion is linear
+    /// (per week / 7, per year / 365.25, per kg·day × mass), so the ratio
+    /// to the nominal carries over; a rate written per live day is `value`.
+    fn per_live_day(&self, per_day: f64, value: f64) -> f64 {
+        if self.unit == EVENTS_PER_LIVE_DAY {
+            value
+        } else {
+            per_day * (value / self.nominal)
+        }
+    }
+
     /// A copy of `scenario` with this input set to `value`, validated as a
     /// scenario file is; the error names the field a bad value breaks.
     pub fn set(&self, scenario: &Scenario, value: f64) -> Result<Scenario, ScenarioError> {
@@ -378,7 +411,8 @@ impl Input {
         let ratio = value / self.nominal;
         match self.kind {
             InputKind::SignalRate { channel } => {
-                changed.channels[channel].signal.events_per_day = value;
+                let signal = &mut changed.channels[channel].signal;
+                signal.events_per_day = self.per_live_day(signal.events_per_day, value);
             }
             InputKind::DetectorSignalRate => {
                 if !(value.is_finite() && value > 0.0) {
@@ -428,7 +462,10 @@ impl Input {
             InputKind::BackgroundRate {
                 channel,
                 background,
-            } => changed.channels[channel].backgrounds[background].events_per_day = value,
+            } => {
+                let background = &mut changed.channels[channel].backgrounds[background];
+                background.events_per_day = self.per_live_day(background.events_per_day, value);
+            }
             InputKind::NormUncertainty {
                 channel,
                 background,

@@ -182,6 +182,12 @@ pub struct Signal {
 }
 
 impl Signal {
+    /// The value of the rate key the file gives (in [`Self::rate_unit`]);
+    /// None for a rate the program made (a detector-level signal's share).
+    pub fn written_rate_value(&self) -> Option<f64> {
+        self.written_rate().value()
+    }
+
     /// The rate as written.
     fn written_rate(&self) -> WrittenRate {
         WrittenRate {
@@ -231,6 +237,12 @@ pub struct Background {
 }
 
 impl Background {
+    /// The value of the rate key the file gives (in [`Self::rate_unit`]);
+    /// None for a rate the program made (a detector-level signal's share).
+    pub fn written_rate_value(&self) -> Option<f64> {
+        self.written_rate().value()
+    }
+
     /// The rate as written.
     fn written_rate(&self) -> WrittenRate {
         WrittenRate {

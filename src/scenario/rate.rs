@@ -109,6 +109,11 @@ impl WrittenRate {
         }
     }
 
+    /// The value of the one rate key given; None unless exactly one is.
+    pub(super) fn value(&self) -> Option<f64> {
+        self.single("").ok().map(|(value, _)| value)
+    }
+
     /// Events per live day: a rate per week divided by 7, per year by
     /// [`DAYS_PER_YEAR`], per kg·day multiplied by the detector mass. A
     /// located error when the key is missing or repeated, the value not a

@@ -8,11 +8,11 @@
 
 use super::super::{COMPARE_REACH_SVG, Comparison, plan_colour};
 use super::{compared_positions, exposure};
+use crate::message::show_rounded;
 use crate::report::ReportError;
 use crate::report::kit::axis::{Axis, axis_label, linear_axis};
 use crate::report::kit::figure::{self, Canvas, DrawError, Page};
 use crate::report::kit::format::{percent_label, target_label};
-use crate::message::show_rounded;
 use crate::report::kit::legend::{Legend, Line};
 use crate::report::kit::marks;
 use crate::report::kit::palette::{DASH, DOT};

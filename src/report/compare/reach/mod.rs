@@ -10,9 +10,9 @@ pub(super) mod figure;
 pub(super) mod json;
 
 use super::{ComparedPlan, Comparison};
+use crate::message::show_rounded;
 use crate::reach::ExposureReach;
 use crate::report::kit::format::{percent_label, rounded, target_label};
-use crate::message::show_rounded;
 use serde::Serialize;
 
 /// One plan's reach at one position, beside the first plan's there; its
