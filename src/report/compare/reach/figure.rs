@@ -81,8 +81,8 @@ fn draw(canvas: &Canvas, comparison: &Comparison) -> Result<(), DrawError> {
     let positions = &exposure(first).positions;
     let span: Range<f64> = positions[0].position..positions[positions.len() - 1].position;
     let title = format!(
-        "Reach after {}: {}",
-        format!("{} d", show_rounded(exposure(first).days)),
+        "Reach after {} d: {}",
+        show_rounded(exposure(first).days),
         comparison.plans_compared()
     );
     let page = Page::titled(canvas, &title)?;

@@ -76,8 +76,8 @@ pub(super) fn reach_lines(comparison: &Comparison) -> String {
         return String::new();
     };
     let mut text = format!(
-        "\nReach after {} ({} at every position in compare-reach.csv), each plan's rate over the first plan's ({}) across the scan:\n",
-        format!("{} d", show_rounded(exposure(first).days)),
+        "\nReach after {} d ({} at every position in compare-reach.csv), each plan's rate over the first plan's ({}) across the scan:\n",
+        show_rounded(exposure(first).days),
         reach.rate_unit,
         first.label
     );
