@@ -103,7 +103,7 @@ fn every_column_and_key_written_is_documented() {
         let entry = entry.unwrap();
         fs::copy(entry.path(), scratch.path.join(entry.file_name())).unwrap();
     }
-    let runs: [&[&str]; 10] = [
+    let runs: [&[&str]; 11] = [
         &[
             "project",
             "unknown_line.yaml",
