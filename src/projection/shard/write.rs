@@ -14,7 +14,7 @@ use std::io::{BufWriter, Write};
 use std::path::{Path, PathBuf};
 
 /// Runs shard `shard` of the projection `run` and writes it into
-/// `directory` (see [`write_shard_file`]). Returns the path written.
+/// `directory` (as `write_shard_file` writes every shard). Returns the path written.
 pub fn run_shard(
     model: &Model,
     run: &ShardRun,
