@@ -124,12 +124,12 @@ pub enum Command {
     /// 2000 bins: toys per second on 1 and 2 threads, draws alone, peak memory,
     /// the Asimov-only projection time; a table on stdout.
     Bench(BenchArgs),
-    /// Merge the shards in DIR (runcast project --shard K/N) into the outputs of the unsharded run.
+    /// Merge the shards in DIR (runcast project or replan --shard K/N) into the outputs of the unsharded run.
     ///
     /// Checks that DIR holds all N shards of one run (same scenario, seed and
     /// options, each intact and written by this build of runcast, whose
     /// identifier --version shows), then writes the same files, byte for
-    /// byte, as runcast project without --shard, into DIR.
+    /// byte, as the run without --shard (runcast project or replan), into DIR.
     Merge {
         /// The directory holding the shard files.
         directory: PathBuf,
@@ -357,6 +357,11 @@ pub struct ReplanArgs {
     pub output: OutputArgs,
     #[command(flatten)]
     pub workers: WorkerArgs,
+    /// Run only shard K of N of the goodness of fit's and the conditional
+    /// projections' pseudo-experiments and write it to the output directory
+    /// as one shard file; runcast merge makes the outputs from all N.
+    #[arg(long, value_name = "K/N")]
+    pub shard: Option<ShardSpec>,
 }
 
 /// `--future`: the parameters the future data are drawn from.

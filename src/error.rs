@@ -4,7 +4,7 @@ use runcast::benchmark::BenchmarkError;
 use runcast::binning::BinningError;
 use runcast::projection::{ProjectionError, ShardError};
 use runcast::reach::ReachError;
-use runcast::replan::{DataError, ReplanError};
+use runcast::replan::{DataError, ReplanError, ReplanShardError};
 use runcast::report::ReportError;
 use runcast::scenario::ScenarioError;
 use std::fmt;
@@ -32,6 +32,8 @@ pub enum Error {
     Data(DataError),
     /// A shard could not be written, or shards not merged.
     Shard(ShardError),
+    /// A re-plan shard could not be written, or re-plan shards not merged.
+    ReplanShard(ReplanShardError),
     /// sbatch could not be run or refused a script.
     Slurm(String),
     Binning(BinningError),
@@ -66,6 +68,7 @@ impl fmt::Display for Error {
             Error::Replan { path, source } => write!(f, "{}: {source}", path.display()),
             Error::Data(source) => write!(f, "{source}"),
             Error::Shard(source) => write!(f, "{source}"),
+            Error::ReplanShard(source) => write!(f, "{source}"),
             Error::Slurm(message) => f.write_str(message),
             Error::Binning(source) => write!(f, "{source}"),
             Error::Report(source) => write!(f, "{source}"),
@@ -117,6 +120,12 @@ impl From<BenchmarkError> for Error {
 impl From<ReportError> for Error {
     fn from(source: ReportError) -> Error {
         Error::Report(source)
+    }
+}
+
+impl From<ReplanShardError> for Error {
+    fn from(source: ReplanShardError) -> Error {
+        Error::ReplanShard(source)
     }
 }
 

@@ -714,26 +714,15 @@ pub struct ReplanOptions {
     pub quiet: bool,
     pub out: PathBuf,
     pub formats: FigureFormats,
+    pub shard: Option<ShardSpec>,
 }
 
 impl ReplanOptions {
     /// What made this re-plan: the scenario, the options that change a
     /// number, and each data file's name and SHA-256 by channel.
     pub fn provenance(&self) -> Provenance {
-        let settings = &self.settings;
-        let mut options = Map::new();
-        options.insert("seed".into(), json!(settings.plan.seed));
-        options.insert("toys".into(), json!(settings.plan.toys));
-        options.insert("cl".into(), json!(settings.plan.cl));
-        options.insert("taken_days".into(), json!(settings.taken_days));
-        options.insert("future".into(), json!(settings.future.name()));
-        let data: Vec<_> = self
-            .data
-            .iter()
-            .map(|data| json!({"channel": data.channel, "file": data.file.file, "sha256": data.file.sha256}))
-            .collect();
-        options.insert("data".into(), json!(data));
-        Provenance::new(vec![self.loaded.scenario_file()], options)
+        self.settings
+            .provenance(self.loaded.scenario_file(), &self.data)
     }
 
     pub fn resolve(args: &ReplanArgs) -> Result<ReplanOptions, Error> {
@@ -795,6 +784,7 @@ impl ReplanOptions {
             quiet: args.workers.quiet,
             out,
             formats,
+            shard: args.shard,
         })
     }
 }

@@ -97,13 +97,13 @@ struct Forgery {
 }
 
 impl Forgery {
-    /// Reads the file at `path`, following the layout of format 5
+    /// Reads the file at `path`, following the layout of format 6
     /// (`src/projection/shard/`): the magic line, then little-endian
     /// fields, texts and lists with their length first, then per point a
     /// presence byte and the fields of each ensemble.
     fn open(path: &Path) -> Forgery {
         let bytes = fs::read(path).unwrap();
-        assert_eq!(&bytes[..16], b"runcast-shard 5\n");
+        assert_eq!(&bytes[..16], b"runcast-shard 6\n");
         let body = bytes.len() - CHECKSUM_BYTES;
         let mut fields = HashMap::new();
         let mut at = 16;
@@ -118,6 +118,8 @@ impl Forgery {
         for name in [
             "version",
             "build",
+            "command",
+            "inputs",
             "scenario_name",
             "scenario_hash",
             "scenario",

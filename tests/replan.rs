@@ -545,3 +545,198 @@ fn a_fifo_as_data_is_refused() {
     );
     assert!(!scratch.path.join("out").exists());
 }
+
+/// Copies the narrow-peak demo and its 60 days of data into `scratch`.
+fn narrow_peak_demo(scratch: &Scratch) {
+    let demos = Path::new(env!("CARGO_MANIFEST_DIR")).join("scenarios");
+    for name in ["narrow_peak.yaml", "narrow_peak_60d.csv"] {
+        fs::copy(demos.join(name), scratch.path.join(name)).unwrap();
+    }
+}
+
+/// Runs the command `args` in `scratch`; returns its stdout, panicking with
+/// stderr on failure.
+fn succeed(scratch: &Scratch, args: &[&str]) -> String {
+    let output = scratch.run(args);
+    assert!(
+        output.status.success(),
+        "{}",
+        String::from_utf8_lossy(&output.stderr)
+    );
+    String::from_utf8(output.stdout).unwrap()
+}
+
+/// The demo's re-plan with `extra` arguments, as shard `shard` into `out`.
+fn demo_shard(scratch: &Scratch, shard: &str, out: &str, extra: &[&str]) {
+    let mut args = vec![
+        "replan",
+        "narrow_peak.yaml",
+        "--data",
+        "narrow_peak_60d.csv",
+        "--taken",
+        "60",
+        "--toys",
+        "200",
+        "--quiet",
+        "--out",
+        out,
+        "--shard",
+        shard,
+    ];
+    args.extend_from_slice(extra);
+    succeed(scratch, &args);
+}
+
+/// The summary without the lines naming where it came from and went.
+fn summary_lines(stdout: &str) -> Vec<&str> {
+    stdout
+        .lines()
+        .filter(|line| !line.starts_with("wrote ") && !line.starts_with("merged the shards"))
+        .collect()
+}
+
+/// Three shards of the demo's re-plan (goodness of fit, both conditional
+/// projections, toy limit) merged give the unsharded files, byte for byte,
+/// and the same summary: every toy has its own stream, the rest is
+/// recomputed by the same code.
+#[test]
+fn merged_replan_shards_give_the_unsharded_bytes() {
+    let scratch = Scratch::new("replan-shards");
+    narrow_peak_demo(&scratch);
+    let whole = succeed(
+        &scratch,
+        &[
+            "replan",
+            "narrow_peak.yaml",
+            "--data",
+            "narrow_peak_60d.csv",
+            "--taken",
+            "60",
+            "--toys",
+            "200",
+            "--quiet",
+            "--out",
+            "whole",
+        ],
+    );
+    for shard in ["1/3", "2/3", "3/3"] {
+        demo_shard(&scratch, shard, "shards", &[]);
+    }
+    let merged = succeed(&scratch, &["merge", "shards"]);
+    for name in ["replan.svg", "replan.csv", "replan.json"] {
+        let read = |folder: &str| fs::read(scratch.path.join(folder).join(name)).unwrap();
+        assert!(read("whole") == read("shards"), "{name} differs");
+    }
+    assert_eq!(summary_lines(&whole), summary_lines(&merged));
+    assert!(summary_lines(&merged).len() > 10, "{merged}");
+}
+
+/// Runs `merge DIR`, expecting a refusal; returns its one line and checks
+/// that nothing was written.
+fn refused_merge(scratch: &Scratch, directory: &str) -> String {
+    let output = scratch.run(&["merge", directory]);
+    assert_eq!(output.status.code(), Some(1));
+    assert!(!scratch.path.join(directory).join("replan.json").exists());
+    assert!(
+        !scratch
+            .path
+            .join(directory)
+            .join("projection.json")
+            .exists()
+    );
+    String::from_utf8(output.stderr).unwrap()
+}
+
+/// A shard of other data or of another day taken among the demo's is
+/// refused at merge, naming the file and what differs.
+#[test]
+fn shards_of_other_data_or_another_day_are_refused_at_merge() {
+    let scratch = Scratch::new("replan-shards-mixed");
+    narrow_peak_demo(&scratch);
+    let other: String = fs::read_to_string(scratch.path.join("narrow_peak_60d.csv"))
+        .unwrap()
+        .replacen("# ", "# changed: ", 1);
+    fs::write(scratch.path.join("narrow_peak_60d_b.csv"), other).unwrap();
+    demo_shard(&scratch, "1/2", "data", &[]);
+    succeed(
+        &scratch,
+        &[
+            "replan",
+            "narrow_peak.yaml",
+            "--data",
+            "narrow_peak_60d_b.csv",
+            "--taken",
+            "60",
+            "--toys",
+            "200",
+            "--quiet",
+            "--out",
+            "data",
+            "--shard",
+            "2/2",
+        ],
+    );
+    let error = refused_merge(&scratch, "data");
+    assert!(
+        error.contains("2-of-2.runcast-shard")
+            && error.contains("data of channel")
+            && error.contains("narrow_peak_60d_b.csv"),
+        "{error}"
+    );
+
+    demo_shard(&scratch, "1/2", "taken", &[]);
+    succeed(
+        &scratch,
+        &[
+            "replan",
+            "narrow_peak.yaml",
+            "--data",
+            "narrow_peak_60d.csv",
+            "--taken",
+            "61",
+            "--toys",
+            "200",
+            "--quiet",
+            "--out",
+            "taken",
+            "--shard",
+            "2/2",
+        ],
+    );
+    let error = refused_merge(&scratch, "taken");
+    assert!(
+        error.contains("2-of-2.runcast-shard")
+            && (error.contains("--taken 61 instead of 60")
+                || error.contains("--taken 60 instead of 61")),
+        "{error}"
+    );
+}
+
+/// A projection shard and a re-plan shard of the same scenario are never
+/// merged together.
+#[test]
+fn a_project_shard_beside_a_replan_shard_is_refused() {
+    let scratch = Scratch::new("replan-project-shards");
+    narrow_peak_demo(&scratch);
+    demo_shard(&scratch, "1/2", "mixed", &[]);
+    succeed(
+        &scratch,
+        &[
+            "project",
+            "narrow_peak.yaml",
+            "--toys",
+            "20",
+            "--quiet",
+            "--out",
+            "mixed",
+            "--shard",
+            "2/2",
+        ],
+    );
+    let error = refused_merge(&scratch, "mixed");
+    assert!(error.contains("a shard of runcast"), "{error}");
+    assert!(
+        error.contains("project") && error.contains("replan"),
+        "{error}"
+    );
+}

@@ -166,7 +166,7 @@ fn a_shard_file_of_an_earlier_format_is_named_as_such() {
     fs::write(directory.join("shard-0-1-of-1.runcast-shard"), bytes).unwrap();
     let stderr = failed(scratch.run(&["merge", "old"]));
     assert!(
-        stderr.contains("format 3") && stderr.contains("reads format 5"),
+        stderr.contains("format 3") && stderr.contains("reads format 6"),
         "{stderr}"
     );
 }

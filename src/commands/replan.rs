@@ -7,12 +7,16 @@ use crate::error::Error;
 use crate::options::ReplanOptions;
 use crate::progress::toy_progress;
 use crate::stdout;
-use runcast::replan::replan;
+use runcast::projection::{ShardRun, ShardSpec};
+use runcast::replan::{ReplanInputs, replan, run_replan_shard};
 use runcast::report;
 
 pub fn run(args: &ReplanArgs) -> Result<(), Error> {
     let options = ReplanOptions::resolve(args)?;
     print_warnings(&options.loaded);
+    if let Some(shard) = options.shard {
+        return run_shard(&options, shard);
+    }
     let settings = &options.settings;
     let bar = toy_progress(settings.total_toys(), options.quiet);
     let progress = |done: u64| bar.inc(done);
@@ -41,4 +45,38 @@ pub fn run(args: &ReplanArgs) -> Result<(), Error> {
     stdout::print(&report::replan_summary(&replan))?;
     stdout::print(&format!("wrote {}\n", options.out.display()))?;
     stdout::print(&removed_lines(&options.out, &written.removed))
+}
+
+/// `--shard K/N`: runs the shard's pseudo-experiments and writes its file
+/// into the output directory; `runcast merge` makes the outputs.
+fn run_shard(options: &ReplanOptions, shard: ShardSpec) -> Result<(), Error> {
+    let loaded = &options.loaded;
+    let settings = &options.settings;
+    let run = ShardRun::new(
+        loaded.file_name(),
+        loaded.text.clone(),
+        loaded.scenario.table_files.clone(),
+        settings.plan.clone(),
+    );
+    let inputs = ReplanInputs::new(settings, options.data.clone());
+    let bar = toy_progress(settings.total_toys_in(shard), options.quiet);
+    let progress = |done: u64| bar.inc(done);
+    let scan = loaded.scenario.signal_scan();
+    let path = with_threads(options.threads, || {
+        run_replan_shard(
+            &options.model,
+            scan.as_ref(),
+            &inputs,
+            run,
+            shard,
+            &options.out,
+            &progress,
+        )
+    })??;
+    bar.finish_and_clear();
+    stdout::print(&format!(
+        "wrote shard {shard}: {}
+",
+        path.display()
+    ))
 }

@@ -21,7 +21,11 @@ pub use result::{
     GlobalDays, GlobalSignificance, LookElsewhere, Projection, RateStretch, ScanSummary,
     TargetProbability, WithheldDay,
 };
-pub use shard::{ShardError, ShardRun, ShardSpec, merge_shards, run_shard};
+pub(crate) use shard::{Decoder, Encoder, write_shard_file};
+pub use shard::{
+    DescribeInputs, PROJECT_COMMAND, ShardError, ShardRun, ShardSet, ShardSpec, merge_shard_set,
+    merge_shards, run_shard,
+};
 
 use crate::asymptotic::AsimovSignificance;
 use crate::likelihood::{FitFailure, Likelihood};
@@ -247,6 +251,21 @@ fn channels_alone(model: &Model) -> Vec<Model> {
 /// so asking for a day changes no number of the grid, and the grid changes
 /// no number of that day.
 pub const AT_EXPOSURE_INDEX: usize = 1 << 31;
+
+/// The pseudo-experiments of every grid point and `--at` day of `settings`
+/// on `model`, from `source`, in the order of [`points`]: what a shard runs
+/// and records (the days solved run only where the shards are merged).
+pub(crate) fn grid_toys<S: ToySource>(
+    model: &Model,
+    settings: &ProjectionSettings,
+    source: &mut S,
+) -> Result<(), S::Error> {
+    let likelihood = Likelihood::new(model);
+    let mut asimov = AsimovSignificance::new(&likelihood);
+    let runner = point::PointRunner::new(&likelihood, settings);
+    points(&runner, &mut asimov, &mut [], settings, source)?;
+    Ok(())
+}
 
 /// The exposure point at every grid day, in grid order, then at every
 /// `--at` day, in increasing order: the order in which pseudo-experiments

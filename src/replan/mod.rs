@@ -15,22 +15,29 @@
 
 mod data;
 mod observed;
+mod shard;
 
 pub use data::{BINNED_HEADER, ChannelData, DataError, DataForm, read_channel_data};
 pub use observed::{
-    AS_PLANNED_WITHIN, BackgroundRate, FittedParameter, GoodnessOfFit, ObservedFit, ObservedLimit,
-    ObservedScan, observed_fit,
+    AS_PLANNED_WITHIN, BackgroundRate, FittedParameter, GoodnessOfFit, GoodnessOfFitToys,
+    ObservedFit, ObservedLimit, ObservedScan, observed_fit,
+};
+pub use shard::{
+    REPLAN_COMMAND, ReplanInputs, ReplanShardError, describe_shard_inputs, merge_replan_shards,
+    run_replan_shard,
 };
 
-use crate::ensemble::{EnsemblePlan, Family, Generator, significance_ensemble};
+use crate::ensemble::{EnsembleOutcome, EnsemblePlan, Family, Generator, significance_ensemble};
 use crate::likelihood::{Dataset, FitFailure, Fitter, Likelihood};
 use crate::limits::limit_ensemble;
 use crate::model::{Constraint, Model, SIGNAL_STRENGTH};
 use crate::projection::{
-    Origin, PointRequest, PointToys, Projection, ProjectionError, ProjectionSettings, ToySource,
-    project, project_with,
+    Origin, PointRequest, PointToys, Projection, ProjectionError, ProjectionSettings, ShardSpec,
+    ToySource, project, project_with,
 };
+use crate::provenance::{Provenance, ScenarioFile};
 use crate::scenario::SignalScan;
+use serde_json::{Map, json};
 use std::fmt;
 
 /// Where the future data are drawn from.
@@ -120,12 +127,37 @@ impl ReplanSettings {
             .collect()
     }
 
+    /// What made a re-plan: the `scenario` file, the options that change a
+    /// number, and each file of `data`'s name and SHA-256 by channel (the
+    /// same for the unsharded re-plan and its merged shards).
+    pub fn provenance(&self, scenario: ScenarioFile, data: &[ChannelData]) -> Provenance {
+        let mut options = Map::new();
+        options.insert("seed".into(), json!(self.plan.seed));
+        options.insert("toys".into(), json!(self.plan.toys));
+        options.insert("cl".into(), json!(self.plan.cl));
+        options.insert("taken_days".into(), json!(self.taken_days));
+        options.insert("future".into(), json!(self.future.name()));
+        let data: Vec<_> = data
+            .iter()
+            .map(|data| json!({"channel": data.channel, "file": data.file.file, "sha256": data.file.sha256}))
+            .collect();
+        options.insert("data".into(), json!(data));
+        Provenance::new(vec![scenario], options)
+    }
+
     /// Every pseudo-experiment the re-plan runs on its grid (the days it
     /// solves run more), for progress reporting: the goodness of fit's, and
     /// per hypothesis and point the significance and limit toys.
     pub fn total_toys(&self) -> u64 {
-        let per_point = self.plan.toys * (1 + usize::from(self.plan.cl.is_some()));
-        (self.plan.toys + 2 * per_point * self.conditional_days().len()) as u64
+        self.total_toys_in(ShardSpec::WHOLE)
+    }
+
+    /// The pseudo-experiments of [`ReplanSettings::total_toys`] that shard
+    /// `shard` runs (the toy limit and the days solved run at the merge).
+    pub fn total_toys_in(&self, shard: ShardSpec) -> u64 {
+        let toys = shard.toys(self.plan.toys).len();
+        let per_point = toys * (1 + usize::from(self.plan.cl.is_some()));
+        (toys + 2 * per_point * self.conditional_days().len()) as u64
     }
 }
 
@@ -217,7 +249,8 @@ pub fn check_model(model: &Model) -> Result<(), ReplanError> {
 }
 
 /// The re-plan of `model` (the scenario's, with its `scan`) given `data`,
-/// one [`ChannelData`] per channel in the model's order.
+/// one [`ChannelData`] per channel in the model's order, every
+/// pseudo-experiment run here.
 pub fn replan(
     model: &Model,
     scan: Option<&SignalScan>,
@@ -225,70 +258,171 @@ pub fn replan(
     settings: &ReplanSettings,
     progress: &(dyn Fn(u64) + Sync),
 ) -> Result<Replan, ReplanError> {
-    check_model(model)?;
-    let plan = &settings.plan;
-    let taken_live_days = model.live_time.live_days(settings.taken_days);
-    let likelihood = Likelihood::new(model);
-    let nominal = model.nominal_parameters();
-    let taken = Dataset {
-        counts: data.iter().flat_map(|d| d.counts.iter().copied()).collect(),
-        // The auxiliary measurements as the scenario states them.
-        global_observables: likelihood
-            .asimov_dataset(&nominal, taken_live_days, &mut likelihood.workspace())
-            .global_observables,
-    };
-    let observed = observed_fit(
-        model,
-        scan,
-        &taken,
-        taken_live_days,
-        plan,
-        settings.toy_limit,
+    let mut source = RunReplanToys {
+        seed: settings.plan.seed,
+        shard: ShardSpec::WHOLE,
+        taken: None,
+        hypothesis: None,
         progress,
-    )?;
-    let generating: Vec<(Hypothesis, Vec<f64>)> = Hypothesis::BOTH
-        .iter()
-        .map(|&hypothesis| {
-            let theta = match settings.future {
-                Future::Nominal => nominal.clone(),
-                Future::Fitted => {
-                    conditional_fit(&likelihood, &taken, taken_live_days, hypothesis)?
-                }
-            };
-            let mut theta = theta;
-            theta[SIGNAL_STRENGTH] = hypothesis.signal_strength();
-            Ok((hypothesis, theta))
-        })
-        .collect::<Result<_, ReplanError>>()?;
-    let both = model.taken_and_to_come(taken_live_days);
-    let conditional_settings = ProjectionSettings {
-        days: settings.conditional_days(),
-        at_days: Vec::new(),
-        calibration_toys: 0,
-        scan: None,
-        look_elsewhere_toys: 0,
-        ..plan.clone()
     };
-    let conditional = generating
-        .iter()
-        .map(|(hypothesis, theta)| {
-            let source = || ConditionalToys {
-                seed: plan.seed,
-                hypothesis: *hypothesis,
-                generating: theta,
-                taken: &taken,
-                progress,
-            };
-            let projection = project_with(
-                &both,
-                &conditional_settings,
-                &mut source(),
-                source(),
-                Origin::FirstPoint,
-            )?;
-            Ok((*hypothesis, projection))
+    replan_with(model, scan, data, settings, &mut source, progress)
+}
+
+/// Where a re-plan's pseudo-experiments that shards split come from: run
+/// in this process ([`replan`]) or merged from shards (`shard.rs`). As a
+/// [`ToySource`], the conditional projections' grid points, those of the
+/// signal hypothesis first.
+pub(crate) trait ReplanToys: ToySource {
+    /// The goodness of fit's ensemble (all of `toys.toys`).
+    fn goodness_of_fit(&mut self, toys: &GoodnessOfFitToys)
+    -> Result<EnsembleOutcome, Self::Error>;
+
+    /// The grid points that follow keep the counts `taken` and draw the
+    /// future under `hypothesis` at `generating`.
+    fn conditional(&mut self, hypothesis: Hypothesis, generating: &[f64], taken: &Dataset);
+}
+
+/// What every re-plan and every shard of one computes alike, before any
+/// pseudo-experiment: the data as one dataset, their fit, and the
+/// parameters each hypothesis draws its future from.
+pub(crate) struct Prepared {
+    pub taken: Dataset,
+    pub taken_live_days: f64,
+    pub observed: ObservedFit,
+    pub generating: Vec<(Hypothesis, Vec<f64>)>,
+    /// The conditional projections' settings: the grid from the day the data stopped.
+    pub conditional_settings: ProjectionSettings,
+}
+
+impl Prepared {
+    /// Fits `data` with `model`; the toy limit only when `toy_limit` (a
+    /// shard leaves it to the merge, where it runs whole).
+    pub fn new(
+        model: &Model,
+        scan: Option<&SignalScan>,
+        data: &[ChannelData],
+        settings: &ReplanSettings,
+        toy_limit: bool,
+        progress: &(dyn Fn(u64) + Sync),
+    ) -> Result<Prepared, ReplanError> {
+        check_model(model)?;
+        let plan = &settings.plan;
+        let taken_live_days = model.live_time.live_days(settings.taken_days);
+        let likelihood = Likelihood::new(model);
+        let nominal = model.nominal_parameters();
+        let taken = Dataset {
+            counts: data.iter().flat_map(|d| d.counts.iter().copied()).collect(),
+            // The auxiliary measurements as the scenario states them.
+            global_observables: likelihood
+                .asimov_dataset(&nominal, taken_live_days, &mut likelihood.workspace())
+                .global_observables,
+        };
+        let observed = observed_fit(
+            model,
+            scan,
+            &taken,
+            taken_live_days,
+            plan,
+            toy_limit,
+            progress,
+        )?;
+        let generating: Vec<(Hypothesis, Vec<f64>)> = Hypothesis::BOTH
+            .iter()
+            .map(|&hypothesis| {
+                let theta = match settings.future {
+                    Future::Nominal => nominal.clone(),
+                    Future::Fitted => {
+                        conditional_fit(&likelihood, &taken, taken_live_days, hypothesis)?
+                    }
+                };
+                let mut theta = theta;
+                theta[SIGNAL_STRENGTH] = hypothesis.signal_strength();
+                Ok((hypothesis, theta))
+            })
+            .collect::<Result<_, ReplanError>>()?;
+        let conditional_settings = ProjectionSettings {
+            days: settings.conditional_days(),
+            at_days: Vec::new(),
+            calibration_toys: 0,
+            scan: None,
+            look_elsewhere_toys: 0,
+            ..plan.clone()
+        };
+        Ok(Prepared {
+            taken,
+            taken_live_days,
+            observed,
+            generating,
+            conditional_settings,
         })
-        .collect::<Result<_, ReplanError>>()?;
+    }
+
+    /// The goodness of fit's pseudo-experiments on the likelihood of the
+    /// data taken.
+    pub fn goodness_of_fit_toys<'l, 'm>(
+        &'l self,
+        likelihood: &'l Likelihood<'m>,
+        fitted: &'l [f64],
+    ) -> GoodnessOfFitToys<'l, 'm> {
+        GoodnessOfFitToys {
+            likelihood,
+            fitted,
+            live_days: self.taken_live_days,
+            seed: self.conditional_settings.seed,
+            toys: self.conditional_settings.toys,
+        }
+    }
+}
+
+/// The re-plan with the pseudo-experiments shards split from `source`; the
+/// toy limit and the points solving the days run here, whole.
+pub(crate) fn replan_with<S, E>(
+    model: &Model,
+    scan: Option<&SignalScan>,
+    data: Vec<ChannelData>,
+    settings: &ReplanSettings,
+    source: &mut S,
+    progress: &(dyn Fn(u64) + Sync),
+) -> Result<Replan, E>
+where
+    S: ReplanToys,
+    E: From<ReplanError> + From<S::Error>,
+{
+    let prepared = Prepared::new(model, scan, &data, settings, settings.toy_limit, progress)?;
+    let plan = &settings.plan;
+    let likelihood = Likelihood::new(model);
+    let fitted = prepared.observed.fitted_parameters();
+    let goodness_of_fit =
+        source.goodness_of_fit(&prepared.goodness_of_fit_toys(&likelihood, &fitted))?;
+    let Prepared {
+        taken,
+        taken_live_days,
+        mut observed,
+        generating,
+        conditional_settings,
+    } = prepared;
+    observed.goodness_of_fit = observed.goodness_of_fit.with_toys(&goodness_of_fit);
+    let both = model.taken_and_to_come(taken_live_days);
+    let mut conditional = Vec::new();
+    for (hypothesis, theta) in &generating {
+        source.conditional(*hypothesis, theta, &taken);
+        let solving = ConditionalToys {
+            seed: plan.seed,
+            shard: ShardSpec::WHOLE,
+            hypothesis: *hypothesis,
+            generating: theta,
+            taken: &taken,
+            progress,
+        };
+        let projection = project_with(
+            &both,
+            &conditional_settings,
+            source,
+            solving,
+            Origin::FirstPoint,
+        )?;
+        conditional.push((*hypothesis, projection));
+    }
     let forecast_settings = ProjectionSettings {
         toys: 0,
         ..conditional_settings.clone()
@@ -300,7 +434,8 @@ pub fn replan(
             ..forecast_settings
         },
         progress,
-    )?;
+    )
+    .map_err(ReplanError::from)?;
     Ok(Replan {
         title: plan.title.clone(),
         taken_days: settings.taken_days,
@@ -313,6 +448,68 @@ pub fn replan(
         forecast,
         parameter_names: model.parameters.iter().map(|p| p.name.clone()).collect(),
     })
+}
+
+/// A re-plan's pseudo-experiments run in this process: shard `shard`'s part
+/// of each ensemble (all of it for [`ShardSpec::WHOLE`]).
+pub(crate) struct RunReplanToys<'a> {
+    pub seed: u64,
+    pub shard: ShardSpec,
+    /// The counts taken and the hypothesis with its generating parameters
+    /// of the points to come ([`ReplanToys::conditional`]).
+    pub taken: Option<Dataset>,
+    pub hypothesis: Option<(Hypothesis, Vec<f64>)>,
+    pub progress: &'a (dyn Fn(u64) + Sync),
+}
+
+impl RunReplanToys<'_> {
+    fn points(&self) -> ConditionalToys<'_> {
+        let (hypothesis, generating) = self
+            .hypothesis
+            .as_ref()
+            .expect("a hypothesis is set before its points");
+        ConditionalToys {
+            seed: self.seed,
+            shard: self.shard,
+            hypothesis: *hypothesis,
+            generating,
+            taken: self
+                .taken
+                .as_ref()
+                .expect("the counts taken are set with it"),
+            progress: self.progress,
+        }
+    }
+}
+
+impl ToySource for RunReplanToys<'_> {
+    type Error = ProjectionError;
+
+    fn toys(
+        &mut self,
+        likelihood: &Likelihood,
+        request: &PointRequest,
+    ) -> Result<PointToys, ProjectionError> {
+        self.points().toys(likelihood, request)
+    }
+
+    fn skip(&mut self, toys: usize) {
+        (self.progress)(toys as u64);
+    }
+}
+
+impl ReplanToys for RunReplanToys<'_> {
+    fn goodness_of_fit(
+        &mut self,
+        toys: &GoodnessOfFitToys,
+    ) -> Result<EnsembleOutcome, ProjectionError> {
+        Ok(toys.run(self.shard.toys(toys.toys), self.progress))
+    }
+
+    fn conditional(&mut self, hypothesis: Hypothesis, generating: &[f64], taken: &Dataset) {
+        self.hypothesis = Some((hypothesis, generating.to_vec()));
+        self.taken = Some(taken.clone());
+    }
 }
 
 /// The parameters fitted to the data taken with mu fixed at the
@@ -343,13 +540,15 @@ fn conditional_fit(
 /// The pseudo-experiments of a conditional projection: the counts taken
 /// kept, the future drawn from the model of both blocks at `generating`
 /// (mu at the hypothesis's value), from the hypothesis's own families of
-/// streams. Whole ensembles, so the thread count changes nothing.
-struct ConditionalToys<'a> {
-    seed: u64,
-    hypothesis: Hypothesis,
-    generating: &'a [f64],
-    taken: &'a Dataset,
-    progress: &'a (dyn Fn(u64) + Sync),
+/// streams: shard `shard`'s part of each ensemble, each toy on its own
+/// stream, so neither the thread count nor the split changes a number.
+pub(crate) struct ConditionalToys<'a> {
+    pub seed: u64,
+    pub shard: ShardSpec,
+    pub hypothesis: Hypothesis,
+    pub generating: &'a [f64],
+    pub taken: &'a Dataset,
+    pub progress: &'a (dyn Fn(u64) + Sync),
 }
 
 impl ToySource for ConditionalToys<'_> {
@@ -364,7 +563,7 @@ impl ToySource for ConditionalToys<'_> {
         let generator = Generator::new(likelihood, self.generating, live_days).keeping(self.taken);
         let (discovery, exclusion) = self.hypothesis.families();
         let plan = |toys: usize| EnsemblePlan {
-            toys: 0..toys,
+            toys: self.shard.toys(toys),
             seed: self.seed,
             progress: self.progress,
         };

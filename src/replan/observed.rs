@@ -3,7 +3,7 @@
 //! against the plan, and the goodness of fit.
 
 use super::ReplanError;
-use crate::ensemble::{EnsemblePlan, Family, Generator, run_ensemble};
+use crate::ensemble::{EnsembleOutcome, EnsemblePlan, Family, Generator, run_ensemble};
 use crate::likelihood::{Dataset, DiscoveryTest, Fitter, Likelihood, UpperLimitTest};
 use crate::limits::{asymptotic_limit_of, asymptotic_limits};
 use crate::look_elsewhere::{REFERENCE_LEVEL, global_significance};
@@ -11,6 +11,7 @@ use crate::model::{Model, SIGNAL_STRENGTH};
 use crate::projection::ProjectionSettings;
 use crate::scenario::SignalScan;
 use crate::upcrossings::scan_geometry_of;
+use std::ops::Range;
 
 /// A background's pull within this many standard deviations reads "as planned".
 pub const AS_PLANNED_WITHIN: f64 = 1.0;
@@ -110,8 +111,8 @@ pub struct GoodnessOfFit {
 
 /// The fit of `data` (the data taken, after `live_days`) with `model`; the
 /// observed limit at `plan.cl` (also from `plan.toys` pseudo-experiments
-/// per tested mu when `toy_limit_wanted`), the goodness of fit with
-/// `plan.toys` pseudo-experiments, all from `plan.seed`.
+/// per tested mu from `plan.seed` when `toy_limit_wanted`); the goodness of
+/// fit's deviance, whose p-value [`GoodnessOfFit::with_toys`] adds.
 pub fn observed_fit(
     model: &Model,
     scan: Option<&SignalScan>,
@@ -162,15 +163,18 @@ pub fn observed_fit(
             )
         })
         .transpose()?;
-    let goodness_of_fit = goodness_of_fit(
-        &likelihood,
-        &fitted,
-        data,
-        live_days,
-        plan.toys,
-        plan.seed,
-        progress,
-    );
+    let goodness_of_fit = GoodnessOfFit {
+        deviance: likelihood.saturated_deviance(
+            &fitted,
+            live_days,
+            &data.counts,
+            &mut likelihood.workspace(),
+        ),
+        bins: data.counts.len(),
+        p_value: None,
+        toys: 0,
+        failed_fits: 0,
+    };
     Ok(ObservedFit {
         live_days,
         fitted_mu: fitted[SIGNAL_STRENGTH],
@@ -423,45 +427,73 @@ fn toy_limit(
     Ok(Some((low * high).sqrt()))
 }
 
-/// The deviance of the data at their free fit, and the fraction of `toys`
-/// datasets drawn at that fit (bins and global observables) whose own free
-/// fit leaves a deviance at least as large.
-fn goodness_of_fit(
-    likelihood: &Likelihood,
-    fitted: &[f64],
-    data: &Dataset,
-    live_days: f64,
-    toys: usize,
-    seed: u64,
-    progress: &(dyn Fn(u64) + Sync),
-) -> GoodnessOfFit {
-    let observed =
-        likelihood.saturated_deviance(fitted, live_days, &data.counts, &mut likelihood.workspace());
-    let generator = Generator::new(likelihood, fitted, live_days);
-    let plan = EnsemblePlan {
-        toys: 0..toys,
-        seed,
-        progress,
-    };
-    let outcome = run_ensemble(
-        &generator,
-        Family::GoodnessOfFit.stream_index(0),
-        &plan,
-        || Fitter::new(likelihood),
-        |fitter, toy| {
-            fitter.minimise(live_days, toy, None, fitted).ok()?;
-            let theta = fitter.parameters().to_vec();
-            Some(likelihood.saturated_deviance(&theta, live_days, &toy.counts, fitter.workspace()))
-        },
-    );
-    let converged = outcome.values.len();
-    GoodnessOfFit {
-        deviance: observed,
-        bins: data.counts.len(),
-        p_value: (converged > 0).then(|| {
-            outcome.values.iter().filter(|&&d| d >= observed).count() as f64 / converged as f64
-        }),
-        toys: converged,
-        failed_fits: outcome.failed_fits,
+impl ObservedFit {
+    /// The parameters of the free fit, in the model's order.
+    pub fn fitted_parameters(&self) -> Vec<f64> {
+        self.parameters.iter().map(|p| p.fitted).collect()
+    }
+}
+
+impl GoodnessOfFit {
+    /// With the p-value from `outcome`, the deviances of the datasets
+    /// drawn at the free fit ([`GoodnessOfFitToys`]): the fraction of the
+    /// converged ones at least as large as the data's.
+    pub fn with_toys(self, outcome: &EnsembleOutcome) -> GoodnessOfFit {
+        let converged = outcome.values.len();
+        GoodnessOfFit {
+            p_value: (converged > 0).then(|| {
+                outcome
+                    .values
+                    .iter()
+                    .filter(|&&d| d >= self.deviance)
+                    .count() as f64
+                    / converged as f64
+            }),
+            toys: converged,
+            failed_fits: outcome.failed_fits,
+            ..self
+        }
+    }
+}
+
+/// The goodness of fit's pseudo-experiments: datasets (bins and global
+/// observables) drawn at the free fit `fitted` and fitted again, each
+/// giving its own deviance; toy i on its own stream, so any split of the
+/// indices gives the same values.
+pub struct GoodnessOfFitToys<'l, 'm> {
+    pub likelihood: &'l Likelihood<'m>,
+    pub fitted: &'l [f64],
+    pub live_days: f64,
+    pub seed: u64,
+    /// The toys of the whole ensemble.
+    pub toys: usize,
+}
+
+impl GoodnessOfFitToys<'_, '_> {
+    /// The deviances of the toys `indices`, in order, with the failed fits.
+    pub fn run(&self, indices: Range<usize>, progress: &(dyn Fn(u64) + Sync)) -> EnsembleOutcome {
+        let (likelihood, live_days, fitted) = (self.likelihood, self.live_days, self.fitted);
+        let generator = Generator::new(likelihood, fitted, live_days);
+        let plan = EnsemblePlan {
+            toys: indices,
+            seed: self.seed,
+            progress,
+        };
+        run_ensemble(
+            &generator,
+            Family::GoodnessOfFit.stream_index(0),
+            &plan,
+            || Fitter::new(likelihood),
+            |fitter, toy| {
+                fitter.minimise(live_days, toy, None, fitted).ok()?;
+                let theta = fitter.parameters().to_vec();
+                Some(likelihood.saturated_deviance(
+                    &theta,
+                    live_days,
+                    &toy.counts,
+                    fitter.workspace(),
+                ))
+            },
+        )
     }
 }

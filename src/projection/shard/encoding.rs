@@ -4,7 +4,6 @@ use crate::ensemble::EnsembleOutcome;
 use crate::input_file::open_regular;
 use crate::projection::ensembles::{CalibrationCount, LookElsewhereCount, PointToys};
 use sha2::{Digest, Sha256};
-use std::fs::File;
 use std::io::{self, BufReader, Read, Seek, SeekFrom, Write};
 use std::path::Path;
 
@@ -12,12 +11,11 @@ use std::path::Path;
 /// and converged values, or (calibration) converged, exceeding and failed,
 /// or (look-elsewhere scans) converged, the sums of upcrossings and of
 /// their squares, exceeding and failed.
-pub(super) fn encode_point(toys: &PointToys, out: &mut Encoder) {
+pub(crate) fn encode_point(toys: &PointToys, out: &mut Encoder) {
     for outcome in [&toys.discovery, &toys.limits] {
         out.flag(outcome.is_some());
         if let Some(outcome) = outcome {
-            out.count(outcome.failed_fits);
-            out.floats(&outcome.values);
+            encode_ensemble(outcome, out);
         }
     }
     out.flag(toys.calibration.is_some());
@@ -36,7 +34,7 @@ pub(super) fn encode_point(toys: &PointToys, out: &mut Encoder) {
     }
 }
 
-pub(super) fn decode_point(input: &mut Decoder) -> Result<PointToys, String> {
+pub(crate) fn decode_point(input: &mut Decoder) -> Result<PointToys, String> {
     let discovery = decode_outcome(input)?;
     let limits = decode_outcome(input)?;
     let calibration = if input.flag()? {
@@ -71,12 +69,22 @@ fn decode_outcome(input: &mut Decoder) -> Result<Option<EnsembleOutcome>, String
     if !input.flag()? {
         return Ok(None);
     }
+    decode_ensemble(input).map(Some)
+}
+
+/// One ensemble's section: its failed fits, then its converged values.
+pub(crate) fn encode_ensemble(outcome: &EnsembleOutcome, out: &mut Encoder) {
+    out.count(outcome.failed_fits);
+    out.floats(&outcome.values);
+}
+
+pub(crate) fn decode_ensemble(input: &mut Decoder) -> Result<EnsembleOutcome, String> {
     let failed_fits = input.count()?;
     let values = input.floats()?;
-    Ok(Some(EnsembleOutcome {
+    Ok(EnsembleOutcome {
         values,
         failed_fits,
-    }))
+    })
 }
 
 /// A writer that hashes what passes through it.
@@ -109,41 +117,41 @@ impl<W: Write> Write for HashingWriter<W> {
 /// Little-endian encoding of the shard fields: counts as u64, floats by
 /// their bits (exact), texts and lists with their length first.
 #[derive(Default)]
-pub(super) struct Encoder {
-    pub(super) bytes: Vec<u8>,
+pub(crate) struct Encoder {
+    pub(crate) bytes: Vec<u8>,
 }
 
 impl Encoder {
-    pub(super) fn raw(&mut self, bytes: &[u8]) {
+    pub(crate) fn raw(&mut self, bytes: &[u8]) {
         self.bytes.extend_from_slice(bytes);
     }
 
-    pub(super) fn u64(&mut self, value: u64) {
+    pub(crate) fn u64(&mut self, value: u64) {
         self.raw(&value.to_le_bytes());
     }
 
-    pub(super) fn count(&mut self, value: usize) {
+    pub(crate) fn count(&mut self, value: usize) {
         self.u64(value as u64);
     }
 
-    pub(super) fn flag(&mut self, value: bool) {
+    pub(crate) fn flag(&mut self, value: bool) {
         self.raw(&[u8::from(value)]);
     }
 
-    pub(super) fn f64(&mut self, value: f64) {
+    pub(crate) fn f64(&mut self, value: f64) {
         self.u64(value.to_bits());
     }
 
-    pub(super) fn bytes(&mut self, bytes: &[u8]) {
+    pub(crate) fn bytes(&mut self, bytes: &[u8]) {
         self.count(bytes.len());
         self.raw(bytes);
     }
 
-    pub(super) fn text(&mut self, text: &str) {
+    pub(crate) fn text(&mut self, text: &str) {
         self.bytes(text.as_bytes());
     }
 
-    pub(super) fn floats(&mut self, values: &[f64]) {
+    pub(crate) fn floats(&mut self, values: &[f64]) {
         self.count(values.len());
         self.bytes.reserve(8 * values.len());
         for &value in values {
@@ -153,8 +161,8 @@ impl Encoder {
 }
 
 /// Reads what [`Encoder`] wrote, never past the checksummed bytes.
-pub(super) struct Decoder {
-    pub(super) input: io::Take<BufReader<File>>,
+pub(crate) struct Decoder {
+    pub(super) input: io::Take<Box<dyn Read>>,
 }
 
 impl Decoder {
@@ -162,17 +170,27 @@ impl Decoder {
     pub(super) fn open(path: &Path, start: u64, end: u64) -> io::Result<Decoder> {
         let mut file = open_regular(path)?;
         file.seek(SeekFrom::Start(start))?;
+        let file: Box<dyn Read> = Box::new(BufReader::new(file));
         Ok(Decoder {
-            input: BufReader::new(file).take(end - start),
+            input: file.take(end - start),
         })
     }
 
+    /// Reads `bytes`, a part of a header kept in memory.
+    pub(crate) fn of_bytes(bytes: &[u8]) -> Decoder {
+        let length = bytes.len() as u64;
+        let bytes: Box<dyn Read> = Box::new(io::Cursor::new(bytes.to_vec()));
+        Decoder {
+            input: bytes.take(length),
+        }
+    }
+
     /// Bytes left before the end.
-    pub(super) fn remaining(&self) -> u64 {
+    pub(crate) fn remaining(&self) -> u64 {
         self.input.limit()
     }
 
-    pub(super) fn raw<const N: usize>(&mut self) -> Result<[u8; N], String> {
+    pub(crate) fn raw<const N: usize>(&mut self) -> Result<[u8; N], String> {
         let mut bytes = [0u8; N];
         self.input
             .read_exact(&mut bytes)
@@ -180,17 +198,17 @@ impl Decoder {
         Ok(bytes)
     }
 
-    pub(super) fn u64(&mut self) -> Result<u64, String> {
+    pub(crate) fn u64(&mut self) -> Result<u64, String> {
         self.raw().map(u64::from_le_bytes)
     }
 
     /// A length or count, which cannot exceed the bytes left to read.
-    pub(super) fn count(&mut self) -> Result<usize, String> {
+    pub(crate) fn count(&mut self) -> Result<usize, String> {
         let value = self.u64()?;
         usize::try_from(value).map_err(|_| format!("holds an impossible count {value}"))
     }
 
-    pub(super) fn length(&mut self, item_bytes: u64) -> Result<usize, String> {
+    pub(crate) fn length(&mut self, item_bytes: u64) -> Result<usize, String> {
         let length = self.count()?;
         if length as u64 > self.input.limit() / item_bytes {
             return Err(format!("holds a list of {length} items past its end"));
@@ -198,7 +216,7 @@ impl Decoder {
         Ok(length)
     }
 
-    pub(super) fn flag(&mut self) -> Result<bool, String> {
+    pub(crate) fn flag(&mut self) -> Result<bool, String> {
         match self.raw::<1>()? {
             [0] => Ok(false),
             [1] => Ok(true),
@@ -206,11 +224,11 @@ impl Decoder {
         }
     }
 
-    pub(super) fn f64(&mut self) -> Result<f64, String> {
+    pub(crate) fn f64(&mut self) -> Result<f64, String> {
         self.u64().map(f64::from_bits)
     }
 
-    pub(super) fn bytes(&mut self) -> Result<Vec<u8>, String> {
+    pub(crate) fn bytes(&mut self) -> Result<Vec<u8>, String> {
         let length = self.length(1)?;
         let mut bytes = vec![0u8; length];
         self.input
@@ -219,11 +237,11 @@ impl Decoder {
         Ok(bytes)
     }
 
-    pub(super) fn text(&mut self) -> Result<String, String> {
+    pub(crate) fn text(&mut self) -> Result<String, String> {
         String::from_utf8(self.bytes()?).map_err(|_| "holds text that is not UTF-8".into())
     }
 
-    pub(super) fn floats(&mut self) -> Result<Vec<f64>, String> {
+    pub(crate) fn floats(&mut self) -> Result<Vec<f64>, String> {
         let length = self.length(8)?;
         (0..length).map(|_| self.f64()).collect()
     }
@@ -264,10 +282,7 @@ mod tests {
         std::fs::create_dir_all(&directory).unwrap();
         let path = directory.join("section");
         std::fs::write(&path, &out.bytes).unwrap();
-        let file = File::open(&path).unwrap();
-        let mut input = Decoder {
-            input: BufReader::new(file).take(out.bytes.len() as u64),
-        };
+        let mut input = Decoder::open(&path, 0, out.bytes.len() as u64).unwrap();
         assert_eq!(decode_point(&mut input), Ok(toys));
         std::fs::remove_dir_all(&directory).unwrap();
     }

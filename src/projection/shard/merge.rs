@@ -1,12 +1,15 @@
 //! Merging: every shard of one run checked, then read point by point.
 
 use super::check::{check_point, check_settings, point_name};
-use super::encoding::{Decoder, HashingWriter, decode_point};
+use super::encoding::{Decoder, HashingWriter, decode_ensemble, decode_point};
 use super::{
-    CHECKSUM_BYTES, MAGIC, MAGIC_PREFIX, SHARD_EXTENSION, ShardError, ShardRun, ShardSpec,
+    CHECKSUM_BYTES, DescribeInputs, MAGIC, MAGIC_PREFIX, PROJECT_COMMAND, SHARD_EXTENSION,
+    ShardError, ShardRun, ShardSpec,
 };
+use crate::ensemble::EnsembleOutcome;
 use crate::input_file::open_regular;
 use crate::likelihood::Likelihood;
+use crate::message::show;
 use crate::model::Model;
 use crate::projection::Projection;
 use crate::projection::ensembles::{PointRequest, PointToys, ToySource};
@@ -18,50 +21,164 @@ use std::path::{Path, PathBuf};
 /// The first missing shards named in an error; the rest are counted.
 const MISSING_NAMED: usize = 10;
 
-/// Merges the shards in `directory`: checks that they are all N shards of
-/// one run, unchanged, written by this build, with settings that agree with
-/// their scenario and each point's counts and values possible
-/// (`check.rs`), then runs the projection with their pseudo-experiments.
-/// Returns the run (scenario, settings) and the projection.
-pub fn merge_shards(directory: &Path) -> Result<(ShardRun, Projection), ShardError> {
-    let mut shards = open_shards(directory)?;
-    let first = &shards[0];
-    let mut run = first.run.clone();
-    let scenario =
-        Scenario::from_text_and_tables(&run.scenario_text, &run.table_files).map_err(|source| {
-            ShardError::Scenario {
+/// The shard files of one run, all N of them, checked and sorted by K,
+/// each read section by section.
+pub struct ShardSet {
+    shards: Vec<ShardReader>,
+}
+
+impl ShardSet {
+    /// Every shard file of `directory`: checks that they are all N shards of
+    /// one run of one command, unchanged and written by this build, naming
+    /// a difference in the command's inputs with `describe_inputs`.
+    pub fn open(
+        directory: &Path,
+        describe_inputs: &DescribeInputs,
+    ) -> Result<ShardSet, ShardError> {
+        open_shards(directory, describe_inputs).map(|shards| ShardSet { shards })
+    }
+
+    /// The run, as the first shard states it (all agree).
+    pub fn run(&self) -> &ShardRun {
+        &self.shards[0].run
+    }
+
+    /// The path of the first shard, for messages about the run.
+    pub fn first_path(&self) -> &Path {
+        &self.shards[0].path
+    }
+
+    /// The run's scenario, read from the shards alone, with the settings
+    /// checked against it for the largest of the N shards, and the settings
+    /// that are not stored (day spacing, detector mass) filled from it.
+    pub(crate) fn scenario(&self) -> Result<(ShardRun, Scenario), ShardError> {
+        let first = &self.shards[0];
+        let mut run = first.run.clone();
+        let scenario = Scenario::from_text_and_tables(&run.scenario_text, &run.table_files)
+            .map_err(|source| ShardError::Scenario {
                 path: first.path.clone(),
                 source,
+            })?;
+        let count = first.shard.count;
+        let largest = ShardSpec {
+            index: count,
+            count,
+        };
+        check_settings(&run.settings, &scenario, largest)
+            .map_err(|impossible| impossible.in_file(&first.path))?;
+        run.settings.day_spacing = scenario.plan.days.axis_spacing();
+        run.settings.detector_mass_kg = scenario.detector_mass_kg();
+        Ok((run, scenario))
+    }
+
+    /// The grid points' pseudo-experiments of all shards, read point by
+    /// point in the order of K; `max_upcrossings` is the most upcrossings
+    /// one look-elsewhere scan can count.
+    pub(crate) fn toy_source(&mut self, max_upcrossings: u64) -> MergeSource<'_> {
+        MergeSource {
+            shards: &mut self.shards,
+            max_upcrossings,
+        }
+    }
+
+    /// The next section of every shard as one ensemble of `total`
+    /// pseudo-experiments in all, `what` naming it: each shard's part
+    /// checked to hold its share of the toys ([`ShardSpec::toys`]) and only
+    /// finite values, then appended in the order of K.
+    pub(crate) fn ensemble(
+        &mut self,
+        what: &str,
+        total: usize,
+    ) -> Result<EnsembleOutcome, ShardError> {
+        let mut merged = EnsembleOutcome {
+            values: Vec::new(),
+            failed_fits: 0,
+        };
+        for shard in &mut self.shards {
+            let outcome = shard.section(what, decode_ensemble)?;
+            let share = shard.shard.toys(total).len();
+            let problem = if outcome.values.len() + outcome.failed_fits != share {
+                Some(format!(
+                    "{} converged and {} failed pseudo-experiments where shard {} runs {share}",
+                    outcome.values.len(),
+                    outcome.failed_fits,
+                    shard.shard
+                ))
+            } else {
+                outcome
+                    .values
+                    .iter()
+                    .find(|value| !value.is_finite())
+                    .map(|&value| {
+                        format!("a value {}, where finite values are expected", show(value))
+                    })
+            };
+            if let Some(problem) = problem {
+                return Err(ShardError::Impossible {
+                    path: shard.path.clone(),
+                    place: what.to_string(),
+                    problem,
+                });
             }
-        })?;
-    let count = first.shard.count;
-    let largest = ShardSpec {
-        index: count,
-        count,
-    };
-    check_settings(&run.settings, &scenario, largest)
-        .map_err(|impossible| impossible.in_file(&first.path))?;
+            merged.values.extend(outcome.values);
+            merged.failed_fits += outcome.failed_fits;
+        }
+        Ok(merged)
+    }
+
+    /// Checks that every section of every shard has been read.
+    pub(crate) fn expect_end(&self) -> Result<(), ShardError> {
+        self.shards.iter().try_for_each(ShardReader::expect_end)
+    }
+}
+
+/// Merges the projection shards in `directory`: checks that they are all N
+/// shards of one `runcast project` run, unchanged, written by this build,
+/// with settings that agree with their scenario and each point's counts
+/// and values possible (`check.rs`), then runs the projection with their
+/// pseudo-experiments. Returns the run (scenario, settings) and the
+/// projection.
+pub fn merge_shards(directory: &Path) -> Result<(ShardRun, Projection), ShardError> {
+    let shards = ShardSet::open(directory, &|command, _, _| {
+        format!("the inputs of runcast {command}")
+    })?;
+    merge_shard_set(shards)
+}
+
+/// [`merge_shards`] of shards already opened.
+pub fn merge_shard_set(mut shards: ShardSet) -> Result<(ShardRun, Projection), ShardError> {
+    if shards.run().command != PROJECT_COMMAND {
+        return Err(ShardError::Malformed {
+            path: shards.first_path().to_path_buf(),
+            what: format!(
+                "a shard of runcast {}, merged as one of runcast {PROJECT_COMMAND}",
+                shards.run().command
+            ),
+        });
+    }
+    let (mut run, scenario) = shards.scenario()?;
     let model = Model::from_scenario(&scenario);
     run.settings.scan = scenario.signal_scan();
-    run.settings.day_spacing = scenario.plan.days.axis_spacing();
-    run.settings.detector_mass_kg = scenario.detector_mass_kg();
-    let mut source = MergeSource {
-        shards: &mut shards,
-        max_upcrossings: run
-            .settings
-            .scan
-            .as_ref()
-            .map_or(0, |scan| scan.positions().len() as u64 / 2),
-    };
-    let projection = crate::projection::project_from(&model, &run.settings, &mut source, &|_| {})?;
-    for shard in &shards {
-        shard.expect_end()?;
-    }
+    let max_upcrossings = run
+        .settings
+        .scan
+        .as_ref()
+        .map_or(0, |scan| scan.positions().len() as u64 / 2);
+    let projection = crate::projection::project_from(
+        &model,
+        &run.settings,
+        &mut shards.toy_source(max_upcrossings),
+        &|_| {},
+    )?;
+    shards.expect_end()?;
     Ok((run, projection))
 }
 
 /// Every shard file of `directory`, checked and sorted by K.
-fn open_shards(directory: &Path) -> Result<Vec<ShardReader>, ShardError> {
+fn open_shards(
+    directory: &Path,
+    describe_inputs: &DescribeInputs,
+) -> Result<Vec<ShardReader>, ShardError> {
     let io_error = |source| ShardError::Io {
         path: directory.to_path_buf(),
         source,
@@ -91,10 +208,13 @@ fn open_shards(directory: &Path) -> Result<Vec<ShardReader>, ShardError> {
         });
     }
     for shard in &shards[1..] {
-        let difference = first.run.difference(&shard.run).or_else(|| {
-            (shard.shard.count != first.shard.count)
-                .then(|| format!("N = {} instead of {}", shard.shard.count, first.shard.count))
-        });
+        let difference = first
+            .run
+            .difference(&shard.run, describe_inputs)
+            .or_else(|| {
+                (shard.shard.count != first.shard.count)
+                    .then(|| format!("N = {} instead of {}", shard.shard.count, first.shard.count))
+            });
         if let Some(difference) = difference {
             return Err(ShardError::Mixed {
                 path: shard.path.clone(),
@@ -139,7 +259,7 @@ fn open_shards(directory: &Path) -> Result<Vec<ShardReader>, ShardError> {
 }
 
 /// The pseudo-experiments of all shards, read point by point in the order of K.
-struct MergeSource<'a> {
+pub(crate) struct MergeSource<'a> {
     shards: &'a mut [ShardReader],
     /// The most upcrossings one look-elsewhere scan can count.
     max_upcrossings: u64,
@@ -220,6 +340,18 @@ impl ShardReader {
         request: &PointRequest,
         max_upcrossings: u64,
     ) -> Result<PointToys, ShardError> {
+        let toys = self.section(&point_name(request), decode_point)?;
+        check_point(&toys, request, self.shard, max_upcrossings)
+            .map_err(|impossible| impossible.in_file(&self.path))?;
+        Ok(toys)
+    }
+
+    /// The next section, read by `decode`; `what` names it in messages.
+    fn section<T>(
+        &mut self,
+        what: &str,
+        decode: impl FnOnce(&mut Decoder) -> Result<T, String>,
+    ) -> Result<T, ShardError> {
         let mut input =
             Decoder::open(&self.path, self.offset, self.body_length).map_err(|source| {
                 ShardError::Io {
@@ -227,15 +359,12 @@ impl ShardReader {
                     source,
                 }
             })?;
-        let toys = decode_point(&mut input);
+        let section = decode(&mut input);
         self.offset = self.body_length - input.remaining();
-        let toys = toys.map_err(|what| ShardError::Malformed {
+        section.map_err(|problem| ShardError::Malformed {
             path: self.path.clone(),
-            what: format!("{}: {what}", point_name(request)),
-        })?;
-        check_point(&toys, request, self.shard, max_upcrossings)
-            .map_err(|impossible| impossible.in_file(&self.path))?;
-        Ok(toys)
+            what: format!("{what}: {problem}"),
+        })
     }
 
     /// Checks that every section has been read.

@@ -36,23 +36,25 @@ mod error;
 mod merge;
 mod write;
 
+pub(crate) use encoding::{Decoder, Encoder};
 pub use error::ShardError;
-pub use merge::merge_shards;
+pub use merge::{ShardSet, merge_shard_set, merge_shards};
 pub use write::run_shard;
+pub(crate) use write::write_shard_file;
 
 use super::ProjectionSettings;
 use crate::message::{show, show_list};
 use crate::provenance::{Provenance, ScenarioFile};
 use crate::scenario::Spacing;
 use crate::scenario::TableFile;
-use encoding::{Decoder, Encoder, hex};
+use encoding::hex;
 use sha2::{Digest, Sha256};
 use std::fmt;
 use std::ops::Range;
 use std::str::FromStr;
 
 /// The first bytes of every shard file, with the format number.
-const MAGIC: &[u8; 16] = b"runcast-shard 5\n";
+const MAGIC: &[u8; 16] = b"runcast-shard 6\n";
 /// The first bytes of a shard file of any format, before its number.
 const MAGIC_PREFIX: &[u8] = b"runcast-shard ";
 /// The extension of shard files; `merge` reads every file of a directory with it.
@@ -126,7 +128,20 @@ pub struct ShardRun {
     /// The files of rows the scenario names, which merging reads from here.
     pub table_files: Vec<TableFile>,
     pub settings: ProjectionSettings,
+    /// The command whose shard this is (`project`, `replan`): shards of two
+    /// commands are never merged together.
+    pub command: String,
+    /// What the command adds to the run besides the scenario and settings,
+    /// encoded and compared by the command's own type (empty for `project`).
+    pub inputs: Vec<u8>,
 }
+
+/// Names the first difference between two shards' [`ShardRun::inputs`] of
+/// one command (the command, this run's inputs, the other's), for messages.
+pub type DescribeInputs = dyn Fn(&str, &[u8], &[u8]) -> String;
+
+/// The command of a projection's shards.
+pub const PROJECT_COMMAND: &str = "project";
 
 impl ShardRun {
     /// A run of this runcast build on the scenario `text` read from `name`,
@@ -144,6 +159,17 @@ impl ShardRun {
             scenario_text,
             table_files,
             settings,
+            command: PROJECT_COMMAND.to_string(),
+            inputs: Vec::new(),
+        }
+    }
+
+    /// The same run, of `command` with its `inputs` (see [`ShardRun::inputs`]).
+    pub fn of_command(self, command: &str, inputs: Vec<u8>) -> Self {
+        ShardRun {
+            command: command.to_string(),
+            inputs,
+            ..self
         }
     }
 
@@ -178,6 +204,8 @@ impl ShardRun {
         let settings = &self.settings;
         out.text(&self.version);
         out.text(&self.build);
+        out.text(&self.command);
+        out.bytes(&self.inputs);
         out.text(&self.scenario_name);
         out.bytes(&self.scenario_hash());
         out.text(&self.scenario_text);
@@ -202,6 +230,8 @@ impl ShardRun {
     fn decode(input: &mut Decoder) -> Result<ShardRun, String> {
         let version = input.text()?;
         let build = input.text()?;
+        let command = input.text()?;
+        let inputs = input.bytes()?;
         let scenario_name = input.text()?;
         let hash = input.bytes()?;
         let scenario_text = input.text()?;
@@ -222,6 +252,8 @@ impl ShardRun {
             scenario_name,
             scenario_text,
             table_files,
+            command,
+            inputs,
             settings: ProjectionSettings {
                 title,
                 days,
@@ -270,17 +302,25 @@ impl ShardRun {
     }
 
     /// The first field in which `other` differs from this run, for messages
-    /// (both of this build, see [`ShardRun::of_this_build`]).
-    fn difference(&self, other: &ShardRun) -> Option<String> {
+    /// (both of this build, see [`ShardRun::of_this_build`]); the command's
+    /// inputs named by `describe_inputs` (this run's, then the other's).
+    fn difference(&self, other: &ShardRun, describe_inputs: &DescribeInputs) -> Option<String> {
         let (a, b) = (&self.settings, &other.settings);
         let named = |what: &str, mine: String, theirs: String| {
             (mine != theirs).then(|| format!("{what} {theirs} instead of {mine}"))
         };
         named(
-            "scenario (SHA-256)",
-            hex(&self.scenario_hash()),
-            hex(&other.scenario_hash()),
+            "a shard of runcast",
+            self.command.clone(),
+            other.command.clone(),
         )
+        .or_else(|| {
+            named(
+                "scenario (SHA-256)",
+                hex(&self.scenario_hash()),
+                hex(&other.scenario_hash()),
+            )
+        })
         .or_else(|| {
             named(
                 "scenario file name",
@@ -289,6 +329,10 @@ impl ShardRun {
             )
         })
         .or_else(|| self.table_difference(other))
+        .or_else(|| {
+            (self.inputs != other.inputs)
+                .then(|| describe_inputs(&self.command, &self.inputs, &other.inputs))
+        })
         .or_else(|| named("seed", a.seed.to_string(), b.seed.to_string()))
         .or_else(|| named("--toys", a.toys.to_string(), b.toys.to_string()))
         .or_else(|| {

@@ -1,27 +1,48 @@
-//! Running one shard and writing its file, point by point.
+//! Running one shard and writing its file, section by section.
 
-use super::encoding::{Encoder, HashingWriter, encode_point};
+use super::encoding::{Encoder, HashingWriter, encode_ensemble, encode_point};
 use super::{MAGIC, ShardError, ShardRun, ShardSpec};
-use crate::asymptotic::AsimovSignificance;
 use crate::created_directories::CreatedDirectories;
+use crate::ensemble::EnsembleOutcome;
 use crate::likelihood::Likelihood;
 use crate::model::Model;
+use crate::projection::ProjectionError;
 use crate::projection::ensembles::{PointRequest, PointToys, RunToys, ToySource};
 use sha2::Digest;
 use std::fs::File;
 use std::io::{BufWriter, Write};
 use std::path::{Path, PathBuf};
 
-/// Runs shard `shard` of `run` and writes it into `directory` (created if
-/// needed, and removed again if this fails) under [`ShardRun::file_name`],
-/// atomically: a hidden temporary file renamed into place, so a rerun
-/// replaces it with the same bytes. Returns the path written.
+/// Runs shard `shard` of the projection `run` and writes it into
+/// `directory` (as `write_shard_file` writes every shard). Returns the path written.
 pub fn run_shard(
     model: &Model,
     run: &ShardRun,
     shard: ShardSpec,
     directory: &Path,
     progress: &(dyn Fn(u64) + Sync),
+) -> Result<PathBuf, ShardError> {
+    write_shard_file(run, shard, directory, |file| {
+        let mut source = file.recording(RunToys {
+            seed: run.settings.seed,
+            shard,
+            scan: run.settings.scan.as_ref(),
+            progress,
+        });
+        crate::projection::grid_toys(model, &run.settings, &mut source)
+    })
+}
+
+/// Writes shard `shard` of `run` into `directory` (created if needed, and
+/// removed again if this fails) under [`ShardRun::file_name`]: the header,
+/// then the sections `body` records, then the checksum; atomically, a
+/// hidden temporary file renamed into place, so a rerun replaces it with
+/// the same bytes. Returns the path written.
+pub(crate) fn write_shard_file(
+    run: &ShardRun,
+    shard: ShardSpec,
+    directory: &Path,
+    body: impl FnOnce(&mut ShardFile) -> Result<(), ShardError>,
 ) -> Result<PathBuf, ShardError> {
     let io_error = |path: &Path| {
         let path = path.to_path_buf();
@@ -32,18 +53,19 @@ pub fn run_shard(
     let path = directory.join(&name);
     let temporary = directory.join(format!(".{name}.partial"));
     let file = File::create(&temporary).map_err(io_error(&temporary))?;
-    let mut writer = ShardWriter {
+    let mut file = ShardFile {
         output: HashingWriter::new(BufWriter::new(file)),
-        runner: RunToys {
-            seed: run.settings.seed,
-            shard,
-            scan: run.settings.scan.as_ref(),
-            progress,
-        },
         path: temporary.clone(),
     };
-    let written = write_shard(model, run, shard, &mut writer)
-        .and_then(|()| writer.finish())
+    let mut header = Encoder::default();
+    header.raw(MAGIC);
+    run.encode(&mut header);
+    header.count(shard.index);
+    header.count(shard.count);
+    let written = file
+        .write(&header.bytes)
+        .and_then(|()| body(&mut file))
+        .and_then(|()| file.finish())
         .and_then(|()| std::fs::rename(&temporary, &path).map_err(io_error(&path)));
     if written.is_err() {
         // Then `created` is dropped: a directory made for this shard goes too.
@@ -54,33 +76,13 @@ pub fn run_shard(
     written.map(|()| path)
 }
 
-fn write_shard(
-    model: &Model,
-    run: &ShardRun,
-    shard: ShardSpec,
-    writer: &mut ShardWriter,
-) -> Result<(), ShardError> {
-    let mut header = Encoder::default();
-    header.raw(MAGIC);
-    run.encode(&mut header);
-    header.count(shard.index);
-    header.count(shard.count);
-    writer.write(&header.bytes)?;
-    let likelihood = Likelihood::new(model);
-    let mut asimov = AsimovSignificance::new(&likelihood);
-    let runner = crate::projection::point::PointRunner::new(&likelihood, &run.settings);
-    crate::projection::points(&runner, &mut asimov, &mut [], &run.settings, writer)?;
-    Ok(())
-}
-
-/// Runs a shard's toys and writes each point's outcomes as they come.
-struct ShardWriter<'a> {
+/// A shard file being written: sections appended as they come.
+pub(crate) struct ShardFile {
     output: HashingWriter<BufWriter<File>>,
-    runner: RunToys<'a>,
     path: PathBuf,
 }
 
-impl ShardWriter<'_> {
+impl ShardFile {
     fn write(&mut self, bytes: &[u8]) -> Result<(), ShardError> {
         self.output
             .write_all(bytes)
@@ -88,6 +90,22 @@ impl ShardWriter<'_> {
                 path: self.path.clone(),
                 source,
             })
+    }
+
+    /// Appends one ensemble's section (read back by `ShardSet::ensemble`).
+    pub(crate) fn record_ensemble(&mut self, outcome: &EnsembleOutcome) -> Result<(), ShardError> {
+        let mut section = Encoder::default();
+        encode_ensemble(outcome, &mut section);
+        self.write(&section.bytes)
+    }
+
+    /// A source that runs `source`'s pseudo-experiments and appends each
+    /// point's outcomes to this file as they come.
+    pub(crate) fn recording<S: ToySource<Error = ProjectionError>>(
+        &mut self,
+        source: S,
+    ) -> Recording<'_, S> {
+        Recording { file: self, source }
     }
 
     /// Appends the checksum and flushes the file to disk.
@@ -104,7 +122,13 @@ impl ShardWriter<'_> {
     }
 }
 
-impl ToySource for ShardWriter<'_> {
+/// Runs a shard's toys and writes each point's outcomes as they come.
+pub(crate) struct Recording<'f, S> {
+    file: &'f mut ShardFile,
+    source: S,
+}
+
+impl<S: ToySource<Error = ProjectionError>> ToySource for Recording<'_, S> {
     type Error = ShardError;
 
     fn toys(
@@ -112,14 +136,14 @@ impl ToySource for ShardWriter<'_> {
         likelihood: &Likelihood,
         request: &PointRequest,
     ) -> Result<PointToys, ShardError> {
-        let toys = self.runner.toys(likelihood, request)?;
+        let toys = self.source.toys(likelihood, request)?;
         let mut section = Encoder::default();
         encode_point(&toys, &mut section);
-        self.write(&section.bytes)?;
+        self.file.write(&section.bytes)?;
         Ok(toys)
     }
 
     fn skip(&mut self, toys: usize) {
-        self.runner.skip(toys);
+        self.source.skip(toys);
     }
 }
