@@ -8,7 +8,7 @@
 //! thin line below their arrows with open circles at the nominal, improved
 //! and worsened toy medians.
 
-use super::{Change, DayName, LEVERS_SVG, day_names, days_change, lost, saved};
+use super::{Change, DayName, LEVERS_SVG, day_names, days_change, lost, no_day_reason, saved};
 use crate::levers::{Lever, Levers, PlanDays, Reach};
 use crate::report::ReportError;
 use crate::report::kit::axis::{Axis, axis_label, linear_axis};
@@ -212,10 +212,15 @@ fn draw_panel(
     };
     let pad = ((high - low) * 0.22).max(0.05 * high.abs()).max(0.5);
     let rows = levers.levers.len().max(1) as f64;
-    let nominal = levers.baseline.all()[name.index].day();
+    let reach = levers.baseline.all()[name.index];
+    let nominal = reach.day();
     let caption = match nominal {
         Some(day) => format!("{} (nominal {})", name.label, days_label(day)),
-        None => format!("{} (nominal: not reached)", name.label),
+        None => format!(
+            "{} (nominal: {})",
+            name.label,
+            no_day_reason(reach, levers.last_day)
+        ),
     };
     let no_label = |_: &f64| String::new();
     let description = if days.is_empty() {
