@@ -327,9 +327,6 @@ pub fn inputs(scenario: &Scenario) -> Vec<Input> {
     found
 }
 
-/// The unit of a rate given per live day, as [`rate_as_written`] words it.
-const EVENTS_PER_LIVE_DAY: &str = "events per live day";
-
 /// A rate input as its file writes it: the key, the unit in words and the
 /// written value ("events_per_kg_day", "events per kg·day", 2); events per
 /// live day where the program made the rate.
@@ -340,7 +337,11 @@ fn rate_as_written(
 ) -> (&'static str, String, f64) {
     match written {
         Some(value) => (unit.key(), format!("events {}", unit.label()), value),
-        None => (RateUnit::PerDay.key(), EVENTS_PER_LIVE_DAY.into(), per_day),
+        None => (
+            RateUnit::PerDay.key(),
+            "events per live day".into(),
+            per_day,
+        ),
     }
 }
 
@@ -395,9 +396,10 @@ impl Input {
     /// The events per live day of a rate input set to `value` in its
     /// written unit, from the nominal `per_day`: the conversion is linear
     /// (per week / 7, per year / 365.25, per kg·day × mass), so the ratio
-    /// to the nominal carries over; a rate written per live day is `value`.
+    /// to the nominal carries over; where the conversion is 1 (a rate per
+    /// live day) it is `value` itself, unrounded.
     fn per_live_day(&self, per_day: f64, value: f64) -> f64 {
-        if self.unit == EVENTS_PER_LIVE_DAY {
+        if per_day == self.nominal {
             value
         } else {
             per_day * (value / self.nominal)

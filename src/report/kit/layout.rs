@@ -32,33 +32,14 @@ impl PixelBox {
             && other.top < self.bottom
     }
 
-    /// Whether the segment from `a` to `b` passes through the box (clipped
-    /// against its four edges, Liang and Barsky, Computer Vision, Graphics
-    /// and Image Processing 4 (1984) 308).
+    /// Whether the segment from `a` to `b` passes through the box.
     pub fn meets_segment(&self, a: (f64, f64), b: (f64, f64)) -> bool {
-        let (dx, dy) = (b.0 - a.0, b.1 - a.1);
-        let (mut enter, mut leave) = (0.0_f64, 1.0_f64);
-        for (p, q) in [
-            (-dx, a.0 - self.left),
-            (dx, self.right - a.0),
-            (-dy, a.1 - self.top),
-            (dy, self.bottom - a.1),
-        ] {
-            if p == 0.0 {
-                if q < 0.0 {
-                    return false;
-                }
-            } else if p < 0.0 {
-                enter = enter.max(q / p);
-            } else {
-                leave = leave.min(q / p);
-            }
-        }
-        enter <= leave
+        self.clip_segment(a, b).is_some()
     }
 
-    /// The part of the segment from `a` to `b` inside the box, if any
-    /// (Liang and Barsky, as [`PixelBox::meets_segment`]).
+    /// The part of the segment from `a` to `b` inside the box, if any,
+    /// clipped against its four edges (Liang and Barsky, Computer Vision,
+    /// Graphics and Image Processing 4 (1984) 308).
     pub fn clip_segment(&self, a: (f64, f64), b: (f64, f64)) -> Option<[(f64, f64); 2]> {
         let (dx, dy) = (b.0 - a.0, b.1 - a.1);
         let (mut enter, mut leave) = (0.0_f64, 1.0_f64);
