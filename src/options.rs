@@ -744,13 +744,7 @@ impl ReplanOptions {
             ..projection_settings(&loaded, &overrides)?
         };
         let taken_days = loaded.calendar_days("--taken", &[args.taken])?[0];
-        let live_time = LiveTime::from_schedule(&loaded.scenario.schedule);
-        if !(taken_days.is_finite() && taken_days > 0.0) || live_time.live_days(taken_days) <= 0.0 {
-            return Err(Error::Usage(format!(
-                "--taken {}: expected a calendar day with live time by then (the data taken so far)",
-                show(taken_days)
-            )));
-        }
+        loaded.live_days_of("--taken", taken_days)?;
         let model = Model::from_scenario(&loaded.scenario);
         check_model(&model).map_err(|source| Error::Replan {
             path: loaded.path.clone(),
