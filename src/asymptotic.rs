@@ -1,37 +1,29 @@
 //! Asymptotic (Asimov) answers: the median expected significance, its bands,
 //! the probability of reaching a target, and the limit as exposure grows.
 
-use crate::likelihood::{DiscoveryTest, FitFailure, Likelihood};
+use crate::likelihood::{AsimovDiscovery, FitFailure, Likelihood};
 use statrs::distribution::{ContinuousCDF, Normal};
 
 /// Median expected discovery significance Z_A = sqrt(q0) of the Asimov dataset
 /// generated at nominal parameters (mu = 1) with global observables at their
 /// nominal values (Cowan, Cranmer, Gross, Vitells, Eur. Phys. J. C 71 (2011)
-/// 1554, sec. 5.1 and eq. 97 for the one-bin case).
+/// 1554, sec. 5.1 and eq. 97 for the one-bin case), by one background-only
+/// fit per exposure ([`AsimovDiscovery`]).
 #[derive(Debug)]
 pub struct AsimovSignificance<'l, 'm> {
-    likelihood: &'l Likelihood<'m>,
-    test: DiscoveryTest<'l, 'm>,
-    nominal: Vec<f64>,
+    discovery: AsimovDiscovery<'l, 'm>,
 }
 
 impl<'l, 'm> AsimovSignificance<'l, 'm> {
     pub fn new(likelihood: &'l Likelihood<'m>) -> AsimovSignificance<'l, 'm> {
         AsimovSignificance {
-            likelihood,
-            test: DiscoveryTest::new(likelihood),
-            nominal: likelihood.model().nominal_parameters(),
+            discovery: AsimovDiscovery::new(likelihood),
         }
     }
 
     /// Z_A after `live_days`.
     pub fn at_live_days(&mut self, live_days: f64) -> Result<f64, FitFailure> {
-        let data = self.likelihood.asimov_dataset(
-            &self.nominal,
-            live_days,
-            self.test.fitter().workspace(),
-        );
-        Ok(self.test.fit(live_days, &data)?.q0.sqrt())
+        self.discovery.significance(live_days, 1.0)
     }
 
     /// The value Z_A tends to as live time grows without bound, or None when it

@@ -151,6 +151,19 @@ impl<'l, 'm> Fitter<'l, 'm> {
         }
     }
 
+    /// The expected counts at the parameters of the last successful fit:
+    /// every fit ends with the derivatives at its minimum in the workspace.
+    pub fn expected_counts(&self) -> &[f64] {
+        &self.work.expected
+    }
+
+    /// d(-ln L)/d mu at the parameters of the last successful fit, whether
+    /// or not it held mu fixed ([`Likelihood::signal_strength_gradient`]).
+    pub fn signal_strength_gradient(&self, live_days: f64) -> f64 {
+        self.likelihood
+            .signal_strength_gradient(&self.theta, live_days, &self.work)
+    }
+
     /// The scratch space, for evaluating expectations outside fits.
     pub fn workspace(&mut self) -> &mut Workspace {
         &mut self.work
@@ -280,6 +293,13 @@ impl<'l, 'm> Fitter<'l, 'm> {
                     < ROUNDING_DECREMENT.max(RELATIVE_ROUNDING_DECREMENT * magnitude)
                     && damping_floor == 0.0 =>
                 {
+                    // The search left the derivatives of a rejected point behind.
+                    likelihood.negative_log_likelihood_with_derivatives(
+                        &self.theta,
+                        live_days,
+                        data,
+                        &mut self.work,
+                    );
                     return Ok(nll);
                 }
                 None => {

@@ -10,6 +10,7 @@
 //! the counts are in the millions (Baker and Cousins, Nucl. Instrum. Meth. 221
 //! (1984) 437).
 
+mod asimov;
 mod dataset;
 mod fit;
 mod information;
@@ -18,13 +19,14 @@ mod poisson;
 mod test_statistic;
 mod upper_limit;
 
+pub use asimov::{AsimovDiscovery, AsimovQ0};
 pub use dataset::Dataset;
 pub use fit::{FitFailure, Fitter};
 pub use information::{MetricFailure, ProfiledMetric, SignalShapes};
 pub use test_statistic::{DiscoveryFit, DiscoveryTest, q0_from_fits};
 pub use upper_limit::{UpperLimitTest, q_tilde_from_fits};
 
-use crate::model::{Component, Constraint, Model, ShapeParameters};
+use crate::model::{Component, Constraint, Model, SIGNAL_STRENGTH, ShapeParameters};
 use linear::{add_scaled, dot, weighted_dot};
 use std::ops::Range;
 
@@ -238,6 +240,45 @@ impl<'m> Likelihood<'m> {
             }
         }
         work.expected.iter().all(|nu| nu.is_finite())
+    }
+
+    /// d nu_j / d mu at `theta` after `live_days`, the signal's expected counts
+    /// per unit signal strength (zero in bins without signal), written to `out`.
+    pub fn signal_per_unit_strength(
+        &self,
+        theta: &[f64],
+        live_days: f64,
+        work: &mut Workspace,
+        out: &mut [f64],
+    ) {
+        self.update_fractions(theta, work, false);
+        out.fill(0.0);
+        for (term, fractions) in self.terms.iter().zip(&work.fractions) {
+            if let Some(partial) = term.per_unit_strength(theta, live_days) {
+                add_scaled(
+                    &mut out[term.offset..term.offset + term.bins],
+                    partial,
+                    fractions,
+                );
+            }
+        }
+    }
+
+    /// d(-ln L)/d mu at `theta` after `live_days`: sum_j (1 - n_j/nu_j) dnu_j/dmu,
+    /// the derivative of the deviance terms (the signal strength has no
+    /// constraint), from a workspace that holds the derivatives at `theta`
+    /// (its gradient weights 1 - n_j/nu_j and bin fractions), whether or
+    /// not they were taken with mu held fixed.
+    pub fn signal_strength_gradient(&self, theta: &[f64], live_days: f64, work: &Workspace) -> f64 {
+        self.terms
+            .iter()
+            .zip(&work.fractions)
+            .filter_map(|(term, fractions)| {
+                let partial = term.per_unit_strength(theta, live_days)?;
+                let weights = &work.weights[term.offset..term.offset + term.bins];
+                Some(partial * dot(weights, fractions))
+            })
+            .sum()
     }
 
     /// The Asimov dataset: expected counts at `theta` and global observables at
@@ -710,6 +751,15 @@ impl<'m> Likelihood<'m> {
 impl Term<'_> {
     fn yield_at(&self, theta: &[f64], live_days: f64) -> f64 {
         self.component.events(live_days) * product_except(theta, self.yield_parameters, usize::MAX)
+    }
+
+    /// d yield / d mu: the yield without the signal strength, for a term that
+    /// the signal strength scales; None for every other term.
+    fn per_unit_strength(&self, theta: &[f64], live_days: f64) -> Option<f64> {
+        self.yield_parameters.contains(&SIGNAL_STRENGTH).then(|| {
+            self.component.events(live_days)
+                * product_except(theta, self.yield_parameters, SIGNAL_STRENGTH)
+        })
     }
 }
 

@@ -30,6 +30,7 @@ pub fn q_tilde_from_fits(
 /// other), or from the free fit for the first.
 #[derive(Debug)]
 pub struct UpperLimitTest<'l, 'm> {
+    likelihood: &'l Likelihood<'m>,
     fitter: Fitter<'l, 'm>,
     nominal: Vec<f64>,
     free_parameters: Vec<f64>,
@@ -43,6 +44,7 @@ impl<'l, 'm> UpperLimitTest<'l, 'm> {
     pub fn new(likelihood: &'l Likelihood<'m>) -> UpperLimitTest<'l, 'm> {
         let nominal = likelihood.model().nominal_parameters();
         UpperLimitTest {
+            likelihood,
             fitter: Fitter::new(likelihood),
             free_parameters: nominal.clone(),
             conditional_parameters: nominal.clone(),
@@ -61,6 +63,44 @@ impl<'l, 'm> UpperLimitTest<'l, 'm> {
         self.fitted_mu = self.free_parameters[SIGNAL_STRENGTH];
         self.has_conditional = false;
         Ok(self.fitted_mu)
+    }
+
+    /// The free fit of `data`, the Asimov dataset of `theta`, without
+    /// fitting: theta itself, where every term of -ln L vanishes (see
+    /// [`super::AsimovDiscovery`]); returns the fitted mu.
+    pub fn free_at_generating_point(
+        &mut self,
+        live_days: f64,
+        data: &Dataset,
+        theta: &[f64],
+    ) -> f64 {
+        self.free_nll = self.likelihood.negative_log_likelihood(
+            theta,
+            live_days,
+            data,
+            self.fitter.workspace(),
+        );
+        self.free_parameters.copy_from_slice(theta);
+        self.fitted_mu = theta[SIGNAL_STRENGTH];
+        self.has_conditional = false;
+        self.fitted_mu
+    }
+
+    /// q~_mu of the dataset last given to [`UpperLimitTest::fit_free`] and
+    /// its derivative in mu: by the envelope theorem, 2 d(-ln L)/d mu at the
+    /// conditional fit, the fitted nuisance parameters' own dependence on mu
+    /// dropping out (0 where q~_mu is 0).
+    pub fn q_tilde_with_slope(
+        &mut self,
+        live_days: f64,
+        data: &Dataset,
+        tested_mu: f64,
+    ) -> Result<(f64, f64), FitFailure> {
+        let q = self.q_tilde(live_days, data, tested_mu)?;
+        if self.fitted_mu > tested_mu {
+            return Ok((q, 0.0));
+        }
+        Ok((q, 2.0 * self.fitter.signal_strength_gradient(live_days)))
     }
 
     /// q~_mu of the dataset last given to [`UpperLimitTest::fit_free`].

@@ -7,7 +7,7 @@ use super::{
 use crate::ensemble::{EnsembleOutcome, EnsemblePlan, Family, Generator, run_ensemble};
 use crate::likelihood::{Dataset, FitFailure, Likelihood, UpperLimitTest};
 use crate::model::{Constraint, Model, SIGNAL_STRENGTH};
-use crate::numeric::solve_increasing;
+use crate::numeric::solve_increasing_with_slope;
 
 /// The bands of expected limits, in the order of every `*_band` field.
 pub const BAND_SIGMAS: [f64; 4] = [-2.0, -1.0, 1.0, 2.0];
@@ -30,8 +30,9 @@ pub struct AsymptoticLimits {
 /// that mu (Cowan, Cranmer, Gross, Vitells, Eur. Phys. J. C 71 (2011) 1554,
 /// eqs. 29-31 and 88-89).
 ///
-/// Each root is bracketed by doubling or halving from a guess, within 2^60
-/// times that guess either way. The median is searched from the nominal
+/// Each root is found by Newton's method from a guess, or where that does
+/// not converge bracketed by doubling or halving from it, within 2^60 times
+/// that guess either way ([`solve_increasing_with_slope`]). The median is searched from the nominal
 /// signal (mu = 1) or, when the signal is so large that its limit lies far
 /// below it, from its counting estimate 1.96 sqrt(b)/s (eq. 89 with sigma_A
 /// of one count, `Model::counting_sigma`), so a limit of 1e-20 is found as
@@ -53,28 +54,17 @@ pub fn asymptotic_limits(
     live_days: f64,
     alpha: f64,
 ) -> Result<AsymptoticLimits, FitFailure> {
-    let data = background_only_asimov(likelihood, live_days);
-    let mut test = UpperLimitTest::new(likelihood);
-    test.fit_free(live_days, &data)?;
-    let mut limit_at = |n_sigma: f64, guess: f64| -> Result<f64, FitFailure> {
-        let level = expected_limit_significance(alpha, n_sigma);
-        let crossing = solve_increasing(guess, level, |mu| {
-            Ok(test.q_tilde(live_days, &data, mu)?.sqrt())
-        })?;
-        Ok(crossing.root().unwrap_or(f64::INFINITY))
-    };
-    let median_level = expected_limit_significance(alpha, 0.0);
-    let start = (median_level * likelihood.model().counting_sigma(live_days)).min(1.0);
-    let median = limit_at(0.0, start)?;
-    let sigma = median / median_level;
+    let mut search = ExpectedLimitSearch::new(likelihood, live_days, alpha);
+    let median = search.median()?;
+    let sigma = median / search.level(0.0);
     let mut band = [f64::INFINITY; 4];
     for (limit, n_sigma) in band.iter_mut().zip(BAND_SIGMAS) {
         let guess = if sigma.is_finite() {
-            sigma * expected_limit_significance(alpha, n_sigma)
+            sigma * search.level(n_sigma)
         } else {
-            start
+            search.median_guess()
         };
-        *limit = limit_at(n_sigma, guess)?;
+        *limit = search.limit(n_sigma, guess)?;
     }
     Ok(AsymptoticLimits {
         median,
@@ -83,11 +73,71 @@ pub fn asymptotic_limits(
     })
 }
 
-/// The Asimov dataset of the background-only hypothesis (mu = 0, nuisance
-/// parameters nominal).
-fn background_only_asimov(likelihood: &Likelihood, live_days: f64) -> Dataset {
-    let theta = background_only(likelihood);
-    likelihood.asimov_dataset(&theta, live_days, &mut likelihood.workspace())
+/// The median expected limit alone, as [`asymptotic_limits`] finds it
+/// (no bands searched).
+pub fn asymptotic_median_limit(
+    likelihood: &Likelihood,
+    live_days: f64,
+    alpha: f64,
+) -> Result<f64, FitFailure> {
+    ExpectedLimitSearch::new(likelihood, live_days, alpha).median()
+}
+
+/// q~_mu of the background-only Asimov dataset at one exposure, and the
+/// searches for the mu where its square root reaches each band's level,
+/// by Newton's method with the derivative of q~_mu
+/// ([`UpperLimitTest::q_tilde_with_slope`], [`solve_increasing_with_slope`]).
+/// The dataset's free fit is its generating point, mu = 0.
+struct ExpectedLimitSearch<'l, 'm> {
+    likelihood: &'l Likelihood<'m>,
+    test: UpperLimitTest<'l, 'm>,
+    data: Dataset,
+    live_days: f64,
+    alpha: f64,
+}
+
+impl<'l, 'm> ExpectedLimitSearch<'l, 'm> {
+    fn new(likelihood: &'l Likelihood<'m>, live_days: f64, alpha: f64) -> Self {
+        let theta = background_only(likelihood);
+        let data = likelihood.asimov_dataset(&theta, live_days, &mut likelihood.workspace());
+        let mut test = UpperLimitTest::new(likelihood);
+        test.free_at_generating_point(live_days, &data, &theta);
+        ExpectedLimitSearch {
+            likelihood,
+            test,
+            data,
+            live_days,
+            alpha,
+        }
+    }
+
+    /// The level of sqrt(q~_mu) at the band `n_sigma` (eq. 89).
+    fn level(&self, n_sigma: f64) -> f64 {
+        expected_limit_significance(self.alpha, n_sigma)
+    }
+
+    /// The median's search start: the nominal signal, or its counting
+    /// estimate where that is smaller (see [`asymptotic_limits`]).
+    fn median_guess(&self) -> f64 {
+        (self.level(0.0) * self.likelihood.model().counting_sigma(self.live_days)).min(1.0)
+    }
+
+    fn median(&mut self) -> Result<f64, FitFailure> {
+        self.limit(0.0, self.median_guess())
+    }
+
+    /// The expected limit at the band `n_sigma`, searched from `guess`;
+    /// infinite where there is none.
+    fn limit(&mut self, n_sigma: f64, guess: f64) -> Result<f64, FitFailure> {
+        let level = self.level(n_sigma);
+        let (test, data, live_days) = (&mut self.test, &self.data, self.live_days);
+        let crossing = solve_increasing_with_slope(guess, level, |mu| {
+            let (q, slope) = test.q_tilde_with_slope(live_days, data, mu)?;
+            let root = q.sqrt();
+            Ok((root, slope / (2.0 * root)))
+        })?;
+        Ok(crossing.root().unwrap_or(f64::INFINITY))
+    }
 }
 
 fn background_only(likelihood: &Likelihood) -> Vec<f64> {

@@ -12,5 +12,6 @@ pub use exact::{
     poisson_upper_limit, quadrature_nodes_for, standard_normal_nodes,
 };
 pub use expected::{
-    AsymptoticLimits, asymptotic_limit_of, asymptotic_limits, limit_ensemble, toy_limit_ensemble,
+    AsymptoticLimits, asymptotic_limit_of, asymptotic_limits, asymptotic_median_limit,
+    limit_ensemble, toy_limit_ensemble,
 };

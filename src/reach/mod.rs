@@ -19,12 +19,12 @@
 //! (2010) 525).
 
 use crate::ensemble::{EnsembleOutcome, EnsemblePlan};
-use crate::likelihood::{DiscoveryTest, FitFailure, Likelihood};
-use crate::limits::{asymptotic_limits, toy_limit_ensemble};
+use crate::likelihood::{AsimovDiscovery, FitFailure, Likelihood};
+use crate::limits::{asymptotic_limits, asymptotic_median_limit, toy_limit_ensemble};
 use crate::look_elsewhere::REFERENCE_LEVEL;
 use crate::message::show_rounded;
-use crate::model::{Model, SIGNAL_STRENGTH};
-use crate::numeric::{Crossing, solve_increasing};
+use crate::model::Model;
+use crate::numeric::Crossing;
 use crate::projection::{BAND_QUANTILES, quantile};
 use crate::scenario::{Scenario, SignalScan};
 use crate::upcrossings::{ScanGeometry, UpcrossingError, scan_geometry_of};
@@ -362,22 +362,13 @@ impl PositionRunner<'_, '_, '_> {
         let limits = asymptotic_limits(self.likelihood, self.live_days, alpha)
             .map_err(failed("asymptotic limit"))?;
         let as_rate = |mu: f64| mu.is_finite().then_some(mu * self.rate);
-        let mut discovery = DiscoveryTest::new(self.likelihood);
-        let mut rate_for = |z: f64| {
-            self.discovery_strength(&mut discovery, z)
-                .map(|mu| mu.map(|mu| mu * self.rate))
-                .map_err(failed("Asimov discovery fit"))
-        };
-        let discovery_rate_local = self
-            .settings
-            .targets
-            .iter()
-            .map(|&z| rate_for(z))
-            .collect::<Result<Vec<_>, _>>()?;
-        let discovery_rate_global = global_local_targets
-            .iter()
-            .map(|&z| rate_for(z))
-            .collect::<Result<Vec<_>, _>>()?;
+        let mut discovery = DiscoveryRates::new(self);
+        let discovery_rate_local = discovery
+            .rates(&self.settings.targets)
+            .map_err(failed("Asimov discovery fit"))?;
+        let discovery_rate_global = discovery
+            .rates(global_local_targets)
+            .map_err(failed("Asimov discovery fit"))?;
         let (limit_rate_median, limit_rate_band, limit_failed_fits) =
             match (self.settings.toys, limits.median.is_finite()) {
                 (0, _) | (_, false) => (None, None, 0),
@@ -423,53 +414,70 @@ impl PositionRunner<'_, '_, '_> {
                 failure,
             }
         };
-        let limits = asymptotic_limits(self.likelihood, self.live_days, 1.0 - self.settings.cl)
-            .map_err(failed("asymptotic limit of one channel"))?;
-        let mut discovery = DiscoveryTest::new(self.likelihood);
-        let discovery_rate_local = self
-            .settings
-            .targets
-            .iter()
-            .map(|&z| {
-                self.discovery_strength(&mut discovery, z)
-                    .map(|mu| mu.map(|mu| mu * self.rate))
-                    .map_err(failed("Asimov discovery fit of one channel"))
-            })
-            .collect::<Result<Vec<_>, _>>()?;
+        let limit =
+            asymptotic_median_limit(self.likelihood, self.live_days, 1.0 - self.settings.cl)
+                .map_err(failed("asymptotic limit of one channel"))?;
+        let discovery_rate_local = DiscoveryRates::new(self)
+            .rates(&self.settings.targets)
+            .map_err(failed("Asimov discovery fit of one channel"))?;
         Ok(ChannelReach {
             width,
-            limit_rate_asimov: limits
-                .median
-                .is_finite()
-                .then_some(limits.median * self.rate),
+            limit_rate_asimov: limit.is_finite().then_some(limit * self.rate),
             discovery_rate_local,
         })
     }
+}
 
-    /// The signal strength whose Asimov dataset gives Z_A = `z`, or None when
-    /// none does.
-    fn discovery_strength(
-        &self,
-        test: &mut DiscoveryTest,
-        z: f64,
-    ) -> Result<Option<f64>, FitFailure> {
-        let model = self.likelihood.model();
-        let mut theta = model.nominal_parameters();
-        // From z sqrt(b)/s where that is below the nominal signal: the fits of
-        // a huge signal at mu = 1, far from the answer, need not converge.
-        let guess = (z * model.counting_sigma(self.live_days)).min(1.0);
-        let crossing = solve_increasing(guess, z, |mu| {
-            theta[SIGNAL_STRENGTH] = mu;
-            let data =
-                self.likelihood
-                    .asimov_dataset(&theta, self.live_days, test.fitter().workspace());
-            Ok(test.fit(self.live_days, &data)?.q0.sqrt())
-        })?;
-        Ok(match crossing {
-            Crossing::At(mu) => Some(mu),
-            Crossing::OutOfReach => None,
-            Crossing::AtOrigin | Crossing::NoRoot => return Err(FitFailure::NoCrossing),
-        })
+/// The rates where the Asimov significance at one position and exposure
+/// reaches each of a series of levels, one Newton search each
+/// ([`AsimovDiscovery::strength_for`]). The first search starts from
+/// z sqrt(b)/s where that is below the nominal signal (the fits of a huge
+/// signal at mu = 1, far from the answer, need not converge); each later
+/// one from the last root scaled by the ratio of the levels, as Z_A is
+/// nearly proportional to the signal.
+struct DiscoveryRates<'l, 'm> {
+    discovery: AsimovDiscovery<'l, 'm>,
+    live_days: f64,
+    /// The scenario's signal rate: mu = 1.
+    rate: f64,
+    counting_sigma: f64,
+    /// The last (level, signal strength) found.
+    last: Option<(f64, f64)>,
+}
+
+impl<'l, 'm> DiscoveryRates<'l, 'm> {
+    fn new(runner: &PositionRunner<'l, 'm, '_>) -> DiscoveryRates<'l, 'm> {
+        let likelihood = runner.likelihood;
+        DiscoveryRates {
+            discovery: AsimovDiscovery::new(likelihood),
+            live_days: runner.live_days,
+            rate: runner.rate,
+            counting_sigma: likelihood.model().counting_sigma(runner.live_days),
+            last: None,
+        }
+    }
+
+    /// The rate for each of `levels`; None where no signal reaches it.
+    fn rates(&mut self, levels: &[f64]) -> Result<Vec<Option<f64>>, FitFailure> {
+        levels
+            .iter()
+            .map(|&z| Ok(self.strength_for(z)?.map(|mu| mu * self.rate)))
+            .collect()
+    }
+
+    fn strength_for(&mut self, z: f64) -> Result<Option<f64>, FitFailure> {
+        let guess = match self.last {
+            Some((level, mu)) => mu * z / level,
+            None => (z * self.counting_sigma).min(1.0),
+        };
+        match self.discovery.strength_for(self.live_days, z, guess)? {
+            Crossing::At(mu) => {
+                self.last = Some((z, mu));
+                Ok(Some(mu))
+            }
+            Crossing::OutOfReach => Ok(None),
+            Crossing::AtOrigin | Crossing::NoRoot => Err(FitFailure::NoCrossing),
+        }
     }
 }
 
