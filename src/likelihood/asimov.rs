@@ -21,18 +21,20 @@
 //! the background-only fit, and the term at the generating point is zero for
 //! every mu (derivation by hand).
 
-use super::{Dataset, FitFailure, Fitter, Likelihood, q0_from_fits};
+use super::{Dataset, FitFailure, FitPath, Fitter, Likelihood, q0_from_fits};
 use crate::model::SIGNAL_STRENGTH;
 use crate::numeric::{Crossing, solve_increasing_with_slope};
 
 /// q0 of the Asimov datasets of one likelihood at any signal strength and
 /// exposure, the nuisance parameters at their nominal values; each
-/// background-only fit starts from the last one's solution.
+/// background-only fit starts where the last two fits at the same exposure
+/// predict its minimum ([`FitPath`]).
 #[derive(Debug)]
 pub struct AsimovDiscovery<'l, 'm> {
     likelihood: &'l Likelihood<'m>,
     fitter: Fitter<'l, 'm>,
-    null_start: Vec<f64>,
+    /// Starts of the background-only fits, along the generating mu.
+    null_fits: FitPath,
     /// The parts of the datasets at the last exposure asked for.
     exposure: Option<AsimovParts>,
     /// The dataset of the last signal strength (its counts rewritten each time).
@@ -75,12 +77,12 @@ impl AsimovQ0 {
 
 impl<'l, 'm> AsimovDiscovery<'l, 'm> {
     pub fn new(likelihood: &'l Likelihood<'m>) -> AsimovDiscovery<'l, 'm> {
-        let mut null_start = likelihood.model().nominal_parameters();
-        null_start[SIGNAL_STRENGTH] = 0.0;
+        let mut background_only = likelihood.model().nominal_parameters();
+        background_only[SIGNAL_STRENGTH] = 0.0;
         AsimovDiscovery {
             likelihood,
             fitter: Fitter::new(likelihood),
-            null_start,
+            null_fits: FitPath::new(&background_only),
             exposure: None,
             data: Dataset {
                 counts: vec![0.0; likelihood.bins],
@@ -104,10 +106,11 @@ impl<'l, 'm> AsimovDiscovery<'l, 'm> {
         {
             *n = b + mu * s;
         }
+        let start = self.null_fits.start_for(mu);
         let null_nll = self
             .fitter
-            .minimise(live_days, &self.data, Some(0.0), &self.null_start)?;
-        self.null_start.copy_from_slice(self.fitter.parameters());
+            .minimise(live_days, &self.data, Some(0.0), start)?;
+        self.null_fits.record(mu, self.fitter.parameters());
         let expected = self.fitter.expected_counts();
         let log_ratio: f64 = parts
             .signal_bins

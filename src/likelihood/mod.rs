@@ -13,6 +13,7 @@
 mod asimov;
 mod dataset;
 mod fit;
+mod fit_path;
 mod information;
 mod linear;
 mod poisson;
@@ -22,6 +23,7 @@ mod upper_limit;
 pub use asimov::{AsimovDiscovery, AsimovQ0};
 pub use dataset::Dataset;
 pub use fit::{FitFailure, Fitter};
+pub use fit_path::FitPath;
 pub use information::{MetricFailure, ProfiledMetric, SignalShapes};
 pub use test_statistic::{DiscoveryFit, DiscoveryTest, q0_from_fits};
 pub use upper_limit::{UpperLimitTest, q_tilde_from_fits};

@@ -1,6 +1,6 @@
 //! The test statistic for upper limits, q~_mu, from profile-likelihood fits.
 
-use super::{Dataset, FitFailure, Fitter, Likelihood};
+use super::{Dataset, FitFailure, FitPath, Fitter, Likelihood};
 use crate::model::SIGNAL_STRENGTH;
 
 /// q~_mu from the two minima of -ln L:
@@ -25,9 +25,10 @@ pub fn q_tilde_from_fits(
 }
 
 /// q~_mu of one dataset at any tested mu: the free fit is done once, then one
-/// conditional fit per tested value, each started from the last conditional
-/// solution (the tested values of a search for a limit close in on each
-/// other), or from the free fit for the first.
+/// conditional fit per tested value, each started where the last two
+/// conditional fits predict its minimum ([`FitPath`]; the tested values of a
+/// search for a limit close in on each other), or from the free fit for the
+/// first.
 #[derive(Debug)]
 pub struct UpperLimitTest<'l, 'm> {
     likelihood: &'l Likelihood<'m>,
@@ -36,8 +37,8 @@ pub struct UpperLimitTest<'l, 'm> {
     free_parameters: Vec<f64>,
     free_nll: f64,
     fitted_mu: f64,
-    conditional_parameters: Vec<f64>,
-    has_conditional: bool,
+    /// Starts of the conditional fits, along the tested mu.
+    conditional_fits: FitPath,
 }
 
 impl<'l, 'm> UpperLimitTest<'l, 'm> {
@@ -47,11 +48,10 @@ impl<'l, 'm> UpperLimitTest<'l, 'm> {
             likelihood,
             fitter: Fitter::new(likelihood),
             free_parameters: nominal.clone(),
-            conditional_parameters: nominal.clone(),
+            conditional_fits: FitPath::new(&nominal),
             nominal,
             free_nll: f64::NAN,
             fitted_mu: f64::NAN,
-            has_conditional: false,
         }
     }
 
@@ -61,7 +61,7 @@ impl<'l, 'm> UpperLimitTest<'l, 'm> {
         self.free_parameters
             .copy_from_slice(self.fitter.parameters());
         self.fitted_mu = self.free_parameters[SIGNAL_STRENGTH];
-        self.has_conditional = false;
+        self.conditional_fits = FitPath::new(&self.free_parameters);
         Ok(self.fitted_mu)
     }
 
@@ -82,7 +82,7 @@ impl<'l, 'm> UpperLimitTest<'l, 'm> {
         );
         self.free_parameters.copy_from_slice(theta);
         self.fitted_mu = theta[SIGNAL_STRENGTH];
-        self.has_conditional = false;
+        self.conditional_fits = FitPath::new(theta);
         self.fitted_mu
     }
 
@@ -113,17 +113,12 @@ impl<'l, 'm> UpperLimitTest<'l, 'm> {
         if self.fitted_mu > tested_mu {
             return Ok(0.0);
         }
-        let start = if self.has_conditional {
-            &self.conditional_parameters
-        } else {
-            &self.free_parameters
-        };
+        let start = self.conditional_fits.start_for(tested_mu);
         let conditional = self
             .fitter
             .minimise(live_days, data, Some(tested_mu), start)?;
-        self.conditional_parameters
-            .copy_from_slice(self.fitter.parameters());
-        self.has_conditional = true;
+        self.conditional_fits
+            .record(tested_mu, self.fitter.parameters());
         Ok(q_tilde_from_fits(
             conditional,
             self.free_nll,
