@@ -15,14 +15,14 @@ pub fn times_power_of_ten(mantissa: f64, decade: i32) -> f64 {
 }
 
 /// Root of an increasing function between `low` (below `level`) and `high`
-/// (at or above it), by bisection in log(x) to a relative precision of 1e-7.
+/// (at or above it), by bisection in log(x) to [`ROOT_PRECISION`].
 pub fn bisect_log<E>(
     mut low: f64,
     mut high: f64,
     level: f64,
     mut value_at: impl FnMut(f64) -> Result<f64, E>,
 ) -> Result<f64, E> {
-    while high / low > 1.0 + 1e-7 {
+    while high / low > 1.0 + ROOT_PRECISION {
         let middle = (low * high).sqrt();
         if value_at(middle)? >= level {
             high = middle;
@@ -32,6 +32,10 @@ pub fn bisect_log<E>(
     }
     Ok((low * high).sqrt())
 }
+
+/// The relative precision of the roots [`solve_increasing`] and
+/// [`bisect_log`] find.
+pub const ROOT_PRECISION: f64 = 1e-7;
 
 /// What a search for the argument where an increasing function reaches a
 /// level found.
@@ -80,7 +84,7 @@ pub fn solve_increasing<E>(
             } else {
                 (next, previous)
             };
-            let root = regula_falsi(below, above, level, value_at)?;
+            let root = regula_falsi(below, above, level, ROOT_PRECISION, value_at)?;
             return Ok(root.map_or(Crossing::NoRoot, Crossing::At));
         }
         previous = next;
@@ -194,7 +198,8 @@ const JUMP_SLOPE_RATIO: f64 = 1e3;
 
 /// Root of an increasing function between `below` = (x, f(x)) with f(x) <
 /// `level` and `above` with f(x) >= `level` (a bracket within a factor of two
-/// or so), to a relative precision of 1e-7, by regula falsi with the
+/// or so), to the relative `precision` asked (`ROOT_PRECISION` where a
+/// root's evaluations are costly, such as fits of pseudo-experiments), by regula falsi with the
 /// modification of Anderson and Björck (BIT 13 (1973) 253): when the same end
 /// of the bracket is kept twice, its distance from `level` is scaled down by
 /// m = 1 - f(new)/f(replaced) (by 1/2 when m <= 0), so both ends close in and
@@ -210,6 +215,7 @@ pub fn regula_falsi<E>(
     below: (f64, f64),
     above: (f64, f64),
     level: f64,
+    precision: f64,
     mut value_at: impl FnMut(f64) -> Result<f64, E>,
 ) -> Result<Option<f64>, E> {
     let first_slope = (above.1 - below.1) / (above.0 - below.0);
@@ -219,7 +225,7 @@ pub fn regula_falsi<E>(
     let (mut low_raw, mut high_raw) = (low_value, high_value);
     let mut kept_low_before = None;
     for _ in 0..200 {
-        let tolerance = 1e-7 * low;
+        let tolerance = precision * low;
         if high_raw == 0.0 {
             return Ok(Some(high));
         }
@@ -283,13 +289,18 @@ mod tests {
             (5e-4, 1e-3 * 1.5, |x: f64| x - 1e-3 + 2.0, 1e-3),
         ] {
             let mut evaluations = 0;
-            let found =
-                regula_falsi::<()>((low, function(low)), (high, function(high)), 2.0, |x| {
+            let found = regula_falsi::<()>(
+                (low, function(low)),
+                (high, function(high)),
+                2.0,
+                1e-7,
+                |x| {
                     evaluations += 1;
                     Ok(function(x))
-                })
-                .unwrap()
-                .unwrap();
+                },
+            )
+            .unwrap()
+            .unwrap();
             assert!((found / root - 1.0).abs() < 1e-7, "{found} vs {root}");
             assert!(evaluations <= 8, "{evaluations} evaluations");
         }

@@ -9,7 +9,7 @@ use super::{
 };
 use crate::asymptotic::{AsimovSignificance, significance};
 use crate::likelihood::{FitFailure, Likelihood};
-use crate::limits::asymptotic_limits;
+use crate::limits::asymptotic_median_limit;
 use crate::model::{LiveTime, Model};
 use crate::numeric::{bisect_log, regula_falsi};
 
@@ -148,7 +148,7 @@ fn global_days<T: ToySource<Error = ProjectionError>>(
             global: true,
             ..PointParts::NONE
         };
-        refine_crossing_quickly(&days, &values, level, |day| {
+        refine_crossing(&days, &values, level, |day| {
             solver.point(asimov, day, global_only).map(z_global_asimov)
         })?
     } else {
@@ -249,15 +249,14 @@ pub(super) fn days_to_exclusion<T: ToySource<Error = ProjectionError>>(
         if live_days <= 0.0 {
             return Ok(0.0);
         }
-        let limits =
-            asymptotic_limits(likelihood, live_days, alpha).map_err(|failure: FitFailure| {
-                ProjectionError {
-                    live_days,
-                    what: "background-only Asimov fit for expected limits",
-                    failure,
-                }
-            })?;
-        Ok(1.0 / (limits.median * limits.median))
+        let median = asymptotic_median_limit(likelihood, live_days, alpha).map_err(
+            |failure: FitFailure| ProjectionError {
+                live_days,
+                what: "background-only Asimov fit for expected limits",
+                failure,
+            },
+        )?;
+        Ok(1.0 / (median * median))
     })?;
     let mut withheld = Vec::new();
     let with_toys = points.iter().any(|p| p.limit_median.is_some());
@@ -341,50 +340,24 @@ fn toy_series(
     points.iter().map(value).collect()
 }
 
+/// The relative precision of the days root-found from asymptotic answers,
+/// one fit (and a look-elsewhere geometry) per evaluation: far below the
+/// solvers' default, since each step costs little, and still well above the
+/// fits' own precision on Z_A (about 1e-10).
+const ASIMOV_DAY_PRECISION: f64 = 1e-9;
+
 /// The calendar day where an increasing quantity (sampled as `values` at grid
 /// `days`) reaches `level`, root-found with `value_at` between the grid points
-/// that bracket it, or below the first point; None beyond the grid. By
-/// bisection in log(days) ([`bisect_log`]).
+/// that bracket it, or below the first point (halving below it while the
+/// quantity is already above); None beyond the grid. By regula falsi
+/// ([`regula_falsi`] to [`ASIMOV_DAY_PRECISION`]: a handful of evaluations
+/// where bisection takes two dozen), or by bisection in log(days) ([`bisect_log`]) where regula falsi
+/// finds no root.
 fn refine_crossing<E>(
     days: &[f64],
     values: &[f64],
     level: f64,
-    value_at: impl FnMut(f64) -> Result<f64, E>,
-) -> Result<Option<f64>, E> {
-    refine_crossing_with(days, values, level, value_at, |below, above, value_at| {
-        bisect_log(below.0, above.0, level, value_at).map(Some)
-    })
-}
-
-/// As [`refine_crossing`], by regula falsi ([`regula_falsi`]: a handful of
-/// evaluations where bisection takes two dozen), for a quantity whose
-/// evaluations are costly; by bisection where regula falsi finds no root.
-fn refine_crossing_quickly<E>(
-    days: &[f64],
-    values: &[f64],
-    level: f64,
-    value_at: impl FnMut(f64) -> Result<f64, E>,
-) -> Result<Option<f64>, E> {
-    refine_crossing_with(
-        days,
-        values,
-        level,
-        value_at,
-        |below, above, value_at| match regula_falsi(below, above, level, &mut *value_at)? {
-            Some(day) => Ok(Some(day)),
-            None => bisect_log(below.0, above.0, level, value_at).map(Some),
-        },
-    )
-}
-
-/// The bracket (day, value) below and at or above `level` from the grid
-/// (halving below the first point when it is already above), then `solve`.
-fn refine_crossing_with<E, F: FnMut(f64) -> Result<f64, E>>(
-    days: &[f64],
-    values: &[f64],
-    level: f64,
-    mut value_at: F,
-    solve: impl FnOnce((f64, f64), (f64, f64), &mut F) -> Result<Option<f64>, E>,
+    mut value_at: impl FnMut(f64) -> Result<f64, E>,
 ) -> Result<Option<f64>, E> {
     let Some(above) = values.iter().position(|&v| v >= level) else {
         return Ok(None);
@@ -401,7 +374,10 @@ fn refine_crossing_with<E, F: FnMut(f64) -> Result<f64, E>>(
         }
         (low, value)
     };
-    solve(low, high, &mut value_at)
+    match regula_falsi(low, high, level, ASIMOV_DAY_PRECISION, &mut value_at)? {
+        Some(day) => Ok(Some(day)),
+        None => bisect_log(low.0, high.0, level, value_at).map(Some),
+    }
 }
 
 #[cfg(test)]
