@@ -1,6 +1,6 @@
 //! The stdout summary of `runcast reach`: per exposure, the best and worst
-//! expected limit over the scan and the rates for the highest target, local
-//! and global.
+//! expected limit over the scan and the rates for each target, local and
+//! global.
 
 use crate::message::{show, show_rounded};
 use crate::reach::{ExposureReach, PositionReach, Reach};
@@ -80,19 +80,19 @@ fn exposure_summary(reach: &Reach, exposure: &ExposureReach) -> String {
             |p| p.limit_rate_median,
         );
     }
-    if let Some(last) = reach.targets.len().checked_sub(1) {
-        let target = target_label(reach.targets[last]);
+    for (index, &target) in reach.targets.iter().enumerate() {
+        let target = target_label(target);
         text += &extremes_line(&format!("{target} local"), unit, &exposure.positions, |p| {
-            p.discovery_rate_local[last]
+            p.discovery_rate_local[index]
         });
         text += &extremes_line(
             &format!(
                 "{target} global (local {:.2}σ)",
-                exposure.global_local_targets[last]
+                exposure.global_local_targets[index]
             ),
             unit,
             &exposure.positions,
-            |p| p.discovery_rate_global[last],
+            |p| p.discovery_rate_global[index],
         );
     }
     text
