@@ -6,7 +6,7 @@ use super::project::{self, removed_lines, with_threads};
 use crate::cli::{CompareArgs, OutputArgs, PlanArgs, ProjectArgs};
 use crate::error::Error;
 use crate::options::{Loaded, ProjectOptions, comparison_provenance, figure_formats};
-use crate::progress::toy_progress;
+use crate::progress::{advance, toy_progress};
 use crate::stdout;
 use runcast::calendar::DayArgument;
 use runcast::message::{show, show_list};
@@ -141,7 +141,7 @@ fn plan_reach(args: &CompareArgs, loaded: &Loaded, days: f64) -> Result<Reach, E
     };
     let positions = scenario.signal_scan().map_or(0, |scan| scan.len());
     let bar = toy_progress(positions as u64, args.workers.quiet);
-    let progress = |done: u64| bar.inc(done);
+    let progress = |done: u64| advance(&bar, done);
     let computed = with_threads(args.workers.threads, || {
         reach(scenario, &settings, &progress)
     })?;

@@ -6,7 +6,7 @@ use super::project::{removed_lines, with_threads};
 use crate::cli::LeversArgs;
 use crate::error::Error;
 use crate::options::LeversOptions;
-use crate::progress::{plan_progress, toy_progress};
+use crate::progress::{advance, plan_progress, toy_progress};
 use crate::stdout;
 use runcast::levers::{inputs, levers, toy_medians, toy_plans};
 use runcast::report;
@@ -16,7 +16,7 @@ pub fn run(args: &LeversArgs) -> Result<(), Error> {
     print_warnings(&options.loaded);
     let scenario = &options.loaded.scenario;
     let bar = plan_progress(2 * inputs(scenario).len() as u64, options.quiet);
-    let progress = |done: u64| bar.inc(done);
+    let progress = |done: u64| advance(&bar, done);
     let computed = with_threads(options.threads, || {
         levers(
             scenario,
@@ -31,7 +31,7 @@ pub fn run(args: &LeversArgs) -> Result<(), Error> {
     if let Some(settings) = &options.toy_settings {
         let plans = toy_plans(&levers).len() as u64;
         let bar = toy_progress(plans * settings.total_toys(), options.quiet);
-        let progress = |done: u64| bar.inc(done);
+        let progress = |done: u64| advance(&bar, done);
         with_threads(options.threads, || {
             toy_medians(&mut levers, scenario, settings, &progress)
         })?

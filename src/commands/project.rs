@@ -4,7 +4,7 @@ use super::print_warnings;
 use crate::cli::ProjectArgs;
 use crate::error::Error;
 use crate::options::ProjectOptions;
-use crate::progress::toy_progress;
+use crate::progress::{advance, toy_progress};
 use crate::stdout;
 use runcast::projection::{self, Projection, ShardRun, ShardSpec, project};
 use runcast::report;
@@ -34,7 +34,7 @@ pub fn run(args: &ProjectArgs) -> Result<(), Error> {
 pub(super) fn projection(options: &ProjectOptions) -> Result<Projection, Error> {
     let settings = &options.settings;
     let bar = toy_progress(settings.total_toys(), options.quiet);
-    let progress = |done: u64| bar.inc(done);
+    let progress = |done: u64| advance(&bar, done);
     let projection = with_threads(options.threads, || {
         project(&options.model, settings, &progress)
     })??;
@@ -53,7 +53,7 @@ fn run_shard(options: &ProjectOptions, shard: ShardSpec) -> Result<(), Error> {
         options.settings.clone(),
     );
     let bar = toy_progress(options.settings.total_toys_in(shard), options.quiet);
-    let progress = |done: u64| bar.inc(done);
+    let progress = |done: u64| advance(&bar, done);
     let path = with_threads(options.threads, || {
         projection::run_shard(&options.model, &run, shard, &options.out, &progress)
     })??;

@@ -5,7 +5,7 @@ use super::project::{removed_lines, with_threads};
 use crate::cli::ReachArgs;
 use crate::error::Error;
 use crate::options::ReachOptions;
-use crate::progress::toy_progress;
+use crate::progress::{advance, toy_progress};
 use crate::stdout;
 use runcast::reach::reach;
 use runcast::report;
@@ -21,7 +21,7 @@ pub fn run(args: &ReachArgs) -> Result<(), Error> {
         .map_or(0, |scan| scan.len());
     let steps = (positions * settings.days.len() * (1 + settings.toys)) as u64;
     let bar = toy_progress(steps, options.quiet);
-    let progress = |done: u64| bar.inc(done);
+    let progress = |done: u64| advance(&bar, done);
     let computed = with_threads(options.threads, || {
         reach(&options.loaded.scenario, settings, &progress)
     })?;

@@ -5,7 +5,7 @@ use super::project::{removed_lines, with_threads};
 use crate::cli::ReplanArgs;
 use crate::error::Error;
 use crate::options::ReplanOptions;
-use crate::progress::toy_progress;
+use crate::progress::{advance, toy_progress};
 use crate::stdout;
 use runcast::projection::{ShardRun, ShardSpec};
 use runcast::replan::{ReplanInputs, replan, run_replan_shard};
@@ -19,7 +19,7 @@ pub fn run(args: &ReplanArgs) -> Result<(), Error> {
     }
     let settings = &options.settings;
     let bar = toy_progress(settings.total_toys(), options.quiet);
-    let progress = |done: u64| bar.inc(done);
+    let progress = |done: u64| advance(&bar, done);
     let scan = options.loaded.scenario.signal_scan();
     let computed = with_threads(options.threads, || {
         replan(
@@ -60,7 +60,7 @@ fn run_shard(options: &ReplanOptions, shard: ShardSpec) -> Result<(), Error> {
     );
     let inputs = ReplanInputs::new(settings, options.data.clone());
     let bar = toy_progress(settings.total_toys_in(shard), options.quiet);
-    let progress = |done: u64| bar.inc(done);
+    let progress = |done: u64| advance(&bar, done);
     let scan = loaded.scenario.signal_scan();
     let path = with_threads(options.threads, || {
         run_replan_shard(
