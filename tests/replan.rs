@@ -277,6 +277,55 @@ fn with_no_days_left_the_conditional_distribution_is_the_observed_z() {
     }
 }
 
+/// Data taken up to the plan's last day leave nothing to project: the
+/// summary says so and names the key that would, rather than only printing
+/// days not within a grid of one point.
+#[test]
+fn data_taken_to_the_end_of_the_plan_say_nothing_is_left() {
+    let scratch = Scratch::new("plan-ended");
+    let scenario = write(&scratch, "counting.yaml", COUNTING);
+    let data = write(&scratch, "data.csv", "low,high,count\n0,1,4200\n");
+    let stdout = succeed(
+        &scratch,
+        &[
+            "replan",
+            text(&scenario),
+            "--data",
+            text(&data),
+            "--taken",
+            "40",
+            "--toys",
+            "20",
+            "--quiet",
+            "--out",
+            "out",
+        ],
+    );
+    assert!(
+        stdout.contains(
+            "No day of the plan comes after the data taken (plan.days ends at 40 d): nothing is left to project; extend plan.days to look further."
+        ),
+        "{stdout}"
+    );
+    let earlier = succeed(
+        &scratch,
+        &[
+            "replan",
+            text(&scenario),
+            "--data",
+            text(&data),
+            "--taken",
+            "20",
+            "--toys",
+            "20",
+            "--quiet",
+            "--out",
+            "earlier",
+        ],
+    );
+    assert!(!earlier.contains("No day of the plan"), "{earlier}");
+}
+
 /// Data equal to the rounded expectation after 10 days (from `runcast
 /// spectrum`'s expected counts) and the future drawn from the scenario: the
 /// conditional median Z at each later day agrees with the unconditional

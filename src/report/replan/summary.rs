@@ -176,6 +176,12 @@ fn days_block(replan: &Replan, start: Option<CalendarDate>) -> String {
         "Calendar days to each target with the signal, keeping the data taken and drawing the rest (from {})\n",
         dated_days_label(replan.taken_days, start)
     );
+    if last_day(signal) <= replan.taken_days {
+        text += &format!(
+            "No day of the plan comes after the data taken (plan.days ends at {}): nothing is left to project; extend plan.days to look further.\n",
+            dated_days_label(last_day(&replan.forecast), start)
+        );
+    }
     let mut rows = vec![
         [
             "target",
