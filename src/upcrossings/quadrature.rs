@@ -383,6 +383,43 @@ mod tests {
         );
     }
 
+    /// One rule for a narrow peak, exp(-((x - 4.3)/0.05)²/2), and a slow
+    /// fall, exp(-x/3), over [0, 10] from panels of two widths integrates
+    /// each (0.05 sqrt(2 pi), normal density; 3 (1 - exp(-10/3)),
+    /// elementary) and their mean, which it was not refined for, to 1e-9
+    /// relative.
+    #[test]
+    fn common_rule_integrates_each_integrand_and_a_blend() {
+        let width = 0.05;
+        let peak = |x: f64| (-0.5 * ((x - 4.3) / width).powi(2)).exp();
+        let fall = |x: f64| (-x / 3.0).exp();
+        let rule = common_rule(
+            0.0,
+            10.0,
+            100,
+            1e-10,
+            2,
+            |x| x,
+            |&x, lane| Some(if lane == 0 { peak(x) } else { fall(x) }),
+        );
+        let sum = |f: &dyn Fn(f64) -> f64| rule.iter().map(|(x, w)| w * f(*x)).sum::<f64>();
+        let peak_integral = width * (2.0 * std::f64::consts::PI).sqrt();
+        let fall_integral = 3.0 * (1.0 - (-10.0_f64 / 3.0).exp());
+        for (value, expected) in [
+            (sum(&peak), peak_integral),
+            (sum(&fall), fall_integral),
+            (
+                sum(&|x| 0.5 * (peak(x) + fall(x))),
+                0.5 * (peak_integral + fall_integral),
+            ),
+        ] {
+            assert!(
+                (value / expected - 1.0).abs() < 1e-9,
+                "{value} vs {expected}"
+            );
+        }
+    }
+
     /// An empty interval holds nothing (definition).
     #[test]
     fn empty_interval_is_zero() {

@@ -1,17 +1,18 @@
 //! The Asimov geometry of a scan at any exposure, from one table of inner
 //! products per quadrature node.
 //!
-//! Within a channel whose components all share one exposure function e(T)
+//! Within a channel whose backgrounds all share one exposure function e(T)
 //! (`Component::exposure`), every expectation of the background-only Asimov
 //! point and every derivative of one grow with e: after T live days the
-//! signal template is t_j(T) = g t_j(R), the weight 1/nu_j(T) =
-//! (1/nu_j(R)) / g and each nuisance direction dnu_j/deta_k(T) =
-//! g dnu_j/deta_k(R), with g = e(T)/e(R) the channel's exposure relative to
-//! that at a reference R. The parts of the profiled inner products (module
-//! docs of `likelihood::information`) of the template t and its slope t'
-//! then scale channel by channel,
+//! weight 1/nu_j(T) = (1/nu_j(R)) / g and each nuisance direction
+//! dnu_j/deta_k(T) = g dnu_j/deta_k(R), with g = e(T)/e(R) the channel's
+//! background exposure relative to that at a reference R; the signal
+//! template t_j(T) = s t_j(R) grows with the signal's exposure alike, s its
+//! own ratio. The parts of the profiled inner products (module docs of
+//! `likelihood::information`) of the template t and its slope t' then scale
+//! channel by channel,
 //!
-//!   sum_j a_j b_j / nu_j = sum_ch g_ch U_ch(a, b),  c_k(a) = sum_ch g_ch c_ch,k(a),
+//!   sum_j a_j b_j / nu_j = sum_ch (s²/g)_ch U_ch(a, b),  c_k(a) = sum_ch s_ch c_ch,k(a),
 //!
 //! U_ch and c_ch,k being sums over the channel's bins at R, and only the
 //! nuisance parameters' information I_eta(T) changes otherwise (its
@@ -33,13 +34,13 @@
 //! weighted sum over the nodes: that of [`scan_geometry`] to about its
 //! tolerance, not bit for bit.
 //!
-//! A schedule period that scales some components of a channel and not
+//! A schedule period that scales some backgrounds of a channel and not
 //! others breaks the scaling; the table then computes every exposure as
 //! [`scan_geometry`] does.
 
 use super::{
-    INTEGRATION_TOLERANCE, MAX_PANELS, PeakPath, ScanGeometry, UpcrossingError,
-    background_only, quadrature, root_lambda2_of, scan_geometry, scan_path,
+    INTEGRATION_TOLERANCE, MAX_PANELS, PeakPath, ScanGeometry, UpcrossingError, background_only,
+    quadrature, root_lambda2_of, scan_geometry, scan_path,
 };
 use crate::likelihood::{Likelihood, ProfiledMetric};
 use crate::model::{Exposure, Model};
@@ -72,8 +73,8 @@ const UNPROFILED_PARTS: usize = 3;
 pub struct GeometryTable<'l, 'm, 'p> {
     likelihood: &'l Likelihood<'m>,
     path: PeakPath<'p>,
-    /// None where the channels' exposures do not scale their expectations
-    /// alike: every exposure is then computed directly.
+    /// None where a channel's backgrounds do not share their exposure:
+    /// every exposure is then computed directly.
     tabulated: Option<Tabulated<'m>>,
 }
 
@@ -92,16 +93,24 @@ struct Tabulated<'m> {
 /// The channels' exposures and the number of nuisance parameters the table
 /// was made with.
 struct Channels<'m> {
-    /// Each channel's exposure (that of all its components) and its value at
-    /// the reference live days.
-    exposures: Vec<(&'m Exposure, f64)>,
+    exposures: Vec<ChannelExposure<'m>>,
     nuisances: usize,
 }
 
+/// A channel's exposures: that of all its backgrounds and that of its
+/// signal (the same when no period scales the signal alone), each with its
+/// value at the reference live days.
+#[derive(Clone, Copy)]
+struct ChannelExposure<'m> {
+    background: (&'m Exposure, f64),
+    signal: (&'m Exposure, f64),
+}
+
 /// The metric at one exposure in the terms of the table: each channel's
-/// exposure relative to the reference, and I_eta^-1 (row-major).
+/// factors s²/g on its unprofiled parts and s on its projections (module
+/// docs), and I_eta^-1 (row-major).
 struct Weighing {
-    scales: Vec<f64>,
+    scales: Vec<(f64, f64)>,
     inverse: Vec<f64>,
 }
 
@@ -112,7 +121,7 @@ impl<'l, 'm, 'p> GeometryTable<'l, 'm, 'p> {
     }
 
     /// The table of `path`: the rule and each node's parts, when every
-    /// channel's components share their exposure.
+    /// channel's backgrounds share their exposure.
     pub fn new(likelihood: &'l Likelihood<'m>, path: PeakPath<'p>) -> Self {
         let tabulated = shared_exposures(likelihood.model())
             .and_then(|exposures| Tabulated::build(likelihood, &path, exposures));
@@ -149,7 +158,7 @@ impl<'m> Tabulated<'m> {
     fn build(
         likelihood: &Likelihood<'m>,
         path: &PeakPath,
-        exposures: Vec<&'m Exposure>,
+        exposures: Vec<[&'m Exposure; 2]>,
     ) -> Option<Tabulated<'m>> {
         let theta = background_only(likelihood);
         let metrics: Vec<Option<ProfiledMetric>> = REFERENCE_LIVE_DAYS
@@ -159,12 +168,15 @@ impl<'m> Tabulated<'m> {
         let (reference_live_days, reference) = REFERENCE_LIVE_DAYS
             .iter()
             .zip(&metrics)
-            .filter(|(live_days, _)| exposures.iter().all(|e| e.at(**live_days) > 0.0))
+            .filter(|(live_days, _)| exposures.iter().flatten().all(|e| e.at(**live_days) > 0.0))
             .find_map(|(&live_days, metric)| Some((live_days, metric.as_ref()?)))?;
         let channels = Channels {
             exposures: exposures
                 .into_iter()
-                .map(|exposure| (exposure, exposure.at(reference_live_days)))
+                .map(|[background, signal]| ChannelExposure {
+                    background: (background, background.at(reference_live_days)),
+                    signal: (signal, signal.at(reference_live_days)),
+                })
                 .collect(),
             nuisances: reference.weighted_directions().len(),
         };
@@ -247,10 +259,15 @@ impl Channels<'_> {
         if metric.weighted_directions().len() != k {
             return None;
         }
+        let ratio =
+            |(exposure, at_reference): (&Exposure, f64)| exposure.at(live_days) / at_reference;
         let scales = self
             .exposures
             .iter()
-            .map(|&(exposure, at_reference)| exposure.at(live_days) / at_reference)
+            .map(|channel| {
+                let (background, signal) = (ratio(channel.background), ratio(channel.signal));
+                (signal * signal / background, signal)
+            })
             .collect();
         let mut inverse = vec![0.0; k * k];
         // Column j of the inverse is I_eta^-1 e_j; I_eta is symmetric, so
@@ -273,13 +290,15 @@ impl Weighing {
         let stride = UNPROFILED_PARTS + 2 * k;
         scratch.fill(0.0);
         let mut unprofiled = [0.0; UNPROFILED_PARTS];
-        for (&scale, channel) in self.scales.iter().zip(parts.chunks_exact(stride)) {
+        for (&(own_scale, projection_scale), channel) in
+            self.scales.iter().zip(parts.chunks_exact(stride))
+        {
             let (own, projections) = channel.split_at(UNPROFILED_PARTS);
             for (total, part) in unprofiled.iter_mut().zip(own) {
-                *total += scale * part;
+                *total += own_scale * part;
             }
             for (total, part) in scratch.iter_mut().zip(projections) {
-                *total += scale * part;
+                *total += projection_scale * part;
             }
         }
         let (template, slope) = scratch.split_at(k);
@@ -297,15 +316,21 @@ impl Weighing {
     }
 }
 
-/// Each channel's exposure, when all its components share it (module docs).
-fn shared_exposures(model: &Model) -> Option<Vec<&Exposure>> {
+/// Each channel's background exposure and signal exposure, when all its
+/// backgrounds share theirs (module docs); a channel without a signal
+/// component has the backgrounds' for both.
+fn shared_exposures(model: &Model) -> Option<Vec<[&Exposure; 2]>> {
     model
         .channels
         .iter()
         .map(|channel| {
-            let (first, others) = channel.components.split_first()?;
-            let shared = others.iter().all(|c| c.exposure == first.exposure);
-            shared.then_some(&first.exposure)
+            let mut backgrounds = channel.components.iter().filter(|c| !c.is_signal);
+            let background = &backgrounds.next()?.exposure;
+            if !backgrounds.all(|c| c.exposure == *background) {
+                return None;
+            }
+            let signal = channel.components.iter().find(|c| c.is_signal);
+            Some([background, signal.map_or(background, |c| &c.exposure)])
         })
         .collect()
 }
@@ -347,8 +372,16 @@ fn node_parts(
         let (t, s) = (&template[range.clone()], &slope[range.clone()]);
         let w = &metric.weights()[range.clone()];
         parts.extend([weighted(t, t, w), weighted(t, s, w), weighted(s, s, w)]);
-        parts.extend(metric.weighted_directions().map(|d| dot(&d[range.clone()], t)));
-        parts.extend(metric.weighted_directions().map(|d| dot(&d[range.clone()], s)));
+        parts.extend(
+            metric
+                .weighted_directions()
+                .map(|d| dot(&d[range.clone()], t)),
+        );
+        parts.extend(
+            metric
+                .weighted_directions()
+                .map(|d| dot(&d[range.clone()], s)),
+        );
     }
     parts
 }
