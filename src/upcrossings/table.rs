@@ -122,7 +122,7 @@ impl<'l, 'm, 'p> GeometryTable<'l, 'm, 'p> {
 
     /// The table of `path`: the rule and each node's parts, when every
     /// channel's backgrounds share their exposure.
-    pub fn new(likelihood: &'l Likelihood<'m>, path: PeakPath<'p>) -> Self {
+    fn new(likelihood: &'l Likelihood<'m>, path: PeakPath<'p>) -> Self {
         let tabulated = shared_exposures(likelihood.model())
             .and_then(|exposures| Tabulated::build(likelihood, &path, exposures));
         GeometryTable {
