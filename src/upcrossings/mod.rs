@@ -28,6 +28,11 @@
 //! E N(sqrt q) = E N(sqrt u0) exp(-(q - u0)/2).
 //! Channels stack: the template runs over the bins of every channel, so their
 //! information adds in the metric.
+//!
+//! [`scan_geometry`] computes the integral at one exposure from scratch;
+//! [`GeometryTable`] (`table.rs`) tabulates the quadrature nodes once and
+//! gives it at any exposure, as a projection needs at every grid point and
+//! day-solving step.
 
 mod quadrature;
 mod table;
