@@ -5,8 +5,8 @@ use runcast::ensemble::{EnsemblePlan, look_elsewhere_ensemble};
 use runcast::likelihood::Likelihood;
 use runcast::look_elsewhere::{REFERENCE_LEVEL, mean_upcrossings};
 use runcast::model::Model;
-use runcast::reach::geometry_at;
 use runcast::scenario::Scenario;
+use runcast::upcrossings::GeometryTable;
 
 /// A falling continuum with a free normalisation and a floated slope, a
 /// Gaussian line whose width grows from 1 to 2 along the scan, many counts
@@ -40,10 +40,11 @@ fn asymptotic_upcrossings_agree_with_scan_toys() {
     let scan = scenario.signal_scan().unwrap();
     let model = Model::from_scenario(&scenario);
     let live_days = 10.0;
-    let asymptotic = geometry_at(&model, &scan, live_days)
+    let likelihood = Likelihood::new(&model);
+    let asymptotic = GeometryTable::of_scan(&likelihood, &scan)
+        .at(live_days)
         .unwrap()
         .reference_upcrossings();
-    let likelihood = Likelihood::new(&model);
     let plan = EnsemblePlan {
         toys: 0..300,
         seed: 11,

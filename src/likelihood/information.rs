@@ -195,8 +195,22 @@ impl ProfiledMetric {
         self.weights.len()
     }
 
-    /// Solves I_eta x = rhs in place; false when I_eta is not positive definite.
-    fn solve(&self, rhs: &mut [f64]) -> bool {
+    /// 1 / nu_j of every bin: the metric before profiling.
+    pub fn weights(&self) -> &[f64] {
+        &self.weights
+    }
+
+    /// dnu_j/deta_k / nu_j over the bins, for each profiled nuisance
+    /// parameter k in turn: c_a of the module docs is their inner product
+    /// with a.
+    pub fn weighted_directions(&self) -> impl ExactSizeIterator<Item = &[f64]> {
+        self.weighted_directions.chunks_exact(self.weights.len())
+    }
+
+    /// Solves I_eta x = rhs in place (the nuisance parameters in the order
+    /// of [`ProfiledMetric::weighted_directions`]); false when I_eta is not
+    /// positive definite.
+    pub fn solve(&self, rhs: &mut [f64]) -> bool {
         let mut factor = self.nuisance_information.clone();
         solve_positive_definite(&mut factor, rhs, self.nuisances)
     }

@@ -18,9 +18,7 @@ use crate::limits::{AsymptoticLimits, asymptotic_limits};
 use crate::look_elsewhere::{
     REFERENCE_LEVEL, global_significance, mean_upcrossings, trials_factor,
 };
-use crate::scenario::SignalScan;
-use crate::upcrossings::{scan_geometries, scan_geometry_of, scan_path};
-use std::collections::HashMap;
+use crate::upcrossings::GeometryTable;
 
 /// The quantiles reported as bands: the normal-distribution probabilities of
 /// -2, -1, +1 and +2 sigma (common practice).
@@ -100,51 +98,26 @@ impl PointParts {
 pub(super) struct PointRunner<'a, 'l, 'm> {
     likelihood: &'l Likelihood<'m>,
     settings: &'a ProjectionSettings,
-    /// With a scan: N(u0) from the Asimov geometry at the live days (by
-    /// their bits) of the grid and `--at` days, computed together
-    /// ([`scan_geometries`]); None where the geometry is degenerate.
-    reference_upcrossings: HashMap<u64, Option<f64>>,
+    /// With a scan: its Asimov geometry at any exposure, made once for the
+    /// grid, `--at` and day-solving points alike ([`GeometryTable`]).
+    geometry: Option<GeometryTable<'l, 'm, 'a>>,
 }
 
 impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
-    /// The runner of `settings`, with the Asimov geometry of a scan computed
-    /// at once for every grid and `--at` day with live time.
+    /// The runner of `settings`, with the geometry table of its scan.
     pub fn new(likelihood: &'l Likelihood<'m>, settings: &'a ProjectionSettings) -> Self {
-        let mut runner = PointRunner {
+        PointRunner {
             likelihood,
             settings,
-            reference_upcrossings: HashMap::new(),
-        };
-        if let Some(scan) = &settings.scan {
-            let live_time = &likelihood.model().live_time;
-            let mut live_days: Vec<f64> = (settings.days.iter().chain(&settings.at_days))
-                .map(|&days| live_time.live_days(days))
-                .filter(|&live_days| live_days > 0.0)
-                .collect();
-            live_days.sort_by(f64::total_cmp);
-            live_days.dedup();
-            let geometries = scan_geometries(likelihood, &scan_path(scan), &live_days);
-            runner.reference_upcrossings = live_days
-                .iter()
-                .zip(geometries)
-                .map(|(live_days, geometry)| {
-                    let upcrossings = geometry.ok().map(|g| g.reference_upcrossings());
-                    (live_days.to_bits(), upcrossings)
-                })
-                .collect();
+            geometry: (settings.scan.as_ref()).map(|scan| GeometryTable::of_scan(likelihood, scan)),
         }
-        runner
     }
 
-    /// N(u0) from the Asimov geometry of `scan` at `live_days`; None where
-    /// the geometry is degenerate.
-    fn reference_upcrossings(&self, scan: &SignalScan, live_days: f64) -> Option<f64> {
-        match self.reference_upcrossings.get(&live_days.to_bits()) {
-            Some(&upcrossings) => upcrossings,
-            None => scan_geometry_of(self.likelihood, scan, live_days)
-                .ok()
-                .map(|geometry| geometry.reference_upcrossings()),
-        }
+    /// N(u0) from the Asimov geometry of the scan at `live_days`; None
+    /// without a scan or where the geometry is degenerate.
+    fn reference_upcrossings(&self, live_days: f64) -> Option<f64> {
+        let geometry = self.geometry.as_ref()?.at(live_days).ok()?;
+        Some(geometry.reference_upcrossings())
     }
 
     pub fn settings(&self) -> &'a ProjectionSettings {
@@ -239,9 +212,9 @@ impl<'a, 'l, 'm> PointRunner<'a, 'l, 'm> {
         point.calibration = outcomes
             .calibration
             .map(|count| calibration(count, z_asimov));
-        if let Some(scan) = settings.scan.as_ref().filter(|_| parts.global) {
+        if settings.scan.is_some() && parts.global {
             // A degenerate geometry leaves N(u0) to the toys (see `GlobalSignificance`).
-            let asymptotic = self.reference_upcrossings(scan, live_days);
+            let asymptotic = self.reference_upcrossings(live_days);
             point.global = Some(global(
                 z_asimov,
                 point.z_median,

@@ -26,8 +26,8 @@ use crate::message::show_rounded;
 use crate::model::Model;
 use crate::numeric::Crossing;
 use crate::projection::{BAND_QUANTILES, quantile};
-use crate::scenario::{Scenario, SignalScan};
-use crate::upcrossings::{ScanGeometry, UpcrossingError, scan_geometry_of};
+use crate::scenario::Scenario;
+use crate::upcrossings::{GeometryTable, ScanGeometry, UpcrossingError};
 use rayon::prelude::*;
 use std::fmt;
 
@@ -167,15 +167,17 @@ pub fn reach(
     let model = Model::from_scenario(scenario);
     let (rate, rate_unit) = signal_rate(scenario);
     let live_time = &model.live_time;
-    // The geometry of every exposure first (each on its own thread), then
-    // every position with all exposures, so that each position's models are
+    // The geometry of every exposure first (from one table), then every
+    // position with all exposures, so that each position's models are
     // built once and no thread waits at the end of an exposure.
+    let likelihood = Likelihood::new(&model);
+    let table = GeometryTable::of_scan(&likelihood, &scan);
     let geometries = settings
         .days
-        .par_iter()
+        .iter()
         .map(|&days| {
             let live_days = live_time.live_days(days);
-            let geometry = geometry_at(&model, &scan, live_days)?;
+            let geometry = geometry_at(&table, live_days)?;
             let global_local_targets: Vec<f64> = settings
                 .targets
                 .iter()
@@ -321,13 +323,10 @@ fn scan_centre(scenario: &Scenario) -> f64 {
     shape.peak().map_or(f64::NAN, |peak| peak.centre)
 }
 
-/// The Asimov geometry of the scan after `live_days`.
-pub fn geometry_at(
-    model: &Model,
-    scan: &SignalScan,
-    live_days: f64,
-) -> Result<ScanGeometry, ReachError> {
-    scan_geometry_of(&Likelihood::new(model), scan, live_days)
+/// The Asimov geometry of the scan after `live_days`, from its `table`.
+fn geometry_at(table: &GeometryTable, live_days: f64) -> Result<ScanGeometry, ReachError> {
+    table
+        .at(live_days)
         .map_err(|failure| ReachError::Geometry { live_days, failure })
 }
 

@@ -203,14 +203,17 @@ impl Frame {
     /// exp(-(z² - z0²) / 2) for |z| >= z0; 0 without calling `exp` below
     /// [`EXPONENT_OF_ZERO`], where it rounds to 0 anyway (most edges of a
     /// narrow peak on a wide range lie there, and the library's underflow
-    /// path is slow).
+    /// path is slow). The compiler, which sees no side effect in `exp`, may
+    /// compute it before the test and choose afterwards, so every far edge
+    /// would take that path after all: `black_box` keeps the call behind
+    /// the test.
     fn relative_exponential(&self, z: f64) -> f64 {
         let distance = z.abs();
         let exponent = -0.5 * (distance - self.nearest) * (distance + self.nearest);
         if exponent < EXPONENT_OF_ZERO {
             return 0.0;
         }
-        exponent.exp()
+        std::hint::black_box(exponent).exp()
     }
 
     /// phi(z) exp(z0² / 2), phi the standard normal density.

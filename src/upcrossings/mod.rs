@@ -28,8 +28,16 @@
 //! E N(sqrt q) = E N(sqrt u0) exp(-(q - u0)/2).
 //! Channels stack: the template runs over the bins of every channel, so their
 //! information adds in the metric.
+//!
+//! [`scan_geometry`] computes the integral at one exposure from scratch;
+//! [`GeometryTable`] (`table.rs`) tabulates the quadrature nodes once and
+//! gives it at any exposure, as a projection needs at every grid point and
+//! day-solving step.
 
 mod quadrature;
+mod table;
+
+pub use table::GeometryTable;
 
 use crate::likelihood::{Likelihood, MetricFailure, ProfiledMetric, SignalShapes};
 use crate::look_elsewhere::{REFERENCE_LEVEL, global_p_value, global_significance};
@@ -141,8 +149,7 @@ pub fn scan_geometries(
     path: &PeakPath,
     live_days: &[f64],
 ) -> Vec<Result<ScanGeometry, UpcrossingError>> {
-    let mut theta = likelihood.model().nominal_parameters();
-    theta[SIGNAL_STRENGTH] = 0.0;
+    let theta = background_only(likelihood);
     let metrics: Vec<Result<ProfiledMetric, UpcrossingError>> = live_days
         .iter()
         .map(|&live_days| {
@@ -197,15 +204,30 @@ pub fn scan_geometries(
         .collect()
 }
 
+/// The model's nominal parameters with no signal: the background-only
+/// Asimov point whose metric the geometry is taken in.
+fn background_only(likelihood: &Likelihood) -> Vec<f64> {
+    let mut theta = likelihood.model().nominal_parameters();
+    theta[SIGNAL_STRENGTH] = 0.0;
+    theta
+}
+
 /// sqrt(lambda2) of a template and its slope (module docs); None when the
 /// profiled template vanishes.
 fn root_lambda2(metric: &ProfiledMetric, template: &[f64], slope: &[f64]) -> Option<f64> {
-    let norm = metric.inner(template, template);
+    root_lambda2_of(
+        metric.inner(template, template),
+        metric.inner(template, slope),
+        metric.inner(slope, slope),
+    )
+}
+
+/// sqrt(lambda2) from the profiled <t, t>, <t, t'> and <t', t'> (module
+/// docs); None when <t, t> is not positive: the profiled template vanishes.
+fn root_lambda2_of(norm: f64, cross: f64, slope_norm: f64) -> Option<f64> {
     if !(norm > 0.0 && norm.is_finite()) {
         return None;
     }
-    let cross = metric.inner(template, slope);
-    let slope_norm = metric.inner(slope, slope);
     let lambda2 = (slope_norm - cross * cross / norm) / norm;
     Some(lambda2.max(0.0).sqrt())
 }
