@@ -2,7 +2,8 @@
 //! background-only fit and one signal fit per position each) on the 200-bin
 //! model and on a detector of two channels of 100 bins fitted jointly, their
 //! rate on two threads, and the peak memory of scans over more positions and
-//! more toys, each in a child process.
+//! more toys, each in a child process; then `reach` at full size and
+//! `levers` on the shipped scan demos, as whole processes.
 
 use super::memory::{current_program, peak_resident_bytes};
 use super::{BenchmarkError, Length, SEED, Timing, models};
@@ -36,7 +37,22 @@ pub struct ScanBenchmark {
     /// Wall-clock seconds of `runcast reach` on two volumes of 700 bins over
     /// 1,400 positions at 3 exposures as a whole process, each run.
     pub reach_process_seconds: Vec<f64>,
+    /// Wall-clock seconds of `runcast levers` (Asimov only) on each of
+    /// [`LEVERS_DEMOS`] as a whole process, each run.
+    pub levers_process_seconds: Vec<(&'static str, Vec<f64>)>,
 }
+
+/// The shipped scan demos whose levers the benchmark times: (file name, text).
+pub const LEVERS_DEMOS: [(&str, &str); 2] = [
+    (
+        "two_volume_line.yaml",
+        include_str!("../../scenarios/two_volume_line.yaml"),
+    ),
+    (
+        "unknown_line.yaml",
+        include_str!("../../scenarios/unknown_line.yaml"),
+    ),
+];
 
 /// Peak resident memory of one ensemble of `toys` scans over `positions`.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -249,8 +265,17 @@ pub fn run_scan(
         &arguments,
         length.repeats(),
     )?;
+    let mut levers_process_seconds = Vec::new();
+    for (name, text) in LEVERS_DEMOS {
+        step(&format!(
+            "levers, Asimov only, scenarios/{name}, 2 threads, as a whole process"
+        ));
+        let seconds = super::time_process(text, "levers", &["--threads", "2"], length.repeats())?;
+        levers_process_seconds.push((name, seconds));
+    }
     Ok(ScanBenchmark {
         reach_process_seconds,
+        levers_process_seconds,
         positions: POSITIONS,
         two_threads,
         failed_fits,

@@ -138,6 +138,14 @@ pub fn render_scan(scan: &ScanBenchmark) -> String {
         fastest,
         seconds.len()
     );
+    for (name, seconds) in &scan.levers_process_seconds {
+        let _ = writeln!(
+            text,
+            "levers, Asimov only, scenarios/{name}, 2 threads, whole process: fastest {:.2} s of {}",
+            seconds.iter().copied().fold(f64::INFINITY, f64::min),
+            seconds.len()
+        );
+    }
     let _ = writeln!(text, "peak resident memory of scans (child process):");
     for probe in &scan.memory {
         let _ = writeln!(
@@ -212,6 +220,7 @@ mod tests {
                     peak_bytes: 7_200_000,
                 }],
                 reach_process_seconds: vec![2.5, 2.25],
+                levers_process_seconds: vec![("unknown_line.yaml", vec![0.05, 0.04])],
             },
         };
         let text = render(&report);
@@ -249,6 +258,12 @@ mod tests {
         assert!(
             text.contains(
                 "1400 positions, 3 exposures, 2 threads, whole process: fastest 2.25 s of 2"
+            ),
+            "{text}"
+        );
+        assert!(
+            text.contains(
+                "levers, Asimov only, scenarios/unknown_line.yaml, 2 threads, whole process: fastest 0.04 s of 2"
             ),
             "{text}"
         );
