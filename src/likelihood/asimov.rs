@@ -35,8 +35,9 @@ pub struct AsimovDiscovery<'l, 'm> {
     fitter: Fitter<'l, 'm>,
     /// Starts of the background-only fits, along the generating mu.
     null_fits: FitPath,
-    /// The parts of the datasets at the last exposure asked for.
-    exposure: Option<AsimovParts>,
+    /// The parts of the datasets at the last exposure asked for (at NaN
+    /// live days, which no exposure equals, before the first).
+    parts: AsimovParts,
     /// The dataset of the last signal strength (its counts rewritten each time).
     data: Dataset,
 }
@@ -83,7 +84,12 @@ impl<'l, 'm> AsimovDiscovery<'l, 'm> {
             likelihood,
             fitter: Fitter::new(likelihood),
             null_fits: FitPath::new(&background_only),
-            exposure: None,
+            parts: AsimovParts {
+                live_days: f64::NAN,
+                background: Vec::new(),
+                signal: Vec::new(),
+                signal_bins: Vec::new(),
+            },
             data: Dataset {
                 counts: vec![0.0; likelihood.bins],
                 global_observables: Vec::new(),
@@ -96,7 +102,7 @@ impl<'l, 'm> AsimovDiscovery<'l, 'm> {
     /// where -ln L is zero; q0 is twice the background-only minimum.
     pub fn q0(&mut self, live_days: f64, mu: f64) -> Result<AsimovQ0, FitFailure> {
         self.prepare(live_days);
-        let parts = self.exposure.as_ref().expect("prepared above");
+        let parts = &self.parts;
         for ((n, b), s) in self
             .data
             .counts
@@ -145,11 +151,7 @@ impl<'l, 'm> AsimovDiscovery<'l, 'm> {
     /// The background, signal and global observables of the datasets after
     /// `live_days`, unless they are those of the last exposure.
     fn prepare(&mut self, live_days: f64) {
-        if self
-            .exposure
-            .as_ref()
-            .is_some_and(|parts| parts.live_days == live_days)
-        {
+        if self.parts.live_days == live_days {
             return;
         }
         let likelihood = self.likelihood;
@@ -169,12 +171,12 @@ impl<'l, 'm> AsimovDiscovery<'l, 'm> {
             .filter(|&j| signal[j] > SIGNAL_FLOOR * largest)
             .collect();
         self.data.global_observables = without_signal.global_observables;
-        self.exposure = Some(AsimovParts {
+        self.parts = AsimovParts {
             live_days,
             background: without_signal.counts,
             signal,
             signal_bins,
-        });
+        };
     }
 }
 
