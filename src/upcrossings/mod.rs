@@ -39,7 +39,7 @@ mod table;
 
 pub use table::GeometryTable;
 
-use crate::likelihood::{Likelihood, MetricFailure, ProfiledMetric, SignalShapes};
+use crate::likelihood::{Likelihood, MetricFailure, ProfiledMetric};
 use crate::look_elsewhere::{REFERENCE_LEVEL, global_p_value, global_significance};
 use crate::model::SIGNAL_STRENGTH;
 use crate::scenario::SignalScan;
@@ -136,72 +136,48 @@ pub fn scan_geometry(
     path: &PeakPath,
     live_days: f64,
 ) -> Result<ScanGeometry, UpcrossingError> {
-    let mut geometries = scan_geometries(likelihood, path, &[live_days]);
-    geometries.remove(0)
-}
-
-/// The geometry of `path` at each of `live_days`, each as
-/// [`scan_geometry`] gives it, bit for bit: the signal shapes at each node
-/// of the quadrature, which do not depend on the exposure, are computed
-/// once for all exposures.
-pub fn scan_geometries(
-    likelihood: &Likelihood,
-    path: &PeakPath,
-    live_days: &[f64],
-) -> Vec<Result<ScanGeometry, UpcrossingError>> {
     let theta = background_only(likelihood);
-    let metrics: Vec<Result<ProfiledMetric, UpcrossingError>> = live_days
-        .iter()
-        .map(|&live_days| {
-            likelihood
-                .profiled_metric(&theta, live_days)
-                .map_err(UpcrossingError::Metric)
-        })
-        .collect();
+    let metric = likelihood
+        .profiled_metric(&theta, live_days)
+        .map_err(UpcrossingError::Metric)?;
     let [from, to] = path.interval;
     let panels = ((to - from) / path.narrowest_width * PANELS_PER_WIDTH).ceil();
     let panels = (panels as usize).clamp(1, MAX_PANELS);
-    let bins = metrics
-        .iter()
-        .find_map(|metric| metric.as_ref().ok())
-        .map_or(0, ProfiledMetric::bins);
-    let (mut template, mut slope) = (vec![0.0; bins], vec![0.0; bins]);
+    let (mut template, mut slope) = (vec![0.0; metric.bins()], vec![0.0; metric.bins()]);
+    let mut absorbed_at = None;
     let node = |m: f64| {
         let shapes = likelihood.signal_shapes(&(path.parameters_at)(m));
-        (m, shapes, (path.direction_at)(m))
-    };
-    let value = |(m, shapes, direction): &(f64, SignalShapes, Vec<f64>), lane: usize| {
-        let metric = metrics[lane].as_ref().map_err(Clone::clone)?;
         shapes.template_along(
             likelihood,
             &theta,
-            live_days[lane],
-            direction,
+            live_days,
+            &(path.direction_at)(m),
             &mut template,
             &mut slope,
         );
-        root_lambda2(metric, &template, &slope)
-            .ok_or(UpcrossingError::SignalAbsorbed { position: *m })
+        let value = root_lambda2(&metric, &template, &slope);
+        if value.is_none() {
+            absorbed_at.get_or_insert(m);
+        }
+        value
     };
-    let integrals = quadrature::integrate_lanes(
+    let rule = quadrature::common_rule(
         from,
         to,
         panels,
         INTEGRATION_TOLERANCE,
-        live_days.len(),
+        1,
         node,
-        value,
+        |&value, _| value,
     );
-    integrals
+    if let Some(position) = absorbed_at {
+        return Err(UpcrossingError::SignalAbsorbed { position });
+    }
+    let rice_length = rule
         .into_iter()
-        .zip(&metrics)
-        .map(|(integral, metric)| {
-            metric.as_ref().map_err(Clone::clone)?;
-            Ok(ScanGeometry {
-                rice_length: integral?,
-            })
-        })
-        .collect()
+        .map(|(value, weight)| weight * value.unwrap_or(0.0))
+        .sum();
+    Ok(ScanGeometry { rice_length })
 }
 
 /// The model's nominal parameters with no signal: the background-only

@@ -6,88 +6,23 @@ const NODES: usize = 8;
 /// Deepest halving of a panel: 2^-30 of it is far below any peak width.
 const MAX_DEPTH: u32 = 30;
 
-/// The integral of `integrand` over `[from, to]` to a relative accuracy of
-/// about `tolerance` (well below 1e-6 for smooth integrands, which is what it
-/// is used for).
+/// One composite rule over `[from, to]` fine enough for every one of
+/// `lanes` integrands, each to a relative accuracy of about `tolerance`
+/// (well below 1e-6 for smooth integrands, which is what it is used for).
 ///
 /// The interval is cut into `panels` equal panels, which must be no wider
-/// than the integrand's narrowest feature (a rule that samples none of a
-/// peak sees nothing to refine); on each, the
-/// `NODES`-point Gauss-Legendre rule over the panel is compared with the sum
-/// of the rule over its two halves, and the halves are accepted when they
-/// differ by less than `tolerance` times their magnitude (or an absolute
-/// `tolerance` times the first estimate of the whole integral), else each
-/// half is treated the same way (adaptive quadrature, Davis and Rabinowitz,
-/// "Methods of Numerical Integration", 1984, ch. 6). The Gauss-Legendre nodes
-/// are the roots of P_n, found by Newton's method from
+/// than the integrands' narrowest feature (a rule that samples none of a
+/// peak sees nothing to refine); on each, the `NODES`-point Gauss-Legendre
+/// rule over the panel is compared with the sum of the rule over its two
+/// halves, and the halves are accepted when they differ by less than
+/// `tolerance` times their magnitude (or an absolute `tolerance` times the
+/// first estimate of the whole integral) for every lane, else each half is
+/// treated the same way (adaptive quadrature, Davis and Rabinowitz,
+/// "Methods of Numerical Integration", 1984, ch. 6). The Gauss-Legendre
+/// nodes are the roots of P_n, found by Newton's method from
 /// cos(pi (i - 1/4) / (n + 1/2)), with weights 2 / ((1 - x²) P_n'(x)²)
 /// (Abramowitz & Stegun 25.4.29).
-#[cfg(test)]
-pub fn integrate<E>(
-    from: f64,
-    to: f64,
-    panels: usize,
-    tolerance: f64,
-    mut integrand: impl FnMut(f64) -> Result<f64, E>,
-) -> Result<f64, E> {
-    let mut integrals =
-        integrate_lanes(from, to, panels, tolerance, 1, |x| x, |&x, _| integrand(x));
-    integrals.remove(0)
-}
-
-/// Several integrals over `[from, to]` at once, as [`integrate`] computes
-/// each, bit for bit: integral `lane` (of `lanes`) of `value(&node(x),
-/// lane)`, where `node(x)` is the costly part the integrands share,
-/// computed once per node for every lane that still needs it. Each lane
-/// refines its own panels and stops at its own first error.
-pub fn integrate_lanes<N, E>(
-    from: f64,
-    to: f64,
-    panels: usize,
-    tolerance: f64,
-    lanes: usize,
-    node: impl FnMut(f64) -> N,
-    value: impl FnMut(&N, usize) -> Result<f64, E>,
-) -> Vec<Result<f64, E>> {
-    if to <= from {
-        return (0..lanes).map(|_| Ok(0.0)).collect();
-    }
-    let mut integrand = Lanes {
-        rule: gauss_legendre(NODES),
-        node,
-        value,
-        failed: (0..lanes).map(|_| None).collect(),
-    };
-    let panels = panels.max(1);
-    let width = (to - from) / panels as f64;
-    let all = vec![true; lanes];
-    let mut estimates = Vec::with_capacity(panels);
-    for panel in 0..panels {
-        let low = from + panel as f64 * width;
-        let high = if panel + 1 == panels { to } else { low + width };
-        estimates.push(((low, high), integrand.apply(low, high, &all)));
-    }
-    let scales: Vec<f64> = (0..lanes)
-        .map(|lane| estimates.iter().map(|(_, values)| values[lane].abs()).sum())
-        .collect();
-    let mut totals = vec![0.0; lanes];
-    for ((low, high), whole) in estimates {
-        let active = integrand.active(&all);
-        let refined = integrand.refine(low, high, &whole, tolerance, &scales, 0, &active);
-        for lane in (0..lanes).filter(|&lane| active[lane]) {
-            totals[lane] += refined[lane];
-        }
-    }
-    totals
-        .into_iter()
-        .zip(integrand.failed)
-        .map(|(total, failed)| failed.map_or(Ok(total), Err))
-        .collect()
-}
-
-/// One composite rule over `[from, to]` fine enough for every one of
-/// `lanes` integrands: panels cut and halved as [`integrate_lanes`] does,
-/// a panel being halved while the halving test fails for any lane. Returns
+/// Returns
 /// the nodes of the final halves, each as `node(x)` made it, with their
 /// weights, so that the integral of any of these integrands (or of one
 /// between them) is the weighted sum of its values at the nodes; none for an
@@ -208,102 +143,6 @@ where
     }
 }
 
-/// The integrands of [`integrate_lanes`] and the first error of each lane.
-struct Lanes<N, E, F, V>
-where
-    F: FnMut(f64) -> N,
-    V: FnMut(&N, usize) -> Result<f64, E>,
-{
-    rule: Vec<(f64, f64)>,
-    node: F,
-    value: V,
-    failed: Vec<Option<E>>,
-}
-
-impl<N, E, F, V> Lanes<N, E, F, V>
-where
-    F: FnMut(f64) -> N,
-    V: FnMut(&N, usize) -> Result<f64, E>,
-{
-    /// The lanes of `wanted` without an error.
-    fn active(&self, wanted: &[bool]) -> Vec<bool> {
-        wanted
-            .iter()
-            .zip(&self.failed)
-            .map(|(&wanted, failed)| wanted && failed.is_none())
-            .collect()
-    }
-
-    /// The integral over [low, high] of each lane of `wanted`, whose
-    /// one-rule estimate is `whole`, refined by halving until the halves
-    /// agree with the whole (0 for the other lanes).
-    #[allow(clippy::too_many_arguments)]
-    fn refine(
-        &mut self,
-        low: f64,
-        high: f64,
-        whole: &[f64],
-        tolerance: f64,
-        scales: &[f64],
-        depth: u32,
-        wanted: &[bool],
-    ) -> Vec<f64> {
-        let middle = 0.5 * (low + high);
-        let left = self.apply(low, middle, wanted);
-        let right = self.apply(middle, high, wanted);
-        let mut result = vec![0.0; whole.len()];
-        let mut deeper = vec![false; whole.len()];
-        for (lane, active) in self.active(wanted).into_iter().enumerate() {
-            if !active {
-                continue;
-            }
-            let halves = left[lane] + right[lane];
-            let agreed = (halves - whole[lane]).abs()
-                <= tolerance * halves.abs().max(scales[lane] * (high - low));
-            if agreed || depth == MAX_DEPTH {
-                result[lane] = halves;
-            } else {
-                deeper[lane] = true;
-            }
-        }
-        if deeper.contains(&true) {
-            let left = self.refine(low, middle, &left, tolerance, scales, depth + 1, &deeper);
-            let right = self.refine(middle, high, &right, tolerance, scales, depth + 1, &deeper);
-            for lane in (0..whole.len()).filter(|&lane| deeper[lane]) {
-                result[lane] = left[lane] + right[lane];
-            }
-        }
-        result
-    }
-
-    /// The rule mapped onto [low, high], for each lane of `wanted` without
-    /// an error (0 for the others); a lane's first error is kept.
-    fn apply(&mut self, low: f64, high: f64, wanted: &[bool]) -> Vec<f64> {
-        let half = 0.5 * (high - low);
-        let centre = 0.5 * (high + low);
-        let mut sums = vec![0.0; wanted.len()];
-        for index in 0..self.rule.len() {
-            let active = self.active(wanted);
-            if !active.contains(&true) {
-                break;
-            }
-            let (x, weight) = self.rule[index];
-            let node = (self.node)(centre + half * x);
-            for (lane, sum) in sums
-                .iter_mut()
-                .enumerate()
-                .filter(|(lane, _)| active[*lane])
-            {
-                match (self.value)(&node, lane) {
-                    Ok(value) => *sum += weight * value,
-                    Err(error) => self.failed[lane] = Some(error),
-                }
-            }
-        }
-        sums.into_iter().map(|sum| half * sum).collect()
-    }
-}
-
 /// The n-point Gauss-Legendre rule on [-1, 1]: (node, weight) pairs.
 fn gauss_legendre(n: usize) -> Vec<(f64, f64)> {
     (1..=n)
@@ -343,10 +182,12 @@ fn legendre(n: usize, x: f64) -> (f64, f64) {
 mod tests {
     use super::*;
     use statrs::function::erf::erf;
-    use std::convert::Infallible;
 
     fn integral(from: f64, to: f64, panels: usize, f: impl Fn(f64) -> f64) -> f64 {
-        integrate::<Infallible>(from, to, panels, 1e-10, |x| Ok(f(x))).unwrap()
+        common_rule(from, to, panels, 1e-10, 1, |x| x, |&x, _| Some(f(x)))
+            .into_iter()
+            .map(|(x, weight)| weight * f(x))
+            .sum()
     }
 
     /// The 8-point rule integrates x^14 exactly: 2/15 over [-1, 1] (degree

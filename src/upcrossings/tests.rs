@@ -118,26 +118,6 @@ fn global_significance_inverts() {
     }
 }
 
-/// The geometries of several exposures computed together are those of
-/// each exposure alone, bit for bit (the projection's numbers do not depend
-/// on which exposures it computes together).
-#[test]
-fn geometries_together_equal_each_alone() {
-    let scenario = Scenario::from_yaml(FLAT).unwrap();
-    let model = Model::from_scenario(&scenario);
-    let likelihood = Likelihood::new(&model);
-    let scan = scenario.signal_scan().unwrap();
-    let live_days = [0.5, 3.0, 30.0];
-    let together = scan_geometries(&likelihood, &scan_path(&scan), &live_days);
-    for (&live_days, geometry) in live_days.iter().zip(together) {
-        let alone = scan_geometry(&likelihood, &scan_path(&scan), live_days).unwrap();
-        assert_eq!(
-            geometry.unwrap().rice_length.to_bits(),
-            alone.rice_length.to_bits()
-        );
-    }
-}
-
 /// A line scanned to within three widths of both ends of the range, over a
 /// falling continuum with a 5% norm uncertainty and a floated slope and a
 /// flat background measured in a control region four times as large, with
