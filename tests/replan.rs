@@ -285,44 +285,32 @@ fn data_taken_to_the_end_of_the_plan_say_nothing_is_left() {
     let scratch = Scratch::new("plan-ended");
     let scenario = write(&scratch, "counting.yaml", COUNTING);
     let data = write(&scratch, "data.csv", "low,high,count\n0,1,4200\n");
-    let stdout = succeed(
-        &scratch,
-        &[
-            "replan",
-            text(&scenario),
-            "--data",
-            text(&data),
-            "--taken",
-            "40",
-            "--toys",
-            "20",
-            "--quiet",
-            "--out",
-            "out",
-        ],
-    );
+    let summary_when_taken = |taken: &str| {
+        succeed(
+            &scratch,
+            &[
+                "replan",
+                text(&scenario),
+                "--data",
+                text(&data),
+                "--taken",
+                taken,
+                "--toys",
+                "20",
+                "--quiet",
+                "--out",
+                taken,
+            ],
+        )
+    };
+    let ended = summary_when_taken("40");
     assert!(
-        stdout.contains(
+        ended.contains(
             "No day of the plan comes after the data taken (plan.days ends at 40 d): nothing is left to project; extend plan.days to look further."
         ),
-        "{stdout}"
+        "{ended}"
     );
-    let earlier = succeed(
-        &scratch,
-        &[
-            "replan",
-            text(&scenario),
-            "--data",
-            text(&data),
-            "--taken",
-            "20",
-            "--toys",
-            "20",
-            "--quiet",
-            "--out",
-            "earlier",
-        ],
-    );
+    let earlier = summary_when_taken("20");
     assert!(!earlier.contains("No day of the plan"), "{earlier}");
 }
 
