@@ -107,7 +107,7 @@ const NEWTON_TOLERANCE: f64 = 1e-10;
 
 /// A Newton step below this fraction of the argument is taken as the last
 /// one without evaluating where it lands, when the slope agrees with the
-/// secant through the last two evaluations to [`SECANT_AGREEMENT`]: the
+/// secant through the last two evaluations to `SECANT_AGREEMENT`: the
 /// error left after it is of the order of the step squared (quadratic
 /// convergence), about 1e-10 of the argument.
 const EXTRAPOLATED_STEP: f64 = 1e-5;
@@ -123,19 +123,19 @@ const NEWTON_REACH: f64 = 4.0;
 
 /// Where an increasing function of a positive argument reaches `level`,
 /// from its value and slope: Newton's method from `guess`, each step kept
-/// within a factor [`NEWTON_REACH`] of the last argument and inside the
+/// within a factor `NEWTON_REACH` of the last argument and inside the
 /// bracket the evaluations so far have found (bisected when it would leave
 /// it). An iterate is returned, moved by its last Newton step, once the
-/// function there is within [`NEWTON_TOLERANCE`] of the level and that step
+/// function there is within `NEWTON_TOLERANCE` of the level and that step
 /// is below the same fraction of the argument: quadratic convergence takes
 /// three or four evaluations from a guess within a factor of two where
 /// bracketing and regula falsi take eight (Nocedal and Wright, Numerical
 /// Optimization, 2nd ed., Springer 2006, thm. 11.2; safeguarding by a
 /// bracket: Press et al., Numerical Recipes, 3rd ed., 2007, sec. 9.4). A
-/// step below [`EXTRAPOLATED_STEP`] of the argument whose slope the secant
+/// step below `EXTRAPOLATED_STEP` of the argument whose slope the secant
 /// through the last two evaluations confirms is taken without evaluating
 /// where it lands.
-/// When that has not happened after [`NEWTON_STEPS`] evaluations (no root,
+/// When that has not happened after `NEWTON_STEPS` evaluations (no root,
 /// a level out of reach, a jump, or a slope that is not the function's), the
 /// search starts again from `guess` as [`solve_increasing`], so the answers
 /// where there is no root are exactly those of the search without slopes.

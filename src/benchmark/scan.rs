@@ -38,7 +38,7 @@ pub struct ScanBenchmark {
     /// 1,400 positions at 3 exposures as a whole process, each run.
     pub reach_process_seconds: Vec<f64>,
     /// Wall-clock seconds of `runcast levers` (Asimov only) on each of
-    /// [`LEVERS_DEMOS`] as a whole process, each run.
+    /// `LEVERS_DEMOS` as a whole process, each run.
     pub levers_process_seconds: Vec<(&'static str, Vec<f64>)>,
 }
 

@@ -38,7 +38,7 @@ impl FitPath {
     }
 
     /// The start of a fit at `at`: extrapolated from the last two fits when
-    /// `at` is within [`LONGEST_EXTRAPOLATION`] of their step, else the last
+    /// `at` is within `LONGEST_EXTRAPOLATION` of their step, else the last
     /// fit, else the first start.
     pub fn start_for(&mut self, at: f64) -> &[f64] {
         match (&self.last, &self.before) {
