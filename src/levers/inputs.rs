@@ -108,8 +108,9 @@ impl InputKind {
 /// One input a user can act on: its dotted name, unit and nominal value.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Input {
-    /// The dotted path, e.g. `backgrounds.radon.events_per_day` or, in a
-    /// scenario of several channels, `channels.inner.signal.events_per_day`.
+    /// The dotted path as the file writes it, e.g.
+    /// `backgrounds.radon.events_per_day` or, in a `channels` list (of one
+    /// channel or several), `channels.inner.signal.events_per_day`.
     pub name: String,
     pub unit: String,
     pub nominal: f64,
@@ -153,9 +154,9 @@ pub fn inputs(scenario: &Scenario) -> Vec<Input> {
             add(SIGNAL_YIELD_SHARED.into(), "relative", width, kind);
         }
     }
-    let several = scenario.channels.len() > 1;
+    let listed = scenario.channel_syntax == ChannelSyntax::List;
     for (channel, written) in scenario.channels.iter().enumerate() {
-        let prefix = if several {
+        let prefix = if listed {
             format!("channels.{}.", written.name)
         } else {
             String::new()
@@ -173,7 +174,7 @@ pub fn inputs(scenario: &Scenario) -> Vec<Input> {
             }
             Some(detector_signal) => {
                 let efficiency = detector_signal.channels[channel].efficiency;
-                if scenario.channel_syntax == ChannelSyntax::List && efficiency > 0.0 {
+                if listed && efficiency > 0.0 {
                     let kind = InputKind::SignalEfficiency { channel };
                     add(
                         format!("{prefix}signal_efficiency"),
@@ -667,6 +668,31 @@ mod tests {
             assert!(
                 !names.iter().any(|name| name.ends_with(made_from_them)),
                 "{made_from_them} in {names:?}"
+            );
+        }
+    }
+
+    /// A `channels` list of one entry names its inputs as the file writes
+    /// them, under `channels.<name>.`, as a list of several does.
+    #[test]
+    fn a_list_of_one_channel_names_inputs_by_channel() {
+        let text = std::fs::read_to_string(
+            Path::new(env!("CARGO_MANIFEST_DIR")).join("scenarios/two_volume_line.yaml"),
+        )
+        .unwrap();
+        let outer = text.find("  - name: outer").unwrap();
+        let schedule = text.find("schedule:").unwrap();
+        let one = format!("{}{}", &text[..outer], &text[schedule..]);
+        let names = names(&Scenario::from_yaml(&one).unwrap());
+        for expected in [
+            "channels.inner.resolution",
+            "channels.inner.signal_efficiency",
+            "channels.inner.backgrounds.inner continuum.events_per_kg_day",
+            "channels.inner.detector.mass_kg",
+        ] {
+            assert!(
+                names.iter().any(|name| name == expected),
+                "{expected} in {names:?}"
             );
         }
     }
