@@ -260,6 +260,11 @@ pub struct CompareArgs {
     /// Skip the expected exclusion limits (CLs) and compare-limits.svg.
     #[arg(long)]
     pub no_limits: bool,
+    /// Background-only pseudo-experiments per exposure point fitted at every
+    /// position of signal.scan, for the look-elsewhere effect, in each plan
+    /// that has a scan (default 500).
+    #[arg(long, value_name = "N")]
+    pub lee_toys: Option<usize>,
     /// Also compare the plans' reach over signal.scan after D calendar days
     /// (90, 90d, 26w, 2y or, with schedule.start, a date): the Asimov limit
     /// and global discovery rates at every position, and their ratio to the

@@ -291,3 +291,55 @@ fn plans_scanning_other_positions_or_in_other_units_are_refused() {
         assert!(!scratch.path.join("out").exists());
     }
 }
+
+/// `--lee-toys` sets the look-elsewhere pseudo-experiments of each plan with
+/// a scan, as `runcast project --lee-toys` does (its global days, to the
+/// bit), and leaves a plan without a scan alone; asked of plans none of
+/// which scans, it is a usage error and nothing is written.
+#[test]
+fn lee_toys_apply_to_the_plans_with_a_scan() {
+    let scratch = Scratch::new("lee-toys");
+    let (scanned, known) = (demo("unknown_line.yaml"), demo("narrow_peak.yaml"));
+    let options = ["--toys", "30", "--lee-toys", "30", "--no-limits", "--quiet"];
+    let mut compare = vec!["compare", &scanned, &known, "--out", "compared"];
+    compare.extend_from_slice(&options);
+    succeeds(&scratch, &compare);
+    let mut project = vec!["project", &scanned, "--out", "projected"];
+    project.extend_from_slice(&options);
+    succeeds(&scratch, &project);
+    let compared = json(scratch.path.join("compared/compare.json"));
+    let projected = json(scratch.path.join("projected/projection.json"));
+    let plans = &compared["provenance"]["options"]["plans"];
+    assert_eq!(plans[0]["look_elsewhere_toys"], Value::from(30));
+    assert!(plans[1].get("look_elsewhere_toys").is_none(), "{plans}");
+    for (compared, projected) in compared["plans"][0]["days_to_target"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .zip(projected["days_to_target"].as_array().unwrap())
+    {
+        assert!(compared["global_median_days"].is_f64(), "{compared}");
+        assert_eq!(
+            compared["global_median_days"],
+            projected["global_median_days"]
+        );
+    }
+
+    let unscanned = demo("narrow_peak_upgrade.yaml");
+    let output = scratch.run(&[
+        "compare",
+        &known,
+        &unscanned,
+        "--lee-toys",
+        "30",
+        "--out",
+        "refused",
+    ]);
+    assert_eq!(output.status.code(), Some(2));
+    let stderr = String::from_utf8_lossy(&output.stderr);
+    assert!(
+        stderr.contains("--lee-toys: no plan has a signal.scan"),
+        "{stderr}"
+    );
+    assert!(!scratch.path.join("refused").exists());
+}

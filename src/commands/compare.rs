@@ -27,8 +27,17 @@ pub fn run(args: &CompareArgs) -> Result<(), Error> {
     let options = args
         .plans
         .iter()
-        .map(|path| ProjectOptions::resolve(&project_args(args, path)))
+        .map(|path| plan_options(args, path))
         .collect::<Result<Vec<ProjectOptions>, Error>>()?;
+    if args.lee_toys.is_some()
+        && !options
+            .iter()
+            .any(|plan| plan.loaded.scenario.signal_scan().is_some())
+    {
+        return Err(Error::Usage(
+            "--lee-toys: no plan has a signal.scan, so there is no look-elsewhere effect to estimate".into(),
+        ));
+    }
     let loaded: Vec<&Loaded> = options.iter().map(|options| &options.loaded).collect();
     check_shared(args, &loaded)?;
     for plan in &loaded {
@@ -152,8 +161,22 @@ fn plan_reach(args: &CompareArgs, loaded: &Loaded, days: f64) -> Result<Reach, E
     })
 }
 
-/// The options of `runcast project` on `plan` that this comparison runs with.
-fn project_args(args: &CompareArgs, plan: &Path) -> ProjectArgs {
+/// `runcast project`'s options on `plan` as this comparison runs it:
+/// `--lee-toys` only for a plan with a scan, which alone has a
+/// look-elsewhere effect.
+fn plan_options(args: &CompareArgs, plan: &Path) -> Result<ProjectOptions, Error> {
+    let options = ProjectOptions::resolve(&project_args(args, plan, None))?;
+    match args.lee_toys {
+        Some(toys) if options.loaded.scenario.signal_scan().is_some() => {
+            ProjectOptions::resolve(&project_args(args, plan, Some(toys)))
+        }
+        _ => Ok(options),
+    }
+}
+
+/// The options of `runcast project` on `plan` that this comparison runs
+/// with, `lee_toys` look-elsewhere pseudo-experiments per point if given.
+fn project_args(args: &CompareArgs, plan: &Path, lee_toys: Option<usize>) -> ProjectArgs {
     ProjectArgs {
         scenario: PathBuf::from(plan),
         plan: PlanArgs {
@@ -163,7 +186,7 @@ fn project_args(args: &CompareArgs, plan: &Path) -> ProjectArgs {
             no_limits: args.no_limits,
             calibrate: None,
             at: Vec::new(),
-            lee_toys: None,
+            lee_toys,
         },
         output: OutputArgs {
             out: None,
