@@ -34,8 +34,9 @@ pub fn bisect_log<E>(
 }
 
 /// The relative precision of the roots [`solve_increasing`] and
-/// [`bisect_log`] find.
-pub const ROOT_PRECISION: f64 = 1e-7;
+/// [`bisect_log`] find: far below anything reported, and still a thousand
+/// times the rounding of the functions they solve (exact Poisson CLs).
+pub const ROOT_PRECISION: f64 = 1e-10;
 
 /// What a search for the argument where an increasing function reaches a
 /// level found.
@@ -198,8 +199,9 @@ const JUMP_SLOPE_RATIO: f64 = 1e3;
 
 /// Root of an increasing function between `below` = (x, f(x)) with f(x) <
 /// `level` and `above` with f(x) >= `level` (a bracket within a factor of two
-/// or so), to the relative `precision` asked (`ROOT_PRECISION` where a
-/// root's evaluations are costly, such as fits of pseudo-experiments), by regula falsi with the
+/// or so), to the relative `precision` asked ([`ROOT_PRECISION`] for
+/// exact functions; coarser where the function is only known to a fit's
+/// precision), by regula falsi with the
 /// modification of Anderson and Björck (BIT 13 (1973) 253): when the same end
 /// of the bracket is kept twice, its distance from `level` is scaled down by
 /// m = 1 - f(new)/f(replaced) (by 1/2 when m <= 0), so both ends close in and

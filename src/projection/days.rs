@@ -341,9 +341,9 @@ fn toy_series(
 }
 
 /// The relative precision of the days root-found from asymptotic answers,
-/// one fit (and a look-elsewhere geometry) per evaluation: far below the
-/// solvers' default, since each step costs little, and still well above the
-/// fits' own precision on Z_A (about 1e-10).
+/// one fit (and a look-elsewhere geometry) per evaluation: far below
+/// anything reported, and still ten times the fits' own precision on Z_A
+/// (about 1e-10), which a tighter bracket would only chase.
 const ASIMOV_DAY_PRECISION: f64 = 1e-9;
 
 /// The calendar day where an increasing quantity (sampled as `values` at grid
