@@ -183,12 +183,32 @@ mod tests {
         }
     }
 
+    /// The same limits to 1e-9 against the chi-squared quantile of statrs
+    /// (reference library): mu_up = chi2_{2(n+1)}(0.95) / 2 for n observed
+    /// and no background (Particle Data Group, statistics review, Poisson
+    /// limits).
+    #[test]
+    fn classical_poisson_limits_equal_the_chi_squared_quantile() {
+        use statrs::distribution::{ChiSquared, ContinuousCDF};
+        for n in 0..8 {
+            let quantile = ChiSquared::new(2.0 * (n as f64 + 1.0))
+                .unwrap()
+                .inverse_cdf(0.95);
+            let limit = known_limit(n as f64, 1.0, 0.0);
+            assert!(
+                (limit / (0.5 * quantile) - 1.0).abs() < 1e-9,
+                "n = {n}: {limit} vs {}",
+                0.5 * quantile
+            );
+        }
+    }
+
     #[test]
     fn background_lowers_the_limit_but_cls_keeps_it_above_zero_signal() {
         // With b = 3 and n = 0, CLs = exp(-mu s): the limit stays 3.00 whatever b
         // (a known property of CLs for n = 0; Read 2002).
         let limit = known_limit(0.0, 1.0, 3.0);
-        assert!((limit - 2.9957).abs() < 1e-3, "{limit}");
+        assert!((limit / 20f64.ln() - 1.0).abs() < 1e-9, "{limit}");
         assert!(known_limit(5.0, 1.0, 3.0) < known_limit(5.0, 1.0, 0.0));
     }
 
