@@ -191,6 +191,14 @@ pub fn solve_increasing_with_slope<E>(
     solve_increasing(guess, level, |x| value_and_slope(x).map(|(value, _)| value))
 }
 
+/// sqrt(q) and its slope (dq/dx) / (2 sqrt q), from q and dq/dx: a test
+/// statistic's significance, which Newton's method solves for rather than
+/// q itself, as it is nearly linear in the signal.
+pub fn square_root_with_slope(value: f64, slope: f64) -> (f64, f64) {
+    let root = value.sqrt();
+    (root, slope / (2.0 * root))
+}
+
 /// Above this ratio of the slope across the final bracket to the slope across
 /// the first, the function is taken to jump across the level there rather
 /// than cross it: a smooth function would need to be a thousand times steeper

@@ -370,7 +370,7 @@ fn check_countable(
 }
 
 /// `--threads`, between 1 and [`MAX_THREADS`].
-fn check_threads(threads: Option<usize>) -> Result<Option<usize>, Error> {
+pub fn check_threads(threads: Option<usize>) -> Result<Option<usize>, Error> {
     match threads {
         Some(0) => Err(Error::Usage("--threads: must be at least 1".into())),
         Some(threads) if threads > MAX_THREADS => Err(Error::Usage(format!(
@@ -415,7 +415,16 @@ impl ProjectOptions {
 
     pub fn resolve(args: &ProjectArgs) -> Result<ProjectOptions, Error> {
         let threads = check_threads(args.workers.threads)?;
-        let loaded = Loaded::load(&args.scenario)?;
+        ProjectOptions::resolve_loaded(args, Loaded::load(&args.scenario)?, threads)
+    }
+
+    /// As [`ProjectOptions::resolve`], with the scenario of `args` already
+    /// loaded and `--threads` already checked.
+    pub fn resolve_loaded(
+        args: &ProjectArgs,
+        loaded: Loaded,
+        threads: Option<usize>,
+    ) -> Result<ProjectOptions, Error> {
         let (out, formats) = loaded.output(&args.output)?;
         let shards = args.shard.map_or(1, |shard| shard.count);
         let overrides = PlanOverrides::from_args(&args.plan, shards);

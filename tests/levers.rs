@@ -591,14 +591,9 @@ fn bad_steps_and_unknown_inputs_are_usage_errors_that_write_nothing() {
         (vec!["--step", "ten"], "expected a percentage"),
         (vec!["--target", "-1"], "--target [-1]"),
     ] {
-        let mut all = vec!["levers", "window.yaml", "--quiet", "--out", "out"];
-        all.extend(&args);
-        let output = scratch.run(&all);
-        let stderr = String::from_utf8_lossy(&output.stderr);
-        assert_eq!(output.status.code(), Some(2), "{args:?}: {stderr}");
+        let stderr = usage_error(&scratch, &args);
         assert!(stderr.contains(expected), "{args:?}: {stderr}");
         assert_eq!(stderr.lines().count(), 1, "{stderr}");
-        assert!(!scratch.path.join("out").exists(), "{args:?} wrote files");
     }
 }
 
@@ -772,12 +767,19 @@ fn toys_without_a_number_or_a_seed_without_toys_are_usage_errors() {
         (vec!["--seed", "4"], "--toys"),
         (vec!["--toys", "20000000"], "pseudo-experiments per point"),
     ] {
-        let mut all = vec!["levers", "window.yaml", "--quiet", "--out", "out"];
-        all.extend(&args);
-        let output = scratch.run(&all);
-        let stderr = String::from_utf8_lossy(&output.stderr);
-        assert_eq!(output.status.code(), Some(2), "{args:?}: {stderr}");
+        let stderr = usage_error(&scratch, &args);
         assert!(stderr.contains(expected), "{args:?}: {stderr}");
-        assert!(!scratch.path.join("out").exists(), "{args:?} wrote files");
     }
+}
+
+/// `levers window.yaml ARGS` in `scratch`: a usage error (exit 2) that
+/// wrote nothing; its stderr.
+fn usage_error(scratch: &Scratch, args: &[&str]) -> String {
+    let mut all = vec!["levers", "window.yaml", "--quiet", "--out", "out"];
+    all.extend(args);
+    let output = scratch.run(&all);
+    let stderr = String::from_utf8_lossy(&output.stderr).into_owned();
+    assert_eq!(output.status.code(), Some(2), "{args:?}: {stderr}");
+    assert!(!scratch.path.join("out").exists(), "{args:?} wrote files");
+    stderr
 }

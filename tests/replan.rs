@@ -69,6 +69,22 @@ fn replan(scratch: &Scratch, args: &[&str]) -> Value {
     serde_json::from_slice(&fs::read(out.join("replan.json")).unwrap()).unwrap()
 }
 
+/// `replan SCENARIO --data DATA --taken TAKEN --toys TOYS` through [`replan`].
+fn replan_taken(scratch: &Scratch, scenario: &Path, data: &Path, taken: &str, toys: &str) -> Value {
+    replan(
+        scratch,
+        &[
+            text(scenario),
+            "--data",
+            text(data),
+            "--taken",
+            taken,
+            "--toys",
+            toys,
+        ],
+    )
+}
+
 fn number(value: &Value) -> f64 {
     value
         .as_f64()
@@ -84,18 +100,7 @@ fn a_single_bin_gives_the_closed_form_q0_and_signal_strength() {
     let scratch = Scratch::new("single-bin");
     let scenario = write(&scratch, "counting.yaml", COUNTING);
     let data = write(&scratch, "data.csv", "low,high,count\n0,1,1150\n");
-    let document = replan(
-        &scratch,
-        &[
-            text(&scenario),
-            "--data",
-            text(&data),
-            "--taken",
-            "10",
-            "--toys",
-            "20",
-        ],
-    );
+    let document = replan_taken(&scratch, &scenario, &data, "10", "20");
     let observed = &document["observed"];
     let (n, b, s) = (1150.0_f64, 1000.0_f64, 50.0_f64);
     let q0 = 2.0 * (n * (n / b).ln() - (n - b));
@@ -126,18 +131,7 @@ plan: {days: [10, 20], toys: 20, seed: 3, targets: [3, 5]}
     let scratch = Scratch::new("on-off");
     let scenario = write(&scratch, "two.yaml", TWO_BINS);
     let data = write(&scratch, "data.csv", "low,high,count\n0,1,1000\n1,2,1120\n");
-    let document = replan(
-        &scratch,
-        &[
-            text(&scenario),
-            "--data",
-            text(&data),
-            "--taken",
-            "10",
-            "--toys",
-            "20",
-        ],
-    );
+    let document = replan_taken(&scratch, &scenario, &data, "10", "20");
     let observed = &document["observed"];
     let (off, on, s, live_days) = (1000.0_f64, 1120.0_f64, 50.0_f64, 10.0);
     let total = on + off;
@@ -187,18 +181,7 @@ fn the_toy_limit_of_many_counts_agrees_with_the_asymptotic_one() {
     let scratch = Scratch::new("toy-limit");
     let scenario = write(&scratch, "counting.yaml", COUNTING);
     let data = write(&scratch, "data.csv", "low,high,count\n0,1,1030\n");
-    let document = replan(
-        &scratch,
-        &[
-            text(&scenario),
-            "--data",
-            text(&data),
-            "--taken",
-            "10",
-            "--toys",
-            "4000",
-        ],
-    );
+    let document = replan_taken(&scratch, &scenario, &data, "10", "4000");
     let limit = &document["observed"]["limit"];
     let (toys, asymptotic) = (number(&limit["mu_toys"]), number(&limit["mu"]));
     assert!((toys / asymptotic - 1.0).abs() < 0.05, "{limit}");
@@ -217,18 +200,7 @@ fn a_free_flat_background_fits_the_count_over_the_live_days() {
         .map(|bin| format!("{bin},{},46\n", bin + 1))
         .collect();
     let data = write(&scratch, "data.csv", &format!("low,high,count\n{rows}"));
-    let document = replan(
-        &scratch,
-        &[
-            text(&scenario),
-            "--data",
-            text(&data),
-            "--taken",
-            "25",
-            "--toys",
-            "20",
-        ],
-    );
+    let document = replan_taken(&scratch, &scenario, &data, "25", "20");
     let observed = &document["observed"];
     assert!(number(&observed["fitted_mu"]) < 1e-12, "{observed}");
     let rate = number(&observed["backgrounds"][0]["fitted_per_day"]);
@@ -244,18 +216,7 @@ fn with_no_days_left_the_conditional_distribution_is_the_observed_z() {
     let scratch = Scratch::new("no-days-left");
     let scenario = write(&scratch, "counting.yaml", COUNTING);
     let data = write(&scratch, "data.csv", "low,high,count\n0,1,1150\n");
-    let document = replan(
-        &scratch,
-        &[
-            text(&scenario),
-            "--data",
-            text(&data),
-            "--taken",
-            "10",
-            "--toys",
-            "50",
-        ],
-    );
+    let document = replan_taken(&scratch, &scenario, &data, "10", "50");
     let observed = number(&document["observed"]["z_local"]);
     assert!(observed > 3.0, "{observed}");
     for hypothesis in document["hypotheses"].as_array().unwrap() {
@@ -436,18 +397,7 @@ fn event_values_are_binned_on_the_channels_bins() {
         .collect();
     let events = write(&scratch, "events.txt", &format!("# invented\nm\n{values}"));
     let fit = |data: &Path| {
-        let document = replan(
-            &scratch,
-            &[
-                text(&scenario),
-                "--data",
-                text(data),
-                "--taken",
-                "5",
-                "--toys",
-                "10",
-            ],
-        );
+        let document = replan_taken(&scratch, &scenario, data, "5", "10");
         document["observed"].clone()
     };
     let from_events = fit(&events);

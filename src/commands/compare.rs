@@ -5,7 +5,9 @@ use super::print_warnings;
 use super::project::{self, removed_lines, with_threads};
 use crate::cli::{CompareArgs, OutputArgs, PlanArgs, ProjectArgs};
 use crate::error::Error;
-use crate::options::{Loaded, ProjectOptions, comparison_provenance, figure_formats};
+use crate::options::{
+    Loaded, ProjectOptions, check_threads, comparison_provenance, figure_formats,
+};
 use crate::progress::{advance, toy_progress};
 use crate::stdout;
 use runcast::calendar::DayArgument;
@@ -24,10 +26,11 @@ pub fn run(args: &CompareArgs) -> Result<(), Error> {
         )));
     }
     let formats = figure_formats(&args.output.figures)?;
+    let threads = check_threads(args.workers.threads)?;
     let options = args
         .plans
         .iter()
-        .map(|path| plan_options(args, path))
+        .map(|path| plan_options(args, path, threads))
         .collect::<Result<Vec<ProjectOptions>, Error>>()?;
     if args.lee_toys.is_some()
         && !options
@@ -164,14 +167,16 @@ fn plan_reach(args: &CompareArgs, loaded: &Loaded, days: f64) -> Result<Reach, E
 /// `runcast project`'s options on `plan` as this comparison runs it:
 /// `--lee-toys` only for a plan with a scan, which alone has a
 /// look-elsewhere effect.
-fn plan_options(args: &CompareArgs, plan: &Path) -> Result<ProjectOptions, Error> {
-    let options = ProjectOptions::resolve(&project_args(args, plan, None))?;
-    match args.lee_toys {
-        Some(toys) if options.loaded.scenario.signal_scan().is_some() => {
-            ProjectOptions::resolve(&project_args(args, plan, Some(toys)))
-        }
-        _ => Ok(options),
-    }
+fn plan_options(
+    args: &CompareArgs,
+    plan: &Path,
+    threads: Option<usize>,
+) -> Result<ProjectOptions, Error> {
+    let loaded = Loaded::load(plan)?;
+    let lee_toys = args
+        .lee_toys
+        .filter(|_| loaded.scenario.signal_scan().is_some());
+    ProjectOptions::resolve_loaded(&project_args(args, plan, lee_toys), loaded, threads)
 }
 
 /// The options of `runcast project` on `plan` that this comparison runs

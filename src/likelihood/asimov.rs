@@ -23,7 +23,7 @@
 
 use super::{Dataset, FitFailure, FitPath, Fitter, Likelihood, q0_from_fits};
 use crate::model::SIGNAL_STRENGTH;
-use crate::numeric::{Crossing, solve_increasing_with_slope};
+use crate::numeric::{Crossing, solve_increasing_with_slope, square_root_with_slope};
 
 /// q0 of the Asimov datasets of one likelihood at any signal strength and
 /// exposure, the nuisance parameters at their nominal values; each
@@ -71,8 +71,7 @@ pub struct AsimovQ0 {
 impl AsimovQ0 {
     /// Z_A = sqrt(q0) and dZ_A/dmu = (dq0/dmu) / (2 Z_A).
     pub fn significance_and_slope(self) -> (f64, f64) {
-        let z = self.q0.sqrt();
-        (z, self.slope / (2.0 * z))
+        square_root_with_slope(self.q0, self.slope)
     }
 }
 

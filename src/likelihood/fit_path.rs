@@ -58,11 +58,11 @@ impl FitPath {
 
     /// Records the parameters fitted at `at`.
     pub fn record(&mut self, at: f64, fitted: &[f64]) {
-        let mut reused = self.before.take().map(|(_, values)| values);
-        let values = match reused.as_mut() {
-            Some(values) => {
+        // The oldest fit's vector is reused: a search records one fit per step.
+        let values = match self.before.take() {
+            Some((_, mut values)) => {
                 values.copy_from_slice(fitted);
-                reused.take().expect("just matched")
+                values
             }
             None => fitted.to_vec(),
         };

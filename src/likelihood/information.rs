@@ -16,8 +16,8 @@
 //! absorbed what they can (the Schur complement of the nuisance block; Cowan
 //! et al. 2011, eq. 18 inverted for the variance of mu-hat).
 
+use super::Likelihood;
 use super::linear::{dot, solve_positive_definite, weighted_dot};
-use super::{Likelihood, product_except};
 use crate::model::SIGNAL_STRENGTH;
 
 /// The Fisher metric over bins at an Asimov point, the nuisance parameters
@@ -153,8 +153,9 @@ impl SignalShapes {
             let count = term.fixed_parameters.len();
             let direction = &direction[offset..offset + count];
             offset += count;
-            let scale = term.component.events(live_days)
-                * product_except(theta, term.yield_parameters, SIGNAL_STRENGTH);
+            let Some(scale) = term.per_unit_strength(theta, live_days) else {
+                continue;
+            };
             let range = term.offset..term.offset + term.bins;
             for (t, f) in template[range.clone()].iter_mut().zip(fractions) {
                 *t += scale * f;

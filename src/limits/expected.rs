@@ -7,7 +7,7 @@ use super::{
 use crate::ensemble::{EnsembleOutcome, EnsemblePlan, Family, Generator, run_ensemble};
 use crate::likelihood::{Dataset, FitFailure, Likelihood, UpperLimitTest};
 use crate::model::{Constraint, Model, SIGNAL_STRENGTH};
-use crate::numeric::solve_increasing_with_slope;
+use crate::numeric::{solve_increasing_with_slope, square_root_with_slope};
 
 /// The bands of expected limits, in the order of every `*_band` field.
 pub const BAND_SIGMAS: [f64; 4] = [-2.0, -1.0, 1.0, 2.0];
@@ -133,8 +133,7 @@ impl<'l, 'm> ExpectedLimitSearch<'l, 'm> {
         let (test, data, live_days) = (&mut self.test, &self.data, self.live_days);
         let crossing = solve_increasing_with_slope(guess, level, |mu| {
             let (q, slope) = test.q_tilde_with_slope(live_days, data, mu)?;
-            let root = q.sqrt();
-            Ok((root, slope / (2.0 * root)))
+            Ok(square_root_with_slope(q, slope))
         })?;
         Ok(crossing.root().unwrap_or(f64::INFINITY))
     }

@@ -342,6 +342,17 @@ struct PositionRunner<'l, 'm, 's> {
 }
 
 impl PositionRunner<'_, '_, '_> {
+    /// The error of a failed `what` at `position` and this exposure.
+    fn fit_failed(&self, position: f64, what: &'static str) -> impl Fn(FitFailure) -> ReachError {
+        let live_days = self.live_days;
+        move |failure| ReachError::Fit {
+            position,
+            live_days,
+            what,
+            failure,
+        }
+    }
+
     fn reach(
         &self,
         position: f64,
@@ -349,14 +360,7 @@ impl PositionRunner<'_, '_, '_> {
         global_local_targets: &[f64],
         progress: &(dyn Fn(u64) + Sync),
     ) -> Result<PositionReach, ReachError> {
-        let failed = |what| {
-            move |failure| ReachError::Fit {
-                position,
-                live_days: self.live_days,
-                what,
-                failure,
-            }
-        };
+        let failed = |what| self.fit_failed(position, what);
         let alpha = 1.0 - self.settings.cl;
         let limits = asymptotic_limits(self.likelihood, self.live_days, alpha)
             .map_err(failed("asymptotic limit"))?;
@@ -405,14 +409,7 @@ impl PositionRunner<'_, '_, '_> {
     /// One channel alone (this runner's likelihood is its model): the median
     /// Asimov limit and local discovery rates.
     fn channel_alone(&self, position: f64, width: f64) -> Result<ChannelReach, ReachError> {
-        let failed = |what| {
-            move |failure| ReachError::Fit {
-                position,
-                live_days: self.live_days,
-                what,
-                failure,
-            }
-        };
+        let failed = |what| self.fit_failed(position, what);
         let limit =
             asymptotic_median_limit(self.likelihood, self.live_days, 1.0 - self.settings.cl)
                 .map_err(failed("asymptotic limit of one channel"))?;

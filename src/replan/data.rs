@@ -92,23 +92,14 @@ pub fn read_channel_data(path: &Path, channel: &Channel) -> Result<ChannelData, 
         || path.display().to_string(),
         |name| name.to_string_lossy().into_owned(),
     );
-    let lines: Vec<(usize, &str)> = text
-        .lines()
-        .enumerate()
-        .map(|(index, line)| (index + 1, line.trim()))
-        .filter(|(_, line)| !line.is_empty() && !line.starts_with('#'))
-        .collect();
-    let Some(&(_, first)) = lines.first() else {
+    let lines = data_lines(&text);
+    if lines.is_empty() {
         return Err(error(
             None,
             "no data: expected a header low,high,count and one row per bin, or one event value per line".into(),
         ));
-    };
-    let (form, counts) = if first.contains(',') {
-        (DataForm::Binned, binned(&lines, &channel.edges))
-    } else {
-        (DataForm::Events, events(&lines, &channel.edges))
-    };
+    }
+    let (form, counts) = counts_of(&lines, &channel.edges);
     let counts = counts.map_err(|(place, message)| error(place, message))?;
     Ok(ChannelData {
         channel: channel.name.clone(),
@@ -116,6 +107,27 @@ pub fn read_channel_data(path: &Path, channel: &Channel) -> Result<ChannelData, 
         form,
         counts,
     })
+}
+
+/// The lines that hold data, numbered from 1: trimmed, without blank lines
+/// and `#` comments.
+fn data_lines(text: &str) -> Vec<(usize, &str)> {
+    text.lines()
+        .enumerate()
+        .map(|(index, line)| (index + 1, line.trim()))
+        .filter(|(_, line)| !line.is_empty() && !line.starts_with('#'))
+        .collect()
+}
+
+/// The counts in each bin of `edges` of the data `lines` (at least one):
+/// rows low,high,count when the first line holds a comma, else one event
+/// value per line.
+fn counts_of(lines: &[(usize, &str)], edges: &[f64]) -> (DataForm, Result<Vec<f64>, Located>) {
+    if lines[0].1.contains(',') {
+        (DataForm::Binned, binned(lines, edges))
+    } else {
+        (DataForm::Events, events(lines, edges))
+    }
 }
 
 /// The file's text: a regular file of at most [`MAX_DATA_FILE_BYTES`], UTF-8.
@@ -261,17 +273,7 @@ mod tests {
     use super::*;
 
     fn located(text: &str, edges: &[f64]) -> Result<Vec<f64>, Located> {
-        let lines: Vec<(usize, &str)> = text
-            .lines()
-            .enumerate()
-            .map(|(index, line)| (index + 1, line.trim()))
-            .filter(|(_, line)| !line.is_empty() && !line.starts_with('#'))
-            .collect();
-        if lines[0].1.contains(',') {
-            binned(&lines, edges)
-        } else {
-            events(&lines, edges)
-        }
+        counts_of(&data_lines(text), edges).1
     }
 
     #[test]
